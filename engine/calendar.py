@@ -1,0 +1,565 @@
+"""The campus calendar: public holidays, named campus periods and when buildings are occupied.
+
+A :class:`CampusCalendar` holds the country (and optional subdivision) whose public holidays
+apply, with observed dates included (a holiday falling on a weekend and moved to a weekday
+counts on both days), plus named campus periods such as terms, breaks and closures. An
+:class:`OccupancyRule` says which hours are occupied. :func:`label_intervals` turns both into
+per-interval driver columns for profiles and models, vectorised over the readings.
+"""
+
+from __future__ import annotations
+
+import re
+from collections.abc import Iterable
+from dataclasses import dataclass, field, replace
+from datetime import date, datetime, time
+from pathlib import Path
+from typing import Any
+
+import holidays
+import numpy as np
+import pandas as pd
+from dateutil import parser as date_parser
+
+from engine.errors import InputError
+
+#: The kinds a campus period may have.
+PERIOD_KINDS: tuple[str, ...] = ("term", "break", "closure", "summer", "other")
+#: Day types in :func:`label_intervals`; a public holiday wins over the weekday.
+DAY_TYPES: tuple[str, ...] = ("weekday", "saturday", "sunday", "holiday")
+
+_MINUTES_PER_DAY = 1440
+
+
+@dataclass(frozen=True)
+class CampusPeriod:
+    """A named stretch of campus days, ``first_day`` to ``last_day`` inclusive."""
+
+    name: str
+    first_day: date
+    last_day: date
+    kind: str = "other"
+
+    def __post_init__(self) -> None:
+        if self.kind not in PERIOD_KINDS:
+            raise ValueError(
+                f"unknown period kind {self.kind!r}; expected one of {', '.join(PERIOD_KINDS)}"
+            )
+        if self.last_day < self.first_day:
+            raise ValueError(f"period {self.name!r} ends before it starts")
+
+    @property
+    def days(self) -> int:
+        """Number of calendar days the period covers."""
+        return (self.last_day - self.first_day).days + 1
+
+    def to_dict(self) -> dict[str, str]:
+        return {
+            "name": self.name,
+            "first_day": self.first_day.isoformat(),
+            "last_day": self.last_day.isoformat(),
+            "kind": self.kind,
+        }
+
+    @classmethod
+    def from_dict(cls, data: dict[str, Any]) -> CampusPeriod:
+        return cls(
+            name=str(data["name"]),
+            first_day=date.fromisoformat(data["first_day"]),
+            last_day=date.fromisoformat(data["last_day"]),
+            kind=str(data.get("kind", "other")),
+        )
+
+
+@dataclass(frozen=True)
+class CampusCalendar:
+    """Public holidays of a country/subdivision plus the campus's own named periods.
+
+    Parameters
+    ----------
+    country : str or None
+        ISO 3166 country code whose public holidays apply (``None``: no public holidays).
+    subdivision : str or None
+        State, province or nation code within the country (e.g. ``"CA"`` in the US,
+        ``"SCT"`` in GB, ``"BY"`` in DE) for regional holidays.
+    periods : tuple of CampusPeriod
+        Named campus periods. Where periods overlap, the shorter (more specific) one labels
+        the day, so a reading week inside a term shows as the break.
+    """
+
+    country: str | None = None
+    subdivision: str | None = None
+    periods: tuple[CampusPeriod, ...] = field(default_factory=tuple)
+
+    def __post_init__(self) -> None:
+        object.__setattr__(self, "periods", tuple(self.periods))
+        if self.country is None:
+            if self.subdivision is not None:
+                raise InputError(
+                    f"subdivision {self.subdivision!r} was given without a country.",
+                    hint="Choose the country as well, or clear the subdivision.",
+                )
+            return
+        country = self.country.strip().upper()
+        supported = holidays.list_supported_countries()
+        if country not in supported:
+            raise InputError(
+                f"no public-holiday list is known for country {self.country!r}.",
+                hint="Use a two-letter ISO 3166 code such as US, GB, DE or CA.",
+            )
+        object.__setattr__(self, "country", country)
+        if self.subdivision is not None and self.subdivision not in supported[country]:
+            raise InputError(
+                f"country {country} has no subdivision {self.subdivision!r}.",
+                hint=f"Use one of: {', '.join(supported[country])}.",
+            )
+
+    def public_holidays(self, years: Iterable[int]) -> dict[date, str]:
+        """Public holidays (observed dates included) of the given years, date → name."""
+        if self.country is None:
+            return {}
+        found = holidays.country_holidays(
+            self.country, subdiv=self.subdivision, years=sorted(set(years)), observed=True
+        )
+        return dict(sorted(found.items()))
+
+    def to_dict(self) -> dict[str, Any]:
+        """JSON-safe form for the project file."""
+        return {
+            "country": self.country,
+            "subdivision": self.subdivision,
+            "periods": [period.to_dict() for period in self.periods],
+        }
+
+    @classmethod
+    def from_dict(cls, data: dict[str, Any]) -> CampusCalendar:
+        return cls(
+            country=data.get("country"),
+            subdivision=data.get("subdivision"),
+            periods=tuple(CampusPeriod.from_dict(item) for item in data.get("periods", [])),
+        )
+
+
+def _format_clock(minutes: int) -> str:
+    return f"{minutes // 60:02d}:{minutes % 60:02d}"
+
+
+def _parse_clock(text: str) -> int:
+    """Minutes after midnight of ``"HH:MM"``; ``"24:00"`` is the end of the day."""
+    match = re.fullmatch(r"\s*(\d{1,2}):(\d{2})\s*", text)
+    if not match:
+        raise ValueError(f"clock time {text!r} is not written as HH:MM")
+    minutes = int(match[1]) * 60 + int(match[2])
+    if int(match[2]) >= 60 or minutes > _MINUTES_PER_DAY:
+        raise ValueError(f"clock time {text!r} is not between 00:00 and 24:00")
+    return minutes
+
+
+def _clock_minutes(value: time | str) -> int:
+    if isinstance(value, str):
+        return _parse_clock(value)
+    return value.hour * 60 + value.minute
+
+
+@dataclass(frozen=True)
+class OccupancyRule:
+    """When the campus counts as occupied, in local clock time.
+
+    Occupied means: a day in ``days`` (0 = Monday) between ``opens`` and ``closes``, or a
+    Saturday within ``saturday_hours`` when given; never on a public holiday, nor on a day
+    whose campus period is of a kind in ``closed_kinds``. Times are ``"HH:MM"`` strings or
+    :class:`datetime.time`; ``"24:00"`` closes at midnight.
+    """
+
+    days: tuple[int, ...] = (0, 1, 2, 3, 4)
+    opens: str | time = "07:00"
+    closes: str | time = "19:00"
+    saturday_hours: tuple[str | time, str | time] | None = None
+    closed_kinds: tuple[str, ...] = ("closure",)
+
+    def __post_init__(self) -> None:
+        object.__setattr__(self, "days", tuple(sorted(set(self.days))))
+        object.__setattr__(self, "closed_kinds", tuple(self.closed_kinds))
+        object.__setattr__(self, "opens", _format_clock(_clock_minutes(self.opens)))
+        object.__setattr__(self, "closes", _format_clock(_clock_minutes(self.closes)))
+        if self.saturday_hours is not None:
+            sat_open, sat_close = (_clock_minutes(value) for value in self.saturday_hours)
+            object.__setattr__(
+                self, "saturday_hours", (_format_clock(sat_open), _format_clock(sat_close))
+            )
+        if any(day not in range(7) for day in self.days):
+            raise ValueError("occupied days are numbered 0 (Monday) to 6 (Sunday)")
+        if self.saturday_hours is not None and 5 in self.days:
+            raise ValueError("Saturday is both an ordinary occupied day and has its own hours")
+        for opens, closes in self.opening_minutes():
+            if closes <= opens:
+                raise ValueError(f"closing {_format_clock(closes)} is not after opening")
+        unknown = set(self.closed_kinds) - set(PERIOD_KINDS)
+        if unknown:
+            raise ValueError(f"unknown period kinds {sorted(unknown)}; expected {PERIOD_KINDS}")
+
+    def opening_minutes(self) -> list[tuple[int, int]]:
+        """(opens, closes) in minutes after midnight: ordinary days, then Saturday if set."""
+        spans = [(_parse_clock(self.opens), _parse_clock(self.closes))]
+        if self.saturday_hours is not None:
+            spans.append(
+                (_parse_clock(self.saturday_hours[0]), _parse_clock(self.saturday_hours[1]))
+            )
+        return spans
+
+    def to_dict(self) -> dict[str, Any]:
+        return {
+            "days": list(self.days),
+            "opens": self.opens,
+            "closes": self.closes,
+            "saturday_hours": list(self.saturday_hours) if self.saturday_hours else None,
+            "closed_kinds": list(self.closed_kinds),
+        }
+
+    @classmethod
+    def from_dict(cls, data: dict[str, Any]) -> OccupancyRule:
+        saturday = data.get("saturday_hours")
+        return cls(
+            days=tuple(int(day) for day in data["days"]),
+            opens=data["opens"],
+            closes=data["closes"],
+            saturday_hours=(saturday[0], saturday[1]) if saturday else None,
+            closed_kinds=tuple(data.get("closed_kinds", ("closure",))),
+        )
+
+
+def _epoch_day(day: date) -> int:
+    return int(np.datetime64(day, "D").astype(np.int64))
+
+
+def label_intervals(
+    index_utc: pd.DatetimeIndex,
+    timezone: str,
+    calendar: CampusCalendar,
+    rule: OccupancyRule | None = None,
+) -> pd.DataFrame:
+    """Calendar driver columns for each interval start.
+
+    Parameters
+    ----------
+    index_utc : pandas.DatetimeIndex
+        Tz-aware interval starts (any zone; labelled on the site's local clock).
+    timezone : str
+        The site's IANA time zone.
+    calendar : CampusCalendar
+        Holidays and campus periods.
+    rule : OccupancyRule, optional
+        Occupied hours; the default is Monday–Friday 07:00–19:00.
+
+    Returns
+    -------
+    pandas.DataFrame
+        Indexed like ``index_utc``, with columns ``local`` (naive local time),
+        ``hour_of_week`` (0 = Monday 00:00 … 167), ``day_type`` (see :data:`DAY_TYPES`),
+        ``period`` and ``period_kind`` (``""`` outside any period) and ``occupied``.
+    """
+    if not isinstance(index_utc, pd.DatetimeIndex) or index_utc.tz is None:
+        raise ValueError("label_intervals needs a tz-aware DatetimeIndex")
+    rule = rule or OccupancyRule()
+    local = index_utc.tz_convert(timezone).tz_localize(None)
+    minutes = local.to_numpy().astype("datetime64[m]").astype(np.int64)
+    day_number = minutes // _MINUTES_PER_DAY
+    minute_of_day = minutes - day_number * _MINUTES_PER_DAY
+    if len(day_number) == 0:
+        first = last = 0
+    else:
+        first, last = int(day_number.min()), int(day_number.max())
+    # Everything below the next line is decided once per local day, then spread to intervals.
+    days = np.arange(first, last + 1)
+    weekday = (days + 3) % 7  # 1970-01-01, epoch day 0, was a Thursday (weekday 3)
+    years = range(pd.Timestamp(first, unit="D").year, pd.Timestamp(last, unit="D").year + 1)
+    holiday_days = [_epoch_day(day) for day in calendar.public_holidays(years)]
+    is_holiday = np.isin(days, holiday_days)
+
+    day_type = np.where(weekday == 5, 1, np.where(weekday == 6, 2, 0))
+    day_type[is_holiday] = 3
+
+    period_names = sorted({period.name for period in calendar.periods})
+    name_code = {name: code for code, name in enumerate(period_names, start=1)}
+    period_code = np.zeros(len(days), dtype=np.int64)
+    kind_code = np.zeros(len(days), dtype=np.int64)
+    # Longest first, so shorter periods written later win where periods overlap.
+    for period in sorted(calendar.periods, key=lambda p: p.days, reverse=True):
+        start = max(_epoch_day(period.first_day) - first, 0)
+        stop = min(_epoch_day(period.last_day) - first + 1, len(days))
+        if start < stop:
+            period_code[start:stop] = name_code[period.name]
+            kind_code[start:stop] = PERIOD_KINDS.index(period.kind) + 1
+
+    closed_kind_codes = [PERIOD_KINDS.index(kind) + 1 for kind in rule.closed_kinds]
+    open_day = ~is_holiday & ~np.isin(kind_code, closed_kind_codes)
+    spans = rule.opening_minutes()
+    opens = np.zeros(len(days), dtype=np.int64)
+    closes = np.zeros(len(days), dtype=np.int64)
+    ordinary = open_day & np.isin(weekday, rule.days)
+    opens[ordinary], closes[ordinary] = spans[0]
+    if rule.saturday_hours is not None:
+        saturday = open_day & (weekday == 5)
+        opens[saturday], closes[saturday] = spans[1]
+
+    at = day_number - first
+    occupied = (minute_of_day >= opens[at]) & (minute_of_day < closes[at])
+    return pd.DataFrame(
+        {
+            "local": local,
+            "hour_of_week": weekday[at] * 24 + minute_of_day // 60,
+            "day_type": pd.Categorical.from_codes(day_type[at], categories=DAY_TYPES),
+            "period": pd.Categorical.from_codes(period_code[at], categories=["", *period_names]),
+            "period_kind": pd.Categorical.from_codes(kind_code[at], categories=["", *PERIOD_KINDS]),
+            "occupied": occupied,
+        },
+        index=index_utc,
+    )
+
+
+def shift_to_year(calendar: CampusCalendar, year: int) -> CampusCalendar:
+    """Copy the campus periods forward (or back) so the earliest one starts in ``year``.
+
+    All periods move by the same whole number of weeks, the one that brings the earliest
+    period's first day closest to the same date in ``year``; so each period keeps its weekday
+    (a term starting on a Monday still starts on a Monday) and periods that touched still
+    touch. For one year that is 364 or 371 days. Public holidays are not stored but recomputed
+    for whatever years are labelled, so they follow automatically.
+    """
+    if not calendar.periods:
+        return calendar
+    anchor = min(period.first_day for period in calendar.periods)
+    try:
+        same_date = anchor.replace(year=year)
+    except ValueError:  # 29 February in a year without one
+        same_date = date(year, 2, 28)
+    shift = pd.Timedelta(weeks=round((same_date - anchor).days / 7))
+    moved = tuple(
+        replace(
+            period,
+            first_day=period.first_day + shift,
+            last_day=period.last_day + shift,
+        )
+        for period in calendar.periods
+    )
+    return replace(calendar, periods=moved)
+
+
+# --- reading a calendar file -------------------------------------------------------------------
+
+_HEADER_WORDS: dict[str, tuple[str, ...]] = {
+    "name": ("period", "name", "periodname", "label", "description", "event", "title"),
+    "first_day": (
+        "firstday",
+        "first",
+        "start",
+        "startdate",
+        "startday",
+        "starts",
+        "from",
+        "begin",
+        "begins",
+        "fromdate",
+    ),
+    "last_day": (
+        "lastday",
+        "last",
+        "end",
+        "enddate",
+        "endday",
+        "ends",
+        "to",
+        "until",
+        "through",
+        "todate",
+    ),
+    "kind": ("kind", "type", "category", "periodkind", "periodtype"),
+}
+_COLUMN_TITLES = {
+    "name": "Period",
+    "first_day": "First Day",
+    "last_day": "Last Day",
+    "kind": "Kind",
+}
+_NUMERIC_DATE = re.compile(r"(\d{1,2})[/.\-](\d{1,2})[/.\-](\d{4})")
+
+
+def _header_key(text: object) -> str:
+    return re.sub(r"[^a-z]", "", str(text).lower())
+
+
+def _find_columns(headers: list[object], path: Path, sheet: str | None) -> dict[str, object]:
+    found: dict[str, object] = {}
+    for header in headers:
+        key = _header_key(header)
+        for role, words in _HEADER_WORDS.items():
+            if key in words and role not in found:
+                found[role] = header
+    missing = [role for role in _HEADER_WORDS if role not in found]
+    if missing:
+        titles = ", ".join(_COLUMN_TITLES[role] for role in missing)
+        raise InputError(
+            f"no column for {titles} among the headers {', '.join(str(h) for h in headers)}.",
+            hint="The first row needs the headers Period, First Day, Last Day and Kind.",
+            file=path,
+            sheet=sheet,
+        )
+    return found
+
+
+def _day_order(texts: list[str], day_first: bool | None, path: Path) -> bool:
+    """Whether numeric dates like 03/04/2024 put the day first, judged from the whole file."""
+    parts = [_NUMERIC_DATE.fullmatch(text) for text in texts]
+    parts = [match for match in parts if match]
+    day_first_seen = any(int(match[1]) > 12 for match in parts)
+    month_first_seen = any(int(match[2]) > 12 for match in parts)
+    if day_first_seen and month_first_seen:
+        raise InputError(
+            "the dates mix day-first (31/01/2025) and month-first (01/31/2025) writing.",
+            hint="Write every date one way, best as 2025-01-31.",
+            file=path,
+        )
+    if day_first_seen or month_first_seen:
+        if day_first is not None and day_first != day_first_seen:
+            raise InputError(
+                "the dates do not follow the chosen day/month order.",
+                hint="Check the day-first setting against the file.",
+                file=path,
+            )
+        return day_first_seen
+    if parts and day_first is None:
+        raise InputError(
+            f"dates such as {parts[0][0]} could be read day-first or month-first.",
+            hint="Write the dates as YYYY-MM-DD, or say whether the day comes first.",
+            file=path,
+        )
+    return bool(day_first)
+
+
+def _parse_day(value: object, day_first: bool) -> date | None:
+    """A calendar day from a spreadsheet cell, or None when it cannot be read."""
+    if isinstance(value, datetime):  # pandas Timestamps included
+        return value.date()
+    if isinstance(value, date):
+        return value
+    text = str(value).strip()
+    numeric = _NUMERIC_DATE.fullmatch(text)
+    try:
+        if numeric:
+            first, second, year = (int(part) for part in numeric.groups())
+            day, month = (first, second) if day_first else (second, first)
+            return date(year, month, day)
+        if re.fullmatch(r"\d{4}-\d{2}-\d{2}([ T]00:00(:00)?)?", text):
+            return date.fromisoformat(text[:10])
+        if re.search(r"[A-Za-z]{3}", text) and re.search(r"\d{4}", text):  # month as a word
+            return date_parser.parse(text, dayfirst=day_first).date()
+    except (ValueError, OverflowError):
+        return None
+    return None
+
+
+def _read_table(path: Path) -> tuple[pd.DataFrame, str | None]:
+    suffix = path.suffix.lower()
+    try:
+        if suffix in (".xlsx", ".xlsm", ".xls", ".ods"):
+            with pd.ExcelFile(path, engine="calamine") as book:
+                sheet = book.sheet_names[0]
+                return pd.read_excel(book, sheet_name=sheet, dtype=object), sheet
+        if suffix in (".csv", ".txt"):
+            table = pd.read_csv(
+                path,
+                dtype=str,
+                keep_default_na=False,
+                skip_blank_lines=False,
+                sep=None,
+                engine="python",
+                encoding="utf-8-sig",
+            )
+            return table, None
+    except FileNotFoundError as error:
+        raise InputError("the calendar file was not found.", file=path) from error
+    except (ValueError, UnicodeDecodeError, pd.errors.ParserError) as error:
+        raise InputError(
+            f"the calendar file could not be read ({error}).",
+            hint="Save it as CSV or XLSX with one period per row.",
+            file=path,
+        ) from error
+    raise InputError(
+        f"calendar files of type {suffix or '(none)'} are not read.",
+        hint="Save the calendar as .csv or .xlsx.",
+        file=path,
+    )
+
+
+def read_calendar_file(
+    path: str | Path,
+    *,
+    country: str | None = None,
+    subdivision: str | None = None,
+    day_first: bool | None = None,
+) -> CampusCalendar:
+    """Read campus periods from a CSV or spreadsheet, one period per row.
+
+    The header row needs columns for the period name, first day, last day (inclusive) and
+    kind; the wording is forgiving ("Start", "From", "Type" …). Numeric dates like
+    03/04/2025 are read day-first or month-first as the file shows (a day above 12 settles
+    it) or as ``day_first`` says. Blank rows are skipped.
+
+    Raises
+    ------
+    InputError
+        Naming file, row and column for an unreadable date, a last day before the first,
+        an unknown kind (listing :data:`PERIOD_KINDS`) or a missing name.
+    """
+    path = Path(path)
+    table, sheet = _read_table(path)
+    columns = _find_columns(list(table.columns), path, sheet)
+    table = table.fillna("")
+    cells = table[[columns[role] for role in _HEADER_WORDS]].astype(object)
+    cells.columns = list(_HEADER_WORDS)
+    cells = cells[cells.apply(lambda row: any(str(v).strip() for v in row), axis=1)]
+    date_texts = [
+        str(value).strip()
+        for value in pd.concat([cells["first_day"], cells["last_day"]])
+        if isinstance(value, str)
+    ]
+    day_first = _day_order(date_texts, day_first, path)
+
+    periods = []
+    for position, row in cells.iterrows():
+        where = {"file": path, "sheet": sheet, "row": int(position) + 2}
+        name = str(row["name"]).strip()
+        if not name:
+            raise InputError(
+                "the period has no name.",
+                hint="Give every period a name.",
+                column=str(columns["name"]),
+                **where,
+            )
+        days = {}
+        for role in ("first_day", "last_day"):
+            days[role] = _parse_day(row[role], day_first)
+            if days[role] is None:
+                raise InputError(
+                    f"{str(row[role]).strip() or 'an empty cell'!r} is not a date.",
+                    hint="Write dates as YYYY-MM-DD.",
+                    column=str(columns[role]),
+                    **where,
+                )
+        if days["last_day"] < days["first_day"]:
+            raise InputError(
+                f"the last day {days['last_day']} is before the first day {days['first_day']}.",
+                hint="Swap the two dates or correct the one that is wrong.",
+                column=str(columns["last_day"]),
+                **where,
+            )
+        kind = str(row["kind"]).strip().lower()
+        if kind not in PERIOD_KINDS:
+            raise InputError(
+                f"{str(row['kind']).strip()!r} is not a period kind.",
+                hint=f"Use one of: {', '.join(PERIOD_KINDS)}.",
+                column=str(columns["kind"]),
+                **where,
+            )
+        periods.append(CampusPeriod(name, days["first_day"], days["last_day"], kind))
+    return CampusCalendar(country=country, subdivision=subdivision, periods=tuple(periods))

@@ -1,0 +1,60 @@
+"""One function per command: read arguments, call the engine, print the result."""
+
+from __future__ import annotations
+
+import argparse
+import json
+import sys
+
+from engine.cli import text
+from engine.importing import create_project, read_project_files
+from engine.project import Project
+from engine.reading import ReadOptions, describe, read_file
+
+
+def reading_options(args: argparse.Namespace) -> ReadOptions:
+    """The reading settings given on the command line."""
+    return ReadOptions(
+        timezone=args.timezone,
+        dayfirst=args.dayfirst,
+        stamps=args.stamps,
+        sheet=args.sheet,
+        unit=args.unit,
+        utility=args.utility,
+        values=args.values,
+        temperature_unit=args.temperature_unit,
+    )
+
+
+def inspect(args: argparse.Namespace) -> int:
+    report = describe(read_file(args.file, reading_options(args), kind=args.kind))
+    _emit(args, report, text.file_report)
+    return 0
+
+
+def new(args: argparse.Namespace) -> int:
+    options = reading_options(args)
+    files = read_project_files(args.meters, args.bills, args.weather, options)
+    project = create_project(
+        args.project, files, timezone=options.timezone, overwrite=args.overwrite
+    )
+    with project:
+        report = {"project": str(project.path), "files": files.reports(),
+                  "summary": project.summary()}  # fmt: skip
+    _emit(args, report, text.new_report)
+    return 0
+
+
+def info(args: argparse.Namespace) -> int:
+    with Project.open(args.project) as project:
+        report = project.summary()
+    _emit(args, report, text.project_report)
+    return 0
+
+
+def _emit(args: argparse.Namespace, report: dict, render) -> None:
+    if args.json:
+        json.dump(report, sys.stdout, indent=2, ensure_ascii=False, allow_nan=False)
+        sys.stdout.write("\n")
+    else:
+        sys.stdout.write(render(report))

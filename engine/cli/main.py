@@ -1,0 +1,127 @@
+"""Parse the command line, run one command, print text or JSON, and exit 0 or 2.
+
+Exit status: 0 success; 2 bad input or a project that cannot be used (one line on stderr naming
+the file, sheet, row or column and what to do); 1 an internal error (a bug: a short message, and
+the traceback only when LOADLEDGER_DEBUG is set).
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import sys
+import traceback
+from collections.abc import Sequence
+
+from engine import __version__
+from engine.cli import commands
+from engine.errors import InputError, ProjectError
+
+EXIT_OK, EXIT_INTERNAL, EXIT_BAD_INPUT = 0, 1, 2
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(
+        prog="loadledger",
+        description="Meter data to an energy budget. With no command, opens the window.",
+    )
+    parser.add_argument("--version", action="version", version=f"loadledger {__version__}")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND")
+
+    inspect = sub.add_parser("inspect", help="show what the importer understands in a file")
+    inspect.add_argument("file", help="meter export, bill file or weather file")
+    inspect.add_argument(
+        "--kind", choices=("meters", "bills", "weather"), help="what the file is (default: detect)"
+    )
+    _reading_options(inspect)
+    _json_option(inspect)
+    inspect.set_defaults(run=commands.inspect)
+
+    new = sub.add_parser("new", help="create a project file from meter, bill and weather files")
+    new.add_argument("project", help="the project file to create (.loadledger)")
+    new.add_argument("--meters", action="append", default=[], metavar="FILE", required=True,
+                     help="a meter export (repeat for several files)")  # fmt: skip
+    new.add_argument("--bills", action="append", default=[], metavar="FILE",
+                     help="a utility bill file (repeatable)")  # fmt: skip
+    new.add_argument("--weather", action="append", default=[], metavar="FILE",
+                     help="a weather-station file (repeatable)")  # fmt: skip
+    new.add_argument("--overwrite", action="store_true", help="replace an existing project file")
+    _reading_options(new)
+    _json_option(new)
+    new.set_defaults(run=commands.new)
+
+    info = sub.add_parser("info", help="summarise a project file")
+    info.add_argument("project")
+    _json_option(info)
+    info.set_defaults(run=commands.info)
+    return parser
+
+
+def _reading_options(parser: argparse.ArgumentParser) -> None:
+    group = parser.add_argument_group("reading settings (default: decided from the data)")
+    group.add_argument(
+        "--timezone",
+        metavar="TZ",
+        help="site time zone of naive stamps, IANA name, e.g. America/Chicago",
+    )
+    order = group.add_mutually_exclusive_group()
+    order.add_argument("--day-first", dest="dayfirst", action="store_const", const=True,
+                       help="dates are written day before month (31/01/2025)")  # fmt: skip
+    order.add_argument("--month-first", dest="dayfirst", action="store_const", const=False,
+                       help="dates are written month before day (01/31/2025)")  # fmt: skip
+    group.add_argument(
+        "--stamps",
+        choices=("start", "end"),
+        help="each stamp marks the start or the end of its interval",
+    )
+    group.add_argument("--sheet", help="the workbook sheet to read")
+    group.add_argument("--unit", help="unit for value columns whose header names none, e.g. kWh")
+    group.add_argument(
+        "--utility",
+        help="electricity, natural_gas, chilled_water, steam or "
+        "hot_water (default: from the header, file name or unit)",
+    )
+    group.add_argument(
+        "--values",
+        choices=("interval", "register"),
+        help="values per interval, or cumulative register reads",
+    )
+    group.add_argument(
+        "--temperature-unit",
+        choices=("F", "C"),
+        help="unit of a temperature column whose header names none",
+    )
+
+
+def _json_option(parser: argparse.ArgumentParser) -> None:
+    parser.add_argument("--json", action="store_true", help="print machine-readable JSON")
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    """Run the command line; returns the exit status."""
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    if args.command is None:
+        parser.print_help()
+        return EXIT_OK
+    try:
+        return args.run(args)
+    except (InputError, ProjectError) as error:
+        print(f"loadledger: {error}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    except KeyboardInterrupt:
+        print("loadledger: interrupted", file=sys.stderr)
+        return EXIT_INTERNAL
+    except Exception as error:  # a bug: say so plainly, show details only on request
+        if os.environ.get("LOADLEDGER_DEBUG"):
+            traceback.print_exc()
+        print(
+            f"loadledger: internal error ({type(error).__name__}: {error}). This is a bug; "
+            "set LOADLEDGER_DEBUG=1 to see the details.",
+            file=sys.stderr,
+        )
+        return EXIT_INTERNAL
+
+
+if __name__ == "__main__":
+    sys.exit(main())

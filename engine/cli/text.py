@@ -1,0 +1,90 @@
+"""Human-readable renderings of the command reports (the JSON holds the same facts)."""
+
+from __future__ import annotations
+
+
+def file_report(report: dict) -> str:
+    """What ``inspect`` prints for one file."""
+    lines = [f"{report['file']}  ({report['kind']})"]
+    if report["kind"] == "meters":
+        stamps = report["timestamps"]
+        lines += [
+            f"  sheet: {report['sheet'] or '-'}   header row: {report['header_row'] or 'none'}"
+            f"   layout: {report['layout']}",
+            f"  timestamps: {stamps['format']}; {stamps['note']}",
+            f"  rows left out: {report['excluded_rows']}",
+        ]
+        lines += _findings(report["findings"], "  ")
+        for meter in report["meters"]:
+            lines += _meter(meter)
+    elif report["kind"] == "bills":
+        lines += [
+            f"  account: {report['account']}   unit: {report['unit_found']} -> kWh",
+            f"  periods: {report['periods']} from {report['first_period_start']} to "
+            f"{report['last_period_end']} ({report['period_end']})",
+            f"  total: {_num(report['total_kwh'])} kWh   cost: {_num(report['total_cost'])}"
+            f"   max peak: {_num(report['max_peak_kw'])} kW",
+        ]
+        lines += _findings(report["findings"], "  ")
+    else:
+        lines += [
+            f"  station: {report['station']}   unit: {report['unit_found']} -> °C   "
+            f"interval: {_num(report['interval_minutes'])} min",
+            f"  from {report['first']} to {report['last']}: {report['count']} readings, "
+            f"mean {_num(report['mean_c'])} °C (min {_num(report['min_c'])}, "
+            f"max {_num(report['max_c'])})",
+        ]
+        lines += _findings(report["findings"], "  ")
+    return "\n".join(lines) + "\n"
+
+
+def _meter(meter: dict) -> list[str]:
+    lines = [
+        f"  meter '{meter['name']}' ({meter['utility']}) from column '{meter['column']}'",
+        f"    unit: {meter['unit_found']} -> {meter['unit']}   values: {meter['values']} "
+        f"({meter['values_note']})",
+        f"    interval: {_num(meter['interval_minutes'])} min   stamps: {meter['stamps']} "
+        f"({meter['stamps_note']})",
+        f"    {meter['first']} .. {meter['last']}   {meter['count']} of {meter['expected']} "
+        f"intervals ({meter['coverage']:.2%})   total {_num(meter['total_kwh'])} kWh",
+    ]
+    return lines + _findings(meter["findings"], "    ")
+
+
+def _findings(findings: list[dict], indent: str) -> list[str]:
+    if not findings:
+        return [f"{indent}no problems noticed"]
+    return [f"{indent}! {f['kind']}: {f['message']}" for f in findings]
+
+
+def new_report(report: dict) -> str:
+    parts = [file_report(r) for r in report["files"]]
+    parts.append(f"created {report['project']}\n")
+    parts.append(project_report(report["summary"]))
+    return "\n".join(parts)
+
+
+def project_report(summary: dict) -> str:
+    """What ``info`` prints for a project."""
+    lines = [
+        f"project {summary['path']} (format {summary['format_version']}, "
+        f"site zone {summary['timezone']})"
+    ]
+    for meter in summary.get("meters", []):
+        lines.append(
+            f"  {meter['name']:<28} {meter['utility']:<14} {_num(meter['interval_minutes']):>5} min"
+            f"  {meter['first']} .. {meter['last']}  {meter['count']} readings  "
+            f"{_num(meter['total_kwh'])} kWh"
+        )
+    for key in ("bills", "weather"):
+        for item in summary.get(key, []):
+            lines.append(f"  {key}: " + ", ".join(f"{k}={v}" for k, v in item.items()))
+    return "\n".join(lines) + "\n"
+
+
+def _num(value) -> str:
+    if value is None:
+        return "-"
+    if isinstance(value, int | float) and abs(value) >= 1000:
+        return f"{value:,.0f}"
+    return f"{value:g}" if isinstance(value, float) else str(value)

@@ -1,0 +1,147 @@
+"""Create a project from the user's files: read everything first, then store it in one save.
+
+Nothing is stored when any file cannot be read, so a failed import leaves nothing behind.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+from pathlib import Path
+
+from engine.errors import InputError
+from engine.progress import Progress, step
+from engine.project import Project
+from engine.reading import (
+    BillFile,
+    MeterFile,
+    ReadOptions,
+    WeatherFile,
+    describe,
+    read_bill_file,
+    read_meter_file,
+    read_weather_file,
+)
+from engine.reading.zones import validate_timezone
+
+
+@dataclass
+class ImportedFiles:
+    """Every file read for a new project, ready to store."""
+
+    meters: list[MeterFile]
+    bills: list[BillFile]
+    weather: list[WeatherFile]
+    options: ReadOptions
+
+    def reports(self) -> list[dict]:
+        return [describe(r) for r in (*self.meters, *self.bills, *self.weather)]
+
+
+def read_project_files(
+    meters: Sequence[str | Path],
+    bills: Sequence[str | Path] = (),
+    weather: Sequence[str | Path] = (),
+    options: ReadOptions | None = None,
+    progress: Progress | None = None,
+) -> ImportedFiles:
+    """Read all files; stop with :class:`InputError` at the first one that cannot be read."""
+    options = options or ReadOptions()
+    if options.timezone is None:
+        raise InputError(
+            "a project needs the site's time zone.",
+            hint="Give it with --timezone, e.g. --timezone America/Chicago.",
+        )
+    validate_timezone(options.timezone)
+    jobs = [(read_meter_file, m) for m in meters]
+    jobs += [(read_bill_file, b) for b in bills]
+    jobs += [(read_weather_file, w) for w in weather]
+    results = []
+    for done, (reader, path) in enumerate(jobs):
+        step(progress, done / max(len(jobs), 1), f"reading {Path(path).name}")
+        results.append(reader(path, options))
+    files = ImportedFiles(
+        meters=[r for r in results if isinstance(r, MeterFile)],
+        bills=[r for r in results if isinstance(r, BillFile)],
+        weather=[r for r in results if isinstance(r, WeatherFile)],
+        options=options,
+    )
+    _check_unique_names(files)
+    return files
+
+
+def create_project(
+    path: str | Path,
+    files: ImportedFiles,
+    *,
+    timezone: str,
+    overwrite: bool = False,
+    progress: Progress | None = None,
+) -> Project:
+    """Store ``files`` in a new project file at ``path`` in one atomic save."""
+    project = Project.create(path, timezone=timezone, overwrite=overwrite)
+    try:
+        with project.transaction():
+            total = len(files.meters) + len(files.bills) + len(files.weather)
+            done = 0
+            for meter_file in files.meters:
+                source = _source(project, "meters", meter_file, files.options)
+                for read in meter_file.meters:
+                    project.add_meter(
+                        read.meter,
+                        read.raw,
+                        source_id=source,
+                        settings=_meter_settings(meter_file, read),
+                    )
+                done += 1
+                step(progress, done / total, f"stored {meter_file.path.name}")
+            for bill_file in files.bills:
+                source = _source(project, "bills", bill_file, files.options)
+                project.add_bills(bill_file.account, bill_file.bills, source_id=source)
+                done += 1
+                step(progress, done / total, f"stored {bill_file.path.name}")
+            for weather_file in files.weather:
+                source = _source(project, "weather", weather_file, files.options)
+                project.add_weather(
+                    weather_file.station, weather_file.temps_c, weather_file.raw, source_id=source
+                )
+                done += 1
+                step(progress, done / total, f"stored {weather_file.path.name}")
+    except BaseException:
+        project.close()
+        raise
+    return project
+
+
+def _source(project: Project, kind: str, result, options: ReadOptions) -> int:
+    return project.add_source(
+        kind, result.path, settings=options.to_dict(), findings=describe(result)["findings"]
+    )
+
+
+def _meter_settings(meter_file: MeterFile, read) -> dict:
+    """What reproduces this meter's figures: the reading settings plus what was decided."""
+    decided = meter_file.options.to_dict()
+    decided.update(
+        column=read.column,
+        sheet=meter_file.sheet,
+        value_kind=read.value_kind,
+        stamp_convention=read.stamp_convention,
+        unit_found=read.unit.name,
+        date_format=meter_file.date_note,
+    )
+    return decided
+
+
+def _check_unique_names(files: ImportedFiles) -> None:
+    seen: dict[str, Path] = {}
+    for meter_file in files.meters:
+        for read in meter_file.meters:
+            if read.meter.name in seen:
+                raise InputError(
+                    f"meter name '{read.meter.name}' appears in both "
+                    f"{seen[read.meter.name].name} and {meter_file.path.name}.",
+                    hint="Rename the column in one of the files.",
+                    file=meter_file.path,
+                )
+            seen[read.meter.name] = meter_file.path

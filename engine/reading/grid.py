@@ -1,0 +1,199 @@
+"""Read any supported file into plain grids of cells, one per sheet.
+
+A *grid* is a ``pandas.DataFrame`` of raw cells with a default integer index and integer
+column labels: nothing is interpreted yet except that csv text is split into cells. The header
+search, the column roles and the parsing happen later (``engine.reading.layout``).
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import zipfile
+from dataclasses import dataclass
+from pathlib import Path
+
+import pandas as pd
+
+from engine.errors import InputError
+
+SPREADSHEET_SUFFIXES = (".xlsx", ".xlsm", ".xls", ".xlsb", ".ods")
+TEXT_SUFFIXES = (".csv", ".tsv", ".txt", ".dat")
+OLE_MAGIC = b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1"
+ZIP_MAGIC = b"PK\x03\x04"
+DELIMITERS = (",", ";", "\t", "|")
+
+
+@dataclass
+class Grid:
+    """The raw cells of one sheet (or of a text file)."""
+
+    sheet: str | None
+    cells: pd.DataFrame
+    decimal_comma: bool = False
+    delimiter: str | None = None
+
+
+def read_grids(path: str | Path) -> list[Grid]:
+    """Read every sheet of a workbook, or the single table of a text file."""
+    path = Path(path)
+    if not path.exists():
+        raise InputError("file not found.", hint="Check the path.", file=path)
+    if path.stat().st_size == 0:
+        raise InputError("the file is empty.", hint="Export the readings again.", file=path)
+    head = path.read_bytes()[:8]
+    if head.startswith(ZIP_MAGIC) or head.startswith(OLE_MAGIC):
+        return _read_workbook(path, head)
+    if path.suffix.lower() in SPREADSHEET_SUFFIXES:
+        raise InputError(
+            "this is not a spreadsheet the tool can open (the file content is not a workbook).",
+            hint="Open it in a spreadsheet program and save it as .xlsx or .csv.",
+            file=path,
+        )
+    return [_read_text(path)]
+
+
+def _read_workbook(path: Path, head: bytes) -> list[Grid]:
+    if head.startswith(OLE_MAGIC) and _is_encrypted_ole(path):
+        raise InputError(
+            "the workbook is password-protected.",
+            hint="Open it in a spreadsheet program, remove the password and save it again.",
+            file=path,
+        )
+    if head.startswith(ZIP_MAGIC) and not _zip_is_workbook(path):
+        raise InputError(
+            "this zip archive is not a workbook.",
+            hint="Unpack it and import the spreadsheet inside.",
+            file=path,
+        )
+    from python_calamine import CalamineWorkbook
+
+    try:
+        book = CalamineWorkbook.from_path(str(path))
+    except Exception as error:  # calamine raises its own error types for damaged files
+        raise InputError(
+            f"the workbook cannot be read ({_first_line(error)}).",
+            hint="It may be damaged: open it in a spreadsheet program and save it again.",
+            file=path,
+        ) from error
+    grids = []
+    for name in book.sheet_names:
+        try:
+            rows = book.get_sheet_by_name(name).to_python(skip_empty_area=False)
+        except Exception as error:
+            raise InputError(
+                f"the sheet cannot be read ({_first_line(error)}).",
+                hint="Save the workbook again from a spreadsheet program.",
+                file=path,
+                sheet=name,
+            ) from error
+        cells = pd.DataFrame(rows, dtype=object) if rows else pd.DataFrame(dtype=object)
+        grids.append(Grid(sheet=name, cells=_blank_to_none(cells)))
+    return grids
+
+
+def _is_encrypted_ole(path: Path) -> bool:
+    """An encrypted OOXML workbook is an OLE container holding an 'EncryptionInfo' stream."""
+    marker = "EncryptionInfo".encode("utf-16-le")
+    return marker in path.read_bytes()
+
+
+def _zip_is_workbook(path: Path) -> bool:
+    try:
+        with zipfile.ZipFile(path) as archive:
+            names = set(archive.namelist())
+    except zipfile.BadZipFile:
+        return False
+    return "[Content_Types].xml" in names or "mimetype" in names
+
+
+def _read_text(path: Path) -> Grid:
+    raw = path.read_bytes()
+    if b"\x00" in raw[:4096] and not raw.startswith((b"\xff\xfe", b"\xfe\xff")):
+        raise InputError(
+            "this is not a text table or a spreadsheet (it contains binary data).",
+            hint="Export the readings as .csv or .xlsx.",
+            file=path,
+        )
+    text = _decode(raw)
+    delimiter = _sniff_delimiter(text)
+    try:
+        cells = pd.read_csv(
+            io.StringIO(text),
+            sep=delimiter,
+            header=None,
+            dtype=str,
+            keep_default_na=False,
+            skip_blank_lines=False,
+            engine="c" if delimiter else "python",
+            names=range(_widest_row(text, delimiter)),
+        )
+    except (pd.errors.ParserError, ValueError) as error:
+        raise InputError(
+            f"the text table cannot be split into columns ({_first_line(error)}).",
+            hint="Check that every row uses the same delimiter.",
+            file=path,
+        ) from error
+    cells = _blank_to_none(cells.astype(object))
+    return Grid(
+        sheet=None,
+        cells=cells,
+        decimal_comma=_uses_decimal_comma(cells, delimiter),
+        delimiter=delimiter,
+    )
+
+
+def _decode(raw: bytes) -> str:
+    for encoding in ("utf-8-sig", "utf-16"):
+        try:
+            text = raw.decode(encoding)
+        except UnicodeDecodeError:
+            continue
+        if encoding == "utf-16" and not raw.startswith((b"\xff\xfe", b"\xfe\xff")):
+            continue
+        return text
+    return raw.decode("cp1252", errors="replace")
+
+
+def _sniff_delimiter(text: str) -> str:
+    """The delimiter that splits the most of the first lines into the same number of cells."""
+    lines = [line for line in text.splitlines()[:200] if line.strip()]
+    best, best_score = ",", -1.0
+    for candidate in DELIMITERS:
+        counts = [_split_count(line, candidate) for line in lines]
+        data = [c for c in counts if c > 1]
+        if not data:
+            continue
+        mode = max(set(data), key=data.count)
+        score = data.count(mode) * (1 + 0.01 * mode)
+        if score > best_score:
+            best, best_score = candidate, score
+    return best
+
+
+def _split_count(line: str, delimiter: str) -> int:
+    return len(next(csv.reader([line], delimiter=delimiter)))
+
+
+def _widest_row(text: str, delimiter: str) -> int:
+    return max((len(row) for row in csv.reader(io.StringIO(text), delimiter=delimiter)), default=1)
+
+
+def _uses_decimal_comma(cells: pd.DataFrame, delimiter: str) -> bool:
+    """Decimal comma when cells look like 12,5 and none look like 12.5 (never with ',' as sep)."""
+    if delimiter == ",":
+        return False
+    sample = cells.head(500).stack().astype(str)
+    comma = sample.str.fullmatch(r"-?\d+,\d+").sum()
+    point = sample.str.fullmatch(r"-?\d+\.\d+").sum()
+    return bool(comma > point)
+
+
+def _blank_to_none(cells: pd.DataFrame) -> pd.DataFrame:
+    """Empty-string cells become None so that 'empty' has one meaning downstream."""
+    return cells.where(cells != "", None)
+
+
+def _first_line(error: BaseException) -> str:
+    text = str(error).strip().splitlines()
+    return text[0][:160] if text else type(error).__name__

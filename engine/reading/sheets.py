@@ -1,0 +1,65 @@
+"""Choose the table to read from a file: the sheet that holds stamped readings."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from pathlib import Path
+
+from engine.errors import InputError
+from engine.meters import Finding
+from engine.reading.columns import ColumnFacts, describe_columns, is_stamp_column
+from engine.reading.grid import read_grids
+from engine.reading.table import Table, locate_table
+
+
+@dataclass
+class ChosenTable:
+    table: Table
+    facts: list[ColumnFacts]
+    findings: list[Finding]
+
+
+def choose_table(path: str | Path, sheet: str | None = None) -> ChosenTable:
+    """The table with readings in ``path``; the named sheet, or the one with the most rows."""
+    grids = read_grids(path)
+    if sheet is not None:
+        names = [g.sheet for g in grids]
+        if sheet not in names:
+            raise InputError(
+                f"there is no sheet '{sheet}'.",
+                hint=f"The sheets are: {', '.join(map(str, names))}.",
+                file=path,
+            )
+        grids = [g for g in grids if g.sheet == sheet]
+    candidates = []
+    for grid in grids:
+        table = locate_table(grid)
+        if table is None:
+            continue
+        facts = describe_columns(table)
+        if any(is_stamp_column(f, table.data[f.position]) for f in facts):
+            candidates.append(ChosenTable(table, facts, []))
+    if not candidates:
+        where = f"sheet '{sheet}'" if sheet else "any sheet"
+        raise InputError(
+            f"no table of dated readings was found in {where}.",
+            hint="The file needs a column of dates or date-times and at least one column of "
+            "numbers below a header row.",
+            file=path,
+        )
+    candidates.sort(key=lambda c: len(c.table.data), reverse=True)
+    chosen = candidates[0]
+    others = [c.table.sheet for c in candidates[1:]]
+    if others:
+        chosen.findings.append(
+            Finding(
+                kind="other_sheets",
+                message=(
+                    f"read sheet '{chosen.table.sheet}' (most rows); sheets "
+                    f"{', '.join(repr(o) for o in others)} also hold readings — choose one with "
+                    "--sheet to read it instead."
+                ),
+                count=len(others),
+            )
+        )
+    return chosen

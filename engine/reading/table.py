@@ -1,0 +1,126 @@
+"""Find the table inside a grid: the header row below any title rows, and the data rows.
+
+Exports put titles, export dates and blank lines above the header; some have no header at all.
+The header is the last mostly-text row directly above the first run of rows that carry numbers.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import re
+from dataclasses import dataclass
+
+import numpy as np
+import pandas as pd
+
+from engine.reading.grid import Grid
+
+SCAN_ROWS = 60
+NUMBER_RE = re.compile(r"^[-+]?(\d{1,3}([ ,.\u00a0']\d{3})+|\d+)([.,]\d+)?([eE][-+]?\d+)?$")
+DATE_RE = re.compile(
+    r"^\s*(\d{4}[-/.]\d{1,2}[-/.]\d{1,2}|\d{1,2}[-/.]\d{1,2}[-/.]\d{2,4})"
+    r"([ T]+\d{1,2}:\d{2}(:\d{2}(\.\d+)?)?\s*([AaPp][Mm])?)?"
+    r"\s*(Z|[+-]\d{2}:?\d{2}|UTC)?\s*$"
+)
+CLOCK_RE = re.compile(r"^\s*\d{1,2}:\d{2}(:\d{2})?\s*([AaPp][Mm])?\s*$")
+
+
+@dataclass
+class Table:
+    """The data block of a grid with its header texts and the file's row number of each row."""
+
+    sheet: str | None
+    headers: list[str]
+    data: pd.DataFrame  # columns 0..n-1 as in headers; index = 1-based row number in the file
+    header_row: int | None  # 1-based row number of the header in the file, None if absent
+    decimal_comma: bool
+
+
+def cell_kind(value: object) -> str:
+    """'empty', 'number', 'datetime', 'date', 'clock' or 'text' for one raw cell."""
+    if value is None or (isinstance(value, float) and np.isnan(value)):
+        return "empty"
+    if isinstance(value, bool):
+        return "text"
+    if isinstance(value, int | float | np.number):
+        return "number"
+    if isinstance(value, dt.datetime | pd.Timestamp):
+        return "datetime"
+    if isinstance(value, dt.date):
+        return "date"
+    if isinstance(value, dt.time):
+        return "clock"
+    text = str(value).strip()
+    if NUMBER_RE.match(text):
+        return "number"
+    match = DATE_RE.match(text)
+    if match:
+        return "datetime" if match.group(2) else "date"
+    if CLOCK_RE.match(text):
+        return "clock"
+    return "text"
+
+
+def locate_table(grid: Grid) -> Table | None:
+    """The header and data rows of ``grid``; ``None`` when the grid holds no numeric rows."""
+    cells = grid.cells
+    if cells.empty:
+        return None
+    head = cells.head(SCAN_ROWS)
+    kinds = head.map(cell_kind)
+    filled = (kinds != "empty").sum(axis=1)
+    typed = kinds.isin(("number", "datetime", "date", "clock")).sum(axis=1)
+    is_data = (filled >= 2) & (typed >= 1) & (typed * 2 >= filled)
+    first = _first_data_run(is_data.to_numpy())
+    if first is None:
+        return None
+    header_pos = _header_above(kinds, first)
+    width = int((kinds.iloc[first:] != "empty").sum(axis=0).gt(0).to_numpy().nonzero()[0].max()) + 1
+    if header_pos is not None:
+        width = max(width, int(np.flatnonzero((kinds.iloc[header_pos] != "empty").to_numpy())
+                               .max()) + 1)  # fmt: skip
+    data = cells.iloc[first:, :width].copy()
+    data = data[data.notna().any(axis=1)]
+    data.index = data.index + 1
+    data.columns = range(width)
+    headers = _header_texts(cells.iloc[header_pos, :width] if header_pos is not None else None,
+                            width)  # fmt: skip
+    return Table(
+        sheet=grid.sheet,
+        headers=headers,
+        data=data,
+        header_row=header_pos + 1 if header_pos is not None else None,
+        decimal_comma=grid.decimal_comma,
+    )
+
+
+def _first_data_run(is_data: np.ndarray, run: int = 3) -> int | None:
+    """First row that starts ``run`` consecutive data rows (or runs to the end of the scan)."""
+    n = len(is_data)
+    for i in range(n):
+        window = is_data[i : min(i + run, n)]
+        if window.all() and len(window) > 0:
+            return i
+    return None
+
+
+def _header_above(kinds: pd.DataFrame, first: int) -> int | None:
+    """The row directly above the data (skipping blanks) if it is mostly text."""
+    for pos in range(first - 1, -1, -1):
+        row = kinds.iloc[pos]
+        filled = row != "empty"
+        if not filled.any():
+            continue
+        text_share = (row[filled] == "text").mean()
+        return pos if text_share >= 0.5 else None
+    return None
+
+
+def _header_texts(row: pd.Series | None, width: int) -> list[str]:
+    if row is None:
+        return [f"column {i + 1}" for i in range(width)]
+    texts = []
+    for i, value in enumerate(row.tolist()):
+        text = "" if value is None or (isinstance(value, float) and np.isnan(value)) else str(value)
+        texts.append(" ".join(text.split()) or f"column {i + 1}")
+    return texts

@@ -1,0 +1,7 @@
+#!/usr/bin/env bash
+# Set up the test environment and run the test suite (benchmarks are separate: see DEVELOPERS.md).
+set -euo pipefail
+cd "$(dirname "$0")/.."
+bash installer/setup-env.sh test
+export QT_QPA_PLATFORM=offscreen
+exec .venv/bin/python -m pytest "$@"
