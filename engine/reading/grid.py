@@ -10,7 +10,7 @@ from __future__ import annotations
 import csv
 import io
 import zipfile
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from pathlib import Path
 
 import pandas as pd
@@ -22,16 +22,29 @@ TEXT_SUFFIXES = (".csv", ".tsv", ".txt", ".dat")
 OLE_MAGIC = b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1"
 ZIP_MAGIC = b"PK\x03\x04"
 DELIMITERS = (",", ";", "\t", "|")
+HEAD_ROWS = 200
 
 
 @dataclass
 class Grid:
-    """The raw cells of one sheet (or of a text file)."""
+    """The raw cells of one sheet (or of a text file).
+
+    ``cells`` holds every row of a workbook sheet, but only the first rows of a text file
+    (enough to find the header); :meth:`block` returns the data rows from a given row on, which
+    a text file reads in one fast, typed pass.
+    """
 
     sheet: str | None
     cells: pd.DataFrame
     decimal_comma: bool = False
     delimiter: str | None = None
+    text: str | None = field(default=None, repr=False)
+
+    def block(self, first: int, width: int) -> pd.DataFrame:
+        """Rows from position ``first`` on, ``width`` columns wide, indexed by position."""
+        if self.text is None:
+            return self.cells.iloc[first:, :width].copy()
+        return _read_block(self.text, self.delimiter or ",", first, width, self.decimal_comma)
 
 
 def read_grids(path: str | Path) -> list[Grid]:
@@ -116,17 +129,17 @@ def _read_text(path: Path) -> Grid:
             file=path,
         )
     text = _decode(raw)
-    delimiter = _sniff_delimiter(text)
+    head_text = "\n".join(text.splitlines()[:HEAD_ROWS])
+    delimiter = _sniff_delimiter(head_text)
     try:
-        cells = pd.read_csv(
-            io.StringIO(text),
+        head = pd.read_csv(
+            io.StringIO(head_text),
             sep=delimiter,
             header=None,
             dtype=str,
             keep_default_na=False,
             skip_blank_lines=False,
-            engine="c" if delimiter else "python",
-            names=range(_widest_row(text, delimiter)),
+            names=range(_widest_row(head_text, delimiter)),
         )
     except (pd.errors.ParserError, ValueError) as error:
         raise InputError(
@@ -134,13 +147,48 @@ def _read_text(path: Path) -> Grid:
             hint="Check that every row uses the same delimiter.",
             file=path,
         ) from error
-    cells = _blank_to_none(cells.astype(object))
+    head = _blank_to_none(head.astype(object))
     return Grid(
         sheet=None,
-        cells=cells,
-        decimal_comma=_uses_decimal_comma(cells, delimiter),
+        cells=head,
+        decimal_comma=_uses_decimal_comma(head, delimiter),
         delimiter=delimiter,
+        text=text,
     )
+
+
+def _read_block(text: str, delimiter: str, first: int, width: int, decimal_comma: bool):
+    """The data rows of a text table in one typed pass of pandas' C parser.
+
+    Columns of plain numbers arrive as float64; anything else stays text for the caller to
+    parse and report. The index is the row's position in the file (0-based). The number of
+    columns comes from the first data row; a wider row later costs one exact re-read.
+    """
+    options = dict(
+        sep=delimiter,
+        header=None,
+        skiprows=first,
+        skip_blank_lines=False,
+        keep_default_na=False,
+        na_values=[""],
+        decimal="," if decimal_comma else ".",
+        thousands="." if decimal_comma else None,
+        low_memory=False,
+    )
+    try:
+        try:
+            block = pd.read_csv(io.StringIO(text), **options)
+        except pd.errors.ParserError:
+            block = pd.read_csv(io.StringIO(text), names=range(_widest_row(text, delimiter)),
+                                **options)  # fmt: skip
+    except (pd.errors.ParserError, ValueError) as error:
+        raise InputError(
+            f"the rows cannot be split into columns ({_first_line(error)}).",
+            hint="Check that every row uses the same delimiter.",
+        ) from error
+    block = block.reindex(columns=range(width))
+    block.index = block.index + first
+    return block
 
 
 def _decode(raw: bytes) -> str:
@@ -176,6 +224,7 @@ def _split_count(line: str, delimiter: str) -> int:
 
 
 def _widest_row(text: str, delimiter: str) -> int:
+    """Most cells in any row, honouring quotes."""
     return max((len(row) for row in csv.reader(io.StringIO(text), delimiter=delimiter)), default=1)
 
 

@@ -79,7 +79,7 @@ def locate_table(grid: Grid) -> Table | None:
     if header_pos is not None:
         width = max(width, int(np.flatnonzero((kinds.iloc[header_pos] != "empty").to_numpy())
                                .max()) + 1)  # fmt: skip
-    data = cells.iloc[first:, :width].copy()
+    data = grid.block(first, width)
     data = data[data.notna().any(axis=1)]
     data.index = data.index + 1
     data.columns = range(width)

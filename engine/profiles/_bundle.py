@@ -1,0 +1,62 @@
+"""Every profile of one meter in one call, for the profile screen and the workbook."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import pandas as pd
+
+from engine.meters import MeterSeries
+from engine.profiles._figures import key_figures
+from engine.profiles._shapes import heat_map, typical_day
+from engine.profiles._totals import load_duration, monthly_totals_by_year
+from engine.profiles._weather import TemperatureResponse, energy_vs_temperature
+from engine.progress import Progress, step
+
+#: Groupings computed by :func:`profile_meter`.
+BUNDLED_GROUPINGS: tuple[str, ...] = ("day_type", "period", "season")
+
+
+@dataclass(frozen=True)
+class MeterProfiles:
+    """All profiles of one meter; ``temperature`` is None when no weather was given."""
+
+    typical_days: dict[str, pd.DataFrame]
+    heat_map: pd.DataFrame
+    monthly: pd.DataFrame
+    duration: pd.DataFrame
+    figures: pd.DataFrame
+    temperature: TemperatureResponse | None
+
+
+def profile_meter(
+    meter: MeterSeries,
+    labels: pd.DataFrame | None = None,
+    temperatures: pd.Series | None = None,
+    *,
+    hemisphere: str = "north",
+    progress: Progress | None = None,
+) -> MeterProfiles:
+    """Compute every profile of ``meter`` with default settings.
+
+    Typical days are hourly, grouped by day type, campus period and season; the heat map is
+    in kWh. See the individual functions for the settings.
+    """
+    typical_days = {}
+    for done, grouping in enumerate(BUNDLED_GROUPINGS):
+        step(progress, 0.5 * done / len(BUNDLED_GROUPINGS), f"typical days by {grouping}")
+        typical_days[grouping] = typical_day(meter, labels, by=grouping, hemisphere=hemisphere)
+    step(progress, 0.5, "heat map")
+    matrix = heat_map(meter)
+    step(progress, 0.6, "monthly totals")
+    monthly = monthly_totals_by_year(meter)
+    step(progress, 0.7, "load-duration curve")
+    duration = load_duration(meter)
+    step(progress, 0.8, "key figures")
+    figures = key_figures(meter, labels)
+    response = None
+    if temperatures is not None:
+        step(progress, 0.9, "energy against temperature")
+        response = energy_vs_temperature(meter, temperatures, labels)
+    step(progress, 1.0, "profiles ready")
+    return MeterProfiles(typical_days, matrix, monthly, duration, figures, response)

@@ -1,0 +1,115 @@
+"""Conversions between pandas/numpy values and the plain values stored in a project file.
+
+Times go in as whole seconds since the Unix epoch (UTC) and come back as a tz-aware UTC
+``DatetimeIndex`` at microsecond resolution (pandas' default resolution). Floats go in as
+Python floats from ``ndarray.tolist()`` (NaN is stored as NULL) and come back as float64.
+Structured values are JSON text.
+"""
+
+from __future__ import annotations
+
+import json
+import sqlite3
+import time
+from datetime import UTC, datetime, timedelta
+from typing import Any
+
+import numpy as np
+import pandas as pd
+
+from engine.errors import InputError
+
+#: Ticks per second for each resolution a pandas datetime may have.
+_TICKS_PER_SECOND = {"s": 1, "ms": 1_000, "us": 1_000_000, "ns": 1_000_000_000}
+_RETURNED_UNIT = "us"
+_EPOCH = datetime(1970, 1, 1, tzinfo=UTC)  # fromtimestamp() fails before 1970 on Windows
+
+
+def epoch_seconds(times: pd.DatetimeIndex, what: str) -> np.ndarray:
+    """Whole seconds since the epoch for tz-aware UTC ``times``; refuse anything lossy.
+
+    ``what`` names the data for the message, e.g. ``"meter 'Hall A'"``.
+    """
+    if not isinstance(times, pd.DatetimeIndex) or str(times.tz) != "UTC":
+        raise ValueError(f"{what}: times must be a tz-aware UTC DatetimeIndex")
+    if times.hasnans:
+        raise ValueError(f"{what}: times must not contain NaT")
+    seconds, fraction = np.divmod(times.asi8, _TICKS_PER_SECOND[times.unit])
+    if fraction.any():
+        first = times[int(np.flatnonzero(fraction)[0])]
+        raise InputError(
+            f"{what} has a time with a fraction of a second ({first}).",
+            hint="Round the times to whole seconds on import; project files store whole seconds.",
+        )
+    return seconds
+
+
+def utc_times(seconds: np.ndarray) -> pd.DatetimeIndex:
+    """A UTC ``DatetimeIndex`` (microsecond resolution) from epoch seconds."""
+    index = pd.DatetimeIndex(np.asarray(seconds, dtype="int64").astype("datetime64[s]"), tz="UTC")
+    return index.as_unit(_RETURNED_UNIT)
+
+
+def iso_utc(seconds: int | None) -> str | None:
+    """``2024-01-31T23:45:00Z`` for epoch seconds, or None."""
+    if seconds is None:
+        return None
+    return (_EPOCH + timedelta(seconds=seconds)).strftime("%Y-%m-%dT%H:%M:%SZ")
+
+
+def now_seconds() -> int:
+    """The current time as whole epoch seconds."""
+    return int(time.time())
+
+
+def float_values(values: Any, what: str) -> np.ndarray:
+    """Numbers as a float64 array (missing becomes NaN); refuse text or dates."""
+    series = pd.Series(values, copy=False)
+    if not (pd.api.types.is_numeric_dtype(series) and not pd.api.types.is_bool_dtype(series)):
+        raise ValueError(f"{what} must be numbers, got dtype {series.dtype}")
+    return series.to_numpy(dtype="float64", na_value=np.nan)
+
+
+def calendar_dates(values: Any, what: str) -> np.ndarray:
+    """ISO ``YYYY-MM-DD`` strings for date-like values that carry no time of day."""
+    dates = pd.to_datetime(pd.Series(values, copy=False))
+    if isinstance(dates.dtype, pd.DatetimeTZDtype):
+        raise ValueError(f"{what} must be calendar dates without a time zone")
+    if dates.isna().any():
+        raise ValueError(f"{what} has a missing date")
+    if (dates != dates.dt.normalize()).any():
+        raise ValueError(f"{what} must be dates without a time of day")
+    return dates.dt.strftime("%Y-%m-%d").to_numpy(dtype=object)
+
+
+def dates_from_iso(values: np.ndarray) -> pd.DatetimeIndex:
+    """Naive midnight datetimes (microsecond resolution) from ISO date strings."""
+    return pd.DatetimeIndex(pd.to_datetime(values, format="%Y-%m-%d")).as_unit(_RETURNED_UNIT)
+
+
+def to_json(value: Any, what: str) -> str:
+    """JSON text for a setting or parameter; numpy scalars become plain numbers."""
+    try:
+        return json.dumps(value, allow_nan=False, ensure_ascii=False, default=_plain)
+    except (TypeError, ValueError) as error:
+        raise ValueError(f"{what} cannot be stored as JSON: {error}") from error
+
+
+def _plain(value: Any) -> Any:
+    if isinstance(value, np.generic):
+        return value.item()
+    raise TypeError(f"{type(value).__name__} is not a JSON value")
+
+
+def from_json(text: str) -> Any:
+    """The value stored by :func:`to_json`."""
+    return json.loads(text)
+
+
+def fetch_columns(cursor: sqlite3.Cursor, dtypes: tuple[str, ...]) -> list[np.ndarray]:
+    """All rows of ``cursor`` as one numpy array per column (NULL becomes NaN in float columns)."""
+    rows = cursor.fetchall()
+    if not rows:
+        return [np.empty(0, dtype=dtype) for dtype in dtypes]
+    by_column = zip(*rows, strict=True)
+    return [np.array(column, dtype=dtype) for column, dtype in zip(by_column, dtypes, strict=True)]

@@ -1,0 +1,43 @@
+"""Project settings: one JSON value per key."""
+
+from __future__ import annotations
+
+import sqlite3
+from typing import Any
+from zoneinfo import ZoneInfo, ZoneInfoNotFoundError
+
+from engine.errors import InputError
+from engine.project.columns import from_json, to_json
+
+#: The key under which the site's IANA time zone is kept.
+SITE_TIMEZONE = "site_timezone"
+
+
+def get_setting(conn: sqlite3.Connection, key: str, default: Any = None) -> Any:
+    """The stored value of ``key``, or ``default`` when it was never set."""
+    row = conn.execute("SELECT value FROM settings WHERE key = ?", (key,)).fetchone()
+    return default if row is None else from_json(row[0])
+
+
+def set_setting(conn: sqlite3.Connection, key: str, value: Any) -> None:
+    """Store ``value`` (any JSON value) under ``key``, replacing what was there."""
+    if not isinstance(key, str) or not key:
+        raise ValueError("a setting needs a non-empty text key")
+    if key == SITE_TIMEZONE:
+        require_timezone(value)
+    conn.execute(
+        "INSERT INTO settings (key, value) VALUES (?, ?) "
+        "ON CONFLICT (key) DO UPDATE SET value = excluded.value",
+        (key, to_json(value, f"setting '{key}'")),
+    )
+
+
+def require_timezone(name: Any) -> None:
+    """Refuse anything that is not an IANA time zone name known to this computer."""
+    try:
+        ZoneInfo(name)
+    except (ZoneInfoNotFoundError, ValueError, TypeError) as error:
+        raise InputError(
+            f"'{name}' is not a known time zone.",
+            hint="Use an IANA zone name such as 'America/Denver' or 'Europe/Oslo'.",
+        ) from error

@@ -1,0 +1,949 @@
+"""Reading meter timestamps right: from raw cells to a UTC index of interval starts.
+
+The importer hands over raw cells (text, spreadsheet date-times, Excel serial numbers) and
+needs an unambiguous UTC index of interval starts. That takes four steps, one function each:
+
+1. :func:`parse_stamps` reads the cells as clock times: naive local clock time, or UTC when
+   the text carried UTC offsets. Day-first against month-first is settled by the data.
+2. :func:`localize` turns naive local clock times in an IANA zone into UTC: the repeated
+   fall-back hour is placed by order of appearance, times in the spring-forward gap are reported.
+3. :func:`detect_interval` finds the reading interval from the UTC index.
+4. :func:`guess_stamp_convention` tells whether the stamps mark interval starts or ends, and
+   :func:`to_interval_starts` moves interval-end stamps to starts.
+
+Speed: text stamps are split into a date part and a time part. Each part has few distinct
+values (a year of 15-minute readings has 365 dates and 96 times of day), so formats are
+inferred per shape of text and ``pd.to_datetime(format=...)`` runs once per distinct value.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import re
+from dataclasses import dataclass, field
+from typing import Literal
+from zoneinfo import ZoneInfo, ZoneInfoNotFoundError
+
+import numpy as np
+import pandas as pd
+
+from engine.errors import InputError
+
+Convention = Literal["start", "end"]
+
+_US = "datetime64[us]"
+_SPAN_US = "timedelta64[us]"
+_NAT = np.datetime64("NaT", "us")
+_NO_SPAN = np.timedelta64("NaT", "us")
+_DAY = np.timedelta64(1, "D").astype(_SPAN_US)
+_CLOCK_ZERO = np.datetime64("1900-01-01", "us")  # the date pd.to_datetime gives a bare time
+
+# Excel's 1900 date system: serial 61 is 1900-03-01 and every later serial counts days from
+# 1899-12-30. Excel also counts a 1900-02-29 that never was (serial 60), so serials 1-59 would
+# be a day off under that epoch and 60 is no date at all: serials below 61 are refused.
+_EXCEL_EPOCH = np.datetime64("1899-12-30", "ms")
+_FIRST_SOUND_SERIAL = 61
+_LAST_EXCEL_SERIAL = 2_958_465  # 9999-12-31, the last day Excel can show
+_MS_PER_DAY = 86_400_000
+# Numbers are taken for Excel dates only inside this span; anything else is not a meter stamp.
+_PLAUSIBLE_SPAN = (np.datetime64("1970-01-01", "us"), np.datetime64("2100-01-01", "us"))
+
+_USUAL_STEPS = frozenset(
+    pd.Timedelta(minutes=minutes) for minutes in (1, 5, 10, 15, 30, 60, 24 * 60)
+)
+# Daily stamps at local midnight are 23 or 25 hours apart in UTC across a daylight-saving change.
+_DST_SLACK = pd.Timedelta(hours=1).value
+
+
+_DATE_GRAMMAR = re.compile(
+    r"""
+      (?P<Y>\d{4})(?P<iso_sep>[-/.])(?P<m>\d{1,2})(?P=iso_sep)(?P<d>\d{1,2})         # 2024-03-10
+    | (?P<first>\d{1,2})(?P<num_sep>[-/.])(?P<second>\d{1,2})(?P=num_sep)(?P<y>\d{4}|\d{2})
+    | (?P<dn>\d{1,2})-(?P<mon>[A-Za-z]{3,9})-(?P<Yn>\d{4})                          # 10-Mar-2024
+    | (?P<serial>\d{5}(?:\.\d+)?)                                                   # 45361.59375
+    """,
+    re.VERBOSE,
+)
+_TIME_GRAMMAR = re.compile(
+    r"""
+    (?P<H>\d{1,2}):(?P<M>\d{2})(?::(?P<S>\d{2})(?:\.(?P<f>\d{1,9}))?)?
+    (?:\s*(?P<p>[AaPp][Mm]))?
+    (?:\s*(?P<z>Z|[+-]\d{2}:?\d{2}))?
+    """,
+    re.VERBOSE,
+)
+_FIXED_DIRECTIVES = {
+    "Y": "%Y",
+    "m": "%m",
+    "d": "%d",
+    "dn": "%d",
+    "Yn": "%Y",
+    "M": "%M",
+    "S": "%S",
+    "f": "%f",
+    "p": "%p",
+    "z": "%z",
+}
+_SHOWN_AS = (
+    ("%Y", "yyyy"),
+    ("%y", "yy"),
+    ("%m", "mm"),
+    ("%d", "dd"),
+    ("%H", "hh"),
+    ("%I", "hh"),
+    ("%M", "mm"),
+    ("%S", "ss"),
+    ("%f", "fff"),
+    ("%p", "AM/PM"),
+    ("%z", "±hh:mm"),
+    ("%b", "Mon"),
+    ("%B", "Month"),
+)
+_SERIAL_LABEL = "Excel serial day numbers"
+_DIGITS_AS_NINE = str.maketrans("0123456789", "9999999999")
+_END_OF_DAY_TEXT = r"24:00(?::00(?:\.0+)?)?(?:\s*(?:Z|[+-]\d{2}:?\d{2}))?$"
+_ACCEPTED_FORMS = (
+    "Accepted: 2024-03-10 14:15 or 2024-03-10T14:15:00-05:00, 03/10/2024 2:15 PM, "
+    "10.03.2024 14:15, 10-Mar-2024 14:15, spreadsheet date cells, and Excel serial numbers "
+    "for dates from 1970 to 2099."
+)
+
+# What a cell holds, decided once per Python type present in the column.
+_EMPTY, _TEXT, _NUMBER, _MOMENT, _CLOCK, _SPAN, _OTHER = range(7)
+
+
+@dataclass(frozen=True, eq=False)
+class ParsedStamps:
+    """Clock times read from a column of cells, with what was found on the way.
+
+    Attributes
+    ----------
+    values : pandas.DatetimeIndex
+        One stamp per cell, NaT where the cell could not be read. Naive local clock time, or
+        tz-aware UTC when the text carried UTC offsets.
+    bad_rows : numpy.ndarray
+        Positions of cells that could not be read; empty cells count as bad.
+    has_offsets : bool
+        The stamps carried UTC offsets (``values`` is then UTC).
+    dayfirst_used : bool or None
+        The day/month order used for dates such as ``10/03/2024``; None when none occurred.
+    format_note : str
+        Short description of the form(s) read, for the inspect report.
+    end_of_day_rows : numpy.ndarray
+        Positions of cells written with ``24:00`` (read as midnight ending that day), evidence
+        that the stamps mark interval ends.
+    """
+
+    values: pd.DatetimeIndex
+    bad_rows: np.ndarray
+    has_offsets: bool
+    dayfirst_used: bool | None
+    format_note: str
+    end_of_day_rows: np.ndarray
+
+
+@dataclass(frozen=True, eq=False)
+class Localized:
+    """Naive local clock times placed on UTC, with the daylight-saving problems found.
+
+    Attributes
+    ----------
+    utc : pandas.DatetimeIndex
+        Same length and order as the input; NaT where a clock time could not be placed.
+    timezone : str
+        The IANA zone the clock times were read in.
+    fall_back_resolved : numpy.ndarray
+        Positions in the repeated fall-back hour placed by order of appearance: the first
+        appearance is the earlier instant (daylight time), the second the later (standard time).
+    fall_back_single : numpy.ndarray
+        Fall-back clock times that appear only once, taken as the earlier instant; the other
+        pass of that hour is missing from the data.
+    fall_back_unresolved : numpy.ndarray
+        Fall-back clock times appearing a third time or more; order cannot place them (NaT).
+    spring_gap : numpy.ndarray
+        Clock times inside the spring-forward gap, which do not exist locally (NaT).
+    """
+
+    utc: pd.DatetimeIndex
+    timezone: str
+    fall_back_resolved: np.ndarray
+    fall_back_single: np.ndarray
+    fall_back_unresolved: np.ndarray
+    spring_gap: np.ndarray
+
+    def counts(self) -> dict[str, int]:
+        """How many stamps fell in each case, keyed like the attributes."""
+        return {
+            "fall_back_resolved": len(self.fall_back_resolved),
+            "fall_back_single": len(self.fall_back_single),
+            "fall_back_unresolved": len(self.fall_back_unresolved),
+            "spring_gap": len(self.spring_gap),
+        }
+
+    def notes(self) -> list[str]:
+        """One sentence per case that occurred, for the inspect report."""
+        counts = self.counts()
+        sentences = {
+            "fall_back_resolved": "stamps in the repeated fall-back hour placed by order "
+            "(first pass daylight time, second pass standard time)",
+            "fall_back_single": "fall-back stamps appear only once and were taken as daylight "
+            "time; the standard-time pass of that hour is missing",
+            "fall_back_unresolved": "fall-back stamps appear more than twice and could not be "
+            "placed; check for duplicated rows or several meters in one column",
+            "spring_gap": "stamps fall in the spring-forward gap, a clock time that does not "
+            f"exist in {self.timezone}; they were not shifted",
+        }
+        return [f"{counts[key]} {text}" for key, text in sentences.items() if counts[key]]
+
+
+@dataclass(frozen=True)
+class DetectedInterval:
+    """The reading interval found in an index.
+
+    Attributes
+    ----------
+    step : pandas.Timedelta
+        The usual step (1, 5, 10, 15, 30, 60 minutes or 1 day) when the stamps follow it;
+        otherwise the most common step rounded to whole minutes (seconds below a minute).
+    irregular : bool
+        The stamps do not follow one of the usual steps.
+    on_step_share : float
+        Share of consecutive steps that are whole multiples of ``step`` (gaps included).
+    """
+
+    step: pd.Timedelta
+    irregular: bool
+    on_step_share: float
+
+
+@dataclass
+class _Read:
+    """Per-cell outcome of reading cells (internal).
+
+    ``form`` holds, per cell, an index into ``form_names`` (-1 where no form applied), so the
+    inspect report can say which forms were read and how often.
+    """
+
+    values: np.ndarray  # datetime64[us], or timedelta64[us] for times of day; NaT where unread
+    aware: np.ndarray  # the cell carried a UTC offset, its value is UTC
+    end_of_day: np.ndarray  # written as 24:00
+    form: np.ndarray
+    form_names: list[str] = field(default_factory=list)
+    dayfirst: bool | None = None
+
+    @classmethod
+    def unread(cls, size: int, missing: np.generic) -> _Read:
+        no = np.zeros(size, bool)
+        return cls(np.full(size, missing), no, no.copy(), np.full(size, -1, dtype=np.int64))
+
+    def name_rows(self, rows: np.ndarray, name: str) -> None:
+        """Record that ``rows`` were read in the form called ``name``."""
+        if name not in self.form_names:
+            self.form_names.append(name)
+        self.form[rows] = self.form_names.index(name)
+
+    def put(self, rows: np.ndarray, part: _Read) -> None:
+        """Copy ``part``, read from ``rows`` of these cells, into place."""
+        self.values[rows] = part.values
+        self.aware[rows] = part.aware
+        self.end_of_day[rows] = part.end_of_day
+        for index, name in enumerate(part.form_names):
+            self.name_rows(rows[part.form == index], name)
+        if part.dayfirst is not None:
+            self.dayfirst = part.dayfirst
+
+    def take(self, codes: np.ndarray) -> _Read:
+        """One row per code: spreads what was read per distinct text back to the cells."""
+        return _Read(
+            self.values[codes],
+            self.aware[codes],
+            self.end_of_day[codes],
+            self.form[codes],
+            self.form_names,
+            self.dayfirst,
+        )
+
+
+@dataclass(frozen=True)
+class _Form:
+    """How text of one shape is read: a format per day/month order, or Excel serial numbers."""
+
+    month_first: str
+    day_first: str
+    aware: bool = False
+    serial: bool = False
+
+    @property
+    def ambiguous(self) -> bool:
+        return self.month_first != self.day_first
+
+    def format(self, dayfirst: bool | None) -> str:
+        return self.day_first if dayfirst else self.month_first
+
+    def label(self, dayfirst: bool | None) -> str:
+        if self.serial:
+            return _SERIAL_LABEL
+        text = self.format(dayfirst)
+        for directive, shown in _SHOWN_AS:
+            text = text.replace(directive, shown)
+        if self.ambiguous:
+            return f"{'day-first' if dayfirst else 'month-first'} {text}"
+        return text
+
+
+@dataclass(frozen=True)
+class _Column:
+    """The column being read, to name its rows in messages."""
+
+    cells: pd.Series
+
+    @property
+    def name(self) -> str | None:
+        return None if self.cells.name is None else str(self.cells.name)
+
+    def row(self, position: int) -> int:
+        """The row label at ``position`` (callers index cells by spreadsheet row number)."""
+        label = self.cells.index[position]
+        return int(label) if isinstance(label, int | np.integer) else int(position)
+
+    def describe(self, position: int) -> str:
+        return f"row {self.row(position)} ({str(self.cells.iloc[position]).strip()!r})"
+
+
+# --- public functions ---------------------------------------------------------------------------
+
+
+def parse_stamps(
+    cells: pd.Series, *, dayfirst: bool | None = None, second: pd.Series | None = None
+) -> ParsedStamps:
+    """Read a column of date-time cells as clock times.
+
+    Parameters
+    ----------
+    cells : pandas.Series
+        The date-time column, or the date column when ``second`` is given. Cells may be text,
+        spreadsheet date-times (``datetime``, ``date``, ``pandas.Timestamp``) or Excel serial
+        numbers. Index the Series by spreadsheet row number to have rows named in messages.
+    dayfirst : bool or None
+        The user's choice for dates such as ``10/03/2024``. None lets the data decide: a first
+        number above 12 settles day-first, a second number above 12 settles month-first.
+    second : pandas.Series, optional
+        The time-of-day column: text (``14:15``, ``2:15 PM``, ``24:00``), ``datetime.time``,
+        durations, or Excel day fractions.
+
+    Returns
+    -------
+    ParsedStamps
+
+    Raises
+    ------
+    InputError
+        When no cell can be read, when the day/month order cannot be settled (and ``dayfirst``
+        is None), contradicts itself or contradicts ``dayfirst``, or when some stamps carry UTC
+        offsets and others do not.
+
+    Examples
+    --------
+    >>> parse_stamps(pd.Series(["25.03.2024 14:15", "26.03.2024 24:00"])).format_note
+    'day-first dd.mm.yyyy hh:mm'
+    """
+    read = _read_stamp_cells(cells, dayfirst)
+    _require_some(read, cells)
+    if second is not None:
+        if len(second) != len(cells):
+            raise ValueError("the date and time columns must be the same length")
+        times = _read_time_cells(second)
+        _require_some(times, second)
+        at_midnight = read.values == read.values.astype("datetime64[D]")
+        if not at_midnight.any():
+            raise InputError(
+                "the date cells carry a time of day already, so a time column cannot be added",
+                hint="Choose the date-time column alone, without a separate time column.",
+                column=_Column(cells).name,
+            )
+        read.values = np.where(at_midnight, read.values, _NAT)
+        read = _combine(read, times, " + ")
+    has_offsets = _refuse_mixed_offsets(read, _Column(cells))
+    values = pd.DatetimeIndex(read.values)
+    return ParsedStamps(
+        values=values.tz_localize("UTC") if has_offsets else values,
+        bad_rows=np.flatnonzero(np.isnat(read.values)),
+        has_offsets=has_offsets,
+        dayfirst_used=read.dayfirst,
+        format_note=_describe_forms(read),
+        end_of_day_rows=np.flatnonzero(read.end_of_day),
+    )
+
+
+def from_excel_serial(serials: np.ndarray | pd.Series | list[float]) -> pd.DatetimeIndex:
+    """Excel serial day numbers (1900 date system) as naive date-times.
+
+    Days count from 1899-12-30 and the fraction is the time of day, rounded to the millisecond
+    (the finest Excel shows). Serials below 61 give NaT: Excel counts a 1900-02-29 that never
+    existed as serial 60, so serials 1-59 would come out a day early and 60 is no date at all.
+    """
+    days = np.asarray(serials, dtype=float)
+    sound = np.isfinite(days) & (days >= _FIRST_SOUND_SERIAL) & (days < _LAST_EXCEL_SERIAL + 1)
+    ms = np.rint(np.where(sound, days, 0.0) * _MS_PER_DAY).astype(np.int64)
+    stamps = (_EXCEL_EPOCH + ms.astype("timedelta64[ms]")).astype(_US)
+    return pd.DatetimeIndex(np.where(sound, stamps, _NAT))
+
+
+def localize(stamps: pd.DatetimeIndex, timezone: str) -> Localized:
+    """Place naive local clock times of one meter sequence on UTC.
+
+    Parameters
+    ----------
+    stamps : pandas.DatetimeIndex
+        One meter's stamps in the order they appear in the file. Long layouts (stamps repeated
+        per meter) must be split per meter first, or the repeats look like fall-back hours.
+        Tz-aware stamps are only converted to UTC.
+    timezone : str
+        IANA zone name of the site, e.g. ``"America/New_York"``; ``"UTC"`` works.
+
+    Returns
+    -------
+    Localized
+        The fall-back hour is placed by order of appearance (first daylight, then standard
+        time); times in the spring-forward gap are reported and left NaT, never shifted.
+    """
+    _check_zone(timezone)
+    stamps = pd.DatetimeIndex(stamps)
+    nowhere = np.array([], dtype=np.int64)
+    if stamps.tz is not None:
+        return Localized(stamps.tz_convert("UTC"), timezone, nowhere, nowhere, nowhere, nowhere)
+    size = len(stamps)
+    unit = stamps.unit
+    as_daylight = stamps.tz_localize(timezone, ambiguous=np.ones(size, bool), nonexistent="NaT")
+    as_standard = stamps.tz_localize(timezone, ambiguous=np.zeros(size, bool), nonexistent="NaT")
+    first, later = as_daylight.asi8, as_standard.asi8
+    earlier = np.minimum(first, later)  # the earlier instant is the first pass of the clock
+    latest = np.maximum(first, later)
+    known = ~stamps.isna()
+    in_gap = known & as_daylight.isna()
+    repeated = np.flatnonzero(known & ~in_gap & (first != later))
+    utc = earlier.copy()  # NaT in the gap, where neither reading exists
+    single = unresolved = resolved = nowhere
+    if repeated.size:
+        clock = pd.Series(stamps.asi8[repeated])
+        by_clock = clock.groupby(clock.to_numpy())
+        appearance = by_clock.cumcount().to_numpy()
+        appearances = by_clock.transform("size").to_numpy()
+        utc[repeated] = np.where(appearance == 0, earlier[repeated], latest[repeated])
+        unresolved = repeated[appearance >= 2]
+        utc[unresolved] = np.iinfo(np.int64).min
+        single = repeated[appearances == 1]
+        resolved = repeated[(appearances >= 2) & (appearance < 2)]
+    index = pd.DatetimeIndex(utc.view(f"datetime64[{unit}]")).tz_localize("UTC")
+    return Localized(index, timezone, resolved, single, unresolved, np.flatnonzero(in_gap))
+
+
+def detect_interval(index: pd.DatetimeIndex) -> DetectedInterval:
+    """Find the reading interval of one meter's stamps (pass the UTC index).
+
+    The most common step between distinct stamps is taken; gaps (multiples of the step) and
+    daylight-saving shifts of daily stamps (23 or 25 hours in UTC) still count as on step.
+    When the most common step is not one of 1, 5, 10, 15, 30, 60 minutes or 1 day, or under
+    90 % of the steps are whole multiples of it, the result is flagged irregular and the step
+    is the most common one rounded to whole minutes. No error is raised for irregular data.
+
+    Raises
+    ------
+    InputError
+        With fewer than two distinct stamps, where no interval can be seen.
+    """
+    moments = np.sort(pd.DatetimeIndex(index).dropna().as_unit("ns").asi8)
+    moments = moments[np.r_[True, np.diff(moments) != 0]]
+    if moments.size < 2:
+        raise InputError(
+            "fewer than two distinct timestamps, so the reading interval cannot be seen",
+            hint="Check that the timestamp column was chosen and holds the readings' times.",
+        )
+    steps = np.diff(moments)
+    minute = pd.Timedelta(minutes=1).value
+    grain = minute if np.median(steps) >= minute else pd.Timedelta(seconds=1).value
+    rounded = np.maximum(np.rint(steps / grain).astype(np.int64), 1) * grain
+    values, counts = np.unique(rounded, return_counts=True)
+    mode = pd.Timedelta(int(values[np.argmax(counts)]), unit="ns")
+    usual = mode in _USUAL_STEPS
+    share = float(np.mean(_on_step(steps, mode)))
+    return DetectedInterval(step=mode, irregular=not (usual and share >= 0.9), on_step_share=share)
+
+
+def guess_stamp_convention(
+    local_stamps: pd.DatetimeIndex, interval: pd.Timedelta, *, end_of_day_cells: int = 0
+) -> tuple[Convention, str]:
+    """Guess whether stamps mark interval starts or ends, with the reason why.
+
+    Parameters
+    ----------
+    local_stamps : pandas.DatetimeIndex
+        One meter's stamps on the local clock (naive, or tz-aware in the site zone).
+    interval : pandas.Timedelta
+        The reading interval.
+    end_of_day_cells : int
+        How many cells were written ``24:00`` (``len(ParsedStamps.end_of_day_rows)``).
+
+    Returns
+    -------
+    (convention, reason)
+        ``"end"`` when cells read 24:00, or when unbroken runs of readings go from one interval
+        after midnight to midnight more often than from midnight to one interval before it;
+        otherwise ``"start"``, with a reason saying whether that is evidence or the default.
+    """
+    if end_of_day_cells:
+        return "end", (
+            f"{end_of_day_cells} cells read 24:00, a time only an interval-end stamp can have"
+        )
+    interval = pd.Timedelta(interval)
+    day = pd.Timedelta(days=1)
+    if interval >= day:
+        return "start", "daily stamps carry no time of day to tell by; interval starts assumed"
+    stamps = pd.DatetimeIndex(local_stamps).dropna()
+    if stamps.tz is not None:
+        stamps = stamps.tz_localize(None)
+    stamps = stamps.unique().sort_values()
+    breaks = np.flatnonzero(np.diff(stamps.as_unit("ns").asi8) != interval.value)
+    first = stamps[np.r_[0, breaks + 1]]
+    last = stamps[np.r_[breaks, len(stamps) - 1]]
+    first_time = first - first.normalize()
+    last_time = last - last.normalize()
+    end_ends = int(np.sum(first_time == interval) + np.sum(last_time == pd.Timedelta(0)))
+    start_ends = int(np.sum(first_time == pd.Timedelta(0)) + np.sum(last_time == day - interval))
+    after_midnight = _clock_text(interval)
+    before_midnight = _clock_text(day - interval)
+    if end_ends > start_ends:
+        return "end", (
+            f"runs of readings begin at {after_midnight} or end at 00:00 ({end_ends} times, "
+            f"against {start_ends} for 00:00 to {before_midnight}), as interval-end stamps do"
+        )
+    if start_ends:
+        return "start", (
+            f"runs of readings begin at 00:00 or end at {before_midnight} ({start_ends} times, "
+            f"against {end_ends} the other way), as interval-start stamps do"
+        )
+    return "start", "nothing in the stamps tells starts from ends; interval starts assumed"
+
+
+def to_interval_starts(
+    utc_index: pd.DatetimeIndex, interval: pd.Timedelta, convention: Convention
+) -> pd.DatetimeIndex:
+    """Stamps as interval starts: unchanged for ``"start"``, one interval earlier for ``"end"``."""
+    if convention == "start":
+        return pd.DatetimeIndex(utc_index)
+    if convention == "end":
+        return pd.DatetimeIndex(utc_index) - pd.Timedelta(interval)
+    raise ValueError(f"stamp convention must be 'start' or 'end', not {convention!r}")
+
+
+# --- reading columns ----------------------------------------------------------------------------
+
+
+def _read_stamp_cells(cells: pd.Series, dayfirst: bool | None) -> _Read:
+    """Read a date-time (or date) column of any mix of cell kinds."""
+    column = _Column(cells)
+    kinds = _cell_kinds(cells)
+    read = _Read.unread(len(cells), _NAT)
+    at = np.flatnonzero(kinds == _TEXT)
+    if at.size:
+        texts = cells.to_numpy(dtype=object)[at]
+        read.put(at, _read_stamp_text(texts, at, dayfirst, column))
+    at = np.flatnonzero(kinds == _NUMBER)
+    if at.size:
+        read.values[at] = _plausible(from_excel_serial(cells.iloc[at].to_numpy(dtype=float)))
+        read.name_rows(at, _SERIAL_LABEL)
+    at = np.flatnonzero(kinds == _MOMENT)
+    if at.size:
+        try:
+            moments = pd.to_datetime(cells.iloc[at]).dt.round("ms")
+        except ValueError as error:  # pandas refuses a mix of zones in one column
+            raise InputError(
+                "the date-times in this column mix different time zones or none",
+                hint="Export the column in one time zone, or as local clock time.",
+                column=column.name,
+            ) from error
+        aware = moments.dt.tz is not None
+        if aware:
+            moments = moments.dt.tz_convert("UTC").dt.tz_localize(None)
+        read.values[at] = moments.to_numpy(dtype=_US)
+        read.aware[at] = aware
+        read.name_rows(at, "spreadsheet date-times")
+    return read
+
+
+def _read_stamp_text(
+    texts: np.ndarray, at: np.ndarray, dayfirst: bool | None, column: _Column
+) -> _Read:
+    """Read text stamps (rows ``at`` of the column): date part, then time part if any."""
+    dates, times = _split_date_time(texts)
+    date_part = _read_date_text(dates, at, dayfirst, column)
+    time_part = _Read.unread(len(texts), _NO_SPAN)
+    timed = times != ""
+    time_part.values[~timed] = np.timedelta64(0, "us")
+    if timed.any():
+        time_part.put(np.flatnonzero(timed), _read_time_text(times[timed]))
+    return _combine(date_part, time_part, " ")
+
+
+def _split_date_time(texts: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Split stamps at the first space, or at the ISO 8601 'T' after yyyy-mm-dd.
+
+    Returns the date parts and the time parts (``""`` where a stamp has no time part).
+    """
+    stamps = pd.Series(texts, dtype=object)
+    cut = stamps.str.find(" ").to_numpy(dtype=np.int64, copy=True)
+    leading = np.flatnonzero(cut == 0)
+    if leading.size:  # rare: stamps that start with blanks
+        stamps.iloc[leading] = stamps.iloc[leading].str.lstrip()
+        cut[leading] = stamps.iloc[leading].str.find(" ").to_numpy()
+    no_space = np.flatnonzero(cut < 0)
+    if no_space.size:
+        iso_t = stamps.iloc[no_space].str.slice(10, 11).eq("T").to_numpy()
+        cut[no_space[iso_t]] = len("yyyy-mm-dd")
+    dates = np.empty(len(stamps), dtype=object)
+    times = np.full(len(stamps), "", dtype=object)
+    for position in np.unique(cut):
+        rows = slice(None) if (cut[0] == cut).all() else cut == position
+        group = stamps[rows]
+        if position < 0:
+            dates[rows] = group.to_numpy()
+        else:
+            dates[rows] = group.str.slice(0, position).to_numpy()
+            times[rows] = group.str.slice(position + 1).to_numpy()
+    return dates, times
+
+
+def _read_date_text(
+    dates: np.ndarray, at: np.ndarray, dayfirst: bool | None, column: _Column
+) -> _Read:
+    """Read date parts (rows ``at`` of the column) once per distinct text, settling the order."""
+    codes, distinct = pd.factorize(dates)
+    texts = pd.Series(distinct, dtype="str").str.strip()
+    part = _Read.unread(len(texts), _NAT)
+    either_way: list[tuple[_Form, np.ndarray, np.ndarray, np.ndarray]] = []
+    for form, which in _group_by_form(texts, _DATE_GRAMMAR).items():
+        group = texts.iloc[which]
+        if form.ambiguous:
+            month_first = _to_datetime(group, form.month_first, aware=False)
+            day_first = _to_datetime(group, form.day_first, aware=False)
+            either_way.append((form, which, month_first, day_first))
+        else:
+            part.values[which] = (
+                _plausible(from_excel_serial(pd.to_numeric(group)))
+                if form.serial
+                else _to_datetime(group, form.month_first, aware=False)
+            )
+            part.name_rows(which, form.label(None))
+    if either_way:
+        part.dayfirst = _settle_order(either_way, len(texts), codes, at, dayfirst, column)
+        for form, which, month_first, day_first in either_way:
+            part.values[which] = day_first if part.dayfirst else month_first
+            part.name_rows(which, form.label(part.dayfirst))
+    return part.take(codes)
+
+
+def _settle_order(
+    either_way: list[tuple[_Form, np.ndarray, np.ndarray, np.ndarray]],
+    distinct: int,
+    codes: np.ndarray,
+    at: np.ndarray,
+    dayfirst: bool | None,
+    column: _Column,
+) -> bool | None:
+    """Day-first (True) or month-first (False) from the dates that read only one way."""
+    only_day_first = np.zeros(distinct, bool)
+    only_month_first = np.zeros(distinct, bool)
+    both = np.zeros(distinct, bool)
+    for _form, which, month_first, day_first in either_way:
+        month_ok, day_ok = ~np.isnat(month_first), ~np.isnat(day_first)
+        only_day_first[which] = day_ok & ~month_ok
+        only_month_first[which] = month_ok & ~day_ok
+        both[which] = day_ok & month_ok
+    day_rows = at[only_day_first[codes]]
+    month_rows = at[only_month_first[codes]]
+    hint = "Choose the order: --day-first or --month-first on the command line, or in the window."
+    if day_rows.size and month_rows.size:
+        later = max(day_rows[0], month_rows[0])
+        raise InputError(
+            f"dates read neither day-first nor month-first: {column.describe(day_rows[0])} "
+            f"has a first number above 12 (day-first) but {column.describe(month_rows[0])} "
+            "has a second number above 12 (month-first)",
+            hint="Correct the dates that do not follow the column's order.",
+            row=column.row(later),
+            column=column.name,
+        )
+    if not (day_rows.size or month_rows.size):
+        if dayfirst is None and both.any():
+            raise InputError(
+                "cannot tell whether dates are day-first or month-first: every date reads "
+                "both ways (no number above 12 in either place)",
+                hint=hint,
+                column=column.name,
+            )
+        return dayfirst if both.any() else None
+    found = bool(day_rows.size)
+    if dayfirst is not None and dayfirst != found:
+        evidence = day_rows[0] if found else month_rows[0]
+        raise InputError(
+            f"dates were set to {_order_name(dayfirst)}, but {column.describe(evidence)} "
+            f"can only be {_order_name(found)}",
+            hint=hint,
+            row=column.row(evidence),
+            column=column.name,
+        )
+    return found
+
+
+def _read_time_text(times: np.ndarray) -> _Read:
+    """Read times of day, once per distinct text, as spans since midnight.
+
+    ``24:00`` is midnight at the end of the day (ISO 8601 allows it). With a UTC offset the
+    span runs to the UTC instant, so adding it to the naive date gives UTC.
+    """
+    codes, distinct = pd.factorize(times)
+    texts = pd.Series(distinct, dtype="str").str.strip()
+    part = _Read.unread(len(texts), _NO_SPAN)
+    for form, which in _group_by_form(texts, _TIME_GRAMMAR).items():
+        group = texts.iloc[which]
+        clock = _to_datetime(group, form.month_first, form.aware)
+        late = np.isnat(clock) & group.str.match(_END_OF_DAY_TEXT).to_numpy()
+        if late.any():
+            midnight = group[late].str.replace("24", "00", n=1)
+            clock[late] = _to_datetime(midnight, form.month_first, form.aware) + _DAY
+        part.values[which] = clock - _CLOCK_ZERO
+        part.aware[which] = form.aware
+        part.end_of_day[which] = late
+        part.name_rows(which, form.label(None))
+    return part.take(codes)
+
+
+def _read_time_cells(cells: pd.Series) -> _Read:
+    """Read a time-of-day column as spans since midnight."""
+    kinds = _cell_kinds(cells)
+    read = _Read.unread(len(cells), _NO_SPAN)
+    at = np.flatnonzero((kinds == _TEXT) | (kinds == _CLOCK))
+    if at.size:
+        texts = cells.to_numpy(dtype=object)[at]
+        clock = kinds[at] == _CLOCK
+        texts[clock] = [str(time) for time in texts[clock]]  # datetime.time as 14:15:00
+        read.put(at, _read_time_text(texts))
+    at = np.flatnonzero(kinds == _SPAN)
+    if at.size:
+        spans = pd.to_timedelta(cells.iloc[at]).to_numpy(dtype=_SPAN_US)
+        within = (spans >= np.timedelta64(0, "us")) & (spans <= _DAY)
+        read.values[at] = np.where(within, spans, _NO_SPAN)
+        read.end_of_day[at] = spans == _DAY
+        read.name_rows(at, "durations")
+    at = np.flatnonzero(kinds == _NUMBER)
+    if at.size:
+        fractions = cells.iloc[at].to_numpy(dtype=float)
+        ms = np.rint(fractions * _MS_PER_DAY).astype(np.int64).astype("timedelta64[ms]")
+        within = (fractions >= 0) & (fractions < 1)
+        read.values[at] = np.where(within, ms.astype(_SPAN_US), _NO_SPAN)
+        read.name_rows(at, "Excel day fractions")
+    return read
+
+
+def _combine(date_part: _Read, time_part: _Read, joiner: str) -> _Read:
+    """Dates plus times of day, row by row, with forms named 'date<joiner>time'."""
+    width = len(time_part.form_names) + 1
+    codes, keys = pd.factorize((date_part.form + 1) * width + (time_part.form + 1))
+    names = []
+    for key in keys:
+        date_id, time_id = divmod(int(key), width)
+        both = (
+            date_part.form_names[date_id - 1] if date_id else "",
+            time_part.form_names[time_id - 1] if time_id else "",
+        )
+        names.append(joiner.join(name for name in both if name))
+    return _Read(
+        values=date_part.values + time_part.values,
+        aware=date_part.aware | time_part.aware,
+        end_of_day=time_part.end_of_day,
+        form=codes,
+        form_names=names,
+        dayfirst=date_part.dayfirst,
+    )
+
+
+# --- small helpers ------------------------------------------------------------------------------
+
+
+def _cell_kinds(cells: pd.Series) -> np.ndarray:
+    """What each cell holds (text, number, date-time, ...), decided once per type present."""
+    dtype = cells.dtype
+    if pd.api.types.is_object_dtype(dtype):
+        type_codes, types = pd.factorize(cells.map(type))
+        kinds = np.array([_kind_of_type(kind) for kind in types], dtype=np.int8)[type_codes]
+    elif pd.api.types.is_datetime64_any_dtype(dtype):
+        kinds = np.full(len(cells), _MOMENT, dtype=np.int8)
+    elif pd.api.types.is_timedelta64_dtype(dtype):
+        kinds = np.full(len(cells), _SPAN, dtype=np.int8)
+    elif pd.api.types.is_bool_dtype(dtype):
+        kinds = np.full(len(cells), _OTHER, dtype=np.int8)
+    elif pd.api.types.is_numeric_dtype(dtype):
+        kinds = np.full(len(cells), _NUMBER, dtype=np.int8)
+    elif pd.api.types.is_string_dtype(dtype):
+        kinds = np.full(len(cells), _TEXT, dtype=np.int8)
+    else:
+        kinds = np.full(len(cells), _OTHER, dtype=np.int8)
+    kinds[cells.isna().to_numpy()] = _EMPTY
+    return kinds
+
+
+def _kind_of_type(kind: type) -> int:
+    if issubclass(kind, str):
+        return _TEXT
+    if issubclass(kind, bool | np.bool_):
+        return _OTHER
+    if issubclass(kind, int | float | np.integer | np.floating):
+        return _NUMBER
+    if issubclass(kind, dt.date | np.datetime64):  # datetime and Timestamp are dates too
+        return _MOMENT
+    if issubclass(kind, dt.time):
+        return _CLOCK
+    if issubclass(kind, dt.timedelta | np.timedelta64):
+        return _SPAN
+    return _OTHER
+
+
+def _group_by_form(texts: pd.Series, grammar: re.Pattern[str]) -> dict[_Form, np.ndarray]:
+    """Positions of ``texts`` per form; one example per shape (digits as 9) is examined."""
+    shape_codes, _shapes = pd.factorize(texts.str.translate(_DIGITS_AS_NINE))
+    shape_of_form: dict[_Form, list[int]] = {}
+    _, examples = np.unique(shape_codes, return_index=True)
+    for shape, example in enumerate(examples):
+        form = _form_of(texts.iloc[example], grammar)
+        if form is not None:
+            shape_of_form.setdefault(form, []).append(shape)
+    return {
+        form: np.flatnonzero(np.isin(shape_codes, shapes)) for form, shapes in shape_of_form.items()
+    }
+
+
+def _form_of(text: str, grammar: re.Pattern[str]) -> _Form | None:
+    match = grammar.fullmatch(text)
+    if match is None:
+        return None
+    found = match.groupdict()
+    if found.get("serial"):
+        return _Form("", "", serial=True)
+    return _Form(
+        month_first=_strptime_format(match, dayfirst=False),
+        day_first=_strptime_format(match, dayfirst=True),
+        aware=found.get("z") is not None,
+    )
+
+
+def _strptime_format(match: re.Match[str], *, dayfirst: bool) -> str:
+    """The ``pd.to_datetime`` format for text shaped like the matched example."""
+    found = match.groupdict()
+    directives = {
+        **_FIXED_DIRECTIVES,
+        "first": "%d" if dayfirst else "%m",
+        "second": "%m" if dayfirst else "%d",
+        "y": "%Y" if len(found.get("y") or "") == 4 else "%y",
+        "mon": "%b" if len(found.get("mon") or "") == 3 else "%B",
+        "H": "%I" if found.get("p") else "%H",
+    }
+    fields = sorted(
+        (match.span(name), directives[name])
+        for name, value in found.items()
+        if value is not None and name in directives
+    )
+    text, pieces, done = match.string, [], 0
+    for (start, end), directive in fields:
+        pieces += [text[done:start], directive]
+        done = end
+    return "".join([*pieces, text[done:]])
+
+
+def _to_datetime(texts: pd.Series, fmt: str, aware: bool) -> np.ndarray:
+    """Parse with one explicit format: NaT where text does not fit, UTC wall time when aware."""
+    parsed = pd.to_datetime(texts, format=fmt, errors="coerce", utc=aware)
+    if aware:
+        parsed = parsed.dt.tz_localize(None)
+    return parsed.to_numpy(dtype=_US, copy=True)
+
+
+def _plausible(stamps: pd.DatetimeIndex | np.ndarray) -> np.ndarray:
+    """NaT for dates outside the span a meter stamp can have (guards numbers that are not dates)."""
+    values = np.asarray(stamps, dtype=_US)
+    inside = (values >= _PLAUSIBLE_SPAN[0]) & (values < _PLAUSIBLE_SPAN[1])
+    return np.where(inside, values, _NAT)
+
+
+def _require_some(read: _Read, cells: pd.Series) -> None:
+    """Refuse a column where not one cell could be read."""
+    column = _Column(cells)
+    if len(cells) and not np.isnat(read.values).all():
+        return
+    filled = np.flatnonzero(cells.notna().to_numpy() & cells.astype("str").str.strip().ne(""))
+    if not filled.size:
+        raise InputError(
+            "the column holds no dates or times",
+            hint="Choose the column that holds the date and time of each reading.",
+            column=column.name,
+        )
+    raise InputError(
+        f"no cell could be read as a date or time; the first is {column.describe(filled[0])}",
+        hint=_ACCEPTED_FORMS,
+        row=column.row(filled[0]),
+        column=column.name,
+    )
+
+
+def _refuse_mixed_offsets(read: _Read, column: _Column) -> bool:
+    """Whether the stamps carry UTC offsets; refuse a column where only some do."""
+    read_ok = ~np.isnat(read.values)
+    with_offset = np.flatnonzero(read_ok & read.aware)
+    without = np.flatnonzero(read_ok & ~read.aware)
+    if with_offset.size and without.size:
+        odd = with_offset[0] if with_offset.size < without.size else without[0]
+        raise InputError(
+            f"some stamps carry a UTC offset and some do not: {column.describe(with_offset[0])} "
+            f"has one, {column.describe(without[0])} has none",
+            hint="Export every stamp with its offset, or every stamp in local clock time.",
+            row=column.row(odd),
+            column=column.name,
+        )
+    return bool(with_offset.size)
+
+
+def _describe_forms(read: _Read) -> str:
+    """The forms read, most common first, e.g. 'day-first dd.mm.yyyy hh:mm'."""
+    counted = np.bincount(read.form[~np.isnat(read.values) & (read.form >= 0)])
+    names = [
+        read.form_names[index]
+        for index in np.argsort(-counted, kind="stable")
+        if counted[index] and read.form_names[index]
+    ]
+    return f"{names[0]}; also {', '.join(names[1:])}" if len(names) > 1 else "".join(names)
+
+
+def _order_name(dayfirst: bool) -> str:
+    return "day-first" if dayfirst else "month-first"
+
+
+def _check_zone(timezone: str) -> None:
+    try:
+        ZoneInfo(timezone)
+    except (ZoneInfoNotFoundError, ValueError, TypeError) as error:
+        raise InputError(
+            f"unknown time zone {timezone!r}",
+            hint="Use an IANA zone name such as 'America/Chicago', 'Europe/Berlin' or 'UTC'.",
+        ) from error
+
+
+def _clock_text(span: pd.Timedelta) -> str:
+    minutes = int(span.total_seconds() // 60)
+    return f"{minutes // 60:02d}:{minutes % 60:02d}"
+
+
+def _on_step(steps: np.ndarray, step: pd.Timedelta) -> np.ndarray:
+    """Which steps (ns) are whole multiples of ``step``; daily steps may be off by the DST hour."""
+    if step < pd.Timedelta(days=1):
+        return steps % step.value == 0
+    rest = steps % step.value
+    near = (rest <= _DST_SLACK) | (rest >= step.value - _DST_SLACK)
+    return near & (steps >= step.value - _DST_SLACK)
