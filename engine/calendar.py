@@ -25,6 +25,20 @@ from engine.errors import InputError
 
 #: The kinds a campus period may have.
 PERIOD_KINDS: tuple[str, ...] = ("term", "break", "closure", "summer", "other")
+#: Words calendar files commonly use for the kinds above.
+KIND_SYNONYMS: dict[str, str] = {
+    "semester": "term",
+    "quarter": "term",
+    "session": "term",
+    "teaching": "term",
+    "holiday": "break",
+    "vacation": "break",
+    "recess": "break",
+    "shutdown": "closure",
+    "closed": "closure",
+    "summer session": "summer",
+    "summer term": "summer",
+}
 #: Day types in :func:`label_intervals`; a public holiday wins over the weekday.
 DAY_TYPES: tuple[str, ...] = ("weekday", "saturday", "sunday", "holiday")
 
@@ -554,6 +568,7 @@ def read_calendar_file(
                 **where,
             )
         kind = str(row["kind"]).strip().lower()
+        kind = KIND_SYNONYMS.get(kind, kind)
         if kind not in PERIOD_KINDS:
             raise InputError(
                 f"{str(row['kind']).strip()!r} is not a period kind.",

@@ -14,15 +14,20 @@ from engine.progress import Progress, step
 from engine.project import Project
 from engine.reading import (
     BillFile,
+    CalendarFile,
     MeterFile,
     ReadOptions,
     WeatherFile,
     describe,
     read_bill_file,
+    read_calendar,
     read_meter_file,
     read_weather_file,
 )
 from engine.reading.zones import validate_timezone
+
+#: The project setting holding the campus calendar (``CampusCalendar.to_dict``).
+CALENDAR_SETTING = "calendar"
 
 
 @dataclass
@@ -33,9 +38,11 @@ class ImportedFiles:
     bills: list[BillFile]
     weather: list[WeatherFile]
     options: ReadOptions
+    calendar: CalendarFile | None = None
 
     def reports(self) -> list[dict]:
-        return [describe(r) for r in (*self.meters, *self.bills, *self.weather)]
+        calendar = [self.calendar] if self.calendar else []
+        return [describe(r) for r in (*self.meters, *self.bills, *self.weather, *calendar)]
 
 
 def read_project_files(
@@ -43,6 +50,7 @@ def read_project_files(
     bills: Sequence[str | Path] = (),
     weather: Sequence[str | Path] = (),
     options: ReadOptions | None = None,
+    calendar: str | Path | None = None,
     progress: Progress | None = None,
 ) -> ImportedFiles:
     """Read all files; stop with :class:`InputError` at the first one that cannot be read."""
@@ -65,6 +73,7 @@ def read_project_files(
         bills=[r for r in results if isinstance(r, BillFile)],
         weather=[r for r in results if isinstance(r, WeatherFile)],
         options=options,
+        calendar=read_calendar(calendar, options) if calendar else None,
     )
     _check_unique_names(files)
     return files
@@ -81,36 +90,41 @@ def create_project(
     """Store ``files`` in a new project file at ``path`` in one atomic save."""
     project = Project.create(path, timezone=timezone, overwrite=overwrite)
     try:
-        with project.transaction():
-            total = len(files.meters) + len(files.bills) + len(files.weather)
-            done = 0
-            for meter_file in files.meters:
-                source = _source(project, "meters", meter_file, files.options)
-                for read in meter_file.meters:
-                    project.add_meter(
-                        read.meter,
-                        read.raw,
-                        source_id=source,
-                        settings=_meter_settings(meter_file, read),
-                    )
-                done += 1
-                step(progress, done / total, f"stored {meter_file.path.name}")
-            for bill_file in files.bills:
-                source = _source(project, "bills", bill_file, files.options)
-                project.add_bills(bill_file.account, bill_file.bills, source_id=source)
-                done += 1
-                step(progress, done / total, f"stored {bill_file.path.name}")
-            for weather_file in files.weather:
-                source = _source(project, "weather", weather_file, files.options)
-                project.add_weather(
-                    weather_file.station, weather_file.temps_c, weather_file.raw, source_id=source
-                )
-                done += 1
-                step(progress, done / total, f"stored {weather_file.path.name}")
+        store_files(project, files, progress)
     except BaseException:
         project.close()
         raise
     return project
+
+
+def store_files(project: Project, files: ImportedFiles, progress: Progress | None = None) -> None:
+    """Add every file's readings to ``project`` in one save (all or nothing)."""
+    total = max(len(files.meters) + len(files.bills) + len(files.weather), 1)
+    done = 0
+    with project.transaction():
+        for meter_file in files.meters:
+            source = _source(project, "meters", meter_file, files.options)
+            for read in meter_file.meters:
+                settings = _meter_settings(meter_file, read)
+                project.add_meter(read.meter, read.raw, source_id=source, settings=settings)
+            done += 1
+            step(progress, done / total, f"stored {meter_file.path.name}")
+        for bill_file in files.bills:
+            source = _source(project, "bills", bill_file, files.options)
+            stored = bill_file.bills.drop(columns=["days", "source_row"])
+            project.add_bills(bill_file.account, stored, source_id=source)
+            done += 1
+            step(progress, done / total, f"stored {bill_file.path.name}")
+        for weather_file in files.weather:
+            source = _source(project, "weather", weather_file, files.options)
+            project.add_weather(
+                weather_file.station, weather_file.temps_c, weather_file.raw, source_id=source
+            )
+            done += 1
+            step(progress, done / total, f"stored {weather_file.path.name}")
+        if files.calendar is not None:
+            _source(project, "calendar", files.calendar, files.options)
+            project.set_setting(CALENDAR_SETTING, files.calendar.calendar.to_dict())
 
 
 def _source(project: Project, kind: str, result, options: ReadOptions) -> int:

@@ -293,7 +293,11 @@ class _Form:
 
 @dataclass(frozen=True)
 class _Column:
-    """The column being read, to name its rows in messages."""
+    """The column being read, to name its cells in messages.
+
+    Errors carry the cell's 0-based position as ``InputError`` row (the importer maps it to
+    the file's row); the text names the cell by its index label and shows what it holds.
+    """
 
     cells: pd.Series
 
@@ -301,13 +305,9 @@ class _Column:
     def name(self) -> str | None:
         return None if self.cells.name is None else str(self.cells.name)
 
-    def row(self, position: int) -> int:
-        """The row label at ``position`` (callers index cells by spreadsheet row number)."""
-        label = self.cells.index[position]
-        return int(label) if isinstance(label, int | np.integer) else int(position)
-
     def describe(self, position: int) -> str:
-        return f"row {self.row(position)} ({str(self.cells.iloc[position]).strip()!r})"
+        label, text = self.cells.index[position], str(self.cells.iloc[position]).strip()
+        return f"row {label} ({text!r})"
 
 
 # --- public functions ---------------------------------------------------------------------------
@@ -323,7 +323,8 @@ def parse_stamps(
     cells : pandas.Series
         The date-time column, or the date column when ``second`` is given. Cells may be text,
         spreadsheet date-times (``datetime``, ``date``, ``pandas.Timestamp``) or Excel serial
-        numbers. Index the Series by spreadsheet row number to have rows named in messages.
+        numbers. Messages name cells by their index label (give the file's row numbers);
+        ``InputError.row`` is the cell's 0-based position.
     dayfirst : bool or None
         The user's choice for dates such as ``10/03/2024``. None lets the data decide: a first
         number above 12 settles day-first, a second number above 12 settles month-first.
@@ -517,7 +518,7 @@ def guess_stamp_convention(
             f"runs of readings begin at {after_midnight} or end at 00:00 ({end_ends} times, "
             f"against {start_ends} for 00:00 to {before_midnight}), as interval-end stamps do"
         )
-    if start_ends:
+    if start_ends > end_ends:
         return "start", (
             f"runs of readings begin at 00:00 or end at {before_midnight} ({start_ends} times, "
             f"against {end_ends} the other way), as interval-start stamps do"
@@ -577,12 +578,7 @@ def _read_stamp_text(
     """Read text stamps (rows ``at`` of the column): date part, then time part if any."""
     dates, times = _split_date_time(texts)
     date_part = _read_date_text(dates, at, dayfirst, column)
-    time_part = _Read.unread(len(texts), _NO_SPAN)
-    timed = times != ""
-    time_part.values[~timed] = np.timedelta64(0, "us")
-    if timed.any():
-        time_part.put(np.flatnonzero(timed), _read_time_text(times[timed]))
-    return _combine(date_part, time_part, " ")
+    return _combine(date_part, _read_time_text(times, blank_is_midnight=True), " ")
 
 
 def _split_date_time(texts: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -669,7 +665,7 @@ def _settle_order(
             f"has a first number above 12 (day-first) but {column.describe(month_rows[0])} "
             "has a second number above 12 (month-first)",
             hint="Correct the dates that do not follow the column's order.",
-            row=column.row(later),
+            row=int(later),
             column=column.name,
         )
     if not (day_rows.size or month_rows.size):
@@ -688,21 +684,24 @@ def _settle_order(
             f"dates were set to {_order_name(dayfirst)}, but {column.describe(evidence)} "
             f"can only be {_order_name(found)}",
             hint=hint,
-            row=column.row(evidence),
+            row=int(evidence),
             column=column.name,
         )
     return found
 
 
-def _read_time_text(times: np.ndarray) -> _Read:
+def _read_time_text(times: np.ndarray, *, blank_is_midnight: bool) -> _Read:
     """Read times of day, once per distinct text, as spans since midnight.
 
     ``24:00`` is midnight at the end of the day (ISO 8601 allows it). With a UTC offset the
-    span runs to the UTC instant, so adding it to the naive date gives UTC.
+    span runs to the UTC instant, so adding it to the naive date gives UTC. A blank time is
+    midnight when it is the missing time part of a date-only stamp, else unread.
     """
     codes, distinct = pd.factorize(times)
     texts = pd.Series(distinct, dtype="str").str.strip()
     part = _Read.unread(len(texts), _NO_SPAN)
+    if blank_is_midnight:
+        part.values[texts.eq("").to_numpy()] = np.timedelta64(0, "us")
     for form, which in _group_by_form(texts, _TIME_GRAMMAR).items():
         group = texts.iloc[which]
         clock = _to_datetime(group, form.month_first, form.aware)
@@ -726,7 +725,7 @@ def _read_time_cells(cells: pd.Series) -> _Read:
         texts = cells.to_numpy(dtype=object)[at]
         clock = kinds[at] == _CLOCK
         texts[clock] = [str(time) for time in texts[clock]]  # datetime.time as 14:15:00
-        read.put(at, _read_time_text(texts))
+        read.put(at, _read_time_text(texts, blank_is_midnight=False))
     at = np.flatnonzero(kinds == _SPAN)
     if at.size:
         spans = pd.to_timedelta(cells.iloc[at]).to_numpy(dtype=_SPAN_US)
@@ -888,7 +887,7 @@ def _require_some(read: _Read, cells: pd.Series) -> None:
     raise InputError(
         f"no cell could be read as a date or time; the first is {column.describe(filled[0])}",
         hint=_ACCEPTED_FORMS,
-        row=column.row(filled[0]),
+        row=int(filled[0]),
         column=column.name,
     )
 
@@ -904,7 +903,7 @@ def _refuse_mixed_offsets(read: _Read, column: _Column) -> bool:
             f"some stamps carry a UTC offset and some do not: {column.describe(with_offset[0])} "
             f"has one, {column.describe(without[0])} has none",
             hint="Export every stamp with its offset, or every stamp in local clock time.",
-            row=column.row(odd),
+            row=int(odd),
             column=column.name,
         )
     return bool(with_offset.size)

@@ -11,4 +11,5 @@ data=sample/data
   --meters "$data/gas-boilerhouse-daily.csv" \
   --meters "$data/chilled-water-plant.csv" \
   --bills "$data/electric-bills.csv" \
-  --weather "$data/weather-station.csv" "$@"
+  --weather "$data/weather-station.csv" \
+  --calendar "$data/campus-calendar.csv" --holidays US-IL "$@"

@@ -23,6 +23,7 @@ def reading_options(args: argparse.Namespace) -> ReadOptions:
         utility=args.utility,
         values=args.values,
         temperature_unit=args.temperature_unit,
+        holidays=args.holidays,
     )
 
 
@@ -34,7 +35,7 @@ def inspect(args: argparse.Namespace) -> int:
 
 def new(args: argparse.Namespace) -> int:
     options = reading_options(args)
-    files = read_project_files(args.meters, args.bills, args.weather, options)
+    files = read_project_files(args.meters, args.bills, args.weather, options, args.calendar)
     project = create_project(
         args.project, files, timezone=options.timezone, overwrite=args.overwrite
     )

@@ -31,7 +31,9 @@ def build_parser() -> argparse.ArgumentParser:
     inspect = sub.add_parser("inspect", help="show what the importer understands in a file")
     inspect.add_argument("file", help="meter export, bill file or weather file")
     inspect.add_argument(
-        "--kind", choices=("meters", "bills", "weather"), help="what the file is (default: detect)"
+        "--kind",
+        choices=("meters", "bills", "weather", "calendar"),
+        help="what the file is (default: detect)",
     )
     _reading_options(inspect)
     _json_option(inspect)
@@ -45,6 +47,8 @@ def build_parser() -> argparse.ArgumentParser:
                      help="a utility bill file (repeatable)")  # fmt: skip
     new.add_argument("--weather", action="append", default=[], metavar="FILE",
                      help="a weather-station file (repeatable)")  # fmt: skip
+    new.add_argument("--calendar", metavar="FILE",
+                     help="the campus calendar: named periods with first and last day")  # fmt: skip
     new.add_argument("--overwrite", action="store_true", help="replace an existing project file")
     _reading_options(new)
     _json_option(new)
@@ -90,6 +94,11 @@ def _reading_options(parser: argparse.ArgumentParser) -> None:
         "--temperature-unit",
         choices=("F", "C"),
         help="unit of a temperature column whose header names none",
+    )
+    group.add_argument(
+        "--holidays",
+        metavar="CC[-SUB]",
+        help="public holidays of a country and optional subdivision, e.g. US-IL",
     )
 
 

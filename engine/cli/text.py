@@ -17,6 +17,16 @@ def file_report(report: dict) -> str:
         lines += _findings(report["findings"], "  ")
         for meter in report["meters"]:
             lines += _meter(meter)
+    elif report["kind"] == "calendar":
+        where = report["country"] or "no country"
+        if report["subdivision"]:
+            where += f"-{report['subdivision']}"
+        lines.append(f"  {len(report['periods'])} campus periods; public holidays: {where} "
+                     f"({len(report['public_holidays'])} in the covered years)")  # fmt: skip
+        lines += [
+            f"    {p['first_day']} .. {p['last_day']}  {p['kind']:<8} {p['name']}"
+            for p in report["periods"]
+        ]
     elif report["kind"] == "bills":
         lines += [
             f"  account: {report['account']}   unit: {report['unit_found']} -> kWh",
@@ -78,7 +88,7 @@ def project_report(summary: dict) -> str:
         )
     for key in ("bills", "weather"):
         for item in summary.get(key, []):
-            lines.append(f"  {key}: " + ", ".join(f"{k}={v}" for k, v in item.items()))
+            lines.append(f"  {key}: " + ", ".join(f"{k}={_num(v)}" for k, v in item.items()))
     return "\n".join(lines) + "\n"
 
 

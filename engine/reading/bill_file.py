@@ -78,7 +78,16 @@ def _read(path: Path, options: ReadOptions, chosen: ChosenTable) -> BillFile:
     both = pd.concat([data[start.position], data[end.position]]).rename(
         f"{start.header}' and '{end.header}"
     )
-    parsed = timestamps.parse_stamps(both, dayfirst=options.dayfirst)
+    try:
+        parsed = timestamps.parse_stamps(both, dayfirst=options.dayfirst)
+    except InputError as error:
+        position = error.place.row
+        n = len(data)
+        row = None if position is None else int(data.index[position % n])
+        column = (start if position is None or position < n else end).header
+        raise InputError(
+            error.problem, hint=error.hint, sheet=table.sheet, row=row, column=column
+        ) from error
     stamps = pd.DatetimeIndex(parsed.values)
     n = len(data)
     good = np.ones(2 * n, dtype=bool)

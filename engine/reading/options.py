@@ -23,6 +23,7 @@ class ReadOptions:
     utility: str | None = None
     values: str | None = None
     temperature_unit: str | None = None
+    holidays: str | None = None  # country code, optionally "-" subdivision, e.g. "US-IL"
 
     def __post_init__(self) -> None:
         if self.stamps not in (None, *STAMP_CONVENTIONS):

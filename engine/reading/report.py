@@ -13,13 +13,34 @@ from engine.reading.checks import coverage_count
 def describe(result) -> dict:
     """A JSON-ready description of a read file (meters, bills or weather)."""
     from engine.reading.bill_file import BillFile
+    from engine.reading.calendar_file import CalendarFile
     from engine.reading.meter_file import MeterFile
 
     if isinstance(result, MeterFile):
         return _meters(result)
     if isinstance(result, BillFile):
         return _bills(result)
+    if isinstance(result, CalendarFile):
+        return _calendar(result)
     return _weather(result)
+
+
+def _calendar(result) -> dict:
+    calendar = result.calendar
+    periods = [p.to_dict() for p in calendar.periods]
+    years = sorted({d.year for p in calendar.periods for d in (p.first_day, p.last_day)})
+    holidays = calendar.public_holidays(years) if calendar.country and years else {}
+    return {
+        "file": str(result.path),
+        "kind": "calendar",
+        "country": calendar.country,
+        "subdivision": calendar.subdivision,
+        "periods": periods,
+        "public_holidays": [
+            {"date": day.isoformat(), "name": name} for day, name in sorted(holidays.items())
+        ],
+        "findings": [],
+    }
 
 
 def _meters(result) -> dict:

@@ -13,9 +13,11 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
+from engine import units
 from engine.reading.grid import Grid
 
 SCAN_ROWS = 60
+BLANK_HEADER = "column "  # name given to a column whose header cell is empty
 NUMBER_RE = re.compile(r"^[-+]?(\d{1,3}([ ,.\u00a0']\d{3})+|\d+)([.,]\d+)?([eE][-+]?\d+)?$")
 DATE_RE = re.compile(
     r"^\s*(\d{4}[-/.]\d{1,2}[-/.]\d{1,2}|\d{1,2}[-/.]\d{1,2}[-/.]\d{2,4})"
@@ -83,8 +85,11 @@ def locate_table(grid: Grid) -> Table | None:
     data = data[data.notna().any(axis=1)]
     data.index = data.index + 1
     data.columns = range(width)
+    names_above = _names_above_unit_row(cells, kinds, header_pos)
     headers = _header_texts(cells.iloc[header_pos, :width] if header_pos is not None else None,
                             width)  # fmt: skip
+    if names_above is not None:
+        headers = _join_names_and_units(_header_texts(names_above[:width], width), headers)
     return Table(
         sheet=grid.sheet,
         headers=headers,
@@ -116,11 +121,39 @@ def _header_above(kinds: pd.DataFrame, first: int) -> int | None:
     return None
 
 
+def _names_above_unit_row(
+    cells: pd.DataFrame, kinds: pd.DataFrame, header_pos: int | None
+) -> pd.Series | None:
+    """The names row when the header row holds only units (a two-row header), else None."""
+    if header_pos is None or header_pos == 0:
+        return None
+    texts = [str(v) for v in cells.iloc[header_pos].tolist() if cell_kind(v) == "text"]
+    if len(texts) < 1 or not all(units.find_unit(t) for t in texts):
+        return None
+    above = kinds.iloc[header_pos - 1]
+    if (above == "text").sum() < len(texts):
+        return None
+    return cells.iloc[header_pos - 1]
+
+
+def _join_names_and_units(names: list[str], unit_row: list[str]) -> list[str]:
+    """'Library' over 'kWh' becomes 'Library (kWh)'; columns with no unit keep their name."""
+    joined = []
+    for name, unit in zip(names, unit_row, strict=True):
+        if units.find_unit(unit) is None:
+            joined.append(name)
+        elif name.startswith(BLANK_HEADER):
+            joined.append(unit)
+        else:
+            joined.append(f"{name} ({unit})")
+    return joined
+
+
 def _header_texts(row: pd.Series | None, width: int) -> list[str]:
     if row is None:
-        return [f"column {i + 1}" for i in range(width)]
+        return [f"{BLANK_HEADER}{i + 1}" for i in range(width)]
     texts = []
     for i, value in enumerate(row.tolist()):
         text = "" if value is None or (isinstance(value, float) and np.isnan(value)) else str(value)
-        texts.append(" ".join(text.split()) or f"column {i + 1}")
+        texts.append(" ".join(text.split()) or f"{BLANK_HEADER}{i + 1}")
     return texts

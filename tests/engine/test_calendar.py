@@ -281,7 +281,7 @@ def test_reads_xlsx_with_real_date_cells(tmp_path: Path) -> None:
     [
         ("Autumn,2031-09-01,2031-13-40,term", "not a date", 3, "Last Day"),
         ("Autumn,2031-09-01,2031-08-01,term", "before the first day", 3, "Last Day"),
-        ("Autumn,2031-09-01,2031-12-01,semester", "term, break, closure, summer, other", 3, "Kind"),
+        ("Autumn,2031-09-01,2031-12-01,festival", "term, break, closure, summer, other", 3, "Kind"),
         (",2031-09-01,2031-12-01,term", "no name", 3, "Period"),
     ],
 )

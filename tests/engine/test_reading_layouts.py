@@ -167,3 +167,12 @@ def test_workbook_with_several_sheets_picks_the_readings_and_names_the_others(tm
     assert any(f.kind == "other_sheets" and "Building 2" in f.message for f in result.findings)
     chosen = read_file(path, ReadOptions(timezone="UTC", sheet="Building 2"))
     assert chosen.meters[0].meter.values.sum() == pytest.approx(40.0)
+
+
+def test_two_row_header_of_names_over_units(tmp_path):
+    path = tmp_path / "trend.csv"
+    rows = [f"2024-01-01 {h:02d}:00,{h},{2 * h}" for h in range(24)]
+    path.write_text("Trend log\nTime,Boiler gas,Chiller\n,therm,ton-hours\n" + "\n".join(rows))
+    result = read_meter_file(path, ReadOptions(timezone="UTC"))
+    units_found = {m.meter.name: m.unit.name for m in result.meters}
+    assert units_found == {"Boiler gas": "therm", "Chiller": "ton-hour"}

@@ -1,0 +1,99 @@
+"""Spikes and dips: readings far from what is typical for their local hour of the week."""
+
+from __future__ import annotations
+
+import numpy as np
+
+from engine.cleaning.findings import Finding
+from engine.cleaning.grid import runs
+from engine.cleaning.prepared import PreparedMeter
+from engine.cleaning.wording import energy_text, local_text
+
+
+def find_spikes_and_dips(meter: PreparedMeter, claimed: np.ndarray) -> list[Finding]:
+    """Runs of readings at least ``spike_z`` robust deviations above (spike) or below (dip) typical.
+
+    The robust z of a reading is its distance from the median of its local hour of the week over
+    ``pattern_weeks`` nearby weeks, in units of 1.4826·MAD. A spike is serious when it also
+    exceeds ``implausible_factor`` times the meter's 99.5th-percentile reading.
+    """
+    settings = meter.settings
+    with np.errstate(invalid="ignore"):
+        z = (meter.values - meter.typical) / meter.spread
+        up = (z >= settings.spike_z) & ~claimed
+        down = (z <= -settings.spike_z) & (meter.values >= 0) & ~claimed
+    claimed[up | down] = True
+    found = [_spike(meter, first, stop, z) for first, stop in zip(*runs(up), strict=True)]
+    found += [_dip(meter, first, stop, z) for first, stop in zip(*runs(down), strict=True)]
+    return found
+
+
+def _spike(meter: PreparedMeter, first: int, stop: int, z: np.ndarray) -> Finding:
+    settings = meter.settings
+    peak_at = first + int(np.argmax(meter.values[first:stop]))
+    peak = meter.values[peak_at]
+    limit = float(np.max(meter.typical[first:stop] + settings.spike_z * meter.spread[first:stop]))
+    implausible = peak >= settings.implausible_factor * meter.high
+    beyond = (
+        f" It is also more than {settings.implausible_factor:g} times the meter's "
+        f"99.5th-percentile reading ({energy_text(meter.high)}), beyond what it plausibly uses."
+        if implausible
+        else ""
+    )
+    advice = "Recommended: cap at" if implausible else "If this was not real use, cap at"
+    explanation = (
+        f"{_readings(meter, first, stop, 'up to')} where about "
+        f"{energy_text(meter.typical[peak_at])} is typical for that hour of the week: "
+        f"{z[peak_at]:.0f} robust deviations above typical (threshold {settings.spike_z:g}, "
+        f"over {settings.pattern_weeks} nearby weeks).{beyond} {advice} "
+        f"{energy_text(limit)}, the highest value the meter's typical week makes plausible."
+    )
+    fix = meter.step("cap", first, stop, "cap a spike", high=limit)
+    return meter.finding(
+        "spike",
+        first,
+        stop,
+        "serious" if implausible else "warning",
+        explanation,
+        fix,
+        z=z[peak_at],
+        threshold_z=settings.spike_z,
+        limit_kwh=limit,
+        high_kwh=meter.high,
+    )
+
+
+def _dip(meter: PreparedMeter, first: int, stop: int, z: np.ndarray) -> Finding:
+    settings = meter.settings
+    low_at = first + int(np.argmin(meter.values[first:stop]))
+    limit = float(np.min(meter.typical[first:stop] - settings.spike_z * meter.spread[first:stop]))
+    limit = max(limit, 0.0)
+    explanation = (
+        f"{_readings(meter, first, stop, 'down to')} where about "
+        f"{energy_text(meter.typical[low_at])} is typical for that hour of the week: "
+        f"{-z[low_at]:.0f} robust deviations below typical (threshold {settings.spike_z:g}, "
+        f"over {settings.pattern_weeks} nearby weeks). A partial outage, a lost phase or a "
+        f"logger fault. If confirmed, raise the readings to {energy_text(limit)}, the lowest "
+        "value the meter's typical week makes plausible."
+    )
+    fix = meter.step("cap", first, stop, "raise a dip", low=limit)
+    return meter.finding(
+        "dip",
+        first,
+        stop,
+        "warning",
+        explanation,
+        fix,
+        z=z[low_at],
+        threshold_z=settings.spike_z,
+        limit_kwh=limit,
+    )
+
+
+def _readings(meter: PreparedMeter, first: int, stop: int, bound: str) -> str:
+    if stop - first == 1:
+        stamp = local_text(meter.index[first], meter.timezone)
+        return f"A reading of {energy_text(meter.values[first])} at {stamp} site time"
+    extreme = np.max if bound == "up to" else np.min
+    reach = energy_text(extreme(meter.values[first:stop]))
+    return f"Readings {bound} {reach} {meter.when(first, stop)}"

@@ -1,0 +1,90 @@
+"""The contract every energy model follows, so backtests, budgets and the wizard treat all alike.
+
+A model is fitted on :class:`ModelInputs` (energy history plus its drivers) and predicts energy
+for the index of other :class:`ModelInputs` whose ``energy`` may be ``None``. Constructors only
+store settings; ``fit`` learns, sets attributes ending in ``_`` and returns ``self``; ``predict``
+on an unfitted model raises ``sklearn.exceptions.NotFittedError``. Models save to plain JSON
+with ``to_dict``/``from_dict`` (never pickle) and predict identically after a round trip.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, replace
+from typing import Any, ClassVar, Protocol, Self, runtime_checkable
+
+import pandas as pd
+
+
+@dataclass(frozen=True)
+class ModelInputs:
+    """Energy and drivers on one regular UTC index of interval starts.
+
+    Attributes
+    ----------
+    index : pandas.DatetimeIndex
+        Regular, tz-aware UTC interval starts (hourly or daily; billing-period models use
+        daily inputs and aggregate themselves).
+    timezone : str
+        The site's IANA zone; calendar effects are on local clock time.
+    energy : pandas.Series or None
+        kWh per interval on ``index`` (NaN where unknown or excluded); None when predicting.
+    temperature : pandas.Series or None
+        Outdoor dry-bulb °C on ``index`` (the interval mean); None when the project has no
+        weather, in which case weather-driven models fall back to calendar-only forms.
+    labels : pandas.DataFrame or None
+        ``engine.calendar.label_intervals`` on ``index``: local, hour_of_week, day_type,
+        period, period_kind, occupied. None means "derive from the local clock only".
+    """
+
+    index: pd.DatetimeIndex
+    timezone: str
+    energy: pd.Series | None = None
+    temperature: pd.Series | None = None
+    labels: pd.DataFrame | None = None
+
+    @property
+    def interval(self) -> pd.Timedelta:
+        return pd.Timedelta(self.index.freq) if self.index.freq else self.index[1] - self.index[0]
+
+    def window(self, start: pd.Timestamp | None = None, end: pd.Timestamp | None = None) -> Self:
+        """The same inputs restricted to ``start <= t < end`` (UTC)."""
+        mask = pd.Series(True, index=self.index)
+        if start is not None:
+            mask &= self.index >= start
+        if end is not None:
+            mask &= self.index < end
+        keep = mask.to_numpy()
+        return replace(
+            self,
+            index=self.index[keep],
+            energy=None if self.energy is None else self.energy[keep],
+            temperature=None if self.temperature is None else self.temperature[keep],
+            labels=None if self.labels is None else self.labels[keep],
+        )
+
+    def without_energy(self) -> Self:
+        return replace(self, energy=None)
+
+
+@runtime_checkable
+class EnergyModel(Protocol):
+    """What every model family provides."""
+
+    #: Short stable identifier stored in project files, e.g. "calendar_regression".
+    family: ClassVar[str]
+    #: Plain-language name for screens and the scorecard.
+    label: ClassVar[str]
+    #: False for benchmarks and the flexible challenger: shown as "less explainable".
+    explainable: ClassVar[bool]
+
+    #: After fit: the number of fitted parameters p, for ASHRAE Guideline 14's n − p.
+    n_parameters_: int
+
+    def fit(self, inputs: ModelInputs) -> Self: ...
+
+    def predict(self, inputs: ModelInputs) -> pd.Series: ...
+
+    def to_dict(self) -> dict[str, Any]: ...
+
+    @classmethod
+    def from_dict(cls, data: dict[str, Any]) -> Self: ...
