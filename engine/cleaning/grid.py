@@ -45,8 +45,13 @@ def infer_interval(index: pd.DatetimeIndex) -> pd.Timedelta:
     return pd.Timedelta(int(values[np.argmax(counts)]), unit="ns")
 
 
-def to_grid(values: pd.Series, interval: pd.Timedelta, meter: str) -> pd.Series:
+def to_grid(
+    values: pd.Series, interval: pd.Timedelta, meter: str, timezone: str | None = None
+) -> pd.Series:
     """Readings placed on every interval start from the first to the last; missing ones NaN.
+
+    Daily (and longer) intervals are local calendar days when ``timezone`` is given: their
+    starts are local midnights, 23 or 25 hours apart in UTC across clock changes.
 
     Raises
     ------
@@ -55,7 +60,14 @@ def to_grid(values: pd.Series, interval: pd.Timedelta, meter: str) -> pd.Series:
     """
     check_canonical(values, meter)
     index = values.index
-    off_grid = (index - index[0]) % interval != pd.Timedelta(0)
+    if timezone is not None and interval >= pd.Timedelta(days=1):
+        local = index.tz_convert(timezone)
+        days = pd.DateOffset(days=interval.days)
+        grid = pd.date_range(local[0], local[-1], freq=days).tz_convert("UTC")
+        off_grid = ~index.isin(grid)
+    else:
+        grid = pd.date_range(index[0], index[-1], freq=interval, unit=index.unit)
+        off_grid = (index - index[0]) % interval != pd.Timedelta(0)
     if off_grid.any():
         stamps = index[off_grid]
         raise InputError(
@@ -64,8 +76,7 @@ def to_grid(values: pd.Series, interval: pd.Timedelta, meter: str) -> pd.Series:
             f"the first at {stamps[0].isoformat()}.",
             hint="Check the interval chosen at import, or resample the meter to one interval.",
         )
-    grid = pd.date_range(index[0], index[-1], freq=interval, unit=index.unit)
-    return values.astype("float64").reindex(grid)
+    return values.astype("float64").reindex(grid.as_unit(index.unit))
 
 
 def runs(flags: np.ndarray) -> tuple[np.ndarray, np.ndarray]:

@@ -51,7 +51,7 @@ class PreparedMeter:
         timezone: str,
         settings: CleaningSettings,
     ) -> PreparedMeter:
-        grid = to_grid(readings, interval, name)
+        grid = to_grid(readings, interval, name, timezone)
         present = np.flatnonzero(np.isfinite(grid.to_numpy()))
         if present.size == 0:
             raise InputError(

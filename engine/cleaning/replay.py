@@ -21,6 +21,7 @@ def apply_steps(
     steps: Sequence[CleaningStep],
     *,
     interval: pd.Timedelta | None = None,
+    timezone: str | None = None,
 ) -> CleanedSeries:
     """Replay ``steps`` in order on a meter's raw readings.
 
@@ -33,6 +34,8 @@ def apply_steps(
         The active steps for this meter, oldest first.
     interval : pd.Timedelta, optional
         The meter's interval; inferred from the readings when not given.
+    timezone : str, optional
+        The site's zone; needed for daily meters, whose intervals are local calendar days.
 
     Returns
     -------
@@ -48,7 +51,7 @@ def apply_steps(
     """
     meter = str(raw.name) if raw.name is not None else "meter"
     step_interval = interval if interval is not None else infer_interval(raw.index)
-    state = CleanedSeries.start(to_grid(raw, step_interval, meter), step_interval)
+    state = CleanedSeries.start(to_grid(raw, step_interval, meter, timezone), step_interval)
     for number, step in enumerate(steps, start=1):
         try:
             state = FIXES[step.kind](state, step.params)

@@ -6,7 +6,9 @@ import argparse
 import json
 import sys
 
+from engine.cleaning import apply_recommended, review_meter
 from engine.cli import text
+from engine.errors import InputError
 from engine.importing import create_project, read_project_files
 from engine.project import Project
 from engine.reading import ReadOptions, describe, read_file
@@ -44,6 +46,46 @@ def new(args: argparse.Namespace) -> int:
                   "summary": project.summary()}  # fmt: skip
     _emit(args, report, text.new_report)
     return 0
+
+
+def clean(args: argparse.Namespace) -> int:
+    with Project.open(args.project) as project:
+        names = _meters(project, args.meter)
+        if args.undo is not None:
+            project.set_step_active(args.undo, False)
+        meters = []
+        for name in names:
+            review = review_meter(project, name)
+            applied = apply_recommended(project, review) if args.apply_recommended else []
+            if applied:
+                review = review_meter(project, name)
+            meters.append(
+                {
+                    "name": name,
+                    "utility": review.meter.utility,
+                    "timezone": review.meter.timezone,
+                    "findings": [f.to_dict() for f in review.findings],
+                    "applied": [s for s in review.steps if s["id"] in applied],
+                    "steps": review.steps,
+                    "quality": review.quality(),
+                }
+            )
+        report = {"project": str(project.path), "meters": meters}
+    _emit(args, report, text.clean_report)
+    return 0
+
+
+def _meters(project: Project, only: str | None) -> list[str]:
+    names = project.meter_names()
+    if only is None:
+        return names
+    if only not in names:
+        raise InputError(
+            f"the project has no meter '{only}'.",
+            hint=f"Its meters are: {', '.join(names)}.",
+            file=project.path,
+        )
+    return [only]
 
 
 def info(args: argparse.Namespace) -> int:

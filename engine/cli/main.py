@@ -54,6 +54,20 @@ def build_parser() -> argparse.ArgumentParser:
     _json_option(new)
     new.set_defaults(run=commands.new)
 
+    clean = sub.add_parser("clean", help="find data problems and apply or undo fixes")
+    clean.add_argument("project")
+    clean.add_argument("--meter", metavar="NAME", help="only this meter (default: every meter)")
+    clean.add_argument(
+        "--apply-recommended",
+        action="store_true",
+        help="log the recommended fixes (gaps, catch-up spikes, serious spikes)",
+    )
+    clean.add_argument(
+        "--undo", type=int, metavar="STEP", help="undo one logged step by its id (kept in the log)"
+    )
+    _json_option(clean)
+    clean.set_defaults(run=commands.clean)
+
     info = sub.add_parser("info", help="summarise a project file")
     info.add_argument("project")
     _json_option(info)

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import pandas as pd
+
 
 def file_report(report: dict) -> str:
     """What ``inspect`` prints for one file."""
@@ -92,9 +94,38 @@ def project_report(summary: dict) -> str:
     return "\n".join(lines) + "\n"
 
 
+def _local(iso_utc: str, timezone: str) -> str:
+    return f"{pd.Timestamp(iso_utc).tz_convert(timezone):%Y-%m-%d %H:%M}"
+
+
 def _num(value) -> str:
     if value is None:
         return "-"
     if isinstance(value, int | float) and abs(value) >= 1000:
         return f"{value:,.0f}"
     return f"{value:g}" if isinstance(value, float) else str(value)
+
+
+def clean_report(report: dict) -> str:
+    """What ``clean`` prints: findings, applied steps and data quality per meter."""
+    lines = [f"project {report['project']}"]
+    for meter in report["meters"]:
+        quality = meter["quality"]
+        lines.append(
+            f"  meter '{meter['name']}': {len(meter['findings'])} finding(s); coverage "
+            f"{quality['coverage_before']:.2%} -> {quality['coverage_after']:.2%}, estimated "
+            f"{quality['estimated_share']:.2%} ({_num(quality['estimated_kwh'])} kWh)"
+        )
+        for finding in meter["findings"]:
+            start = _local(finding["start"], meter["timezone"])
+            lines.append(
+                f"    [{finding['severity']}] {finding['kind']} from {start}: "
+                f"{finding['explanation']}"
+            )
+        if meter["applied"]:
+            lines.append(
+                f"    applied {len(meter['applied'])} step(s): energy added "
+                f"{_num(quality['energy_added_kwh'])} kWh, removed "
+                f"{_num(quality['energy_removed_kwh'])} kWh"
+            )
+    return "\n".join(lines) + "\n"

@@ -1,0 +1,67 @@
+"""Cleaning a meter of a project: replay its logged steps, review what is left, apply fixes.
+
+The project file keeps the raw readings and the log of steps; the cleaned series is always
+``apply_steps(raw, active steps)``, so reopening a project reproduces it exactly.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, replace
+
+from engine.cleaning.cleaned import CleanedSeries
+from engine.cleaning.clock import find_clock_problems
+from engine.cleaning.find import find_all
+from engine.cleaning.findings import Finding
+from engine.cleaning.quality import quality_summary, recommended_steps
+from engine.cleaning.replay import apply_steps
+from engine.cleaning.settings import CleaningSettings
+from engine.cleaning.steps import CleaningStep
+from engine.meters import MeterSeries
+from engine.progress import Progress
+from engine.project import Project
+
+
+@dataclass
+class MeterReview:
+    """A meter's cleaned series as logged so far, and what the detectors still find in it."""
+
+    meter: MeterSeries
+    cleaned: CleanedSeries
+    findings: list[Finding]
+    steps: list[dict]  # the active logged steps, with their ids
+
+    def quality(self) -> dict:
+        return quality_summary(self.meter.values, self.cleaned)
+
+
+def cleaned_meter(project: Project, name: str) -> tuple[MeterSeries, CleanedSeries]:
+    """The raw meter and its cleaned series replayed from the project's active steps."""
+    meter = project.load_meter(name)
+    steps = [CleaningStep.from_dict(s) for s in project.cleaning_steps(name)]
+    cleaned = apply_steps(meter.values, steps, interval=meter.interval, timezone=meter.timezone)
+    return meter, cleaned
+
+
+def review_meter(
+    project: Project,
+    name: str,
+    settings: CleaningSettings | None = None,
+    progress: Progress | None = None,
+) -> MeterReview:
+    """Replay the log, then run every detector on the result (what is still to be done)."""
+    meter, cleaned = cleaned_meter(project, name)
+    current = replace(meter, values=cleaned.values.dropna())
+    findings = find_all(current, settings, progress)
+    raw = project.load_raw(name)
+    if project.meter_settings(name).get("value_kind", "interval") == "interval":
+        findings = find_clock_problems(raw[["t", "raw_value"]], meter.timezone, name) + findings
+    return MeterReview(meter, cleaned, findings, project.cleaning_steps(name))
+
+
+def apply_recommended(project: Project, review: MeterReview) -> list[int]:
+    """Log the recommended fixes of ``review`` in one save; return the new step ids."""
+    with project.transaction():
+        return [
+            project.add_cleaning_step(step.to_dict())
+            for step in recommended_steps(review.findings)
+        ]
