@@ -5,11 +5,14 @@ from __future__ import annotations
 import argparse
 import json
 import sys
+from pathlib import Path
 
 from engine.cleaning import apply_recommended, review_meter
 from engine.cli import text
 from engine.errors import InputError
+from engine.export.profile_workbook import write_profile_workbook
 from engine.importing import create_project, read_project_files
+from engine.profile_run import profile_project_meter
 from engine.project import Project
 from engine.reading import ReadOptions, describe, read_file
 
@@ -72,6 +75,23 @@ def clean(args: argparse.Namespace) -> int:
             )
         report = {"project": str(project.path), "meters": meters}
     _emit(args, report, text.clean_report)
+    return 0
+
+
+def profile(args: argparse.Namespace) -> int:
+    with Project.open(args.project) as project:
+        profiles = [profile_project_meter(project, name)
+                    for name in _meters(project, args.meter)]  # fmt: skip
+    report = {
+        "project": str(Path(args.project).resolve()),
+        "meters": [
+            {"name": p.meter.name, "utility": p.meter.utility, "figures": p.key_figures()}
+            for p in profiles
+        ],
+    }
+    if args.xlsx:
+        report["workbook"] = str(write_profile_workbook(args.xlsx, profiles).resolve())
+    _emit(args, report, text.profile_report)
     return 0
 
 

@@ -68,6 +68,13 @@ def build_parser() -> argparse.ArgumentParser:
     _json_option(clean)
     clean.set_defaults(run=commands.clean)
 
+    profile = sub.add_parser("profile", help="key figures and profile tables of the meters")
+    profile.add_argument("project")
+    profile.add_argument("--meter", metavar="NAME", help="only this meter (default: every meter)")
+    profile.add_argument("--xlsx", metavar="OUT", help="write the profile tables to a workbook")
+    _json_option(profile)
+    profile.set_defaults(run=commands.profile)
+
     info = sub.add_parser("info", help="summarise a project file")
     info.add_argument("project")
     _json_option(info)

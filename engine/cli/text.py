@@ -103,7 +103,7 @@ def _num(value) -> str:
         return "-"
     if isinstance(value, int | float) and abs(value) >= 1000:
         return f"{value:,.0f}"
-    return f"{value:g}" if isinstance(value, float) else str(value)
+    return f"{value:.4g}" if isinstance(value, float) else str(value)
 
 
 def clean_report(report: dict) -> str:
@@ -128,4 +128,20 @@ def clean_report(report: dict) -> str:
                 f"{_num(quality['energy_added_kwh'])} kWh, removed "
                 f"{_num(quality['energy_removed_kwh'])} kWh"
             )
+    return "\n".join(lines) + "\n"
+
+
+def profile_report(report: dict) -> str:
+    """What ``profile`` prints: each meter's key figures and weather response."""
+    lines = [f"project {report['project']}"]
+    for meter in report["meters"]:
+        lines.append(f"  meter '{meter['name']}' ({meter['utility']})")
+        for name, entry in meter["figures"].items():
+            if name == "weather response":
+                parts = [f"{k} {_num(v)}" for k, v in entry.items() if v is not None]
+                lines.append(f"    weather response: {'; '.join(parts)}")
+            else:
+                lines.append(f"    {name}: {_num(entry['value'])} {entry['unit']}")
+    if "workbook" in report:
+        lines.append(f"wrote {report['workbook']}")
     return "\n".join(lines) + "\n"

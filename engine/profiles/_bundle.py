@@ -13,6 +13,9 @@ from engine.profiles._totals import load_duration, monthly_totals_by_year
 from engine.profiles._weather import TemperatureResponse, energy_vs_temperature
 from engine.progress import Progress, step
 
+#: Readings coarser than this (daily register reads, say) have no shape within the day.
+INTRADAY = pd.Timedelta(hours=1)
+
 #: Groupings computed by :func:`profile_meter`.
 BUNDLED_GROUPINGS: tuple[str, ...] = ("day_type", "period", "season")
 
@@ -42,6 +45,8 @@ def profile_meter(
     Typical days are hourly, grouped by day type, campus period and season; the heat map is
     in kWh. See the individual functions for the settings.
     """
+    if meter.interval > INTRADAY:
+        return _coarse_profiles(meter, temperatures, labels, progress)
     typical_days = {}
     for done, grouping in enumerate(BUNDLED_GROUPINGS):
         step(progress, 0.5 * done / len(BUNDLED_GROUPINGS), f"typical days by {grouping}")
@@ -60,3 +65,34 @@ def profile_meter(
         response = energy_vs_temperature(meter, temperatures, labels)
     step(progress, 1.0, "profiles ready")
     return MeterProfiles(typical_days, matrix, monthly, duration, figures, response)
+
+
+def _coarse_profiles(
+    meter: MeterSeries,
+    temperatures: pd.Series | None,
+    labels: pd.DataFrame | None,
+    progress: Progress | None,
+) -> MeterProfiles:
+    """Daily or coarser readings: monthly totals, duration and weather response only."""
+    step(progress, 0.3, "monthly totals")
+    monthly = monthly_totals_by_year(meter)
+    step(progress, 0.6, "load-duration curve")
+    duration = load_duration(meter)
+    response = None
+    if temperatures is not None:
+        step(progress, 0.8, "energy against temperature")
+        response = energy_vs_temperature(meter, temperatures, labels)
+    step(progress, 1.0, "profiles ready")
+    figures = pd.DataFrame(
+        {
+            "value": [float(meter.values.sum()), float(meter.values.mean())],
+            "unit": ["kWh", f"kWh per {_interval_text(meter.interval)}"],
+            "how": ["sum of the readings present", "mean of the readings present"],
+        },
+        index=pd.Index(["total energy", "mean energy per interval"], name="figure"),
+    )
+    return MeterProfiles({}, pd.DataFrame(), monthly, duration, figures, response)
+
+
+def _interval_text(interval: pd.Timedelta) -> str:
+    return "day" if interval == pd.Timedelta(days=1) else str(interval)

@@ -74,7 +74,11 @@ def _checked_values(meter: MeterSeries) -> pd.Series:
             f"meter '{meter.name}' has no readings to profile.",
             hint="Import readings for this meter first.",
         )
-    offset = (values.index - values.index[0]) % meter.interval
+    index = values.index
+    if meter.interval >= pd.Timedelta(days=1):
+        # daily readings start at local midnight: 23 or 25 h apart in UTC across clock changes
+        index = index.tz_convert(meter.timezone).tz_localize(None)
+    offset = (index - index[0]) % meter.interval
     off_grid = offset != pd.Timedelta(0)
     if off_grid.any():
         stamp = values.index[off_grid][0].tz_convert(meter.timezone)

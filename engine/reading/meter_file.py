@@ -191,7 +191,7 @@ def _read_one(
     findings += checks.irregular(detected, name)
     kind, kind_reason = _value_kind(ordered["raw_value"], unit_text, unit, options)
     if kind == "register":
-        usage, events, convention, reason = _register_usage(ordered, index)
+        usage, events, convention, reason = _register_usage(ordered, index, site, options)
         findings += checks.register_events(events, name)
     else:
         usage = pd.Series(ordered["raw_value"].to_numpy(), index=index)
@@ -299,14 +299,26 @@ def _value_kind(
 
 
 def _register_usage(
-    ordered: pd.DataFrame, index: pd.DatetimeIndex
+    ordered: pd.DataFrame, index: pd.DatetimeIndex, site: SiteTime, options: ReadOptions
 ) -> tuple[pd.Series, list, str, str]:
+    """Usage between consecutive reads, placed in the interval from one read to the next.
+
+    Reads dated without a time of day are taken at the END of their day (the register as the
+    day closes, so read[D] − read[D−1] is day D's use) unless ``--stamps start`` says they were
+    taken as the day began. Reads with a time of day are taken at that time.
+    """
     reads = pd.Series(ordered["raw_value"].to_numpy(), index=index)
     result = registers.registers_to_usage(reads)
-    usage = result.usage
-    starts = index[:-1]
-    usage = pd.Series(usage.to_numpy()[-len(starts):], index=starts)  # fmt: skip
+    local = index.tz_convert(site.timezone)
+    date_only = bool((local == local.normalize()).all())
     reason = "each difference between two reads is placed in the interval between them"
+    if date_only and options.stamps != "start":
+        index = (local + pd.DateOffset(days=1)).tz_convert("UTC")
+        reason += "; reads dated without a time are taken at the end of their day (set " \
+            "--stamps start if they were taken as the day began)"  # fmt: skip
+    elif date_only:
+        reason += "; reads dated without a time are taken as their day began (as set)"
+    usage = pd.Series(result.usage.to_numpy(), index=index[:-1])
     return usage, result.events, "between reads", reason
 
 

@@ -141,6 +141,8 @@ def test_cumulative_register_with_rollover_gives_interval_usage(tmp_path):
     assert read.value_kind == "register"
     assert read.meter.utility == "natural_gas"
     assert any(f.kind == "rollover" for f in read.findings)
+    # a read dated D is the register as day D closes: read[D] − read[D−1] is day D's use
+    assert read.meter.values.index[0] == pd.Timestamp("2024-01-02", tz="America/Chicago")
     ccf_total = 59 * 700.0
     # 1 ccf = 100 ft³; heat content per engine.units default (EIA average, from memory)
     from engine import units

@@ -1,0 +1,1 @@
+"""Workbooks written for people: profile tables now, the finance workbook later."""

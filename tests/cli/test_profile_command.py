@@ -1,0 +1,73 @@
+"""`loadledger profile` recovers a known weather response and writes a readable workbook.
+
+Ground truth by construction: daily gas use = base + slope × heating degree-days (mean
+temperature method, base 15 °C) with small noise; degree-day definition as in CIBSE TM41 (2006)
+(from memory). The workbook is read back with calamine, a reader independent of openpyxl.
+"""
+
+from __future__ import annotations
+
+import json
+import subprocess
+import sys
+
+import numpy as np
+import pandas as pd
+import pytest
+from python_calamine import CalamineWorkbook
+
+BASE_C, SLOPE, BASE_LOAD = 15.0, 12.0, 40.0  # °C, therm per °C-day, therm per day
+
+
+def _run(*args):
+    done = subprocess.run([sys.executable, "-m", "desktop.launcher", *map(str, args)],
+                          capture_output=True, text=True, timeout=300)  # fmt: skip
+    assert done.returncode == 0, done.stderr
+    return done.stdout
+
+
+@pytest.fixture(scope="module")
+def project(tmp_path_factory):
+    folder = tmp_path_factory.mktemp("profile")
+    rng = np.random.default_rng(11)
+    hours = pd.date_range("2023-01-01", "2024-12-31 23:00", freq="h")
+    doy = hours.day_of_year.to_numpy()
+    temps = 10 - 12 * np.cos(2 * np.pi * (doy - 15) / 365) + 4 * np.sin(
+        2 * np.pi * (hours.hour.to_numpy() - 9) / 24) + rng.normal(0, 1.5, len(hours))  # fmt: skip
+    weather = folder / "station.csv"
+    weather.write_text("Time,Outdoor temperature (°C)\n" + "\n".join(
+        f"{t:%Y-%m-%d %H:%M},{v:.2f}" for t, v in zip(hours, temps, strict=True)))  # fmt: skip
+    daily_mean = pd.Series(np.round(temps, 2), index=hours).resample("D").mean()
+    use = BASE_LOAD + SLOPE * np.maximum(BASE_C - daily_mean.to_numpy(), 0)
+    use = use * (1 + rng.normal(0, 0.01, len(use)))
+    reads = 5000 + np.cumsum(use)
+    gas = folder / "gas.csv"
+    gas.write_text("Read date,Gas register (therms)\n" + "\n".join(
+        f"{d:%Y-%m-%d},{r:.3f}" for d, r in zip(daily_mean.index, reads, strict=True)))  # fmt: skip
+    target = folder / "site.loadledger"
+    _run("new", target, "--meters", gas, "--weather", weather, "--timezone", "UTC")
+    return target, folder
+
+
+def test_profile_recovers_the_balance_point_and_the_heating_slope(project):
+    path, folder = project
+    report = json.loads(_run("profile", path, "--json", "--xlsx", folder / "p.xlsx"))
+    weather = report["meters"][0]["figures"]["weather response"]
+    therm_kwh = 105.505585262e6 / 3.6e6  # NIST SP 811: therm (EC) = 1.055 056 E+08 J
+    assert weather["kind"] == "heating"
+    assert weather["heating balance point °C"] == pytest.approx(BASE_C, abs=0.5)
+    assert weather["heating slope kWh per °C-day"] == pytest.approx(SLOPE * therm_kwh, rel=0.03)
+    assert weather["weather-independent kWh per day"] == pytest.approx(
+        BASE_LOAD * therm_kwh, rel=0.05
+    )
+
+
+def test_profile_workbook_holds_the_same_figures(project):
+    path, folder = project
+    report = json.loads(_run("profile", path, "--json", "--xlsx", folder / "q.xlsx"))
+    book = CalamineWorkbook.from_path(report["workbook"])
+    rows = book.get_sheet_by_name("Key figures").to_python()
+    cells = {row[0]: row[1] for row in rows if len(row) > 1}
+    expected = report["meters"][0]["figures"]["total energy"]["value"]
+    assert cells["total energy"] == pytest.approx(expected, rel=1e-12)
+    assert "Monthly by year" in book.sheet_names
