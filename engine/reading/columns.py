@@ -11,11 +11,13 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
+from engine import units
 from engine.reading import vocabulary as vocab
 from engine.reading.table import Table, cell_kind
 
 SAMPLE_ROWS = 400
 EXCEL_SERIAL_RANGE = (20000.0, 80000.0)  # 1954-10-03 .. 2119-01-10
+LABEL_REPEAT_SHARE = 0.6  # a label column repeats: at most this share of sampled cells differ
 
 
 @dataclass
@@ -27,6 +29,7 @@ class ColumnFacts:
     shares: dict[str, float]  # share of non-empty cells of each cell kind
     filled: float  # share of sampled rows that are non-empty
     distinct: int  # distinct non-empty values in the sample
+    sampled: int  # rows in the sample
 
     def share(self, *kinds: str) -> float:
         return sum(self.shares.get(kind, 0.0) for kind in kinds)
@@ -52,6 +55,7 @@ def describe_columns(table: Table) -> list[ColumnFacts]:
                 shares=shares,
                 filled=len(nonempty) / max(len(kinds), 1),
                 distinct=int(sample[position].dropna().astype(str).nunique()),
+                sampled=len(kinds),
             )
         )
     return facts
@@ -77,12 +81,19 @@ def is_numeric_column(facts: ColumnFacts) -> bool:
 
 
 def is_label_column(facts: ColumnFacts, rows: int) -> bool:
-    """Text (or id) cells repeating a few names: the meter column of a long layout."""
-    if facts.filled < 0.9 or facts.distinct < 1:
+    """Text (or id) cells repeating a few names: the meter column of a long layout.
+
+    Numbers count as meter ids only under a meter-like header that names no unit.
+    """
+    if facts.filled < 0.9 or facts.distinct < 1 or rows < 2:
         return False
-    repeats = facts.distinct <= max(1, min(500, rows // 4))
+    repeats = facts.distinct <= max(1, int(LABEL_REPEAT_SHARE * facts.sampled))
     texty = facts.share("text") >= 0.8
-    named_ids = facts.share("number") >= 0.8 and facts.has(vocab.METER_WORDS)
+    named_ids = (
+        facts.share("number") >= 0.8
+        and facts.has(vocab.METER_WORDS)
+        and units.find_unit(facts.header) is None
+    )
     return repeats and (texty or named_ids)
 
 

@@ -178,3 +178,12 @@ def test_two_row_header_of_names_over_units(tmp_path):
     result = read_meter_file(path, ReadOptions(timezone="UTC"))
     units_found = {m.meter.name: m.unit.name for m in result.meters}
     assert units_found == {"Boiler gas": "therm", "Chiller": "ton-hour"}
+
+
+def test_wide_columns_named_meter_are_not_mistaken_for_a_long_layout(tmp_path):
+    path = tmp_path / "meters.csv"
+    rows = [f"2024-01-01 {h:02d}:00,{h % 5},{h % 3}" for h in range(24)]
+    path.write_text("Timestamp,Meter 1 (kWh),Meter 2 (kWh)\n" + "\n".join(rows) + "\n")
+    result = read_meter_file(path, ReadOptions(timezone="UTC"))
+    assert result.layout == "wide"
+    assert [m.meter.name for m in result.meters] == ["Meter 1", "Meter 2"]
