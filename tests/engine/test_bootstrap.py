@@ -1,0 +1,209 @@
+"""Block bootstrap index generators: uniform draws, block lengths, kept dependence, day blocks."""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+from scipy import signal, stats
+from statsmodels.tsa.stattools import acf
+
+from engine.bootstrap import circular_indices, day_block_indices, stationary_indices
+from engine.errors import InputError
+
+ZONE = "America/Chicago"
+#: Significance level of every goodness-of-fit test below.
+ALPHA = 0.001
+
+
+def ar1(phi: float, n: int, generator: np.random.Generator) -> np.ndarray:
+    """An AR(1) series x[t] = φ x[t−1] + e[t] with unit-variance normal innovations."""
+    burn_in = 500
+    innovations = generator.standard_normal(n + burn_in)
+    return signal.lfilter([1.0], [1.0, -phi], innovations)[burn_in:]
+
+
+def block_starts(indices: np.ndarray, n_source: int) -> np.ndarray:
+    """True where a position does not continue the previous one's block."""
+    starts = np.ones(indices.shape, dtype=bool)
+    starts[:, 1:] = indices[:, 1:] != (indices[:, :-1] + 1) % n_source
+    return starts
+
+
+# --- the draws --------------------------------------------------------------------------------
+
+
+@pytest.mark.parametrize(
+    "draw", [stationary_indices, circular_indices], ids=["stationary", "circular"]
+)
+def test_each_position_draws_uniformly_from_the_source(draw) -> None:
+    generator = np.random.default_rng(4101)
+    indices = draw(40, 300, 8, 4000, generator)
+    assert indices.shape == (4000, 300)
+    # Across independent paths, the index drawn at any one position is uniform over the
+    # source (Politis & Romano 1994, from memory); Pearson's chi-square test, scipy.stats.
+    for position in (0, 137, 299):
+        counts = np.bincount(indices[:, position], minlength=40)
+        assert stats.chisquare(counts).pvalue > ALPHA
+
+
+def test_stationary_blocks_have_geometric_lengths() -> None:
+    mean_block = 12.5
+    n_source = 1_000_000  # so a new block almost never happens to continue the last one
+    indices = stationary_indices(n_source, 2000, mean_block, 500, np.random.default_rng(4102))
+    starts = block_starts(indices, n_source)
+    # Politis & Romano (1994), from memory: each position after the first starts a new block
+    # with probability p = 1/mean, so block lengths are geometric with mean 1/p.
+    p = 1.0 / mean_block
+    drawn = starts[:, 1:]
+    share = drawn.mean()
+    assert abs(share - p) < 4 * np.sqrt(p * (1 - p) / drawn.size)
+    rows, columns = np.nonzero(starts)
+    same_path = np.diff(rows) == 0
+    lengths = np.diff(columns)[same_path]  # whole blocks only (the last of a path is cut)
+    assert lengths.mean() == pytest.approx(mean_block, rel=0.02)
+    top = 40
+    observed = np.r_[np.bincount(lengths, minlength=top + 1)[1 : top + 1], (lengths > top).sum()]
+    expected = lengths.size * np.r_[stats.geom.pmf(np.arange(1, top + 1), p), stats.geom.sf(top, p)]
+    assert stats.chisquare(observed, expected).pvalue > ALPHA
+
+
+def test_circular_blocks_have_the_fixed_length() -> None:
+    indices = circular_indices(10_000, 95, 10, 300, np.random.default_rng(4103))
+    starts = block_starts(indices, 10_000)
+    assert starts[:, ::10].all()
+    continuing = np.delete(starts, np.s_[::10], axis=1)
+    assert not continuing.any()
+
+
+def test_blocks_wrap_round_the_end_of_the_source() -> None:
+    indices = stationary_indices(5, 400, 50.0, 20, np.random.default_rng(4104))
+    after_last = indices[:, 1:][(indices[:, :-1] == 4)]
+    assert (after_last == 0).mean() > 0.9  # long blocks carry on from 4 to 0
+    longer_than_source = circular_indices(7, 60, 20, 3, np.random.default_rng(4105))
+    assert longer_than_source.max() < 7
+
+
+@settings(max_examples=60, deadline=None)
+@given(
+    n_source=st.integers(1, 50),
+    n_target=st.integers(1, 120),
+    mean_block=st.floats(1.0, 80.0),
+    n_paths=st.integers(1, 5),
+)
+def test_indices_stay_inside_the_source(
+    n_source: int, n_target: int, mean_block: float, n_paths: int
+) -> None:
+    generator = np.random.default_rng(4106)
+    for indices in (
+        stationary_indices(n_source, n_target, mean_block, n_paths, generator),
+        circular_indices(n_source, n_target, int(mean_block), n_paths, generator),
+    ):
+        assert indices.shape == (n_paths, n_target)
+        assert indices.min() >= 0
+        assert indices.max() < n_source
+
+
+# --- what the blocks keep ---------------------------------------------------------------------
+
+
+def test_long_blocks_keep_lag_one_autocorrelation_and_single_draws_lose_it() -> None:
+    generator = np.random.default_rng(4107)
+    series = ar1(0.8, 4000, generator)
+    original = acf(series, nlags=1)[1]  # statsmodels' sample autocorrelation
+    assert original == pytest.approx(0.8, abs=0.05)
+    kept = stationary_indices(series.size, series.size, 100.0, 150, generator)
+    lost = stationary_indices(series.size, series.size, 1.0, 150, generator)
+    kept_lag1 = np.mean([acf(series[row], nlags=1)[1] for row in kept])
+    lost_lag1 = np.mean([acf(series[row], nlags=1)[1] for row in lost])
+    # One pair in a hundred straddles a block joint, where the correlation is ~0.
+    assert kept_lag1 == pytest.approx(original, abs=0.03)
+    assert abs(lost_lag1) < 0.01
+
+
+def test_bootstrap_standard_error_of_the_mean_matches_the_long_run_formula() -> None:
+    phi, n = 0.5, 20_000
+    generator = np.random.default_rng(4108)
+    series = ar1(phi, n, generator)
+    # Long-run variance of the mean of an AR(1) with innovation variance σ² (from memory,
+    # e.g. Hamilton 1994, ch. 7): Var(x̄) ≈ σ² / (1 − φ)² / n, here σ² = 1.
+    long_run = np.sqrt(1.0 / (1.0 - phi) ** 2 / n)
+    means = np.concatenate(
+        [series[stationary_indices(n, n, 40.0, 100, generator)].mean(axis=1) for _ in range(8)]
+    )
+    assert means.std(ddof=1) == pytest.approx(long_run, rel=0.15)
+    circular = np.concatenate(
+        [series[circular_indices(n, n, 40, 100, generator)].mean(axis=1) for _ in range(8)]
+    )
+    assert circular.std(ddof=1) == pytest.approx(long_run, rel=0.15)
+    # Single draws ignore the dependence: about sqrt((1 − φ)/(1 + φ)) = 0.58 of the truth.
+    single = series[stationary_indices(n, n, 1.0, 300, generator)].mean(axis=1)
+    assert single.std(ddof=1) < 0.75 * long_run
+
+
+# --- whole-day blocks -------------------------------------------------------------------------
+
+
+def hourly(first: str, hours: int) -> pd.DatetimeIndex:
+    return pd.date_range(pd.Timestamp(first, tz=ZONE), periods=hours, freq="h").tz_convert("UTC")
+
+
+def test_day_blocks_keep_the_local_clock_time() -> None:
+    source = hourly("2031-02-20 05:00", 24 * 60)  # over the March clock change, partial ends
+    target = hourly("2031-10-25 13:00", 24 * 20)  # over the November change, starts mid-day
+    indices = day_block_indices(source, target, ZONE, 4.0, 300, np.random.default_rng(4109))
+    assert indices.shape == (300, len(target))
+    source_local = source.tz_convert(ZONE)
+    drawn_hour = source_local.hour.to_numpy()[indices]
+    target_hour = np.broadcast_to(target.tz_convert(ZONE).hour.to_numpy(), indices.shape)
+    # Only 02:00 can differ: on 9 March 2031 it does not exist and the next hour stands in.
+    differs = drawn_hour != target_hour
+    assert (target_hour[differs] == 2).all()
+    assert (drawn_hour[differs] == 3).all()
+    assert differs.any()
+    drawn_days = source_local.normalize()[indices.ravel()]
+    first_whole, last_whole = (
+        pd.Timestamp("2031-02-21", tz=ZONE),
+        pd.Timestamp("2031-04-20", tz=ZONE),
+    )
+    assert drawn_days.min() >= first_whole  # the partial first and last days are never drawn
+    assert drawn_days.max() <= last_whole
+
+
+def test_day_blocks_follow_on_like_stationary_blocks_of_days() -> None:
+    source = hourly("2031-05-01 00:00", 24 * 150)  # no clock change inside
+    target = hourly("2031-06-01 00:00", 24 * 100)
+    indices = day_block_indices(source, target, ZONE, 5.0, 400, np.random.default_rng(4110))
+    day_of = indices[:, ::24] // 24  # the source has whole days from its first hour
+    assert (indices % 24 == np.arange(len(target)) % 24).all()
+    follows_on = day_of[:, 1:] == (day_of[:, :-1] + 1) % 150
+    # A new day block starts with probability 1/5 (plus a 1/150 chance of a lucky follow-on).
+    assert follows_on.mean() == pytest.approx(1 - 1 / 5 + 1 / 5 / 150, abs=0.01)
+    fixed = day_block_indices(
+        source, target, ZONE, 5, 50, np.random.default_rng(4111), scheme="circular"
+    )
+    fixed_days = fixed[:, ::24] // 24
+    within = np.delete(np.arange(99), np.s_[4::5])  # day pairs inside a 5-day block
+    assert (fixed_days[:, within + 1] == (fixed_days[:, within] + 1) % 150).all()
+
+
+def test_day_blocks_need_a_whole_day_and_a_known_scheme() -> None:
+    generator = np.random.default_rng(4112)
+    with pytest.raises(InputError, match="no whole local day"):
+        day_block_indices(
+            hourly("2031-05-01 03:00", 20), hourly("2031-06-01", 5), ZONE, 2, 1, generator
+        )
+    with pytest.raises(ValueError, match="scheme"):
+        day_block_indices(
+            hourly("2031-05-01", 48), hourly("2031-06-01", 5), ZONE, 2, 1, generator, "random"
+        )
+
+
+def test_block_lengths_below_one_are_refused() -> None:
+    generator = np.random.default_rng(4113)
+    with pytest.raises(InputError, match="mean block length"):
+        stationary_indices(10, 10, 0.5, 1, generator)
+    with pytest.raises(InputError, match="block length is 0"):
+        circular_indices(10, 10, 0, 1, generator)
