@@ -1,0 +1,175 @@
+"""What a budget run produces: per-month totals with a range, per meter, per utility, campus.
+
+These plain dataclasses are the contract between the budget engine, the command line's JSON
+(``to_json``), the finance workbook and the window. Energy is kWh; cost is in ``currency``.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any
+
+import pandas as pd
+
+
+@dataclass(frozen=True)
+class Spread:
+    """The mean and the requested quantiles of a total over the simulated paths.
+
+    ``quantiles`` is keyed by level as text: ``{"10": ..., "50": ..., "90": ...}``.
+    """
+
+    mean: float
+    quantiles: dict[str, float]
+
+    def to_json(self) -> dict[str, Any]:
+        return {"mean": self.mean, "quantiles": dict(self.quantiles)}
+
+
+@dataclass(frozen=True)
+class PeriodTotal:
+    """One month (``period`` = "YYYY-MM") or the whole budget period (``period`` = "total").
+
+    ``actual_to_date`` is the metered energy already in the period before the as-of date (it
+    is part of every path); ``energy`` and ``cost`` spread over the paths, cost None without a
+    tariff.
+    """
+
+    period: str
+    actual_to_date: float
+    energy: Spread
+    cost: Spread | None = None
+
+    def to_json(self) -> dict[str, Any]:
+        out: dict[str, Any] = {
+            "month" if self.period != "total" else "period": self.period,
+            "actual_to_date": self.actual_to_date,
+            **self.energy.to_json(),
+        }
+        if self.cost is not None:
+            out["cost"] = self.cost.to_json()
+        return out
+
+
+@dataclass
+class MeterBudget:
+    """A meter's budget: model used, monthly and period totals, and a daily detail table."""
+
+    name: str
+    utility: str
+    model: str  # the model family's label
+    months: list[PeriodTotal]
+    total: PeriodTotal
+    daily: pd.DataFrame  # index local date; columns "mean", "P10", "P50", "P90" ... (kWh)
+    unit: str = "kWh"
+    scores: dict[str, Any] = field(default_factory=dict)  # the model's backtest scorecard
+
+    def to_json(self) -> dict[str, Any]:
+        return {
+            "name": self.name,
+            "utility": self.utility,
+            "unit": self.unit,
+            "model": self.model,
+            "months": [m.to_json() for m in self.months],
+            "total": self.total.to_json(),
+        }
+
+
+@dataclass
+class RollUp:
+    """Totals over several meters, summed path by path (``group`` a utility or "campus")."""
+
+    group: str
+    meters: list[str]
+    months: list[PeriodTotal]
+    total: PeriodTotal
+    unit: str = "kWh"
+
+    def to_json(self) -> dict[str, Any]:
+        return {
+            "group": self.group,
+            "unit": self.unit,
+            "meters": list(self.meters),
+            "months": [m.to_json() for m in self.months],
+            "total": self.total.to_json(),
+        }
+
+
+@dataclass
+class Calibration:
+    """How the P-low–P-high range held actual month totals in the backtest, and any correction.
+
+    ``held``/``tried``: months whose actual total fell inside the range, of those tried.
+    ``scale``: the factor applied to the range's half-widths (1.0 when none was needed).
+    """
+
+    level_low: int
+    level_high: int
+    held: int
+    tried: int
+    scale: float
+    method: str
+
+    @property
+    def coverage(self) -> float:
+        return self.held / self.tried if self.tried else float("nan")
+
+    def sentence(self) -> str:
+        nominal = self.level_high - self.level_low
+        text = (
+            f"the {nominal} % range held the actual month total in {self.held} of "
+            f"{self.tried} past months"
+        )
+        if self.scale != 1.0:
+            text += f"; ranges were {'widened' if self.scale > 1 else 'narrowed'} by a factor " \
+                f"{self.scale:.2f} ({self.method})"
+        return text
+
+    def to_json(self) -> dict[str, Any]:
+        return {
+            "levels": [self.level_low, self.level_high],
+            "held": self.held,
+            "tried": self.tried,
+            "coverage": self.coverage if self.tried else None,
+            "scale": self.scale,
+            "method": self.method,
+            "summary": self.sentence(),
+        }
+
+
+@dataclass
+class BudgetRun:
+    """Everything a budget run produced, with the assumptions that a reader must see."""
+
+    start: str  # first budget month, "YYYY-MM"
+    months: list[str]  # every budget month, "YYYY-MM"
+    as_of: str  # ISO date; data after it was ignored
+    weather: str  # the weather assumption in words
+    levels: list[int]  # e.g. [10, 50, 90]
+    paths: int
+    meters: list[MeterBudget]
+    utilities: list[RollUp]
+    campus: RollUp | None
+    calibration: dict[str, Calibration]  # per meter name
+    currency: str | None = None
+    tariff: str | None = None
+    assumptions: dict[str, Any] = field(default_factory=dict)
+    cautions: list[str] = field(default_factory=list)
+
+    def to_json(self) -> dict[str, Any]:
+        return {
+            "start": self.start,
+            "months": list(self.months),
+            "as_of": self.as_of,
+            "weather": self.weather,
+            "levels": list(self.levels),
+            "paths": self.paths,
+            "currency": self.currency,
+            "tariff": self.tariff,
+            "meters": [m.to_json() for m in self.meters],
+            "utilities": [u.to_json() for u in self.utilities],
+            "campus": self.campus.to_json() if self.campus else None,
+            "calibration": {k: v.to_json() for k, v in self.calibration.items()},
+            "assumptions": self.assumptions,
+            "cautions": list(self.cautions),
+        }
