@@ -19,8 +19,15 @@ from engine.project import schema
 
 Migration = Callable[[sqlite3.Connection], None]
 
+
+def _add_results_table(conn: sqlite3.Connection) -> None:
+    """Format 1 → 2: a table for fitted models, backtests and budget runs."""
+    for statement in schema.SCHEMA_V2_ADDITIONS:
+        conn.execute(statement)
+
+
 #: ``{from_version: step}``; each step upgrades a file from ``from_version`` to the next.
-MIGRATIONS: dict[int, Migration] = {}
+MIGRATIONS: dict[int, Migration] = {1: _add_results_table}
 
 log = logging.getLogger(__name__)
 

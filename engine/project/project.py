@@ -26,6 +26,7 @@ from engine.project import (
     cleaning_table,
     meter_tables,
     migrations,
+    results_table,
     schema,
     settings_table,
     source_table,
@@ -346,6 +347,22 @@ class Project:
         """Delete a cleaning step from the log."""
         with self._writing() as conn:
             cleaning_table.remove_step(conn, step_id)
+
+    # -- results of analyses --------------------------------------------------------------
+
+    def add_result(self, kind: str, meter: str | None, label: str, body: dict) -> int:
+        """Keep a fitted model, backtest or budget run (a JSON document); return its id."""
+        with self._writing() as conn:
+            return results_table.add_result(conn, kind, meter, label, body)
+
+    def results(self, kind: str, meter: str | None = None) -> list[dict]:
+        """Stored results of ``kind`` (for ``meter`` when given), oldest first."""
+        with self._reading() as conn:
+            return results_table.list_results(conn, kind, meter)
+
+    def remove_result(self, result_id: int) -> None:
+        with self._writing() as conn:
+            results_table.remove_result(conn, result_id)
 
     # -- overview -------------------------------------------------------------------------
 

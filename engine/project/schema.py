@@ -23,7 +23,7 @@ import sqlite3
 APPLICATION_ID = int.from_bytes(b"LdLg", "big")
 
 #: ``PRAGMA user_version`` written by this code; older files are upgraded on open.
-FORMAT_VERSION = 1
+FORMAT_VERSION = 2
 
 #: What a source file may hold (the CHECK on ``sources.kind`` lists the same words).
 SOURCE_KINDS: tuple[str, ...] = ("meters", "bills", "weather", "calendar", "tariff")
@@ -107,6 +107,20 @@ SCHEMA_V1: tuple[str, ...] = (
     "CREATE INDEX cleaning_steps_in_order ON cleaning_steps (position)",
 )
 
+#: Format 2 adds the results of analyses: fitted models, backtests and budget runs, each a
+#: JSON document (never pickled objects) tied to a meter or to the whole project.
+SCHEMA_V2_ADDITIONS: tuple[str, ...] = (
+    """CREATE TABLE results (
+        id INTEGER PRIMARY KEY,
+        kind TEXT NOT NULL CHECK (kind IN ('model', 'backtest', 'budget')),
+        meter TEXT,
+        label TEXT NOT NULL,
+        created_at INTEGER NOT NULL,
+        body TEXT NOT NULL
+    )""",
+    "CREATE INDEX results_by_kind ON results (kind, meter, id)",
+)
+
 #: Tables a file of the current format must have.
 TABLES: frozenset[str] = frozenset(
     {
@@ -118,6 +132,7 @@ TABLES: frozenset[str] = frozenset(
         "bills",
         "weather",
         "cleaning_steps",
+        "results",
     }
 )
 
@@ -127,7 +142,7 @@ def create_schema(conn: sqlite3.Connection) -> None:
 
     Statements run one by one because ``executescript`` would commit the open transaction.
     """
-    for statement in SCHEMA_V1:
+    for statement in (*SCHEMA_V1, *SCHEMA_V2_ADDITIONS):
         conn.execute(statement)
     conn.execute(f"PRAGMA application_id = {APPLICATION_ID}")
     conn.execute(f"PRAGMA user_version = {FORMAT_VERSION}")

@@ -517,7 +517,7 @@ def test_a_new_file_is_marked_as_ours_and_is_one_file(tmp_path: Path) -> None:
     # SQLite "Database File Format" (sqlite.org/fileformat.html) section 1.3: magic string at
     # offset 0, user version at 60 and application id at 68, both 4-byte big-endian.
     assert header[:16] == b"SQLite format 3\x00"
-    assert int.from_bytes(header[60:64], "big") == FORMAT_VERSION == 1
+    assert int.from_bytes(header[60:64], "big") == FORMAT_VERSION
     assert int.from_bytes(header[68:72], "big") == APPLICATION_ID
     assert sorted(p.name for p in tmp_path.iterdir()) == ["campus.loadledger"]
 
@@ -620,15 +620,18 @@ def test_older_files_are_upgraded_in_one_transaction(
 ) -> None:
     project.set_setting("fy", "FY2032")
     project.close()
-    monkeypatch.setattr(schema, "FORMAT_VERSION", 2)
+    current = FORMAT_VERSION
+    monkeypatch.setattr(schema, "FORMAT_VERSION", current + 1)
 
     def broken(conn: sqlite3.Connection) -> None:
         _add_budget_table(conn)
         conn.execute("INSERT INTO no_such_table VALUES (1)")
 
     before = dump(project.path)
-    monkeypatch.setattr(migrations, "MIGRATIONS", {1: broken})
-    with pytest.raises(ProjectError, match=r"from project format 1 failed \(no such table"):
+    monkeypatch.setattr(migrations, "MIGRATIONS", {current: broken})
+    with pytest.raises(
+        ProjectError, match=rf"from project format {current} failed \(no such table"
+    ):
         Project.open(project.path)
     assert dump(project.path) == before  # a failed upgrade changes nothing
 
@@ -636,13 +639,15 @@ def test_older_files_are_upgraded_in_one_transaction(
     with pytest.raises(ProjectError, match="cannot upgrade"):
         Project.open(project.path)
 
-    monkeypatch.setattr(migrations, "MIGRATIONS", {1: _add_budget_table})
+    monkeypatch.setattr(migrations, "MIGRATIONS", {current: _add_budget_table})
     with Project.open(project.path) as upgraded:
-        assert upgraded.upgrade_note == "Upgraded 'campus.loadledger' from project format 1 to 2."
-        assert upgraded.format_version == 2
+        assert upgraded.upgrade_note == (
+            f"Upgraded 'campus.loadledger' from project format {current} to {current + 1}."
+        )
+        assert upgraded.format_version == current + 1
         assert upgraded.get_setting("fy") == "FY2032"
     conn = sqlite3.connect(project.path)
-    assert conn.execute("PRAGMA user_version").fetchone() == (2,)
+    assert conn.execute("PRAGMA user_version").fetchone() == (current + 1,)
     assert conn.execute("SELECT label FROM budget_runs").fetchall() == [('"FY2032"',)]
     conn.close()
     with Project.open(project.path) as again:
@@ -661,6 +666,10 @@ def test_the_format_1_fixture_still_opens(tmp_path: Path) -> None:
         return np.array([np.nan if v is None else v for v in values], dtype="float64")
 
     with Project.open(path) as project:
+        assert project.upgrade_note == (
+            f"Upgraded 'v1_small.loadledger' from project format 1 to {FORMAT_VERSION}."
+        )
+        assert project.results("model") == []  # format 2's results table came with the upgrade
         assert project.timezone == expected["timezone"]
         for key, value in expected["settings"].items():
             assert project.get_setting(key) == value
@@ -754,7 +763,7 @@ def test_summary_is_json_ready(project: Project, source_file: Path) -> None:
 
     overview = json.loads(json.dumps(project.summary()))
     assert overview["path"] == str(project.path)
-    assert (overview["format_version"], overview["timezone"]) == (1, TZ)
+    assert (overview["format_version"], overview["timezone"]) == (FORMAT_VERSION, TZ)
     assert overview["meters"] == [
         {
             "name": "Quarry Lab chiller",
@@ -770,3 +779,19 @@ def test_summary_is_json_ready(project: Project, source_file: Path) -> None:
     assert overview["cleaning_steps"] == 1
     assert overview["sources"][0]["file_name"] == "tamsworth_meters.csv"
     assert os.path.basename(overview["path"]) == "campus.loadledger"
+
+
+def test_results_are_kept_as_json_documents(project: Project) -> None:
+    first = project.add_result("model", "Hall", "calendar regression", {"family": "x", "p": 1})
+    project.add_result("budget", None, "FY2032", {"months": ["2031-07"]})
+    (model,) = project.results("model", "Hall")
+    assert (model["id"], model["label"], model["body"]) == (
+        first,
+        "calendar regression",
+        {"family": "x", "p": 1},
+    )
+    assert [r["kind"] for r in project.results("budget")] == ["budget"]
+    project.remove_result(first)
+    assert project.results("model") == []
+    with pytest.raises(ValueError, match="result kind"):
+        project.add_result("picture", None, "", {})

@@ -1,0 +1,50 @@
+"""Results of analyses kept in the project: fitted models, backtests and budget runs.
+
+Each result is a JSON document with a kind, an optional meter, a label and the time it was
+made. Results are only added or removed, never edited, so an old budget stays as it was run.
+"""
+
+from __future__ import annotations
+
+import sqlite3
+
+from engine.project.columns import from_json, iso_utc, now_seconds, to_json
+
+RESULT_KINDS = ("model", "backtest", "budget")
+
+
+def add_result(
+    conn: sqlite3.Connection, kind: str, meter: str | None, label: str, body: dict
+) -> int:
+    if kind not in RESULT_KINDS:
+        raise ValueError(f"result kind must be one of {RESULT_KINDS}, not {kind!r}")
+    cursor = conn.execute(
+        "INSERT INTO results (kind, meter, label, created_at, body) VALUES (?, ?, ?, ?, ?)",
+        (kind, meter, label, now_seconds(), to_json(body, f"the {kind} result")),
+    )
+    return int(cursor.lastrowid)
+
+
+def list_results(conn: sqlite3.Connection, kind: str, meter: str | None = None) -> list[dict]:
+    """Results of ``kind`` (for ``meter`` when given), oldest first, bodies included."""
+    query = "SELECT id, kind, meter, label, created_at, body FROM results WHERE kind = ?"
+    args: tuple = (kind,)
+    if meter is not None:
+        query += " AND meter = ?"
+        args += (meter,)
+    rows = conn.execute(query + " ORDER BY id", args).fetchall()
+    return [
+        {
+            "id": rid,
+            "kind": k,
+            "meter": m,
+            "label": label,
+            "created_at": iso_utc(created),
+            "body": from_json(body),
+        }
+        for rid, k, m, label, created, body in rows
+    ]
+
+
+def remove_result(conn: sqlite3.Connection, result_id: int) -> None:
+    conn.execute("DELETE FROM results WHERE id = ?", (result_id,))
