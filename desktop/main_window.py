@@ -17,6 +17,9 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from desktop.files_screen import FilesScreen
+from desktop.patterns_screen import PatternsScreen
+from desktop.session import Session
 from engine.errors import ProjectError
 from engine.project import Project
 
@@ -28,33 +31,54 @@ STEPS = (
     ("Budget", "Monthly totals with P10/P50/P90 and cost."),
     ("Export", "Write the workbook for finance."),
 )
+STEP_NAMES = tuple(name for name, _ in STEPS)
 
 
 class MainWindow(QMainWindow):
-    """Holds the open project and one screen per step."""
+    """Holds the session (the open project) and one screen per step."""
 
     def __init__(self) -> None:
         super().__init__()
-        self.project: Project | None = None
+        self.session = Session()
         self.setWindowTitle("Loadledger")
-        self.resize(1100, 700)
+        self.resize(1280, 800)
+        self.files_screen = FilesScreen(self.session)
+        self.patterns_screen = PatternsScreen(self.session)
+        built = {"Files": self.files_screen, "Patterns": self.patterns_screen}
         self.steps = QListWidget()
-        self.steps.addItems([name for name, _ in STEPS])
+        self.steps.addItems(list(STEP_NAMES))
         self.steps.setFixedWidth(170)
+        for row, (_, purpose) in enumerate(STEPS):
+            self.steps.item(row).setToolTip(purpose)
         self.screens = QStackedWidget()
         for name, purpose in STEPS:
-            self.screens.addWidget(_placeholder(name, purpose))
+            self.screens.addWidget(built.get(name) or _placeholder(name, purpose))
         self.steps.currentRowChanged.connect(self.screens.setCurrentIndex)
         self.steps.setCurrentRow(0)
         splitter = QSplitter(Qt.Orientation.Horizontal)
         splitter.addWidget(self.steps)
         splitter.addWidget(self.screens)
+        splitter.setStretchFactor(0, 0)
         splitter.setStretchFactor(1, 1)
+        splitter.setChildrenCollapsible(False)
+        splitter.setSizes([self.steps.width(), self.width()])
         self.setCentralWidget(splitter)
         menu = self.menuBar().addMenu("&Project")
+        menu.addAction("&New from files…", self._new_from_files)
         menu.addAction("&Open…", self._ask_open)
+        menu.addSeparator()
         menu.addAction("&Quit", self.close)
-        self.statusBar().showMessage("No project open")
+        self.session.subscribe(self._project_changed)
+        self._project_changed(None)
+
+    @property
+    def project(self) -> Project | None:
+        """The open project, if any."""
+        return self.session.project
+
+    def show_step(self, name: str) -> None:
+        """Bring the screen of step ``name`` (one of :data:`STEP_NAMES`) forward."""
+        self.steps.setCurrentRow(STEP_NAMES.index(name))
 
     def open_project(self, path: str | Path) -> bool:
         """Open a project file; report problems in a message box, never as a traceback."""
@@ -63,14 +87,22 @@ class MainWindow(QMainWindow):
         except ProjectError as error:
             QMessageBox.warning(self, "Cannot open project", str(error))
             return False
-        if self.project is not None:
-            self.project.close()
-        self.project = project
-        summary = project.summary()
-        self.statusBar().showMessage(
-            f"{Path(path).name}: {len(summary['meters'])} meter(s), site zone {project.timezone}"
-        )
+        self.session.open(project)
         return True
+
+    def _project_changed(self, project: Project | None) -> None:
+        if project is None:
+            self.statusBar().showMessage("No project open")
+            return
+        meters = len(project.meter_names())
+        words = f"{project.path.name}: {meters} meter(s), site zone {project.timezone}"
+        if project.upgrade_note:
+            words += f" — {project.upgrade_note}"
+        self.statusBar().showMessage(words)
+
+    def _new_from_files(self) -> None:
+        self.show_step("Files")
+        self.files_screen.choose_files()
 
     def _ask_open(self) -> None:
         path, _ = QFileDialog.getOpenFileName(
@@ -80,9 +112,9 @@ class MainWindow(QMainWindow):
             self.open_project(path)
 
     def closeEvent(self, event) -> None:
-        if self.project is not None:
-            self.project.close()
-            self.project = None
+        self.files_screen.shutdown()
+        self.patterns_screen.shutdown()
+        self.session.close()
         super().closeEvent(event)
 
 

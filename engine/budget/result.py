@@ -121,8 +121,10 @@ class Calibration:
             f"{self.tried} past months"
         )
         if self.scale != 1.0:
-            text += f"; ranges were {'widened' if self.scale > 1 else 'narrowed'} by a factor " \
+            text += (
+                f"; ranges were {'widened' if self.scale > 1 else 'narrowed'} by a factor "
                 f"{self.scale:.2f} ({self.method})"
+            )
         return text
 
     def to_json(self) -> dict[str, Any]:

@@ -1,0 +1,274 @@
+"""The Patterns screen: how one meter uses energy through the day, the year and the weather."""
+
+from __future__ import annotations
+
+from functools import partial
+
+import holidays
+import numpy as np
+import pandas as pd
+from PySide6.QtCore import Qt
+from PySide6.QtWidgets import (
+    QAbstractItemView,
+    QComboBox,
+    QGridLayout,
+    QHBoxLayout,
+    QHeaderView,
+    QLabel,
+    QStackedWidget,
+    QTableWidget,
+    QTableWidgetItem,
+    QVBoxLayout,
+    QWidget,
+)
+
+from desktop.choices import ChoiceBox
+from desktop.notice import Notice
+from desktop.pattern_jobs import DAY_GROUPINGS, MeterPatterns, PatternRequest, compute_patterns
+from desktop.pattern_plots import (
+    DurationPanel,
+    HeatMapPanel,
+    MonthlyPanel,
+    TemperaturePanel,
+    TypicalDayPanel,
+)
+from desktop.session import Session
+from desktop.task_bar import TaskBar
+from desktop.understood_view import NUMBER_ROLE
+from desktop.workers import Failure, Task
+from engine.project import Project
+
+GROUPING_WORDS = {"day_type": "day type", "season": "season"}
+FIGURE_HEADERS = ("Figure", "Value", "Unit", "How it is worked out")
+SHUTDOWN_SECONDS = 30.0
+
+
+def _figure_words(value: float, unit: str) -> str:
+    if not np.isfinite(value):
+        return "–"
+    if unit == "ratio":
+        return f"{value:.3f}"
+    return f"{value:,.1f}"
+
+
+class FiguresPanel(QWidget):
+    """:func:`engine.profiles.key_figures` as a table, or a note when the meter has none.
+
+    Each value cell holds the engine's number behind the rounded words.
+    """
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.table = QTableWidget(0, len(FIGURE_HEADERS))
+        self.table.setHorizontalHeaderLabels(FIGURE_HEADERS)
+        self.table.setEditTriggers(QAbstractItemView.EditTrigger.NoEditTriggers)
+        self.table.verticalHeader().hide()
+        self.table.setWordWrap(False)
+        header = self.table.horizontalHeader()
+        header.setSectionResizeMode(QHeaderView.ResizeMode.ResizeToContents)
+        header.setSectionResizeMode(len(FIGURE_HEADERS) - 1, QHeaderView.ResizeMode.Stretch)
+        self.note = QLabel()
+        self.note.setWordWrap(True)
+        self.note.setAlignment(Qt.AlignmentFlag.AlignCenter)
+        self.stack = QStackedWidget()
+        self.stack.addWidget(self.table)
+        self.stack.addWidget(self.note)
+        layout = QVBoxLayout(self)
+        layout.setContentsMargins(2, 2, 2, 2)
+        layout.addWidget(QLabel("<b>Key figures</b>"))
+        layout.addWidget(self.stack, 1)
+
+    def show_note(self, words: str) -> None:
+        self.table.setRowCount(0)
+        self.note.setText(words)
+        self.stack.setCurrentWidget(self.note)
+
+    def show_figures(self, figures: pd.DataFrame) -> None:
+        rows = list(figures.itertuples())
+        self.table.setRowCount(len(rows))
+        for r, row in enumerate(rows):
+            value = QTableWidgetItem(_figure_words(row.value, row.unit))
+            value.setData(NUMBER_ROLE, float(row.value))
+            value.setTextAlignment(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
+            cells = (QTableWidgetItem(str(row.Index)), value, QTableWidgetItem(row.unit))
+            for c, cell in enumerate((*cells, QTableWidgetItem(row.how))):
+                cell.setToolTip(row.how)
+                self.table.setItem(r, c, cell)
+        self.stack.setCurrentWidget(self.table)
+
+
+class PatternsScreen(QWidget):
+    """Pick a meter; its profiles are computed on a worker and drawn."""
+
+    def __init__(self, session: Session, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.session = session
+        self.task: Task | None = None
+        self.patterns: MeterPatterns | None = None
+        self._wanted: PatternRequest | None = None
+        self.meter = QComboBox()
+        self.meter.setMinimumContentsLength(18)
+        self.station = ChoiceBox((("none", None),))
+        countries = sorted(holidays.list_supported_countries())
+        self.holidays = ChoiceBox((("none", None), *((code, code) for code in countries)))
+        self.grouping = ChoiceBox(tuple((GROUPING_WORDS[g], g) for g in DAY_GROUPINGS))
+        for box in (self.meter, self.station, self.holidays):
+            box.activated.connect(self.refresh)
+        self.grouping.activated.connect(self._draw_typical_days)
+        self.notice = Notice()
+        self.task_bar = TaskBar()
+        self.typical = TypicalDayPanel()
+        self.heat = HeatMapPanel()
+        self.monthly = MonthlyPanel()
+        self.duration = DurationPanel()
+        self.temperature = TemperaturePanel()
+        self.figures = FiguresPanel()
+        self.panels = (
+            self.typical,
+            self.heat,
+            self.monthly,
+            self.duration,
+            self.temperature,
+            self.figures,
+        )
+        self._lay_out()
+        session.subscribe(self._project_changed)
+        self._project_changed(session.project)
+
+    def _lay_out(self) -> None:
+        controls = QHBoxLayout()
+        for words, box in (
+            ("Meter", self.meter),
+            ("Weather station", self.station),
+            ("Public holidays of", self.holidays),
+            ("Typical days by", self.grouping),
+        ):
+            controls.addWidget(QLabel(words))
+            controls.addWidget(box)
+            controls.addSpacing(12)
+        controls.addStretch(1)
+        grid = QGridLayout()
+        grid.addWidget(self.typical, 0, 0)
+        grid.addWidget(self.heat, 0, 1)
+        grid.addWidget(self.figures, 0, 2)
+        grid.addWidget(self.monthly, 1, 0)
+        grid.addWidget(self.duration, 1, 1)
+        grid.addWidget(self.temperature, 1, 2)
+        for column in range(3):
+            grid.setColumnStretch(column, 1)
+        layout = QVBoxLayout(self)
+        layout.addLayout(controls)
+        layout.addWidget(self.notice)
+        layout.addWidget(self.task_bar)
+        layout.addLayout(grid, 1)
+
+    # -- choices ----------------------------------------------------------------------------
+
+    def _project_changed(self, project: Project | None) -> None:
+        self.meter.clear()
+        self.station.clear()
+        self.station.addItem("none", None)
+        if project is None:
+            self._wanted = None
+            if self.task is not None:
+                self.task.cancel()
+            self._show_empty("Open a project to see its meters' patterns.")
+            return
+        self.meter.addItems(project.meter_names())
+        for station in project.weather_stations():
+            self.station.addItem(station, station)
+        if self.station.count() > 1:
+            self.station.setCurrentIndex(1)
+        self.refresh()
+
+    def show_meter(self, name: str) -> None:
+        """Profile meter ``name`` of the open project."""
+        self.meter.setCurrentText(name)
+        self.refresh()
+
+    def request(self) -> PatternRequest | None:
+        """What the controls ask for; None without a meter."""
+        name = self.meter.currentText()
+        if self.session.project is None or not name:
+            return None
+        return PatternRequest(name, self.station.value(), self.holidays.value())
+
+    def refresh(self) -> None:
+        """Compute the profiles the controls ask for, once any running computation stops."""
+        wanted = self.request()
+        if wanted is None:
+            self._show_empty("This project has no meters yet: add files on the Files step.")
+            return
+        self._wanted = wanted
+        if self.task is not None:
+            self.task.cancel()
+            return
+        self._start(wanted)
+
+    # -- work -------------------------------------------------------------------------------
+
+    def _start(self, wanted: PatternRequest) -> None:
+        self._wanted = None
+        self.notice.clear()
+        project = self.session.project
+        task = Task(partial(compute_patterns, project, wanted), f"profiling '{wanted.meter}'")
+        task.succeeded.connect(self._show)
+        task.failed.connect(self._failed)
+        task.ended.connect(self._ended)
+        self.task = task
+        self.task_bar.follow(task)
+        task.start()
+
+    def _ended(self) -> None:
+        self.task = None
+        if self._wanted is not None:
+            self._start(self._wanted)
+
+    def _failed(self, failure: Failure) -> None:
+        self.notice.show_failure(failure)
+
+    def shutdown(self) -> None:
+        """Stop the running computation and wait for its thread (before the window closes)."""
+        if self.task is not None:
+            self._wanted = None
+            self.task.cancel()
+            self.task.wait(SHUTDOWN_SECONDS)
+
+    def closeEvent(self, event) -> None:
+        self.shutdown()
+        super().closeEvent(event)
+
+    # -- drawing ----------------------------------------------------------------------------
+
+    def _show_empty(self, words: str) -> None:
+        self.patterns = None
+        for panel in self.panels:
+            panel.show_note(words)
+
+    def _show(self, patterns: MeterPatterns) -> None:
+        if self._wanted is not None or self.session.project is None:
+            return  # the controls changed while this was computed; a newer result follows
+        self.patterns = patterns
+        notes = patterns.notes
+        self._draw_typical_days()
+        drawn = (
+            (self.heat, patterns.heat_map, "heat_map", self.heat.show_matrix),
+            (self.monthly, patterns.monthly, "monthly", self.monthly.show_table),
+            (self.duration, patterns.duration, "duration", self.duration.show_table),
+            (self.temperature, patterns.temperature, "temperature", self.temperature.show_response),
+            (self.figures, patterns.figures, "figures", self.figures.show_figures),
+        )
+        for panel, found, name, draw in drawn:
+            if found is None:
+                panel.show_note(notes[name])
+            else:
+                draw(found)
+
+    def _draw_typical_days(self) -> None:
+        patterns = self.patterns
+        if patterns is None:
+            return
+        if patterns.typical_days is None:
+            self.typical.show_note(patterns.notes["typical_days"])
+            return
+        self.typical.show_table(patterns.typical_days[self.grouping.value()])

@@ -1,0 +1,26 @@
+"""Fixtures for the window's tests: a real project built from the sample campus."""
+
+from __future__ import annotations
+
+import dataclasses
+from pathlib import Path
+
+import pytest
+from desktop_support import SAMPLE, SITE_ZONE
+
+from engine.importing import ImportedFiles, store_files
+from engine.project import Project
+from engine.reading import ReadOptions, read_file
+
+
+@pytest.fixture(scope="session")
+def sample_project(tmp_path_factory) -> Path:
+    """A project holding the sample campus's Library meter and its weather station."""
+    options = ReadOptions(timezone=SITE_ZONE)
+    meters = read_file(SAMPLE / "electricity-15min.xlsx", options)
+    library = dataclasses.replace(meters, meters=meters.meters[:1])
+    weather = read_file(SAMPLE / "weather-station.csv", options)
+    path = tmp_path_factory.mktemp("projects") / f"orrinvale{Project.EXTENSION}"
+    with Project.create(path, timezone=SITE_ZONE) as project:
+        store_files(project, ImportedFiles([library], [], [weather], options))
+    return path

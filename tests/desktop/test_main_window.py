@@ -1,0 +1,66 @@
+"""The main window: the steps, the Project menu, and the open project in the status bar."""
+
+from __future__ import annotations
+
+import pytest
+from desktop_support import save_screen, wait_until_idle
+from PySide6.QtWidgets import QFileDialog, QMessageBox
+
+from desktop.main_window import STEP_NAMES, MainWindow
+
+
+@pytest.fixture
+def window(qtbot):
+    widget = MainWindow()
+    qtbot.addWidget(widget)
+    widget.show()
+    return widget
+
+
+def _action(window, words: str):
+    (menu,) = [a.menu() for a in window.menuBar().actions() if a.text() == "&Project"]
+    return next(a for a in menu.actions() if a.text() == words)
+
+
+def test_opening_a_project_fills_the_status_bar_and_the_patterns_step(
+    qtbot, window, sample_project
+):
+    assert [window.steps.item(r).text() for r in range(window.steps.count())] == list(STEP_NAMES)
+    assert window.statusBar().currentMessage() == "No project open"
+    assert window.open_project(sample_project)
+    assert window.statusBar().currentMessage() == (
+        f"{sample_project.name}: 1 meter(s), site zone America/Chicago"
+    )
+    window.show_step("Patterns")
+    assert window.screens.currentWidget() is window.patterns_screen
+    window.patterns_screen.show_meter("Library")
+    wait_until_idle(qtbot, window.patterns_screen)
+    assert window.patterns_screen.patterns.request.meter == "Library"
+    save_screen(window, "main-window-patterns")
+    window.close()
+    assert window.project is None
+
+
+def test_a_file_that_is_not_a_project_gives_a_message_box(window, tmp_path, monkeypatch):
+    shown = []
+    monkeypatch.setattr(QMessageBox, "warning", lambda *args: shown.append(args[1:]))
+    fake = tmp_path / "budget.loadledger"
+    fake.write_text("not a database", encoding="utf-8")
+    assert not window.open_project(fake)
+    ((title, text),) = shown
+    assert title == "Cannot open project" and "budget.loadledger" in text
+    assert "Traceback" not in text and window.project is None
+
+
+def test_new_from_files_goes_to_the_files_step_and_asks_for_files(
+    qtbot, window, tmp_path, monkeypatch
+):
+    path = tmp_path / "plant.csv"
+    path.write_text("Timestamp,Plant (kWh)\n2025-01-06 00:00,1.0\n2025-01-06 01:00,2.0\n")
+    monkeypatch.setattr(QFileDialog, "getOpenFileNames", lambda *args: ([str(path)], ""))
+    window.show_step("Export")
+    _action(window, "&New from files…").trigger()
+    assert window.screens.currentWidget() is window.files_screen
+    wait_until_idle(qtbot, window.files_screen)
+    assert [f.path for f in window.files_screen.plan.files] == [path]
+    assert window.files_screen.plan.files[0].state == "read"
