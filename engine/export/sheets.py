@@ -18,7 +18,7 @@ from openpyxl.worksheet.worksheet import Worksheet
 
 FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
 HEADER_FILL = PatternFill("solid", start_color="DCE6E0")
-HEADER_FONT = Font(bold=True)
+HEADER_FONT = Font(name="Calibri", bold=True)
 NUMBER_FORMAT = "#,##0.0"
 SHARE_FORMAT = "0.0%"
 DATE_FORMAT = "yyyy-mm-dd"

@@ -1,0 +1,319 @@
+"""The finance workbook's tables as plain frames, before any spreadsheet layout.
+
+Each function turns part of a :class:`~engine.budget.result.BudgetRun` (or the quality, step
+and score records that go with it) into a :class:`pandas.DataFrame` whose headers are what the
+reader sees. Energy headers carry the run's unit and cost headers its currency; formats,
+formulas and the chart are added by :mod:`engine.export.finance_workbook`.
+"""
+
+from __future__ import annotations
+
+import json
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass
+from typing import Any
+
+import pandas as pd
+
+from engine.budget.result import BudgetRun, PeriodTotal
+from engine.cleaning.steps import STEP_KINDS
+from engine.errors import InputError
+from engine.export.sheets import SHARE_FORMAT
+
+ENERGY_FORMAT = "#,##0"
+COUNT_FORMAT = "#,##0"
+PERCENT_POINTS_FORMAT = "0.0"
+RATIO_FORMAT = "0.00"
+
+#: Our own headers for the keys of :func:`engine.cleaning.quality.quality_summary`.
+QUALITY_LABELS: dict[str, str] = {
+    "intervals": "intervals",
+    "coverage_before": "coverage before cleaning",
+    "coverage_after": "coverage after cleaning",
+    "estimated_intervals": "estimated intervals",
+    "estimated_share": "estimated share",
+    "estimated_kwh": "estimated energy (kWh)",
+    "excluded_share": "left out of fitting",
+    "energy_before_kwh": "energy before cleaning (kWh)",
+    "energy_after_kwh": "energy after cleaning (kWh)",
+    "energy_added_kwh": "energy added (kWh)",
+    "energy_removed_kwh": "energy removed (kWh)",
+}
+STEPS_COUNT = "cleaning steps applied"
+TOTAL_LABEL = "Total"
+STEP_HEADERS = ["meter", "step", "kind", "what it does", "settings", "note", "added (UTC)"]
+METER_HEADERS = [
+    "meter",
+    "utility",
+    "model",
+    "first reading",
+    "last reading",
+    "backtest months inside range",
+    "backtest months tried",
+    "range scale",
+    "calibration method",
+]
+
+
+@dataclass(frozen=True)
+class Budgeted:
+    """One thing with a budget: the campus, a utility roll-up or a single meter."""
+
+    scope: str  # "campus", "utility" or "meter"
+    name: str
+    meters: int
+    months: list[PeriodTotal]
+    total: PeriodTotal
+
+
+@dataclass(frozen=True)
+class FigureColumns:
+    """The headers of the figure columns shared by the overview and the monthly table."""
+
+    unit: str
+    levels: tuple[int, ...]
+    currency: str | None
+    with_cost: bool
+
+    @property
+    def actual(self) -> str:
+        return f"actual to date ({self.unit})"
+
+    @property
+    def energy(self) -> list[str]:
+        return [f"mean ({self.unit})"] + [f"P{level} ({self.unit})" for level in self.levels]
+
+    @property
+    def cost(self) -> list[str]:
+        if not self.with_cost:
+            return []
+        code = f" ({self.currency})" if self.currency else ""
+        return [f"cost mean{code}"] + [f"cost P{level}{code}" for level in self.levels]
+
+    @property
+    def additive(self) -> list[str]:
+        """Columns whose total is the sum of the months (means add up; quantiles do not)."""
+        return [self.actual, self.energy[0], *self.cost[:1]]
+
+    def level_header(self, level: int) -> str:
+        return self.energy[1 + self.levels.index(level)]
+
+    def figures(self, total: PeriodTotal) -> dict[str, float | None]:
+        """The actual to date, energy and (when shown) cost figures of one period."""
+        out: dict[str, float | None] = {self.actual: total.actual_to_date}
+        energy = [total.energy.mean] + [total.energy.quantiles[str(v)] for v in self.levels]
+        out.update(zip(self.energy, energy, strict=True))
+        if self.with_cost:
+            cost = total.cost
+            values = (
+                [cost.mean] + [cost.quantiles[str(v)] for v in self.levels]
+                if cost is not None
+                else [None] * (1 + len(self.levels))
+            )
+            out.update(zip(self.cost, values, strict=True))
+        return out
+
+
+def budgeted(run: BudgetRun) -> list[Budgeted]:
+    """The campus roll-up, then each utility roll-up, then each meter, as in the run."""
+    out = []
+    if run.campus is not None:
+        c = run.campus
+        out.append(Budgeted("campus", c.group, len(c.meters), c.months, c.total))
+    out += [Budgeted("utility", u.group, len(u.meters), u.months, u.total) for u in run.utilities]
+    out += [Budgeted("meter", m.name, 1, m.months, m.total) for m in run.meters]
+    return out
+
+
+def figure_columns(run: BudgetRun) -> FigureColumns:
+    """The figure headers of ``run``; every roll-up and meter must share one energy unit."""
+    units = {m.unit for m in run.meters} | {u.unit for u in run.utilities}
+    if run.campus is not None:
+        units.add(run.campus.unit)
+    if len(units) > 1:
+        raise InputError(
+            f"the budget run mixes energy units ({', '.join(sorted(units))}).",
+            hint="Budget every meter in kWh (the importer converts units) and run it again.",
+        )
+    with_cost = any(p.cost is not None for b in budgeted(run) for p in [*b.months, b.total])
+    return FigureColumns(
+        unit=units.pop() if units else "kWh",
+        levels=tuple(sorted(run.levels)),
+        currency=run.currency,
+        with_cost=with_cost,
+    )
+
+
+@dataclass(frozen=True)
+class Block:
+    """Where one budgeted thing sits in the monthly frame: its first month row and count."""
+
+    item: Budgeted
+    first: int  # 0-based row of the frame
+    count: int
+
+    @property
+    def total_row(self) -> int:
+        return self.first + self.count
+
+
+def monthly_frame(run: BudgetRun, columns: FigureColumns) -> tuple[pd.DataFrame, list[Block]]:
+    """One block per budgeted thing: its months, a total row, then a blank row between blocks.
+
+    The total row holds the period total's own figures; the workbook replaces the additive
+    columns with live sums of the month rows.
+    """
+    rows: list[dict[str, Any]] = []
+    blocks: list[Block] = []
+    for item in budgeted(run):
+        if rows:
+            rows.append({})
+        blocks.append(Block(item, len(rows), len(item.months)))
+        for month in item.months:
+            rows.append(_monthly_row(item, pd.Timestamp(f"{month.period}-01"), month, columns))
+        rows.append(_monthly_row(item, TOTAL_LABEL, item.total, columns))
+    headers = ["scope", "budget for", "month", columns.actual, *columns.energy, *columns.cost]
+    return pd.DataFrame(rows, columns=headers), blocks
+
+
+def _monthly_row(
+    item: Budgeted, month: object, period: PeriodTotal, columns: FigureColumns
+) -> dict[str, Any]:
+    return {"scope": item.scope, "budget for": item.name, "month": month} | columns.figures(period)
+
+
+def overview_frame(run: BudgetRun, columns: FigureColumns) -> pd.DataFrame:
+    """Period totals of the campus and each utility (of each meter when there is no roll-up)."""
+    items = [b for b in budgeted(run) if b.scope != "meter"] or budgeted(run)
+    rows = [
+        {"scope": b.scope, "budget for": b.name, "meters": b.meters} | columns.figures(b.total)
+        for b in items
+    ]
+    headers = ["scope", "budget for", "meters", columns.actual, *columns.energy, *columns.cost]
+    return pd.DataFrame(rows, columns=headers)
+
+
+def daily_frame(run: BudgetRun) -> pd.DataFrame:
+    """Daily detail, one row per local date and meter: mean and the run's quantiles."""
+    figures = ["mean", *(f"P{level}" for level in run.levels)]
+    parts = []
+    for meter in run.meters:
+        daily = meter.daily
+        if daily.empty:
+            continue
+        missing = [name for name in figures if name not in daily.columns]
+        if missing:
+            raise ValueError(f"daily detail of meter {meter.name!r} lacks {missing}")
+        part = daily[figures].set_axis([f"{n} ({meter.unit})" for n in figures], axis=1)
+        part.insert(0, "date", pd.to_datetime(daily.index).tz_localize(None).normalize())
+        part.insert(0, "utility", meter.utility)
+        part.insert(0, "meter", meter.name)
+        parts.append(part.reset_index(drop=True))
+    return pd.concat(parts, ignore_index=True) if parts else pd.DataFrame()
+
+
+def quality_frame(
+    meters: Sequence[str], quality: Mapping[str, Mapping[str, Any]], steps: Sequence[dict]
+) -> pd.DataFrame:
+    """The data-quality summary of each meter with the number of cleaning steps applied."""
+    names = _ordered(meters, quality)
+    counts = pd.Series([str(s.get("meter")) for s in steps], dtype=object).value_counts()
+    rows = [
+        {QUALITY_LABELS.get(k, k.replace("_", " ")): v for k, v in quality.get(n, {}).items()}
+        | {STEPS_COUNT: int(counts.get(n, 0))}
+        for n in names
+    ]
+    return pd.DataFrame(rows, index=pd.Index(names, name="meter"))
+
+
+def quality_formats(quality: Mapping[str, Mapping[str, Any]]) -> dict[str, str]:
+    """Number formats of the quality headers, decided on the summary keys."""
+    keys = {key: None for summary in quality.values() for key in summary}
+    formats = {QUALITY_LABELS.get(k, k.replace("_", " ")): _key_format(k) for k in keys}
+    return formats | {STEPS_COUNT: COUNT_FORMAT}
+
+
+def _key_format(key: str) -> str:
+    lowered = key.lower()
+    if "share" in lowered or "coverage" in lowered:
+        return SHARE_FORMAT
+    if "intervals" in lowered:
+        return COUNT_FORMAT
+    return ENERGY_FORMAT
+
+
+def scores_frame(
+    run: BudgetRun, scorecards: Mapping[str, Mapping[str, Any]]
+) -> tuple[pd.DataFrame, dict[str, str]]:
+    """Each meter's model and backtest scores, with a number format per score.
+
+    ``scorecards`` wins over a meter's own ``scores``; meters without either still get a row.
+    """
+    cards = {m.name: dict(m.scores) for m in run.meters if m.scores} | {
+        name: dict(card) for name, card in scorecards.items()
+    }
+    models = {m.name: m.model for m in run.meters}
+    names = _ordered(list(models), cards)
+    frame = pd.DataFrame(
+        [{"model": models.get(n)} | cards.get(n, {}) for n in names],
+        index=pd.Index(names, name="meter"),
+    )
+    formats = {name: _score_format(name, frame[name]) for name in frame.columns[1:]}
+    return frame, {k: v for k, v in formats.items() if v}
+
+
+def _score_format(name: str, values: pd.Series) -> str | None:
+    numbers = [v for v in values if isinstance(v, int | float) and not isinstance(v, bool)]
+    if not numbers:
+        return None
+    if "coverage" in name.lower() and all(0 <= v <= 1 for v in numbers):
+        return SHARE_FORMAT  # a fraction of months or intervals
+    if "%" in name:
+        return PERCENT_POINTS_FORMAT  # already in percent
+    if "kwh" in name.lower() or all(isinstance(v, int) for v in numbers):
+        return COUNT_FORMAT
+    return RATIO_FORMAT
+
+
+def steps_frame(steps: Sequence[dict]) -> pd.DataFrame:
+    """The cleaning steps applied, in the order given, with what each kind does."""
+    rows = [
+        {
+            "meter": step.get("meter"),
+            "step": step.get("id"),
+            "kind": step.get("kind"),
+            "what it does": STEP_KINDS.get(str(step.get("kind")), ""),
+            "settings": json.dumps(step.get("params") or {}, sort_keys=True, default=str),
+            "note": step.get("note") or "",
+            "added (UTC)": step.get("created_at"),
+        }
+        for step in steps
+    ]
+    return pd.DataFrame(rows, columns=STEP_HEADERS)
+
+
+def meters_frame(run: BudgetRun, data_range: Mapping[str, tuple[str, str]]) -> pd.DataFrame:
+    """Per meter: utility, model, the data range used and how its range was calibrated."""
+    rows = []
+    for meter in run.meters:
+        first, last = data_range.get(meter.name, (None, None))
+        check = run.calibration.get(meter.name)
+        rows.append(
+            {
+                "meter": meter.name,
+                "utility": meter.utility,
+                "model": meter.model,
+                "first reading": first,
+                "last reading": last,
+                "backtest months inside range": check.held if check else None,
+                "backtest months tried": check.tried if check else None,
+                "range scale": check.scale if check else None,
+                "calibration method": check.method if check else None,
+            }
+        )
+    return pd.DataFrame(rows, columns=METER_HEADERS).set_index("meter")
+
+
+def _ordered(first: Sequence[str], more: Mapping[str, Any]) -> list[str]:
+    """``first`` in order, then keys of ``more`` not already there."""
+    return list(dict.fromkeys([*first, *more]))
