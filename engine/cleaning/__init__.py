@@ -2,7 +2,7 @@
 
 Typical use::
 
-    findings = find_all(meter)
+    findings = find_all(meter, calendar=campus_calendar)   # the calendar is optional
     steps = recommended_steps(findings)
     cleaned = apply_steps(meter.values, steps, interval=meter.interval)
     summary = quality_summary(meter.values, cleaned)

@@ -19,17 +19,20 @@ def catch_up_after(meter: PreparedMeter, first: int, stop: int, opening: str) ->
 
     The run ``[first, stop)`` is a gap or a near-zero stretch, described by ``opening`` (such as
     ``"No readings"``). The reading right after it is a catch-up when it is at least ``spike_z``
-    robust deviations above typical and its excess over typical is within ``catch_up_ratio`` of
-    the energy the run is missing (typical energy minus what it recorded).
+    robust deviations above usual and its excess over usual is within ``catch_up_ratio`` of
+    the energy the run is missing (usual energy minus what it recorded). "Usual" is what each
+    interval's own day makes usual (:attr:`PreparedMeter.usual`), so that a catch-up on a
+    holiday is weighed against the holiday's level, not a term day's.
     """
     settings = meter.settings
     if stop >= len(meter):
         return None
-    reading, usual = meter.values[stop], meter.typical[stop]
-    typical_run = meter.typical[first:stop]
-    if not (np.isfinite(reading) and np.isfinite(usual)) or np.isnan(typical_run).mean() > 0.5:
+    expected = meter.usual
+    reading, usual = meter.values[stop], expected[stop]
+    usual_run = expected[first:stop]
+    if not (np.isfinite(reading) and np.isfinite(usual)) or np.isnan(usual_run).mean() > 0.5:
         return None
-    missing = np.nanmean(typical_run) * (stop - first) - np.nansum(meter.values[first:stop])
+    missing = np.nanmean(usual_run) * (stop - first) - np.nansum(meter.values[first:stop])
     excess = reading - usual
     z = excess / meter.spread[stop]
     if missing <= 0 or z < settings.spike_z:
@@ -40,10 +43,10 @@ def catch_up_after(meter: PreparedMeter, first: int, stop: int, opening: str) ->
     recorded = np.nansum(meter.values[first : stop + 1])
     explanation = (
         f"{opening} {meter.when(first, stop)}, then {energy_text(reading)} in the next interval "
-        f"where about {energy_text(usual)} is typical. The extra {energy_text(excess)} is close "
+        f"where about {energy_text(usual)} is usual. The extra {energy_text(excess)} is close "
         f"to the {energy_text(missing)} the stretch is missing (within a factor of "
         f"{settings.catch_up_ratio:g}), and the reading is {z:.0f} robust deviations above "
-        f"typical (threshold {settings.spike_z:g}): the meter most likely delivered the missed "
+        f"usual (threshold {settings.spike_z:g}): the meter most likely delivered the missed "
         f"energy late. Recommended: share the {energy_text(recorded)} recorded over all "
         f"{count_text(stop + 1 - first)} following the typical week, which keeps the total the "
         "meter recorded."

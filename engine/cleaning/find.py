@@ -7,6 +7,7 @@ from collections.abc import Callable
 import numpy as np
 import pandas as pd
 
+from engine.calendar import CampusCalendar
 from engine.cleaning.clock import find_clock_problems
 from engine.cleaning.findings import Finding
 from engine.cleaning.gaps import find_gaps
@@ -37,6 +38,8 @@ def find_all(
     meter: MeterSeries,
     settings: CleaningSettings | None = None,
     progress: Progress | None = None,
+    *,
+    calendar: CampusCalendar | None = None,
 ) -> list[Finding]:
     """Every problem the detectors find in a meter's readings, in time order.
 
@@ -50,6 +53,11 @@ def find_all(
         Thresholds; the defaults when not given.
     progress : Progress, optional
         Told which detector runs; cancelling stops at the next detector.
+    calendar : CampusCalendar, optional
+        The campus calendar. With it, readings are compared with days of the same kind (term,
+        summer session, break or closure; see :mod:`engine.cleaning.like_days`), and a
+        holiday, break or closure day that changed as a whole is not reported. Without it, such
+        a day shows as one "low_day" finding (see :mod:`engine.cleaning.day_level`).
 
     Returns
     -------
@@ -70,7 +78,7 @@ def find_all(
         readings = readings[~readings.index.duplicated(keep="first")]
     step(progress, 0.0, f"Preparing {meter.name}")
     prepared = PreparedMeter.build(
-        meter.name, readings.sort_index(), meter.interval, meter.timezone, settings
+        meter.name, readings.sort_index(), meter.interval, meter.timezone, settings, calendar
     )
     claimed = np.zeros(len(prepared), dtype=bool)
     for number, (label, detect) in enumerate(DETECTORS):

@@ -25,11 +25,13 @@ FINDING_KINDS: dict[str, str] = {
     "dst_single": "the hour clocks repeat appears only once",
     "flat_line": "the same reading repeated for longer than plausible",
     "zero_run": "readings at or near zero when the meter is normally busy",
-    "spike": "a reading far above typical for its hour of the week",
-    "dip": "a reading far below typical for its hour of the week",
+    "spike": "a reading far above typical for its hour of the week and for its own day",
+    "dip": "a reading far below typical for its hour of the week and for its own day",
     "negative": "negative consumption",
     "register_reset": "a large negative reading: a register reset or rollover",
     "level_shift": "a lasting step change in daily energy",
+    "low_day": "whole days below typical together: a day-level change, not a meter fault",
+    "high_day": "whole days above typical together: a day-level change, not a meter fault",
 }
 
 

@@ -1,13 +1,15 @@
 """Level shifts: a step change in daily energy that lasts (new equipment, changed use, a unit).
 
 Daily energy is compared by its median over ``level_window`` before and after each day; days
-where the ratio peaks beyond ``level_ratio`` are candidates, kept when the same change does not
-recur a year before or after (then it is a season or a calendar break, not a shift). Medians
-make the peak a plateau, so the day of change is then placed by CUSUM on log daily energy
-(weekday effects removed) around the candidate: the split where the cumulative departure from
-the mean is largest, the single change-point estimate that binary segmentation repeats. The
-change is reported when the new level still holds over ``level_persist``. Shifts are never
-fixed automatically.
+where the ratio peaks beyond ``level_ratio`` are candidates, kept unless a change of the same
+sign and at least half the size (in logs) shows a year before or after (then it is a season or
+a calendar break, not a shift; a shift on top of a smaller seasonal change still shows). With a
+campus calendar, holidays, breaks and closures are left out of the daily series, so that term
+days are compared with term days. Medians make the peak a plateau, so the day of change is then
+placed by CUSUM on log daily energy (weekday effects removed) around the candidate: the split
+where the cumulative departure from the mean is largest, the single change-point estimate that
+binary segmentation repeats. The change is reported when the new level still holds over
+``level_persist``. Shifts are never fixed automatically.
 """
 
 from __future__ import annotations
@@ -28,7 +30,6 @@ DAY_COVERAGE = 0.9
 #: or take two weeks for a calendar that moves.
 YEAR_DAYS = 364
 YEAR_SLACK_DAYS = 14
-_NS_PER_DAY = 86_400 * 10**9
 
 
 def find_level_shifts(meter: PreparedMeter, claimed: np.ndarray) -> list[Finding]:
@@ -53,7 +54,7 @@ def find_level_shifts(meter: PreparedMeter, claimed: np.ndarray) -> list[Finding
     )
     shifts = []
     for peak in peaks:
-        if _recurs(change, peak, threshold):
+        if _recurs(change, peak):
             continue
         day = _change_day(daily, peak, window, first_weekday)
         if np.sign(change[peak]) * held[day] >= threshold and day not in shifts:
@@ -71,13 +72,12 @@ def _daily_energy(meter: PreparedMeter) -> tuple[np.ndarray, np.ndarray, int]:
     """Daily energy, each day's first grid position, and the first day's weekday (Monday = 0).
 
     Days are local calendar days; a day short of readings (or a partial first or last day) is
-    NaN, and a day with a few missing intervals is scaled up to its full count.
+    NaN, and a day with a few missing intervals is scaled up to its full count. Days the campus
+    calendar makes quiet are NaN too.
     """
-    wall = meter.index.tz_convert(meter.timezone).tz_localize(None).as_unit("ns").asi8
-    day = wall // _NS_PER_DAY
     # 1970-01-01 was a Thursday.
-    first_weekday = int((day[0] + 3) % 7)
-    day = day - day[0]
+    first_weekday = int((meter.local_day[0] + 3) % 7)
+    day = meter.local_day - meter.local_day[0]
     days = int(day[-1]) + 1
     present = np.isfinite(meter.values)
     slots = np.bincount(day, minlength=days)
@@ -85,6 +85,8 @@ def _daily_energy(meter: PreparedMeter) -> tuple[np.ndarray, np.ndarray, int]:
     energy = np.bincount(day, weights=np.where(present, meter.values, 0.0), minlength=days)
     whole_day = slots * meter.interval >= pd.Timedelta(hours=23)
     counted = whole_day & (readings >= DAY_COVERAGE * slots)
+    if meter.calendar_days is not None:
+        counted &= np.bincount(day, weights=meter.calendar_days.quiet, minlength=days) == 0
     with np.errstate(invalid="ignore", divide="ignore"):
         daily = np.where(counted, energy * slots / readings, np.nan)
     return daily, np.searchsorted(day, np.arange(days)), first_weekday
@@ -109,8 +111,9 @@ def _change_day(daily: np.ndarray, peak: int, window: int, first_weekday: int) -
     return int(days[int(np.argmax(np.abs(departure[:-1]))) + 1])
 
 
-def _recurs(change: np.ndarray, day: int, threshold: float) -> bool:
-    """Whether a change of the same sign and at least half the size shows a year away."""
+def _recurs(change: np.ndarray, day: int) -> bool:
+    """Whether a change of the same sign and at least half the size (in logs) shows a year away."""
+    size = abs(change[day])
     sign = np.sign(change[day])
     for offset in (-YEAR_DAYS, YEAR_DAYS):
         low = max(0, day + offset - YEAR_SLACK_DAYS)
@@ -119,7 +122,7 @@ def _recurs(change: np.ndarray, day: int, threshold: float) -> bool:
             continue
         nearby = sign * change[low:high]
         nearby = nearby[np.isfinite(nearby)]
-        if nearby.size and nearby.max() >= threshold / 2:
+        if nearby.size and nearby.max() >= size / 2:
             return True
     return False
 

@@ -1,9 +1,10 @@
-"""Spikes and dips: readings far from what is typical for their local hour of the week."""
+"""Spikes and dips: readings far from what is typical for their hour and for their own day."""
 
 from __future__ import annotations
 
 import numpy as np
 
+from engine.cleaning.day_level import day_level_findings
 from engine.cleaning.findings import Finding
 from engine.cleaning.grid import runs
 from engine.cleaning.prepared import PreparedMeter
@@ -11,20 +12,31 @@ from engine.cleaning.wording import energy_text, local_text
 
 
 def find_spikes_and_dips(meter: PreparedMeter, claimed: np.ndarray) -> list[Finding]:
-    """Runs of readings at least ``spike_z`` robust deviations above (spike) or below (dip) typical.
+    """Runs of readings far above (spike) or below (dip) typical, and days that moved as a whole.
 
-    The robust z of a reading is its distance from the median of its local hour of the week over
-    ``pattern_weeks`` nearby weeks, in units of 1.4826·MAD. A spike is serious when it also
-    exceeds ``implausible_factor`` times the meter's 99.5th-percentile reading.
+    The robust z of a reading is its distance from the median of its local hour of the week
+    (on days of the same calendar class when a calendar is given) over ``pattern_weeks`` nearby
+    weeks, in units of 1.4826·MAD. A reading at least ``spike_z`` robust deviations away is a
+    spike or dip only when it is also that far from its own day's resistant line (see
+    :mod:`engine.cleaning.day_lines`); readings only the typical week finds unusual belong to a
+    day that changed as a whole and are summed up in one low-day or high-day finding. A spike is
+    serious when it also exceeds ``implausible_factor`` times the meter's 99.5th-percentile
+    reading.
     """
     settings = meter.settings
+    limit = settings.spike_z
     with np.errstate(invalid="ignore"):
         z = (meter.values - meter.typical) / meter.spread
-        up = (z >= settings.spike_z) & ~claimed
-        down = (z <= -settings.spike_z) & (meter.values >= 0) & ~claimed
+        z_day = (meter.values - meter.day_lines.expected) / meter.spread
+        high = (z >= limit) & ~claimed
+        low = (z <= -limit) & (meter.values >= 0) & ~claimed
+        # A day without a line (too few readings) leaves the typical week to decide alone.
+        up = high & ~(z_day < limit)
+        down = low & ~(z_day > -limit)
     claimed[up | down] = True
     found = [_spike(meter, first, stop, z) for first, stop in zip(*runs(up), strict=True)]
     found += [_dip(meter, first, stop, z) for first, stop in zip(*runs(down), strict=True)]
+    found += day_level_findings(meter, (high & ~up) | (low & ~down))
     return found
 
 
@@ -43,9 +55,10 @@ def _spike(meter: PreparedMeter, first: int, stop: int, z: np.ndarray) -> Findin
     advice = "Recommended: cap at" if implausible else "If this was not real use, cap at"
     explanation = (
         f"{_readings(meter, first, stop, 'up to')} where about "
-        f"{energy_text(meter.typical[peak_at])} is typical for that hour of the week: "
+        f"{energy_text(meter.typical[peak_at])} is typical {meter.like_days}: "
         f"{z[peak_at]:.0f} robust deviations above typical (threshold {settings.spike_z:g}, "
-        f"over {settings.pattern_weeks} nearby weeks).{beyond} {advice} "
+        f"over {settings.pattern_weeks} nearby weeks), and beyond that threshold from its own "
+        f"day's level too.{beyond} {advice} "
         f"{energy_text(limit)}, the highest value the meter's typical week makes plausible."
     )
     fix = meter.step("cap", first, stop, "cap a spike", high=limit)
@@ -70,11 +83,12 @@ def _dip(meter: PreparedMeter, first: int, stop: int, z: np.ndarray) -> Finding:
     limit = max(limit, 0.0)
     explanation = (
         f"{_readings(meter, first, stop, 'down to')} where about "
-        f"{energy_text(meter.typical[low_at])} is typical for that hour of the week: "
+        f"{energy_text(meter.typical[low_at])} is typical {meter.like_days}: "
         f"{-z[low_at]:.0f} robust deviations below typical (threshold {settings.spike_z:g}, "
-        f"over {settings.pattern_weeks} nearby weeks). A partial outage, a lost phase or a "
-        f"logger fault. If confirmed, raise the readings to {energy_text(limit)}, the lowest "
-        "value the meter's typical week makes plausible."
+        f"over {settings.pattern_weeks} nearby weeks), and beyond that threshold from its own "
+        "day's level too. A partial outage, a lost phase or a logger fault. If confirmed, raise "
+        f"the readings to {energy_text(limit)}, the lowest value the meter's typical week makes "
+        "plausible."
     )
     fix = meter.step("cap", first, stop, "raise a dip", low=limit)
     return meter.finding(

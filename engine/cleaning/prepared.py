@@ -8,10 +8,12 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
+from engine.calendar import CampusCalendar
+from engine.cleaning.day_lines import DayLines, fit_day_lines
 from engine.cleaning.findings import Finding
 from engine.cleaning.fixes import typical_near
 from engine.cleaning.grid import to_grid
-from engine.cleaning.pattern import week_places, weekly_pattern
+from engine.cleaning.like_days import CalendarDays, like_day_pattern
 from engine.cleaning.settings import CleaningSettings
 from engine.cleaning.steps import CleaningStep, range_step
 from engine.cleaning.wording import count_text, duration_text, local_text
@@ -19,6 +21,7 @@ from engine.errors import InputError
 
 #: The percentile that stands for "about the highest this meter normally reads".
 HIGH_PERCENTILE = 99.5
+_NS_PER_DAY = 86_400 * 10**9
 
 
 @dataclass(frozen=True)
@@ -26,9 +29,13 @@ class PreparedMeter:
     """Everything the detectors share about one meter.
 
     ``values`` runs from the first to the last reading present, NaN where missing. ``typical``
-    and ``spread`` come from :func:`engine.cleaning.pattern.weekly_pattern`; the spread is never
-    below ``spread_floor_share`` of ``level`` (the median positive reading). ``high`` is the
-    meter's 99.5th-percentile reading.
+    and ``spread`` come from :func:`engine.cleaning.like_days.like_day_pattern` (days of the same
+    campus-calendar class when a calendar is given); the spread is never below
+    ``spread_floor_share`` of ``level`` (the median positive reading). ``high`` is the meter's
+    99.5th-percentile reading. ``local_day`` numbers each interval's local calendar day (days
+    since 1970-01-01 on the site's clock); ``day_lines`` fits each local day as a whole to its
+    typical values (:mod:`engine.cleaning.day_lines`); ``calendar_days`` holds the campus
+    calendar's labels of the grid, or ``None`` without a calendar.
     """
 
     name: str
@@ -41,6 +48,9 @@ class PreparedMeter:
     level: float
     high: float
     settings: CleaningSettings
+    local_day: np.ndarray
+    day_lines: DayLines
+    calendar_days: CalendarDays | None = None
 
     @classmethod
     def build(
@@ -50,6 +60,7 @@ class PreparedMeter:
         interval: pd.Timedelta,
         timezone: str,
         settings: CleaningSettings,
+        calendar: CampusCalendar | None = None,
     ) -> PreparedMeter:
         grid = to_grid(readings, interval, name, timezone)
         present = np.flatnonzero(np.isfinite(grid.to_numpy()))
@@ -59,11 +70,16 @@ class PreparedMeter:
             )
         grid = grid.iloc[present[0] : present[-1] + 1]
         values = grid.to_numpy(dtype="float64")
-        places = week_places(grid.index, timezone, interval)
-        pattern = weekly_pattern(values, places, settings.pattern_weeks)
+        days = CalendarDays.label(grid.index, timezone, calendar) if calendar is not None else None
+        pattern = like_day_pattern(
+            values, grid.index, timezone, interval, settings.pattern_weeks, days
+        )
+        wall = grid.index.tz_convert(timezone).tz_localize(None).as_unit("ns").asi8
         positive = values[values > 0]
         level = float(np.median(positive)) if positive.size else 0.0
         floor = max(settings.spread_floor_share * level, np.finfo(float).tiny)
+        spread = np.maximum(pattern.spread, floor)
+        local_day = wall // _NS_PER_DAY
         return cls(
             name=name,
             timezone=timezone,
@@ -71,14 +87,30 @@ class PreparedMeter:
             index=grid.index,
             values=values,
             typical=pattern.typical,
-            spread=np.maximum(pattern.spread, floor),
+            spread=spread,
             level=level,
             high=float(np.nanpercentile(values, HIGH_PERCENTILE)),
             settings=settings,
+            local_day=local_day,
+            day_lines=fit_day_lines(local_day, values, pattern.typical, spread),
+            calendar_days=days,
         )
 
     def __len__(self) -> int:
         return self.values.size
+
+    @property
+    def like_days(self) -> str:
+        """How "typical" was judged, for explanations."""
+        if self.calendar_days is None:
+            return "for that hour of the week"
+        return "for that hour on days of the same kind in the campus calendar"
+
+    @property
+    def usual(self) -> np.ndarray:
+        """Per interval, what its own day makes usual: the day's line, else the typical value."""
+        line = self.day_lines.expected
+        return np.where(np.isfinite(line), line, self.typical)
 
     def end_of(self, stop: int) -> pd.Timestamp:
         """The end of the interval just before grid position ``stop``."""

@@ -8,6 +8,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass, replace
 
+from engine.calendar import CampusCalendar
 from engine.cleaning.cleaned import CleanedSeries
 from engine.cleaning.clock import find_clock_problems
 from engine.cleaning.find import find_all
@@ -16,6 +17,8 @@ from engine.cleaning.quality import quality_summary, recommended_steps
 from engine.cleaning.replay import apply_steps
 from engine.cleaning.settings import CleaningSettings
 from engine.cleaning.steps import CleaningStep
+from engine.errors import InputError
+from engine.importing import CALENDAR_SETTING
 from engine.meters import MeterSeries
 from engine.progress import Progress
 from engine.project import Project
@@ -48,20 +51,38 @@ def review_meter(
     settings: CleaningSettings | None = None,
     progress: Progress | None = None,
 ) -> MeterReview:
-    """Replay the log, then run every detector on the result (what is still to be done)."""
+    """Replay the log, then run every detector on the result (what is still to be done).
+
+    The detectors get the project's campus calendar when it has one, so holidays, breaks and
+    closures are compared with days of their own kind.
+    """
     meter, cleaned = cleaned_meter(project, name)
     current = replace(meter, values=cleaned.values.dropna())
-    findings = find_all(current, settings, progress)
+    findings = find_all(current, settings, progress, calendar=stored_calendar(project))
     raw = project.load_raw(name)
     if project.meter_settings(name).get("value_kind", "interval") == "interval":
         findings = find_clock_problems(raw[["t", "raw_value"]], meter.timezone, name) + findings
     return MeterReview(meter, cleaned, findings, project.cleaning_steps(name))
 
 
+def stored_calendar(project: Project) -> CampusCalendar | None:
+    """The campus calendar kept in the project's settings, or None when it has none."""
+    stored = project.get_setting(CALENDAR_SETTING)
+    if not stored:
+        return None
+    try:
+        return CampusCalendar.from_dict(stored)
+    except (KeyError, TypeError, ValueError, AttributeError) as error:
+        raise InputError(
+            f"the project's campus calendar cannot be read ({error}).",
+            hint="Import the campus calendar file again.",
+            file=project.path,
+        ) from error
+
+
 def apply_recommended(project: Project, review: MeterReview) -> list[int]:
     """Log the recommended fixes of ``review`` in one save; return the new step ids."""
     with project.transaction():
         return [
-            project.add_cleaning_step(step.to_dict())
-            for step in recommended_steps(review.findings)
+            project.add_cleaning_step(step.to_dict()) for step in recommended_steps(review.findings)
         ]

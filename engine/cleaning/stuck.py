@@ -73,7 +73,10 @@ def find_zero_runs(meter: PreparedMeter, claimed: np.ndarray) -> list[Finding]:
     A reading is near zero at or below ``near_zero_share`` of its typical value; an hour is busy
     when its typical reading is at least ``busy_share`` of the meter's median reading. A run is
     reported (trimmed to its busy part) when it covers ``zero_min_hours`` of busy time, and as
-    a catch-up when the reading after it holds the energy it is missing.
+    a catch-up when the reading after it holds the energy it is missing. A run that switches
+    off every busy hour of whole days the campus calendar makes quiet (holidays, breaks,
+    closures) is most likely a building shut for them and is only noted (severity info); a run
+    covering part of such a day is an outage like any other.
     """
     settings = meter.settings
     values, typical = meter.values, meter.typical
@@ -95,27 +98,52 @@ def find_zero_runs(meter: PreparedMeter, claimed: np.ndarray) -> list[Finding]:
             found.append(catch_up)
         else:
             claimed[first:stop] = True
-            found.append(_zero_run(meter, first, stop))
+            shut = _shut_for_quiet_days(meter, busy, int(run_first), int(run_stop), first, stop)
+            found.append(_zero_run(meter, first, stop, shut))
     return found
 
 
-def _zero_run(meter: PreparedMeter, first: int, stop: int) -> Finding:
+def _shut_for_quiet_days(
+    meter: PreparedMeter, busy: np.ndarray, run_first: int, run_stop: int, first: int, stop: int
+) -> bool:
+    """Whether a near-zero run switches off whole quiet days.
+
+    The run ``[run_first, run_stop)`` is busy from ``first`` to ``stop``; it switches off whole
+    quiet days when the calendar makes all of those busy intervals quiet and no busy interval of
+    the local days they lie on falls outside the run.
+    """
+    days = meter.calendar_days
+    if days is None or not days.quiet[first:stop].all():
+        return False
+    day_first = int(np.searchsorted(meter.local_day, meter.local_day[first], side="left"))
+    day_stop = int(np.searchsorted(meter.local_day, meter.local_day[stop - 1], side="right"))
+    return not (busy[day_first:run_first].any() or busy[run_stop:day_stop].any())
+
+
+def _zero_run(meter: PreparedMeter, first: int, stop: int, shut: bool) -> Finding:
     settings = meter.settings
+    verdict = (
+        ". The run covers every busy hour of whole days the campus calendar lists as holidays, "
+        "breaks or closures, so the building was most likely shut for them: keep the readings "
+        "unless it was running."
+        if shut
+        else ": an outage or a failed meter or logger. If the building was really off, keep the "
+        "readings; if it was running, replace them by an estimate."
+    )
     explanation = (
         f"Readings at or near zero (at most {settings.near_zero_share:.0%} of typical) "
         f"{meter.when(first, stop)}, hours when this meter normally uses "
         f"{energy_text(meter.expected_energy(first, stop))} (busy hours are those whose typical "
         f"reading is at least {settings.busy_share:.0%} of the meter's median reading; runs with "
-        f"{duration_text(settings.zero_min_duration)} or more of busy time are reported): an "
-        "outage or a failed meter or logger. If the building was really off, keep the readings; "
-        "if it was running, replace them by an estimate."
+        f"{duration_text(settings.zero_min_duration)} or more of busy time are reported)"
+        f"{verdict}"
     )
     fix = meter.fill_step(first, stop, "replace a zero run")
     return meter.finding(
         "zero_run",
         first,
         stop,
-        _duration_severity(meter, stop - first),
+        "info" if shut else _duration_severity(meter, stop - first),
         explanation,
         fix,
         near_zero_share=settings.near_zero_share,

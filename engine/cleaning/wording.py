@@ -49,3 +49,8 @@ def local_text(stamp: pd.Timestamp, timezone: str) -> str:
 def ratio_text(ratio: float) -> str:
     """A multiplicative change, e.g. ``"×1.47"``."""
     return f"×{ratio:.3g}"
+
+
+def day_text(stamp: pd.Timestamp, timezone: str) -> str:
+    """The local calendar day of a UTC instant, e.g. ``"Mon 2024-03-04"``."""
+    return stamp.tz_convert(timezone).strftime("%a %Y-%m-%d")

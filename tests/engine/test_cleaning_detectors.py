@@ -267,6 +267,20 @@ def test_a_term_break_that_recurs_each_year_is_not_a_level_shift():
     assert [f.kind for f in find_all(meter_of(quiet))] == []
 
 
+def test_a_shift_on_top_of_a_recurring_break_is_still_a_level_shift():
+    # A halved meter multiplier from the first day of the second quiet summer: the summer drop
+    # (×0.55) recurs a year earlier, but it accounts for less than half of the change (in logs).
+    readings = campus_readings(weeks=104)
+    local = readings.index.tz_convert(SITE_ZONE)
+    summer = (local.month == 7) | ((local.month == 8) & (local.day <= 20))
+    quiet = readings.where(~summer, readings * 0.55)
+    change = pd.Timestamp("2024-07-01", tz=SITE_ZONE)
+    halved = quiet.where(quiet.index < change, quiet * 0.5)
+    shift = only(find_all(meter_of(halved)), "level_shift")
+    assert abs(shift.start - change) <= pd.Timedelta(days=1)
+    assert shift.measures["ratio"] == pytest.approx(0.55 * 0.5, rel=0.1)
+
+
 def test_off_grid_readings_are_refused_by_name(clean):
     shifted = clean.copy()
     shifted.index = shifted.index.where(

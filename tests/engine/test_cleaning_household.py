@@ -70,15 +70,17 @@ def test_the_filled_minutes_match_the_documented_missing_count(household_minutes
 
 def test_false_alarms_on_real_data_stay_under_the_bar(household):
     findings = find_all(meter_of(household))
-    # Gaps are the data set's own missing minutes: real, not false alarms.
-    judged = [f for f in findings if f.kind not in ("gap", "catch_up")]
+    # Gaps are the data set's own missing minutes: real, not false alarms. Low and high days
+    # (whole days away from typical, severity info) are notes, not alarms.
+    judged = [f for f in findings if f.kind not in ("gap", "catch_up") and f.severity != "info"]
     serious = [f for f in judged if f.severity == "serious"]
     # Bar: at most one serious finding per year of clean data; serious findings are what
     # "apply recommended" acts on. Measured: 0.
     assert len(serious) / YEARS <= 1
     # A household is far spikier than a campus building (kettle, oven, washing machine sit many
     # robust deviations above a quiet hour), so it draws warnings for review: measured about
-    # 700 a year, nearly all spikes. The bar keeps that from growing unnoticed.
+    # 615 a year, nearly all spikes (about 700 before a reading also had to stand out from its
+    # own day's level). The bar keeps that from growing unnoticed.
     assert len(judged) / YEARS <= 800
     # Applied unasked, the recommended steps only fill the data set's real gaps.
     assert {step.kind for step in recommended_steps(findings)} <= {"interpolate", "profile_fill"}

@@ -9,7 +9,7 @@ import numpy as np
 import pandas as pd
 from scipy.stats import median_abs_deviation, norm
 
-from engine.cleaning.pattern import MAD_TO_SD, week_places, weekly_pattern
+from engine.cleaning.pattern import MAD_TO_SD, day_places, week_places, weekly_pattern
 
 QUARTER_HOUR = pd.Timedelta(minutes=15)
 
@@ -96,3 +96,30 @@ def test_thin_slots_give_no_typical_value():
     pattern = weekly_pattern(values, places, weeks=4)
     assert np.isnan(pattern.typical).all()
     assert np.isfinite(weekly_pattern(values, places, weeks=4, min_samples=1).typical).all()
+
+
+def test_hour_of_day_places_pool_every_day_of_the_week_on_the_site_clock():
+    # The week of the October 2024 clock change in Berlin (EU Directive 2000/84/EC, from
+    # memory: 27 October 2024, 03:00 summer time back to 02:00).
+    readings = _hourly_readings(weeks=3, missing_share=0.05)
+    index = readings.index + pd.Timedelta(weeks=42)
+    berlin = ZoneInfo("Europe/Berlin")
+    places = day_places(index, "Europe/Berlin", pd.Timedelta(hours=1))
+    hours = [datetime.fromtimestamp(t.timestamp(), tz=UTC).astimezone(berlin).hour for t in index]
+    assert places.slot.tolist() == hours
+    assert (places.n_slots, places.per_slot) == (24, 7)
+    pattern = weekly_pattern(readings.to_numpy(), places, weeks=10, min_samples=1)
+    # With a window wider than the record each local hour of the day is one group; the
+    # repeated 02:00 hour has one reading more than a slot holds and is left out, as in the
+    # hour-of-week table.
+    kept = places.rank < places.per_slot
+    frame = pd.DataFrame({"hour": hours, "value": readings.to_numpy()})[kept]
+    grouped = frame.groupby("hour")["value"]
+    median = grouped.median().reindex(hours).to_numpy()
+    spread = (
+        grouped.agg(lambda x: median_abs_deviation(x, scale="normal", nan_policy="omit"))
+        .reindex(hours)
+        .to_numpy()
+    )
+    np.testing.assert_allclose(pattern.typical, median, rtol=1e-12)
+    np.testing.assert_allclose(pattern.spread, spread, rtol=1e-12)
