@@ -1,0 +1,726 @@
+"""Rolling-origin backtests: refit before each month, forecast the months after it, score.
+
+The origins are the starts of the last N whole local calendar months of the data (default 12).
+At each origin every model is refitted on the data before it (``inputs.window(end=origin)``)
+and forecasts the following months up to the longest horizon (default 3). A shorter horizon is
+scored on the first months of that same forecast: the model contract makes a forecast of each
+interval independent of how far the forecast window reaches, so one prediction serves all
+horizons. A horizon is scored only where all its months lie within the data.
+
+Each fitted model forecasts under two weather conditions, reported separately:
+
+* ``"actual weather"`` — the measured temperatures of the forecast months, which shows the
+  model's own error;
+* ``"typical weather"`` — a typical year (:func:`engine.weather.typical_year`) learned from
+  the temperatures before the origin only, as a budget made at the origin would have had;
+  this adds the error of not knowing the weather.
+
+Without temperatures there is one condition, ``"no weather"``.
+
+A model that fails at one origin (in fitting or forecasting) is recorded with its message and
+the run goes on; cancelling (:class:`engine.progress.Cancelled`) stops the whole run.
+
+Speed: each model is fitted once per origin and serves both weather conditions; the typical
+year is learned once per origin; month keys are computed once for the whole index and sliced;
+forecasts are scored on plain arrays and month totals summed in one pass at the end. On three
+years of hourly data with 12 origins this bookkeeping takes about 1–2 s for eight models; the
+rest is the models' own fitting.
+"""
+
+from __future__ import annotations
+
+import copy
+import math
+import time
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, replace
+from typing import Any
+
+import numpy as np
+import pandas as pd
+
+from engine.errors import InputError, ProjectError
+from engine.models.base import EnergyModel, ModelInputs
+from engine.progress import Cancelled, Progress, step
+from engine.scoring import (
+    Scorecard,
+    cv_rmse,
+    forecast_vs_actual_percent,
+    local_months,
+    mae,
+    mean_scaled_error,
+    month_total_mape,
+    nmbe,
+    score_forecast,
+    seasonal_naive_mae,
+    total_by,
+)
+from engine.weather import TypicalWeather, typical_year
+
+ACTUAL_WEATHER = "actual weather"
+TYPICAL_WEATHER = "typical weather"
+NO_WEATHER = "no weather"
+#: What each condition gives the models for the forecast months, in plain words.
+CONDITIONS: dict[str, str] = {
+    ACTUAL_WEATHER: "the measured temperatures of the forecast months",
+    TYPICAL_WEATHER: "a typical year learned from the temperatures before each origin",
+    NO_WEATHER: "no temperatures (calendar only)",
+}
+#: Version of the layout :meth:`BacktestResult.to_dict` writes.
+FORMAT_VERSION = 1
+
+_HOUR = pd.Timedelta(hours=1)
+_WEEK = pd.Timedelta(weeks=1)
+
+
+def _month_start(month: pd.Period, timezone: str) -> pd.Timestamp:
+    """Local midnight starting ``month``, in UTC."""
+    local = month.start_time.tz_localize(timezone, nonexistent="shift_forward", ambiguous=True)
+    return local.tz_convert("UTC")
+
+
+def _local_month(moment: pd.Timestamp, timezone: str) -> pd.Period:
+    return moment.tz_convert(timezone).tz_localize(None).to_period("M")
+
+
+def _data_end(index: pd.DatetimeIndex, interval: pd.Timedelta) -> pd.Timestamp:
+    return index[-1] + interval
+
+
+def _last_whole_month(index: pd.DatetimeIndex, interval: pd.Timedelta, timezone: str) -> pd.Period:
+    """The last local month whose every interval start lies within the data's span."""
+    return _local_month(_data_end(index, interval), timezone) - 1
+
+
+def backtest_origins(
+    index: pd.DatetimeIndex, timezone: str, count: int = 12, interval: pd.Timedelta | None = None
+) -> pd.DatetimeIndex:
+    """Starts (UTC) of the last ``count`` whole local calendar months with history before them.
+
+    A month is whole when the data's span reaches its end; the first month of the data is
+    never an origin (nothing lies before it). Fewer origins come back when the data are short.
+    """
+    if count < 1:
+        raise ValueError("a backtest needs at least one origin")
+    if len(index) < 2:
+        return pd.DatetimeIndex([], tz="UTC")
+    interval = interval if interval is not None else index[1] - index[0]
+    first = _local_month(index[0], timezone) + 1
+    last = _last_whole_month(index, interval, timezone)
+    if last < first:
+        return pd.DatetimeIndex([], tz="UTC")
+    months = pd.period_range(max(first, last - (count - 1)), last, freq="M")
+    return pd.DatetimeIndex([_month_start(month, timezone) for month in months])
+
+
+def typical_on(
+    typical: TypicalWeather, index: pd.DatetimeIndex, interval: pd.Timedelta
+) -> pd.Series:
+    """Typical temperatures on an index of interval starts (interval means for long intervals).
+
+    Intervals up to an hour take the typical value of the hour they start in; longer ones
+    (days) the mean of the typical hours they contain.
+    """
+    local = index.tz_convert(typical.timezone)
+    last = (index[-1] + interval - pd.Timedelta(1, "ns")).tz_convert(typical.timezone)
+    hourly = typical.hourly(local[0].date(), last.date())
+    if interval <= _HOUR:
+        values = hourly.reindex(index, method="ffill").to_numpy()
+    else:
+        position = index.searchsorted(hourly.index, side="right") - 1
+        inside = (position >= 0) & (hourly.index < index[-1] + interval)
+        means = pd.Series(hourly.to_numpy()[inside]).groupby(position[inside]).mean()
+        values = means.reindex(range(len(index))).to_numpy()
+    return pd.Series(values, index=index, name="temperature")
+
+
+def _failure_message(error: Exception) -> str:
+    if isinstance(error, InputError):
+        return error.message
+    return f"{type(error).__name__}: {error}"
+
+
+def _named(models: Mapping[str, EnergyModel] | Sequence[EnergyModel]) -> dict[str, EnergyModel]:
+    if isinstance(models, Mapping):
+        named = dict(models)
+    else:
+        named = {}
+        for model in models:
+            if model.family in named:
+                raise ValueError(
+                    f"two models share the name {model.family!r}; pass a mapping of names"
+                )
+            named[model.family] = model
+    if not named:
+        raise ValueError("a backtest needs at least one model")
+    return named
+
+
+def _table_to_json(frame: pd.DataFrame) -> dict[str, list[Any]]:
+    """Column lists with NaN as null and timestamps as ISO 8601 text."""
+    columns: dict[str, list[Any]] = {}
+    for name in frame.columns:
+        column = frame[name]
+        if isinstance(column.dtype, pd.DatetimeTZDtype):
+            columns[name] = [stamp.isoformat() for stamp in column]
+        else:
+            columns[name] = [
+                None if isinstance(value, float) and math.isnan(value) else value
+                for value in column.tolist()
+            ]
+    return columns
+
+
+def _table_from_json(columns: dict[str, list[Any]], stamps: tuple[str, ...] = ()) -> pd.DataFrame:
+    """Undo :func:`_table_to_json`; a column of nulls only is read back as NaN numbers."""
+    frame = pd.DataFrame(
+        {
+            name: [math.nan] * len(values) if all(v is None for v in values) else values
+            for name, values in columns.items()
+        }
+    )
+    for name in stamps:
+        frame[name] = pd.to_datetime(frame[name], utc=True)
+    return frame
+
+
+@dataclass(frozen=True)
+class ModelInfo:
+    """What a backtest records about each model it ran."""
+
+    family: str
+    label: str
+    explainable: bool
+
+
+@dataclass(frozen=True)
+class BacktestResult:
+    """Everything one backtest produced, as plain tables.
+
+    Attributes
+    ----------
+    timezone, interval : the site's zone and the data's interval.
+    origins : UTC month starts the models were refitted before.
+    origins_requested : how many origins were asked for (more than ``origins`` on short data).
+    horizons : forecast lengths scored, in months.
+    conditions : weather conditions run (see :data:`CONDITIONS`).
+    history_start : the first interval with a meter reading.
+    models : name → :class:`ModelInfo`.
+    fits : one row per origin × model: ``origin`` (``"YYYY-MM"``), ``model``,
+        ``fit seconds``, ``parameters``, ``fitted``.
+    scores : one row per origin × model × weather × horizon: ``intervals``, ``CV(RMSE) %``,
+        ``NMBE %``, ``MAE kWh``, ``MASE``, ``month-total MAPE %``, ``total forecast vs actual %``
+        (the whole horizon's total).
+    months : one row per origin × model × weather × forecast month: ``lead`` (1 = the month
+        starting at the origin), totals and ``forecast vs actual %``.
+    failures : ``origin``, ``model``, ``weather``, ``stage``, ``message``.
+    scorecards : per model and weather, the one-month-ahead forecasts of all origins pooled
+        (together they cover the last months once each). Out-of-sample, so p = 0.
+    forecasts : per interval: ``origin``, ``model``, ``weather``, ``start`` (UTC), ``month``
+        (local), ``lead``, ``actual kWh``, ``predicted kWh``; None when loaded without them.
+    """
+
+    timezone: str
+    interval: pd.Timedelta
+    origins: pd.DatetimeIndex
+    origins_requested: int
+    horizons: tuple[int, ...]
+    conditions: tuple[str, ...]
+    history_start: pd.Timestamp
+    models: dict[str, ModelInfo]
+    fits: pd.DataFrame
+    scores: pd.DataFrame
+    months: pd.DataFrame
+    failures: pd.DataFrame
+    scorecards: tuple[Scorecard, ...]
+    forecasts: pd.DataFrame | None = None
+
+    def scorecard(self, model: str, condition: str) -> Scorecard | None:
+        """The pooled scorecard of one model under one weather condition, if it has one."""
+        for card in self.scorecards:
+            if card.model == model and card.condition == condition:
+                return card
+        return None
+
+    def summary(self) -> pd.DataFrame:
+        """One row per model and weather: scorecard, longer-horizon total error, failures, speed."""
+        rows = []
+        for card in self.scorecards:
+            row = card.as_row()
+            mine = self.scores[
+                (self.scores["model"] == card.model) & (self.scores["weather"] == card.condition)
+            ]
+            for horizon in self.horizons[1:]:
+                totals = mine.loc[mine["horizon months"] == horizon, "total forecast vs actual %"]
+                row[f"{horizon}-month total MAPE %"] = month_total_mape(totals)
+            row["origins scored"] = int(mine.loc[mine["horizon months"] == 1, "origin"].nunique())
+            row["origins failed"] = self.failed_origins(card.model, card.condition)
+            fits = self.fits[(self.fits["model"] == card.model) & self.fits["fitted"]]
+            row["mean fit seconds"] = float(fits["fit seconds"].mean()) if len(fits) else math.nan
+            rows.append(row)
+        return pd.DataFrame(rows)
+
+    def model_failures(self, model: str, condition: str) -> pd.DataFrame:
+        """The model's own failures under a condition: in fitting or forecasting.
+
+        An origin without typical weather is left out: that is the data's limit, shared by
+        every model, not the model's failure.
+        """
+        failures = self.failures
+        return failures[
+            (failures["model"] == model)
+            & (failures["weather"] == condition)
+            & (failures["stage"] != TYPICAL_WEATHER)
+        ]
+
+    def failed_origins(self, model: str, condition: str) -> int:
+        """How many origins a model failed at under a condition (see :meth:`model_failures`)."""
+        return int(self.model_failures(model, condition)["origin"].nunique())
+
+    def to_dict(self, include_forecasts: bool = False) -> dict[str, Any]:
+        """JSON-safe form for the project file; per-interval forecasts only when asked."""
+        return {
+            "format": FORMAT_VERSION,
+            "timezone": self.timezone,
+            "interval_seconds": self.interval.total_seconds(),
+            "origins": [origin.isoformat() for origin in self.origins],
+            "origins_requested": self.origins_requested,
+            "horizons": list(self.horizons),
+            "conditions": list(self.conditions),
+            "history_start": self.history_start.isoformat(),
+            "models": {
+                name: {"family": i.family, "label": i.label, "explainable": i.explainable}
+                for name, i in self.models.items()
+            },
+            "fits": _table_to_json(self.fits),
+            "scores": _table_to_json(self.scores),
+            "months": _table_to_json(self.months),
+            "failures": _table_to_json(self.failures),
+            "scorecards": [card.to_dict() for card in self.scorecards],
+            "forecasts": (
+                _table_to_json(self.forecasts)
+                if include_forecasts and self.forecasts is not None
+                else None
+            ),
+        }
+
+    @classmethod
+    def from_dict(cls, data: dict[str, Any]) -> BacktestResult:
+        if data.get("format") != FORMAT_VERSION:
+            raise ProjectError(
+                f"stored backtest results have layout {data.get('format')!r}; this version "
+                f"reads layout {FORMAT_VERSION}. Run the backtest again."
+            )
+        forecasts = data.get("forecasts")
+        fits = _table_from_json(data["fits"])
+        fits["fitted"] = fits["fitted"].astype(bool)
+        return cls(
+            timezone=data["timezone"],
+            interval=pd.Timedelta(seconds=data["interval_seconds"]),
+            origins=pd.DatetimeIndex(pd.to_datetime(data["origins"], utc=True)),
+            origins_requested=int(data["origins_requested"]),
+            horizons=tuple(int(h) for h in data["horizons"]),
+            conditions=tuple(data["conditions"]),
+            history_start=pd.Timestamp(data["history_start"]),
+            models={name: ModelInfo(**info) for name, info in data["models"].items()},
+            fits=fits,
+            scores=_table_from_json(data["scores"]),
+            months=_table_from_json(data["months"]),
+            failures=_table_from_json(data["failures"]),
+            scorecards=tuple(Scorecard.from_dict(card) for card in data["scorecards"]),
+            forecasts=None if forecasts is None else _table_from_json(forecasts, ("start",)),
+        )
+
+
+@dataclass(frozen=True)
+class _Plan:
+    """What every origin shares: the inputs, settings and per-interval month keys."""
+
+    inputs: ModelInputs
+    weather: pd.Series | None
+    conditions: tuple[str, ...]
+    horizons: tuple[int, ...]
+    season: int
+    month_names: np.ndarray
+    month_numbers: np.ndarray
+    last_month: pd.Period
+
+
+@dataclass(frozen=True)
+class _Window:
+    """One origin's slices of the data, computed once and shared by every model."""
+
+    name: str
+    training: ModelInputs
+    ahead: ModelInputs
+    actual: np.ndarray
+    months: np.ndarray
+    lead: np.ndarray
+    horizons: tuple[int, ...]
+    naive_scale: float
+    temperatures: dict[str, pd.Series | None]
+    weather_problem: str | None
+
+
+def _prepare_window(plan: _Plan, origin: pd.Timestamp) -> _Window:
+    """Slice the data for one origin and learn its typical weather (from before it only)."""
+    inputs = plan.inputs
+    month = _local_month(origin, inputs.timezone)
+    reach = min(plan.horizons[-1], (plan.last_month - month).n + 1)
+    end = _month_start(month + reach, inputs.timezone)
+    training = inputs.window(end=origin)
+    ahead = inputs.window(start=origin, end=end)
+    positions = slice(*inputs.index.searchsorted([origin, end]))
+    temperatures: dict[str, pd.Series | None] = {}
+    problem = None
+    for condition in plan.conditions:
+        temperatures[condition] = ahead.temperature if condition == ACTUAL_WEATHER else None
+        if condition == TYPICAL_WEATHER:
+            try:
+                typical = typical_year(plan.weather[plan.weather.index < origin], inputs.timezone)
+                temperatures[condition] = typical_on(typical, ahead.index, inputs.interval)
+            except InputError as error:
+                problem = f"no typical weather before {month}: {error.message}"
+    return _Window(
+        name=str(month),
+        training=training,
+        ahead=ahead,
+        actual=ahead.energy.to_numpy(dtype=np.float64),
+        months=plan.month_names[positions],
+        lead=plan.month_numbers[positions] - (month.year * 12 + month.month) + 1,
+        horizons=tuple(h for h in plan.horizons if h <= reach),
+        naive_scale=seasonal_naive_mae(training.energy.to_numpy(), plan.season),
+        temperatures=temperatures,
+        weather_problem=problem,
+    )
+
+
+class _Collector:
+    """Rows gathered during a run, turned into the result's tables at the end."""
+
+    def __init__(self) -> None:
+        self.fits: list[dict[str, Any]] = []
+        self.scores: list[dict[str, Any]] = []
+        self.failures: list[dict[str, Any]] = []
+        self.pieces: list[dict[str, Any]] = []
+
+    def fit(self, window: _Window, model: str, seconds: float, parameters: float) -> None:
+        self.fits.append(
+            {
+                "origin": window.name,
+                "model": model,
+                "fit seconds": seconds,
+                "parameters": parameters,
+                "fitted": not math.isnan(seconds),
+            }
+        )
+
+    def fail(self, window: _Window, model: str, condition: str, stage: str, message: str) -> None:
+        self.failures.append(
+            {
+                "origin": window.name,
+                "model": model,
+                "weather": condition,
+                "stage": stage,
+                "message": message,
+            }
+        )
+
+    def forecast(self, window: _Window, model: str, condition: str, predicted: np.ndarray) -> None:
+        """Score one forecast per interval for every horizon; keep it for the tables."""
+        for horizon in window.horizons:
+            within = window.lead <= horizon
+            y, y_hat = window.actual[within], predicted[within]
+            self.scores.append(
+                {
+                    "origin": window.name,
+                    "model": model,
+                    "weather": condition,
+                    "horizon months": horizon,
+                    "intervals": int(np.sum(~np.isnan(y) & ~np.isnan(y_hat))),
+                    "CV(RMSE) %": cv_rmse(y, y_hat),
+                    "NMBE %": nmbe(y, y_hat),
+                    "MAE kWh": mae(y, y_hat),
+                    "MASE": mean_scaled_error(y, y_hat, window.naive_scale),
+                }
+            )
+        self.pieces.append(
+            {
+                "origin": window.name,
+                "model": model,
+                "weather": condition,
+                "start": window.ahead.index,
+                "month": window.months,
+                "lead": window.lead,
+                "actual kWh": window.actual,
+                "predicted kWh": predicted,
+                "naive scale": window.naive_scale,
+            }
+        )
+
+    def forecast_table(self) -> pd.DataFrame:
+        """Every kept forecast, one row per interval, built in one go."""
+        sizes = [len(piece["start"]) for piece in self.pieces]
+        columns: dict[str, Any] = {}
+        for name in ("origin", "model", "weather", "naive scale"):
+            columns[name] = np.repeat([piece[name] for piece in self.pieces], sizes)
+        for name in ("month", "lead", "actual kWh", "predicted kWh"):
+            columns[name] = np.concatenate([piece[name] for piece in self.pieces])
+        starts = [piece["start"] for piece in self.pieces]
+        columns["start"] = starts[0].append(starts[1:])
+        order = ["origin", "model", "weather", "start", "month", "lead", "actual kWh"]
+        return pd.DataFrame(columns)[[*order, "predicted kWh", "naive scale"]]
+
+
+def _run_one(window: _Window, name: str, prototype: EnergyModel, out: _Collector) -> None:
+    """Fit one model at one origin and forecast under every condition, recording failures."""
+    model = copy.deepcopy(prototype)
+    started = time.perf_counter()
+    try:
+        model.fit(window.training)
+    except Cancelled:
+        raise
+    except Exception as error:  # any model failure is recorded, not raised
+        out.fit(window, name, math.nan, math.nan)
+        for condition in window.temperatures:
+            out.fail(window, name, condition, "fit", _failure_message(error))
+        return
+    out.fit(window, name, time.perf_counter() - started, getattr(model, "n_parameters_", math.nan))
+    for condition, temperature in window.temperatures.items():
+        if condition == TYPICAL_WEATHER and window.weather_problem is not None:
+            out.fail(window, name, condition, TYPICAL_WEATHER, window.weather_problem)
+            continue
+        ahead = replace(window.ahead, energy=None, temperature=temperature)
+        try:
+            predicted = model.predict(ahead)
+        except Cancelled:
+            raise
+        except Exception as error:  # any model failure is recorded, not raised
+            out.fail(window, name, condition, "forecast", _failure_message(error))
+            continue
+        if isinstance(predicted, pd.Series):
+            predicted = predicted.reindex(ahead.index)
+        values = np.asarray(predicted, dtype=np.float64)
+        if values.shape != window.actual.shape or not np.isfinite(values).any():
+            out.fail(window, name, condition, "forecast", "the forecast has no usable values")
+            continue
+        out.forecast(window, name, condition, values)
+
+
+def _hourly_history(inputs: ModelInputs, weather_history: pd.Series | None) -> pd.Series | None:
+    if weather_history is not None:
+        return weather_history
+    if inputs.temperature is None:
+        return None
+    if inputs.interval > _HOUR:
+        raise InputError(
+            "typical weather for the backtest needs hourly temperatures, but the model inputs "
+            f"are {inputs.interval} apart.",
+            hint="Pass the hourly weather history as weather_history.",
+        )
+    return inputs.temperature
+
+
+def _plan(
+    inputs: ModelInputs,
+    horizons: Sequence[int],
+    weather_history: pd.Series | None,
+    season_length: int | None,
+) -> _Plan:
+    if inputs.energy is None:
+        raise InputError(
+            "the backtest needs the meter's energy history.", hint="Choose a meter with readings."
+        )
+    if not inputs.energy.notna().any():
+        raise InputError("the meter has no readings to backtest.", hint="Import readings first.")
+    steps = tuple(sorted({int(h) for h in horizons}))
+    if not steps or steps[0] != 1:
+        raise ValueError("the horizons must be whole months and include 1")
+    weather = _hourly_history(inputs, weather_history)
+    local = inputs.index.tz_convert(inputs.timezone)
+    return _Plan(
+        inputs=inputs,
+        weather=weather,
+        conditions=(ACTUAL_WEATHER, TYPICAL_WEATHER) if weather is not None else (NO_WEATHER,),
+        horizons=steps,
+        season=season_length or max(round(_WEEK / inputs.interval), 1),
+        month_names=local_months(inputs.index, inputs.timezone),
+        month_numbers=local.year.to_numpy(dtype=np.int64) * 12
+        + local.month.to_numpy(dtype=np.int64),
+        last_month=_last_whole_month(inputs.index, inputs.interval, inputs.timezone),
+    )
+
+
+def run_backtest(
+    models: Mapping[str, EnergyModel] | Sequence[EnergyModel],
+    inputs: ModelInputs,
+    *,
+    origins: int = 12,
+    horizons: Sequence[int] = (1, 3),
+    weather_history: pd.Series | None = None,
+    season_length: int | None = None,
+    progress: Progress | None = None,
+) -> BacktestResult:
+    """Rolling-origin backtest of unfitted models on one meter's inputs.
+
+    Parameters
+    ----------
+    models : mapping of name to model, or sequence of models
+        Unfitted models; each origin fits a fresh copy. A sequence is named by ``family``.
+    inputs : ModelInputs
+        The whole history with energy, temperature (optional) and labels on one index.
+        Compute labels once for the whole range: every window slices them.
+    origins : int, default 12
+        Number of monthly origins (the last whole local months of the data).
+    horizons : sequence of int, default (1, 3)
+        Forecast lengths in months; must include 1, which the scorecards use.
+    weather_history : pandas.Series, optional
+        Hourly °C for typical weather; defaults to ``inputs.temperature`` (hourly or finer).
+    season_length : int, optional
+        MASE's seasonal naive lag in intervals; default one week.
+    progress : Progress, optional
+        Stepped once per origin × model; cancelling stops the run with ``Cancelled``.
+
+    Returns
+    -------
+    BacktestResult
+    """
+    plan = _plan(inputs, horizons, weather_history, season_length)
+    named = _named(models)
+    starts = backtest_origins(inputs.index, inputs.timezone, origins, inputs.interval)
+    if len(starts) == 0:
+        raise InputError(
+            "the data do not span a whole calendar month after their first month, so there is "
+            "nothing to backtest.",
+            hint="Import at least two calendar months of readings (a year or more for a "
+            "useful backtest).",
+        )
+    out = _Collector()
+    total = len(starts) * len(named)
+    for number, origin in enumerate(starts):
+        done = number * len(named)
+        step(progress, done / total, "Backtest: learning typical weather")
+        window = _prepare_window(plan, origin)
+        for offset, (name, prototype) in enumerate(named.items()):
+            message = f"Backtest from {window.name}: {prototype.label}"
+            step(progress, (done + offset) / total, message)
+            _run_one(window, name, prototype, out)
+    step(progress, 1.0, "Backtest finished")
+    return _assemble(plan, named, starts, origins, out)
+
+
+def _month_scores(months: pd.DataFrame, horizons: tuple[int, ...]) -> pd.DataFrame:
+    """Per origin, model, weather and horizon: month-total MAPE and the whole horizon's error."""
+    keys = ["origin", "model", "weather"]
+    parts = []
+    for horizon in horizons:
+        grouped = months[months["lead"] <= horizon].groupby(keys, sort=False)
+        sums = grouped[["actual kWh", "predicted kWh"]].sum()
+        part = pd.DataFrame(
+            {
+                "month-total MAPE %": grouped["forecast vs actual %"].agg(month_total_mape),
+                "total forecast vs actual %": forecast_vs_actual_percent(
+                    sums["actual kWh"], sums["predicted kWh"]
+                ),
+            },
+            index=sums.index,
+        )
+        parts.append(part.assign(**{"horizon months": horizon}).reset_index())
+    return pd.concat(parts, ignore_index=True)
+
+
+def _assemble(
+    plan: _Plan,
+    named: dict[str, EnergyModel],
+    starts: pd.DatetimeIndex,
+    requested: int,
+    out: _Collector,
+) -> BacktestResult:
+    inputs = plan.inputs
+    infos = {
+        name: ModelInfo(model.family, model.label, bool(model.explainable))
+        for name, model in named.items()
+    }
+    forecasts = out.forecast_table() if out.pieces else _empty_forecasts()
+    keys = ["origin", "model", "weather", "month", "lead"]
+    months = total_by(
+        forecasts["actual kWh"], forecasts["predicted kWh"], {key: forecasts[key] for key in keys}
+    )
+    scores = pd.DataFrame(out.scores, columns=_SCORE_COLUMNS[:9])
+    if len(scores):
+        scores = scores.merge(
+            _month_scores(months, plan.horizons),
+            on=["origin", "model", "weather", "horizon months"],
+            how="left",
+        )
+    scores = scores.reindex(columns=_SCORE_COLUMNS)
+    scorecards = []
+    first = forecasts[forecasts["lead"] == 1]
+    for (name, condition), pooled in first.groupby(["model", "weather"], sort=False):
+        index = pd.DatetimeIndex(pooled["start"])
+        scorecards.append(
+            score_forecast(
+                pd.Series(pooled["actual kWh"].to_numpy(), index=index),
+                pd.Series(pooled["predicted kWh"].to_numpy(), index=index),
+                inputs.timezone,
+                model=name,
+                label=infos[name].label,
+                explainable=infos[name].explainable,
+                condition=condition,
+                naive_scale=pooled["naive scale"].to_numpy(),
+            )
+        )
+    first_reading = inputs.index[int(np.argmax(inputs.energy.notna().to_numpy()))]
+    return BacktestResult(
+        timezone=inputs.timezone,
+        interval=inputs.interval,
+        origins=starts,
+        origins_requested=requested,
+        horizons=plan.horizons,
+        conditions=plan.conditions,
+        history_start=first_reading,
+        models=infos,
+        fits=pd.DataFrame(
+            out.fits, columns=["origin", "model", "fit seconds", "parameters", "fitted"]
+        ),
+        scores=scores,
+        months=months,
+        failures=pd.DataFrame(
+            out.failures, columns=["origin", "model", "weather", "stage", "message"]
+        ),
+        scorecards=tuple(scorecards),
+        forecasts=forecasts.drop(columns="naive scale"),
+    )
+
+
+_SCORE_COLUMNS = [
+    "origin",
+    "model",
+    "weather",
+    "horizon months",
+    "intervals",
+    "CV(RMSE) %",
+    "NMBE %",
+    "MAE kWh",
+    "MASE",
+    "month-total MAPE %",
+    "total forecast vs actual %",
+]
+
+
+def _empty_forecasts() -> pd.DataFrame:
+    text = pd.Series(dtype=object)
+    numbers = pd.Series(dtype="float64")
+    return pd.DataFrame(
+        {
+            "origin": text,
+            "model": text,
+            "weather": text,
+            "start": pd.Series(dtype="datetime64[ns, UTC]"),
+            "month": text,
+            "lead": pd.Series(dtype="int64"),
+            "actual kWh": numbers,
+            "predicted kWh": numbers,
+            "naive scale": numbers,
+        }
+    )
