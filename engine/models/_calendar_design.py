@@ -1,0 +1,274 @@
+"""The design matrix of the calendar regression: its columns, and what each one explains.
+
+:func:`calendar_features` turns inputs into the drivers (local clock phases, day type, campus
+period kind, temperature, time); :class:`DesignLayout` is what the fit decided about the
+columns (orders, which day types and period kinds get their own terms, balance points,
+trend knots) and is stored with the model so prediction rebuilds exactly the same columns.
+Every column belongs to one component (:data:`COMPONENTS`), so a prediction splits into
+contributions that add up to it.
+"""
+
+from __future__ import annotations
+
+from dataclasses import asdict, dataclass, field, replace
+from typing import Any
+
+import numpy as np
+import pandas as pd
+
+from engine.models._inputs import HOUR, labels_of, local_clock
+from engine.models.base import ModelInputs
+
+#: Contributions a prediction splits into, in display order.
+COMPONENTS: tuple[str, ...] = (
+    "base",
+    "daily",
+    "weekly",
+    "annual",
+    "calendar",
+    "heating",
+    "cooling",
+    "trend",
+)
+#: Day types with their own daily shape; the first is the reference the others differ from.
+SHAPE_DAY_TYPES: tuple[str, ...] = ("weekday", "weekend", "holiday")
+#: Mean length of a year in hours (365.25 days), the period of the annual cycle.
+HOURS_PER_YEAR = 8766.0
+#: Origin of the annual phase (local clock) and of trend time (UTC).
+EPOCH = pd.Timestamp("2000-01-01")
+
+
+def fourier_columns(phase: np.ndarray, order: int) -> np.ndarray:
+    """``cos(2πk·phase), sin(2πk·phase)`` for k = 1..order, as ``2·order`` columns."""
+    angles = 2 * np.pi * phase[:, None] * np.arange(1, order + 1)[None, :]
+    columns = np.empty((len(phase), 2 * order))
+    columns[:, 0::2] = np.cos(angles)
+    columns[:, 1::2] = np.sin(angles)
+    return columns
+
+
+def fourier_names(prefix: str, order: int) -> list[str]:
+    return [f"{prefix} {wave} {k}" for k in range(1, order + 1) for wave in ("cos", "sin")]
+
+
+@dataclass(frozen=True)
+class CalendarFeatures:
+    """Drivers of each interval.
+
+    ``hour_of_day`` and ``hour_of_week`` are on the local clock (fractional hours);
+    ``years`` counts years of 365.25 days since 2000 (UTC, for the trend) and ``year_phase``
+    the same on the local clock (for the annual cycle). ``interval_hours`` converts kWh per
+    interval to kWh per hour.
+    """
+
+    hour_of_day: np.ndarray
+    hour_of_week: np.ndarray
+    year_phase: np.ndarray
+    years: np.ndarray
+    day_type: np.ndarray
+    period_kind: np.ndarray
+    temperature: np.ndarray | None
+    interval_hours: float
+
+    def __len__(self) -> int:
+        return len(self.hour_of_day)
+
+    def rows(self, keep: np.ndarray) -> CalendarFeatures:
+        """The features of the intervals where ``keep`` is True."""
+        return replace(
+            self,
+            hour_of_day=self.hour_of_day[keep],
+            hour_of_week=self.hour_of_week[keep],
+            year_phase=self.year_phase[keep],
+            years=self.years[keep],
+            day_type=self.day_type[keep],
+            period_kind=self.period_kind[keep],
+            temperature=None if self.temperature is None else self.temperature[keep],
+        )
+
+
+def smoothed_temperature(temperature: np.ndarray, step: pd.Timedelta, hours: float) -> np.ndarray:
+    """Exponentially smoothed temperature with time constant ``hours`` (building thermal lag).
+
+    The smoothing starts afresh at the first interval, so the first day or so of a window
+    follows the raw temperature more closely than later ones. Intervals without a reading
+    stay missing.
+    """
+    alpha = 1.0 - np.exp(-(step / HOUR) / hours)
+    smoothed = pd.Series(temperature).ewm(alpha=alpha, adjust=False).mean().to_numpy()
+    return np.where(np.isfinite(temperature), smoothed, np.nan)
+
+
+def calendar_features(
+    inputs: ModelInputs,
+    step: pd.Timedelta,
+    temperature: np.ndarray | None,
+    smoothing_hours: float | None,
+) -> CalendarFeatures:
+    """The drivers of ``inputs`` (temperature already aligned, or None)."""
+    local = local_clock(inputs)
+    labels = labels_of(inputs)
+    hours_since_midnight = (local - local.normalize()) / HOUR
+    hour_of_day = np.asarray(hours_since_midnight, dtype=float)
+    raw_day = labels["day_type"].to_numpy().astype(str)
+    day_type = np.where(np.isin(raw_day, ("saturday", "sunday")), "weekend", raw_day)
+    if temperature is not None and smoothing_hours:
+        temperature = smoothed_temperature(temperature, step, smoothing_hours)
+    return CalendarFeatures(
+        hour_of_day=hour_of_day,
+        hour_of_week=np.asarray(local.day_of_week, dtype=float) * 24 + hour_of_day,
+        year_phase=np.asarray((local - EPOCH) / HOUR, dtype=float) / HOURS_PER_YEAR,
+        years=np.asarray((inputs.index - EPOCH.tz_localize("UTC")) / HOUR, dtype=float)
+        / HOURS_PER_YEAR,
+        day_type=day_type,
+        period_kind=labels["period_kind"].to_numpy().astype(str),
+        temperature=temperature,
+        interval_hours=step / HOUR,
+    )
+
+
+@dataclass(frozen=True)
+class DesignLayout:
+    """What the fit decided about the columns; stored with the model.
+
+    ``day_types`` and ``period_kinds`` list the non-reference groups that get their own
+    level and daily shape (a holiday without learned terms is treated as a weekend, a
+    weekend without them as a weekday, and any unlisted period kind as the reference kind).
+    ``trend_origin`` is None for no trend; ``trend_knots`` are years after the origin.
+    """
+
+    daily_order: int
+    weekly_order: int
+    annual_order: int
+    period_order: int
+    day_types: tuple[str, ...] = ()
+    period_kinds: tuple[str, ...] = ()
+    reference_kind: str = ""
+    heating_base: float | None = None
+    cooling_base: float | None = None
+    trend_origin: float | None = None
+    trend_knots: tuple[float, ...] = field(default_factory=tuple)
+
+    def to_dict(self) -> dict[str, Any]:
+        stored = asdict(self)
+        stored["day_types"] = list(self.day_types)
+        stored["period_kinds"] = list(self.period_kinds)
+        stored["trend_knots"] = list(self.trend_knots)
+        return stored
+
+    @classmethod
+    def from_dict(cls, data: dict[str, Any]) -> DesignLayout:
+        return cls(
+            **{
+                **data,
+                "day_types": tuple(data["day_types"]),
+                "period_kinds": tuple(data["period_kinds"]),
+                "trend_knots": tuple(float(k) for k in data["trend_knots"]),
+            }
+        )
+
+
+def _effective_day_type(day_type: np.ndarray, learned: tuple[str, ...]) -> np.ndarray:
+    effective = day_type.copy()
+    if "holiday" not in learned:
+        effective[effective == "holiday"] = "weekend"
+    if "weekend" not in learned:
+        effective[effective == "weekend"] = "weekday"
+    return effective
+
+
+@dataclass
+class _Columns:
+    """Columns collected while building a design, with their component and name."""
+
+    values: list[np.ndarray] = field(default_factory=list)
+    components: list[str] = field(default_factory=list)
+    names: list[str] = field(default_factory=list)
+
+    def add(self, component: str, names: list[str], values: np.ndarray) -> None:
+        block = values[:, None] if values.ndim == 1 else values
+        self.values.extend(block.T)
+        self.components.extend([component] * block.shape[1])
+        self.names.extend(names)
+
+
+@dataclass(frozen=True)
+class Design:
+    """A design matrix with the component and a plain name of each column."""
+
+    matrix: np.ndarray
+    components: tuple[str, ...]
+    names: tuple[str, ...]
+
+    def component_mask(self, component: str) -> np.ndarray:
+        return np.array([c == component for c in self.components])
+
+
+def heating_column(features: CalendarFeatures, base: float | np.ndarray) -> np.ndarray:
+    """Heating degree-hours per interval, ``(base − T)⁺ · interval hours``, per base."""
+    return np.maximum(np.subtract.outer(base, features.temperature), 0.0).T * (
+        features.interval_hours
+    )
+
+
+def cooling_column(features: CalendarFeatures, base: float | np.ndarray) -> np.ndarray:
+    """Cooling degree-hours per interval, ``(T − base)⁺ · interval hours``, per base."""
+    return np.maximum(np.subtract.outer(features.temperature, base), 0.0) * (
+        features.interval_hours
+    )
+
+
+def build_design(features: CalendarFeatures, layout: DesignLayout) -> Design:
+    """The design matrix of ``features`` under ``layout``."""
+    n = len(features)
+    columns = _Columns()
+    columns.add("base", ["base load"], np.ones(n))
+    daily = fourier_columns(features.hour_of_day / 24.0, layout.daily_order)
+    columns.add("daily", fourier_names("daily", layout.daily_order), daily)
+    day_type = _effective_day_type(features.day_type, layout.day_types)
+    for name in layout.day_types:
+        member = (day_type == name).astype(float)
+        columns.add("calendar", [name], member)
+        columns.add(
+            "calendar",
+            fourier_names(f"{name} daily", layout.daily_order),
+            daily * member[:, None],
+        )
+    period_daily = daily[:, : 2 * layout.period_order]
+    for kind in layout.period_kinds:
+        member = (features.period_kind == kind).astype(float)
+        columns.add("calendar", [f"{kind or 'no period'} days"], member)
+        columns.add(
+            "calendar",
+            fourier_names(f"{kind or 'no period'} daily", layout.period_order),
+            period_daily * member[:, None],
+        )
+    columns.add(
+        "weekly",
+        fourier_names("weekly", layout.weekly_order),
+        fourier_columns(features.hour_of_week / 168.0, layout.weekly_order),
+    )
+    columns.add(
+        "annual",
+        fourier_names("annual", layout.annual_order),
+        fourier_columns(features.year_phase, layout.annual_order),
+    )
+    if layout.heating_base is not None:
+        columns.add(
+            "heating", ["heating degree-hours"], heating_column(features, layout.heating_base)
+        )
+    if layout.cooling_base is not None:
+        columns.add(
+            "cooling", ["cooling degree-hours"], cooling_column(features, layout.cooling_base)
+        )
+    if layout.trend_origin is not None:
+        since = features.years - layout.trend_origin
+        columns.add("trend", ["trend per year"], since)
+        for knot in layout.trend_knots:
+            hinge = np.maximum(since - knot, 0.0)
+            columns.add("trend", [f"trend change after {knot:.2f} years"], hinge)
+    return Design(
+        matrix=np.column_stack(columns.values),
+        components=tuple(columns.components),
+        names=tuple(columns.names),
+    )

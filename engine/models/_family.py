@@ -1,0 +1,110 @@
+"""What every model family shares: settings, the fitted check and plain-JSON storage.
+
+A family subclasses :class:`ModelFamily`, stores its settings in the constructor under the
+constructor's own argument names, learns in ``fit`` (attributes ending in ``_``, always
+including ``n_parameters_``) and implements ``_fitted_state``/``_restore`` to save and load the
+learned values as plain numbers, strings and lists. Stored form::
+
+    {"family": "...", "version": 1, "settings": {...}, "fitted": {...} or null}
+"""
+
+from __future__ import annotations
+
+import inspect
+from typing import Any, ClassVar, Self
+
+import numpy as np
+import pandas as pd
+from sklearn.exceptions import NotFittedError
+
+from engine.errors import ProjectError
+
+
+def plain(value: Any) -> Any:
+    """``value`` with tuples turned into lists, recursively, for JSON."""
+    if isinstance(value, tuple | list):
+        return [plain(item) for item in value]
+    if isinstance(value, dict):
+        return {key: plain(item) for key, item in value.items()}
+    return value
+
+
+def float_list(values: Any) -> list[float | None]:
+    """Floats for JSON, with NaN stored as null (JSON has no NaN)."""
+    array = np.asarray(values, dtype=float).ravel()
+    return [float(v) if np.isfinite(v) else None for v in array.tolist()]
+
+
+def float_array(values: list[float | None]) -> np.ndarray:
+    """The inverse of :func:`float_list`."""
+    return np.array([np.nan if v is None else v for v in values], dtype=float)
+
+
+def timedelta_seconds(step: pd.Timedelta) -> float:
+    return float(step.total_seconds())
+
+
+def timedelta_from(seconds: float) -> pd.Timedelta:
+    return pd.Timedelta(seconds=seconds)
+
+
+class ModelFamily:
+    """Base of the model families: settings, storage and the fitted check."""
+
+    family: ClassVar[str]
+    label: ClassVar[str]
+    explainable: ClassVar[bool]
+    #: Version of the stored ``fitted`` layout; bump it when the layout changes.
+    storage_version: ClassVar[int] = 1
+
+    n_parameters_: int
+
+    @property
+    def is_fitted(self) -> bool:
+        return hasattr(self, "n_parameters_")
+
+    def _require_fitted(self) -> None:
+        if not self.is_fitted:
+            raise NotFittedError(f"this {self.label} is not fitted yet; call fit first.")
+
+    def settings(self) -> dict[str, Any]:
+        """The constructor settings, JSON-ready."""
+        names = list(inspect.signature(type(self).__init__).parameters)[1:]
+        return {name: plain(getattr(self, name)) for name in names}
+
+    @classmethod
+    def candidate_settings(cls) -> list[dict[str, Any]]:
+        """A small grid of constructor settings for the backtest to choose among."""
+        return [{}]
+
+    def to_dict(self) -> dict[str, Any]:
+        """Plain JSON-ready form: settings and, when fitted, the learned values."""
+        return {
+            "family": self.family,
+            "version": self.storage_version,
+            "settings": self.settings(),
+            "fitted": self._fitted_state() if self.is_fitted else None,
+        }
+
+    @classmethod
+    def from_dict(cls, data: dict[str, Any]) -> Self:
+        """Rebuild a model stored with :meth:`to_dict`."""
+        if data.get("family") != cls.family or data.get("version") != cls.storage_version:
+            raise ProjectError(
+                f"stored model is not a version-{cls.storage_version} {cls.family} model "
+                f"(family {data.get('family')!r}, version {data.get('version')!r})."
+            )
+        model = cls(**data.get("settings", {}))
+        if data.get("fitted") is not None:
+            model._restore(data["fitted"])
+        return model
+
+    def _fitted_state(self) -> dict[str, Any]:
+        raise NotImplementedError
+
+    def _restore(self, state: dict[str, Any]) -> None:
+        raise NotImplementedError
+
+    def __repr__(self) -> str:
+        shown = ", ".join(f"{key}={value!r}" for key, value in self.settings().items())
+        return f"{type(self).__name__}({shown})"

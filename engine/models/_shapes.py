@@ -1,0 +1,101 @@
+"""Spreading daily energy over the day's intervals by the meter's own typical day.
+
+Models that predict day (or month) totals need interval values for hourly budgets and
+backtests. :class:`DayShapes` learns, per day group, the share of a day's energy that falls
+in each interval slot of the local day (from whole days only) and spreads predicted day
+totals by it. On daylight-saving days the slots present are re-weighted so a day's intervals
+still add up to the day's total.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+import pandas as pd
+
+from engine.models._days import DAY_GROUPS, DailyView, local_midnights_utc
+from engine.models._family import timedelta_from, timedelta_seconds
+from engine.models._inputs import DAY
+
+
+def slot_of_day(local: pd.DatetimeIndex, step: pd.Timedelta) -> np.ndarray:
+    """Position of each local interval start within its day (0 = the one at midnight)."""
+    return np.asarray((local - local.normalize()) // step, dtype=np.int64)
+
+
+@dataclass(frozen=True)
+class DayShapes:
+    """Share of a day's energy in each interval slot of the local day, per day group.
+
+    ``shares`` has one row per :data:`DAY_GROUPS` entry and one column per slot; each row
+    adds up to 1. Daily inputs have a single slot.
+    """
+
+    step: pd.Timedelta
+    shares: np.ndarray
+
+    @property
+    def n_parameters(self) -> int:
+        """Free shares: each group's slots less one, since a row adds up to 1."""
+        return int(self.shares.shape[0] * (self.shares.shape[1] - 1))
+
+    @classmethod
+    def learn(
+        cls, local: pd.DatetimeIndex, step: pd.Timedelta, view: DailyView, energy: np.ndarray
+    ) -> DayShapes:
+        """Shares from the whole days of ``view`` (its ``energy`` must be set)."""
+        slots = max(int(DAY // step), 1)
+        if slots == 1:
+            return cls(step, np.ones((len(DAY_GROUPS), 1)))
+        whole_day = np.isfinite(view.energy)
+        in_whole_day = whole_day[view.position]
+        key = view.group[view.position] * slots + slot_of_day(local, step)
+        by_slot = np.bincount(
+            key[in_whole_day], weights=energy[in_whole_day], minlength=len(DAY_GROUPS) * slots
+        ).reshape(len(DAY_GROUPS), slots)
+        totals = by_slot.sum(axis=1)
+        learned = totals > 0
+        if not learned.any():
+            by_slot, learned = np.ones_like(by_slot), np.ones(len(DAY_GROUPS), dtype=bool)
+        # A group without whole days (e.g. no weekend in a short window) borrows the other's.
+        fallback = by_slot[learned].sum(axis=0)
+        by_slot[~learned] = fallback
+        return cls(step, by_slot / by_slot.sum(axis=1, keepdims=True))
+
+    def spread(
+        self,
+        day_energy: np.ndarray,
+        view: DailyView,
+        local: pd.DatetimeIndex,
+        timezone: str,
+    ) -> np.ndarray:
+        """Energy per interval from energy per day of ``view``."""
+        per_day = day_energy[view.position]
+        if self.shares.shape[1] == 1:
+            return per_day
+        weight = self.shares[view.group[view.position], slot_of_day(local, self.step)]
+        # Sum of the shares over every interval each local day really has (23, 24 or 25 h).
+        start = local_midnights_utc(view.days[:1], timezone)[0]
+        stop = local_midnights_utc(view.days[-1:] + DAY, timezone)[0]
+        grid = pd.date_range(start, stop, freq=self.step, inclusive="left")
+        grid_local = grid.tz_convert(timezone).tz_localize(None)
+        at = view.days.get_indexer(grid_local.normalize())
+        kept = at >= 0
+        full_day = np.bincount(
+            at[kept],
+            weights=self.shares[view.group[at[kept]], slot_of_day(grid_local[kept], self.step)],
+            minlength=len(view.days),
+        )
+        return per_day * weight / full_day[view.position]
+
+    def to_dict(self) -> dict[str, Any]:
+        return {
+            "step_seconds": timedelta_seconds(self.step),
+            "shares": self.shares.tolist(),
+        }
+
+    @classmethod
+    def from_dict(cls, data: dict[str, Any]) -> DayShapes:
+        return cls(timedelta_from(data["step_seconds"]), np.asarray(data["shares"], dtype=float))

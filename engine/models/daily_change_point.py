@@ -1,0 +1,143 @@
+"""Change-point regression of daily energy on daily mean temperature, per day group.
+
+The shapes (2P … 5P) are those of ASHRAE research project RP-1050 (Kissock, Haberl & Claridge
+2003), fitted by :mod:`engine.changepoint`. Campus weekdays and weekends/holidays differ in
+level and often in heating, so by default each day group gets its own fit. The model predicts
+day totals; for hourly (or shorter) inputs it spreads each predicted day over its intervals by
+the meter's typical share of the day in each interval for that day group, learned from whole
+days in the fit window (:class:`engine.models._shapes.DayShapes`). Without temperature it
+predicts each day group's mean daily energy.
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+import numpy as np
+
+from engine.changepoint import PARAMETER_COUNT, ChangePointModel, select_best
+from engine.errors import InputError
+from engine.models._day_totals import DayTotalsModel
+from engine.models._days import DAY_GROUPS, DailyView
+from engine.models._inputs import require_temperature, temperature_values
+from engine.models.base import ModelInputs
+
+#: Name of the single fit when day groups are not split.
+ALL_DAYS = "all_days"
+
+
+class DailyChangePointModel(DayTotalsModel):
+    """Daily change-point regression (ASHRAE RP-1050 shapes), optionally per day group.
+
+    Parameters
+    ----------
+    kind : {"2P", "3PH", "3PC", "4P", "5P"} or None, default None
+        Shape for every group; None picks per group by :func:`engine.changepoint.select_best`
+        (lowest BIC among physically plausible fits).
+    split_day_groups : bool, default True
+        Fit weekdays and weekends/holidays/closures separately (see
+        :data:`engine.models._days.DAY_GROUPS`).
+    min_group_days : int, default 21
+        Whole days each group needs for a separate fit; with fewer, one fit serves all days.
+
+    Attributes
+    ----------
+    change_point_models_ : dict of str to ChangePointModel
+        The fit of each group (``"weekday"``, ``"weekend_or_holiday"`` or ``"all_days"``);
+        empty when fitted without temperature.
+    mean_daily_energy_ : dict of str to float
+        Mean kWh per day of each group in the fit window.
+    day_shapes_ : DayShapes
+        Typical share of the day per interval slot, used to spread day totals.
+    n_parameters_ : int
+        Change-point parameters (or one mean per group without temperature) plus the free
+        day-shape shares when the inputs are interval data.
+    """
+
+    family = "daily_change_point"
+    label = "daily change-point regression"
+    explainable = True
+
+    def __init__(
+        self, kind: str | None = None, *, split_day_groups: bool = True, min_group_days: int = 21
+    ) -> None:
+        self.kind = kind
+        self.split_day_groups = split_day_groups
+        self.min_group_days = min_group_days
+
+    def fit(self, inputs: ModelInputs) -> DailyChangePointModel:
+        """Fit the day groups' change-point models and the day shapes."""
+        temperature = temperature_values(inputs)
+        view = self._fit_view(inputs, temperature)
+        usable = np.isfinite(view.energy)
+        if temperature is not None:
+            usable &= np.isfinite(view.temperature)
+        if usable.sum() < self.min_group_days:
+            raise InputError(
+                f"only {int(usable.sum())} whole days have energy"
+                + (" and temperature" if temperature is not None else "")
+                + f"; daily change-point regression needs at least {self.min_group_days}.",
+                hint="Choose a longer fit window or fill gaps in the readings and weather.",
+            )
+        models: dict[str, ChangePointModel] = {}
+        means: dict[str, float] = {}
+        for name, chosen in self._group_masks(view, usable).items():
+            means[name] = float(view.energy[chosen].mean())
+            if temperature is not None:
+                models[name] = self._fit_one(view.temperature[chosen], view.energy[chosen])
+        self.uses_temperature_ = temperature is not None
+        self.change_point_models_ = models
+        self.mean_daily_energy_ = means
+        per_group = [PARAMETER_COUNT[model.kind] for model in models.values()] or [1] * len(means)
+        self.n_parameters_ = int(sum(per_group) + self.day_shapes_.n_parameters)
+        return self
+
+    def _group_masks(self, view: DailyView, usable: np.ndarray) -> dict[str, np.ndarray]:
+        masks = {name: usable & (view.group == code) for code, name in enumerate(DAY_GROUPS)}
+        if self.split_day_groups and all(m.sum() >= self.min_group_days for m in masks.values()):
+            return masks
+        return {ALL_DAYS: usable}
+
+    def _fit_one(self, temps: np.ndarray, energy: np.ndarray) -> ChangePointModel:
+        if self.kind is None:
+            return select_best(temps, energy)
+        return ChangePointModel(self.kind).fit(temps, energy)
+
+    def _day_energy(self, view: DailyView) -> np.ndarray:
+        """kWh of each day of ``view``; NaN where its mean temperature is missing."""
+        energy = np.full(len(view.days), np.nan)
+        for name in self.mean_daily_energy_:
+            chosen = (
+                np.ones(len(view.days), dtype=bool)
+                if name == ALL_DAYS
+                else view.group == DAY_GROUPS.index(name)
+            )
+            if self.uses_temperature_:
+                energy[chosen] = self.change_point_models_[name].predict(view.temperature[chosen])
+            else:
+                energy[chosen] = self.mean_daily_energy_[name]
+        return energy
+
+    def _prediction_temperature(self, inputs: ModelInputs) -> np.ndarray | None:
+        return require_temperature(inputs, self.label) if self.uses_temperature_ else None
+
+    def _fitted_state(self) -> dict[str, Any]:
+        return {
+            **self._day_state(),
+            "uses_temperature": self.uses_temperature_,
+            "change_point_models": {
+                name: model.to_dict() for name, model in self.change_point_models_.items()
+            },
+            "mean_daily_energy": dict(self.mean_daily_energy_),
+            "n_parameters": self.n_parameters_,
+        }
+
+    def _restore(self, state: dict[str, Any]) -> None:
+        self._restore_days(state)
+        self.uses_temperature_ = bool(state["uses_temperature"])
+        self.change_point_models_ = {
+            name: ChangePointModel.from_dict(stored)
+            for name, stored in state["change_point_models"].items()
+        }
+        self.mean_daily_energy_ = {k: float(v) for k, v in state["mean_daily_energy"].items()}
+        self.n_parameters_ = int(state["n_parameters"])

@@ -1,0 +1,192 @@
+"""MSTL decomposition with ETS on the seasonally adjusted series: a benchmark.
+
+In the manner of statsmodels' ``STLForecast``, extended to several seasons: MSTL (Bandara,
+Hyndman & Bergmeir 2021, as implemented in statsmodels) splits the history into seasonal
+cycles and the rest; ETS with an additive, damped trend (statsmodels ``ETSModel``) forecasts
+the rest, and each cycle is carried forward by repeating its last period, as ``STLForecast``
+does. At the ``"interval"`` resolution the cycles are the day and the week, in steps of the UTC
+grid (so around daylight-saving changes the daily cycle is an hour off the local clock for a
+while); at ``"day"`` resolution the model works on daily totals with a weekly cycle (and an
+annual one given two years), spread over each day's intervals by the typical day shape.
+MSTL runs with the fast settings of :data:`engine.decomposition.STL_SETTINGS`. No weather or
+calendar drivers: shown as less explainable.
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+import numpy as np
+import pandas as pd
+from pandas.tseries.frequencies import to_offset
+from statsmodels.tsa.exponential_smoothing.ets import ETSModel
+from statsmodels.tsa.seasonal import MSTL
+
+from engine.decomposition import STL_SETTINGS
+from engine.models._day_totals import DayTotalsModel
+from engine.models._days import DailyView
+from engine.models._family import float_array, float_list, timedelta_from, timedelta_seconds
+from engine.models._history import StoredSeries, bridged_stretch
+from engine.models._inputs import (
+    DAY,
+    energy_values,
+    prediction,
+    require_interval_data,
+    require_same_step,
+    step_of,
+)
+from engine.models._statsmodels import estimate
+from engine.models.base import ModelInputs
+
+RESOLUTIONS: tuple[str, ...] = ("interval", "day")
+_DAYS_PER_YEAR = 365
+
+
+def seasonal_parts(values: np.ndarray, periods: tuple[int, ...]) -> np.ndarray:
+    """MSTL's seasonal components of ``values``, one column per period."""
+    result = MSTL(values, periods=periods, stl_kwargs=dict(STL_SETTINGS)).fit()
+    return np.asarray(result.seasonal, dtype=float).reshape(len(values), -1)
+
+
+def repeated_seasons(parts: np.ndarray, periods: tuple[int, ...], horizon: int) -> np.ndarray:
+    """The sum of the cycles over the history and ``horizon`` steps on, each repeating its last
+    period beyond the history."""
+    n = len(parts)
+    ahead = np.arange(horizon)
+    future = sum(
+        parts[n - period + ahead % period, column] for column, period in enumerate(periods)
+    )
+    return np.concatenate([parts.sum(axis=1), np.asarray(future, dtype=float).reshape(-1)])
+
+
+class MSTLETSModel(DayTotalsModel):
+    """MSTL cycles carried forward plus ETS on the rest (benchmark).
+
+    Parameters
+    ----------
+    resolution : {"interval", "day"}, default "interval"
+        Work on the readings' own interval (daily and weekly cycles) or on daily totals
+        (daily inputs always work on days).
+    damped_trend : bool, default True
+        Damp the ETS trend so long forecasts level off.
+    longest_gap_hours : float, default 48
+        Longer gaps end the usable history (it restarts after them); shorter ones are bridged.
+
+    Attributes
+    ----------
+    by_day_ : bool
+        Whether the model works on daily totals.
+    history_ : StoredSeries
+        The bridged history (UTC interval starts, or local days).
+    periods_ : tuple of int
+        Cycle lengths in steps of the history.
+    parameters_ : numpy.ndarray
+        ETS parameters for the seasonally adjusted series.
+    converged_ : bool
+    n_parameters_ : int
+        ETS parameters, one value per step of each cycle's last period, and for the daily
+        resolution the free day-shape shares.
+    """
+
+    family = "mstl_ets"
+    label = "MSTL decomposition with ETS (MSTL-ETS)"
+    explainable = False
+
+    def __init__(
+        self, resolution: str = "interval", damped_trend: bool = True, longest_gap_hours: float = 48
+    ) -> None:
+        self.resolution = resolution
+        self.damped_trend = damped_trend
+        self.longest_gap_hours = longest_gap_hours
+
+    @classmethod
+    def candidate_settings(cls) -> list[dict[str, Any]]:
+        return [{"resolution": "interval"}, {"resolution": "day"}]
+
+    def _ets(self, values: np.ndarray) -> ETSModel:
+        return ETSModel(values, error="add", trend="add", damped_trend=self.damped_trend)
+
+    def fit(self, inputs: ModelInputs) -> MSTLETSModel:
+        """Decompose the history, then fit ETS to what the cycles leave."""
+        if self.resolution not in RESOLUTIONS:
+            raise ValueError(f"resolution must be one of {RESOLUTIONS}")
+        self.by_day_ = self.resolution == "day" or step_of(inputs) >= DAY
+        if self.by_day_:
+            view = self._fit_view(inputs)
+            stamps = pd.date_range(view.days[0], view.days[-1], freq="D")
+            values = pd.Series(view.energy, index=view.days).reindex(stamps).to_numpy()
+            step = DAY
+        else:
+            step = step_of(inputs)
+            require_interval_data(step, self.label)
+            energy = pd.Series(energy_values(inputs), index=inputs.index).dropna()
+            stamps = pd.date_range(energy.index[0], energy.index[-1], freq=step)
+            values = energy.reindex(stamps).to_numpy()
+            self.interval_ = step
+        per_day = int(DAY // step)
+        periods = (per_day, 7 * per_day) if per_day > 1 else (7,)
+        start, values = bridged_stretch(
+            values,
+            int(pd.Timedelta(hours=self.longest_gap_hours) // step),
+            periods[-1],
+            minimum=4 * periods[-1],
+            what=self.label,
+        )
+        if per_day == 1 and len(values) > 2 * _DAYS_PER_YEAR:  # MSTL drops longer periods
+            periods = (7, _DAYS_PER_YEAR)
+        self._parts = seasonal_parts(values, periods)
+        adjusted = values - self._parts.sum(axis=1)
+        result, self.converged_ = estimate(lambda: self._ets(adjusted).fit(disp=False))
+        self.history_ = StoredSeries(stamps[start], to_offset(step).freqstr, values)
+        self.periods_ = periods
+        self.parameters_ = np.asarray(result.params, dtype=float)
+        shapes = self.day_shapes_.n_parameters if self.by_day_ else 0
+        self.n_parameters_ = len(self.parameters_) + sum(periods) + shapes
+        return self
+
+    def _path(self, horizon: int) -> np.ndarray:
+        """In-sample one-step values over the history, then ``horizon`` forecasts."""
+        if getattr(self, "_parts", None) is None:
+            self._parts = seasonal_parts(self.history_.values, self.periods_)
+        adjusted = self.history_.values - self._parts.sum(axis=1)
+        smoothed = self._ets(adjusted).smooth(self.parameters_)
+        trend = np.asarray(smoothed.fittedvalues, dtype=float)
+        if horizon:
+            trend = np.concatenate([trend, np.asarray(smoothed.forecast(horizon), dtype=float)])
+        return trend + repeated_seasons(self._parts, self.periods_, horizon)
+
+    def _day_energy(self, view: DailyView) -> np.ndarray:
+        return self.history_.continued(view.days, self._path)
+
+    def predict(self, inputs: ModelInputs) -> pd.Series:
+        """Energy per interval, from the path over and beyond the history."""
+        self._require_fitted()
+        if self.by_day_:
+            return super().predict(inputs)
+        require_same_step(self.interval_, step_of(inputs))
+        return prediction(self.history_.continued(inputs.index, self._path), inputs)
+
+    def _fitted_state(self) -> dict[str, Any]:
+        state = self._day_state() if self.by_day_ else {}
+        return {
+            "interval_seconds": timedelta_seconds(self.interval_),
+            "by_day": self.by_day_,
+            **state,
+            "history": self.history_.to_dict(),
+            "periods": list(self.periods_),
+            "parameters": float_list(self.parameters_),
+            "converged": self.converged_,
+            "n_parameters": self.n_parameters_,
+        }
+
+    def _restore(self, state: dict[str, Any]) -> None:
+        self.interval_ = timedelta_from(state["interval_seconds"])
+        self.by_day_ = bool(state["by_day"])
+        if self.by_day_:
+            self._restore_days(state)
+        self.history_ = StoredSeries.from_dict(state["history"])
+        self.periods_ = tuple(int(period) for period in state["periods"])
+        self.parameters_ = float_array(state["parameters"])
+        self.converged_ = bool(state["converged"])
+        self.n_parameters_ = int(state["n_parameters"])
+        self._parts = None

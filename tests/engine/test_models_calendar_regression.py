@@ -1,0 +1,191 @@
+"""Calendar regression on the invented Larkspur Vale campus, whose structure is known exactly.
+
+Ground truth is the generator in test_models_campus (its constants are the expected values);
+CV(RMSE) is the ASHRAE Guideline 14 statistic, taken on held-out data with n in place of
+n − p since no parameters were fitted to those intervals.
+"""
+
+from __future__ import annotations
+
+from dataclasses import replace
+
+import numpy as np
+import pandas as pd
+import pytest
+from scipy.signal import lfilter
+from test_models_campus import (
+    BASE,
+    COOLING_BASE,
+    COOLING_SLOPE,
+    HEATING_BASE,
+    HEATING_SLOPE,
+    OCCUPIED_BUMP,
+    PERIOD_SHIFT,
+    TREND,
+    ZONE,
+    occupancy_plateau,
+    one_thread,  # noqa: F401  (autouse: one BLAS/OpenMP thread)
+    synthetic_campus,
+)
+
+from engine.errors import InputError
+from engine.models import CalendarRegressionModel
+from engine.models._calendar_design import COMPONENTS, HOURS_PER_YEAR, smoothed_temperature
+
+FIT_END = pd.Timestamp("2024-01-01", tz=ZONE)
+
+
+@pytest.fixture(scope="module")
+def campus():
+    return synthetic_campus("2021-01-01", "2024-03-01")
+
+
+@pytest.fixture(scope="module")
+def model(campus):
+    """Fitted on three years of hourly readings (2021–2023)."""
+    return CalendarRegressionModel().fit(campus.inputs.window(end=FIT_END))
+
+
+def _table(model) -> pd.DataFrame:
+    return model.coefficients_table().set_index("term")
+
+
+def test_recovers_the_heating_and_cooling_slopes_and_balance_points(model):
+    # Bar from the issue: slopes within 10 %, balance points within 1 °C.
+    assert model.heating_slope_ == pytest.approx(HEATING_SLOPE, rel=0.10)
+    assert model.cooling_slope_ == pytest.approx(COOLING_SLOPE, rel=0.10)
+    assert model.layout_.heating_base == pytest.approx(HEATING_BASE, abs=1.0)
+    assert model.layout_.cooling_base == pytest.approx(COOLING_BASE, abs=1.0)
+
+
+def test_held_out_error_is_close_to_the_noise(campus, model):
+    held_out = slice(np.searchsorted(campus.inputs.index, FIT_END), None)
+    future = campus.inputs.window(start=FIT_END)
+    actual = future.energy.to_numpy()
+    predicted = model.predict(future.without_energy()).to_numpy()
+    cv_rmse = np.sqrt(np.mean((predicted - actual) ** 2)) / actual.mean()
+    noise_cv = np.sqrt(np.mean(campus.noise[held_out] ** 2)) / actual.mean()
+    # Bar from the issue: within 1.15 times the coefficient of variation of the known noise.
+    assert cv_rmse <= 1.15 * noise_cv
+
+
+def test_components_add_up_and_heating_is_slope_times_degree_hours(campus, model):
+    future = campus.inputs.window(start=FIT_END)
+    parts = model.components(future.without_energy())
+    assert list(parts.columns) == list(COMPONENTS)
+    np.testing.assert_allclose(
+        parts.sum(axis=1).to_numpy(), model.predict(future).to_numpy(), rtol=1e-12
+    )
+    # Degree-hours computed here from the raw temperatures, not by the model's own code.
+    degree_hours = np.maximum(model.layout_.heating_base - future.temperature.to_numpy(), 0.0)
+    np.testing.assert_allclose(
+        parts["heating"].to_numpy(), model.heating_slope_ * degree_hours, rtol=1e-12
+    )
+
+
+def test_the_plain_language_table_states_the_known_effects(model):
+    table = _table(model)
+    daytime = occupancy_plateau(np.arange(8, 18, 1.0)).mean()
+    weekday_daytime = BASE + OCCUPIED_BUMP["weekday"] * daytime
+    # Effects relative to weekday daytime use apart from weather, from the generator's constants.
+    holiday = 100 * (OCCUPIED_BUMP["holiday"] - OCCUPIED_BUMP["weekday"]) * daytime
+    weekend = 100 * (OCCUPIED_BUMP["saturday"] - OCCUPIED_BUMP["weekday"]) * daytime
+    assert table.loc["holiday", "value"] == pytest.approx(holiday / weekday_daytime, abs=2.0)
+    assert table.loc["weekend", "value"] == pytest.approx(weekend / weekday_daytime, abs=2.0)
+    # Whole-day shifts relative to an average weekday of term (the most common period).
+    average_weekday = (
+        BASE + OCCUPIED_BUMP["weekday"] * occupancy_plateau(np.arange(0, 24, 1.0)).mean()
+    )
+    for kind in ("break", "summer"):
+        expected = 100 * PERIOD_SHIFT[kind] / average_weekday
+        assert table.loc[f"{kind} days", "value"] == pytest.approx(expected, abs=1.0)
+    heating = table.loc["heating"]
+    assert heating["unit"] == "kWh per °C-hour"
+    assert heating["meaning"] == (
+        f"heating adds {model.heating_slope_:.2f} kWh per °C-hour below "
+        f"{model.layout_.heating_base:.1f} °C"
+    )
+    trend_per_year = table.loc["trend", "value"] * model.mean_energy_ / 100
+    assert trend_per_year == pytest.approx(TREND, rel=0.2)
+
+
+def test_a_bend_in_the_trend_is_followed(campus):
+    # From mid-2022 use grows 8 kWh/h per year faster: the final slope is TREND + 8.
+    inputs = campus.inputs.window(end=FIT_END)
+    years = np.asarray((inputs.index - inputs.index[0]) / pd.Timedelta(days=365.25))
+    bent = replace(inputs, energy=inputs.energy + 8.0 * np.maximum(years - 1.5, 0.0))
+    model = CalendarRegressionModel().fit(bent)
+    final = _table(model).loc["trend", "value"] * model.mean_energy_ / 100
+    assert final == pytest.approx(TREND + 8.0, rel=0.15)
+
+
+def test_balance_points_given_as_settings_are_kept(campus):
+    model = CalendarRegressionModel(heating_base=12.0, cooling_base=23.0).fit(
+        campus.inputs.window(end=pd.Timestamp("2022-07-01", tz=ZONE))
+    )
+    assert (model.layout_.heating_base, model.layout_.cooling_base) == (12.0, 23.0)
+
+
+def test_without_weather_the_model_is_calendar_only(campus):
+    inputs = campus.inputs.window(end=pd.Timestamp("2022-01-01", tz=ZONE))
+    for model in (
+        CalendarRegressionModel(weather_terms="none").fit(inputs),
+        CalendarRegressionModel().fit(replace(inputs, temperature=None)),
+    ):
+        assert not model.uses_temperature_
+        assert model.heating_slope_ is None and model.cooling_slope_ is None
+        assert "heating" not in _table(model).index
+
+
+def test_quarter_hour_readings_give_slopes_per_degree_hour(campus):
+    quarter_hours = synthetic_campus("2022-01-01", "2023-01-15", step="15min").inputs
+    model = CalendarRegressionModel().fit(quarter_hours)
+    # The same physical slope as hourly data: kWh per °C-hour whatever the interval.
+    assert model.heating_slope_ == pytest.approx(HEATING_SLOPE, rel=0.10)
+    assert model.layout_.heating_base == pytest.approx(HEATING_BASE, abs=1.0)
+
+
+def test_a_short_history_drops_the_annual_cycle_and_the_trend(campus):
+    half_year = campus.inputs.window(end=pd.Timestamp("2021-07-01", tz=ZONE))
+    model = CalendarRegressionModel().fit(half_year)
+    assert model.layout_.annual_order == 0 and model.layout_.trend_origin is None
+    assert not any(name.startswith(("annual", "trend")) for name in model.column_names_)
+
+
+def test_without_labels_holidays_are_treated_as_weekends(campus):
+    # Without calendar labels the day type comes from the weekday only.
+    inputs = replace(campus.inputs.window(end=pd.Timestamp("2022-01-01", tz=ZONE)), labels=None)
+    model = CalendarRegressionModel().fit(inputs)
+    assert model.layout_.day_types == ("weekend",) and model.layout_.period_kinds == ()
+
+
+def test_trend_knots_and_origin_are_in_the_fit_window(model):
+    layout = model.layout_
+    span = 3 * 365.25 * 24 / HOURS_PER_YEAR
+    assert len(layout.trend_knots) == 3
+    assert all(0 < knot < span for knot in layout.trend_knots)
+
+
+def test_too_little_data_is_refused_with_a_reason(campus):
+    three_days = campus.inputs.window(end=pd.Timestamp("2021-01-04", tz=ZONE))
+    with pytest.raises(InputError, match="at least a week"):
+        CalendarRegressionModel().fit(three_days)
+
+
+def test_smoothed_temperature_is_the_exponential_filter(campus):
+    temps = campus.inputs.temperature.to_numpy()[:500].copy()
+    alpha = 1 - np.exp(-1 / 24)  # hourly steps, 24-hour time constant
+    # y[t] = α·x[t] + (1 − α)·y[t−1], started at the first reading (scipy as reference).
+    expected = lfilter([alpha], [1, alpha - 1], temps, zi=[(1 - alpha) * temps[0]])[0]
+    np.testing.assert_allclose(
+        smoothed_temperature(temps, pd.Timedelta(hours=1), 24.0), expected, rtol=1e-12
+    )
+    temps[100] = np.nan
+    assert np.isnan(smoothed_temperature(temps, pd.Timedelta(hours=1), 24.0)[100])
+
+
+def test_every_candidate_setting_fits(campus):
+    one_year = campus.inputs.window(end=pd.Timestamp("2022-01-15", tz=ZONE))
+    for settings in CalendarRegressionModel.candidate_settings():
+        model = CalendarRegressionModel(**settings).fit(one_year)
+        assert model.heating_slope_ == pytest.approx(HEATING_SLOPE, rel=0.25)
