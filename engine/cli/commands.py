@@ -12,6 +12,7 @@ from engine.cli import text
 from engine.errors import InputError
 from engine.export.profile_workbook import write_profile_workbook
 from engine.importing import create_project, read_project_files
+from engine.modelling import fit_meter
 from engine.profile_run import profile_project_meter
 from engine.project import Project
 from engine.reading import ReadOptions, describe, read_file
@@ -93,6 +94,40 @@ def profile(args: argparse.Namespace) -> int:
         report["workbook"] = str(write_profile_workbook(args.xlsx, profiles).resolve())
     _emit(args, report, text.profile_report)
     return 0
+
+
+def fit(args: argparse.Namespace) -> int:
+    families = [f.strip() for f in args.models.split(",") if f.strip()] if args.models else None
+    if args.origins < 1:
+        raise InputError("--origins must be at least 1.", hint="The default is 12.")
+    with Project.open(args.project) as project:
+        meters = []
+        for name in _meters(project, args.meter):
+            outcome = fit_meter(project, name, families=families, origins=args.origins)
+            summary = outcome.backtest.summary()
+            meters.append(
+                {
+                    "name": name,
+                    "recommended": outcome.choice.chosen,
+                    "reasons": list(outcome.choice.reasons),
+                    "warnings": list(outcome.choice.warnings),
+                    "ranking": outcome.choice.to_dict()["ranking"],
+                    "scorecard": json.loads(summary.to_json(orient="records")),
+                    "explanation": _explanation(outcome.model),
+                    "stored_as": outcome.result_id,
+                }
+            )
+        report = {"project": str(project.path), "meters": meters}
+    _emit(args, report, text.fit_report)
+    return 0
+
+
+def _explanation(model) -> list[dict]:
+    """The chosen model's coefficients in physical units, where the family gives them."""
+    table = getattr(model, "coefficients_table", None)
+    if table is None:
+        return []
+    return json.loads(table().to_json(orient="records"))
 
 
 def _meters(project: Project, only: str | None) -> list[str]:

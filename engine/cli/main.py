@@ -75,6 +75,20 @@ def build_parser() -> argparse.ArgumentParser:
     _json_option(profile)
     profile.set_defaults(run=commands.profile)
 
+    fit = sub.add_parser("fit", help="backtest the model families and keep the recommended one")
+    fit.add_argument("project")
+    fit.add_argument("--meter", metavar="NAME", help="only this meter (default: every meter)")
+    fit.add_argument(
+        "--models",
+        metavar="LIST",
+        help="comma-separated model families (default: every family that suits the meter)",
+    )
+    fit.add_argument(
+        "--origins", type=int, default=12, metavar="N", help="monthly backtest origins (12)"
+    )
+    _json_option(fit)
+    fit.set_defaults(run=commands.fit)
+
     info = sub.add_parser("info", help="summarise a project file")
     info.add_argument("project")
     _json_option(info)

@@ -145,3 +145,23 @@ def profile_report(report: dict) -> str:
     if "workbook" in report:
         lines.append(f"wrote {report['workbook']}")
     return "\n".join(lines) + "\n"
+
+
+def fit_report(report: dict) -> str:
+    """What ``fit`` prints: the scorecard per meter, the recommendation and why."""
+    lines = [f"project {report['project']}"]
+    for meter in report["meters"]:
+        lines.append(f"  meter '{meter['name']}': recommended {meter['recommended'] or 'none'}")
+        lines.append(
+            f"    {'model':<44} {'month MAPE %':>12} {'CV(RMSE) %':>10} {'NMBE %':>7}  G14"
+        )
+        for row in meter["ranking"]:
+            lines.append(
+                f"    {row['name']:<44} {_num(row['month-total MAPE %']):>12} "
+                f"{_num(row['CV(RMSE) %']):>10} {_num(row['NMBE %']):>7}  "
+                f"{'met' if row['meets Guideline 14'] else 'not met'}"
+            )
+        lines += [f"    why: {reason}" for reason in meter["reasons"]]
+        lines += [f"    note: {warning}" for warning in meter["warnings"]]
+        lines += [f"    {row['meaning']}" for row in meter["explanation"] if row.get("meaning")]
+    return "\n".join(lines) + "\n"

@@ -44,7 +44,11 @@ class ModelInputs:
 
     @property
     def interval(self) -> pd.Timedelta:
-        return pd.Timedelta(self.index.freq) if self.index.freq else self.index[1] - self.index[0]
+        """The usual step (daily inputs are 23 or 25 h apart in UTC across clock changes)."""
+        if self.index.freq:
+            return pd.Timedelta(self.index.freq)
+        steps = pd.Series(self.index[1:] - self.index[:-1])
+        return steps.mode().iloc[0]
 
     def window(self, start: pd.Timestamp | None = None, end: pd.Timestamp | None = None) -> Self:
         """The same inputs restricted to ``start <= t < end`` (UTC)."""
