@@ -17,6 +17,7 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from desktop.cleaning_screen import CleaningScreen
 from desktop.files_screen import FilesScreen
 from desktop.patterns_screen import PatternsScreen
 from desktop.session import Session
@@ -43,8 +44,14 @@ class MainWindow(QMainWindow):
         self.setWindowTitle("Loadledger")
         self.resize(1280, 800)
         self.files_screen = FilesScreen(self.session)
+        self.cleaning_screen = CleaningScreen(self.session)
         self.patterns_screen = PatternsScreen(self.session)
-        built = {"Files": self.files_screen, "Patterns": self.patterns_screen}
+        self.cleaning_screen.log_changed.connect(self.patterns_screen.meter_cleaned)
+        built = {
+            "Files": self.files_screen,
+            "Cleaning": self.cleaning_screen,
+            "Patterns": self.patterns_screen,
+        }
         self.steps = QListWidget()
         self.steps.addItems(list(STEP_NAMES))
         self.steps.setFixedWidth(170)
@@ -112,8 +119,8 @@ class MainWindow(QMainWindow):
             self.open_project(path)
 
     def closeEvent(self, event) -> None:
-        self.files_screen.shutdown()
-        self.patterns_screen.shutdown()
+        for screen in (self.files_screen, self.cleaning_screen, self.patterns_screen):
+            screen.shutdown()
         self.session.close()
         super().closeEvent(event)
 

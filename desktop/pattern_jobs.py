@@ -1,47 +1,57 @@
 """Gather one meter's profiles from the engine for the Patterns screen — without Qt.
 
-Each profile is asked for on its own, so a meter that cannot give one (daily gas reads have no
-hour-by-hour shape) still shows the others, with the engine's reason in place of the missing one.
+The engine profiles the meter's CLEANED readings (the project's cleaning log replayed, ranges
+left out of fitting dropped) with the project's campus calendar and weather, in one call
+(:func:`engine.profile_run.profile_project_meter`). A profile the meter cannot give (daily gas
+reads have no shape within the day) is None here, with a note saying why.
 """
 
 from __future__ import annotations
 
-from collections.abc import Callable
 from dataclasses import dataclass, field
-from typing import Any
 
 import pandas as pd
 
-from engine.calendar import CampusCalendar, label_intervals
-from engine.errors import InputError
-from engine.profiles import (
-    TemperatureResponse,
-    energy_vs_temperature,
-    heat_map,
-    key_figures,
-    load_duration,
-    monthly_totals_by_year,
-    typical_day,
-)
+from engine.cleaning.project_log import stored_calendar
+from engine.profile_run import ProjectMeterProfile, profile_project_meter
+from engine.profiles import TemperatureResponse
 from engine.progress import Progress, step
 from engine.project import Project
 
-#: Ways to group typical days offered on the screen (engine names).
+#: Ways to group typical days offered on the screen (the engine's groupings). Grouping by
+#: campus period is left out: the engine groups by period name, one line per term and break.
 DAY_GROUPINGS = ("day_type", "season")
+
+#: The weather response as the screen lists it: the engine's key, the figure's name, its unit
+#: and the factor from the engine's number to the one shown.
+WEATHER_ROWS: tuple[tuple[str, str, str, float], ...] = (
+    ("heating balance point °C", "heating balance point", "°C", 1.0),
+    ("heating slope kWh per °C-day", "heating slope", "kWh per °C-day", 1.0),
+    ("cooling balance point °C", "cooling balance point", "°C", 1.0),
+    ("cooling slope kWh per °C-day", "cooling slope", "kWh per °C-day", 1.0),
+    ("weather-independent kWh per day", "weather-independent use", "kWh per day", 1.0),
+    ("R²", "R²", "ratio", 1.0),
+    ("CV(RMSE)", "CV(RMSE)", "%", 100.0),
+    ("days", "days fitted", "days", 1.0),
+)
+KIND_WORDS = {"both": "heating-and-cooling"}
+FIGURE_COLUMNS = ["value", "unit", "how"]
 
 
 @dataclass(frozen=True)
 class PatternRequest:
-    """Which meter to profile, against which weather station, with whose public holidays."""
+    """Which meter to profile."""
 
     meter: str
-    station: str | None = None
-    holidays: str | None = None
 
 
 @dataclass
 class MeterPatterns:
-    """The profiles of one meter; a profile the engine could not give is None with a note."""
+    """The profiles of one meter; a profile the engine could not give is None with a note.
+
+    ``weather`` lists the degree-day weather response like ``figures`` (empty, with a note,
+    when there is none); ``basis`` says what the profiles were worked out from.
+    """
 
     request: PatternRequest
     typical_days: dict[str, pd.DataFrame] | None = None
@@ -50,47 +60,87 @@ class MeterPatterns:
     duration: pd.DataFrame | None = None
     figures: pd.DataFrame | None = None
     temperature: TemperatureResponse | None = None
+    weather: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(columns=FIGURE_COLUMNS))
+    basis: str = ""
     notes: dict[str, str] = field(default_factory=dict)
 
 
 def compute_patterns(
     project: Project, request: PatternRequest, progress: Progress | None = None
 ) -> MeterPatterns:
-    """Load the meter (and weather) from ``project`` and ask the engine for every profile."""
-    step(progress, 0.0, f"loading meter '{request.meter}'")
-    meter = project.load_meter(request.meter)
-    labels = label_intervals(
-        meter.values.index, meter.timezone, CampusCalendar(country=request.holidays)
+    """Profile ``request.meter``'s cleaned readings with the project's calendar and weather."""
+    step(progress, 0.0, f"profiling the cleaned readings of '{request.meter}'")
+    found = profile_project_meter(project, request.meter, progress)
+    profiles = found.profiles
+    patterns = MeterPatterns(
+        request,
+        monthly=profiles.monthly,
+        duration=profiles.duration,
+        figures=profiles.figures,
+        temperature=profiles.temperature,
+        basis=_basis(project, request.meter),
     )
-    temperatures = project.load_weather(request.station) if request.station else None
-    found = MeterPatterns(request)
-    pieces: dict[str, tuple[str, Callable[[], Any] | None]] = {
-        "typical_days": (
-            "typical days",
-            lambda: {by: typical_day(meter, labels, by=by) for by in DAY_GROUPINGS},
-        ),
-        "heat_map": ("heat map", lambda: heat_map(meter)),
-        "monthly": ("monthly totals", lambda: monthly_totals_by_year(meter)),
-        "duration": ("load-duration curve", lambda: load_duration(meter)),
-        "figures": ("key figures", lambda: key_figures(meter, labels)),
-        "temperature": (
-            "energy against temperature",
-            None
-            if temperatures is None
-            else lambda: energy_vs_temperature(meter, temperatures, labels),
-        ),
-    }
-    for done, (name, (words, make)) in enumerate(pieces.items()):
-        step(progress, 0.2 + 0.8 * done / len(pieces), words)
-        if make is None:
-            found.notes[name] = (
-                "No weather station chosen: import a weather file to see how this meter "
-                "follows the outdoor temperature."
-            )
-            continue
-        try:
-            setattr(found, name, make())
-        except InputError as error:
-            found.notes[name] = error.message
+    if profiles.typical_days:
+        patterns.typical_days = profiles.typical_days
+        patterns.heat_map = profiles.heat_map
+    else:
+        words = (
+            f"The readings of '{request.meter}' are {_interval_words(found.meter.interval)} "
+            "apart: typical days and the hour-by-date map need interval data of an hour or less."
+        )
+        patterns.notes.update(typical_days=words, heat_map=words)
+    if profiles.temperature is None:
+        patterns.notes["temperature"] = (
+            "No weather in the project: import a weather station file to see how this meter "
+            "follows the outdoor temperature."
+        )
+    patterns.weather, note = weather_rows(found)
+    if note:
+        patterns.notes["weather"] = note
     step(progress, 1.0, "profiles ready")
-    return found
+    return patterns
+
+
+def weather_rows(found: ProjectMeterProfile) -> tuple[pd.DataFrame, str]:
+    """The degree-day weather response as figure rows, or no rows and the engine's reason."""
+    response = found.key_figures()["weather response"]
+    if "note" in response:
+        return pd.DataFrame(columns=FIGURE_COLUMNS), str(response["note"])
+    kind = KIND_WORDS.get(response["kind"], response["kind"])
+    how = f"{kind} degree-day fit of daily energy; {found.balance_note}"
+    rows = [
+        (name, response[key] * factor, unit, how)
+        for key, name, unit, factor in WEATHER_ROWS
+        if response.get(key) is not None
+    ]
+    table = pd.DataFrame(rows, columns=["figure", *FIGURE_COLUMNS]).set_index("figure")
+    return table, ""
+
+
+def _basis(project: Project, meter: str) -> str:
+    """What the profiles are of: how many logged steps, and which calendar labels the days."""
+    logged = len(project.cleaning_steps(meter))
+    cleaning = (
+        f"Cleaned readings: {logged} logged step{'s' * (logged != 1)} replayed, ranges left "
+        "out of fitting dropped."
+        if logged
+        else "Readings as recorded: no cleaning steps logged for this meter."
+    )
+    calendar = stored_calendar(project)
+    if calendar is None:
+        days = (
+            "No campus calendar in the project: days are weekdays and weekends only, with no "
+            "holidays or campus periods."
+        )
+    else:
+        holidays = f"{calendar.country} public holidays" if calendar.country else "no holidays"
+        periods = len(calendar.periods)
+        days = f"Days labelled by the campus calendar ({holidays}, {periods} periods)."
+    return f"{cleaning} {days}"
+
+
+def _interval_words(interval: pd.Timedelta) -> str:
+    if interval % pd.Timedelta(days=1) == pd.Timedelta(0):
+        days = interval // pd.Timedelta(days=1)
+        return "a day" if days == 1 else f"{days} days"
+    return f"{interval.total_seconds() / 3600:g} hours"

@@ -1,13 +1,17 @@
-"""The Patterns screen: how one meter uses energy through the day, the year and the weather."""
+"""The Patterns screen: how one meter uses energy through the day, the year and the weather.
+
+It shows the engine's profiles of the meter's cleaned readings, labelled with the project's
+campus calendar, so a fix logged on the Cleaning screen shows here too.
+"""
 
 from __future__ import annotations
 
 from functools import partial
 
-import holidays
 import numpy as np
 import pandas as pd
 from PySide6.QtCore import Qt
+from PySide6.QtGui import QFont
 from PySide6.QtWidgets import (
     QAbstractItemView,
     QComboBox,
@@ -48,13 +52,16 @@ def _figure_words(value: float, unit: str) -> str:
         return "–"
     if unit == "ratio":
         return f"{value:.3f}"
+    if unit == "days":
+        return f"{value:,.0f}"
     return f"{value:,.1f}"
 
 
 class FiguresPanel(QWidget):
-    """:func:`engine.profiles.key_figures` as a table, or a note when the meter has none.
+    """The key figures and, below them, the degree-day weather response, as one table.
 
-    Each value cell holds the engine's number behind the rounded words.
+    Each value cell holds the number behind the rounded words. The weather response sits under
+    a heading row; without one, that row says why.
     """
 
     def __init__(self, parent: QWidget | None = None) -> None:
@@ -75,7 +82,7 @@ class FiguresPanel(QWidget):
         self.stack.addWidget(self.note)
         layout = QVBoxLayout(self)
         layout.setContentsMargins(2, 2, 2, 2)
-        layout.addWidget(QLabel("<b>Key figures</b>"))
+        layout.addWidget(QLabel("<b>Key figures and weather response</b>"))
         layout.addWidget(self.stack, 1)
 
     def show_note(self, words: str) -> None:
@@ -83,10 +90,27 @@ class FiguresPanel(QWidget):
         self.note.setText(words)
         self.stack.setCurrentWidget(self.note)
 
-    def show_figures(self, figures: pd.DataFrame) -> None:
-        rows = list(figures.itertuples())
-        self.table.setRowCount(len(rows))
-        for r, row in enumerate(rows):
+    def show_figures(self, figures: pd.DataFrame, weather: pd.DataFrame, weather_note: str) -> None:
+        """Key figures, a heading row, then the weather response (or ``weather_note``)."""
+        self.table.clearSpans()
+        self.table.setRowCount(len(figures) + 1 + max(len(weather), 1))
+        self._fill_rows(0, figures)
+        heading = len(figures)
+        self.table.setSpan(heading, 0, 1, len(FIGURE_HEADERS))
+        words = " (degree-days)" if len(weather) else f": {weather_note}"
+        title = QTableWidgetItem(f"Weather response{words}")
+        bold = QFont(title.font())
+        bold.setBold(True)
+        title.setFont(bold)
+        title.setToolTip(weather_note)
+        self.table.setItem(heading, 0, title)
+        self._fill_rows(heading + 1, weather)
+        self.table.setRowCount(heading + 1 + len(weather))
+        self.table.resizeRowsToContents()
+        self.stack.setCurrentWidget(self.table)
+
+    def _fill_rows(self, first: int, figures: pd.DataFrame) -> None:
+        for r, row in enumerate(figures.itertuples(), start=first):
             value = QTableWidgetItem(_figure_words(row.value, row.unit))
             value.setData(NUMBER_ROLE, float(row.value))
             value.setTextAlignment(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
@@ -94,11 +118,18 @@ class FiguresPanel(QWidget):
             for c, cell in enumerate((*cells, QTableWidgetItem(row.how))):
                 cell.setToolTip(row.how)
                 self.table.setItem(r, c, cell)
-        self.stack.setCurrentWidget(self.table)
+
+    def values(self) -> dict[str, float]:
+        """Figure name → the number shown, for every row with a value."""
+        return {
+            self.table.item(r, 0).text(): self.table.item(r, 1).data(NUMBER_ROLE)
+            for r in range(self.table.rowCount())
+            if self.table.item(r, 1) is not None
+        }
 
 
 class PatternsScreen(QWidget):
-    """Pick a meter; its profiles are computed on a worker and drawn."""
+    """Pick a meter; the profiles of its cleaned readings are computed on a worker and drawn."""
 
     def __init__(self, session: Session, parent: QWidget | None = None) -> None:
         super().__init__(parent)
@@ -108,12 +139,11 @@ class PatternsScreen(QWidget):
         self._wanted: PatternRequest | None = None
         self.meter = QComboBox()
         self.meter.setMinimumContentsLength(18)
-        self.station = ChoiceBox((("none", None),))
-        countries = sorted(holidays.list_supported_countries())
-        self.holidays = ChoiceBox((("none", None), *((code, code) for code in countries)))
+        self.meter.activated.connect(self.refresh)
         self.grouping = ChoiceBox(tuple((GROUPING_WORDS[g], g) for g in DAY_GROUPINGS))
-        for box in (self.meter, self.station, self.holidays):
-            box.activated.connect(self.refresh)
+        self.basis = QLabel()
+        self.basis.setWordWrap(True)
+        self.basis.setStyleSheet("color: #5a5f66;")
         self.grouping.activated.connect(self._draw_typical_days)
         self.notice = Notice()
         self.task_bar = TaskBar()
@@ -137,12 +167,7 @@ class PatternsScreen(QWidget):
 
     def _lay_out(self) -> None:
         controls = QHBoxLayout()
-        for words, box in (
-            ("Meter", self.meter),
-            ("Weather station", self.station),
-            ("Public holidays of", self.holidays),
-            ("Typical days by", self.grouping),
-        ):
+        for words, box in (("Meter", self.meter), ("Typical days by", self.grouping)):
             controls.addWidget(QLabel(words))
             controls.addWidget(box)
             controls.addSpacing(12)
@@ -158,6 +183,7 @@ class PatternsScreen(QWidget):
             grid.setColumnStretch(column, 1)
         layout = QVBoxLayout(self)
         layout.addLayout(controls)
+        layout.addWidget(self.basis)
         layout.addWidget(self.notice)
         layout.addWidget(self.task_bar)
         layout.addLayout(grid, 1)
@@ -166,8 +192,6 @@ class PatternsScreen(QWidget):
 
     def _project_changed(self, project: Project | None) -> None:
         self.meter.clear()
-        self.station.clear()
-        self.station.addItem("none", None)
         if project is None:
             self._wanted = None
             if self.task is not None:
@@ -175,10 +199,6 @@ class PatternsScreen(QWidget):
             self._show_empty("Open a project to see its meters' patterns.")
             return
         self.meter.addItems(project.meter_names())
-        for station in project.weather_stations():
-            self.station.addItem(station, station)
-        if self.station.count() > 1:
-            self.station.setCurrentIndex(1)
         self.refresh()
 
     def show_meter(self, name: str) -> None:
@@ -186,12 +206,17 @@ class PatternsScreen(QWidget):
         self.meter.setCurrentText(name)
         self.refresh()
 
+    def meter_cleaned(self, name: str) -> None:
+        """Meter ``name``'s cleaning log changed: profile it again if it is the one shown."""
+        if name == self.meter.currentText():
+            self.refresh()
+
     def request(self) -> PatternRequest | None:
         """What the controls ask for; None without a meter."""
         name = self.meter.currentText()
         if self.session.project is None or not name:
             return None
-        return PatternRequest(name, self.station.value(), self.holidays.value())
+        return PatternRequest(name)
 
     def refresh(self) -> None:
         """Compute the profiles the controls ask for, once any running computation stops."""
@@ -242,6 +267,7 @@ class PatternsScreen(QWidget):
 
     def _show_empty(self, words: str) -> None:
         self.patterns = None
+        self.basis.clear()
         for panel in self.panels:
             panel.show_note(words)
 
@@ -250,19 +276,20 @@ class PatternsScreen(QWidget):
             return  # the controls changed while this was computed; a newer result follows
         self.patterns = patterns
         notes = patterns.notes
+        self.basis.setText(patterns.basis)
         self._draw_typical_days()
         drawn = (
             (self.heat, patterns.heat_map, "heat_map", self.heat.show_matrix),
             (self.monthly, patterns.monthly, "monthly", self.monthly.show_table),
             (self.duration, patterns.duration, "duration", self.duration.show_table),
             (self.temperature, patterns.temperature, "temperature", self.temperature.show_response),
-            (self.figures, patterns.figures, "figures", self.figures.show_figures),
         )
         for panel, found, name, draw in drawn:
             if found is None:
                 panel.show_note(notes[name])
             else:
                 draw(found)
+        self.figures.show_figures(patterns.figures, patterns.weather, notes.get("weather", ""))
 
     def _draw_typical_days(self) -> None:
         patterns = self.patterns

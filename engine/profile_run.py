@@ -11,10 +11,9 @@ from dataclasses import dataclass, replace
 import pandas as pd
 
 from engine.calendar import CampusCalendar, label_intervals
-from engine.cleaning import cleaned_meter
+from engine.cleaning.project_log import cleaned_meter, stored_calendar
 from engine.degree_days import BalancePointFit, balance_point
 from engine.errors import InputError
-from engine.importing import CALENDAR_SETTING
 from engine.meters import MeterSeries
 from engine.profiles import MeterProfiles, profile_meter
 from engine.progress import Progress
@@ -59,11 +58,6 @@ class ProjectMeterProfile:
         return out
 
 
-def project_calendar(project: Project) -> CampusCalendar | None:
-    stored = project.get_setting(CALENDAR_SETTING)
-    return CampusCalendar.from_dict(stored) if stored else None
-
-
 def profile_project_meter(
     project: Project, name: str, progress: Progress | None = None
 ) -> ProjectMeterProfile:
@@ -71,7 +65,7 @@ def profile_project_meter(
     raw, cleaned = cleaned_meter(project, name)
     keep = cleaned.values.notna() & ~cleaned.excluded
     meter = replace(raw, values=cleaned.values[keep])
-    calendar = project_calendar(project)
+    calendar = stored_calendar(project)
     labels = None
     if calendar is not None:
         labels = label_intervals(meter.values.index, meter.timezone, calendar)

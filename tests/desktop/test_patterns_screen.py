@@ -1,19 +1,29 @@
-"""The Patterns screen draws a real project's meter; the curves are checked against pandas."""
+"""The Patterns screen draws a real project's cleaned meter; checked against pandas and others."""
 
 from __future__ import annotations
 
+import shutil
+
+import holidays
 import numpy as np
 import pandas as pd
 import pytest
-from desktop_support import SITE_ZONE, save_screen, wait_until_idle
+import statsmodels.api as sm
+from desktop_support import (
+    SAMPLE,
+    SITE_ZONE,
+    save_screen,
+    wait_until_idle,
+    write_hourly_meter,
+    write_hourly_weather,
+)
 
 from desktop.pattern_jobs import PatternRequest
 from desktop.patterns_screen import PatternsScreen
 from desktop.session import Session
-from desktop.understood_view import NUMBER_ROLE
 from engine.importing import ImportedFiles, store_files
 from engine.project import Project
-from engine.reading import ReadOptions, read_file
+from engine.reading import ReadOptions, read_calendar, read_file
 
 #: NIST SP 811 (2008), Appendix B.8: 1 therm (EC) = 1.055 06 E+08 J; 1 kWh = 3.6 E+06 J.
 KWH_PER_THERM = 1.05506e8 / 3.6e6
@@ -58,7 +68,9 @@ def _readings(project: Project, name: str) -> pd.DataFrame:
 
 def test_the_library_meter_is_drawn_as_pandas_works_it_out(library):
     screen = library
-    assert screen.patterns.request == PatternRequest("Library", "weather-station", None)
+    assert screen.patterns.request == PatternRequest("Library")
+    assert "Readings as recorded" in screen.basis.text()
+    assert "No campus calendar" in screen.basis.text()
     assert all(panel.showing_plot for panel in screen.panels[:5])
     readings = _readings(screen.session.project, "Library")
 
@@ -95,11 +107,7 @@ def test_the_library_meter_is_drawn_as_pandas_works_it_out(library):
     assert demand[-1] == pytest.approx(readings["kw"].min())
 
     # Key figures: peak, total and the night-time P5 base load (common practice, see engine).
-    figures = screen.figures.table
-    values = {
-        figures.item(r, 0).text(): figures.item(r, 1).data(NUMBER_ROLE)
-        for r in range(figures.rowCount())
-    }
+    values = screen.figures.values()
     assert values["peak demand"] == pytest.approx(readings["kw"].max())
     assert values["total energy"] == pytest.approx(readings["kwh"].sum())
     night = readings.loc[readings["hour"] < 5, "kw"]
@@ -115,17 +123,34 @@ def test_the_library_meter_is_drawn_as_pandas_works_it_out(library):
     save_screen(screen, "patterns")
 
 
-def test_holidays_and_seasons_regroup_the_typical_day(qtbot, library):
-    screen = library
-    screen.holidays.set_value("US")
-    screen.holidays.activated.emit(screen.holidays.currentIndex())
-    wait_until_idle(qtbot, screen)
-    assert screen.patterns.request.holidays == "US"
-    assert screen.typical.bands["holiday"].mean.isVisible()
-    screen.grouping.set_value("season")
-    screen.grouping.activated.emit(screen.grouping.currentIndex())
-    shown = [name for name, band in screen.typical.bands.items() if band.mean.isVisible()]
-    assert shown == ["winter", "spring", "summer", "autumn"]
+def test_the_campus_calendar_labels_holidays_and_seasons_regroup(qtbot, tmp_path, sample_project):
+    path = tmp_path / sample_project.name
+    shutil.copyfile(sample_project, path)
+    options = ReadOptions(timezone=SITE_ZONE, holidays="US")
+    calendar = read_calendar(SAMPLE / "campus-calendar.csv", options)
+    with Project.open(path) as project:
+        store_files(project, ImportedFiles([], [], [], options, calendar=calendar))
+    screen = _open(qtbot, path)
+    try:
+        periods = len(pd.read_csv(SAMPLE / "campus-calendar.csv"))
+        assert f"US public holidays, {periods} periods" in screen.basis.text()
+        band = screen.typical.bands["holiday"]
+        assert band.mean.isVisible()
+        # Holiday days: US public holidays (observed dates too) by the holidays package, on the
+        # local dates that hold readings.
+        readings = _readings(screen.session.project, "Library")
+        dates = pd.DatetimeIndex(readings["date"].unique())
+        us = holidays.country_holidays("US", years=range(dates.year.min(), dates.year.max() + 1))
+        expected = sum(date.date() in us for date in dates)
+        table = screen.patterns.typical_days["day_type"]
+        assert table.loc[table["group"] == "holiday", "days"].max() == expected > 10
+        screen.grouping.set_value("season")
+        screen.grouping.activated.emit(screen.grouping.currentIndex())
+        shown = [name for name, band in screen.typical.bands.items() if band.mean.isVisible()]
+        assert shown == ["winter", "spring", "summer", "autumn"]
+        save_screen(screen, "patterns-with-calendar")
+    finally:
+        screen.session.close()
 
 
 def test_a_daily_meter_shows_what_it_can_and_says_why_not_the_rest(qtbot, tmp_path):
@@ -143,12 +168,65 @@ def test_a_daily_meter_shows_what_it_can_and_says_why_not_the_rest(qtbot, tmp_pa
         store_files(project, ImportedFiles([read_file(path, options)], [], [], options))
     screen = _open(qtbot, project_path)
     try:
-        for panel in (screen.typical, screen.heat, screen.figures):
-            assert "interval data" in panel.note.text()
-        assert "No weather station" in screen.temperature.note.text()
+        for panel in (screen.typical, screen.heat):
+            assert "a day apart" in panel.note.text() and "interval data" in panel.note.text()
+        assert "No weather in the project" in screen.temperature.note.text()
         assert screen.monthly.showing_plot and screen.duration.showing_plot
         january = screen.monthly.bars["2025"].opts["height"][0]
         assert january * 1000.0 == pytest.approx(therms[:31].round(2).sum() * KWH_PER_THERM)
+        shown = screen.figures.values()
+        assert shown["total energy"] == pytest.approx(therms.round(2).sum() * KWH_PER_THERM)
+        assert "no weather in the project" in screen.figures.table.item(2, 0).text()
         save_screen(screen, "patterns-daily-meter")
+    finally:
+        screen.session.close()
+
+
+def test_the_weather_response_is_the_degree_day_regression_statsmodels_fits(qtbot, tmp_path):
+    # Invented: Ocotillo Hall on the Saguaro Flats campus (no daylight-saving time), heated
+    # below a 15 °C balance point at 45 kWh per °C-day over a 600 kWh/day base, read hourly.
+    zone, days = "America/Phoenix", 150
+    noise = np.random.default_rng(5).normal(0.0, 1.5, days)
+    day_mean = np.round(14.0 + 9.0 * np.sin(2 * np.pi * np.arange(days) / 61.0) + noise, 2)
+    daily_kwh = 600.0 + 45.0 * np.maximum(15.0 - day_mean, 0.0)
+    hourly_kwh = np.round(np.repeat(daily_kwh / 24.0, 24), 3)
+    meter_csv, weather_csv = tmp_path / "ocotillo.csv", tmp_path / "station.csv"
+    stamps = write_hourly_meter(meter_csv, "Ocotillo Hall (kWh)", hourly_kwh, "2025-01-06")
+    write_hourly_weather(weather_csv, np.repeat(day_mean, 24), "2025-01-06")
+    options = ReadOptions(timezone=zone)
+    path = tmp_path / f"ocotillo{Project.EXTENSION}"
+    with Project.create(path, timezone=zone) as project:
+        files = [read_file(meter_csv, options)], [], [read_file(weather_csv, options)], options
+        store_files(project, ImportedFiles(*files))
+    screen = _open(qtbot, path)
+    try:
+        shown = screen.figures.values()
+        # The engine fits ordinary working days (weekdays here: no calendar, every day whole).
+        day = pd.DatetimeIndex(stamps[::24])
+        weekday = day.day_of_week < 5
+        energy = hourly_kwh.reshape(days, 24).sum(axis=1)[weekday]
+        temps = day_mean[weekday]
+        assert shown["days fitted"] == weekday.sum()
+        terms = {}
+        if "heating balance point" in shown:
+            terms["heating"] = np.maximum(shown["heating balance point"] - temps, 0.0)
+        if "cooling balance point" in shown:
+            terms["cooling"] = np.maximum(temps - shown["cooling balance point"], 0.0)
+        # Degree-days by the daily mean-temperature method, HDD = max(base - mean, 0) (CIBSE
+        # TM41:2006, from memory), regressed by ordinary least squares in statsmodels at the
+        # balance points shown.
+        fit = sm.OLS(energy, sm.add_constant(np.column_stack(list(terms.values())))).fit()
+        assert shown["weather-independent use"] == pytest.approx(fit.params[0], rel=1e-6)
+        for position, side in enumerate(terms, start=1):
+            assert shown[f"{side} slope"] == pytest.approx(fit.params[position], rel=1e-6)
+        assert shown["R²"] == pytest.approx(fit.rsquared, abs=1e-9)
+        # ASHRAE Guideline 14 CV(RMSE): RMSE with n - p degrees of freedom over the mean, in %.
+        rmse = np.sqrt(fit.ssr / (len(energy) - len(fit.params)))
+        assert shown["CV(RMSE)"] == pytest.approx(100.0 * rmse / energy.mean(), rel=1e-6)
+        # And the ground truth the data were made from.
+        assert shown["heating balance point"] == pytest.approx(15.0, abs=0.25)
+        assert shown["heating slope"] == pytest.approx(45.0, rel=0.02)
+        assert shown["weather-independent use"] == pytest.approx(600.0, rel=0.02)
+        save_screen(screen, "patterns-weather-response")
     finally:
         screen.session.close()

@@ -1,0 +1,339 @@
+"""The Cleaning screen: what the engine finds in a meter's readings, previews, fixes and the log.
+
+Every change (a fix, all recommended fixes, undo, redo, remove) is made by the engine in the
+project file at once, on a worker, and followed by a fresh review; the screen then shows the
+engine's findings and quality figures for the log as it now stands.
+"""
+
+from __future__ import annotations
+
+from functools import partial
+
+import pandas as pd
+from PySide6.QtCore import Qt, Signal
+from PySide6.QtWidgets import (
+    QComboBox,
+    QHBoxLayout,
+    QLabel,
+    QMessageBox,
+    QPushButton,
+    QSplitter,
+    QVBoxLayout,
+    QWidget,
+)
+
+from desktop.cleaning_jobs import Change, FixPreview, preview_fix, review_after
+from desktop.cleaning_log_view import CleaningLogView
+from desktop.cleaning_words import finding_name, step_name
+from desktop.findings_table import FindingsTable
+from desktop.fix_preview_plot import FixPreviewPlot
+from desktop.notice import Notice
+from desktop.quality_panel import QualityPanel
+from desktop.session import Session
+from desktop.task_bar import TaskBar
+from desktop.workers import Failure, Task
+from engine.cleaning import Finding, MeterReview, apply_recommended, recommended_steps
+from engine.errors import InputError, ProjectError
+from engine.project import Project
+
+SHUTDOWN_SECONDS = 30.0
+#: Width of the column holding the quality summary and the log, enough for their words.
+SIDE_WIDTH = 380
+#: Clock format for a meter whose interval is not known yet (before its first review).
+UNKNOWN_INTERVAL = pd.Timedelta(0)
+
+
+class CleaningScreen(QWidget):
+    """Pick a meter; review it on a worker; preview, apply, undo and remove fixes.
+
+    ``log_changed`` carries the name of a meter whose cleaning log was changed, so that screens
+    showing its cleaned readings can follow.
+    """
+
+    log_changed = Signal(str)
+
+    def __init__(self, session: Session, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.session = session
+        self.task: Task | None = None
+        self.review: MeterReview | None = None
+        self.preview: FixPreview | None = None
+        self._wanted: str | None = None
+        self.meter = QComboBox()
+        self.meter.setMinimumContentsLength(18)
+        self.meter.activated.connect(self.refresh)
+        self.review_button = QPushButton("Review again")
+        self.review_button.setToolTip("Run every detector on the meter's cleaned readings again.")
+        self.review_button.clicked.connect(self.refresh)
+        self.apply_all_button = QPushButton("Apply all recommended")
+        self.apply_all_button.setToolTip(
+            "Log the fix of every finding marked 'recommended' in one save. Findings marked "
+            "'for you to decide', such as lasting level changes, are left alone."
+        )
+        self.apply_all_button.clicked.connect(self.apply_all_recommended)
+        self.notice = Notice()
+        self.task_bar = TaskBar()
+        self.findings = FindingsTable()
+        self.findings.chosen.connect(self._finding_chosen)
+        self.explanation = QLabel()
+        self.explanation.setWordWrap(True)
+        self.explanation.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
+        self.apply_fix_button = QPushButton("Apply this fix")
+        self.apply_fix_button.setToolTip("Log this finding's fix as the next step; undo it later.")
+        self.apply_fix_button.clicked.connect(self.apply_selected_fix)
+        self.plot = FixPreviewPlot()
+        self.quality = QualityPanel()
+        self.log = CleaningLogView()
+        self.log.switched.connect(self._switch_step)
+        self.log.removal_asked.connect(self._remove_step)
+        self._lay_out()
+        session.subscribe(self._project_changed)
+        self._project_changed(session.project)
+
+    def _lay_out(self) -> None:
+        controls = QHBoxLayout()
+        controls.addWidget(QLabel("Meter"))
+        controls.addWidget(self.meter)
+        controls.addWidget(self.review_button)
+        controls.addStretch(1)
+        controls.addWidget(self.apply_all_button)
+        fix_row = QHBoxLayout()
+        fix_row.addWidget(self.explanation, 1)
+        fix_row.addWidget(self.apply_fix_button, 0, Qt.AlignmentFlag.AlignTop)
+        preview = QWidget()
+        preview_layout = QVBoxLayout(preview)
+        preview_layout.setContentsMargins(0, 0, 0, 0)
+        preview_layout.addLayout(fix_row)
+        preview_layout.addWidget(self.plot, 1)
+        work = QSplitter(Qt.Orientation.Vertical)
+        work.addWidget(self.findings)
+        work.addWidget(preview)
+        work.setStretchFactor(0, 2)
+        work.setStretchFactor(1, 3)
+        side = QWidget()
+        side.setMinimumWidth(SIDE_WIDTH)
+        side_layout = QVBoxLayout(side)
+        side_layout.setContentsMargins(0, 0, 0, 0)
+        side_layout.addWidget(self.quality)
+        side_layout.addWidget(self.log, 1)
+        split = QSplitter(Qt.Orientation.Horizontal)
+        split.addWidget(work)
+        split.addWidget(side)
+        split.setStretchFactor(0, 3)
+        split.setStretchFactor(1, 1)
+        split.setChildrenCollapsible(False)
+        split.setSizes([3 * SIDE_WIDTH, SIDE_WIDTH])
+        layout = QVBoxLayout(self)
+        layout.addLayout(controls)
+        layout.addWidget(self.notice)
+        layout.addWidget(self.task_bar)
+        layout.addWidget(split, 1)
+
+    # -- choices ----------------------------------------------------------------------------
+
+    def _project_changed(self, project: Project | None) -> None:
+        self.meter.clear()
+        if project is None:
+            self._wanted = None
+            if self.task is not None:
+                self.task.cancel()
+            self._show_nothing("Open a project to review its meters' readings.")
+            return
+        self.meter.addItems(project.meter_names())
+        self.refresh()
+
+    def show_meter(self, name: str) -> None:
+        """Review meter ``name`` of the open project."""
+        self.meter.setCurrentText(name)
+        self.refresh()
+
+    def refresh(self) -> None:
+        """Review the chosen meter afresh, once any running work stops."""
+        name = self.meter.currentText()
+        if self.session.project is None or not name:
+            self._show_nothing("This project has no meters yet: add files on the Files step.")
+            return
+        if self.task is not None:
+            self._wanted = name
+            self.task.cancel()
+            return
+        self._start(name)
+
+    # -- changes ----------------------------------------------------------------------------
+
+    def apply_selected_fix(self) -> None:
+        """Log the selected finding's fix as the next step of the meter's log."""
+        finding = self.findings.selected()
+        if finding is None or finding.fix is None:
+            return
+        change = partial(Project.add_cleaning_step, step=finding.fix.to_dict())
+        words = f"Logged: {step_name(finding.fix.kind)} for the {finding_name(finding.kind)}."
+        self._change(change, words)
+
+    def apply_all_recommended(self) -> None:
+        """Log every recommended fix of the review shown, in one save."""
+        review = self.review
+        if review is None:
+            return
+        count = len(recommended_steps(review.findings))
+        change = partial(apply_recommended, review=review)
+        self._change(change, f"Logged {count} recommended fix{'es' * (count != 1)}.")
+
+    def _switch_step(self, step_id: int, active: bool) -> None:
+        change = partial(Project.set_step_active, step_id=step_id, active=active)
+        self._change(change, f"Step {self._number(step_id)} {'redone' if active else 'undone'}.")
+
+    def _remove_step(self, step_id: int) -> None:
+        number = self._number(step_id)
+        answer = QMessageBox.question(
+            self,
+            "Remove a cleaning step",
+            f"Remove step {number} from the project's log for good? Undo keeps a step and "
+            "switches it off instead.",
+        )
+        if answer != QMessageBox.StandardButton.Yes:
+            return
+        change = partial(Project.remove_cleaning_step, step_id=step_id)
+        self._change(change, f"Step {number} removed.")
+
+    def _number(self, step_id: int) -> int:
+        ids = [int(stored["id"]) for stored in self.log.steps]
+        return ids.index(step_id) + 1 if step_id in ids else 0
+
+    def _change(self, change: Change, done: str) -> None:
+        name = self.meter.currentText()
+        if self.session.project is None or not name:
+            return
+        if self.task is not None:
+            self.notice.say(f"Wait until {self.task.doing} is done.", "info")
+            return
+        self._start(name, change, done)
+
+    # -- work -------------------------------------------------------------------------------
+
+    def _start(self, meter: str, change: Change | None = None, done: str = "") -> None:
+        self._wanted = None
+        self.notice.clear()
+        doing = f"reviewing '{meter}'" if change is None else f"changing the cleaning of '{meter}'"
+        task = Task(partial(review_after, self.session.project, meter, change), doing)
+        task.succeeded.connect(partial(self._reviewed, done))
+        task.failed.connect(self._failed)
+        task.cancelled.connect(partial(self._cancelled, meter))
+        task.ended.connect(partial(self._ended, meter, change is not None))
+        self.task = task
+        self.task_bar.follow(task)
+        self._set_busy(True)
+        task.start()
+
+    def _reviewed(self, done: str, review: MeterReview) -> None:
+        if self._wanted is not None or self.session.project is None:
+            return  # another meter was chosen meanwhile; its review follows
+        self.review = review
+        meter = review.meter
+        self.quality.show_quality(review.quality())
+        self.findings.show_findings(review.findings, meter.timezone, meter.interval)
+        if done:
+            self.notice.say(f"{done} Saved in {self.session.project.path.name}.", "done")
+
+    def _failed(self, failure: Failure) -> None:
+        if self._wanted is not None:
+            return  # another meter was chosen meanwhile; its review follows
+        self._clear_review("No findings to show: see the message above.")
+        self.notice.show_failure(failure)
+
+    def _cancelled(self, meter: str) -> None:
+        if self._wanted is None:
+            self._clear_review(f"Stopped reviewing '{meter}'.")
+            self.notice.say(
+                f"Stopped reviewing '{meter}'. Press 'Review again' to see its findings.", "info"
+            )
+
+    def _ended(self, meter: str, changed: bool) -> None:
+        self.task = None
+        self._set_busy(False)
+        self._show_log(meter)
+        if changed:
+            self.log_changed.emit(meter)
+        if self._wanted is not None:
+            self._start(self._wanted)
+
+    def shutdown(self) -> None:
+        """Stop the running work and wait for its thread (before the window closes)."""
+        if self.task is not None:
+            self._wanted = None
+            self.task.cancel()
+            self.task.wait(SHUTDOWN_SECONDS)
+
+    def closeEvent(self, event) -> None:
+        self.shutdown()
+        super().closeEvent(event)
+
+    # -- showing ----------------------------------------------------------------------------
+
+    def _set_busy(self, busy: bool) -> None:
+        self.review_button.setEnabled(not busy)
+        self.log.set_busy(busy)
+        self._update_buttons()
+
+    def _update_buttons(self) -> None:
+        idle = self.task is None
+        review = self.review
+        self.apply_all_button.setEnabled(
+            idle and review is not None and bool(recommended_steps(review.findings))
+        )
+        # A fix is offered once its preview shows it applies: one that cannot be replayed
+        # would break the meter's log.
+        previewed = self.preview is not None and self.preview.after is not None
+        self.apply_fix_button.setEnabled(idle and previewed)
+
+    def _show_log(self, meter: str) -> None:
+        """The meter's log as the project holds it, undone steps included.
+
+        It is read even when the review failed, so a damaged step can still be removed.
+        """
+        project = self.session.project
+        if project is None or meter != self.meter.currentText():
+            return
+        try:
+            steps = project.cleaning_steps(meter, active_only=False)
+        except (InputError, ProjectError) as error:
+            self.log.clear(str(error))
+            return
+        review = self.review
+        known = review is not None and review.meter.name == meter
+        interval = review.meter.interval if known else UNKNOWN_INTERVAL
+        self.log.show_steps(steps, project.timezone, interval)
+
+    def _finding_chosen(self, finding: Finding | None) -> None:
+        self.preview = None
+        if finding is None or self.review is None:
+            self.explanation.setText("")
+            self.plot.show_note("Select a finding to see its readings before and after its fix.")
+        else:
+            self.explanation.setText(finding.explanation)
+            self._preview(self.review, finding)
+        self._update_buttons()
+
+    def _preview(self, review: MeterReview, finding: Finding) -> None:
+        try:
+            self.preview = preview_fix(review, finding)
+        except Exception as error:
+            failure = Failure.from_exception(error, "previewing the fix")
+            self.plot.show_note(f"No preview, so the fix cannot be applied: {failure.message}")
+            if failure.kind == "internal":
+                self.notice.show_failure(failure)
+            return
+        self.plot.show_preview(self.preview)
+
+    def _clear_review(self, words: str) -> None:
+        self.review = None
+        self.preview = None
+        self.findings.clear()
+        self.quality.clear()
+        self.explanation.setText("")
+        self.plot.show_note(words)
+        self._update_buttons()
+
+    def _show_nothing(self, words: str) -> None:
+        self._clear_review(words)
+        self.log.clear(words)
