@@ -1,0 +1,190 @@
+"""Month-ahead budgets made from rolling origins in the past, beside the months' actual totals.
+
+At each origin month the plan factory is asked for meter plans as of the day before the month
+(models fitted on the history before it), the budget for that one month is simulated, and its
+ranges are set beside the metered total. The table feeds :func:`engine.budget.calibrate`,
+which shows how often the ranges held and corrects them when they did not. Origins are the
+last whole local calendar months of the history (:func:`engine.backtest.backtest_origins`),
+as in the models' rolling-origin backtest.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Mapping, Sequence
+from dataclasses import dataclass
+from datetime import date
+
+import numpy as np
+import pandas as pd
+
+from engine.backtest import backtest_origins
+from engine.budget.calibration import calibrate
+from engine.budget.meter_grid import DAY, native_interval
+from engine.budget.periods import BudgetWindow
+from engine.budget.plan import MeterPlan
+from engine.budget.result import Calibration
+from engine.budget.simulate import simulate_paths
+from engine.budget.summary import check_levels, roll_up_groups, spreads
+from engine.budget.weather_paths import WeatherAssumption
+from engine.errors import InputError
+from engine.models.base import ModelInputs
+from engine.progress import Progress, step
+
+#: Makes the meter plans a budget as of the given date would have had.
+PlanFactory = Callable[[date], Sequence[MeterPlan]]
+
+
+@dataclass(frozen=True)
+class BudgetBacktest:
+    """Past month-ahead budgets and the actual totals.
+
+    ``pairs`` has one row per origin month and meter or roll-up: ``month``, ``kind``
+    (``"meter"``, ``"utility"`` or ``"campus"``), ``name``, ``actual kWh`` (NaN when the
+    month's readings are incomplete), ``mean kWh`` and ``P{level}`` per level. ``skipped``
+    lists origins the plan factory or the simulation could not serve, with the message.
+    """
+
+    pairs: pd.DataFrame
+    skipped: pd.DataFrame
+    levels: tuple[int, ...]
+
+    def calibration(self, name: str, kind: str = "meter") -> Calibration:
+        """The calibration of one meter's (or roll-up's) P-low–P-high range."""
+        rows = self.pairs[(self.pairs["name"] == name) & (self.pairs["kind"] == kind)]
+        return calibrate(rows, level_low=self.levels[0], level_high=self.levels[-1])
+
+    def calibrations(self) -> dict[str, Calibration]:
+        """Per meter name, for :func:`engine.budget.simulate_budget`."""
+        names = self.pairs.loc[self.pairs["kind"] == "meter", "name"].unique()
+        return {name: self.calibration(name) for name in names}
+
+
+def month_total(inputs: ModelInputs, start: pd.Timestamp, end: pd.Timestamp) -> float:
+    """The metered kWh in ``[start, end)``, or NaN unless every interval has a reading."""
+    energy = inputs.energy
+    inside = energy[(energy.index >= start) & (energy.index < end)]
+    interval = native_interval(inputs)
+    expected = round((end - start) / DAY) if interval == DAY else int((end - start) // interval)
+    if inside.notna().sum() != expected:
+        return float("nan")
+    return float(inside.sum())
+
+
+def _origin_months(history: Mapping[str, ModelInputs], origins: int | Sequence[str]) -> list[str]:
+    if not isinstance(origins, int):
+        return [str(month) for month in origins]
+    common: set[str] | None = None
+    for inputs in history.values():
+        starts = backtest_origins(inputs.index, inputs.timezone, origins, inputs.interval)
+        months = set(starts.tz_convert(inputs.timezone).strftime("%Y-%m"))
+        common = months if common is None else common & months
+    return sorted(common or ())
+
+
+def _rows(
+    month: str,
+    plans: Sequence[MeterPlan],
+    totals: dict[str, np.ndarray],
+    actuals: dict[str, float],
+    levels: tuple[int, ...],
+) -> list[dict[str, object]]:
+    groups = [("meter", plan.name, [plan.name]) for plan in plans] + roll_up_groups(plans)
+    rows = []
+    for kind, name, members in groups:
+        paths = np.sum([totals[member] for member in members], axis=0)
+        (spread,) = spreads(paths[:, np.newaxis], levels)
+        rows.append(
+            {
+                "month": month,
+                "kind": kind,
+                "name": name,
+                "actual kWh": float(np.sum([actuals[member] for member in members])),
+                "mean kWh": spread.mean,
+                **{f"P{level}": value for level, value in spread.quantiles.items()},
+            }
+        )
+    return rows
+
+
+def backtest_budget(
+    plan_factory: PlanFactory,
+    history: Mapping[str, ModelInputs],
+    origins: int | Sequence[str] = 36,
+    *,
+    weather: WeatherAssumption,
+    levels: Sequence[int] = (10, 50, 90),
+    paths: int = 500,
+    block_days: float = 7.0,
+    error_days: int = 730,
+    rng: np.random.Generator | int | None = None,
+    progress: Progress | None = None,
+) -> BudgetBacktest:
+    """Month-ahead budgets from rolling origins, beside the actual month totals.
+
+    Parameters
+    ----------
+    plan_factory : callable
+        ``plan_factory(as_of)`` gives the meter plans as of that date: models fitted on the
+        readings up to it (the budget itself ignores every reading after it).
+    history : mapping of meter name to ModelInputs
+        Every meter's whole history, for the actual month totals.
+    origins : int or sequence of str, default 36
+        How many of the last whole months to budget, or the ``"YYYY-MM"`` months themselves.
+    weather, levels, paths, block_days, error_days, rng
+        As in :func:`engine.budget.simulate_budget` (without calibration: this is what
+        measures it).
+    progress : Progress, optional
+        Stepped per origin; cancelling raises ``Cancelled``.
+    """
+    levels = check_levels(levels)
+    generator = rng if isinstance(rng, np.random.Generator) else np.random.default_rng(rng)
+    months = _origin_months(history, origins)
+    if not months:
+        raise InputError(
+            "the history has no whole month to make a past budget for.",
+            hint="Import at least two calendar months of readings (a few years for a useful "
+            "calibration).",
+        )
+    rows: list[dict[str, object]] = []
+    skipped: list[dict[str, str]] = []
+    for number, month in enumerate(months):
+        step(progress, number / len(months), f"Past budget for {month}")
+        first_day = pd.Period(month, freq="M").start_time.date()
+        as_of = first_day - pd.Timedelta(days=1)
+        try:
+            plans = list(plan_factory(as_of))
+            totals = simulate_paths(
+                plans,
+                [month],
+                as_of,
+                weather,
+                paths=paths,
+                block_days=block_days,
+                error_days=error_days,
+                rng=generator,
+                progress=None
+                if progress is None
+                else progress.part(number / len(months), (number + 1) / len(months)),
+            )
+        except InputError as error:
+            skipped.append({"month": month, "message": error.message})
+            continue
+        window = BudgetWindow.of([month], plans[0].timezone)
+        unknown = [plan.name for plan in plans if plan.name not in history]
+        if unknown:
+            raise InputError(
+                f"the history has no readings for meter(s) {', '.join(unknown)}.",
+                hint="Give the whole history of every meter the plans budget.",
+            )
+        actuals = {
+            plan.name: month_total(history[plan.name], window.start, window.end) for plan in plans
+        }
+        by_meter = {meter.plan.name: meter.months[:, 0] for meter in totals.meters}
+        rows += _rows(month, plans, by_meter, actuals, levels)
+    step(progress, 1.0, "Past budgets made")
+    columns = ["month", "kind", "name", "actual kWh", "mean kWh", *(f"P{x}" for x in levels)]
+    return BudgetBacktest(
+        pairs=pd.DataFrame(rows, columns=columns),
+        skipped=pd.DataFrame(skipped, columns=["month", "message"]),
+        levels=levels,
+    )

@@ -1,0 +1,161 @@
+"""How well past budget ranges held the actual month totals, and a correction when they did not.
+
+The check: over past origins (month-ahead budgets made before each month, see
+:func:`engine.budget.backtest_budget`), count the months whose actual total fell inside the
+P-low–P-high range. The range is *off* when the share held differs from the nominal coverage
+(80 % for P10–P90) by more than ``tolerance`` (default 5 percentage points), and at least
+``min_months`` months were tried.
+
+The correction is split-conformal scaling (Vovk, Gammerman & Shafer 2005; Lei et al. 2018,
+"Distribution-free predictive inference for regression", from memory): each past month gets
+the score ``r = (actual − P50) / (P-high − P50)`` above the P50, ``(P50 − actual) / (P50 −
+P-low)`` below; with ``n`` months the scale is the ``⌈(n + 1) · c⌉``-th smallest score (``c``
+the nominal coverage), the smallest factor by which the half-widths around P50 must be
+multiplied so that at least that share of the past months would have been held. Applied to
+later months it holds at least ``c`` of them on average when the months are exchangeable.
+
+:func:`rolling_calibration` replays that month by month: each month's range is corrected with
+the calibration of the months before it only, which is how the tool uses it.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pandas as pd
+
+from engine.budget.result import Calibration
+from engine.errors import InputError
+
+#: Fewest past months from which a range is corrected.
+MIN_MONTHS = 12
+
+
+def conformal_scale(
+    actual: np.ndarray, middle: np.ndarray, low: np.ndarray, high: np.ndarray, coverage: float
+) -> float:
+    """The split-conformal factor on the half-widths around ``middle`` (see module notes)."""
+    above = actual >= middle
+    width = np.where(above, high - middle, middle - low)
+    miss = np.abs(actual - middle)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        scores = np.where(miss == 0, 0.0, miss / width)
+    rank = math.ceil((len(scores) + 1) * coverage)
+    ordered = np.sort(scores)
+    return float(ordered[min(rank, len(ordered)) - 1])
+
+
+def calibrate(
+    pairs: pd.DataFrame,
+    *,
+    level_low: int = 10,
+    level_high: int = 90,
+    tolerance: float = 0.05,
+    min_months: int = MIN_MONTHS,
+) -> Calibration:
+    """The coverage of past month-total ranges and, when it is off, a scale that corrects it.
+
+    Parameters
+    ----------
+    pairs : pandas.DataFrame
+        One row per past month: ``actual kWh`` and the budget's ``P{level_low}``, ``P50`` and
+        ``P{level_high}`` made before it (rows without an actual are left out).
+    level_low, level_high : int, default 10 and 90
+    tolerance : float, default 0.05
+        How far (as a share) the coverage may stray from the nominal before it is corrected.
+    min_months : int, default 12
+        Fewer past months are reported but not corrected.
+
+    Returns
+    -------
+    Calibration
+        ``held`` of ``tried`` months, the scale (1.0 when none was applied) and the method in
+        words.
+    """
+    columns = ["actual kWh", f"P{level_low}", "P50", f"P{level_high}"]
+    missing = [column for column in columns if column not in pairs.columns]
+    if missing:
+        raise InputError(
+            f"the past budgets have no {', '.join(missing)} column(s) to calibrate with.",
+            hint="Calibrate on the table backtest_budget returns, run with these levels.",
+        )
+    if not 0 < level_low < 50 < level_high < 100:
+        raise ValueError("the levels must lie either side of 50")
+    known = pairs.dropna(subset=columns)
+    actual, low, middle, high = (known[column].to_numpy(dtype=np.float64) for column in columns)
+    held = int(((actual >= low) & (actual <= high)).sum())
+    tried = len(actual)
+    coverage = (level_high - level_low) / 100.0
+    nominal = f"{level_high - level_low} %"
+
+    def unchanged(reason: str) -> Calibration:
+        return Calibration(level_low, level_high, held, tried, 1.0, f"not corrected: {reason}")
+
+    if tried < min_months:
+        return unchanged(f"{tried} past months are fewer than the {min_months} needed")
+    if abs(held - coverage * tried) <= tolerance * tried + 1e-9:
+        return unchanged(f"{held} of {tried} is within {tolerance:.0%} of the nominal {nominal}")
+    scale = conformal_scale(actual, middle, low, high, coverage)
+    if not math.isfinite(scale) or scale <= 0:
+        return unchanged(f"{held} of {tried} held, but the ranges have no width to scale")
+    return Calibration(
+        level_low,
+        level_high,
+        held,
+        tried,
+        scale,
+        f"split-conformal scaling of the half-widths around P50 to hold {nominal} of "
+        f"{tried} past months",
+    )
+
+
+def rolling_calibration(
+    pairs: pd.DataFrame,
+    *,
+    level_low: int = 10,
+    level_high: int = 90,
+    first: int = MIN_MONTHS,
+    tolerance: float = 0.05,
+) -> pd.DataFrame:
+    """Each month's range corrected by the calibration of the months before it only.
+
+    Parameters
+    ----------
+    pairs : pandas.DataFrame
+        One meter's (or roll-up's) past budgets in time order, as for :func:`calibrate`.
+    first : int, default 12
+        Months used before the first corrected one (they are left out of the result).
+
+    Returns
+    -------
+    pandas.DataFrame
+        Per corrected month: ``scale``, the corrected ``P{level_low}`` and ``P{level_high}``
+        (named with ``corrected``), and whether the range ``held`` before and after.
+    """
+    low, high = f"P{level_low}", f"P{level_high}"
+    rows = []
+    for position in range(first, len(pairs)):
+        scale = calibrate(
+            pairs.iloc[:position],
+            level_low=level_low,
+            level_high=level_high,
+            tolerance=tolerance,
+            min_months=first,
+        ).scale
+        month = pairs.iloc[position]
+        middle = month["P50"]
+        lower = middle - scale * (middle - month[low])
+        upper = middle + scale * (month[high] - middle)
+        actual = month["actual kWh"]
+        rows.append(
+            {
+                "month": month.get("month"),
+                "scale": scale,
+                f"corrected {low}": lower,
+                f"corrected {high}": upper,
+                "held": bool(month[low] <= actual <= month[high]),
+                "held corrected": bool(lower <= actual <= upper),
+            }
+        )
+    return pd.DataFrame(rows)

@@ -1,0 +1,102 @@
+"""Model errors by whole local day, and the pool of days every meter's errors are drawn from.
+
+A path's model error is a stationary block bootstrap (Politis & Romano 1994) of past *days*:
+blocks of consecutive days (mean length about a week) keep the errors' autocorrelation, and
+whole days keep their daily shape. The days drawn are the same for every meter of a path, so
+the meters' errors keep their dependence (a day the whole campus ran high stays high for all)
+and a roll-up summed path by path is neither the sum of the meters' ranges nor independent.
+
+Each meter's errors are laid in a table of local days × clock slots (24 hours, or 1 for daily
+models). On the day clocks go forward the skipped hour takes the next hour's error; on the
+day they go back the repeated hour keeps the first of its two. Only days with an error in
+every interval are drawn, and only days every meter has; blocks run over those days in date
+order, stepping over days missing from the pool and wrapping from the last day to the first.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+
+from engine.budget.meter_grid import DAY, HOUR, hourly_sums, native_interval
+from engine.budget.plan import MeterPlan
+from engine.errors import InputError
+
+#: Fewest days in the shared pool of model errors (four weeks).
+MIN_POOL_DAYS = 28
+
+
+def model_errors(plan: MeterPlan, cut: pd.Timestamp, days: int) -> tuple[pd.Series, str]:
+    """The meter's errors (actual − predicted) in the ``days`` before the cut, and their source.
+
+    Out-of-sample errors from the plan when it has them, else the fit period's residuals
+    (the model predicting its own history).
+    """
+    start = cut - pd.Timedelta(days=days)
+    if plan.residuals is not None:
+        errors = plan.residuals[(plan.residuals.index >= start) & (plan.residuals.index < cut)]
+        source = "out-of-sample backtest errors"
+    else:
+        history = plan.history.window(start=start, end=cut)
+        if len(history.index) < 2:
+            raise InputError(
+                f"meter '{plan.name}' has no readings in the {days} days before the as-of date.",
+                hint="Import recent readings, or choose an earlier as-of date.",
+            )
+        predicted = np.asarray(plan.model.predict(history.without_energy()), dtype=np.float64)
+        errors = history.energy - predicted
+        source = "fit-period residuals"
+    native = native_interval(plan.history)
+    if native < HOUR and len(errors):
+        errors = hourly_sums(errors, native, errors.index[0].floor("h"))
+    return errors.astype(np.float64), source
+
+
+def _day_numbers(local: pd.DatetimeIndex) -> np.ndarray:
+    return local.normalize().to_numpy().astype("datetime64[D]").astype(np.int64)
+
+
+def _hours_in_days(days: np.ndarray, timezone: str) -> np.ndarray:
+    """How many hours each local day (day number) has: 23, 24 or 25."""
+    bounds = [
+        pd.DatetimeIndex(numbers.astype("datetime64[D]")).tz_localize(
+            timezone, ambiguous=True, nonexistent="shift_forward"
+        )
+        for numbers in (days, days + 1)
+    ]
+    return np.asarray((bounds[1] - bounds[0]) // HOUR, dtype=np.int64)
+
+
+def error_table(errors: pd.Series, timezone: str, step: pd.Timedelta) -> pd.DataFrame:
+    """Errors as a table of complete local days (rows, by day number) × clock slots."""
+    errors = errors[np.isfinite(errors.to_numpy())]
+    local = errors.index.tz_convert(timezone).tz_localize(None)
+    days = _day_numbers(local)
+    if step == DAY:
+        table = pd.DataFrame({0: errors.to_numpy()}, index=days)
+        return table[~table.index.duplicated()]
+    frame = pd.DataFrame({"day": days, "slot": local.hour, "error": errors.to_numpy()})
+    counts = frame.groupby("day").size()
+    whole = counts.index[counts.to_numpy() == _hours_in_days(counts.index.to_numpy(), timezone)]
+    frame = frame[frame["day"].isin(whole)].drop_duplicates(["day", "slot"], keep="first")
+    table = frame.pivot(index="day", columns="slot", values="error")
+    table = table.reindex(columns=range(24)).bfill(axis=1).ffill(axis=1)
+    table.index.name = None
+    return table
+
+
+def shared_pool(tables: dict[str, pd.DataFrame]) -> np.ndarray:
+    """Day numbers every meter has complete errors for, sorted."""
+    pool: np.ndarray | None = None
+    for table in tables.values():
+        days = table.index.to_numpy(dtype=np.int64)
+        pool = days if pool is None else np.intersect1d(pool, days)
+    pool = np.sort(pool) if pool is not None else np.zeros(0, dtype=np.int64)
+    if len(pool) < MIN_POOL_DAYS:
+        fewest = min(tables, key=lambda name: len(tables[name]))
+        raise InputError(
+            f"the meters share only {len(pool)} whole days of model errors to resample "
+            f"(meter '{fewest}' has {len(tables[fewest])}); at least {MIN_POOL_DAYS} are needed.",
+            hint="Budget meters with overlapping recent readings, or budget them separately.",
+        )
+    return pool

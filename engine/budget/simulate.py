@@ -1,0 +1,287 @@
+"""Simulate budget paths for one or many meters and keep only what the budget reports.
+
+Each path is a possible future of every meter at once:
+
+    energy = model prediction under the path's weather scenario
+             + model errors of the path's resampled past days (same days for every meter)
+
+floored at the lowest reading the meter ever had (zero for meters that never exported), with
+the metered energy before the as-of cut put in its place. Paths are made a block at a time and
+meter by meter, and of each only its daily totals, monthly totals and monthly cost are kept,
+so memory stays at a block of one meter's hourly paths whatever the number of meters.
+
+Parameter uncertainty is not simulated on its own: refitting every path is too slow, and
+out-of-sample errors (from a backtest that refitted the model at each origin) already carry
+it. With fit-period residuals the range is too narrow; the calibration step
+(:mod:`engine.budget.calibration`) measures that on past months and widens it.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass, field
+from datetime import date
+from typing import Any
+
+import numpy as np
+import pandas as pd
+
+from engine.bootstrap import stationary_indices
+from engine.budget.meter_grid import (
+    MeterGrid,
+    check_predictions,
+    known_actuals,
+    predictions,
+    simulation_step,
+)
+from engine.budget.periods import BudgetWindow, as_of_cut, as_of_date
+from engine.budget.plan import MeterPlan
+from engine.budget.residuals import error_table, model_errors, shared_pool
+from engine.budget.weather_paths import WeatherAssumption, WeatherScenarios, weather_scenarios
+from engine.errors import InputError
+from engine.progress import Progress, step
+from engine.tariffs import COST_PARTS, cost_paths
+
+#: Cells (paths × intervals) of one meter's block of paths: about 16 MB per float array.
+BLOCK_CELLS = 2_000_000
+_TOTAL = COST_PARTS.index("total")
+
+
+@dataclass
+class MeterPaths:
+    """One meter's per-path totals: ``days`` ``(paths, days)``, ``months`` ``(paths, months)``.
+
+    ``cost`` is ``(paths, months)`` in ``currency`` (None without a price);
+    ``actual_to_date`` the metered kWh before the cut in each month (part of every path).
+    """
+
+    plan: MeterPlan
+    days: np.ndarray
+    months: np.ndarray
+    cost: np.ndarray | None
+    actual_to_date: np.ndarray
+    errors_source: str
+
+
+@dataclass
+class PathTotals:
+    """Everything a simulation kept, path by path, before it is summarised."""
+
+    window: BudgetWindow
+    as_of: date
+    cut: pd.Timestamp
+    weather: WeatherScenarios
+    scenario_of_path: np.ndarray
+    meters: list[MeterPaths]
+    block_days: float
+    pool_days: int
+    settings: dict[str, Any] = field(default_factory=dict)
+
+    @property
+    def paths(self) -> int:
+        return len(self.scenario_of_path)
+
+    def meter(self, name: str) -> MeterPaths:
+        for meter in self.meters:
+            if meter.plan.name == name:
+                return meter
+        raise KeyError(name)
+
+
+@dataclass
+class _Meter:
+    """A meter made ready for the block loop (``errors`` once the shared pool is known)."""
+
+    plan: MeterPlan
+    grid: MeterGrid
+    predicted: np.ndarray
+    known_at: np.ndarray
+    known: np.ndarray
+    floor: float
+    table: pd.DataFrame
+    out: MeterPaths
+    errors: np.ndarray | None = None
+
+    def use_pool(self, pool: np.ndarray) -> None:
+        """Keep the errors of the pool's days, flattened day by day for fast gathering."""
+        self.errors = self.table.loc[pool].to_numpy(dtype=np.float64).ravel()
+
+
+def _check_plans(meters: Sequence[MeterPlan]) -> str:
+    if not meters:
+        raise InputError("the budget has no meters.", hint="Choose at least one meter.")
+    names = [plan.name for plan in meters]
+    repeated = sorted({name for name in names if names.count(name) > 1})
+    if repeated:
+        raise InputError(
+            f"meter name(s) {', '.join(repeated)} appear more than once in the budget.",
+            hint="Give every meter in a budget its own name.",
+        )
+    zones = sorted({plan.timezone for plan in meters})
+    if len(zones) > 1:
+        raise InputError(
+            f"the meters are on different local clocks ({', '.join(zones)}); a budget run "
+            "covers one site.",
+            hint="Budget each site separately.",
+        )
+    return zones[0]
+
+
+def _generator(rng: np.random.Generator | int | None) -> np.random.Generator:
+    return rng if isinstance(rng, np.random.Generator) else np.random.default_rng(rng)
+
+
+def _prepare(
+    plan: MeterPlan,
+    window: BudgetWindow,
+    weather: WeatherScenarios,
+    cut: pd.Timestamp,
+    paths: int,
+    errors: pd.Series,
+    source: str,
+) -> _Meter:
+    grid = MeterGrid.on(window, simulation_step(plan))
+    known = known_actuals(plan, grid, cut)
+    predicted = predictions(plan, grid, window, weather)
+    check_predictions(plan, grid, predicted, known)
+    known_at = np.flatnonzero(np.isfinite(known))
+    before = plan.history.energy[plan.history.energy.index < cut]
+    lowest = float(np.nanmin(before.to_numpy(dtype=np.float64), initial=0.0))
+    month_of_day = window.month_of_day()
+    day_known = np.add.reduceat(np.nan_to_num(known), grid.day_starts)
+    actual = np.bincount(month_of_day, weights=day_known, minlength=len(window.months))
+    priced = plan.tariff is not None or plan.rate is not None
+    out = MeterPaths(
+        plan=plan,
+        days=np.empty((paths, len(window.days))),
+        months=np.empty((paths, len(window.months))),
+        cost=np.empty((paths, len(window.months))) if priced else None,
+        actual_to_date=actual,
+        errors_source=source,
+    )
+    table = error_table(errors, plan.timezone, grid.step)
+    return _Meter(plan, grid, predicted, known_at, known[known_at], lowest, table, out)
+
+
+def _fill_block(
+    meter: _Meter,
+    rows: np.ndarray,
+    scenario: np.ndarray,
+    month_starts: np.ndarray,
+    paths: slice,
+) -> None:
+    """Simulate one block of paths of one meter and store its totals."""
+    energy = meter.errors[rows]
+    energy += meter.predicted[scenario] if len(meter.predicted) > 1 else meter.predicted[0]
+    np.maximum(energy, meter.floor, out=energy)
+    if meter.known_at.size:
+        energy[:, meter.known_at] = meter.known
+    daily = np.add.reduceat(energy, meter.grid.day_starts, axis=1)
+    monthly = np.add.reduceat(daily, month_starts, axis=1)
+    out = meter.out
+    out.days[paths] = daily
+    out.months[paths] = monthly
+    plan = meter.plan
+    if plan.tariff is not None:
+        priced = cost_paths(energy, meter.grid.index, plan.timezone, plan.tariff, meter.grid.step)
+        out.cost[paths] = priced[:, :, _TOTAL]
+    elif plan.rate is not None:
+        out.cost[paths] = monthly * plan.rate
+
+
+def simulate_paths(
+    meters: Sequence[MeterPlan],
+    months: Sequence[str],
+    as_of: date | str | pd.Timestamp,
+    weather: WeatherAssumption,
+    *,
+    paths: int = 1000,
+    block_days: float = 7.0,
+    error_days: int = 730,
+    rng: np.random.Generator | int | None = None,
+    progress: Progress | None = None,
+) -> PathTotals:
+    """Simulate the budget months of every meter together; keep per-path totals only.
+
+    Parameters
+    ----------
+    meters : sequence of MeterPlan
+        The meters, all on one site's clock.
+    months : sequence of str
+        Consecutive ``"YYYY-MM"`` months (see :func:`engine.budget.budget_months`).
+    as_of : date or ISO text
+        The last local day whose readings count; everything after it is ignored.
+    weather : WeatherAssumption
+        The weather the paths assume (one scenario per path, shared by the meters).
+    paths : int, default 1000
+    block_days : float, default 7.0
+        Mean length in days of the resampled blocks of model errors.
+    error_days : int, default 730
+        Days before the cut whose model errors are resampled.
+    rng : numpy.random.Generator or int, optional
+    progress : Progress, optional
+        Stepped per meter while preparing and per meter × block of paths.
+
+    Returns
+    -------
+    PathTotals
+    """
+    timezone = _check_plans(meters)
+    if paths < 1 or not block_days >= 1 or error_days < 1:
+        raise ValueError("paths, block_days and error_days must be at least 1")
+    generator = _generator(rng)
+    day = as_of_date(as_of)
+    cut = as_of_cut(day, timezone)
+    window = BudgetWindow.of(list(months), timezone)
+    scenarios = weather_scenarios(weather, window, cut)
+
+    prepared: list[_Meter] = []
+    for number, plan in enumerate(meters):
+        step(progress, 0.2 * number / len(meters), f"Budget: forecasting {plan.name}")
+        errors, source = model_errors(plan, cut, error_days)
+        prepared.append(_prepare(plan, window, scenarios, cut, paths, errors, source))
+    pool = shared_pool({meter.plan.name: meter.table for meter in prepared})
+    for meter in prepared:
+        meter.use_pool(pool)
+
+    scenario_of_path = generator.permutation(np.arange(paths) % scenarios.count)
+    month_of_day = window.month_of_day()
+    month_starts = np.flatnonzero(np.r_[True, month_of_day[1:] != month_of_day[:-1]])
+    widest = max(len(meter.grid.index) for meter in prepared)
+    block = max(1, min(paths, BLOCK_CELLS // widest))
+    blocks = range(0, paths, block)
+    done, total = 0, len(blocks) * len(prepared)
+    for first in blocks:
+        chosen = slice(first, min(first + block, paths))
+        count = chosen.stop - chosen.start
+        drawn_days = stationary_indices(len(pool), len(window.days), block_days, count, generator)
+        rows_by_step: dict[pd.Timedelta, np.ndarray] = {}
+        for meter in prepared:
+            step(
+                progress,
+                0.2 + 0.8 * done / total,
+                f"Budget: paths {chosen.start + 1}–{chosen.stop} of {meter.plan.name}",
+            )
+            grid = meter.grid
+            if grid.step not in rows_by_step:
+                rows_by_step[grid.step] = drawn_days[:, grid.day] * grid.slots_per_day + grid.slot
+            _fill_block(
+                meter,
+                rows_by_step[grid.step],
+                scenario_of_path[chosen],
+                month_starts,
+                chosen,
+            )
+            done += 1
+    step(progress, 1.0, "Budget: paths simulated")
+    return PathTotals(
+        window=window,
+        as_of=day,
+        cut=cut,
+        weather=scenarios,
+        scenario_of_path=scenario_of_path,
+        meters=[meter.out for meter in prepared],
+        block_days=float(block_days),
+        pool_days=len(pool),
+        settings={"error_days": int(error_days)},
+    )

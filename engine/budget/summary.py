@@ -1,0 +1,265 @@
+"""Turn per-path totals into the budget's result: ranges per month, meter, utility and campus.
+
+Every total is summed path by path first (days into months, months into the period, meters
+into utilities and the campus) and only then summarised by its mean and quantiles, so a
+period's or a roll-up's range is the range of the sum, not the sum of ranges.
+
+A calibration's ``scale`` widens (or narrows) a meter's ranges around their P50: each path's
+total ``x`` becomes ``P50 + scale · (x − P50)`` per day and per month, an increasing map that
+moves every quantile to exactly ``P50 + scale · (quantile − P50)``. It is applied to the
+meter's paths before roll-ups, so the corrected meters add up.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping, Sequence
+
+import numpy as np
+import pandas as pd
+
+from engine.budget.plan import MeterPlan
+from engine.budget.result import (
+    BudgetRun,
+    Calibration,
+    MeterBudget,
+    PeriodTotal,
+    RollUp,
+    Spread,
+)
+from engine.budget.simulate import MeterPaths, PathTotals
+from engine.errors import InputError
+
+#: Wording every budget carries (see the product brief's cautions).
+ESTIMATE_CAUTION = (
+    "A budget forecast is an estimate: its range is the spread of simulated futures under the "
+    "stated weather and model, and months can fall outside it."
+)
+COST_CAUTION = (
+    "Costs apply the tariff to forecast energy; they do not replace the utility's bill or the "
+    "tariff's legal text."
+)
+PEAK_CAUTION = (
+    "Forecast peaks drive the demand-charge budget only; they are not design loads. Capacity "
+    "and protection decisions belong to a licensed engineer under local codes."
+)
+PARAMETER_NOTE = (
+    "not simulated separately; out-of-sample errors carry it, and the calibration on past "
+    "months widens ranges that proved too narrow"
+)
+
+
+def check_levels(levels: Sequence[int]) -> tuple[int, ...]:
+    """Whole-percent levels strictly between 0 and 100, sorted, including 50."""
+    chosen = tuple(sorted({int(level) for level in levels}))
+    if not chosen or chosen[0] < 1 or chosen[-1] > 99 or 50 not in chosen:
+        raise InputError(
+            f"the budget levels {list(levels)} cannot be used.",
+            hint="Choose whole percentages from 1 to 99 that include 50, e.g. 10, 50, 90.",
+        )
+    return chosen
+
+
+def roll_up_groups(plans: Sequence[MeterPlan]) -> list[tuple[str, str, list[str]]]:
+    """``(kind, name, meter names)`` of a run's roll-ups: each utility, then the campus.
+
+    The campus is every meter and is only formed from two meters on.
+    """
+    by_utility: dict[str, list[str]] = {}
+    for plan in plans:
+        by_utility.setdefault(plan.utility, []).append(plan.name)
+    groups = [("utility", utility, names) for utility, names in by_utility.items()]
+    if len(plans) > 1:
+        groups.append(("campus", "campus", [plan.name for plan in plans]))
+    return groups
+
+
+def spreads(values: np.ndarray, levels: Sequence[int]) -> list[Spread]:
+    """Mean and quantiles over paths (axis 0) of each column of ``values`` ``(paths, k)``."""
+    quantiles = np.quantile(values, np.asarray(levels) / 100.0, axis=0)
+    means = values.mean(axis=0)
+    return [
+        Spread(
+            mean=float(means[column]),
+            quantiles={
+                str(level): float(q) for level, q in zip(levels, quantiles[:, column], strict=True)
+            },
+        )
+        for column in range(values.shape[1])
+    ]
+
+
+def widen(values: np.ndarray, scale: float) -> np.ndarray:
+    """``P50 + scale · (values − P50)`` per column, the P50 taken over paths (axis 0)."""
+    if scale == 1.0:
+        return values
+    middle = np.median(values, axis=0)
+    return middle + scale * (values - middle)
+
+
+def period_totals(
+    labels: Sequence[str],
+    months: np.ndarray,
+    actual: np.ndarray,
+    cost: np.ndarray | None,
+    levels: Sequence[int],
+) -> tuple[list[PeriodTotal], PeriodTotal]:
+    """Month and whole-period totals of ``(paths, months)`` energy and cost."""
+    energy = spreads(np.column_stack([months, months.sum(axis=1)]), levels)
+    if cost is None:
+        costs: list[Spread | None] = [None] * (len(labels) + 1)
+    else:
+        costs = list(spreads(np.column_stack([cost, cost.sum(axis=1)]), levels))
+    rows = [
+        PeriodTotal(label, float(done), spread, price)
+        for label, done, spread, price in zip(labels, actual, energy[:-1], costs[:-1], strict=True)
+    ]
+    return rows, PeriodTotal("total", float(actual.sum()), energy[-1], costs[-1])
+
+
+class _Adjusted:
+    """A meter's per-path totals after its calibration."""
+
+    def __init__(self, meter: MeterPaths, scale: float) -> None:
+        self.meter = meter
+        self.days = widen(meter.days, scale)
+        self.months = widen(meter.months, scale)
+        self.cost = None if meter.cost is None else widen(meter.cost, scale)
+
+
+def _daily_table(days: np.ndarray, index: pd.DatetimeIndex, levels: Sequence[int]) -> pd.DataFrame:
+    quantiles = np.quantile(days, np.asarray(levels) / 100.0, axis=0)
+    table = pd.DataFrame({"mean": days.mean(axis=0)}, index=index)
+    for level, row in zip(levels, quantiles, strict=True):
+        table[f"P{level}"] = row
+    return table
+
+
+def _roll_up(
+    group: str, members: list[_Adjusted], labels: Sequence[str], levels: Sequence[int]
+) -> RollUp:
+    months = np.sum([member.months for member in members], axis=0)
+    actual = np.sum([member.meter.actual_to_date for member in members], axis=0)
+    priced = all(member.cost is not None for member in members)
+    cost = np.sum([member.cost for member in members], axis=0) if priced else None
+    rows, total = period_totals(labels, months, actual, cost, levels)
+    names = [member.meter.plan.name for member in members]
+    return RollUp(group=group, meters=names, months=rows, total=total)
+
+
+def _currency(meters: list[MeterPaths]) -> str | None:
+    currencies = sorted(
+        {m.plan.price_currency for m in meters if m.plan.price_currency is not None}
+    )
+    if len(currencies) > 1:
+        raise InputError(
+            f"the meters are priced in different currencies ({', '.join(currencies)}).",
+            hint="Budget meters priced in one currency together.",
+        )
+    return currencies[0] if currencies else None
+
+
+def _assumptions(totals: PathTotals, calibration: Mapping[str, Calibration]) -> dict[str, object]:
+    return {
+        "as_of": totals.as_of.isoformat(),
+        "history_ignored_from": totals.cut.isoformat(),
+        "weather": totals.weather.description,
+        "weather_scenarios": list(totals.weather.names),
+        "model_errors": {
+            meter.plan.name: f"{meter.errors_source} of the {totals.settings['error_days']} "
+            "days before the as-of date"
+            for meter in totals.meters
+        },
+        "resampling": (
+            "stationary bootstrap of whole local days (Politis & Romano 1994), mean block "
+            f"{totals.block_days:g} days, from {totals.pool_days} days that every meter shares; "
+            "the same days and the same weather for every meter of a path"
+        ),
+        "parameter_uncertainty": PARAMETER_NOTE,
+        "calibration": {
+            name: calibration[name].sentence() if name in calibration else "not checked"
+            for name in (meter.plan.name for meter in totals.meters)
+        },
+        "roll_ups": "summed path by path over their meters",
+        "campus_energy": "every utility's energy in kWh (thermal kWh for fuels), summed",
+        "floor": "no path goes below the lowest reading the meter had (zero if never negative)",
+    }
+
+
+def _cautions(totals: PathTotals, calibration: Mapping[str, Calibration]) -> list[str]:
+    cautions = [ESTIMATE_CAUTION]
+    plans = [meter.plan for meter in totals.meters]
+    if any(plan.tariff is not None or plan.rate is not None for plan in plans):
+        cautions.append(COST_CAUTION)
+    if any(version.demand for plan in plans if plan.tariff for version in plan.tariff.versions):
+        cautions.append(PEAK_CAUTION)
+    unchecked = [plan.name for plan in plans if plan.name not in calibration]
+    if unchecked:
+        cautions.append(
+            f"The ranges of {', '.join(unchecked)} have not been checked against past months."
+        )
+    return cautions
+
+
+def summarise(
+    totals: PathTotals,
+    *,
+    levels: Sequence[int] = (10, 50, 90),
+    calibration: Mapping[str, Calibration] | None = None,
+) -> BudgetRun:
+    """The budget's result from simulated per-path totals, with calibrations applied."""
+    levels = check_levels(levels)
+    calibration = dict(calibration or {})
+    labels = list(totals.window.months)
+    adjusted = [
+        _Adjusted(
+            meter,
+            calibration[meter.plan.name].scale if meter.plan.name in calibration else 1.0,
+        )
+        for meter in totals.meters
+    ]
+    currency = _currency(totals.meters)
+    budgets = []
+    for member in adjusted:
+        plan = member.meter.plan
+        rows, total = period_totals(
+            labels, member.months, member.meter.actual_to_date, member.cost, levels
+        )
+        budgets.append(
+            MeterBudget(
+                name=plan.name,
+                utility=plan.utility,
+                model=plan.model.label,
+                months=rows,
+                total=total,
+                daily=_daily_table(member.days, totals.window.days, levels),
+                scores=dict(plan.scores),
+            )
+        )
+    by_name = {member.meter.plan.name: member for member in adjusted}
+    rolled = {
+        (kind, name): _roll_up(name, [by_name[m] for m in members], labels, levels)
+        for kind, name, members in roll_up_groups([m.plan for m in totals.meters])
+    }
+    utilities = [roll for (kind, _), roll in rolled.items() if kind == "utility"]
+    campus = rolled.get(("campus", "campus"))
+    tariffs = sorted({m.plan.tariff.name for m in totals.meters if m.plan.tariff is not None})
+    return BudgetRun(
+        start=labels[0],
+        months=labels,
+        as_of=totals.as_of.isoformat(),
+        weather=totals.weather.description,
+        levels=list(levels),
+        paths=totals.paths,
+        meters=budgets,
+        utilities=utilities,
+        campus=campus,
+        calibration={
+            name: calibration[name]
+            for name in (m.plan.name for m in totals.meters)
+            if name in calibration
+        },
+        currency=currency,
+        tariff=", ".join(tariffs) if tariffs else None,
+        assumptions=_assumptions(totals, calibration),
+        cautions=_cautions(totals, calibration),
+    )

