@@ -5,11 +5,15 @@ from __future__ import annotations
 import argparse
 import json
 import sys
+import tempfile
 from pathlib import Path
 
+from engine.budgeting import budget_project
 from engine.cleaning import apply_recommended, review_meter
 from engine.cli import text
+from engine.cli.budget_options import budget_request
 from engine.errors import InputError
+from engine.export.finance_workbook import write_finance_workbook
 from engine.export.profile_workbook import write_profile_workbook
 from engine.importing import create_project, read_project_files
 from engine.modelling import fit_meter
@@ -119,6 +123,46 @@ def fit(args: argparse.Namespace) -> int:
             )
         report = {"project": str(project.path), "meters": meters}
     _emit(args, report, text.fit_report)
+    return 0
+
+
+def budget(args: argparse.Namespace) -> int:
+    if bool(args.project) == bool(args.meters):
+        raise InputError(
+            "give either a project file or --meters files for a one-shot budget.",
+            hint="e.g. loadledger budget campus.loadledger --start 2027-01",
+        )
+    if args.project:
+        with Project.open(args.project) as project:
+            return _budget_report(args, project)
+    with tempfile.TemporaryDirectory(prefix="loadledger-") as folder:
+        options = ReadOptions(timezone=args.timezone)
+        weather = [args.weather_file] if args.weather_file else []
+        files = read_project_files(args.meters, (), weather, options)
+        path = Path(folder) / "one-shot.loadledger"
+        with create_project(path, files, timezone=args.timezone) as project:
+            for name in project.meter_names():
+                apply_recommended(project, review_meter(project, name))
+            return _budget_report(args, project)
+
+
+def _budget_report(args: argparse.Namespace, project: Project) -> int:
+    request = budget_request(args, project)
+    outcome = budget_project(project, request)
+    project.add_result("budget", None, f"budget from {request.months[0]}",
+                       outcome.run.to_json())  # fmt: skip
+    report = outcome.run.to_json()
+    if args.xlsx:
+        written = write_finance_workbook(
+            args.xlsx,
+            outcome.run,
+            quality=outcome.quality,
+            steps=outcome.steps,
+            scorecards=outcome.scorecards,
+            data_range=outcome.data_range,
+        )
+        report["workbook"] = str(written.resolve())
+    _emit(args, report, text.budget_report)
     return 0
 
 

@@ -89,6 +89,46 @@ def build_parser() -> argparse.ArgumentParser:
     _json_option(fit)
     fit.set_defaults(run=commands.fit)
 
+    budget = sub.add_parser(
+        "budget",
+        help="monthly budget totals with P10/P50/P90 and cost (a project, or files in one go)",
+    )
+    budget.add_argument(
+        "project", nargs="?", help="the project file (or give --meters files instead)"
+    )
+    budget.add_argument("--start", required=True, metavar="YYYY-MM", help="first budget month")
+    span = budget.add_mutually_exclusive_group()
+    span.add_argument("--months", type=int, metavar="N", help="number of months (default 1)")
+    span.add_argument(
+        "--fiscal-year",
+        type=int,
+        metavar="YYYY",
+        help="the fiscal year ending in YYYY that begins in the --start month",
+    )
+    budget.add_argument(
+        "--as-of", metavar="DATE", help="ignore readings after this day (default: the last one)"
+    )
+    budget.add_argument(
+        "--weather",
+        default="past-years",
+        metavar="past-years|typical|FILE",
+        help="weather assumption: each path draws one past year's weather (default), typical "
+        "weather for every path, or a temperature file",
+    )
+    budget.add_argument("--tariff", metavar="FILE", help="rate card for the electricity meters")
+    budget.add_argument(
+        "--levels", default="10,50,90", metavar="LIST", help="quantile levels in %% (10,50,90)"
+    )
+    budget.add_argument("--paths", type=int, default=1000, metavar="N", help="paths (1000)")
+    budget.add_argument("--xlsx", metavar="OUT", help="write the finance workbook")
+    budget.add_argument("--meters", action="append", default=[], metavar="FILE",
+                        help="one-shot: meter files to import, clean and model")  # fmt: skip
+    budget.add_argument("--weather-file", metavar="FILE",
+                        help="one-shot: the weather-station history")  # fmt: skip
+    budget.add_argument("--timezone", metavar="TZ", help="one-shot: the site's time zone")
+    _json_option(budget)
+    budget.set_defaults(run=commands.budget)
+
     info = sub.add_parser("info", help="summarise a project file")
     info.add_argument("project")
     _json_option(info)

@@ -165,3 +165,31 @@ def fit_report(report: dict) -> str:
         lines += [f"    note: {warning}" for warning in meter["warnings"]]
         lines += [f"    {row['meaning']}" for row in meter["explanation"] if row.get("meaning")]
     return "\n".join(lines) + "\n"
+
+
+def budget_report(report: dict) -> str:
+    """What ``budget`` prints: period totals per meter and roll-up, with the range and cost."""
+    levels = [str(level) for level in report["levels"]]
+    currency = report.get("currency") or ""
+    lines = [
+        f"budget {report['months'][0]} .. {report['months'][-1]} as of {report['as_of']}; "
+        f"{report['weather']}; {report['paths']} paths",
+    ]
+    groups = [*report["meters"], *report["utilities"]]
+    if report.get("campus"):
+        groups.append(report["campus"])
+    for group in groups:
+        total = group["total"]
+        label = group.get("name") or group.get("group")
+        spread = " / ".join(f"P{level} {_num(total['quantiles'][level])}" for level in levels)
+        line = f"  {label:<28} {spread} kWh"
+        if "cost" in total:
+            cost = total["cost"]["quantiles"]
+            line += f"; cost P50 {currency} {_num(cost['50'])}"
+        lines.append(line)
+    for name, calibration in report["calibration"].items():
+        lines.append(f"  {name}: {calibration['summary']}")
+    lines += [f"  note: {caution}" for caution in report["cautions"]]
+    if "workbook" in report:
+        lines.append(f"wrote {report['workbook']}")
+    return "\n".join(lines) + "\n"
