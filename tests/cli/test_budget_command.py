@@ -1,0 +1,102 @@
+"""`loadledger budget` as scripts use it: the JSON shape, a month under way, cost, workbook.
+
+Ground truth by construction: two invented meters (hourly, two years) sharing one invented
+weather station; the sample's invented rate card prices the electricity meter.
+"""
+
+from __future__ import annotations
+
+import json
+import subprocess
+import sys
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+import pytest
+from python_calamine import CalamineWorkbook
+
+ROOT = Path(__file__).resolve().parents[2]
+RATE_CARD = ROOT / "sample" / "tariffs" / "orrinvale-main-electric.ratecard.toml"
+
+
+def _run(*args, expect=0):
+    done = subprocess.run([sys.executable, "-m", "desktop.launcher", *map(str, args)],
+                          capture_output=True, text=True, timeout=900)  # fmt: skip
+    assert done.returncode == expect, done.stderr
+    return done
+
+
+@pytest.fixture(scope="module")
+def site(tmp_path_factory):
+    folder = tmp_path_factory.mktemp("budget")
+    rng = np.random.default_rng(3)
+    hours = pd.date_range("2024-01-01", "2025-12-31 23:00", freq="h")
+    day = hours.day_of_year.to_numpy()
+    temps = 11 - 12 * np.cos(2 * np.pi * (day - 20) / 365) + rng.normal(0, 2, len(hours))
+    clock = hours.hour.to_numpy() + 0.5
+    ramp = 1 / (1 + np.exp(-(clock - 8) / 0.7)) - 1 / (1 + np.exp(-(clock - 18) / 0.7))
+    busy = (hours.day_of_week < 5) * ramp
+    hall = (50 + 70 * busy + 3 * np.maximum(12 - temps, 0)) * (1 + rng.normal(0, 0.04, len(hours)))
+    boiler = (5 + 9 * np.maximum(14 - temps, 0)) * (1 + rng.normal(0, 0.05, len(hours)))
+    meters = folder / "campus.csv"
+    meters.write_text("Timestamp,Hall (kWh),Boiler gas (kWh)\n" + "\n".join(
+        f"{t:%Y-%m-%d %H:%M},{a:.3f},{b:.3f}"
+        for t, a, b in zip(hours, hall, boiler, strict=True)))  # fmt: skip
+    weather = folder / "station.csv"
+    weather.write_text("Timestamp,Dry bulb (°C)\n" + "\n".join(
+        f"{t:%Y-%m-%d %H:%M},{v:.2f}" for t, v in zip(hours, temps, strict=True)))  # fmt: skip
+    project = folder / "site.loadledger"
+    _run("new", project, "--meters", meters, "--weather", weather, "--timezone", "UTC")
+    for name in ("Hall", "Boiler gas"):
+        _run("fit", project, "--meter", name, "--models", "calendar_regression,seasonal_naive",
+             "--origins", "3")  # fmt: skip
+    frame = pd.DataFrame({"Hall": hall, "Boiler gas": boiler}, index=hours)
+    return project, folder, frame
+
+
+def test_budget_json_has_the_documented_shape(site):
+    project, folder, _ = site
+    done = _run("budget", project, "--start", "2026-01", "--months", "3", "--paths", "200",
+                "--tariff", RATE_CARD, "--xlsx", folder / "budget.xlsx", "--json")  # fmt: skip
+    report = json.loads(done.stdout)
+    assert report["months"] == ["2026-01", "2026-02", "2026-03"]
+    assert report["as_of"] == "2025-12-31"
+    hall = next(m for m in report["meters"] if m["name"] == "Hall")
+    assert (hall["utility"], hall["unit"]) == ("electricity", "kWh")
+    assert hall["model"]
+    for month in [*hall["months"], hall["total"]]:
+        assert set(month["quantiles"]) == {"10", "50", "90"}
+        q = month["quantiles"]
+        assert q["10"] <= q["50"] <= q["90"]
+        assert month["actual_to_date"] == 0.0
+        assert "cost" in month  # the electricity meter is priced by the rate card
+    assert [m["month"] for m in hall["months"]] == report["months"]
+    # the period's mean is the sum of the monthly means (means add up; quantiles do not)
+    assert hall["total"]["mean"] == pytest.approx(sum(m["mean"] for m in hall["months"]))
+    groups = {u["group"] for u in report["utilities"]}
+    assert groups == {"electricity", "natural_gas"}
+    assert report["campus"]["meters"] == ["Hall", "Boiler gas"]
+    assert any("licensed engineer" in c for c in report["cautions"])
+    book = CalamineWorkbook.from_path(report["workbook"])
+    assert {"Overview", "Monthly"} <= set(book.sheet_names)
+
+
+def test_a_month_under_way_adds_the_actual_to_date(site):
+    project, _, frame = site
+    done = _run("budget", project, "--start", "2025-12", "--as-of", "2025-12-10",
+                "--paths", "200", "--json")  # fmt: skip
+    report = json.loads(done.stdout)
+    hall = next(m for m in report["meters"] if m["name"] == "Hall")
+    (december,) = hall["months"]
+    metered = frame.loc["2025-12-01":"2025-12-10 23:00", "Hall"].round(3).sum()
+    assert december["actual_to_date"] == pytest.approx(metered, rel=1e-9)
+    assert december["quantiles"]["10"] > metered  # the rest of the month comes on top
+
+
+def test_bad_budget_options_exit_2_with_one_line(site):
+    project, _, _ = site
+    for args in (["--start", "2026-13"], ["--start", "2026-01", "--levels", "10,90"],
+                 ["--start", "2026-01", "--weather", "sunny"]):  # fmt: skip
+        done = _run("budget", project, *args, expect=2)
+        assert done.stderr.count("\n") == 1 and "Traceback" not in done.stderr
