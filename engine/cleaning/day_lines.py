@@ -68,7 +68,9 @@ def fit_day_lines(
     count = by_day["typical"].transform("size").to_numpy()
     frame["third"] = (_THIRDS * order // count).astype(int)
     outer = frame[frame["third"] != 1].groupby(["day", "third"])[["typical", "value"]].median()
-    outer = outer.unstack("third")
+    # days of one or two readings (daily meters) have no upper third: their line stays NaN
+    thirds = pd.MultiIndex.from_product([["typical", "value"], range(_THIRDS)])
+    outer = outer.unstack("third").reindex(columns=thirds)
     rise = outer[("typical", _THIRDS - 1)] - outer[("typical", 0)]
     slope_of_day = (outer[("value", _THIRDS - 1)] - outer[("value", 0)]) / rise
     flat = rise <= by_day["spread"].median().reindex(rise.index)

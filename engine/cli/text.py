@@ -116,7 +116,12 @@ def clean_report(report: dict) -> str:
             f"{quality['coverage_before']:.2%} -> {quality['coverage_after']:.2%}, estimated "
             f"{quality['estimated_share']:.2%} ({_num(quality['estimated_kwh'])} kWh)"
         )
+        notes = [f for f in meter["findings"] if f["severity"] == "info"]
+        if notes:
+            lines.append(f"    ({len(notes)} informational note(s), not listed: see --json)")
         for finding in meter["findings"]:
+            if finding["severity"] == "info":
+                continue
             start = _local(finding["start"], meter["timezone"])
             lines.append(
                 f"    [{finding['severity']}] {finding['kind']} from {start}: "
