@@ -8,11 +8,21 @@ P-low–P-high range. The range is *off* when the share held differs from the no
 
 The correction is split-conformal scaling (Vovk, Gammerman & Shafer 2005; Lei et al. 2018,
 "Distribution-free predictive inference for regression", from memory): each past month gets
-the score ``r = (actual − P50) / (P-high − P50)`` above the P50, ``(P50 − actual) / (P50 −
-P-low)`` below; with ``n`` months the scale is the ``⌈(n + 1) · c⌉``-th smallest score (``c``
-the nominal coverage), the smallest factor by which the half-widths around P50 must be
-multiplied so that at least that share of the past months would have been held. Applied to
-later months it holds at least ``c`` of them on average when the months are exchangeable.
+the score ``r = (actual − mean) / (P-high − mean)`` above the mean of the paths, ``(mean −
+actual) / (mean − P-low)`` below; with ``n`` months the scale is the ``⌈(n + 1) · c⌉``-th
+smallest score (``c`` the nominal coverage), the smallest factor by which the half-widths
+around the mean must be multiplied so that at least that share of the past months would have
+been held. Applied to later months it holds at least ``c`` of them on average when the months
+are exchangeable.
+
+The centre is the mean, not the P50, because the mean adds up: widening every path's days
+around their mean widens its months and its period around theirs by the same factor
+(:func:`engine.budget.widen`), so a corrected period total stays the sum of its corrected
+months path by path and its P50 stays near the sum of theirs.
+
+A scale above :data:`MAX_SCALE` is not a correction but a verdict: the simulated ranges missed
+most months by far, so the model is not fit for budgeting that meter. The scale is then
+capped there and the budget's cautions say so.
 
 :func:`rolling_calibration` replays that month by month: each month's range is corrected with
 the calibration of the months before it only, which is how the tool uses it.
@@ -30,12 +40,18 @@ from engine.errors import InputError
 
 #: Fewest past months from which a range is corrected.
 MIN_MONTHS = 12
+#: Largest factor a range is widened by; beyond it the model is not fit for budgeting.
+MAX_SCALE = 5.0
 
 
 def conformal_scale(
     actual: np.ndarray, middle: np.ndarray, low: np.ndarray, high: np.ndarray, coverage: float
 ) -> float:
-    """The split-conformal factor on the half-widths around ``middle`` (see module notes)."""
+    """The split-conformal factor on the half-widths around ``middle`` (see module notes).
+
+    ``middle`` is the centre ranges are widened around (the paths' mean); a month whose
+    centre lies outside its range scores infinity on that side.
+    """
     above = actual >= middle
     width = np.where(above, high - middle, middle - low)
     miss = np.abs(actual - middle)
@@ -59,8 +75,9 @@ def calibrate(
     Parameters
     ----------
     pairs : pandas.DataFrame
-        One row per past month: ``actual kWh`` and the budget's ``P{level_low}``, ``P50`` and
-        ``P{level_high}`` made before it (rows without an actual are left out).
+        One row per past month: ``actual kWh`` and the budget's ``mean kWh``,
+        ``P{level_low}`` and ``P{level_high}`` made before it (rows without an actual are
+        left out).
     level_low, level_high : int, default 10 and 90
     tolerance : float, default 0.05
         How far (as a share) the coverage may stray from the nominal before it is corrected.
@@ -70,10 +87,10 @@ def calibrate(
     Returns
     -------
     Calibration
-        ``held`` of ``tried`` months, the scale (1.0 when none was applied) and the method in
-        words.
+        ``held`` of ``tried`` months, the scale (1.0 when none was applied, at most
+        :data:`MAX_SCALE`) and the method in words.
     """
-    columns = ["actual kWh", f"P{level_low}", "P50", f"P{level_high}"]
+    columns = ["actual kWh", f"P{level_low}", "mean kWh", f"P{level_high}"]
     missing = [column for column in columns if column not in pairs.columns]
     if missing:
         raise InputError(
@@ -99,15 +116,14 @@ def calibrate(
     scale = conformal_scale(actual, middle, low, high, coverage)
     if not math.isfinite(scale) or scale <= 0:
         return unchanged(f"{held} of {tried} held, but the ranges have no width to scale")
-    return Calibration(
-        level_low,
-        level_high,
-        held,
-        tried,
-        scale,
-        f"split-conformal scaling of the half-widths around P50 to hold {nominal} of "
-        f"{tried} past months",
+    method = (
+        f"split-conformal scaling of the half-widths around the mean to hold {nominal} of "
+        f"{tried} past months"
     )
+    if scale > MAX_SCALE:
+        method += f", capped at {MAX_SCALE:g} (the past months asked for {scale:.1f})"
+        scale = MAX_SCALE
+    return Calibration(level_low, level_high, held, tried, scale, method)
 
 
 def rolling_calibration(
@@ -144,7 +160,7 @@ def rolling_calibration(
             min_months=first,
         ).scale
         month = pairs.iloc[position]
-        middle = month["P50"]
+        middle = month["mean kWh"]
         lower = middle - scale * (middle - month[low])
         upper = middle + scale * (month[high] - middle)
         actual = month["actual kWh"]

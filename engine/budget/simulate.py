@@ -10,6 +10,10 @@ the metered energy before the as-of cut put in its place. Paths are made a block
 meter by meter, and of each only its daily totals, monthly totals and monthly cost are kept,
 so memory stays at a block of one meter's hourly paths whatever the number of meters.
 
+The weather scenarios are few next to the paths (see :mod:`engine.budget.weather_paths`):
+each costs one model prediction per meter, and paths share them out equally. A model whose
+forecast does not depend on temperature is predicted once for all of them.
+
 Parameter uncertainty is not simulated on its own: refitting every path is too slow, and
 out-of-sample errors (from a backtest that refitted the model at each origin) already carry
 it. With fit-period residuals the range is too narrow; the calibration step
@@ -19,7 +23,7 @@ it. With fit-period residuals the range is too narrow; the calibration step
 from __future__ import annotations
 
 from collections.abc import Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from datetime import date
 from typing import Any
 
@@ -52,7 +56,9 @@ class MeterPaths:
     """One meter's per-path totals: ``days`` ``(paths, days)``, ``months`` ``(paths, months)``.
 
     ``cost`` is ``(paths, months)`` in ``currency`` (None without a price);
-    ``actual_to_date`` the metered kWh before the cut in each month (part of every path).
+    ``actual_to_date`` the metered kWh before the cut in each month (part of every path);
+    ``day_floor`` the least kWh each day can hold (the path floor times the day's intervals),
+    which a calibration's widening respects.
     """
 
     plan: MeterPlan
@@ -61,6 +67,7 @@ class MeterPaths:
     cost: np.ndarray | None
     actual_to_date: np.ndarray
     errors_source: str
+    day_floor: np.ndarray | None = None
 
 
 @dataclass
@@ -127,8 +134,36 @@ def _check_plans(meters: Sequence[MeterPlan]) -> str:
     return zones[0]
 
 
+def month_starts(window: BudgetWindow) -> np.ndarray:
+    """The position of each month's first day among the window's days."""
+    month_of_day = window.month_of_day()
+    return np.flatnonzero(np.r_[True, month_of_day[1:] != month_of_day[:-1]])
+
+
 def _generator(rng: np.random.Generator | int | None) -> np.random.Generator:
     return rng if isinstance(rng, np.random.Generator) else np.random.default_rng(rng)
+
+
+def _forecasts(
+    plan: MeterPlan, grid: MeterGrid, window: BudgetWindow, weather: WeatherScenarios
+) -> np.ndarray:
+    """The model's predictions per weather scenario, one row when it ignores the weather.
+
+    The model predicts under the first scenario and with every temperature unknown (NaN):
+    when the two agree, the forecast does not depend on temperature (benchmarks such as
+    ETS) and serves every scenario, saving a prediction per scenario.
+    """
+    if weather.hourly is None or weather.count == 1 or not plan.uses_temperature:
+        return predictions(plan, grid, window, weather)
+    unknown = np.full_like(weather.hourly[0], np.nan)
+    probe = replace(
+        weather, names=(weather.names[0], "unknown"), hourly=np.vstack([weather.hourly[0], unknown])
+    )
+    first, blind = predictions(plan, grid, window, probe)
+    if np.array_equal(first, blind, equal_nan=True):
+        return first[np.newaxis, :]
+    rest = replace(weather, names=weather.names[1:], hourly=weather.hourly[1:])
+    return np.vstack([first, predictions(plan, grid, window, rest)])
 
 
 def _prepare(
@@ -142,7 +177,7 @@ def _prepare(
 ) -> _Meter:
     grid = MeterGrid.on(window, simulation_step(plan))
     known = known_actuals(plan, grid, cut)
-    predicted = predictions(plan, grid, window, weather)
+    predicted = _forecasts(plan, grid, window, weather)
     check_predictions(plan, grid, predicted, known)
     known_at = np.flatnonzero(np.isfinite(known))
     before = plan.history.energy[plan.history.energy.index < cut]
@@ -158,6 +193,7 @@ def _prepare(
         cost=np.empty((paths, len(window.months))) if priced else None,
         actual_to_date=actual,
         errors_source=source,
+        day_floor=lowest * np.diff(np.r_[grid.day_starts, len(grid.index)]),
     )
     table = error_table(errors, plan.timezone, grid.step)
     return _Meter(plan, grid, predicted, known_at, known[known_at], lowest, table, out)
@@ -212,7 +248,7 @@ def simulate_paths(
     as_of : date or ISO text
         The last local day whose readings count; everything after it is ignored.
     weather : WeatherAssumption
-        The weather the paths assume (one scenario per path, shared by the meters).
+        The weather the paths assume (each path takes one scenario, every meter the same).
     paths : int, default 1000
     block_days : float, default 7.0
         Mean length in days of the resampled blocks of model errors.
@@ -233,7 +269,7 @@ def simulate_paths(
     day = as_of_date(as_of)
     cut = as_of_cut(day, timezone)
     window = BudgetWindow.of(list(months), timezone)
-    scenarios = weather_scenarios(weather, window, cut)
+    scenarios = weather_scenarios(weather, window, cut, rng=generator, paths=paths)
 
     prepared: list[_Meter] = []
     for number, plan in enumerate(meters):
@@ -245,8 +281,7 @@ def simulate_paths(
         meter.use_pool(pool)
 
     scenario_of_path = generator.permutation(np.arange(paths) % scenarios.count)
-    month_of_day = window.month_of_day()
-    month_starts = np.flatnonzero(np.r_[True, month_of_day[1:] != month_of_day[:-1]])
+    starts = month_starts(window)
     widest = max(len(meter.grid.index) for meter in prepared)
     block = max(1, min(paths, BLOCK_CELLS // widest))
     blocks = range(0, paths, block)
@@ -269,7 +304,7 @@ def simulate_paths(
                 meter,
                 rows_by_step[grid.step],
                 scenario_of_path[chosen],
-                month_starts,
+                starts,
                 chosen,
             )
             done += 1

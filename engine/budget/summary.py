@@ -4,10 +4,15 @@ Every total is summed path by path first (days into months, months into the peri
 into utilities and the campus) and only then summarised by its mean and quantiles, so a
 period's or a roll-up's range is the range of the sum, not the sum of ranges.
 
-A calibration's ``scale`` widens (or narrows) a meter's ranges around their P50: each path's
-total ``x`` becomes ``P50 + scale · (x − P50)`` per day and per month, an increasing map that
-moves every quantile to exactly ``P50 + scale · (quantile − P50)``. It is applied to the
-meter's paths before roll-ups, so the corrected meters add up.
+A calibration's ``scale`` widens (or narrows) a meter's ranges around the mean of its paths:
+each path's day ``x`` becomes ``mean + scale · (x − mean)``, never below the floor the
+simulation keeps (zero, or the lowest reading of a meter that ran below it, in every interval
+of the day), and the path's months and period are the sums of its widened days. The mean adds
+up, so this is the same as widening each month or the period around its own mean: every
+quantile moves to ``mean + scale · (quantile − mean)`` at every level of the sum (away from
+the floor), and the gap between a period's P50 and the sum of its months' P50s is the gap
+before widening times the scale. It is applied to the meter's paths before roll-ups, so the
+corrected meters add up too.
 """
 
 from __future__ import annotations
@@ -17,6 +22,7 @@ from collections.abc import Mapping, Sequence
 import numpy as np
 import pandas as pd
 
+from engine.budget.calibration import MAX_SCALE
 from engine.budget.plan import MeterPlan
 from engine.budget.result import (
     BudgetRun,
@@ -26,7 +32,7 @@ from engine.budget.result import (
     RollUp,
     Spread,
 )
-from engine.budget.simulate import MeterPaths, PathTotals
+from engine.budget.simulate import MeterPaths, PathTotals, month_starts
 from engine.errors import InputError
 
 #: Wording every budget carries (see the product brief's cautions).
@@ -88,12 +94,16 @@ def spreads(values: np.ndarray, levels: Sequence[int]) -> list[Spread]:
     ]
 
 
-def widen(values: np.ndarray, scale: float) -> np.ndarray:
-    """``P50 + scale · (values − P50)`` per column, the P50 taken over paths (axis 0)."""
+def widen(values: np.ndarray, scale: float, floor: np.ndarray | None = None) -> np.ndarray:
+    """``mean + scale · (values − mean)`` per column, the mean over paths (axis 0).
+
+    Values widened below ``floor`` (one per column) are raised to it.
+    """
     if scale == 1.0:
         return values
-    middle = np.median(values, axis=0)
-    return middle + scale * (values - middle)
+    middle = values.mean(axis=0)
+    widened = middle + scale * (values - middle)
+    return widened if floor is None else np.maximum(widened, floor)
 
 
 def period_totals(
@@ -117,13 +127,25 @@ def period_totals(
 
 
 class _Adjusted:
-    """A meter's per-path totals after its calibration."""
+    """A meter's per-path totals after its calibration: widened days, and their sums.
 
-    def __init__(self, meter: MeterPaths, scale: float) -> None:
+    A price per kWh prices the widened months; a tariff's monthly cost (not a sum of daily
+    costs: demand charges) is widened around its own mean by the same scale.
+    """
+
+    def __init__(self, meter: MeterPaths, scale: float, month_starts: np.ndarray) -> None:
         self.meter = meter
-        self.days = widen(meter.days, scale)
-        self.months = widen(meter.months, scale)
-        self.cost = None if meter.cost is None else widen(meter.cost, scale)
+        self.days = widen(meter.days, scale, meter.day_floor)
+        self.months = (
+            meter.months if scale == 1.0 else np.add.reduceat(self.days, month_starts, axis=1)
+        )
+        plan = meter.plan
+        if meter.cost is None:
+            self.cost = None
+        elif plan.tariff is None and plan.rate is not None:
+            self.cost = self.months * plan.rate
+        else:
+            self.cost = widen(meter.cost, scale)
 
 
 def _daily_table(days: np.ndarray, index: pd.DatetimeIndex, levels: Sequence[int]) -> pd.DataFrame:
@@ -197,6 +219,18 @@ def _cautions(totals: PathTotals, calibration: Mapping[str, Calibration]) -> lis
         cautions.append(
             f"The ranges of {', '.join(unchecked)} have not been checked against past months."
         )
+    unfit = [
+        plan.name
+        for plan in plans
+        if plan.name in calibration and calibration[plan.name].scale >= MAX_SCALE
+    ]
+    if unfit:
+        cautions.append(
+            f"The ranges of {', '.join(unfit)} missed past months so far that widening them "
+            f"was stopped at {MAX_SCALE:g} times: the model is not fit for budgeting "
+            f"{'this meter' if len(unfit) == 1 else 'these meters'}. Review its data and "
+            "model before relying on these figures."
+        )
     return cautions
 
 
@@ -210,10 +244,12 @@ def summarise(
     levels = check_levels(levels)
     calibration = dict(calibration or {})
     labels = list(totals.window.months)
+    starts = month_starts(totals.window)
     adjusted = [
         _Adjusted(
             meter,
             calibration[meter.plan.name].scale if meter.plan.name in calibration else 1.0,
+            starts,
         )
         for meter in totals.meters
     ]

@@ -43,6 +43,7 @@ from engine.backtest import (  # noqa: E402
     run_backtest,
 )
 from engine.calendar import CampusCalendar, CampusPeriod, label_intervals  # noqa: E402
+from engine.modelling import DEFAULT_FAMILIES  # noqa: E402
 from engine.models.base import ModelInputs  # noqa: E402
 from engine.scoring import cv_rmse, nmbe  # noqa: E402
 from engine.selection import recommend_model  # noqa: E402
@@ -227,6 +228,13 @@ def bench(
     started = time.perf_counter()
     result = run_backtest(models, inputs, origins=12)
     print_table(result, time.perf_counter() - started, conditions)
+    wizard = {name: cls for name, cls in families.items() if cls.family in DEFAULT_FAMILIES}
+    started = time.perf_counter()
+    run_backtest({name: cls() for name, cls in wizard.items()}, inputs, origins=12)
+    print(
+        f"  backtest of the fit wizard's default families ({len(wizard)}, without the "
+        f"challenger): {time.perf_counter() - started:.1f} s (target ≤ 15 s)"
+    )
     choice = recommend_model(result, labels=inputs.labels)
     print(f"  recommended: {choice.chosen}")
     for line in (*choice.reasons, *choice.warnings):

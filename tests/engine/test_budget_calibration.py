@@ -6,6 +6,7 @@ The rolling month-ahead backtest runs on the synthetic campus of ``test_budget_c
 
 from __future__ import annotations
 
+from dataclasses import replace
 from datetime import date
 
 import numpy as np
@@ -16,23 +17,32 @@ from scipy.stats import norm
 from engine.budget import (
     BudgetBacktest,
     Calibration,
+    MeterBudget,
     WeatherAssumption,
     backtest_budget,
+    budget_months,
     calibrate,
     conformal_scale,
     rolling_calibration,
     simulate_budget,
+    simulate_paths,
+    summarise,
+    widen,
 )
+from engine.budget.calibration import MAX_SCALE
 from engine.errors import InputError
 from tests.engine.test_budget_campus import Campus, campus_plans, make_campus
 
 
-def _pairs(actual: np.ndarray, p10: np.ndarray, p50: np.ndarray, p90: np.ndarray) -> pd.DataFrame:
-    return pd.DataFrame({"actual kWh": actual, "P10": p10, "P50": p50, "P90": p90})
+def _pairs(actual: np.ndarray, p10: np.ndarray, mean: np.ndarray, p90: np.ndarray) -> pd.DataFrame:
+    """Past budgets whose paths' mean (the widening centre) is also their P50."""
+    return pd.DataFrame(
+        {"actual kWh": actual, "P10": p10, "mean kWh": mean, "P50": mean, "P90": p90}
+    )
 
 
 def test_the_conformal_scale_is_the_rank_the_method_names() -> None:
-    # Twelve months, P10–P90 = 90–110 around a P50 of 100; misses of these sizes give the
+    # Twelve months, P10–P90 = 90–110 around a mean of 100; misses of these sizes give the
     # scores |miss| / 10, and ⌈(12 + 1) · 0.8⌉ = 11, so the scale is the 11th smallest score.
     misses = np.array([-3, 5, 12, -15, 8, 20, -1, 30, 4, -19, 25, 2], dtype=float)
     actual = 100 + misses
@@ -49,7 +59,7 @@ def test_the_conformal_scale_is_the_rank_the_method_names() -> None:
 
 
 def test_misses_are_scored_on_their_own_side_of_the_p50() -> None:
-    # A range 95–120 around 100: a miss below is measured against 5, above against 20.
+    # A range 95–120 around a mean of 100: a miss below is measured against 5, above 20.
     actual = np.array([90.0, 140.0])
     ones = np.ones(2)
     assert conformal_scale(actual, 100 * ones, 95 * ones, 120 * ones, 0.5) == pytest.approx(2.0)
@@ -91,12 +101,15 @@ def campus() -> Campus:
 
 @pytest.fixture(scope="module")
 def past(campus: Campus) -> BudgetBacktest:
-    """Month-ahead budgets for the 48 months 2021–2024, weather from the 10 years before each."""
+    """Month-ahead budgets for the 48 months 2021–2024, weather from the 5 years before each.
+
+    Ten weather draws per budget (not the default fifty) keep the 48 budgets quick.
+    """
     return backtest_budget(
         lambda as_of: campus_plans(campus, as_of),
         campus.inputs,
         48,
-        weather=WeatherAssumption.past_years(campus.weather, years=10),
+        weather=WeatherAssumption.past_years(campus.weather, years=5, draws=10),
         paths=300,
         rng=36,
     )
@@ -107,9 +120,9 @@ def test_corrected_month_ahead_ranges_hold_about_four_months_in_five(
 ) -> None:
     """36 rolling month-ahead budgets per meter, each corrected by the months before it only.
 
-    Uncorrected, ten weather years and week-long blocks make the ranges a little narrow (a
-    new year's weather falls inside the P10–P90 of ten past years less often than 80 %, and
-    block joins drop some of the errors' dependence); the rolling correction brings the
+    Uncorrected, the ranges are a little narrow: block joins drop some of the weather's and
+    the errors' dependence, the models' errors are fit-period residuals, and the typical
+    weather and the model are learned from a few years; the rolling correction brings the
     held-out coverage into 70–90 %.
     """
     pairs = past.pairs
@@ -133,7 +146,7 @@ def test_corrected_month_ahead_ranges_hold_about_four_months_in_five(
 
 def test_a_calibration_scales_a_meters_ranges_and_is_reported(campus: Campus) -> None:
     plans = campus_plans(campus, date(2024, 6, 30))
-    weather = WeatherAssumption.past_years(campus.weather)
+    weather = WeatherAssumption.past_years(campus.weather, years=3, draws=20)
     widened = Calibration(10, 90, 20, 36, 1.5, "split-conformal scaling (test)")
     months = ["2024-07", "2024-08"]
     plain = simulate_budget(plans, months, "2024-06-30", weather, paths=300, rng=6)
@@ -144,22 +157,111 @@ def test_a_calibration_scales_a_meters_ranges_and_is_reported(campus: Campus) ->
         weather,
         paths=300,
         rng=6,
-        calibration={"Boiler House": widened},
+        calibration={"Quarry Library": widened},
     )
     for before, after in zip(plain.meters, scaled.meters, strict=True):
-        factor = 1.5 if before.name == "Boiler House" else 1.0
-        for one, two in zip(before.months, after.months, strict=True):
+        factor = 1.5 if before.name == "Quarry Library" else 1.0
+        # Around the paths' mean, which stays, every quantile's distance from the P50 (and
+        # from the mean) grows by the factor: months, the period and the days alike.
+        for one, two in zip(
+            [*before.months, before.total], [*after.months, after.total], strict=True
+        ):
+            assert two.energy.mean == pytest.approx(one.energy.mean, rel=1e-12)
             middle = one.energy.quantiles["50"]
-            assert two.energy.quantiles["50"] == pytest.approx(middle, rel=1e-12)
             for level in ("10", "90"):
-                assert two.energy.quantiles[level] - middle == pytest.approx(
+                assert two.energy.quantiles[level] - two.energy.quantiles["50"] == pytest.approx(
                     factor * (one.energy.quantiles[level] - middle), rel=1e-9
                 )
         spread = before.daily["P90"] - before.daily["P50"]
         pd.testing.assert_series_equal(
             after.daily["P90"] - after.daily["P50"], factor * spread, rtol=1e-9
         )
-    assert scaled.calibration == {"Boiler House": widened}
-    assert "widened by a factor 1.50" in scaled.assumptions["calibration"]["Boiler House"]
-    assert any("Quarry Library" in caution for caution in scaled.cautions)
-    assert scaled.to_json()["calibration"]["Boiler House"]["coverage"] == pytest.approx(20 / 36)
+    assert scaled.calibration == {"Quarry Library": widened}
+    assert "widened by a factor 1.50" in scaled.assumptions["calibration"]["Quarry Library"]
+    assert any("Boiler House" in caution for caution in scaled.cautions)
+    assert scaled.to_json()["calibration"]["Quarry Library"]["coverage"] == pytest.approx(20 / 36)
+
+
+def test_widening_the_days_widens_months_and_period_alike() -> None:
+    """Skewed paths (gamma days): widened days summed path by path are the widened sums.
+
+    The mean is the one centre that adds up (the mean of a sum is the sum of the means), so
+    days, months and period keep their per-path sums under any scale; a median centre
+    would not (the median of a sum of skewed days is not the sum of their medians).
+    """
+    rng = np.random.default_rng(3)
+    days = rng.gamma(2.0, 50.0, size=(2000, 60))
+    for scale in (0.5, 3.0):
+        widened = widen(days, scale)
+        np.testing.assert_allclose(
+            widened.sum(axis=1), widen(days.sum(axis=1)[:, np.newaxis], scale)[:, 0], rtol=1e-12
+        )
+        np.testing.assert_allclose(widened.mean(axis=0), days.mean(axis=0), rtol=1e-12)
+        # Quantiles are affine-equivariant: q(a + s·x) = a + s·q(x) for s > 0.
+        q = np.quantile(days, [0.1, 0.9], axis=0)
+        np.testing.assert_allclose(
+            np.quantile(widened, [0.1, 0.9], axis=0),
+            days.mean(axis=0) + scale * (q - days.mean(axis=0)),
+            rtol=1e-12,
+        )
+    floor = np.full(60, 20.0)
+    assert widen(days, 3.0, floor).min() == 20.0  # a day never goes below what it can hold
+    assert widen(days, 1.0, floor) is days
+
+
+def test_a_scale_beyond_five_is_capped_and_cautioned(campus: Campus) -> None:
+    # Twenty months missing a 90–110 range by 30 to 60 ask for a factor near 6: capped at 5.
+    ones = np.ones(20)
+    actual = 100 + np.r_[np.linspace(30, 60, 10), -np.linspace(30, 60, 10)]
+    capped = calibrate(_pairs(actual, 90 * ones, 100 * ones, 110 * ones))
+    asked = conformal_scale(actual, 100 * ones, 90 * ones, 110 * ones, 0.8)
+    assert asked > MAX_SCALE == 5.0
+    assert capped.scale == MAX_SCALE
+    assert f"capped at 5 (the past months asked for {asked:.1f})" in capped.method
+    plans = campus_plans(campus, date(2024, 6, 30))
+    run = simulate_budget(
+        plans,
+        ["2024-07"],
+        "2024-06-30",
+        WeatherAssumption.typical(campus.weather),
+        paths=200,
+        rng=2,
+        calibration={"Boiler House": capped, "Quarry Library": replace(capped, scale=4.9)},
+    )
+    unfit = [caution for caution in run.cautions if "not fit for budgeting" in caution]
+    assert len(unfit) == 1 and "Boiler House" in unfit[0] and "Quarry" not in unfit[0]
+    # Summer gas days widened five times would go below zero, which a meter that never
+    # read below zero cannot (the floor every simulated interval respects): they stop there.
+    boiler = run.meters[2]
+    assert campus.inputs["Boiler House"].energy.min() > 0
+    assert boiler.daily["P10"].min() == 0.0
+    assert boiler.months[0].energy.quantiles["10"] > 0
+
+
+def test_the_period_p50_stays_near_the_sum_of_the_month_p50s_when_widened(campus: Campus) -> None:
+    """A year of budget from three weather years, every meter widened two and five times.
+
+    Each path's period is the sum of its widened months, so the gap between the period's P50
+    and the sum of the months' P50s is the scale times the gap before widening (exactly,
+    unless days widened below zero were stopped there); with a continuous weather spread
+    that gap is small, and so it stays, next to the range and to the total.
+    """
+
+    def gap(budget: MeterBudget) -> float:
+        summed = sum(month.energy.quantiles["50"] for month in budget.months)
+        return budget.total.energy.quantiles["50"] - summed
+
+    plans = campus_plans(campus, date(2023, 12, 31))
+    months = budget_months("2024-01", months=12)
+    weather = WeatherAssumption.past_years(campus.weather, years=3)
+    totals = simulate_paths(plans, months, "2023-12-31", weather, paths=400, rng=8)
+    plain = summarise(totals)
+    for scale in (2.0, MAX_SCALE):
+        wide = Calibration(10, 90, 10, 40, scale, "test")
+        widened = summarise(totals, calibration={plan.name: wide for plan in plans})
+        for before, after in zip(plain.meters, widened.meters, strict=True):
+            if scale == 2.0 and before.utility == "electricity":  # far above zero: exact
+                assert gap(after) == pytest.approx(scale * gap(before), rel=1e-6, abs=1e-6)
+            total = after.total.energy.quantiles
+            assert abs(gap(after)) < 0.1 * (total["90"] - total["10"])
+            assert abs(gap(after)) < 0.02 * total["50"]

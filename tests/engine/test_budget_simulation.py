@@ -361,5 +361,9 @@ def test_a_given_series_and_recent_past_years_are_weather_assumptions(
         paths=100,
         rng=1,
     )
-    assert recent.weather.names == ("2023", "2022", "2021", "2020", "2019")
-    assert np.bincount(recent.scenario_of_path).tolist() == [20] * 5  # equal shares
+    # Departures come only from whole local days of the five years before the budget
+    # (from local midnight of 2019-03-31 on) and before the as-of cut.
+    drawn = recent.weather.drawn_days
+    assert drawn.shape == (50, 30)
+    assert drawn.min() >= np.datetime64("2019-03-31") and drawn.max() <= np.datetime64(AS_OF)
+    assert np.bincount(recent.scenario_of_path).tolist() == [2] * 50  # equal shares
