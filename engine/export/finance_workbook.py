@@ -24,6 +24,9 @@ from openpyxl.worksheet.worksheet import Worksheet
 
 from engine import progress as progress_steps
 from engine.budget.result import BudgetRun
+from engine.budget.summary import COST_CAUTION as BUDGET_COST_CAUTION
+from engine.budget.summary import ESTIMATE_CAUTION as BUDGET_ESTIMATE_CAUTION
+from engine.budget.summary import PEAK_CAUTION as BUDGET_PEAK_CAUTION
 from engine.errors import InputError
 from engine.export.finance_chart import MONTH_FORMAT, chart_block, range_chart
 from engine.export.finance_layout import (
@@ -58,6 +61,8 @@ SHEETS = ("Overview", "Monthly", "Daily", "Assumptions", "Data quality", "Model 
 LABEL_WIDTH = 26
 TOTAL_NOTE = "P-columns: the period total's own quantiles"
 
+#: Row of the weather assumption among the Overview's facts (it is wrapped after the table).
+WEATHER_ROW = 5
 ESTIMATE_CAUTION = (
     "These budgets are estimates, not bills: they rest on the assumptions on the sheet "
     "'Assumptions', they come with the P{low}–P{high} range shown, and the check above says how "
@@ -219,7 +224,7 @@ def _write_overview(sheet: Worksheet, run: BudgetRun, columns: FigureColumns) ->
     title(sheet, 1, f"Energy budget {first} to {last}")
     row = facts(
         sheet,
-        3,
+        WEATHER_ROW - 2,
         [
             ("Budget months", f"{first} to {last} ({len(run.months)} months)"),
             ("As of", pd.Timestamp(run.as_of).to_pydatetime(), DATE_FORMAT),
@@ -237,6 +242,8 @@ def _write_overview(sheet: Worksheet, run: BudgetRun, columns: FigureColumns) ->
     row, width = table(sheet, frame, first_row=row, index=False, formats=_figure_formats(columns))
     sheet.freeze_panes = None
     sheet.column_dimensions["A"].width = max(sheet.column_dimensions["A"].width, LABEL_WIDTH)
+    # now that the columns have their widths, wrap the (long) weather assumption across them
+    paragraph(sheet, WEATHER_ROW, run.weather, first_column=2, last_column=width)
     row = section(sheet, row + 2, "How well the range held in backtests")
     for meter, check in run.calibration.items():
         put(sheet, row, 1, meter).alignment = Alignment(vertical="top")
@@ -253,7 +260,9 @@ def _write_overview(sheet: Worksheet, run: BudgetRun, columns: FigureColumns) ->
     cautions = [ESTIMATE_CAUTION.format(low=low, high=high), DESIGN_LOAD_CAUTION]
     if columns.with_cost:
         cautions.append(TARIFF_CAUTION)
-    for text in [*cautions, *run.cautions]:
+    # the engine's standard cautions say what the three above say; keep only its own notes
+    standard = {BUDGET_ESTIMATE_CAUTION, BUDGET_COST_CAUTION, BUDGET_PEAK_CAUTION}
+    for text in [*cautions, *(c for c in run.cautions if c not in standard)]:
         paragraph(sheet, row, text, last_column=width)
         row += 1
 
