@@ -100,3 +100,25 @@ def test_bad_budget_options_exit_2_with_one_line(site):
                  ["--start", "2026-01", "--weather", "sunny"]):  # fmt: skip
         done = _run("budget", project, *args, expect=2)
         assert done.stderr.count("\n") == 1 and "Traceback" not in done.stderr
+
+
+def test_one_shot_budget_from_files(site, tmp_path):
+    _, folder, frame = site
+    done = _run("budget", "--meters", folder / "campus.csv", "--weather-file",
+                folder / "station.csv", "--timezone", "UTC", "--start", "2026-01",
+                "--paths", "200", "--json")  # fmt: skip
+    report = json.loads(done.stdout)
+    names = [m["name"] for m in report["meters"]]
+    assert names == ["Hall", "Boiler gas"]
+    hall = report["meters"][0]["total"]
+    # the budget month sits within the spread of the same month in the invented history
+    january = frame["Hall"].groupby(frame.index.to_period("M")).sum()
+    assert 0.8 * january.min() < hall["quantiles"]["50"] < 1.2 * january.max()
+    assert not list(tmp_path.glob("*.loadledger"))  # nothing is left behind
+
+
+def test_one_shot_needs_files_or_a_project_not_both(site):
+    project, folder, _ = site
+    done = _run("budget", project, "--meters", folder / "campus.csv", "--start", "2026-01",
+                expect=2)  # fmt: skip
+    assert "either a project" in done.stderr

@@ -187,3 +187,25 @@ def test_wide_columns_named_meter_are_not_mistaken_for_a_long_layout(tmp_path):
     result = read_meter_file(path, ReadOptions(timezone="UTC"))
     assert result.layout == "wide"
     assert [m.meter.name for m in result.meters] == ["Meter 1", "Meter 2"]
+
+
+def test_legacy_xls_workbook(tmp_path):
+    xlwt = pytest.importorskip("xlwt")  # writes the old binary .xls format (BIFF8)
+    book = xlwt.Workbook()
+    sheet = book.add_sheet("Export")
+    stamp_style = xlwt.easyxf(num_format_str="yyyy-mm-dd hh:mm")
+    sheet.write(0, 0, "Campus export (legacy format)")
+    sheet.write(2, 0, "Timestamp")
+    sheet.write(2, 1, "Chapel (kWh)")
+    start = dt.datetime(2024, 3, 1)
+    for k in range(48):
+        sheet.write(3 + k, 0, start + dt.timedelta(hours=k), stamp_style)
+        sheet.write(3 + k, 1, 1.25)
+    path = tmp_path / "legacy.xls"
+    book.save(str(path))
+    result = read_meter_file(path, ReadOptions(timezone="UTC"))
+    meter = result.meters[0].meter
+    assert result.header_row == 3
+    assert meter.name == "Chapel" and meter.interval == pd.Timedelta("1h")
+    assert meter.values.sum() == pytest.approx(48 * 1.25)
+    assert meter.values.index[0] == pd.Timestamp("2024-03-01", tz="UTC")
