@@ -8,6 +8,7 @@ import sys
 import tempfile
 from pathlib import Path
 
+from engine import calendar_edit
 from engine.budgeting import budget_project
 from engine.cleaning import apply_recommended, review_meter
 from engine.cli import text
@@ -20,6 +21,7 @@ from engine.modelling import fit_meter
 from engine.profile_run import profile_project_meter
 from engine.project import Project
 from engine.reading import ReadOptions, describe, read_file
+from engine.reading.report import describe_calendar
 
 
 def reading_options(args: argparse.Namespace) -> ReadOptions:
@@ -185,6 +187,24 @@ def _meters(project: Project, only: str | None) -> list[str]:
             file=project.path,
         )
     return [only]
+
+
+def calendar(args: argparse.Namespace) -> int:
+    with Project.open(args.project) as project:
+        changed = current = calendar_edit.current(project)
+        if args.file:
+            options = ReadOptions(dayfirst=args.dayfirst)
+            changed = calendar_edit.with_file(changed, args.file, options)
+        if args.holidays:
+            changed = calendar_edit.with_holidays(changed, args.holidays)
+        if args.copy_forward:
+            changed = calendar_edit.copied_forward(changed)
+        if changed != current:
+            calendar_edit.store(project, changed)
+        report = {"project": str(project.path), "changed": changed != current,
+                  **describe_calendar(changed)}  # fmt: skip
+    _emit(args, report, text.calendar_report)
+    return 0
 
 
 def info(args: argparse.Namespace) -> int:

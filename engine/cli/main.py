@@ -129,6 +129,24 @@ def build_parser() -> argparse.ArgumentParser:
     _json_option(budget)
     budget.set_defaults(run=commands.budget)
 
+    calendar = sub.add_parser("calendar", help="show or change the project's campus calendar")
+    calendar.add_argument("project")
+    calendar.add_argument("--file", metavar="FILE", help="replace the campus periods by a file's")
+    calendar.add_argument(
+        "--holidays", metavar="CC[-SUB]", help="public holidays, e.g. US-IL (or none)"
+    )
+    calendar.add_argument(
+        "--copy-forward",
+        action="store_true",
+        help="add the last year's periods again a year later, on the same weekdays",
+    )
+    calendar.add_argument("--day-first", dest="dayfirst", action="store_const", const=True,
+                          help="the file's dates are day before month")  # fmt: skip
+    calendar.add_argument("--month-first", dest="dayfirst", action="store_const", const=False,
+                          help="the file's dates are month before day")  # fmt: skip
+    _json_option(calendar)
+    calendar.set_defaults(run=commands.calendar)
+
     info = sub.add_parser("info", help="summarise a project file")
     info.add_argument("project")
     _json_option(info)

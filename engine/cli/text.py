@@ -20,15 +20,7 @@ def file_report(report: dict) -> str:
         for meter in report["meters"]:
             lines += _meter(meter)
     elif report["kind"] == "calendar":
-        where = report["country"] or "no country"
-        if report["subdivision"]:
-            where += f"-{report['subdivision']}"
-        lines.append(f"  {len(report['periods'])} campus periods; public holidays: {where} "
-                     f"({len(report['public_holidays'])} in the covered years)")  # fmt: skip
-        lines += [
-            f"    {p['first_day']} .. {p['last_day']}  {p['kind']:<8} {p['name']}"
-            for p in report["periods"]
-        ]
+        lines += _calendar_lines(report)
     elif report["kind"] == "bills":
         lines += [
             f"  account: {report['account']}   unit: {report['unit_found']} -> kWh",
@@ -198,3 +190,24 @@ def budget_report(report: dict) -> str:
     if "workbook" in report:
         lines.append(f"wrote {report['workbook']}")
     return "\n".join(lines) + "\n"
+
+
+def _calendar_lines(report: dict) -> list[str]:
+    where = report["country"] or "no country"
+    if report["subdivision"]:
+        where += f"-{report['subdivision']}"
+    lines = [
+        f"  {len(report['periods'])} campus periods; public holidays: {where} "
+        f"({len(report['public_holidays'])} in the covered years)"
+    ]
+    return lines + [
+        f"    {p['first_day']} .. {p['last_day']}  {p['kind']:<8} {p['name']}"
+        for p in report["periods"]
+    ]
+
+
+def calendar_report(report: dict) -> str:
+    """What ``calendar`` prints: the stored calendar, and whether this run changed it."""
+    state = "changed and saved" if report["changed"] else "unchanged"
+    return "\n".join([f"project {report['project']}: campus calendar {state}",
+                      *_calendar_lines(report)]) + "\n"  # fmt: skip

@@ -26,20 +26,22 @@ def describe(result) -> dict:
 
 
 def _calendar(result) -> dict:
-    calendar = result.calendar
+    return {"file": str(result.path), "kind": "calendar", **describe_calendar(result.calendar),
+            "findings": []}  # fmt: skip
+
+
+def describe_calendar(calendar) -> dict:
+    """A campus calendar's periods and the public holidays of the years they cover."""
     periods = [p.to_dict() for p in calendar.periods]
     years = sorted({d.year for p in calendar.periods for d in (p.first_day, p.last_day)})
     holidays = calendar.public_holidays(years) if calendar.country and years else {}
     return {
-        "file": str(result.path),
-        "kind": "calendar",
         "country": calendar.country,
         "subdivision": calendar.subdivision,
         "periods": periods,
         "public_holidays": [
             {"date": day.isoformat(), "name": name} for day, name in sorted(holidays.items())
         ],
-        "findings": [],
     }
 
 
