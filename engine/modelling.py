@@ -179,3 +179,24 @@ def _regular_index(index: pd.DatetimeIndex, timezone: str, daily: bool) -> pd.Da
         days = pd.date_range(local[0], local[-1], freq=pd.DateOffset(days=1))
         return days.tz_convert("UTC")
     return pd.date_range(index[0], index[-1], freq="h")
+
+
+def monthly_contributions(model: EnergyModel, inputs: ModelInputs, months: int = 12) -> list[dict]:
+    """Each component's share of the model's energy in each of the last ``months`` local months.
+
+    For families that split their prediction into components (base, daily, weekly, annual,
+    calendar, heating, cooling, trend); an empty list for the others. Shares are percent of
+    the month's predicted energy ("of January's energy, 31 % is heating").
+    """
+    components = getattr(model, "components", None)
+    if components is None or len(inputs.index) == 0:
+        return []
+    parts = components(inputs.without_energy())
+    month = parts.index.tz_convert(inputs.timezone).tz_localize(None).to_period("M")
+    totals = parts.groupby(month).sum().iloc[-months:]
+    predicted = totals.sum(axis=1)
+    rows = []
+    for period, row in totals.iterrows():
+        shares = (100 * row / predicted[period]).round(2)
+        rows.append({"month": str(period), "kWh": float(predicted[period]), **shares.to_dict()})
+    return rows

@@ -161,6 +161,11 @@ def fit_report(report: dict) -> str:
         lines += [f"    why: {reason}" for reason in meter["reasons"]]
         lines += [f"    note: {warning}" for warning in meter["warnings"]]
         lines += [f"    {row['meaning']}" for row in meter["explanation"] if row.get("meaning")]
+        for row in meter["contributions"]:
+            weather = ", ".join(
+                f"{part} {row[part]:.0f} %" for part in ("heating", "cooling") if row.get(part)
+            )
+            lines.append(f"    {row['month']}: {_num(row['kWh'])} kWh modelled; {weather or '-'}")
     return "\n".join(lines) + "\n"
 
 

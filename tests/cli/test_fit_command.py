@@ -77,6 +77,12 @@ def test_fit_recommends_the_explainable_model_over_the_naive_benchmark(project):
     )
     assert actual["CV(RMSE) %"] < 1.15 * noise_cv
     assert meter["explanation"], "the calendar regression explains itself in physical units"
+    # heating acts below 12 °C only: a large share in January, none in July (by construction)
+    shares = {row["month"][-2:]: row for row in meter["contributions"]}
+    assert shares["01"]["heating"] > 15 and abs(shares["07"]["heating"]) < 2
+    for row in meter["contributions"]:  # the components add up to the modelled energy
+        parts = ("base", "daily", "weekly", "annual", "calendar", "heating", "cooling", "trend")
+        assert sum(row.get(p, 0) for p in parts) == pytest.approx(100, abs=0.1)
 
 
 def test_the_stored_model_predicts_identically_after_reopening(project):
