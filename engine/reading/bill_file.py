@@ -19,7 +19,7 @@ from engine.meters import Finding
 from engine.reading import vocabulary as vocab
 from engine.reading.columns import ColumnFacts, is_numeric_column, is_stamp_column, to_numbers
 from engine.reading.options import ReadOptions
-from engine.reading.sheets import ChosenTable, choose_table
+from engine.reading.sheets import ChosenTable, read_table_with
 from engine.reading.table import Table
 
 CURRENCY = r"[$€£¥]|USD|EUR|GBP|CAD|AUD"
@@ -42,12 +42,7 @@ def read_bill_file(
     path: str | Path, options: ReadOptions | None = None, chosen: ChosenTable | None = None
 ) -> BillFile:
     """Read a bill file; :class:`InputError` when a needed column is missing or unreadable."""
-    path = Path(path)
-    options = options or ReadOptions()
-    try:
-        return _read(path, options, chosen or choose_table(path, options.sheet))
-    except InputError as error:
-        raise error.at_file(path) from None
+    return read_table_with(_read, path, options or ReadOptions(), chosen)
 
 
 def looks_like_bills(table: Table, facts: list[ColumnFacts]) -> bool:

@@ -63,3 +63,12 @@ def choose_table(path: str | Path, sheet: str | None = None) -> ChosenTable:
             )
         )
     return chosen
+
+
+def read_table_with(read, path: str | Path, options, chosen: ChosenTable | None = None):
+    """Run ``read(path, options, chosen)`` on the file's table, naming the file in any error."""
+    path = Path(path)
+    try:
+        return read(path, options, chosen or choose_table(path, options.sheet))
+    except InputError as error:
+        raise error.at_file(path) from None

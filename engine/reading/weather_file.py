@@ -14,7 +14,7 @@ from engine.meters import Finding
 from engine.reading import vocabulary as vocab
 from engine.reading.columns import ColumnFacts, is_numeric_column, to_numbers
 from engine.reading.options import ReadOptions
-from engine.reading.sheets import ChosenTable, choose_table
+from engine.reading.sheets import ChosenTable, read_table_with
 from engine.reading.stamps import find_stamp_columns, parse_table_stamps
 from engine.reading.zones import SiteTime, resolve_site_time
 
@@ -37,12 +37,7 @@ def read_weather_file(
     path: str | Path, options: ReadOptions | None = None, chosen: ChosenTable | None = None
 ) -> WeatherFile:
     """Read ``path``; :class:`InputError` when no temperature column or unit can be found."""
-    path = Path(path)
-    options = options or ReadOptions()
-    try:
-        return _read(path, options, chosen or choose_table(path, options.sheet))
-    except InputError as error:
-        raise error.at_file(path) from None
+    return read_table_with(_read, path, options or ReadOptions(), chosen)
 
 
 def looks_like_weather(facts: list[ColumnFacts]) -> bool:

@@ -7,8 +7,6 @@ weather station; the sample's invented rate card prices the electricity meter.
 from __future__ import annotations
 
 import json
-import subprocess
-import sys
 from pathlib import Path
 
 import numpy as np
@@ -16,15 +14,14 @@ import pandas as pd
 import pytest
 from python_calamine import CalamineWorkbook
 
+from tests.cli.cli_support import loadledger
+
 ROOT = Path(__file__).resolve().parents[2]
 RATE_CARD = ROOT / "sample" / "tariffs" / "orrinvale-main-electric.ratecard.toml"
 
 
 def _run(*args, expect=0):
-    done = subprocess.run([sys.executable, "-m", "desktop.launcher", *map(str, args)],
-                          capture_output=True, text=True, timeout=900)  # fmt: skip
-    assert done.returncode == expect, done.stderr
-    return done
+    return loadledger(*args, expect=expect)
 
 
 @pytest.fixture(scope="module")

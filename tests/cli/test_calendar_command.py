@@ -11,12 +11,11 @@ import holidays
 import pandas as pd
 import pytest
 
+from tests.cli.cli_support import loadledger
+
 
 def _run(*args):
-    done = subprocess.run([sys.executable, "-m", "desktop.launcher", *map(str, args)],
-                          capture_output=True, text=True, timeout=300)  # fmt: skip
-    assert done.returncode == 0, done.stderr
-    return json.loads(done.stdout)
+    return json.loads(loadledger(*args).stdout)
 
 
 @pytest.fixture

@@ -3,23 +3,16 @@
 from __future__ import annotations
 
 import json
-import subprocess
-import sys
 
 import numpy as np
 import pandas as pd
 import pytest
 
+from tests.cli.cli_support import loadledger
+
 
 def _run(*args):
-    done = subprocess.run(
-        [sys.executable, "-m", "desktop.launcher", *map(str, args)],
-        capture_output=True,
-        text=True,
-        timeout=300,
-    )
-    assert done.returncode == 0, done.stderr
-    return done.stdout
+    return loadledger(*args).stdout
 
 
 @pytest.fixture

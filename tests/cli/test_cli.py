@@ -3,21 +3,15 @@
 from __future__ import annotations
 
 import json
-import subprocess
-import sys
 
 import pandas as pd
 import pytest
 
+from tests.cli.cli_support import loadledger
+
 
 def _run(*args, cwd=None):
-    return subprocess.run(
-        [sys.executable, "-m", "desktop.launcher", *map(str, args)],
-        capture_output=True,
-        text=True,
-        cwd=cwd,
-        timeout=120,
-    )
+    return loadledger(*args, expect=None, cwd=cwd)
 
 
 def _meter_csv(path, hours=72):

@@ -8,8 +8,6 @@ shape (smooth arrival and departure ramps) plus a heating response below 12 °C 
 from __future__ import annotations
 
 import json
-import subprocess
-import sys
 
 import numpy as np
 import pandas as pd
@@ -17,13 +15,11 @@ import pytest
 
 from engine.modelling import chosen_model, meter_inputs
 from engine.project import Project
+from tests.cli.cli_support import loadledger
 
 
 def _run(*args):
-    done = subprocess.run([sys.executable, "-m", "desktop.launcher", *map(str, args)],
-                          capture_output=True, text=True, timeout=600)  # fmt: skip
-    assert done.returncode == 0, done.stderr
-    return done.stdout
+    return loadledger(*args).stdout
 
 
 @pytest.fixture(scope="module")

@@ -8,22 +8,19 @@ temperature method, base 15 °C) with small noise; degree-day definition as in C
 from __future__ import annotations
 
 import json
-import subprocess
-import sys
 
 import numpy as np
 import pandas as pd
 import pytest
 from python_calamine import CalamineWorkbook
 
+from tests.cli.cli_support import loadledger
+
 BASE_C, SLOPE, BASE_LOAD = 15.0, 12.0, 40.0  # °C, therm per °C-day, therm per day
 
 
 def _run(*args):
-    done = subprocess.run([sys.executable, "-m", "desktop.launcher", *map(str, args)],
-                          capture_output=True, text=True, timeout=300)  # fmt: skip
-    assert done.returncode == 0, done.stderr
-    return done.stdout
+    return loadledger(*args).stdout
 
 
 @pytest.fixture(scope="module")
