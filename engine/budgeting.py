@@ -41,7 +41,7 @@ class BudgetRequest:
     weather: str  # "typical", "past-years" or a file's name
     levels: tuple[int, ...] = (10, 50, 90)
     paths: int = 1000
-    calibration_origins: int = 24
+    calibration_origins: int = 12
     tariff: Tariff | None = None
     given_weather: pd.Series | None = None  # °C, for a weather file
     rng: int = 20261201
@@ -137,7 +137,8 @@ def budget_project(
     run.assumptions.update(
         {
             "models": {name: MODEL_FAMILIES[families[name]].label for name in names},
-            "calibration": f"{request.calibration_origins} past month-ahead budgets",
+            "calibration": f"the {request.calibration_origins} most recent past month-ahead "
+            "budgets",
         }
     )
     step(progress, 1.0, "budget ready")

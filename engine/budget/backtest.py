@@ -18,7 +18,7 @@ import numpy as np
 import pandas as pd
 
 from engine.backtest import backtest_origins
-from engine.budget.calibration import calibrate
+from engine.budget.calibration import CALIBRATION_WINDOW, calibrate
 from engine.budget.meter_grid import DAY, native_interval
 from engine.budget.periods import BudgetWindow
 from engine.budget.plan import MeterPlan
@@ -49,9 +49,10 @@ class BudgetBacktest:
     levels: tuple[int, ...]
 
     def calibration(self, name: str, kind: str = "meter") -> Calibration:
-        """The calibration of one meter's (or roll-up's) P-low–P-high range."""
+        """The calibration of one meter's (or roll-up's) range, from its most recent months."""
         rows = self.pairs[(self.pairs["name"] == name) & (self.pairs["kind"] == kind)]
-        return calibrate(rows, level_low=self.levels[0], level_high=self.levels[-1])
+        recent = rows.sort_values("month").tail(CALIBRATION_WINDOW)
+        return calibrate(recent, level_low=self.levels[0], level_high=self.levels[-1])
 
     def calibrations(self) -> dict[str, Calibration]:
         """Per meter name, for :func:`engine.budget.simulate_budget`."""

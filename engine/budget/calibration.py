@@ -6,14 +6,19 @@ P-low–P-high range. The range is *off* when the share held differs from the no
 (80 % for P10–P90) by more than ``tolerance`` (default 5 percentage points), and at least
 ``min_months`` months were tried.
 
-The correction is split-conformal scaling (Vovk, Gammerman & Shafer 2005; Lei et al. 2018,
-"Distribution-free predictive inference for regression", from memory): each past month gets
-the score ``r = (actual − mean) / (P-high − mean)`` above the mean of the paths, ``(mean −
-actual) / (mean − P-low)`` below; with ``n`` months the scale is the ``⌈(n + 1) · c⌉``-th
-smallest score (``c`` the nominal coverage), the smallest factor by which the half-widths
-around the mean must be multiplied so that at least that share of the past months would have
-been held. Applied to later months it holds at least ``c`` of them on average when the months
-are exchangeable.
+The correction is conformal-style scaling (after split-conformal prediction: Vovk, Gammerman &
+Shafer 2005; Lei et al. 2018, "Distribution-free predictive inference for regression", from
+memory): each past month gets the score ``r = (actual − mean) / (P-high − mean)`` above the
+mean of the paths, ``(mean − actual) / (mean − P-low)`` below; the scale is the empirical
+``c``-quantile of the scores (``c`` the nominal coverage), the factor by which the half-widths
+around the mean must be multiplied for that share of the past months to have been held. The
+split-conformal rank ``⌈(n + 1) · c⌉`` would guarantee *at least* ``c`` and, with a year of
+months, overshoots (ranges held 24 of 24 months on the UCI household data); the empirical
+quantile aims at ``c`` itself, which is what "an 80 % range" promises a budget reader.
+
+Only the most recent :data:`CALIBRATION_WINDOW` months count: a model's errors shrink as its
+history grows, so older months, budgeted from less data, would keep ranges too wide (on the UCI
+household data, all past months: 24 of 24 held; the last 12: 21 of 24).
 
 The centre is the mean, not the P50, because the mean adds up: widening every path's days
 around their mean widens its months and its period around theirs by the same factor
@@ -44,10 +49,14 @@ MIN_MONTHS = 12
 MAX_SCALE = 5.0
 
 
+#: How many of the most recent past months calibrate a range.
+CALIBRATION_WINDOW = 12
+
+
 def conformal_scale(
     actual: np.ndarray, middle: np.ndarray, low: np.ndarray, high: np.ndarray, coverage: float
 ) -> float:
-    """The split-conformal factor on the half-widths around ``middle`` (see module notes).
+    """The conformal-style factor on the half-widths around ``middle`` (see module notes).
 
     ``middle`` is the centre ranges are widened around (the paths' mean); a month whose
     centre lies outside its range scores infinity on that side.
@@ -57,9 +66,7 @@ def conformal_scale(
     miss = np.abs(actual - middle)
     with np.errstate(divide="ignore", invalid="ignore"):
         scores = np.where(miss == 0, 0.0, miss / width)
-    rank = math.ceil((len(scores) + 1) * coverage)
-    ordered = np.sort(scores)
-    return float(ordered[min(rank, len(ordered)) - 1])
+    return float(np.quantile(scores, coverage, method="linear"))
 
 
 def calibrate(
@@ -117,8 +124,8 @@ def calibrate(
     if not math.isfinite(scale) or scale <= 0:
         return unchanged(f"{held} of {tried} held, but the ranges have no width to scale")
     method = (
-        f"split-conformal scaling of the half-widths around the mean to hold {nominal} of "
-        f"{tried} past months"
+        f"conformal-style scaling of the half-widths around the mean by the {nominal} quantile "
+        f"of the misses of the {tried} most recent past months"
     )
     if scale > MAX_SCALE:
         method += f", capped at {MAX_SCALE:g} (the past months asked for {scale:.1f})"
@@ -133,8 +140,9 @@ def rolling_calibration(
     level_high: int = 90,
     first: int = MIN_MONTHS,
     tolerance: float = 0.05,
+    window: int = CALIBRATION_WINDOW,
 ) -> pd.DataFrame:
-    """Each month's range corrected by the calibration of the months before it only.
+    """Each month's range corrected by the calibration of the ``window`` months before it.
 
     Parameters
     ----------
@@ -153,7 +161,7 @@ def rolling_calibration(
     rows = []
     for position in range(first, len(pairs)):
         scale = calibrate(
-            pairs.iloc[:position],
+            pairs.iloc[max(0, position - window) : position],
             level_low=level_low,
             level_high=level_high,
             tolerance=tolerance,
