@@ -196,6 +196,8 @@ def _write_monthly(
         for row in range(first, total):
             sheet.cell(row, 3).alignment = Alignment(horizontal="left")
         for column in sums:
+            if sheet.cell(first, column).value is None:
+                continue  # an unpriced group has no cost to sum: leave its total blank too
             letter = get_column_letter(column)
             # set directly: our own formula, the one value that put() must not turn into text
             sheet.cell(total, column).value = f"=SUM({letter}{first}:{letter}{total - 1})"

@@ -559,3 +559,25 @@ def test_progress_is_reported_and_cancel_stops_before_saving(written, tmp_path):
     with pytest.raises(Cancelled):
         write_finance_workbook(tmp_path / "b.xlsx", run, progress=stopped, **kwargs)
     assert not (tmp_path / "b.xlsx").exists()
+
+
+def test_an_unpriced_meter_has_no_cost_total(campus, tmp_path):
+    run = _run(campus, priced=True)
+    unpriced = run.meters[0]
+    run.meters[0] = dataclasses.replace(
+        unpriced,
+        months=[dataclasses.replace(m, cost=None) for m in unpriced.months],
+        total=dataclasses.replace(unpriced.total, cost=None),
+    )
+    path = write_finance_workbook(
+        tmp_path / "mixed.xlsx", run, quality={}, steps=[], scorecards={}, data_range={}
+    )
+    sheet = load_workbook(path)["Monthly"]
+    rows = list(sheet.iter_rows(values_only=True))
+    header = next(i for i, row in enumerate(rows) if row and row[0] == "scope")
+    names = list(rows[header])
+    cost = next(i for i, name in enumerate(names) if str(name).startswith("cost mean"))
+    totals = {row[1]: row[cost] for row in rows[header + 1 :] if row[2] == "Total"}
+    assert totals[unpriced.name] is None  # nothing to sum: no "USD 0" for a meter with no tariff
+    priced = run.meters[1].name
+    assert str(totals[priced]).startswith("=SUM(")
