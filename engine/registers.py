@@ -10,7 +10,9 @@ How a drop from ``before`` to ``after`` is read, with ``limit`` the largest usag
 plausible for the time between the two reads (see :data:`PLAUSIBLE_USAGE_FACTOR`):
 
 * **rollover** when wrapping explains it with plausible usage,
-  ``capacity - before + after <= limit``; that is the usage;
+  ``capacity - before + after <= limit``, or when the dial plainly went round: ``before`` in
+  its top tenth and ``after`` in its bottom tenth (see :data:`DIAL_EDGE`), however large that
+  interval's use; ``capacity - before + after`` is the usage;
 * **replacement** when the new reading is small (``after <= limit``) but the drop is large
   (``before - after > limit``): a new meter that started from zero, so the usage is ``after``,
   an estimate (the old meter's last unread consumption is unknown);
@@ -34,6 +36,8 @@ from engine.errors import InputError
 #: seasons and busy hours while a misread of a few units, which implies nearly a whole turn of
 #: the dial, is still told apart.
 PLAUSIBLE_USAGE_FACTOR = 50.0
+#: Share of the dial at each end: from the top tenth to the bottom tenth is a rollover.
+DIAL_EDGE = 0.1
 
 
 @dataclass(frozen=True)
@@ -130,7 +134,10 @@ def registers_to_usage(reads: pd.Series, *, capacity: float | None = None) -> Re
         limit = _plausible_usage(usage, elapsed, drops, capacity)
         before, after = values[drops], values[drops + 1]
         wrapped = capacity - before + after
-        rollover = wrapped <= limit
+        # a read in the dial's top tenth followed by one in its bottom tenth went round the
+        # dial, even when that interval's use was unusually large for the meter
+        across_zero = (before >= (1 - DIAL_EDGE) * capacity) & (after <= DIAL_EDGE * capacity)
+        rollover = (wrapped <= limit) | across_zero
         replacement = ~rollover & (after <= limit) & (before - after > limit)
         usage[drops] = np.where(rollover, wrapped, np.where(replacement, after, np.nan))
         kinds = np.where(rollover, "rollover", np.where(replacement, "replacement", "decrease"))

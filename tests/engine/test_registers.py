@@ -245,3 +245,14 @@ def test_household_minute_energy_through_a_wrapping_register() -> None:
     assert len(result.events) == int(minute_wh.sum() // 100_000)
     assert {e.kind for e in result.events} == {"rollover"}
     np.testing.assert_allclose(result.usage.to_numpy(), minute_wh, atol=1e-6)
+
+
+def test_a_large_use_across_zero_is_still_a_rollover() -> None:
+    # Found by the property test above: six reads of 1 unit, then 51 units that carry the
+    # seven-digit register from 9,999,949 across zero. 51 is above 50 × the usual use, yet a
+    # read in the dial's top tenth followed by one in its bottom tenth can only have wrapped.
+    usage = np.array([1, 1, 1, 1, 1, 1, 51], dtype=float)
+    reads = register_reads(usage, start=9_999_943.0, capacity=1e7)
+    result = registers_to_usage(reads)
+    np.testing.assert_array_equal(result.usage.to_numpy(), usage)
+    assert [event.kind for event in result.events] == ["rollover"]
