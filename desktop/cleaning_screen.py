@@ -12,7 +12,6 @@ from functools import partial
 import pandas as pd
 from PySide6.QtCore import Qt, Signal
 from PySide6.QtWidgets import (
-    QComboBox,
     QHBoxLayout,
     QLabel,
     QMessageBox,
@@ -27,10 +26,9 @@ from desktop.cleaning_log_view import CleaningLogView
 from desktop.cleaning_words import finding_name, step_name
 from desktop.findings_table import FindingsTable
 from desktop.fix_preview_plot import FixPreviewPlot
-from desktop.notice import Notice
+from desktop.meter_screen import MeterScreen
 from desktop.quality_panel import QualityPanel
 from desktop.session import Session
-from desktop.task_bar import TaskBar
 from desktop.workers import Failure, Task
 from engine.cleaning import Finding, MeterReview, apply_recommended, recommended_steps
 from engine.errors import InputError, ProjectError
@@ -43,7 +41,7 @@ SIDE_WIDTH = 380
 UNKNOWN_INTERVAL = pd.Timedelta(0)
 
 
-class CleaningScreen(QWidget):
+class CleaningScreen(MeterScreen):
     """Pick a meter; review it on a worker; preview, apply, undo and remove fixes.
 
     ``log_changed`` carries the name of a meter whose cleaning log was changed, so that screens
@@ -52,16 +50,12 @@ class CleaningScreen(QWidget):
 
     log_changed = Signal(str)
 
+    NO_PROJECT = "Open a project to review its meters' readings."
+
     def __init__(self, session: Session, parent: QWidget | None = None) -> None:
-        super().__init__(parent)
-        self.session = session
-        self.task: Task | None = None
+        super().__init__(session, parent)
         self.review: MeterReview | None = None
         self.preview: FixPreview | None = None
-        self._wanted: str | None = None
-        self.meter = QComboBox()
-        self.meter.setMinimumContentsLength(18)
-        self.meter.activated.connect(self.refresh)
         self.review_button = QPushButton("Review again")
         self.review_button.setToolTip("Run every detector on the meter's cleaned readings again.")
         self.review_button.clicked.connect(self.refresh)
@@ -71,8 +65,6 @@ class CleaningScreen(QWidget):
             "'for you to decide', such as lasting level changes, are left alone."
         )
         self.apply_all_button.clicked.connect(self.apply_all_recommended)
-        self.notice = Notice()
-        self.task_bar = TaskBar()
         self.findings = FindingsTable()
         self.findings.chosen.connect(self._finding_chosen)
         self.explanation = QLabel()
@@ -87,8 +79,7 @@ class CleaningScreen(QWidget):
         self.log.switched.connect(self._switch_step)
         self.log.removal_asked.connect(self._remove_step)
         self._lay_out()
-        session.subscribe(self._project_changed)
-        self._project_changed(session.project)
+        self.follow_session()
 
     def _lay_out(self) -> None:
         controls = QHBoxLayout()
@@ -131,27 +122,11 @@ class CleaningScreen(QWidget):
 
     # -- choices ----------------------------------------------------------------------------
 
-    def _project_changed(self, project: Project | None) -> None:
-        self.meter.clear()
-        if project is None:
-            self._wanted = None
-            if self.task is not None:
-                self.task.cancel()
-            self._show_nothing("Open a project to review its meters' readings.")
-            return
-        self.meter.addItems(project.meter_names())
-        self.refresh()
-
-    def show_meter(self, name: str) -> None:
-        """Review meter ``name`` of the open project."""
-        self.meter.setCurrentText(name)
-        self.refresh()
-
     def refresh(self) -> None:
         """Review the chosen meter afresh, once any running work stops."""
         name = self.meter.currentText()
         if self.session.project is None or not name:
-            self._show_nothing("This project has no meters yet: add files on the Files step.")
+            self._show_empty("This project has no meters yet: add files on the Files step.")
             return
         if self.task is not None:
             self._wanted = name
@@ -334,6 +309,6 @@ class CleaningScreen(QWidget):
         self.plot.show_note(words)
         self._update_buttons()
 
-    def _show_nothing(self, words: str) -> None:
+    def _show_empty(self, words: str) -> None:
         self._clear_review(words)
         self.log.clear(words)

@@ -14,7 +14,6 @@ from PySide6.QtCore import Qt
 from PySide6.QtGui import QFont
 from PySide6.QtWidgets import (
     QAbstractItemView,
-    QComboBox,
     QGridLayout,
     QHBoxLayout,
     QHeaderView,
@@ -27,7 +26,7 @@ from PySide6.QtWidgets import (
 )
 
 from desktop.choices import ChoiceBox
-from desktop.notice import Notice
+from desktop.meter_screen import MeterScreen
 from desktop.pattern_jobs import DAY_GROUPINGS, MeterPatterns, PatternRequest, compute_patterns
 from desktop.pattern_plots import (
     DurationPanel,
@@ -37,10 +36,8 @@ from desktop.pattern_plots import (
     TypicalDayPanel,
 )
 from desktop.session import Session
-from desktop.task_bar import TaskBar
 from desktop.understood_view import NUMBER_ROLE
 from desktop.workers import Failure, Task
-from engine.project import Project
 
 GROUPING_WORDS = {"day_type": "day type", "season": "season"}
 FIGURE_HEADERS = ("Figure", "Value", "Unit", "How it is worked out")
@@ -128,25 +125,19 @@ class FiguresPanel(QWidget):
         }
 
 
-class PatternsScreen(QWidget):
+class PatternsScreen(MeterScreen):
     """Pick a meter; the profiles of its cleaned readings are computed on a worker and drawn."""
 
+    NO_PROJECT = "Open a project to see its meters' patterns."
+
     def __init__(self, session: Session, parent: QWidget | None = None) -> None:
-        super().__init__(parent)
-        self.session = session
-        self.task: Task | None = None
+        super().__init__(session, parent)
         self.patterns: MeterPatterns | None = None
-        self._wanted: PatternRequest | None = None
-        self.meter = QComboBox()
-        self.meter.setMinimumContentsLength(18)
-        self.meter.activated.connect(self.refresh)
         self.grouping = ChoiceBox(tuple((GROUPING_WORDS[g], g) for g in DAY_GROUPINGS))
         self.basis = QLabel()
         self.basis.setWordWrap(True)
         self.basis.setStyleSheet("color: #5a5f66;")
         self.grouping.activated.connect(self._draw_typical_days)
-        self.notice = Notice()
-        self.task_bar = TaskBar()
         self.typical = TypicalDayPanel()
         self.heat = HeatMapPanel()
         self.monthly = MonthlyPanel()
@@ -162,8 +153,7 @@ class PatternsScreen(QWidget):
             self.figures,
         )
         self._lay_out()
-        session.subscribe(self._project_changed)
-        self._project_changed(session.project)
+        self.follow_session()
 
     def _lay_out(self) -> None:
         controls = QHBoxLayout()
@@ -189,22 +179,6 @@ class PatternsScreen(QWidget):
         layout.addLayout(grid, 1)
 
     # -- choices ----------------------------------------------------------------------------
-
-    def _project_changed(self, project: Project | None) -> None:
-        self.meter.clear()
-        if project is None:
-            self._wanted = None
-            if self.task is not None:
-                self.task.cancel()
-            self._show_empty("Open a project to see its meters' patterns.")
-            return
-        self.meter.addItems(project.meter_names())
-        self.refresh()
-
-    def show_meter(self, name: str) -> None:
-        """Profile meter ``name`` of the open project."""
-        self.meter.setCurrentText(name)
-        self.refresh()
 
     def meter_cleaned(self, name: str) -> None:
         """Meter ``name``'s cleaning log changed: profile it again if it is the one shown."""
