@@ -148,6 +148,10 @@ class DesignLayout:
     cooling_base: float | None = None
     trend_origin: float | None = None
     trend_knots: tuple[float, ...] = field(default_factory=tuple)
+    #: Days off (weekends, holidays) within each campus period kind get their own level and
+    #: daily shape: a weekend in a break or the closure is not a term weekend. False only for
+    #: models stored before this term existed.
+    period_days_off: bool = False
 
     def to_dict(self) -> dict[str, Any]:
         stored = asdict(self)
@@ -235,14 +239,20 @@ def build_design(features: CalendarFeatures, layout: DesignLayout) -> Design:
             daily * member[:, None],
         )
     period_daily = daily[:, : 2 * layout.period_order]
+    day_off = np.isin(features.day_type, ("weekend", "holiday"))
     for kind in layout.period_kinds:
-        member = (features.period_kind == kind).astype(float)
-        columns.add("calendar", [f"{kind or 'no period'} days"], member)
-        columns.add(
-            "calendar",
-            fourier_names(f"{kind or 'no period'} daily", layout.period_order),
-            period_daily * member[:, None],
-        )
+        in_period = features.period_kind == kind
+        groups = [(f"{kind or 'no period'} days", in_period)]
+        if layout.period_days_off:
+            groups.append((f"{kind or 'no period'} days off", in_period & day_off))
+        for label, chosen in groups:
+            member = chosen.astype(float)
+            columns.add("calendar", [label], member)
+            columns.add(
+                "calendar",
+                fourier_names(label.replace("days", "daily"), layout.period_order),
+                period_daily * member[:, None],
+            )
     columns.add(
         "weekly",
         fourier_names("weekly", layout.weekly_order),

@@ -189,3 +189,29 @@ def test_every_candidate_setting_fits(campus):
     for settings in CalendarRegressionModel.candidate_settings():
         model = CalendarRegressionModel(**settings).fit(one_year)
         assert model.heating_slope_ == pytest.approx(HEATING_SLOPE, rel=0.25)
+
+
+def test_days_off_in_a_campus_period_get_their_own_shape(campus, model):
+    layout = model.layout_
+    assert layout.period_days_off
+    off = [n for n in model.column_names_ if "days off" in n or "daily off" in n]
+    assert len(off) == len(layout.period_kinds) * (1 + 2 * layout.period_order)
+
+
+def test_a_model_stored_before_the_days_off_term_still_predicts_as_stored(campus, model):
+    stored = model.to_dict()
+    older = replace(model.layout_, period_days_off=False)
+    kept = [
+        i
+        for i, name in enumerate(model.column_names_)
+        if "days off" not in name and "daily off" not in name
+    ]
+    stored["fitted"]["layout"] = {
+        k: v for k, v in older.to_dict().items() if k != "period_days_off"
+    }
+    stored["fitted"]["coefficients"] = [stored["fitted"]["coefficients"][i] for i in kept]
+    stored["fitted"]["column_names"] = [stored["fitted"]["column_names"][i] for i in kept]
+    again = CalendarRegressionModel.from_dict(stored)
+    assert not again.layout_.period_days_off
+    prediction = again.predict(campus.inputs.without_energy())
+    assert np.isfinite(prediction.to_numpy()).all()
