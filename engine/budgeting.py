@@ -23,8 +23,8 @@ from engine.budget import (
 from engine.calendar import CampusCalendar
 from engine.cleaning.project_log import cleaned_meter, stored_calendar
 from engine.errors import InputError
-from engine.modelling import chosen_model, fit_meter, hourly_weather, meter_inputs
-from engine.models import MODEL_FAMILIES, ModelInputs
+from engine.modelling import chosen_model, fit_meter, fresh, hourly_weather, meter_inputs
+from engine.models import EnergyModel, ModelInputs
 from engine.progress import Progress, step
 from engine.project import Project
 from engine.tariffs import Tariff
@@ -136,7 +136,7 @@ def budget_project(
     )
     run.assumptions.update(
         {
-            "models": {name: MODEL_FAMILIES[families[name]].label for name in names},
+            "models": {name: families[name].label for name in names},
             "calibration": f"the {request.calibration_origins} most recent past month-ahead "
             "budgets",
         }
@@ -151,37 +151,38 @@ def budget_project(
     )
 
 
-def _family_and_scores(project: Project, name: str) -> tuple[str, dict]:
-    """The meter's recommended family (running the fit wizard when it has none) and scores."""
+def _family_and_scores(project: Project, name: str) -> tuple[EnergyModel, dict]:
+    """The meter's recommended model, unfitted (running the fit wizard when it has none), and
+    its scores."""
     if not project.results("model", name):
         fit_meter(project, name)
     model, choice = chosen_model(project, name)
     ranking = {row["model"]: row for row in choice.get("ranking", [])}
-    return model.family, ranking.get(model.family, {})
+    return fresh(model), ranking.get(model.family, {})
 
 
 def _plan(
     name: str,
     utility: str,
     history: ModelInputs,
-    family: str,
+    family: EnergyModel,
     cut: pd.Timestamp,
     calendar: CampusCalendar,
     request: BudgetRequest,
     residuals: pd.Series | None = None,
 ) -> MeterPlan:
     """The meter's model refitted on the readings before ``cut``, ready to simulate."""
-    model = MODEL_FAMILIES[family]().fit(history.window(end=cut))
+    model = fresh(family).fit(history.window(end=cut))
     tariff = request.tariff if utility == "electricity" else None
     return MeterPlan(name, utility, model, history, calendar=calendar,
                      residuals=residuals, tariff=tariff)  # fmt: skip
 
 
-def _residuals(history: ModelInputs, family: str, hourly: pd.Series | None) -> pd.Series:
+def _residuals(history: ModelInputs, family: EnergyModel, hourly: pd.Series | None) -> pd.Series:
     """Out-of-sample errors of the family from a rolling one-month-ahead backtest."""
-    model = {family: MODEL_FAMILIES[family]()}
-    result = run_backtest(model, history, origins=12, weather_history=hourly)
-    return backtest_residuals(result, family)
+    result = run_backtest({family.family: fresh(family)}, history, origins=12,
+                          weather_history=hourly)  # fmt: skip
+    return backtest_residuals(result, family.family)
 
 
 def _weather(request: BudgetRequest, temps: pd.Series | None) -> WeatherAssumption:

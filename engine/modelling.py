@@ -9,7 +9,7 @@ from dataclasses import dataclass
 
 import pandas as pd
 
-from engine.backtest import BacktestResult, run_backtest
+from engine.backtest import ACTUAL_WEATHER, NO_WEATHER, BacktestResult, run_backtest
 from engine.calendar import CampusCalendar, label_intervals
 from engine.cleaning.project_log import cleaned_meter, stored_calendar
 from engine.errors import InputError
@@ -30,6 +30,11 @@ DEFAULT_FAMILIES: tuple[str, ...] = (
     "monthly_sarima",
     "mstl_ets",
 )
+#: Families whose orders (Fourier orders, temperature knots) the wizard chooses by backtest.
+TUNED_FAMILIES: tuple[str, ...] = ("calendar_regression", "time_of_week_temperature")
+#: Origins of the short backtest that chooses those orders (one-month-ahead, actual weather).
+TUNING_ORIGINS = 3
+
 #: Families that make sense on daily readings (a daily register meter, say).
 DAILY_FAMILIES: tuple[str, ...] = (
     "daily_change_point",
@@ -127,16 +132,16 @@ def fit_meter(
 ) -> FitOutcome:
     """Backtest the families on one meter, recommend one, fit it on all data and keep it."""
     inputs = meter_inputs(project, name)
-    models = {m.family: m for m in families_for(inputs, families)}
-    part = progress.part(0.0, 0.9) if progress is not None else None
-    backtest = run_backtest(
-        models, inputs, origins=origins, weather_history=hourly_weather(project), progress=part
-    )
+    weather = hourly_weather(project)
+    step(progress, 0.0, "choosing the models' orders")
+    models = {m.family: tuned(m, inputs, weather) for m in families_for(inputs, families)}
+    part = progress.part(0.1, 0.9) if progress is not None else None
+    backtest = run_backtest(models, inputs, origins=origins, weather_history=weather, progress=part)
     choice = recommend_model(backtest, labels=inputs.labels)
     model, result_id = None, None
     if choice.chosen is not None:
         step(progress, 0.95, f"fitting {choice.chosen} on all the history")
-        model = MODEL_FAMILIES[choice.chosen]().fit(inputs)
+        model = fresh(models[choice.chosen]).fit(inputs)
         with project.transaction():
             project.add_result("backtest", name, "rolling-origin backtest", backtest.to_dict())
             result_id = project.add_result(
@@ -147,6 +152,37 @@ def fit_meter(
             )
     step(progress, 1.0, "done")
     return FitOutcome(name, backtest, choice, model, result_id)
+
+
+def fresh(model: EnergyModel) -> EnergyModel:
+    """An unfitted model of the same family with the same settings."""
+    return type(model)(**model.settings())
+
+
+def tuned(model: EnergyModel, inputs: ModelInputs, weather: pd.Series | None) -> EnergyModel:
+    """The family's candidate settings compared in a short backtest; the best one, unfitted.
+
+    Only :data:`TUNED_FAMILIES` are tuned: the orders of their terms are chosen by how well
+    each candidate forecast the last :data:`TUNING_ORIGINS` months with their actual weather
+    (hourly CV(RMSE)), not by hand. Other families come back as they are.
+    """
+    if model.family not in TUNED_FAMILIES:
+        return model
+    family = type(model)
+    candidates = {str(i): family(**s) for i, s in enumerate([{}, *family.candidate_settings()])}
+    result = run_backtest(
+        candidates, inputs, origins=TUNING_ORIGINS, horizons=(1,), weather_history=weather
+    )
+    condition = ACTUAL_WEATHER if inputs.temperature is not None else NO_WEATHER
+    scored = [
+        (card.cv_rmse, key)
+        for key in candidates
+        if (card := result.scorecard(key, condition)) is not None
+        and result.model_failures(key, condition).empty
+    ]
+    if not scored:
+        return model
+    return candidates[min(scored)[1]]
 
 
 def chosen_model(project: Project, name: str) -> tuple[EnergyModel, dict]:
@@ -166,7 +202,8 @@ def chosen_model(project: Project, name: str) -> tuple[EnergyModel, dict]:
         model = model_from_dict(body["model"])
     except RefitNeeded:
         family = body["model"]["family"]
-        model = MODEL_FAMILIES[family]().fit(meter_inputs(project, name))
+        settings = body["model"].get("settings", {})
+        model = MODEL_FAMILIES[family](**settings).fit(meter_inputs(project, name))
     return model, body["choice"]
 
 

@@ -92,3 +92,25 @@ def test_the_stored_model_predicts_identically_after_reopening(project):
     assert choice["chosen"] == "calendar_regression"
     future = inputs.window(start=inputs.index[-24 * 30]).without_energy()
     assert np.array_equal(first.predict(future).to_numpy(), again.predict(future).to_numpy())
+
+
+def test_the_orders_are_chosen_by_backtest(project):
+    from engine.backtest import ACTUAL_WEATHER, run_backtest
+    from engine.modelling import TUNING_ORIGINS, hourly_weather, tuned
+    from engine.models import CalendarRegressionModel
+
+    path, _ = project
+    with Project.open(path) as opened:
+        inputs, weather = meter_inputs(opened, "Hall"), hourly_weather(opened)
+    chosen = tuned(CalendarRegressionModel(), inputs, weather)
+    # score every candidate the same way, independently of the chooser
+    settings = [{}, *CalendarRegressionModel.candidate_settings()]
+    scores = []
+    for candidate in settings:
+        models = {"m": CalendarRegressionModel(**candidate)}
+        result = run_backtest(
+            models, inputs, origins=TUNING_ORIGINS, horizons=(1,), weather_history=weather
+        )
+        scores.append(result.scorecard("m", ACTUAL_WEATHER).cv_rmse)
+    best = CalendarRegressionModel(**settings[int(np.argmin(scores))])
+    assert chosen.settings() == best.settings()
