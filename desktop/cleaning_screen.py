@@ -34,7 +34,6 @@ from engine.cleaning import Finding, MeterReview, apply_recommended, recommended
 from engine.errors import InputError, ProjectError
 from engine.project import Project
 
-SHUTDOWN_SECONDS = 30.0
 #: Width of the column holding the quality summary and the log, enough for their words.
 SIDE_WIDTH = 380
 #: Clock format for a meter whose interval is not known yet (before its first review).
@@ -231,17 +230,6 @@ class CleaningScreen(MeterScreen):
             self.log_changed.emit(meter)
         if self._wanted is not None:
             self._start(self._wanted)
-
-    def shutdown(self) -> None:
-        """Stop the running work and wait for its thread (before the window closes)."""
-        if self.task is not None:
-            self._wanted = None
-            self.task.cancel()
-            self.task.wait(SHUTDOWN_SECONDS)
-
-    def closeEvent(self, event) -> None:
-        self.shutdown()
-        super().closeEvent(event)
 
     # -- showing ----------------------------------------------------------------------------
 

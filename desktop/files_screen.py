@@ -40,7 +40,7 @@ from desktop.reading_form import ReadingForm
 from desktop.session import Session
 from desktop.task_bar import TaskBar
 from desktop.understood_view import UnderstoodView
-from desktop.workers import Failure, Task
+from desktop.workers import SHUTDOWN_SECONDS, Failure, Task
 from engine.errors import InputError
 from engine.project import Project
 
@@ -53,7 +53,6 @@ KINDS = (
 FILE_FILTER = "Spreadsheets and text files (*.xlsx *.xlsm *.xls *.csv *.txt *.tsv);;All files (*)"
 PROBLEM_INK = QColor("#9b3b16")
 READING = "reading files"
-SHUTDOWN_SECONDS = 30.0
 
 
 def _state_words(planned: PlannedFile, reading: bool) -> str:

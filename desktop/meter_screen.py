@@ -8,7 +8,7 @@ from PySide6.QtWidgets import QComboBox, QWidget
 from desktop.notice import Notice
 from desktop.session import Session
 from desktop.task_bar import TaskBar
-from desktop.workers import Task
+from desktop.workers import SHUTDOWN_SECONDS, Task
 from engine.project import Project
 
 
@@ -49,6 +49,17 @@ class MeterScreen(QWidget):
         """Show meter ``name`` of the open project."""
         self.meter.setCurrentText(name)
         self.refresh()
+
+    def shutdown(self) -> None:
+        """Stop the running work and wait for its thread (before the window closes)."""
+        if self.task is not None:
+            self._wanted = None
+            self.task.cancel()
+            self.task.wait(SHUTDOWN_SECONDS)
+
+    def closeEvent(self, event) -> None:
+        self.shutdown()
+        super().closeEvent(event)
 
     def refresh(self) -> None:
         raise NotImplementedError

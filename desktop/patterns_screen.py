@@ -41,7 +41,6 @@ from desktop.workers import Failure, Task
 
 GROUPING_WORDS = {"day_type": "day type", "season": "season"}
 FIGURE_HEADERS = ("Figure", "Value", "Unit", "How it is worked out")
-SHUTDOWN_SECONDS = 30.0
 
 
 def _figure_words(value: float, unit: str) -> str:
@@ -225,17 +224,6 @@ class PatternsScreen(MeterScreen):
 
     def _failed(self, failure: Failure) -> None:
         self.notice.show_failure(failure)
-
-    def shutdown(self) -> None:
-        """Stop the running computation and wait for its thread (before the window closes)."""
-        if self.task is not None:
-            self._wanted = None
-            self.task.cancel()
-            self.task.wait(SHUTDOWN_SECONDS)
-
-    def closeEvent(self, event) -> None:
-        self.shutdown()
-        super().closeEvent(event)
 
     # -- drawing ----------------------------------------------------------------------------
 
