@@ -55,6 +55,7 @@ class FitOutcome:
     choice: ModelChoice
     model: EnergyModel | None
     result_id: int | None
+    inputs: ModelInputs  # what the models were fitted on, for explaining the chosen one
 
 
 def meter_inputs(project: Project, name: str, *, as_of: pd.Timestamp | None = None) -> ModelInputs:
@@ -151,7 +152,7 @@ def fit_meter(
                 {"model": model.to_dict(), "choice": choice.to_dict()},
             )
     step(progress, 1.0, "done")
-    return FitOutcome(name, backtest, choice, model, result_id)
+    return FitOutcome(name, backtest, choice, model, result_id, inputs)
 
 
 def fresh(model: EnergyModel) -> EnergyModel:

@@ -17,7 +17,7 @@ from engine.errors import InputError
 from engine.export.finance_workbook import write_finance_workbook
 from engine.export.profile_workbook import write_profile_workbook
 from engine.importing import create_project, read_project_files
-from engine.modelling import fit_meter, meter_inputs, monthly_contributions
+from engine.modelling import fit_meter, monthly_contributions
 from engine.profile_run import profile_project_meter
 from engine.project import Project
 from engine.reading import ReadOptions, describe, read_file
@@ -120,7 +120,7 @@ def fit(args: argparse.Namespace) -> int:
                     "ranking": outcome.choice.to_dict()["ranking"],
                     "scorecard": json.loads(summary.to_json(orient="records")),
                     "explanation": _explanation(outcome.model),
-                    "contributions": _contributions(project, name, outcome.model),
+                    "contributions": _contributions(outcome),
                     "stored_as": outcome.result_id,
                 }
             )
@@ -169,10 +169,10 @@ def _budget_report(args: argparse.Namespace, project: Project) -> int:
     return 0
 
 
-def _contributions(project: Project, name: str, model) -> list[dict]:
-    if model is None:
+def _contributions(outcome) -> list[dict]:
+    if outcome.model is None:
         return []
-    return monthly_contributions(model, meter_inputs(project, name))
+    return monthly_contributions(outcome.model, outcome.inputs)
 
 
 def _explanation(model) -> list[dict]:
