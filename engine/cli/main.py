@@ -140,10 +140,7 @@ def build_parser() -> argparse.ArgumentParser:
         action="store_true",
         help="add the last year's periods again a year later, on the same weekdays",
     )
-    calendar.add_argument("--day-first", dest="dayfirst", action="store_const", const=True,
-                          help="the file's dates are day before month")  # fmt: skip
-    calendar.add_argument("--month-first", dest="dayfirst", action="store_const", const=False,
-                          help="the file's dates are month before day")  # fmt: skip
+    _date_order_options(calendar)
     _json_option(calendar)
     calendar.set_defaults(run=commands.calendar)
 
@@ -161,11 +158,7 @@ def _reading_options(parser: argparse.ArgumentParser) -> None:
         metavar="TZ",
         help="site time zone of naive stamps, IANA name, e.g. America/Chicago",
     )
-    order = group.add_mutually_exclusive_group()
-    order.add_argument("--day-first", dest="dayfirst", action="store_const", const=True,
-                       help="dates are written day before month (31/01/2025)")  # fmt: skip
-    order.add_argument("--month-first", dest="dayfirst", action="store_const", const=False,
-                       help="dates are written month before day (01/31/2025)")  # fmt: skip
+    _date_order_options(group)
     group.add_argument(
         "--stamps",
         choices=("start", "end"),
@@ -193,6 +186,15 @@ def _reading_options(parser: argparse.ArgumentParser) -> None:
         metavar="CC[-SUB]",
         help="public holidays of a country and optional subdivision, e.g. US-IL",
     )
+
+
+def _date_order_options(parser) -> None:
+    """--day-first / --month-first, for files whose dates cannot settle the order."""
+    order = parser.add_mutually_exclusive_group()
+    order.add_argument("--day-first", dest="dayfirst", action="store_const", const=True,
+                       help="dates are written day before month (31/01/2025)")  # fmt: skip
+    order.add_argument("--month-first", dest="dayfirst", action="store_const", const=False,
+                       help="dates are written month before day (01/31/2025)")  # fmt: skip
 
 
 def _json_option(parser: argparse.ArgumentParser) -> None:
