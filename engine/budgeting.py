@@ -6,30 +6,40 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass
-from datetime import date
+from datetime import date, timedelta
 
 import pandas as pd
 
-from engine.backtest import run_backtest
 from engine.budget import (
     BudgetRun,
     MeterPlan,
     WeatherAssumption,
     as_of_cut,
     backtest_budget,
-    backtest_residuals,
+    rolling_refits,
     simulate_budget,
 )
 from engine.calendar import CampusCalendar
 from engine.cleaning.project_log import cleaned_meter, stored_calendar
 from engine.errors import InputError
-from engine.modelling import chosen_model, fit_meter, fresh, hourly_weather, meter_inputs
+from engine.modelling import (
+    chosen_model,
+    compare_models,
+    fit_meter,
+    hourly_weather,
+    meter_inputs,
+)
 from engine.models import EnergyModel, ModelInputs
+from engine.models.base import fresh
 from engine.progress import Progress, step
 from engine.project import Project
 from engine.tariffs import Tariff
 
 WEATHER_CHOICES = ("typical", "past-years")
+#: Months of out-of-sample errors a budget draws its model error from.
+ERROR_MONTHS = 12
+#: Those months in days, for the simulation's error window.
+ERROR_DAYS = 366
 
 
 @dataclass
@@ -76,54 +86,64 @@ def budget_project(
     meters: Sequence[str] | None = None,
     progress: Progress | None = None,
 ) -> ProjectBudget:
-    """Budget the project's meters (each with its recommended model, fitting one if needed)."""
+    """Budget the project's meters, each with its recommended model, from the as-of date.
+
+    Everything after the as-of date is ignored. A meter's stored model choice is used; without
+    one the fit wizard chooses on the readings before the as-of date (and stores its choice
+    when no reading comes after it). Each meter's model is refitted
+    before each of its last months (:func:`engine.budget.rolling_refits`): those refits give
+    the past month-ahead budgets that check the range and the out-of-sample errors every
+    budget draws its model error from.
+    """
     names = list(meters) if meters else project.meter_names()
     cut = as_of_cut(request.as_of, project.timezone)
     calendar = stored_calendar(project) or CampusCalendar()
-    histories = {name: meter_inputs(project, name) for name in names}
     utilities = {m["name"]: m["utility"] for m in project.summary()["meters"]}
-    families, scorecards = {}, {}
+    hourly = hourly_weather(project, as_of=cut)
+    refit_months = request.calibration_origins + ERROR_MONTHS
+    histories, families, scorecards, refits = {}, {}, {}, {}
     for done, name in enumerate(names):
-        step(progress, 0.3 * done / len(names), f"choosing the model of {name}")
-        families[name], scorecards[name] = _family_and_scores(project, name)
-    hourly = hourly_weather(project)
-    hourly = hourly[hourly.index < cut] if hourly is not None else None
+        share = _share(progress, 0.7 * done / len(names), 0.7 * (done + 1) / len(names))
+        everything = meter_inputs(project, name)
+        histories[name] = everything.window(end=cut)
+        families[name], scorecards[name] = _family_and_scores(
+            project, name, histories[name], hourly,
+            ignores_later=everything.index[-1] >= cut, progress=_share(share, 0.0, 0.8),
+        )  # fmt: skip
+        refits[name] = rolling_refits(
+            families[name], histories[name], refit_months, progress=_share(share, 0.8, 1.0)
+        )
     weather = _weather(request, hourly)
 
-    def plans_as_of(as_of) -> list[MeterPlan]:
+    def plan(name: str, model: EnergyModel, residuals: pd.Series) -> MeterPlan:
+        tariff = request.tariff if utilities[name] == "electricity" else None
+        return MeterPlan(name, utilities[name], model, histories[name], calendar=calendar,
+                         residuals=residuals, tariff=tariff)  # fmt: skip
+
+    def plans_as_of(as_of: date) -> list[MeterPlan]:
         at = as_of_cut(as_of, project.timezone)
+        month = f"{as_of + timedelta(days=1):%Y-%m}"
         return [
-            _plan(name, utilities[name], histories[name], families[name], at, calendar, request)
+            plan(name, refits[name].model_for(month), refits[name].errors_before(at))
             for name in names
         ]
 
-    step(progress, 0.35, "budgeting past months to check the range")
     past = backtest_budget(
         plans_as_of,
-        {name: histories[name].window(end=cut) for name in names},
+        histories,
         request.calibration_origins,
         weather=weather,
         levels=request.levels,
         paths=min(request.paths, 300),
+        error_days=ERROR_DAYS,
         rng=request.rng,
+        progress=_share(progress, 0.7, 0.85),
     )
-    plans = []
-    for done, name in enumerate(names):
-        step(progress, 0.6 + 0.2 * done / len(names), f"out-of-sample errors of {name}")
-        residuals = _residuals(histories[name].window(end=cut), families[name], hourly)
-        plans.append(
-            _plan(
-                name,
-                utilities[name],
-                histories[name],
-                families[name],
-                cut,
-                calendar,
-                request,
-                residuals,
-            )
-        )
-    step(progress, 0.8, "simulating the budget")
+    step(progress, 0.85, "fitting the models on all the readings before the as-of date")
+    plans = [
+        plan(name, fresh(families[name]).fit(histories[name]), refits[name].errors)
+        for name in names
+    ]
     run = simulate_budget(
         plans,
         request.months,
@@ -132,13 +152,17 @@ def budget_project(
         levels=request.levels,
         paths=request.paths,
         calibration=past.calibrations(),
+        error_days=ERROR_DAYS,
         rng=request.rng,
+        progress=_share(progress, 0.9, 1.0),
     )
     run.assumptions.update(
         {
             "models": {name: families[name].label for name in names},
+            "model error": f"out-of-sample errors of each meter's model refitted before each of "
+            f"the {ERROR_MONTHS} months before the as-of date (month-ahead, actual weather)",
             "calibration": f"the {request.calibration_origins} most recent past month-ahead "
-            "budgets",
+            "budgets, each from the model and errors known before its month",
         }
     )
     step(progress, 1.0, "budget ready")
@@ -151,38 +175,40 @@ def budget_project(
     )
 
 
-def _family_and_scores(project: Project, name: str) -> tuple[EnergyModel, dict]:
-    """The meter's recommended model, unfitted (running the fit wizard when it has none), and
-    its scores."""
-    if not project.results("model", name):
-        fit_meter(project, name)
-    model, choice = chosen_model(project, name)
+def _share(progress: Progress | None, start: float, stop: float) -> Progress | None:
+    return progress.part(start, stop) if progress is not None else None
+
+
+def _family_and_scores(
+    project: Project,
+    name: str,
+    history: ModelInputs,
+    hourly: pd.Series | None,
+    *,
+    ignores_later: bool,
+    progress: Progress | None,
+) -> tuple[EnergyModel, dict]:
+    """The meter's model, unfitted, and its backtest scores.
+
+    The stored choice when there is one (the user's); otherwise the fit wizard's, made on the
+    readings before the as-of date and stored only when no reading comes after it.
+    """
+    if project.results("model", name) or not ignores_later:
+        if not project.results("model", name):
+            fit_meter(project, name, progress=progress)
+        model, choice = chosen_model(project, name)
+    else:
+        compared = compare_models(history, hourly, progress=progress)
+        if compared.choice.chosen is None:
+            raise InputError(
+                f"no model could be chosen for meter '{name}' from its readings before the "
+                f"as-of date: {'; '.join(compared.choice.warnings) or 'every family failed'}.",
+                hint="Choose a later as-of date, or import more history for this meter.",
+                file=project.path,
+            )
+        model, choice = compared.models[compared.choice.chosen], compared.choice.to_dict()
     ranking = {row["model"]: row for row in choice.get("ranking", [])}
     return fresh(model), ranking.get(model.family, {})
-
-
-def _plan(
-    name: str,
-    utility: str,
-    history: ModelInputs,
-    family: EnergyModel,
-    cut: pd.Timestamp,
-    calendar: CampusCalendar,
-    request: BudgetRequest,
-    residuals: pd.Series | None = None,
-) -> MeterPlan:
-    """The meter's model refitted on the readings before ``cut``, ready to simulate."""
-    model = fresh(family).fit(history.window(end=cut))
-    tariff = request.tariff if utility == "electricity" else None
-    return MeterPlan(name, utility, model, history, calendar=calendar,
-                     residuals=residuals, tariff=tariff)  # fmt: skip
-
-
-def _residuals(history: ModelInputs, family: EnergyModel, hourly: pd.Series | None) -> pd.Series:
-    """Out-of-sample errors of the family from a rolling one-month-ahead backtest."""
-    result = run_backtest({family.family: fresh(family)}, history, origins=12,
-                          weather_history=hourly)  # fmt: skip
-    return backtest_residuals(result, family.family)
 
 
 def _weather(request: BudgetRequest, temps: pd.Series | None) -> WeatherAssumption:

@@ -14,6 +14,7 @@ from engine.calendar import CampusCalendar, label_intervals
 from engine.cleaning.project_log import cleaned_meter, stored_calendar
 from engine.errors import InputError
 from engine.models import MODEL_FAMILIES, EnergyModel, ModelInputs, RefitNeeded, model_from_dict
+from engine.models.base import fresh
 from engine.progress import Progress, step
 from engine.project import Project
 from engine.selection import ModelChoice, recommend_model
@@ -123,6 +124,31 @@ def families_for(inputs: ModelInputs, names: Sequence[str] | None = None) -> lis
     return [MODEL_FAMILIES[n]() for n in chosen]
 
 
+@dataclass
+class ModelComparison:
+    """The wizard's backtest of the families, its recommendation and the tuned, unfitted models."""
+
+    backtest: BacktestResult
+    choice: ModelChoice
+    models: dict[str, EnergyModel]
+
+
+def compare_models(
+    inputs: ModelInputs,
+    weather: pd.Series | None,
+    *,
+    families: Sequence[str] | None = None,
+    origins: int = 12,
+    progress: Progress | None = None,
+) -> ModelComparison:
+    """Tune the families' orders, backtest them on ``inputs`` and recommend one."""
+    step(progress, 0.0, "choosing the models' orders")
+    models = {m.family: tuned(m, inputs, weather) for m in families_for(inputs, families)}
+    part = progress.part(0.1, 1.0) if progress is not None else None
+    backtest = run_backtest(models, inputs, origins=origins, weather_history=weather, progress=part)
+    return ModelComparison(backtest, recommend_model(backtest, labels=inputs.labels), models)
+
+
 def fit_meter(
     project: Project,
     name: str,
@@ -133,16 +159,15 @@ def fit_meter(
 ) -> FitOutcome:
     """Backtest the families on one meter, recommend one, fit it on all data and keep it."""
     inputs = meter_inputs(project, name)
-    weather = hourly_weather(project)
-    step(progress, 0.0, "choosing the models' orders")
-    models = {m.family: tuned(m, inputs, weather) for m in families_for(inputs, families)}
-    part = progress.part(0.1, 0.9) if progress is not None else None
-    backtest = run_backtest(models, inputs, origins=origins, weather_history=weather, progress=part)
-    choice = recommend_model(backtest, labels=inputs.labels)
+    part = progress.part(0.0, 0.9) if progress is not None else None
+    compared = compare_models(
+        inputs, hourly_weather(project), families=families, origins=origins, progress=part
+    )
+    backtest, choice = compared.backtest, compared.choice
     model, result_id = None, None
     if choice.chosen is not None:
         step(progress, 0.95, f"fitting {choice.chosen} on all the history")
-        model = fresh(models[choice.chosen]).fit(inputs)
+        model = fresh(compared.models[choice.chosen]).fit(inputs)
         with project.transaction():
             project.add_result("backtest", name, "rolling-origin backtest", backtest.to_dict())
             result_id = project.add_result(
@@ -153,11 +178,6 @@ def fit_meter(
             )
     step(progress, 1.0, "done")
     return FitOutcome(name, backtest, choice, model, result_id, inputs)
-
-
-def fresh(model: EnergyModel) -> EnergyModel:
-    """An unfitted model of the same family with the same settings."""
-    return type(model)(**model.settings())
 
 
 def tuned(model: EnergyModel, inputs: ModelInputs, weather: pd.Series | None) -> EnergyModel:

@@ -16,7 +16,8 @@ they are summed and summarised, and :mod:`engine.budget.calibration` for the ran
 from engine.budget.backtest import BudgetBacktest, PlanFactory, backtest_budget, month_total
 from engine.budget.calibration import calibrate, conformal_scale, rolling_calibration
 from engine.budget.periods import BudgetWindow, as_of_cut, as_of_date, budget_months
-from engine.budget.plan import MeterPlan, backtest_residuals
+from engine.budget.plan import MeterPlan
+from engine.budget.refits import RollingRefits, rolling_refits
 from engine.budget.result import (
     BudgetRun,
     Calibration,
@@ -43,18 +44,19 @@ __all__ = [
     "PeriodTotal",
     "PlanFactory",
     "RollUp",
+    "RollingRefits",
     "Spread",
     "WeatherAssumption",
     "WeatherScenarios",
     "as_of_cut",
     "as_of_date",
     "backtest_budget",
-    "backtest_residuals",
     "budget_months",
     "calibrate",
     "conformal_scale",
     "month_total",
     "rolling_calibration",
+    "rolling_refits",
     "simulate_budget",
     "simulate_paths",
     "summarise",

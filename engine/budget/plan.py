@@ -8,7 +8,6 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from engine.backtest import ACTUAL_WEATHER, NO_WEATHER, BacktestResult
 from engine.calendar import CampusCalendar, OccupancyRule
 from engine.errors import InputError
 from engine.meters import UTILITIES
@@ -34,7 +33,7 @@ class MeterPlan:
         when ``history.labels`` is given.
     residuals : pandas.Series, optional
         The model's out-of-sample errors, actual − predicted kWh per interval on UTC interval
-        starts (see :func:`backtest_residuals`); better than the fit period's residuals,
+        starts (see :func:`engine.budget.rolling_refits`); better than the fit period's residuals,
         which understate a forecast's error.
     tariff : Tariff, optional
         Cost every path under this tariff (each path's own peaks).
@@ -98,28 +97,3 @@ class MeterPlan:
         if self.tariff is not None:
             return self.tariff.currency
         return self.currency if self.rate is not None else None
-
-
-def backtest_residuals(result: BacktestResult, model: str) -> pd.Series:
-    """The one-month-ahead errors (actual − predicted kWh) of ``model`` in a backtest.
-
-    Taken under actual weather (or with no weather for calendar-only data), so they hold the
-    model's own error, refitted at each origin, and not the weather's: the budget adds the
-    weather's spread from its weather scenarios.
-    """
-    forecasts = result.forecasts
-    if forecasts is None:
-        raise ValueError("the backtest was loaded without its forecasts")
-    chosen = forecasts[
-        (forecasts["model"] == model)
-        & (forecasts["lead"] == 1)
-        & forecasts["weather"].isin([ACTUAL_WEATHER, NO_WEATHER])
-    ]
-    if chosen.empty:
-        raise InputError(
-            f"the backtest has no one-month-ahead forecasts of model '{model}'.",
-            hint="Run the backtest with this model first.",
-        )
-    errors = chosen["actual kWh"].to_numpy() - chosen["predicted kWh"].to_numpy()
-    index = pd.DatetimeIndex(chosen["start"]).tz_convert("UTC")
-    return pd.Series(errors, index=index, name="residual").sort_index()

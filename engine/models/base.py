@@ -88,7 +88,16 @@ class EnergyModel(Protocol):
 
     def predict(self, inputs: ModelInputs) -> pd.Series: ...
 
+    def settings(self) -> dict[str, Any]:
+        """The constructor's keyword arguments, as given."""
+        ...
+
     def to_dict(self) -> dict[str, Any]: ...
 
     @classmethod
     def from_dict(cls, data: dict[str, Any]) -> Self: ...
+
+
+def fresh(model: EnergyModel) -> EnergyModel:
+    """An unfitted model of the same family with the same settings."""
+    return type(model)(**model.settings())

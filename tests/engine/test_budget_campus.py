@@ -210,6 +210,9 @@ class WeekSlotDegreeModel:
     def __init__(self, balance_c: float = BALANCE_C) -> None:
         self.balance_c = balance_c
 
+    def settings(self) -> dict[str, float]:
+        return {"balance_c": self.balance_c}
+
     def _design(self, inputs: ModelInputs) -> tuple[np.ndarray, np.ndarray | None, int]:
         local = inputs.index.tz_convert(inputs.timezone)
         # The first step tells (the inputs are regular); ModelInputs.interval is slower.

@@ -15,12 +15,12 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from engine.backtest import run_backtest
+from engine.backtest import ACTUAL_WEATHER, run_backtest
 from engine.budget import (
     MeterPlan,
     WeatherAssumption,
-    backtest_residuals,
     budget_months,
+    rolling_refits,
     simulate_budget,
     simulate_paths,
     summarise,
@@ -309,19 +309,27 @@ def test_budgets_that_cannot_be_made_say_why(campus: Campus, plans: list[MeterPl
         )
 
 
-def test_out_of_sample_errors_come_from_the_models_own_backtest(campus: Campus) -> None:
-    """The one-month-ahead errors of a rolling backtest, refitted before each month."""
+def test_out_of_sample_errors_come_from_refits_before_each_month(campus: Campus) -> None:
+    """The month-ahead errors of the model refitted before each month, as a backtest has them."""
     daily = campus.inputs["Quarry Library"]
+    history = daily.window(end=as_of_cut(date(2023, 12, 31), ZONE))
+    refits = rolling_refits(WeekSlotDegreeModel(), history, 6)
+    errors = refits.errors
+    local = errors.index.tz_convert(ZONE)
+    assert (local[0].date(), local[-1].date()) == (date(2023, 7, 1), date(2023, 12, 31))
+    assert sorted(refits.models) == [f"2023-{m:02d}" for m in range(7, 13)]
+    # The models' own rolling-origin backtest makes the same one-month-ahead forecasts.
     result = run_backtest(
         {"week slots": WeekSlotDegreeModel()},
-        daily.window(end=as_of_cut(date(2023, 12, 31), ZONE)),
+        history,
         origins=6,
         horizons=(1,),
         weather_history=campus.weather,
     )
-    errors = backtest_residuals(result, "week slots")
-    local = errors.index.tz_convert(ZONE)
-    assert (local[0].date(), local[-1].date()) == (date(2023, 7, 1), date(2023, 12, 31))
+    ahead = result.forecasts[(result.forecasts["weather"] == ACTUAL_WEATHER)]
+    np.testing.assert_allclose(
+        errors.to_numpy(), (ahead["actual kWh"] - ahead["predicted kWh"]).to_numpy(), rtol=1e-12
+    )
     # October 2023 recomputed by hand: fit on the days before it, predict it under the
     # measured temperatures, subtract from the metered energy.
     start, end = as_of_cut(date(2023, 9, 30), ZONE), as_of_cut(date(2023, 10, 31), ZONE)
@@ -331,6 +339,9 @@ def test_out_of_sample_errors_come_from_the_models_own_backtest(campus: Campus) 
     pd.testing.assert_series_equal(
         errors[(errors.index >= start) & (errors.index < end)], expected, check_names=False
     )
+    assert refits.errors_before(start).index.max() < start
+    with pytest.raises(InputError, match="no model fitted before 2023-01"):
+        refits.model_for("2023-01")
     plans = campus_plans(campus, date(2023, 12, 31))
     plans[0] = replace(plans[0], residuals=errors)
     run = simulate_budget(
