@@ -77,6 +77,49 @@ def stationary_indices(
     return _wrap(positions, n_source, n_target)
 
 
+def stationary_block_length(series: np.ndarray) -> float:
+    """The mean block length that suits the stationary bootstrap of ``series``.
+
+    Politis & White (2004), "Automatic block-length selection for the dependent bootstrap",
+    with the correction of Patton, Politis & White (2009), from memory: with the sample
+    autocovariances ``R(k)`` and the flat-top lag window ``λ`` (1 up to half the bandwidth
+    ``M``, falling linearly to 0 at ``M``),
+
+        G = Σ λ(k/M) |k| R(k),   g = Σ λ(k/M) R(k),   b = (2 G² / (2 g²))^(1/3) · n^(1/3),
+
+    sums over ``-M ≤ k ≤ M``. ``M`` is twice the smallest lag after which the next
+    ``max(5, √log10 n)`` autocorrelations all lie within ``±2 √(log10 n / n)``. The length is
+    kept between 1 and ``min(3 √n, n / 3)``. A series with no dependence gets 1.
+    """
+    values = np.asarray(series, dtype=np.float64)
+    values = values[np.isfinite(values)]
+    n = len(values)
+    if n < 8:
+        return 1.0
+    centred = values - values.mean()
+    longest = min(int(np.ceil(np.sqrt(n))) + max(5, int(np.sqrt(np.log10(n)))), n - 1)
+    spectrum = np.fft.rfft(centred, 2 * n)
+    autocovariance = np.fft.irfft(spectrum * np.conj(spectrum))[: longest + 1] / n
+    if autocovariance[0] <= 0:
+        return 1.0
+    correlation = np.abs(autocovariance / autocovariance[0])
+    run = max(5, int(np.ceil(np.sqrt(np.log10(n)))))
+    quiet = correlation[1:] < 2.0 * np.sqrt(np.log10(n) / n)
+    # smallest m with lags m+1 .. m+run all quiet (m = 0 when the series has no dependence)
+    windows = np.lib.stride_tricks.sliding_window_view(quiet, run).all(axis=1)
+    first = int(np.argmax(windows)) if windows.any() else longest - run
+    bandwidth = min(2 * max(first, 1), longest)
+    lags = np.arange(1, bandwidth + 1)
+    ratio = lags / bandwidth
+    window = np.where(ratio <= 0.5, 1.0, 2.0 * (1.0 - ratio))
+    g = autocovariance[0] + 2.0 * np.sum(window * autocovariance[lags])
+    big_g = 2.0 * np.sum(window * lags * autocovariance[lags])
+    if g <= 0:
+        return 1.0
+    length = (big_g**2 / g**2) ** (1.0 / 3.0) * n ** (1.0 / 3.0)
+    return float(np.clip(length, 1.0, min(3.0 * np.sqrt(n), n / 3.0)))
+
+
 def circular_indices(
     n_source: int, n_target: int, block: int, n_paths: int, rng: np.random.Generator
 ) -> np.ndarray:

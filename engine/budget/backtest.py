@@ -115,7 +115,7 @@ def backtest_budget(
     weather: WeatherAssumption,
     levels: Sequence[int] = (10, 50, 90),
     paths: int = 500,
-    block_days: float = 7.0,
+    block_days: float | None = None,
     error_days: int = 730,
     rng: np.random.Generator | int | None = None,
     progress: Progress | None = None,

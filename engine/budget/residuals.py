@@ -1,7 +1,8 @@
 """Model errors by whole local day, and the pool of days every meter's errors are drawn from.
 
 A path's model error is a stationary block bootstrap (Politis & Romano 1994) of past *days*:
-blocks of consecutive days (mean length about a week) keep the errors' autocorrelation, and
+blocks of consecutive days (mean length chosen from the errors' autocorrelation, Politis &
+White 2004: see :func:`error_block_days`) keep the errors' autocorrelation, and
 whole days keep their daily shape. The days drawn are the same for every meter of a path, so
 the meters' errors keep their dependence (a day the whole campus ran high stays high for all)
 and a roll-up summed path by path is neither the sum of the meters' ranges nor independent.
@@ -18,6 +19,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
+from engine.bootstrap import stationary_block_length
 from engine.budget.meter_grid import DAY, HOUR, hourly_sums, native_interval
 from engine.budget.plan import MeterPlan
 from engine.errors import InputError
@@ -100,3 +102,14 @@ def shared_pool(tables: dict[str, pd.DataFrame]) -> np.ndarray:
             hint="Budget meters with overlapping recent readings, or budget them separately.",
         )
     return pool
+
+
+def error_block_days(tables: list[pd.DataFrame], pool: np.ndarray) -> float:
+    """Mean block length in days for resampling the pool's days of model errors.
+
+    Each meter's daily error totals over the pool (in date order) get the stationary
+    bootstrap's automatic block length (:func:`engine.bootstrap.stationary_block_length`,
+    Politis & White 2004); the longest is used, so the most persistent meter keeps its
+    dependence (a month-long bias stays a month long), and a shorter one loses nothing.
+    """
+    return max(stationary_block_length(table.loc[pool].sum(axis=1).to_numpy()) for table in tables)

@@ -25,7 +25,7 @@ def simulate_budget(
     levels: Sequence[int] = (10, 50, 90),
     paths: int = 1000,
     calibration: Mapping[str, Calibration] | None = None,
-    block_days: float = 7.0,
+    block_days: float | None = None,
     error_days: int = 730,
     rng: np.random.Generator | int | None = None,
     progress: Progress | None = None,

@@ -40,7 +40,7 @@ from engine.budget.meter_grid import (
 )
 from engine.budget.periods import BudgetWindow, as_of_cut, as_of_date
 from engine.budget.plan import MeterPlan
-from engine.budget.residuals import error_table, model_errors, shared_pool
+from engine.budget.residuals import error_block_days, error_table, model_errors, shared_pool
 from engine.budget.weather_paths import WeatherAssumption, WeatherScenarios, weather_scenarios
 from engine.errors import InputError
 from engine.progress import Progress, step
@@ -232,7 +232,7 @@ def simulate_paths(
     weather: WeatherAssumption,
     *,
     paths: int = 1000,
-    block_days: float = 7.0,
+    block_days: float | None = None,
     error_days: int = 730,
     rng: np.random.Generator | int | None = None,
     progress: Progress | None = None,
@@ -250,8 +250,9 @@ def simulate_paths(
     weather : WeatherAssumption
         The weather the paths assume (each path takes one scenario, every meter the same).
     paths : int, default 1000
-    block_days : float, default 7.0
-        Mean length in days of the resampled blocks of model errors.
+    block_days : float, optional
+        Mean length in days of the resampled blocks of model errors; by default chosen from
+        the errors' own autocorrelation (:func:`engine.budget.residuals.error_block_days`).
     error_days : int, default 730
         Days before the cut whose model errors are resampled.
     rng : numpy.random.Generator or int, optional
@@ -263,7 +264,7 @@ def simulate_paths(
     PathTotals
     """
     timezone = _check_plans(meters)
-    if paths < 1 or not block_days >= 1 or error_days < 1:
+    if paths < 1 or (block_days is not None and not block_days >= 1) or error_days < 1:
         raise ValueError("paths, block_days and error_days must be at least 1")
     generator = _generator(rng)
     day = as_of_date(as_of)
@@ -279,6 +280,8 @@ def simulate_paths(
     pool = shared_pool({meter.plan.name: meter.table for meter in prepared})
     for meter in prepared:
         meter.use_pool(pool)
+    if block_days is None:
+        block_days = error_block_days([meter.table for meter in prepared], pool)
 
     scenario_of_path = generator.permutation(np.arange(paths) % scenarios.count)
     starts = month_starts(window)

@@ -49,8 +49,10 @@ PEAK_CAUTION = (
     "and protection decisions belong to a licensed engineer under local codes."
 )
 PARAMETER_NOTE = (
-    "not simulated separately; out-of-sample errors carry it, and the calibration on past "
-    "months widens ranges that proved too narrow"
+    "carried by the model errors, which come from the model refitted before each past month "
+    "(so they include the error of estimating its parameters from the history then known); "
+    "not simulated separately, and the calibration on past months corrects ranges that "
+    "proved too narrow or too wide"
 )
 
 
@@ -193,7 +195,8 @@ def _assumptions(totals: PathTotals, calibration: Mapping[str, Calibration]) -> 
         },
         "resampling": (
             "stationary bootstrap of whole local days (Politis & Romano 1994), mean block "
-            f"{totals.block_days:g} days, from {totals.pool_days} days that every meter shares; "
+            f"{totals.block_days:.1f} days (from the errors' autocorrelation, Politis & White "
+            f"2004, unless set), from {totals.pool_days} days that every meter shares; "
             "the same days and the same weather for every meter of a path"
         ),
         "parameter_uncertainty": PARAMETER_NOTE,

@@ -27,7 +27,10 @@ there. Inside a block the past day stays as far from the budget day in the year 
 so departures keep their season (winter's are larger than summer's) and their day-to-day
 persistence; joins between blocks lose the persistence beyond them, which keeps the spread of
 month means a little under that of the past (for a daily AR(1) with lag-one correlation φ the
-bootstrap keeps lag ``k`` correlation ``(φ (1 − 1/block_days))^k``).
+bootstrap keeps lag ``k`` correlation ``(φ (1 − 1/block_days))^k``). Unless set, the mean
+block length is chosen from the persistence of the past days' mean departures (the automatic
+stationary-bootstrap length of Politis & White 2004), so weather whose anomalies last weeks
+gets blocks weeks long and a month's mean keeps its spread.
 
 The typical weather is learned from the same ``n`` years the departures come from, so a new
 year departs from it more than the past years did: by ``√(1 + 1/n)`` in standard deviation,
@@ -43,6 +46,7 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
+from engine.bootstrap import stationary_block_length
 from engine.budget.periods import BudgetWindow
 from engine.errors import InputError
 from engine.weather import fill_hourly, typical_year
@@ -72,7 +76,7 @@ class WeatherAssumption:
     temperatures: pd.Series | None = None
     years: int | None = None
     draws: int = 50
-    block_days: float = 10.0
+    block_days: float | None = None
     season_days: int = 15
 
     def __post_init__(self) -> None:
@@ -82,7 +86,8 @@ class WeatherAssumption:
             raise ValueError("temperatures go with every weather kind except 'none'")
         if self.years is not None and (self.kind != "past_years" or self.years < 1):
             raise ValueError("a number of years (at least 1) goes with past years only")
-        if self.draws < 1 or not self.block_days >= 1 or not 0 <= self.season_days <= 182:
+        block_ok = self.block_days is None or self.block_days >= 1
+        if self.draws < 1 or not block_ok or not 0 <= self.season_days <= 182:
             raise ValueError("draws and block_days must be at least 1, season_days 0 to 182")
 
     @classmethod
@@ -96,7 +101,7 @@ class WeatherAssumption:
         years: int | None = None,
         *,
         draws: int = 50,
-        block_days: float = 10.0,
+        block_days: float | None = None,
         season_days: int = 15,
     ) -> WeatherAssumption:
         """Typical weather plus past days' departures from it (see the module notes).
@@ -110,8 +115,10 @@ class WeatherAssumption:
         draws : int, default 50
             Weather scenarios drawn (at most one per path); each costs one model prediction
             per meter whose model uses temperature.
-        block_days : float, default 10.0
-            Mean length in days of the blocks of past days.
+        block_days : float, optional
+            Mean length in days of the blocks of past days; by default chosen from the
+            persistence of the daily mean departures (Politis & White 2004, see
+            :func:`engine.bootstrap.stationary_block_length`).
         season_days : int, default 15
             How many days either side of the same day of the year a block may start.
         """
@@ -261,9 +268,10 @@ def _departure_scenarios(
     expected = typical.hourly(local[0].date(), local[-1].date()).reindex(hourly.index)
     table = error_table(hourly - expected, zone, HOUR)
     pool = table.index.to_numpy(dtype=np.int64).astype("datetime64[D]")
-    drawn = seasonal_block_days(
-        pool, window.days, assumption.block_days, assumption.season_days, count, rng
-    )
+    block = assumption.block_days
+    if block is None:
+        block = stationary_block_length(table.mean(axis=1).to_numpy())
+    drawn = seasonal_block_days(pool, window.days, block, assumption.season_days, count, rng)
     hours = MeterGrid.on(window, HOUR)
     scenario = typical.hourly(window.first_day, window.last_day).to_numpy()
     widening = np.sqrt(1 + YEAR_DAYS / len(pool))
@@ -274,7 +282,7 @@ def _departure_scenarios(
         scenario + departures,
         f"typical weather learned from {years} plus the hourly departures from it of past "
         f"days ({pool[0]} to {pool[-1]}, {len(pool)} whole days), drawn in blocks of whole "
-        f"local days (stationary bootstrap, mean block {assumption.block_days:g} days) that "
+        f"local days (stationary bootstrap, mean block {block:.1f} days) that "
         f"start within {assumption.season_days} days of the same day of the year in any "
         f"past year, and widened by {widening:.3f} = √(1 + 1/years) for a typical weather "
         f"learned from {len(pool) / YEAR_DAYS:.1f} years; {count} draws, shared out equally "
