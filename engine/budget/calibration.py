@@ -3,8 +3,12 @@
 The check: over past origins (month-ahead budgets made before each month, see
 :func:`engine.budget.backtest_budget`), count the months whose actual total fell inside the
 P-low–P-high range. The range is *off* when the share held differs from the nominal coverage
-(80 % for P10–P90) by more than ``tolerance`` (default 5 percentage points), and at least
-``min_months`` months were tried.
+``c`` (80 % for P10–P90) by more than an honest range's own luck would explain, and at least
+``min_months`` months were tried: the count held is off when an honest range would hold so
+few, or so many, months less than one time in ten (binomial tail probability under
+``tail``, default 0.10, on either side). For a year of months and an 80 % range, 7 or fewer
+held is widened, 12 of 12 narrowed, 8 to 11 left alone; for forty months, 28 or fewer and 36
+or more are corrected. A fixed ``tolerance`` (a share) may be given instead.
 
 The correction is conformal-style scaling (after split-conformal prediction: Vovk, Gammerman &
 Shafer 2005; Lei et al. 2018, "Distribution-free predictive inference for regression", from
@@ -39,6 +43,7 @@ import math
 
 import numpy as np
 import pandas as pd
+from scipy.stats import binom
 
 from engine.budget.result import Calibration
 from engine.errors import InputError
@@ -74,8 +79,9 @@ def calibrate(
     *,
     level_low: int = 10,
     level_high: int = 90,
-    tolerance: float = 0.05,
+    tolerance: float | None = None,
     min_months: int = MIN_MONTHS,
+    tail: float = 0.10,
 ) -> Calibration:
     """The coverage of past month-total ranges and, when it is off, a scale that corrects it.
 
@@ -86,8 +92,9 @@ def calibrate(
         ``P{level_low}`` and ``P{level_high}`` made before it (rows without an actual are
         left out).
     level_low, level_high : int, default 10 and 90
-    tolerance : float, default 0.05
-        How far (as a share) the coverage may stray from the nominal before it is corrected.
+    tolerance : float, optional
+        How far (as a share) the coverage may stray from the nominal before it is corrected;
+        by default decided by the binomial tail probability instead (see the module notes).
     min_months : int, default 12
         Fewer past months are reported but not corrected.
 
@@ -118,7 +125,14 @@ def calibrate(
 
     if tried < min_months:
         return unchanged(f"{tried} past months are fewer than the {min_months} needed")
-    if abs(held - coverage * tried) <= tolerance * tried + 1e-9:
+    if tolerance is None:
+        luck = min(binom.cdf(held, tried, coverage), binom.sf(held - 1, tried, coverage))
+        if luck >= tail:
+            return unchanged(
+                f"{held} of {tried} is what an honest {nominal} range holds at least one time "
+                f"in {round(1 / tail)} (binomial tail probability {luck:.2f})"
+            )
+    elif abs(held - coverage * tried) <= tolerance * tried + 1e-9:
         return unchanged(f"{held} of {tried} is within {tolerance:.0%} of the nominal {nominal}")
     scale = conformal_scale(actual, middle, low, high, coverage)
     if not math.isfinite(scale) or scale <= 0:
@@ -139,8 +153,10 @@ def rolling_calibration(
     level_low: int = 10,
     level_high: int = 90,
     first: int = MIN_MONTHS,
-    tolerance: float = 0.05,
+    tolerance: float | None = None,
+    tail: float = 0.10,
     window: int = CALIBRATION_WINDOW,
+    min_months: int = MIN_MONTHS,
 ) -> pd.DataFrame:
     """Each month's range corrected by the calibration of the ``window`` months before it.
 
@@ -149,7 +165,10 @@ def rolling_calibration(
     pairs : pandas.DataFrame
         One meter's (or roll-up's) past budgets in time order, as for :func:`calibrate`.
     first : int, default 12
-        Months used before the first corrected one (they are left out of the result).
+        Months left out at the start (with ``first=0`` every month comes back as the tool
+        would have issued it: raw while fewer than ``min_months`` months came before it).
+    min_months : int, default 12
+        Fewest earlier months from which a range is corrected, as in :func:`calibrate`.
 
     Returns
     -------
@@ -165,7 +184,8 @@ def rolling_calibration(
             level_low=level_low,
             level_high=level_high,
             tolerance=tolerance,
-            min_months=first,
+            min_months=min_months,
+            tail=tail,
         ).scale
         month = pairs.iloc[position]
         middle = month["mean kWh"]

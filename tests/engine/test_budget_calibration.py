@@ -18,20 +18,30 @@ from engine.budget import (
     BudgetBacktest,
     Calibration,
     MeterBudget,
+    MeterPlan,
     WeatherAssumption,
     backtest_budget,
     budget_months,
     calibrate,
     conformal_scale,
     rolling_calibration,
+    rolling_refits,
     simulate_budget,
     simulate_paths,
     summarise,
     widen,
 )
 from engine.budget.calibration import MAX_SCALE
+from engine.budget.periods import as_of_cut
 from engine.errors import InputError
-from tests.engine.test_budget_campus import Campus, campus_plans, make_campus
+from tests.engine.test_budget_campus import (
+    METERS,
+    ZONE,
+    Campus,
+    WeekSlotDegreeModel,
+    campus_plans,
+    make_campus,
+)
 
 
 def _pairs(actual: np.ndarray, p10: np.ndarray, mean: np.ndarray, p90: np.ndarray) -> pd.DataFrame:
@@ -83,10 +93,16 @@ def test_ranges_half_as_wide_as_they_should_be_are_doubled() -> None:
 
 
 def test_a_range_near_its_nominal_coverage_is_left_alone() -> None:
-    # Forty months and a 5-point tolerance: 30 to 34 held (75–85 %) is on target.
-    ones = np.ones(40)
-    for held, corrected in ((30, False), (34, False), (29, True), (35, True)):
-        actual = np.r_[np.linspace(-0.9, 0.9, held), np.full(40 - held, 5.0)]
+    # Off when an honest 80 % range holds so few (or so many) months less than one time in
+    # ten: Binomial(12, 0.8) gives P(X ≤ 7) = 0.073, P(X ≤ 8) = 0.205, P(X = 12) = 0.8¹² =
+    # 0.069; Binomial(40, 0.8) gives P(X ≤ 28) ≈ 0.08, P(X ≤ 29) ≈ 0.16, P(X ≥ 36) ≈ 0.08,
+    # P(X ≥ 35) ≈ 0.16 (binomial tails; 0.8¹² by hand).
+    for months, held, corrected in (
+        (40, 29, False), (40, 35, False), (40, 28, True), (40, 36, True),
+        (12, 8, False), (12, 11, False), (12, 7, True), (12, 12, True),
+    ):  # fmt: skip
+        ones = np.ones(months)
+        actual = np.r_[np.linspace(-0.9, 0.9, held), np.full(months - held, 5.0)]
         result = calibrate(_pairs(actual, -ones, 0 * ones, ones))
         assert result.held == held
         assert (result.scale != 1.0) is corrected
@@ -105,14 +121,35 @@ def campus() -> Campus:
 def past(campus: Campus) -> BudgetBacktest:
     """Month-ahead budgets for the 48 months 2021–2024, weather from the 5 years before each.
 
-    Ten weather draws per budget (not the default fifty) keep the 48 budgets quick.
+    Made as the tool makes them: each month from the model refitted before it with the
+    out-of-sample errors of the year before it. Ten weather draws per budget (not the default
+    fifty) keep the 48 budgets quick.
     """
+    refits = {name: rolling_refits(WeekSlotDegreeModel(), inputs, 60)
+              for name, inputs in campus.inputs.items()}  # fmt: skip
+    utility = {meter.name: meter.utility for meter in METERS}
+
+    def plans(as_of: date) -> list[MeterPlan]:
+        cut = as_of_cut(as_of, ZONE)
+        month = f"{as_of + pd.Timedelta(days=1):%Y-%m}"
+        return [
+            MeterPlan(
+                name,
+                utility[name],
+                refits[name].model_for(month),
+                inputs,
+                residuals=refits[name].errors_before(cut),
+            )
+            for name, inputs in campus.inputs.items()
+        ]
+
     return backtest_budget(
-        lambda as_of: campus_plans(campus, as_of),
+        plans,
         campus.inputs,
         48,
         weather=WeatherAssumption.past_years(campus.weather, years=5, draws=10),
         paths=300,
+        error_days=366,
         rng=36,
     )
 
@@ -122,10 +159,10 @@ def test_corrected_month_ahead_ranges_hold_about_four_months_in_five(
 ) -> None:
     """36 rolling month-ahead budgets per meter, each corrected by the months before it only.
 
-    Uncorrected, the ranges are a little narrow: block joins drop some of the weather's and
-    the errors' dependence, the models' errors are fit-period residuals, and the typical
-    weather and the model are learned from a few years; the rolling correction brings the
-    held-out coverage into 70–90 %.
+    Raw, the ranges are a little narrow (about two months in three held here: a few years of
+    weather and a daily model with little history); the rolling correction, which changes a
+    meter's range only when its past year's count is one an honest range rarely gives, brings
+    the held-out coverage into 70–90 %.
     """
     pairs = past.pairs
     assert past.skipped.empty
