@@ -7,6 +7,7 @@ from __future__ import annotations
 from collections.abc import Sequence
 from dataclasses import dataclass
 from datetime import date, timedelta
+from pathlib import Path
 
 import pandas as pd
 
@@ -19,6 +20,7 @@ from engine.budget import (
     rolling_refits,
     simulate_budget,
 )
+from engine.budget.summary import check_levels
 from engine.calendar import CampusCalendar
 from engine.cleaning.project_log import cleaned_meter, stored_calendar
 from engine.errors import InputError
@@ -33,9 +35,12 @@ from engine.models import EnergyModel, ModelInputs
 from engine.models.base import fresh
 from engine.progress import Progress, step
 from engine.project import Project
-from engine.tariffs import Tariff
+from engine.reading import ReadOptions, read_weather_file
+from engine.tariffs import Tariff, read_tariff
 
 WEATHER_CHOICES = ("typical", "past-years")
+#: Fewest simulated paths that make a range.
+MIN_PATHS = 100
 #: Months of out-of-sample errors a budget draws its model error from.
 ERROR_MONTHS = 12
 #: Those months in days, for the simulation's error window.
@@ -66,6 +71,52 @@ class ProjectBudget:
     steps: list[dict]
     scorecards: dict[str, dict]
     data_range: dict[str, tuple[str, str]]
+
+
+def budget_request(
+    project: Project,
+    months: list[str],
+    *,
+    as_of: date | None = None,
+    weather: str = "past-years",
+    levels: Sequence[int] = (10, 50, 90),
+    paths: int = 1000,
+    tariff_file: str | Path | None = None,
+) -> BudgetRequest:
+    """A checked request for ``project``; the files it names are read now, so their problems
+    show before any work starts.
+
+    ``as_of`` defaults to the last day with a reading; ``weather`` is one of
+    :data:`WEATHER_CHOICES` or the path of a temperature file (read on the project's clock);
+    ``tariff_file`` a rate card for the electricity meters.
+    """
+    given = None
+    if weather not in WEATHER_CHOICES:
+        if not Path(weather).is_file():
+            raise InputError(
+                f"the weather assumption '{weather}' is neither "
+                f"{' nor '.join(WEATHER_CHOICES)} nor a file.",
+                hint="Choose typical or past-years weather, or the path of a temperature file.",
+            )
+        given = read_weather_file(weather, ReadOptions(timezone=project.timezone)).temps_c
+    if paths < MIN_PATHS:
+        raise InputError(
+            f"{paths} paths are too few for a range.", hint=f"Use {MIN_PATHS} or more."
+        )
+    return BudgetRequest(
+        months=list(months),
+        as_of=as_of if as_of is not None else last_reading_day(project),
+        weather=weather,
+        levels=check_levels(levels),
+        paths=paths,
+        tariff=read_tariff(tariff_file) if tariff_file else None,
+        given_weather=given,
+    )
+
+
+def keep_budget(project: Project, run: BudgetRun) -> int:
+    """Store the run's summary in the project file; returns its result id."""
+    return project.add_result("budget", None, f"budget from {run.months[0]}", run.to_json())
 
 
 def last_reading_day(project: Project) -> date:

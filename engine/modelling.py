@@ -111,10 +111,14 @@ def hourly_weather(project: Project, *, as_of: pd.Timestamp | None = None) -> pd
     return fill_hourly(temps).hourly
 
 
+def default_families(interval: pd.Timedelta) -> tuple[str, ...]:
+    """The families the wizard tries on readings ``interval`` apart (daily or finer)."""
+    return DAILY_FAMILIES if interval >= pd.Timedelta(hours=23) else DEFAULT_FAMILIES
+
+
 def families_for(inputs: ModelInputs, names: Sequence[str] | None = None) -> list[EnergyModel]:
     """Fresh, unfitted models of the named families (default: those that suit the inputs)."""
-    daily = inputs.interval >= pd.Timedelta(hours=23)
-    chosen = list(names) if names else list(DAILY_FAMILIES if daily else DEFAULT_FAMILIES)
+    chosen = list(names) if names else list(default_families(inputs.interval))
     unknown = [n for n in chosen if n not in MODEL_FAMILIES]
     if unknown:
         raise InputError(

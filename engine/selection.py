@@ -28,7 +28,7 @@ so they show the model's own systematic misses rather than the weather's.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import Any
 
 import numpy as np
@@ -81,7 +81,8 @@ class ResidualPattern:
     ``predicted kWh`` and ``intervals``. ``by_day_kind_hour`` splits the hours into weekdays
     and weekends-and-holidays; ``by_period`` is None without calendar labels.
     ``largest_miss`` is one sentence about the largest systematic miss, in kWh, among hour
-    spans, weekdays, months and campus periods (see :func:`residual_pattern`).
+    spans, weekdays, months and campus periods (see :func:`residual_pattern`). ``weather``
+    names the backtest condition the forecasts were made under, when known.
     """
 
     by_hour: pd.DataFrame
@@ -90,6 +91,7 @@ class ResidualPattern:
     by_period: pd.DataFrame | None
     by_day_kind_hour: pd.DataFrame
     largest_miss: str
+    weather: str = ""
 
     def to_dict(self) -> dict[str, Any]:
         return {
@@ -101,6 +103,7 @@ class ResidualPattern:
             else _json_records(self.by_period.reset_index()),
             "by_day_kind_hour": _json_records(self.by_day_kind_hour.reset_index()),
             "largest_miss": self.largest_miss,
+            "weather": self.weather,
         }
 
 
@@ -522,12 +525,15 @@ def recommend_model(
             (frame["model"] == chosen) & (frame["weather"] == wanted) & (frame["lead"] == 1)
         ]
         index = pd.DatetimeIndex(rows["start"])
-        diagnostics = residual_pattern(
-            pd.Series(rows["actual kWh"].to_numpy(), index=index),
-            pd.Series(rows["predicted kWh"].to_numpy(), index=index),
-            result.timezone,
-            labels,
-            min_percent=min_miss_percent,
+        diagnostics = replace(
+            residual_pattern(
+                pd.Series(rows["actual kWh"].to_numpy(), index=index),
+                pd.Series(rows["predicted kWh"].to_numpy(), index=index),
+                result.timezone,
+                labels,
+                min_percent=min_miss_percent,
+            ),
+            weather=wanted,
         )
         reasons.append(f"Residuals ({wanted} backtest): {diagnostics.largest_miss}")
     return ModelChoice(

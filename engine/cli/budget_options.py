@@ -4,35 +4,23 @@ from __future__ import annotations
 
 import argparse
 from datetime import date
-from pathlib import Path
 
 from engine.budget import budget_months
-from engine.budgeting import WEATHER_CHOICES, BudgetRequest, last_reading_day
+from engine.budgeting import BudgetRequest, budget_request
 from engine.errors import InputError
 from engine.project import Project
-from engine.reading import ReadOptions, read_weather_file
-from engine.tariffs import read_tariff
 
 
-def budget_request(args: argparse.Namespace, project: Project) -> BudgetRequest:
-    """The request the options describe, for ``project``."""
-    as_of = _as_of(args.as_of) if args.as_of else last_reading_day(project)
-    given = None
-    if args.weather not in WEATHER_CHOICES:
-        if not Path(args.weather).exists():
-            raise InputError(
-                f"--weather '{args.weather}' is neither typical, past-years nor a file.",
-                hint="Give typical, past-years, or the path of a temperature file.",
-            )
-        given = read_weather_file(args.weather, ReadOptions(timezone=project.timezone)).temps_c
-    return BudgetRequest(
-        months=_months(args),
-        as_of=as_of,
+def request_from_args(args: argparse.Namespace, project: Project) -> BudgetRequest:
+    """The request the options describe, for ``project`` (checked by the engine)."""
+    return budget_request(
+        project,
+        _months(args),
+        as_of=_as_of(args.as_of) if args.as_of else None,
         weather=args.weather,
         levels=_levels(args.levels),
-        paths=_paths(args.paths),
-        tariff=read_tariff(args.tariff) if args.tariff else None,
-        given_weather=given,
+        paths=args.paths,
+        tariff_file=args.tariff,
     )
 
 
@@ -52,23 +40,11 @@ def _months(args: argparse.Namespace) -> list[str]:
 
 def _levels(text: str) -> tuple[int, ...]:
     try:
-        levels = tuple(sorted(int(part) for part in text.split(",") if part.strip()))
+        return tuple(int(part) for part in text.split(",") if part.strip())
     except ValueError:
         raise InputError(
             f"--levels '{text}' is not a list of whole percentages.", hint="e.g. --levels 10,50,90"
         ) from None
-    if 50 not in levels or not all(0 < level < 100 for level in levels):
-        raise InputError(
-            f"--levels '{text}' must lie between 0 and 100 and include 50.",
-            hint="e.g. --levels 10,50,90 or 5,50,95",
-        )
-    return levels
-
-
-def _paths(paths: int) -> int:
-    if paths < 100:
-        raise InputError(f"--paths {paths} is too few for a range.", hint="Use 100 or more.")
-    return paths
 
 
 def _as_of(text: str) -> date:

@@ -9,10 +9,10 @@ import tempfile
 from pathlib import Path
 
 from engine import calendar_edit
-from engine.budgeting import budget_project
+from engine.budgeting import budget_project, keep_budget
 from engine.cleaning import apply_recommended, review_meter
 from engine.cli import text
-from engine.cli.budget_options import budget_request
+from engine.cli.budget_options import request_from_args
 from engine.errors import InputError
 from engine.export.finance_workbook import write_finance_workbook
 from engine.export.profile_workbook import write_profile_workbook
@@ -150,10 +150,9 @@ def budget(args: argparse.Namespace) -> int:
 
 
 def _budget_report(args: argparse.Namespace, project: Project) -> int:
-    request = budget_request(args, project)
+    request = request_from_args(args, project)
     outcome = budget_project(project, request)
-    project.add_result("budget", None, f"budget from {request.months[0]}",
-                       outcome.run.to_json())  # fmt: skip
+    keep_budget(project, outcome.run)
     report = outcome.run.to_json()
     if args.xlsx:
         written = write_finance_workbook(
