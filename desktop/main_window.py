@@ -7,18 +7,18 @@ from pathlib import Path
 from PySide6.QtCore import Qt
 from PySide6.QtWidgets import (
     QFileDialog,
-    QLabel,
     QListWidget,
     QMainWindow,
     QMessageBox,
     QSplitter,
     QStackedWidget,
-    QVBoxLayout,
-    QWidget,
 )
 
+from desktop.budget_screen import BudgetScreen
 from desktop.cleaning_screen import CleaningScreen
+from desktop.export_screen import ExportScreen
 from desktop.files_screen import FilesScreen
+from desktop.models_screen import ModelsScreen
 from desktop.patterns_screen import PatternsScreen
 from desktop.session import Session
 from engine.errors import ProjectError
@@ -46,11 +46,20 @@ class MainWindow(QMainWindow):
         self.files_screen = FilesScreen(self.session)
         self.cleaning_screen = CleaningScreen(self.session)
         self.patterns_screen = PatternsScreen(self.session)
+        self.models_screen = ModelsScreen(self.session)
+        self.budget_screen = BudgetScreen(self.session)
+        self.export_screen = ExportScreen()
         self.cleaning_screen.log_changed.connect(self.patterns_screen.meter_cleaned)
+        self.budget_screen.budget_changed.connect(self.export_screen.set_budget)
+        self.budget_screen.budget_changed.connect(self._budget_changed)
+        self.export_screen.budget_asked.connect(lambda: self.show_step("Budget"))
         built = {
             "Files": self.files_screen,
             "Cleaning": self.cleaning_screen,
             "Patterns": self.patterns_screen,
+            "Models": self.models_screen,
+            "Budget": self.budget_screen,
+            "Export": self.export_screen,
         }
         self.steps = QListWidget()
         self.steps.addItems(list(STEP_NAMES))
@@ -58,8 +67,8 @@ class MainWindow(QMainWindow):
         for row, (_, purpose) in enumerate(STEPS):
             self.steps.item(row).setToolTip(purpose)
         self.screens = QStackedWidget()
-        for name, purpose in STEPS:
-            self.screens.addWidget(built.get(name) or _placeholder(name, purpose))
+        for name in STEP_NAMES:
+            self.screens.addWidget(built[name])
         self.steps.currentRowChanged.connect(self.screens.setCurrentIndex)
         self.steps.setCurrentRow(0)
         splitter = QSplitter(Qt.Orientation.Horizontal)
@@ -107,6 +116,12 @@ class MainWindow(QMainWindow):
             words += f" — {project.upgrade_note}"
         self.statusBar().showMessage(words)
 
+    def _budget_changed(self, budget) -> None:
+        """A budget may have fitted models for meters that had none: show them (unless the
+        Models step is busy)."""
+        if budget is not None and self.models_screen.task is None:
+            self.models_screen.refresh()
+
     def _new_from_files(self) -> None:
         self.show_step("Files")
         self.files_screen.choose_files()
@@ -118,18 +133,19 @@ class MainWindow(QMainWindow):
         if path:
             self.open_project(path)
 
+    def screens_with_work(self) -> tuple:
+        """Every screen that may run engine work on a worker."""
+        return (
+            self.files_screen,
+            self.cleaning_screen,
+            self.patterns_screen,
+            self.models_screen,
+            self.budget_screen,
+            self.export_screen,
+        )
+
     def closeEvent(self, event) -> None:
-        for screen in (self.files_screen, self.cleaning_screen, self.patterns_screen):
+        for screen in self.screens_with_work():
             screen.shutdown()
         self.session.close()
         super().closeEvent(event)
-
-
-def _placeholder(name: str, purpose: str) -> QWidget:
-    widget = QWidget()
-    layout = QVBoxLayout(widget)
-    title = QLabel(f"<h2>{name}</h2><p>{purpose}</p>")
-    title.setWordWrap(True)
-    layout.addWidget(title)
-    layout.addStretch(1)
-    return widget

@@ -1,0 +1,157 @@
+"""Turn the Budget screen's choices into an engine budget request and run it — without Qt.
+
+The choices mirror the command line's budget options: the period through
+:func:`engine.budget.budget_months`, the rest checked and read by
+:func:`engine.budgeting.budget_request`, so a bad file fails with the engine's own message
+naming it. The run is kept in the project file as the command line keeps it.
+"""
+
+from __future__ import annotations
+
+import inspect
+from dataclasses import dataclass
+from datetime import date, timedelta
+
+from engine.budget import budget_months
+from engine.budget.summary import PEAK_CAUTION
+from engine.budgeting import (
+    WEATHER_CHOICES,
+    BudgetRequest,
+    ProjectBudget,
+    budget_project,
+    budget_request,
+    keep_budget,
+)
+from engine.errors import InputError
+from engine.export.finance_workbook import DESIGN_LOAD_CAUTION
+from engine.progress import Progress
+from engine.project import Project
+
+#: Budget periods the screen offers: the value behind each one's words.
+PERIODS: dict[str, str] = {
+    "next": "next month",
+    "months": "next months",
+    "quarter": "a fiscal quarter",
+    "fiscal": "a fiscal year",
+}
+#: The weather choice that reads a temperature file instead of the project's history.
+WEATHER_FILE = "file"
+#: Simulated paths unless told otherwise, and the month a fiscal year starts in (the engine's).
+DEFAULT_PATHS: int = inspect.signature(BudgetRequest).parameters["paths"].default
+DEFAULT_FISCAL_START: int = (
+    inspect.signature(budget_months).parameters["fiscal_start_month"].default
+)
+
+
+@dataclass(frozen=True)
+class BudgetChoices:
+    """What the Budget screen's controls ask for.
+
+    ``start`` ("YYYY-MM") and ``months`` serve the "next" and "months" periods;
+    ``fiscal_year`` (named by the year it ends in), ``quarter`` and ``fiscal_start_month`` the
+    "quarter" and "fiscal" ones. ``weather`` is one of :data:`WEATHER_CHOICES` or
+    :data:`WEATHER_FILE` (then ``weather_file`` names the file); ``tariff_file`` may be empty.
+    """
+
+    period: str
+    as_of: date
+    start: str
+    months: int = 1
+    fiscal_year: int = 0
+    quarter: int = 1
+    fiscal_start_month: int = DEFAULT_FISCAL_START
+    weather: str = WEATHER_CHOICES[0]
+    weather_file: str = ""
+    tariff_file: str = ""
+    paths: int = DEFAULT_PATHS
+
+
+def period_months(choices: BudgetChoices) -> list[str]:
+    """The budget months the choices describe (the engine checks them)."""
+    if choices.period == "next":
+        return budget_months(start=choices.start, months=1)
+    if choices.period == "months":
+        return budget_months(start=choices.start, months=choices.months)
+    quarter = choices.quarter if choices.period == "quarter" else None
+    return budget_months(
+        fiscal_year=choices.fiscal_year,
+        fiscal_start_month=choices.fiscal_start_month,
+        quarter=quarter,
+    )
+
+
+def first_open_month(as_of: date) -> str:
+    """The month holding the day after ``as_of``: the first one not fully metered."""
+    following = as_of + timedelta(days=1)
+    return f"{following.year:04d}-{following.month:02d}"
+
+
+def fiscal_year_of(month: str, fiscal_start_month: int) -> int:
+    """The fiscal year (by the engine's naming) that holds ``month``."""
+    year = int(month[:4])
+    return next(
+        fiscal
+        for fiscal in (year, year + 1)
+        if month in budget_months(fiscal_year=fiscal, fiscal_start_month=fiscal_start_month)
+    )
+
+
+def fiscal_quarter_of(month: str, fiscal_year: int, fiscal_start_month: int) -> int:
+    """The quarter of ``fiscal_year`` that holds ``month`` (1 when it is not in that year)."""
+    for quarter in (1, 2, 3, 4):
+        quarter_months = budget_months(
+            fiscal_year=fiscal_year, fiscal_start_month=fiscal_start_month, quarter=quarter
+        )
+        if month in quarter_months:
+            return quarter
+    return 1
+
+
+def request_for(project: Project, choices: BudgetChoices) -> BudgetRequest:
+    """The engine's checked request for ``choices``; files are read now, so their problems
+    show before any work starts."""
+    weather = choices.weather
+    if weather == WEATHER_FILE:
+        if not choices.weather_file:
+            raise InputError(
+                "the weather assumption is a temperature file, but no file is chosen.",
+                hint="Choose the file, or pick typical or past years' weather.",
+            )
+        weather = choices.weather_file
+    return budget_request(
+        project,
+        period_months(choices),
+        as_of=choices.as_of,
+        weather=weather,
+        paths=choices.paths,
+        tariff_file=choices.tariff_file or None,
+    )
+
+
+def run_budget(
+    project: Project, choices: BudgetChoices, progress: Progress | None = None
+) -> ProjectBudget:
+    """Budget every meter of the project and keep the run in the project file."""
+    outcome = budget_project(project, request_for(project, choices), progress=progress)
+    keep_budget(project, outcome.run)
+    return outcome
+
+
+def meters_without_model(project: Project) -> list[str]:
+    """Meters the budget would first have to fit a model for (with the wizard's defaults)."""
+    return [name for name in project.meter_names() if not project.results("model", name)]
+
+
+def period_words(budget: ProjectBudget) -> str:
+    """The budget's months in words: "2026-11" or "2026-11 to 2027-01"."""
+    months = budget.run.months
+    return months[0] if len(months) == 1 else f"{months[0]} to {months[-1]}"
+
+
+def budget_cautions(budget: ProjectBudget) -> list[str]:
+    """The run's own cautions, and always that a forecast is not a design load: the run says
+    so only when a demand charge is priced, the workbook always does."""
+    cautions = list(budget.run.cautions)
+    if PEAK_CAUTION not in cautions:
+        cautions.append(DESIGN_LOAD_CAUTION)
+    return cautions

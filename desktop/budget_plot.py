@@ -1,0 +1,105 @@
+"""The Budget screen's plot: one budgeted thing's monthly P50 with its low–high range.
+
+Pick the campus, a utility roll-up or a meter. Each month's range is a floating bar from the
+run's lowest to its highest P-level (P10 to P90 by default), its P50 a dot on a line through
+the months, and the energy metered to date (in a month under way) a diamond.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pyqtgraph as pg
+from PySide6.QtWidgets import QHBoxLayout, QLabel, QWidget
+
+from desktop.budget_table import item_title
+from desktop.choices import ChoiceBox
+from desktop.palette import SERIES_CYCLE
+from desktop.pattern_plots import PlotPanel
+from engine.budget.result import BudgetRun
+from engine.export.finance_tables import Budgeted, budgeted
+
+MEDIAN_COLOUR = SERIES_CYCLE[0]
+TO_DATE_COLOUR = SERIES_CYCLE[1]
+#: Alpha of the range bars' fill, as the last two hex digits of pyqtgraph's #RRGGBBAA.
+RANGE_ALPHA = "55"
+RANGE_WIDTH = 0.5
+
+
+class BudgetRangePanel(PlotPanel):
+    """Monthly P50, the P-low–P-high band and the actual to date of the thing picked."""
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__("Monthly range", "budget month", "energy (MWh)", parent=parent)
+        self.pick = ChoiceBox(())
+        self.pick.setMinimumContentsLength(28)
+        self.pick.activated.connect(self._draw)
+        row = QHBoxLayout()
+        row.addWidget(QLabel("Show"))
+        row.addWidget(self.pick)
+        row.addStretch(1)
+        self.layout().insertLayout(1, row)
+        self.ranges = pg.BarGraphItem(
+            x=[],
+            y0=[],
+            height=[],
+            width=RANGE_WIDTH,
+            brush=pg.mkBrush(MEDIAN_COLOUR + RANGE_ALPHA),
+            pen=pg.mkPen(MEDIAN_COLOUR, width=1),
+        )
+        self.median = pg.PlotDataItem(
+            pen=pg.mkPen(MEDIAN_COLOUR, width=2),
+            symbol="o",
+            symbolSize=8,
+            symbolBrush=MEDIAN_COLOUR,
+            symbolPen=None,
+        )
+        self.to_date = pg.ScatterPlotItem(
+            symbol="d", size=11, brush=pg.mkBrush(TO_DATE_COLOUR), pen=None
+        )
+        for item in (self.ranges, self.median, self.to_date):
+            self.plot.addItem(item)
+        self.run: BudgetRun | None = None
+        self.items: dict[str, Budgeted] = {}
+
+    def show_run(self, run: BudgetRun) -> None:
+        """Offer every budgeted thing of ``run`` (the campus first) and draw the first."""
+        self.run = run
+        self.items = {item_title(item): item for item in budgeted(run)}
+        self.pick.clear()
+        for title in self.items:
+            self.pick.addItem(title, title)
+        self._draw()
+
+    def _draw(self) -> None:
+        run = self.run
+        item = self.items.get(self.pick.value())
+        if run is None or item is None:
+            return
+        low, high = f"{min(run.levels)}", f"{max(run.levels)}"
+        x = np.arange(len(item.months), dtype=np.float64)
+        mwh = 1 / 1000.0
+        quantile = {
+            level: np.array([m.energy.quantiles[level] for m in item.months]) * mwh
+            for level in (low, "50", high)
+        }
+        self.ranges.setOpts(x=x, y0=quantile[low], height=quantile[high] - quantile[low])
+        self.median.setData(x, quantile["50"])
+        actual = np.array([m.actual_to_date for m in item.months]) * mwh
+        under_way = actual > 0
+        self.to_date.setData(x[under_way], actual[under_way])
+        ticks = [(float(i), m.period) for i, m in enumerate(item.months)]
+        self.plot.getAxis("bottom").setTicks([ticks])
+        self.plot.setXRange(-0.5, len(x) - 0.5, padding=0.02)
+        self.plot.enableAutoRange(axis="y")
+        key = [("●", "P50", MEDIAN_COLOUR), ("▯", f"P{low} to P{high}", MEDIAN_COLOUR)]
+        if under_way.any():
+            key.append(("◆", "metered to date", TO_DATE_COLOUR))
+        self.set_key(key)
+        self._show_plot(
+            f"Energy per month in MWh: half of the simulated futures lie below P50; P{low} to "
+            f"P{high} holds {int(high) - int(low)} % of them."
+        )
+
+    def drawn_median(self) -> np.ndarray:
+        """The P50 values drawn, in kWh."""
+        return self.median.getData()[1] * 1000.0

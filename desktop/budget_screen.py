@@ -1,0 +1,197 @@
+"""The Budget screen: choose the period, as-of date, weather and tariff; the engine budgets
+every meter on a worker; see the monthly totals with their range, cost, how well such ranges
+held in past months, and the cautions that go with a forecast.
+
+The last budget run stays on the screen (``budget``) and is announced with
+``budget_changed`` so the Export step can write it.
+"""
+
+from __future__ import annotations
+
+from functools import partial
+from html import escape
+
+from PySide6.QtCore import Qt, Signal
+from PySide6.QtWidgets import (
+    QHBoxLayout,
+    QLabel,
+    QPushButton,
+    QSplitter,
+    QTextBrowser,
+    QVBoxLayout,
+    QWidget,
+)
+
+from desktop.budget_form import BudgetForm
+from desktop.budget_jobs import budget_cautions, meters_without_model, period_words, run_budget
+from desktop.budget_plot import BudgetRangePanel
+from desktop.budget_table import BudgetTable
+from desktop.palette import TONES
+from desktop.session import Session
+from desktop.task_screen import TaskScreen
+from engine.budgeting import ProjectBudget, last_reading_day
+from engine.project import Project
+
+
+class BudgetScreen(TaskScreen):
+    """Budget the open project's meters and show the run."""
+
+    budget_changed = Signal(object)
+
+    def __init__(self, session: Session, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.session = session
+        self.budget: ProjectBudget | None = None
+        self._as_of_for: Project | None = None
+        self.form = BudgetForm()
+        self.budget_button = QPushButton("Budget")
+        self.budget_button.setToolTip("Forecast every meter for the period, with its range.")
+        self.budget_button.clicked.connect(self.run)
+        self.summary = QLabel()
+        self.summary.setWordWrap(True)
+        self.summary.setStyleSheet("color: #5a5f66;")
+        self.plot = BudgetRangePanel()
+        self.notes = QTextBrowser()
+        self.notes.setOpenLinks(False)
+        self.table = BudgetTable()
+        self._lay_out()
+        session.subscribe(self._project_changed)
+        self._project_changed(session.project)
+
+    def _lay_out(self) -> None:
+        controls = QHBoxLayout()
+        controls.addWidget(self.form, 1)
+        controls.addWidget(self.budget_button, 0, Qt.AlignmentFlag.AlignBottom)
+        top = QSplitter(Qt.Orientation.Horizontal)
+        top.addWidget(self.plot)
+        top.addWidget(self.notes)
+        top.setSizes([620, 420])
+        work = QSplitter(Qt.Orientation.Vertical)
+        work.addWidget(top)
+        work.addWidget(self.table)
+        work.setSizes([380, 320])
+        layout = QVBoxLayout(self)
+        layout.addLayout(controls)
+        layout.addWidget(self.notice)
+        layout.addWidget(self.task_bar)
+        layout.addWidget(self.summary)
+        layout.addWidget(work, 1)
+
+    # -- project ----------------------------------------------------------------------------
+
+    def _project_changed(self, project: Project | None) -> None:
+        self._keep(None)
+        if project is None:
+            self._clear("Open a project to budget its meters.")
+        else:
+            self._clear("Choose the period and press 'Budget'.")
+        if self.task is not None:
+            self.task.cancel()  # the new project's as-of date is looked up once it stops
+            return
+        self._look_up_as_of()
+
+    def _look_up_as_of(self) -> None:
+        """Default the as-of date to the project's last day with a reading (on a worker: it
+        reads every meter)."""
+        project = self.session.project
+        self._as_of_for = project
+        if project is None:
+            return
+        self.start_task(
+            lambda progress: last_reading_day(project),
+            "finding the last day with readings",
+            partial(self._as_of_found, project),
+        )
+
+    def _as_of_found(self, project: Project, day) -> None:
+        if self.session.project is project:
+            self.form.set_as_of(day)
+
+    def task_ended(self) -> None:
+        if self._as_of_for is not self.session.project:
+            self._look_up_as_of()
+
+    # -- work -------------------------------------------------------------------------------
+
+    def run(self) -> None:
+        """Budget every meter of the open project with the choices shown."""
+        project = self.session.project
+        if project is None:
+            return
+        choices = self.form.choices()
+        started = self.start_task(
+            partial(run_budget, project, choices),
+            "budgeting the meters",
+            partial(self._show, project),
+        )
+        unfitted = meters_without_model(project) if started else []
+        if unfitted:
+            self.notice.say(
+                f"{', '.join(unfitted)} {'has' if len(unfitted) == 1 else 'have'} no fitted "
+                "model yet: the budget first compares the default models for "
+                f"{'it' if len(unfitted) == 1 else 'them'}, which takes a while. Fit on the "
+                "Models step to choose yourself.",
+                "info",
+            )
+
+    def set_busy(self, busy: bool) -> None:
+        self.budget_button.setEnabled(not busy)
+
+    def task_cancelled(self, doing: str) -> None:
+        super().task_cancelled(doing)
+        if self.budget is None:
+            self._clear("Stopped before the budget was ready.")
+
+    # -- showing ----------------------------------------------------------------------------
+
+    def _keep(self, budget: ProjectBudget | None) -> None:
+        self.budget = budget
+        self.budget_changed.emit(budget)
+
+    def _clear(self, words: str) -> None:
+        self.summary.clear()
+        self.table.clear()
+        self.notes.clear()
+        self.plot.show_note(words)
+
+    def _show(self, project: Project, budget: ProjectBudget) -> None:
+        if self.session.project is not project:
+            return  # another project was opened meanwhile
+        self._keep(budget)
+        run = budget.run
+        self.summary.setText(_summary_words(budget))
+        self.table.show_run(run)
+        self.plot.show_run(run)
+        self.notes.setHtml(_notes_html(budget))
+        self.notice.say(
+            f"Budget {period_words(budget)} ready; kept in "
+            f"{project.path.name}. Write it for finance on the Export step.",
+            "done",
+        )
+
+
+def _summary_words(budget: ProjectBudget) -> str:
+    run = budget.run
+    parts = [
+        f"Readings up to {run.as_of}",
+        f"weather: {run.weather}",
+        f"{run.paths:,} simulated paths",
+        f"tariff: {run.tariff}" if run.tariff else "no tariff (energy only)",
+    ]
+    models = run.assumptions.get("models", {})
+    if models:
+        parts.append("models: " + ", ".join(f"{name} {label}" for name, label in models.items()))
+    return " · ".join(parts) + "."
+
+
+def _notes_html(budget: ProjectBudget) -> str:
+    """How well the range held in past months, per meter, then the cautions."""
+    problem = TONES["problem"][1]
+    parts = ["<b>How well such ranges held</b><ul>"]
+    for meter, calibration in budget.run.calibration.items():
+        sentence = calibration.sentence()
+        parts.append(f"<li><i>{escape(meter)}</i>: {escape(sentence)}.</li>")
+    parts.append(f"</ul><b style='color:{problem}'>Before you use these numbers</b><ul>")
+    parts += [f"<li>{escape(caution)}</li>" for caution in budget_cautions(budget)]
+    parts.append("</ul>")
+    return "".join(parts)

@@ -1,0 +1,118 @@
+"""The Budget screen's monthly table: a block per campus, utility roll-up and meter.
+
+It lays out the run the way the finance workbook's "Monthly" sheet does, from the same engine
+helpers (:func:`engine.export.finance_tables.budgeted` and ``figure_columns``), so the screen
+and the workbook always show the same figures under the same headers.
+"""
+
+from __future__ import annotations
+
+from PySide6.QtCore import Qt
+from PySide6.QtGui import QBrush, QColor, QFont
+from PySide6.QtWidgets import (
+    QAbstractItemView,
+    QHeaderView,
+    QTableWidget,
+    QTableWidgetItem,
+    QVBoxLayout,
+    QWidget,
+)
+
+from desktop.number_cells import number_cell
+from desktop.understood_view import NUMBER_ROLE
+from engine.budget.result import BudgetRun
+from engine.export.finance_tables import TOTAL_LABEL, Budgeted, budgeted, figure_columns
+
+HEADING_TINT = "#eef0f2"
+#: Data role on a row's first cell: (budgeted name, period) of the row, None on headings.
+ROW_ROLE = Qt.ItemDataRole.UserRole + 2
+
+
+def item_title(item: Budgeted) -> str:
+    """How a budgeted thing is named on screen, e.g. "electricity (roll-up of 2 meters)"."""
+    if item.scope == "meter":
+        return f"{item.name} (meter)"
+    if item.scope == "campus":
+        return f"Campus ({item.meters} meters)"
+    return f"{item.name} (roll-up of {item.meters} meter{'s' * (item.meters > 1)})"
+
+
+def _bold(cell: QTableWidgetItem) -> None:
+    font = QFont(cell.font())
+    font.setBold(True)
+    cell.setFont(font)
+
+
+class BudgetTable(QWidget):
+    """Month rows and a total row under a heading row for every budgeted thing."""
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.table = QTableWidget(0, 0)
+        self.table.setEditTriggers(QAbstractItemView.EditTrigger.NoEditTriggers)
+        self.table.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)
+        self.table.verticalHeader().hide()
+        self.table.setWordWrap(False)
+        self.table.horizontalHeader().setSectionResizeMode(QHeaderView.ResizeMode.ResizeToContents)
+        self.headers: list[str] = []
+        layout = QVBoxLayout(self)
+        layout.setContentsMargins(0, 0, 0, 0)
+        layout.addWidget(self.table)
+
+    def clear(self) -> None:
+        self.table.clear()
+        self.table.setRowCount(0)
+        self.table.setColumnCount(0)
+        self.headers = []
+
+    def show_run(self, run: BudgetRun) -> None:
+        """Lay out every budgeted thing of ``run`` with the workbook's figure headers."""
+        columns = figure_columns(run)
+        self.headers = ["month", columns.actual, *columns.energy, *columns.cost]
+        items = budgeted(run)
+        rows = sum(len(item.months) + 2 for item in items)
+        self.table.clear()
+        self.table.setColumnCount(len(self.headers))
+        self.table.setHorizontalHeaderLabels(self.headers)
+        self.table.setRowCount(rows)
+        row = 0
+        for item in items:
+            self._heading(row, item)
+            row += 1
+            for period in [*item.months, item.total]:
+                label = TOTAL_LABEL if period.period == "total" else period.period
+                first = QTableWidgetItem(label)
+                first.setData(ROW_ROLE, (item.name, period.period))
+                cells = [first]
+                for header in self.headers[1:]:
+                    cells.append(number_cell(columns.figures(period).get(header), 0))
+                for column, cell in enumerate(cells):
+                    if period.period == "total":
+                        _bold(cell)
+                    self.table.setItem(row, column, cell)
+                row += 1
+
+    def _heading(self, row: int, item: Budgeted) -> None:
+        cell = QTableWidgetItem(item_title(item))
+        _bold(cell)
+        cell.setBackground(QBrush(QColor(HEADING_TINT)))
+        self.table.setSpan(row, 0, 1, len(self.headers))
+        self.table.setItem(row, 0, cell)
+
+    def value(self, name: str, period: str, header: str) -> float:
+        """The number shown for ``name`` in ``period`` ("YYYY-MM" or "total") under ``header``."""
+        column = self.headers.index(header)
+        for row in range(self.table.rowCount()):
+            first = self.table.item(row, 0)
+            if first is not None and first.data(ROW_ROLE) == (name, period):
+                return self.table.item(row, column).data(NUMBER_ROLE)
+        raise KeyError((name, period))
+
+    def titles(self) -> list[str]:
+        """The heading rows' words, top to bottom."""
+        return [
+            self.table.item(row, 0).text()
+            for row in range(self.table.rowCount())
+            if self.table.item(row, 0) is not None
+            and self.table.item(row, 0).data(ROW_ROLE) is None
+        ]

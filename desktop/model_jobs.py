@@ -1,0 +1,217 @@
+"""Gather what the Models screen shows about one meter's models from the engine — without Qt.
+
+Two ways in, one report out: :func:`fit_report` runs the fit wizard
+(:func:`engine.modelling.fit_meter`), :func:`stored_report` reads the meter's last chosen
+model and backtest from the project file without refitting. Both turn the engine's
+recommendation (``ModelChoice.to_dict()``), its backtest and the chosen model into a
+:class:`ModelReport`.
+"""
+
+from __future__ import annotations
+
+import inspect
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+
+from engine.backtest import BacktestResult
+from engine.errors import ProjectError
+from engine.modelling import DEFAULT_FAMILIES, chosen_model, default_families, fit_meter
+from engine.models import MODEL_FAMILIES, EnergyModel
+from engine.progress import Progress, step
+from engine.project import Project
+
+#: Backtest origins the wizard asks for unless told otherwise (the engine's own default).
+DEFAULT_ORIGINS: int = inspect.signature(fit_meter).parameters["origins"].default
+#: The residual groupings of the engine's diagnostics, with the words the screen uses.
+RESIDUAL_GROUPINGS: dict[str, str] = {
+    "hour": "hour of day",
+    "weekday": "weekday",
+    "month": "month",
+}
+_EPOCH = pd.Timestamp("1970-01-01")
+_SECOND = pd.Timedelta(seconds=1)
+
+
+@dataclass(frozen=True)
+class FitRequest:
+    """Which meter to fit, with which model families and how many backtest origins."""
+
+    meter: str
+    families: tuple[str, ...]
+    origins: int = DEFAULT_ORIGINS
+
+
+@dataclass(frozen=True)
+class BacktestTrace:
+    """Actual and one-month-ahead predicted energy over the backtest, ready to draw.
+
+    ``x`` is local wall-clock time in Unix seconds (local times drawn as if they were UTC);
+    ``resolution`` says what a point is ("hour", "day" or "month").
+    """
+
+    x: np.ndarray
+    actual: np.ndarray
+    predicted: np.ndarray
+    resolution: str
+    condition: str
+
+
+@dataclass
+class ModelReport:
+    """Everything the Models screen shows about one meter's recommendation.
+
+    ``ranking`` is the engine's ranking table; ``coefficients`` the chosen model's statements
+    in physical units (None, with ``coefficients_note``, for families that give none);
+    ``residuals`` maps each of :data:`RESIDUAL_GROUPINGS` to residual % by group (the
+    engine's words on the largest systematic miss are among the ``reasons``).
+    ``kept`` says when and where the model was stored; ``backtest`` is the engine's backtest
+    (per-interval forecasts only when just fitted: the project keeps month totals).
+    """
+
+    meter: str
+    chosen: str | None
+    chosen_label: str
+    condition: str
+    ranking: pd.DataFrame
+    reasons: tuple[str, ...]
+    warnings: tuple[str, ...]
+    coefficients: pd.DataFrame | None = None
+    coefficients_note: str = ""
+    trace: BacktestTrace | None = None
+    trace_note: str = ""
+    residuals: dict[str, pd.Series] = field(default_factory=dict)
+    residual_condition: str = ""
+    kept: str = ""
+    backtest: BacktestResult | None = None
+
+
+def ticked_families(interval_minutes: float | None) -> tuple[str, ...]:
+    """The families ticked by default: the wizard's own choice for the meter's resolution."""
+    if interval_minutes is None:
+        return DEFAULT_FAMILIES
+    return default_families(pd.Timedelta(minutes=interval_minutes))
+
+
+def family_choices() -> list[tuple[str, str, bool]]:
+    """Every model family as (identifier, label, explainable), in the engine's order."""
+    return [(name, family.label, family.explainable) for name, family in MODEL_FAMILIES.items()]
+
+
+def fit_report(
+    project: Project, request: FitRequest, progress: Progress | None = None
+) -> ModelReport:
+    """Backtest and compare the requested families on the meter, keep the recommended model."""
+    outcome = fit_meter(
+        project,
+        request.meter,
+        families=list(request.families),
+        origins=request.origins,
+        progress=progress,
+    )
+    kept = f"Kept in {project.path.name}" if outcome.result_id is not None else ""
+    return _report(request.meter, outcome.choice.to_dict(), outcome.backtest, outcome.model, kept)
+
+
+def stored_report(
+    project: Project, meter: str, progress: Progress | None = None
+) -> ModelReport | None:
+    """The meter's last chosen model and backtest as stored; None when it has no model yet."""
+    stored = project.results("model", meter)
+    if not stored:
+        return None
+    step(progress, 0.1, f"reading the model of '{meter}'")
+    model, choice = chosen_model(project, meter)
+    backtest = None
+    backtests = project.results("backtest", meter)
+    if backtests:
+        try:
+            backtest = BacktestResult.from_dict(backtests[-1]["body"])
+        except ProjectError:
+            backtest = None
+    kept = f"Fitted {stored[-1]['created_at'][:16].replace('T', ' ')} UTC, kept in the project"
+    step(progress, 1.0, "model read")
+    return _report(meter, choice, backtest, model, kept)
+
+
+def _report(
+    meter: str,
+    choice: dict,
+    backtest: BacktestResult | None,
+    model: EnergyModel | None,
+    kept: str,
+) -> ModelReport:
+    ranking = pd.DataFrame(choice["ranking"])
+    chosen = choice["chosen"]
+    labels = dict(zip(ranking.get("model", []), ranking.get("name", []), strict=True))
+    report = ModelReport(
+        meter=meter,
+        chosen=chosen,
+        chosen_label=labels.get(chosen, chosen or ""),
+        condition=choice["condition"],
+        ranking=ranking,
+        reasons=tuple(choice["reasons"]),
+        warnings=tuple(choice["warnings"]),
+        kept=kept,
+        backtest=backtest,
+    )
+    if chosen is None:
+        return report
+    diagnostics = choice.get("diagnostics") or {}
+    report.residual_condition = diagnostics.get("weather") or choice["condition"]
+    _add_coefficients(report, model)
+    _add_trace(report, backtest)
+    _add_residuals(report, choice.get("diagnostics"))
+    return report
+
+
+def _add_coefficients(report: ModelReport, model: EnergyModel | None) -> None:
+    table = getattr(model, "coefficients_table", None)
+    if table is None:
+        report.coefficients_note = (
+            f"The {report.chosen_label} does not state its effects in physical units; judge it "
+            "by its backtest scores and the residuals."
+        )
+        return
+    report.coefficients = table()
+
+
+def _add_trace(report: ModelReport, backtest: BacktestResult | None) -> None:
+    if backtest is None:
+        report.trace_note = "No backtest is stored for this model: fit again to see one."
+        return
+    condition = report.residual_condition
+    if backtest.forecasts is not None:
+        frame = _lead_one(backtest.forecasts, report.chosen, condition)
+        local = pd.DatetimeIndex(frame["start"]).tz_convert(backtest.timezone).tz_localize(None)
+        resolution = "day" if backtest.interval >= pd.Timedelta(hours=23) else "hour"
+    else:
+        frame = _lead_one(backtest.months, report.chosen, condition)
+        local = pd.PeriodIndex(frame["month"], freq="M").to_timestamp()
+        resolution = "month"
+    if frame.empty:
+        report.trace_note = f"The backtest has no forecasts of this model under {condition}."
+        return
+    report.trace = BacktestTrace(
+        x=((local - _EPOCH) / _SECOND).to_numpy(dtype=np.float64),
+        actual=frame["actual kWh"].to_numpy(dtype=np.float64),
+        predicted=frame["predicted kWh"].to_numpy(dtype=np.float64),
+        resolution=resolution,
+        condition=condition,
+    )
+
+
+def _lead_one(frame: pd.DataFrame, model: str, condition: str) -> pd.DataFrame:
+    rows = frame[(frame["model"] == model) & (frame["weather"] == condition) & (frame["lead"] == 1)]
+    order = "start" if "start" in rows else "month"
+    return rows.sort_values(order)
+
+
+def _add_residuals(report: ModelReport, diagnostics: dict | None) -> None:
+    if not diagnostics:
+        return
+    for key in RESIDUAL_GROUPINGS:
+        records = diagnostics.get(f"by_{key}") or []
+        table = pd.DataFrame(records, columns=[key, "residual %"])
+        report.residuals[key] = table.set_index(key)["residual %"].astype(np.float64)

@@ -1,0 +1,187 @@
+"""The Budget screen budgets a real project on a worker and shows what the engine ran and kept.
+
+The project holds two of the sample campus's electricity meters (Library and Science Labs)
+from June 2025 on, with the sample's weather and calendar, each with a daily change-point model
+chosen by the engine's fit wizard beforehand; the sample's invented rate card prices them.
+"""
+
+from __future__ import annotations
+
+from datetime import date
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+import pytest
+from desktop_support import ROOT, SITE_ZONE, save_screen, wait_until_idle
+from test_models_screen import short_sample_project
+
+from desktop.budget_jobs import period_months
+from desktop.budget_screen import BudgetScreen
+from desktop.session import Session
+from engine.modelling import fit_meter
+from engine.project import Project
+
+RATE_CARD = ROOT / "sample" / "tariffs" / "orrinvale-main-electric.ratecard.toml"
+METERS = ("Library", "Science Labs")
+PATHS = 200
+
+
+def fitted_campus(path: Path) -> Path:
+    """Two sample meters from June 2025, each with a quickly fitted daily change-point model."""
+    short_sample_project(path, meters=len(METERS))
+    with Project.open(path) as project:
+        for name in METERS:
+            fit_meter(project, name, families=["daily_change_point"], origins=3)
+    return path
+
+
+@pytest.fixture(scope="module")
+def campus(tmp_path_factory) -> Path:
+    return fitted_campus(tmp_path_factory.mktemp("budget") / f"campus{Project.EXTENSION}")
+
+
+@pytest.fixture
+def screen(qtbot, campus):
+    session = Session()
+    widget = BudgetScreen(session)
+    qtbot.addWidget(widget)
+    widget.resize(1400, 900)
+    widget.show()
+    session.open(Project.open(campus))
+    wait_until_idle(qtbot, widget)  # the as-of date is looked up on a worker
+    yield widget
+    session.close()
+
+
+def _stored_budgets(path: Path) -> list[dict]:
+    with Project.open(path) as project:
+        return project.results("budget")
+
+
+def _run(qtbot, screen: BudgetScreen) -> None:
+    screen.run()
+    wait_until_idle(qtbot, screen)
+
+
+def test_the_table_shows_the_run_the_project_keeps(qtbot, screen, campus):
+    project = screen.session.project
+    # The default as-of date is the last local day with a reading, found here with pandas.
+    last = max(project.load_meter(n).values.index[-1].tz_convert(SITE_ZONE).date() for n in METERS)
+    assert screen.form.choices().as_of == last
+    # A mid-month as-of date re-forecasts October: its metered days plus the rest.
+    screen.form.set_as_of(date(2026, 10, 15))
+    screen.form.period.set_value("months")
+    screen.form.months.setValue(3)
+    screen.form.tariff.path.setText(str(RATE_CARD))
+    screen.form.paths.setValue(PATHS)
+    assert screen.form.choices().start == "2026-10"
+    kept_before = len(_stored_budgets(campus))
+    _run(qtbot, screen)
+    assert screen.notice.tone == "done", screen.notice.text.text()
+    assert screen.budget is not None
+
+    stored = _stored_budgets(campus)
+    assert len(stored) == kept_before + 1
+    run = stored[-1]["body"]
+    assert run["months"] == ["2026-10", "2026-11", "2026-12"]
+    table = screen.table
+    p50 = next(h for h in table.headers if h.startswith("P50"))
+    for meter in run["meters"]:
+        for month in meter["months"]:
+            shown = table.value(meter["name"], month["month"], p50)
+            assert shown == month["quantiles"]["50"]
+    campus_run = run["campus"]
+    assert table.titles()[:2] == ["Campus (2 meters)", "electricity (roll-up of 2 meters)"]
+    november = campus_run["months"][1]
+    assert table.value("campus", "2026-11", p50) == november["quantiles"]["50"]
+    # The campus is summed path by path, so its mean is the sum of the meters' means
+    # (linearity of expectation); quantiles do not add up that way.
+    mean = next(h for h in table.headers if h.startswith("mean"))
+    meters_mean = sum(table.value(name, "2026-11", mean) for name in METERS)
+    assert table.value("campus", "2026-11", mean) == pytest.approx(meters_mean, rel=1e-12)
+
+    # October's actual to date: the Library's whole local hours of 1–15 October, with pandas.
+    readings = project.load_meter("Library").values.dropna()
+    hours = readings.groupby(readings.index.floor("h")).agg(["sum", "size"])
+    whole = hours.loc[hours["size"] == 4, "sum"]
+    local = whole.index.tz_convert(SITE_ZONE)
+    to_date = whole[(local >= "2026-10-01") & (local < "2026-10-16")].sum()
+    actual = next(h for h in table.headers if h.startswith("actual to date"))
+    assert table.value("Library", "2026-10", actual) == pytest.approx(to_date, rel=1e-9)
+    assert table.value("Library", "2026-11", actual) == 0.0
+
+    # Costs under the rate card, ordered like the energy figures.
+    costs = [table.value("campus", "total", h) for h in table.headers if h.startswith("cost P")]
+    assert len(costs) == 3 and costs == sorted(costs) and costs[0] > 0
+
+    # The plot draws the campus's monthly P50 and its P10–P90 range (in MWh).
+    plot = screen.plot
+    assert plot.pick.value() == "Campus (2 meters)" and plot.showing_plot
+    medians = [m["quantiles"]["50"] for m in campus_run["months"]]
+    np.testing.assert_allclose(plot.drawn_median(), medians, rtol=1e-12)
+    low = np.asarray(plot.ranges.opts["y0"]) * 1000.0
+    high = low + np.asarray(plot.ranges.opts["height"]) * 1000.0
+    np.testing.assert_allclose(low, [m["quantiles"]["10"] for m in campus_run["months"]])
+    np.testing.assert_allclose(high, [m["quantiles"]["90"] for m in campus_run["months"]])
+
+    # How well such ranges held, per meter, and the cautions of a forecast.
+    notes = screen.notes.toPlainText()
+    for name in METERS:
+        assert f"{name}: the 80 % range held the actual month total in" in notes
+    assert "estimate" in notes and "licensed engineer under local codes" in notes
+    assert "2026-10-15" in screen.summary.text()
+    save_screen(screen, "budget")
+
+
+def test_a_bad_tariff_file_is_named_in_a_message(qtbot, screen, campus, tmp_path):
+    bad = tmp_path / "north-campus.ratecard.toml"
+    bad.write_text("ratecard_format = 1\nname = [unclosed\n", encoding="utf-8")
+    screen.form.tariff.path.setText(str(bad))
+    kept_before = len(_stored_budgets(campus))
+    _run(qtbot, screen)
+    assert screen.notice.tone == "problem"
+    words = screen.notice.text.text()
+    assert "north-campus.ratecard.toml" in words and "TOML" in words
+    assert "Traceback" not in words and not screen.notice.details_button.isVisible()
+    assert screen.budget is None and len(_stored_budgets(campus)) == kept_before
+
+
+def test_a_weather_file_must_be_chosen(qtbot, screen):
+    screen.form.weather.set_value("file")
+    _run(qtbot, screen)
+    assert screen.notice.tone == "problem" and "no file is chosen" in screen.notice.text.text()
+
+
+def test_cancel_stops_a_running_budget(qtbot, screen, campus):
+    screen.form.paths.setValue(PATHS)
+    kept_before = len(_stored_budgets(campus))
+    screen.run()
+    screen.task.progressed.connect(lambda *_: screen.task_bar.cancel_button.click())
+    wait_until_idle(qtbot, screen)
+    assert screen.notice.tone == "info" and "Stopped budgeting" in screen.notice.text.text()
+    assert screen.budget is None and "Stopped before" in screen.plot.note.text()
+    assert len(_stored_budgets(campus)) == kept_before
+    assert screen.budget_button.isEnabled()
+
+
+def test_period_choices_follow_the_as_of_date(screen):
+    form = screen.form
+    form.set_as_of(date(2026, 10, 31))
+    assert period_months(form.choices()) == ["2026-11"]  # next month
+    # A fiscal year is named by the calendar year it ends in (common practice in US
+    # universities): with a July start, November 2026 lies in fiscal year 2027, in its second
+    # quarter (October–December).
+    form.period.set_value("fiscal")
+    form.fiscal_start.set_value(7)
+    choices = form.choices()
+    assert choices.fiscal_year == 2027
+    months = period_months(choices)
+    assert months == [f"{p}" for p in pd.period_range("2026-07", "2027-06", freq="M")]
+    form.period.set_value("quarter")
+    assert form.choices().quarter == 2
+    assert period_months(form.choices()) == ["2026-10", "2026-11", "2026-12"]
+    # A January start is the calendar year.
+    form.fiscal_start.set_value(1)
+    assert form.choices().fiscal_year == 2026 and form.choices().quarter == 4
+    assert form.fiscal_year.isVisible() and not form.start.isVisible()

@@ -1,0 +1,135 @@
+"""The Export screen writes the last budget as the finance workbook on a worker; openpyxl and
+pandas read the same monthly P50 back.
+
+The project is the Budget screen tests' two sample meters from June 2025 with fitted daily
+change-point models (see test_budget_screen.fitted_campus).
+"""
+
+from __future__ import annotations
+
+from datetime import date
+from pathlib import Path
+
+import pandas as pd
+import pytest
+from desktop_support import save_screen, wait_until_idle
+from openpyxl import load_workbook
+from PySide6.QtGui import QDesktopServices
+from PySide6.QtWidgets import QFileDialog
+from test_budget_screen import PATHS, fitted_campus
+
+from desktop.export_screen import NO_BUDGET, ExportScreen
+from desktop.main_window import MainWindow
+from engine.budget import budget_months
+from engine.budgeting import BudgetRequest, ProjectBudget, budget_project
+from engine.project import Project
+
+
+@pytest.fixture(scope="module")
+def campus(tmp_path_factory) -> Path:
+    return fitted_campus(tmp_path_factory.mktemp("export") / f"campus{Project.EXTENSION}")
+
+
+@pytest.fixture(scope="module")
+def budget(campus) -> ProjectBudget:
+    request = BudgetRequest(
+        months=budget_months(start="2026-11", months=2),
+        as_of=date(2026, 10, 31),
+        weather="typical",
+        paths=PATHS,
+    )
+    with Project.open(campus) as project:
+        return budget_project(project, request)
+
+
+@pytest.fixture
+def screen(qtbot, budget):
+    widget = ExportScreen()
+    qtbot.addWidget(widget)
+    widget.resize(1100, 600)
+    widget.show()
+    widget.set_budget(budget)
+    return widget
+
+
+def _monthly_p50(path: Path) -> dict[tuple[str, str], float]:
+    """(budget for, "YYYY-MM") → P50 of the month rows of the sheet "Monthly", by openpyxl."""
+    sheet = load_workbook(path, read_only=True)["Monthly"]
+    rows = list(sheet.iter_rows(values_only=True))
+    header_at = next(i for i, row in enumerate(rows) if row and "budget for" in row)
+    header = list(rows[header_at])
+    name, month = header.index("budget for"), header.index("month")
+    p50 = next(i for i, words in enumerate(header) if str(words).startswith("P50"))
+    return {
+        (row[name], f"{row[month]:%Y-%m}"): row[p50]
+        for row in rows[header_at + 1 :]
+        if row and hasattr(row[month], "year")
+    }
+
+
+def test_the_workbook_is_written_and_reads_back_the_same_p50(
+    qtbot, screen, budget, tmp_path, monkeypatch
+):
+    target = tmp_path / "finance" / "orrinvale-budget.xlsx"
+    target.parent.mkdir()
+    monkeypatch.setattr(QFileDialog, "getSaveFileName", lambda *args: (str(target), ""))
+    assert "2026-11 to 2026-12" in screen.what.text() and not screen.go_button.isVisible()
+    screen.write_button.click()
+    wait_until_idle(qtbot, screen)
+    assert screen.notice.tone == "done", screen.notice.text.text()
+    assert target.exists() and str(target.resolve()) in screen.where.text()
+
+    # Numbers pass through the file's decimal text, so they agree to about 15 digits.
+    read = _monthly_p50(target)
+    for meter in budget.run.meters:
+        for month in meter.months:
+            shown = month.energy.quantiles["50"]
+            assert read[(meter.name, month.period)] == pytest.approx(shown, rel=1e-12)
+    campus = budget.run.campus.months[1].energy.quantiles["50"]
+    assert read[("campus", "2026-12")] == pytest.approx(campus, rel=1e-12)
+    # pandas, through the calamine reader, reads the same sheet to the same figures.
+    header_row = next(
+        i for i, row in enumerate(load_workbook(target)["Monthly"].values) if "budget for" in row
+    )
+    frame = pd.read_excel(target, sheet_name="Monthly", header=header_row, engine="calamine")
+    library = frame[(frame["budget for"] == "Library") & (frame["month"] != "Total")]
+    p50 = next(c for c in frame.columns if str(c).startswith("P50"))
+    assert [f"{pd.Timestamp(m):%Y-%m}" for m in library["month"]] == ["2026-11", "2026-12"]
+    expected = [m.energy.quantiles["50"] for m in budget.run.meters[0].months]
+    assert library[p50].tolist() == pytest.approx(expected, rel=1e-12)
+
+    opened = []
+    monkeypatch.setattr(QDesktopServices, "openUrl", lambda url: opened.append(url) or True)
+    screen.open_button.click()
+    assert [Path(url.toLocalFile()) for url in opened] == [target.parent.resolve()]
+    save_screen(screen, "export")
+
+
+def test_a_missing_folder_is_named_in_a_message(qtbot, screen, tmp_path):
+    screen.write_to(tmp_path / "no-such-folder" / "budget.xlsx")
+    wait_until_idle(qtbot, screen)
+    assert screen.notice.tone == "problem"
+    words = screen.notice.text.text()
+    assert "budget.xlsx" in words and "does not exist" in words and "Traceback" not in words
+
+
+def test_without_a_budget_the_window_offers_the_budget_step(qtbot, campus, tmp_path):
+    window = MainWindow()
+    qtbot.addWidget(window)
+    window.show()
+    try:
+        assert window.open_project(campus)
+        window.show_step("Export")
+        export = window.export_screen
+        assert export.what.text() == NO_BUDGET and not export.write_button.isEnabled()
+        export.go_button.click()
+        assert window.screens.currentWidget() is window.budget_screen
+        wait_until_idle(qtbot, window.budget_screen)
+        window.budget_screen.form.paths.setValue(PATHS)
+        window.budget_screen.run()
+        wait_until_idle(qtbot, window.budget_screen)
+        assert export.budget is window.budget_screen.budget is not None
+        assert export.write_button.isEnabled() and not export.go_button.isVisible()
+        save_screen(window, "main-window-budget")
+    finally:
+        window.close()
