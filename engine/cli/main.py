@@ -112,8 +112,8 @@ def build_parser() -> argparse.ArgumentParser:
         "--weather",
         default="past-years",
         metavar="past-years|typical|FILE",
-        help="weather assumption: each path draws one past year's weather (default), typical "
-        "weather for every path, or a temperature file",
+        help="weather assumption: typical weather plus past days' departures from it, drawn "
+        "per path (default), typical weather for every path, or a temperature file",
     )
     budget.add_argument("--tariff", metavar="FILE", help="rate card for the electricity meters")
     budget.add_argument(
