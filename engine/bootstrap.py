@@ -9,10 +9,11 @@ keeps the dependence within each block.
   that start at uniform positions and wrap circularly past the end; every position starts a
   new block with probability ``1/m``. The resampled series is stationary and every drawn
   index is uniform over the source.
-* Circular block bootstrap (Politis & Romano 1992): blocks of fixed length ``b`` with uniform
-  starts, wrapping circularly.
-* Day blocks: either scheme over whole local days; each target interval takes the source
-  interval at the same local clock time on its drawn day, so the daily shape is kept.
+* The mean block length that suits a series: Politis & White (2004), see
+  :func:`stationary_block_length`.
+
+Budgets draw whole local days with it (:mod:`engine.budget.residuals` and
+:mod:`engine.budget.weather_paths` lay days out and keep their clock times).
 
 Every generator returns integer positions into the source, shape ``(n_paths, n_target)``;
 apply them with ``residuals[indices]``. All work is vectorised over paths and positions.
@@ -20,15 +21,9 @@ apply them with ``residuals[indices]``. All work is vectorised over paths and po
 
 from __future__ import annotations
 
-from collections.abc import Callable
-
 import numpy as np
-import pandas as pd
 
 from engine.errors import InputError
-
-_DAY = pd.Timedelta(days=1)
-_SECOND = pd.Timedelta(seconds=1)
 
 
 def stationary_indices(
@@ -120,87 +115,6 @@ def stationary_block_length(series: np.ndarray) -> float:
     return float(np.clip(length, 1.0, min(3.0 * np.sqrt(n), n / 3.0)))
 
 
-def circular_indices(
-    n_source: int, n_target: int, block: int, n_paths: int, rng: np.random.Generator
-) -> np.ndarray:
-    """Positions drawn by the circular block bootstrap (fixed block length, circular).
-
-    Parameters are those of :func:`stationary_indices`, with ``block`` the whole block
-    length (≥ 1) in place of the mean.
-    """
-    _check_sizes(n_source, n_target, n_paths)
-    if isinstance(block, bool) or not isinstance(block, int | np.integer) or block < 1:
-        raise InputError(
-            f"the block length is {block!r}; it must be a whole number of at least 1.",
-            hint="Use a whole number of intervals (or of days for day blocks).",
-        )
-    steps = np.arange(n_target)
-    origins = rng.integers(0, n_source, size=(n_paths, -(-n_target // block)))
-    return _wrap(origins[:, steps // block] + steps % block, n_source, n_target)
-
-
-#: The block schemes :func:`day_block_indices` can use over days.
-SCHEMES: dict[str, Callable[..., np.ndarray]] = {
-    "stationary": stationary_indices,
-    "circular": circular_indices,
-}
-
-
-def day_block_indices(
-    source_index: pd.DatetimeIndex,
-    target_index: pd.DatetimeIndex,
-    timezone: str,
-    block_days: float,
-    n_paths: int,
-    rng: np.random.Generator,
-    scheme: str = "stationary",
-) -> np.ndarray:
-    """Positions into the source for each target interval, drawn in blocks of whole days.
-
-    The source's whole local days are resampled with ``scheme`` (block length in days: the
-    mean for ``"stationary"``, fixed for ``"circular"``); each target interval then takes
-    the source interval at the same local clock time on the day drawn for its own local
-    day, so morning stays morning. Clock times missing on a drawn day (the hour skipped when
-    clocks go forward) take the next interval of that day; on the day clocks go back, the
-    repeated hour takes the first of the drawn day's two. Partial days at the source's
-    ends are not drawn.
-
-    Parameters
-    ----------
-    source_index : pandas.DatetimeIndex
-        Regular UTC interval starts of the series resampled (e.g. model residuals).
-    target_index : pandas.DatetimeIndex
-        Regular UTC interval starts, at the same interval, of the paths to fill.
-    timezone : str
-        The site's IANA zone whose days and clock times are kept.
-    block_days : float
-        Block length in days.
-    n_paths : int
-        Number of paths.
-    rng : numpy.random.Generator
-        Source of randomness.
-    scheme : {"stationary", "circular"}
-        How days are drawn.
-
-    Returns
-    -------
-    numpy.ndarray
-        ``(n_paths, len(target_index))`` int64 positions into ``source_index``.
-    """
-    if scheme not in SCHEMES:
-        raise ValueError(f"scheme must be one of {sorted(SCHEMES)}, not {scheme!r}")
-    interval = _regular_step(source_index, "source")
-    if _DAY % interval:
-        raise ValueError(f"day blocks need an interval that divides a day, not {interval}")
-    if len(target_index) > 1 and _regular_step(target_index, "target") != interval:
-        raise ValueError("the target index needs the source's interval")
-    table = _day_table(source_index, timezone, interval)
-    days, slots = _day_and_slot(target_index, timezone, interval)
-    days -= days.min()
-    drawn = SCHEMES[scheme](len(table), int(days.max()) + 1, block_days, n_paths, rng)
-    return table[drawn[:, days], slots]
-
-
 def _check_sizes(n_source: int, n_target: int, n_paths: int) -> None:
     if n_source < 1 or n_target < 1 or n_paths < 1:
         raise ValueError(
@@ -214,58 +128,3 @@ def _wrap(positions: np.ndarray, n_source: int, n_target: int) -> np.ndarray:
         return positions % n_source
     positions[positions >= n_source] -= n_source  # a single wrap; much faster than modulo
     return positions
-
-
-def _regular_step(index: pd.DatetimeIndex, what: str) -> pd.Timedelta:
-    if not isinstance(index, pd.DatetimeIndex) or str(index.tz) != "UTC" or len(index) < 2:
-        raise ValueError(f"the {what} needs a UTC DatetimeIndex of two or more interval starts")
-    steps = index[1:] - index[:-1]
-    if not (steps == steps[0]).all() or steps[0] <= pd.Timedelta(0):
-        raise ValueError(f"the {what} index must be regular and increasing")
-    return steps[0]
-
-
-def _day_and_slot(
-    index: pd.DatetimeIndex, timezone: str, interval: pd.Timedelta
-) -> tuple[np.ndarray, np.ndarray]:
-    """Local day number (days since 1970-01-01) and clock slot of each interval start."""
-    wall = index.tz_convert(timezone).tz_localize(None)
-    days = wall.normalize().to_numpy().astype("datetime64[D]").astype(np.int64)
-    seconds = (wall.hour * 3600 + wall.minute * 60 + wall.second).to_numpy()
-    return days, seconds // int(interval / _SECOND)
-
-
-def _day_table(index: pd.DatetimeIndex, timezone: str, interval: pd.Timedelta) -> np.ndarray:
-    """``(whole days, slots per day)`` source positions, one row per whole local day."""
-    days, slots = _day_and_slot(index, timezone, interval)
-    found, counts = np.unique(days, return_counts=True)
-    bounds = [
-        pd.DatetimeIndex(numbers.astype("datetime64[D]")).tz_localize(
-            timezone, ambiguous=True, nonexistent="shift_forward"
-        )
-        for numbers in (found, found + 1)
-    ]
-    whole = found[counts == (bounds[1] - bounds[0]) // interval]
-    if not whole.size:
-        raise InputError(
-            "the series to resample holds no whole local day.",
-            hint="Fit the model on at least a few whole days of readings.",
-        )
-    per_day = _DAY // interval
-    positions = np.flatnonzero(np.isin(days, whole))
-    cells = np.searchsorted(whole, days[positions]) * per_day + slots[positions]
-    cells, first = np.unique(cells, return_index=True)
-    table = np.full(whole.size * per_day, -1, dtype=np.int64)
-    table[cells] = positions[first]
-    return _fill_missing_slots(table.reshape(whole.size, per_day))
-
-
-def _fill_missing_slots(table: np.ndarray) -> np.ndarray:
-    """Give clock slots a day lacks the day's next interval (else its previous one)."""
-    missing = table < 0
-    if not missing.any():
-        return table
-    none = np.iinfo(np.int64).max
-    after = np.minimum.accumulate(np.where(missing, none, table)[:, ::-1], axis=1)[:, ::-1]
-    before = np.maximum.accumulate(table, axis=1)
-    return np.where(after == none, before, after)

@@ -16,7 +16,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from engine.bootstrap import day_block_indices, stationary_indices
+from engine.bootstrap import stationary_indices
 from engine.tariffs import cost_paths, read_tariff, tariff_from_dict
 
 ZONE = "America/Chicago"
@@ -66,9 +66,7 @@ def main() -> int:
         pd.Timestamp("2024-01-01", tz=ZONE), pd.Timestamp("2027-01-01", tz=ZONE), freq="h"
     ).tz_convert("UTC")[:-1]
     drew, _ = timed(lambda: stationary_indices(len(history), len(index), 168.0, PATHS, generator))
-    days, _ = timed(lambda: day_block_indices(history, index, ZONE, 7.0, PATHS, generator))
     print(f"stationary_indices {PATHS} x {len(index)} from {len(history)}: {drew:.3f} s")
-    print(f"day_block_indices  {PATHS} x {len(index)} from {len(history)}: {days:.3f} s")
 
     if max(seconds) > TARGET_SECONDS:
         print("cost_paths missed its target")

@@ -1,21 +1,16 @@
-"""Block bootstrap index generators: uniform draws, block lengths, kept dependence, day blocks."""
+"""The stationary block bootstrap: uniform draws, block lengths, kept dependence, and the
+automatic mean block length."""
 
 from __future__ import annotations
 
 import numpy as np
-import pandas as pd
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 from scipy import signal, stats
 from statsmodels.tsa.stattools import acf
 
-from engine.bootstrap import (
-    circular_indices,
-    day_block_indices,
-    stationary_block_length,
-    stationary_indices,
-)
+from engine.bootstrap import stationary_block_length, stationary_indices
 from engine.errors import InputError
 
 ZONE = "America/Chicago"
@@ -40,12 +35,9 @@ def block_starts(indices: np.ndarray, n_source: int) -> np.ndarray:
 # --- the draws --------------------------------------------------------------------------------
 
 
-@pytest.mark.parametrize(
-    "draw", [stationary_indices, circular_indices], ids=["stationary", "circular"]
-)
-def test_each_position_draws_uniformly_from_the_source(draw) -> None:
+def test_each_position_draws_uniformly_from_the_source() -> None:
     generator = np.random.default_rng(4101)
-    indices = draw(40, 300, 8, 4000, generator)
+    indices = stationary_indices(40, 300, 8, 4000, generator)
     assert indices.shape == (4000, 300)
     # Across independent paths, the index drawn at any one position is uniform over the
     # source (Politis & Romano 1994, from memory); Pearson's chi-square test, scipy.stats.
@@ -75,19 +67,11 @@ def test_stationary_blocks_have_geometric_lengths() -> None:
     assert stats.chisquare(observed, expected).pvalue > ALPHA
 
 
-def test_circular_blocks_have_the_fixed_length() -> None:
-    indices = circular_indices(10_000, 95, 10, 300, np.random.default_rng(4103))
-    starts = block_starts(indices, 10_000)
-    assert starts[:, ::10].all()
-    continuing = np.delete(starts, np.s_[::10], axis=1)
-    assert not continuing.any()
-
-
 def test_blocks_wrap_round_the_end_of_the_source() -> None:
     indices = stationary_indices(5, 400, 50.0, 20, np.random.default_rng(4104))
     after_last = indices[:, 1:][(indices[:, :-1] == 4)]
     assert (after_last == 0).mean() > 0.9  # long blocks carry on from 4 to 0
-    longer_than_source = circular_indices(7, 60, 20, 3, np.random.default_rng(4105))
+    longer_than_source = stationary_indices(7, 60, 20.0, 3, np.random.default_rng(4105))
     assert longer_than_source.max() < 7
 
 
@@ -102,13 +86,10 @@ def test_indices_stay_inside_the_source(
     n_source: int, n_target: int, mean_block: float, n_paths: int
 ) -> None:
     generator = np.random.default_rng(4106)
-    for indices in (
-        stationary_indices(n_source, n_target, mean_block, n_paths, generator),
-        circular_indices(n_source, n_target, int(mean_block), n_paths, generator),
-    ):
-        assert indices.shape == (n_paths, n_target)
-        assert indices.min() >= 0
-        assert indices.max() < n_source
+    indices = stationary_indices(n_source, n_target, mean_block, n_paths, generator)
+    assert indices.shape == (n_paths, n_target)
+    assert indices.min() >= 0
+    assert indices.max() < n_source
 
 
 # --- what the blocks keep ---------------------------------------------------------------------
@@ -139,79 +120,15 @@ def test_bootstrap_standard_error_of_the_mean_matches_the_long_run_formula() -> 
         [series[stationary_indices(n, n, 40.0, 100, generator)].mean(axis=1) for _ in range(8)]
     )
     assert means.std(ddof=1) == pytest.approx(long_run, rel=0.15)
-    circular = np.concatenate(
-        [series[circular_indices(n, n, 40, 100, generator)].mean(axis=1) for _ in range(8)]
-    )
-    assert circular.std(ddof=1) == pytest.approx(long_run, rel=0.15)
     # Single draws ignore the dependence: about sqrt((1 − φ)/(1 + φ)) = 0.58 of the truth.
     single = series[stationary_indices(n, n, 1.0, 300, generator)].mean(axis=1)
     assert single.std(ddof=1) < 0.75 * long_run
-
-
-# --- whole-day blocks -------------------------------------------------------------------------
-
-
-def hourly(first: str, hours: int) -> pd.DatetimeIndex:
-    return pd.date_range(pd.Timestamp(first, tz=ZONE), periods=hours, freq="h").tz_convert("UTC")
-
-
-def test_day_blocks_keep_the_local_clock_time() -> None:
-    source = hourly("2031-02-20 05:00", 24 * 60)  # over the March clock change, partial ends
-    target = hourly("2031-10-25 13:00", 24 * 20)  # over the November change, starts mid-day
-    indices = day_block_indices(source, target, ZONE, 4.0, 300, np.random.default_rng(4109))
-    assert indices.shape == (300, len(target))
-    source_local = source.tz_convert(ZONE)
-    drawn_hour = source_local.hour.to_numpy()[indices]
-    target_hour = np.broadcast_to(target.tz_convert(ZONE).hour.to_numpy(), indices.shape)
-    # Only 02:00 can differ: on 9 March 2031 it does not exist and the next hour stands in.
-    differs = drawn_hour != target_hour
-    assert (target_hour[differs] == 2).all()
-    assert (drawn_hour[differs] == 3).all()
-    assert differs.any()
-    drawn_days = source_local.normalize()[indices.ravel()]
-    first_whole, last_whole = (
-        pd.Timestamp("2031-02-21", tz=ZONE),
-        pd.Timestamp("2031-04-20", tz=ZONE),
-    )
-    assert drawn_days.min() >= first_whole  # the partial first and last days are never drawn
-    assert drawn_days.max() <= last_whole
-
-
-def test_day_blocks_follow_on_like_stationary_blocks_of_days() -> None:
-    source = hourly("2031-05-01 00:00", 24 * 150)  # no clock change inside
-    target = hourly("2031-06-01 00:00", 24 * 100)
-    indices = day_block_indices(source, target, ZONE, 5.0, 400, np.random.default_rng(4110))
-    day_of = indices[:, ::24] // 24  # the source has whole days from its first hour
-    assert (indices % 24 == np.arange(len(target)) % 24).all()
-    follows_on = day_of[:, 1:] == (day_of[:, :-1] + 1) % 150
-    # A new day block starts with probability 1/5 (plus a 1/150 chance of a lucky follow-on).
-    assert follows_on.mean() == pytest.approx(1 - 1 / 5 + 1 / 5 / 150, abs=0.01)
-    fixed = day_block_indices(
-        source, target, ZONE, 5, 50, np.random.default_rng(4111), scheme="circular"
-    )
-    fixed_days = fixed[:, ::24] // 24
-    within = np.delete(np.arange(99), np.s_[4::5])  # day pairs inside a 5-day block
-    assert (fixed_days[:, within + 1] == (fixed_days[:, within] + 1) % 150).all()
-
-
-def test_day_blocks_need_a_whole_day_and_a_known_scheme() -> None:
-    generator = np.random.default_rng(4112)
-    with pytest.raises(InputError, match="no whole local day"):
-        day_block_indices(
-            hourly("2031-05-01 03:00", 20), hourly("2031-06-01", 5), ZONE, 2, 1, generator
-        )
-    with pytest.raises(ValueError, match="scheme"):
-        day_block_indices(
-            hourly("2031-05-01", 48), hourly("2031-06-01", 5), ZONE, 2, 1, generator, "random"
-        )
 
 
 def test_block_lengths_below_one_are_refused() -> None:
     generator = np.random.default_rng(4113)
     with pytest.raises(InputError, match="mean block length"):
         stationary_indices(10, 10, 0.5, 1, generator)
-    with pytest.raises(InputError, match="block length is 0"):
-        circular_indices(10, 10, 0, 1, generator)
 
 
 def test_the_automatic_block_length_follows_politis_and_white() -> None:
