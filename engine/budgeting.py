@@ -6,7 +6,7 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass
-from datetime import date, timedelta
+from datetime import date
 from pathlib import Path
 
 import pandas as pd
@@ -17,6 +17,7 @@ from engine.budget import (
     WeatherAssumption,
     as_of_cut,
     backtest_budget,
+    plans_from_refits,
     rolling_refits,
     simulate_budget,
 )
@@ -166,21 +167,14 @@ def budget_project(
         )
     weather = _weather(request, hourly)
 
-    def plan(name: str, model: EnergyModel, residuals: pd.Series) -> MeterPlan:
+    plans = []
+    for name in names:
         tariff = request.tariff if utilities[name] == "electricity" else None
-        return MeterPlan(name, utilities[name], model, histories[name], calendar=calendar,
-                         residuals=residuals, tariff=tariff)  # fmt: skip
-
-    def plans_as_of(as_of: date) -> list[MeterPlan]:
-        at = as_of_cut(as_of, project.timezone)
-        month = f"{as_of + timedelta(days=1):%Y-%m}"
-        return [
-            plan(name, refits[name].model_for(month), refits[name].errors_before(at))
-            for name in names
-        ]
-
+        model = fresh(families[name]).fit(histories[name])
+        plans.append(MeterPlan(name, utilities[name], model, histories[name], calendar=calendar,
+                               residuals=refits[name].errors, tariff=tariff))  # fmt: skip
     past = backtest_budget(
-        plans_as_of,
+        plans_from_refits(plans, refits),
         histories,
         request.calibration_origins,
         weather=weather,
@@ -188,13 +182,8 @@ def budget_project(
         paths=min(request.paths, 300),
         error_days=ERROR_DAYS,
         rng=request.rng,
-        progress=_share(progress, 0.7, 0.85),
+        progress=_share(progress, 0.7, 0.9),
     )
-    step(progress, 0.85, "fitting the models on all the readings before the as-of date")
-    plans = [
-        plan(name, fresh(families[name]).fit(histories[name]), refits[name].errors)
-        for name in names
-    ]
     run = simulate_budget(
         plans,
         request.months,

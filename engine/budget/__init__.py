@@ -17,7 +17,7 @@ from engine.budget.backtest import BudgetBacktest, PlanFactory, backtest_budget,
 from engine.budget.calibration import calibrate, conformal_scale, rolling_calibration
 from engine.budget.periods import BudgetWindow, as_of_cut, as_of_date, budget_months
 from engine.budget.plan import MeterPlan
-from engine.budget.refits import RollingRefits, rolling_refits
+from engine.budget.refits import RollingRefits, plans_from_refits, rolling_refits
 from engine.budget.result import (
     BudgetRun,
     Calibration,
@@ -55,6 +55,7 @@ __all__ = [
     "calibrate",
     "conformal_scale",
     "month_total",
+    "plans_from_refits",
     "rolling_calibration",
     "rolling_refits",
     "simulate_budget",

@@ -15,13 +15,16 @@ calibration of the range sees exactly what a budget made then would have seen.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from collections.abc import Callable, Mapping, Sequence
+from dataclasses import dataclass, replace
+from datetime import date, timedelta
 
 import numpy as np
 import pandas as pd
 
 from engine.backtest import backtest_origins
-from engine.budget.periods import BudgetWindow
+from engine.budget.periods import BudgetWindow, as_of_cut
+from engine.budget.plan import MeterPlan
 from engine.errors import InputError
 from engine.models.base import EnergyModel, ModelInputs, fresh
 from engine.progress import Cancelled, Progress, step
@@ -99,3 +102,27 @@ def rolling_refits(
     empty = pd.Series([], index=pd.DatetimeIndex([], tz="UTC"), dtype=np.float64, name="error")
     errors = pd.concat(pieces) if pieces else empty
     return RollingRefits(models=models, errors=errors.dropna(), failed=failed)
+
+
+def plans_from_refits(
+    plans: Sequence[MeterPlan], refits: Mapping[str, RollingRefits]
+) -> Callable[[date], list[MeterPlan]]:
+    """A plan factory for :func:`engine.budget.backtest_budget` from each meter's refits.
+
+    As of a past day, each plan gets the model refitted before the following month and the
+    errors of the months that ended by then; everything else (history, calendar, price) is
+    the plan's own.
+    """
+
+    def as_of(day: date) -> list[MeterPlan]:
+        month = f"{day + timedelta(days=1):%Y-%m}"
+        made = []
+        for plan in plans:
+            cut = as_of_cut(day, plan.timezone)
+            chosen = refits[plan.name]
+            made.append(
+                replace(plan, model=chosen.model_for(month), residuals=chosen.errors_before(cut))
+            )
+        return made
+
+    return as_of

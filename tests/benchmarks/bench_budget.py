@@ -66,11 +66,11 @@ from engine.budget import (  # noqa: E402
     WeatherAssumption,
     backtest_budget,
     budget_months,
+    plans_from_refits,
     rolling_calibration,
     rolling_refits,
     simulate_budget,
 )
-from engine.budget.periods import local_midnight  # noqa: E402
 from engine.budgeting import ERROR_DAYS  # noqa: E402
 from engine.modelling import compare_models  # noqa: E402
 from engine.models.base import ModelInputs  # noqa: E402
@@ -249,25 +249,21 @@ def rolling_budgets(
             family_of[name] = family.label
             refits[name] = rolling_refits(family, inputs.window(end=end), 36)
 
-        def plans(as_of: date, refits=refits) -> list[MeterPlan]:
-            cut = local_midnight(as_of + pd.Timedelta(days=1), zone)
-            month = f"{as_of + pd.Timedelta(days=1):%Y-%m}"
-            return [
-                MeterPlan(
-                    name,
-                    utilities[name],
-                    refits[name].model_for(month),
-                    histories[name],
-                    residuals=refits[name].errors_before(cut),
-                )
-                for name in histories
-            ]
-
+        latest = [
+            MeterPlan(name, utilities[name], refits[name].models[max(refits[name].models)], inputs)
+            for name, inputs in histories.items()
+        ]
         refitted = sorted(set.intersection(*(set(r.models) for r in refits.values())))
         # the first refit month has no earlier errors; 12 months before ``first`` calibrate
         months = [month for month in refitted[1:] if month >= str(first - 12)]
         past = backtest_budget(
-            plans, histories, months, weather=weather, paths=500, error_days=ERROR_DAYS, rng=2
+            plans_from_refits(latest, refits),
+            histories,
+            months,
+            weather=weather,
+            paths=500,
+            error_days=ERROR_DAYS,
+            rng=2,
         )
         meters = past.pairs[past.pairs["kind"] == "meter"].dropna(subset=["actual kWh"])
         for name, rows in meters.groupby("name", sort=False):

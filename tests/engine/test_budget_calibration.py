@@ -24,6 +24,7 @@ from engine.budget import (
     budget_months,
     calibrate,
     conformal_scale,
+    plans_from_refits,
     rolling_calibration,
     rolling_refits,
     simulate_budget,
@@ -32,11 +33,9 @@ from engine.budget import (
     widen,
 )
 from engine.budget.calibration import MAX_SCALE
-from engine.budget.periods import as_of_cut
 from engine.errors import InputError
 from tests.engine.test_budget_campus import (
     METERS,
-    ZONE,
     Campus,
     WeekSlotDegreeModel,
     campus_plans,
@@ -93,13 +92,14 @@ def test_ranges_half_as_wide_as_they_should_be_are_doubled() -> None:
 
 
 def test_a_range_near_its_nominal_coverage_is_left_alone() -> None:
-    # Off when an honest 80 % range holds so few (or so many) months less than one time in
-    # ten: Binomial(12, 0.8) gives P(X ≤ 7) = 0.073, P(X ≤ 8) = 0.205, P(X = 12) = 0.8¹² =
-    # 0.069; Binomial(40, 0.8) gives P(X ≤ 28) ≈ 0.08, P(X ≤ 29) ≈ 0.16, P(X ≥ 36) ≈ 0.08,
-    # P(X ≥ 35) ≈ 0.16 (binomial tails; 0.8¹² by hand).
+    # Widened when an honest 80 % range holds so few months less than one time in ten,
+    # narrowed when it holds so many less than one time in twenty: Binomial(12, 0.8) gives
+    # P(X ≤ 7) = 0.073, P(X ≤ 8) = 0.205, P(X = 12) = 0.8¹² = 0.069; Binomial(40, 0.8) gives
+    # P(X ≤ 28) ≈ 0.088, P(X ≤ 29) ≈ 0.16, P(X ≥ 37) ≈ 0.028, P(X ≥ 36) ≈ 0.076 (binomial
+    # tails; 0.8¹² by hand).
     for months, held, corrected in (
-        (40, 29, False), (40, 35, False), (40, 28, True), (40, 36, True),
-        (12, 8, False), (12, 11, False), (12, 7, True), (12, 12, True),
+        (40, 29, False), (40, 36, False), (40, 28, True), (40, 37, True),
+        (12, 8, False), (12, 12, False), (12, 7, True),
     ):  # fmt: skip
         ones = np.ones(months)
         actual = np.r_[np.linspace(-0.9, 0.9, held), np.full(months - held, 5.0)]
@@ -128,23 +128,12 @@ def past(campus: Campus) -> BudgetBacktest:
     refits = {name: rolling_refits(WeekSlotDegreeModel(), inputs, 60)
               for name, inputs in campus.inputs.items()}  # fmt: skip
     utility = {meter.name: meter.utility for meter in METERS}
-
-    def plans(as_of: date) -> list[MeterPlan]:
-        cut = as_of_cut(as_of, ZONE)
-        month = f"{as_of + pd.Timedelta(days=1):%Y-%m}"
-        return [
-            MeterPlan(
-                name,
-                utility[name],
-                refits[name].model_for(month),
-                inputs,
-                residuals=refits[name].errors_before(cut),
-            )
-            for name, inputs in campus.inputs.items()
-        ]
-
+    latest = [
+        MeterPlan(name, utility[name], refits[name].models[max(refits[name].models)], inputs)
+        for name, inputs in campus.inputs.items()
+    ]
     return backtest_budget(
-        plans,
+        plans_from_refits(latest, refits),
         campus.inputs,
         48,
         weather=WeatherAssumption.past_years(campus.weather, years=5, draws=10),
