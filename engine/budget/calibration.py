@@ -5,10 +5,12 @@ The check: over past origins (month-ahead budgets made before each month, see
 P-low–P-high range. The range is *off* when the share held differs from the nominal coverage
 ``c`` (80 % for P10–P90) by more than an honest range's own luck would explain, and at least
 ``min_months`` months were tried: the count held is off when an honest range would hold so
-few, or so many, months less than one time in ten (binomial tail probability under
-``tail``, default 0.10, on either side). For a year of months and an 80 % range, 7 or fewer
-held is widened, 12 of 12 narrowed, 8 to 11 left alone; for forty months, 28 or fewer and 36
-or more are corrected. A fixed ``tolerance`` (a share) may be given instead.
+few months less than one time in ten (binomial tail probability under :data:`WIDEN_TAIL`), or
+so many less than one time in twenty (:data:`NARROW_TAIL`). A budget whose range is too narrow
+misleads more than one too wide, so narrowing asks for the stronger evidence: for a year of
+months and an 80 % range, 7 or fewer held is widened and 8 to 12 left alone (12 of 12 happens
+one year in fifteen); for forty months, 28 or fewer is widened and 37 or more narrowed. A fixed
+``tolerance`` (a share either side) may be given instead.
 
 The correction is conformal-style scaling (after split-conformal prediction: Vovk, Gammerman &
 Shafer 2005; Lei et al. 2018, "Distribution-free predictive inference for regression", from
@@ -50,6 +52,10 @@ from engine.errors import InputError
 
 #: Fewest past months from which a range is corrected.
 MIN_MONTHS = 12
+#: A count held this unlikely (or less) for an honest range, on the low side, widens it.
+WIDEN_TAIL = 0.10
+#: The same on the high side narrows it: stronger evidence, since narrow ranges mislead more.
+NARROW_TAIL = 0.05
 #: Largest factor a range is widened by; beyond it the model is not fit for budgeting.
 MAX_SCALE = 5.0
 
@@ -81,7 +87,6 @@ def calibrate(
     level_high: int = 90,
     tolerance: float | None = None,
     min_months: int = MIN_MONTHS,
-    tail: float = 0.10,
 ) -> Calibration:
     """The coverage of past month-total ranges and, when it is off, a scale that corrects it.
 
@@ -126,11 +131,12 @@ def calibrate(
     if tried < min_months:
         return unchanged(f"{tried} past months are fewer than the {min_months} needed")
     if tolerance is None:
-        luck = min(binom.cdf(held, tried, coverage), binom.sf(held - 1, tried, coverage))
-        if luck >= tail:
+        few = binom.cdf(held, tried, coverage)  # this many held, or fewer
+        many = binom.sf(held - 1, tried, coverage)  # this many held, or more
+        if few >= WIDEN_TAIL and many >= NARROW_TAIL:
             return unchanged(
-                f"{held} of {tried} is what an honest {nominal} range holds at least one time "
-                f"in {round(1 / tail)} (binomial tail probability {luck:.2f})"
+                f"{held} of {tried} is a count an honest {nominal} range gives (binomial tail "
+                f"probabilities {few:.2f} for as few, {many:.2f} for as many)"
             )
     elif abs(held - coverage * tried) <= tolerance * tried + 1e-9:
         return unchanged(f"{held} of {tried} is within {tolerance:.0%} of the nominal {nominal}")
@@ -154,7 +160,6 @@ def rolling_calibration(
     level_high: int = 90,
     first: int = MIN_MONTHS,
     tolerance: float | None = None,
-    tail: float = 0.10,
     window: int = CALIBRATION_WINDOW,
     min_months: int = MIN_MONTHS,
 ) -> pd.DataFrame:
@@ -185,7 +190,6 @@ def rolling_calibration(
             level_high=level_high,
             tolerance=tolerance,
             min_months=min_months,
-            tail=tail,
         ).scale
         month = pairs.iloc[position]
         middle = month["mean kWh"]
