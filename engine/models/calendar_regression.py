@@ -117,7 +117,7 @@ class CalendarRegressionModel(ModelFamily):
     """
 
     family = "calendar_regression"
-    label = "calendar regression with weather"
+    label = "calendar regression"
     explainable = True
 
     def __init__(
