@@ -11,7 +11,7 @@ ROOT = Path(__file__).resolve().parents[2]
 SAMPLE = ROOT / "sample" / "data"
 SCREENS = ROOT / "out" / "screens"
 SITE_ZONE = "America/Chicago"
-TASK_TIMEOUT_MS = 30_000
+TASK_TIMEOUT_MS = 120_000  # generous: a loaded 2-core machine runs a budget slowly
 
 
 def save_screen(widget, name: str) -> Path:
