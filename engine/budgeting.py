@@ -11,6 +11,7 @@ from pathlib import Path
 
 import pandas as pd
 
+from engine.bill_prices import BillPrice, bill_prices
 from engine.budget import (
     BudgetRun,
     MeterPlan,
@@ -40,6 +41,8 @@ from engine.reading import ReadOptions, read_weather_file
 from engine.tariffs import Tariff, read_tariff
 
 WEATHER_CHOICES = ("typical", "past-years")
+#: The bills' currency unless told otherwise (bills store plain amounts).
+DEFAULT_CURRENCY = "USD"
 #: Fewest simulated paths that make a range.
 MIN_PATHS = 100
 #: Months of out-of-sample errors a budget draws its model error from.
@@ -60,6 +63,7 @@ class BudgetRequest:
     calibration_origins: int = 12
     tariff: Tariff | None = None
     given_weather: pd.Series | None = None  # °C, for a weather file
+    currency: str = DEFAULT_CURRENCY  # of the bills' costs (a rate card states its own)
     rng: int = 20261201
 
 
@@ -83,13 +87,16 @@ def budget_request(
     levels: Sequence[int] = (10, 50, 90),
     paths: int = 1000,
     tariff_file: str | Path | None = None,
+    currency: str | None = None,
 ) -> BudgetRequest:
     """A checked request for ``project``; the files it names are read now, so their problems
     show before any work starts.
 
     ``as_of`` defaults to the last day with a reading; ``weather`` is one of
     :data:`WEATHER_CHOICES` or the path of a temperature file (read on the project's clock);
-    ``tariff_file`` a rate card for the electricity meters.
+    ``tariff_file`` a rate card for the electricity meters; ``currency`` that of the bills'
+    costs, which price the meters no rate card covers (default: the rate card's currency, else
+    :data:`DEFAULT_CURRENCY`).
     """
     given = None
     if weather not in WEATHER_CHOICES:
@@ -104,14 +111,20 @@ def budget_request(
         raise InputError(
             f"{paths} paths are too few for a range.", hint=f"Use {MIN_PATHS} or more."
         )
+    tariff = read_tariff(tariff_file) if tariff_file else None
+    if currency is not None and not (len(currency) == 3 and currency.isalpha()):
+        raise InputError(
+            f"the currency '{currency}' is not a three-letter code.", hint="e.g. USD, EUR, CAD."
+        )
     return BudgetRequest(
         months=list(months),
         as_of=as_of if as_of is not None else last_reading_day(project),
         weather=weather,
         levels=check_levels(levels),
         paths=paths,
-        tariff=read_tariff(tariff_file) if tariff_file else None,
+        tariff=tariff,
         given_weather=given,
+        currency=(currency or (tariff.currency if tariff else DEFAULT_CURRENCY)).upper(),
     )
 
 
@@ -167,12 +180,13 @@ def budget_project(
         )
     weather = _weather(request, hourly)
 
+    prices = bill_prices(project)
     plans = []
     for name in names:
-        tariff = request.tariff if utilities[name] == "electricity" else None
         model = fresh(families[name]).fit(histories[name])
         plans.append(MeterPlan(name, utilities[name], model, histories[name], calendar=calendar,
-                               residuals=refits[name].errors, tariff=tariff))  # fmt: skip
+                               residuals=refits[name].errors,
+                               **_price(utilities[name], request, prices)))  # fmt: skip
     past = backtest_budget(
         plans_from_refits(plans, refits),
         histories,
@@ -205,6 +219,12 @@ def budget_project(
             "budgets, each from the model and errors known before its month",
         }
     )
+    priced_by_bills = {plan.utility for plan in plans if plan.rate is not None}
+    if priced_by_bills:
+        run.assumptions["prices from bills"] = {
+            utility: prices[utility].sentence(request.currency)
+            for utility in sorted(priced_by_bills)
+        }
     step(progress, 1.0, "budget ready")
     return ProjectBudget(
         run=run,
@@ -213,6 +233,16 @@ def budget_project(
         scorecards=scorecards,
         data_range={name: _range(histories[name]) for name in names},
     )
+
+
+def _price(utility: str, request: BudgetRequest, prices: dict[str, BillPrice]) -> dict:
+    """How a meter of ``utility`` is costed: the rate card (electricity), else its utility's
+    bills, else not at all."""
+    if utility == "electricity" and request.tariff is not None:
+        return {"tariff": request.tariff}
+    if utility in prices:
+        return {"rate": prices[utility].rate, "currency": request.currency}
+    return {}
 
 
 def _share(progress: Progress | None, start: float, stop: float) -> Progress | None:

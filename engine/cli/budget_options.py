@@ -21,6 +21,7 @@ def request_from_args(args: argparse.Namespace, project: Project) -> BudgetReque
         levels=_levels(args.levels),
         paths=args.paths,
         tariff_file=args.tariff,
+        currency=args.currency,
     )
 
 

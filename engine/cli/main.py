@@ -117,6 +117,12 @@ def build_parser() -> argparse.ArgumentParser:
     )
     budget.add_argument("--tariff", metavar="FILE", help="rate card for the electricity meters")
     budget.add_argument(
+        "--currency",
+        metavar="CODE",
+        help="currency of the bills' costs, which price the meters no rate card covers "
+        "(default: the rate card's, else USD)",
+    )
+    budget.add_argument(
         "--levels", default="10,50,90", metavar="LIST", help="quantile levels in %% (10,50,90)"
     )
     budget.add_argument("--paths", type=int, default=1000, metavar="N", help="paths (1000)")
