@@ -5,7 +5,7 @@ rolling month-ahead budgets, the simulated run, and everything the finance workb
 from __future__ import annotations
 
 from collections.abc import Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from datetime import date
 from pathlib import Path
 
@@ -39,6 +39,7 @@ from engine.progress import Progress, step
 from engine.project import Project
 from engine.reading import ReadOptions, read_weather_file
 from engine.tariffs import Tariff, read_tariff
+from engine.weather import typical_year
 
 WEATHER_CHOICES = ("typical", "past-years")
 #: The bills' currency unless told otherwise (bills store plain amounts).
@@ -165,20 +166,25 @@ def budget_project(
     calendar = stored_calendar(project) or CampusCalendar()
     utilities = {m["name"]: m["utility"] for m in project.summary()["meters"]}
     hourly = hourly_weather(project, as_of=cut)
+    weather, no_weather = _weather(request, hourly, project.timezone)
+    if no_weather:
+        hourly = None
     refit_months = request.calibration_origins + ERROR_MONTHS
     histories, families, scorecards, refits = {}, {}, {}, {}
     for done, name in enumerate(names):
         share = _share(progress, 0.7 * done / len(names), 0.7 * (done + 1) / len(names))
         everything = meter_inputs(project, name)
         histories[name] = everything.window(end=cut)
+        if no_weather:
+            histories[name] = replace(histories[name], temperature=None)
         families[name], scorecards[name] = _family_and_scores(
             project, name, histories[name], hourly,
-            ignores_later=everything.index[-1] >= cut, progress=_share(share, 0.0, 0.8),
+            stored=not no_weather, storable=everything.index[-1] < cut,
+            progress=_share(share, 0.0, 0.8),
         )  # fmt: skip
         refits[name] = rolling_refits(
             families[name], histories[name], refit_months, progress=_share(share, 0.8, 1.0)
         )
-    weather = _weather(request, hourly)
 
     prices = bill_prices(project)
     plans = []
@@ -219,6 +225,8 @@ def budget_project(
             "budgets, each from the model and errors known before its month",
         }
     )
+    if no_weather:
+        run.cautions.append(no_weather)
     priced_by_bills = {plan.utility for plan in plans if plan.rate is not None}
     if priced_by_bills:
         run.assumptions["prices from bills"] = {
@@ -255,16 +263,19 @@ def _family_and_scores(
     history: ModelInputs,
     hourly: pd.Series | None,
     *,
-    ignores_later: bool,
+    stored: bool,
+    storable: bool,
     progress: Progress | None,
 ) -> tuple[EnergyModel, dict]:
     """The meter's model, unfitted, and its backtest scores.
 
-    The stored choice when there is one (the user's); otherwise the fit wizard's, made on the
-    readings before the as-of date and stored only when no reading comes after it.
+    The stored choice when there is one and ``stored`` allows it (the user's; not when the
+    budget drops the weather it was made with); otherwise the fit wizard's, made on
+    ``history``, and stored when ``storable`` (no reading after the as-of date, same inputs).
     """
-    if project.results("model", name) or not ignores_later:
-        if not project.results("model", name):
+    has_choice = stored and bool(project.results("model", name))
+    if has_choice or (stored and storable):
+        if not has_choice:
             fit_meter(project, name, progress=progress)
         model, choice = chosen_model(project, name)
     else:
@@ -281,15 +292,32 @@ def _family_and_scores(
     return fresh(model), ranking.get(model.family, {})
 
 
-def _weather(request: BudgetRequest, temps: pd.Series | None) -> WeatherAssumption:
-    """The weather assumption asked for, from the hourly history before the as-of cut."""
+def _weather(
+    request: BudgetRequest, temps: pd.Series | None, timezone: str
+) -> tuple[WeatherAssumption, str]:
+    """The weather assumption asked for, from the hourly history before the as-of cut, and
+    why the budget goes without weather when that history cannot give it ("" when it can).
+
+    Typical and past years' weather need a typical year, so a year of temperatures; with
+    less, the models run on the calendar alone rather than on a climate the tool would have
+    to invent, and the budget says so.
+    """
     if request.given_weather is not None:
-        return WeatherAssumption.given(request.given_weather)
+        return WeatherAssumption.given(request.given_weather), ""
     if temps is None:
-        return WeatherAssumption.none()
+        return WeatherAssumption.none(), ""
+    try:
+        typical_year(temps.dropna(), timezone)
+    except InputError as error:
+        return WeatherAssumption.none(), (
+            "The budget runs without weather: the temperatures before the as-of date cannot "
+            f"give a typical year ({error.message.rstrip('.')}). Its models use the calendar "
+            "alone; give a temperature file for the budget months, or a year of weather "
+            "history, to budget with weather."
+        )
     if request.weather == "past-years":
-        return WeatherAssumption.past_years(temps)
-    return WeatherAssumption.typical(temps)
+        return WeatherAssumption.past_years(temps), ""
+    return WeatherAssumption.typical(temps), ""
 
 
 def _quality(project: Project, name: str) -> dict:

@@ -119,3 +119,18 @@ def test_one_shot_needs_files_or_a_project_not_both(site):
     done = _run("budget", project, "--meters", folder / "campus.csv", "--start", "2026-01",
                 expect=2)  # fmt: skip
     assert "either a project" in done.stderr
+
+
+def test_without_a_year_of_weather_the_budget_runs_on_the_calendar_and_says_so(site):
+    """Four months of history cannot give a typical year: no invented climate, a caution."""
+    project, _, frame = site
+    done = _run("budget", project, "--start", "2024-05", "--as-of", "2024-04-30",
+                "--paths", "200", "--json")  # fmt: skip
+    report = json.loads(done.stdout)
+    assert any("runs without weather" in caution for caution in report["cautions"])
+    assert report["weather"].startswith("no weather")
+    hall = next(m for m in report["meters"] if m["name"] == "Hall")
+    may = frame.loc["2024-05", "Hall"].sum()
+    q = hall["months"][0]["quantiles"]
+    assert q["10"] <= q["50"] <= q["90"]
+    assert 0.8 * may < q["50"] < 1.2 * may  # the hall's weekly rhythm carries most of it
