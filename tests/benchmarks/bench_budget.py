@@ -1,7 +1,7 @@
 """Speed, memory and calibration of the budget engine.
 
 Run with ``.venv/bin/python tests/benchmarks/bench_budget.py`` (not collected by pytest; add
-``sample`` to run only the sample-campus section, ``calibration`` for sections (a) and (b)).
+``sample`` to run only the sample-campus section, ``calibration`` for sections (a), (b), (d)).
 It prints the figures and exits with
 status 1 when a target is missed.
 
@@ -26,6 +26,11 @@ before it; see :func:`rolling_budgets`), on
     no weather, so calendar-only models; 36 months December 2007 – November 2010 scored. The
     packaged file fills the minutes UCI lists as missing with the same minute a day earlier (see
     ``tests/engine/test_cleaning_household.py``); they are kept here.
+
+(d) the roll-up against the known truth: the synthetic campus's three meters budgeted together
+    (typical weather, so the spread is the noise's) beside 20,000 draws of the true process with
+    its documented cross-meter correlation, the sum of the meters' ranges and their independent
+    combination (:func:`roll_up_against_truth`).
 
 (c) "sample campus": the bundled Orrinvale College project (``out/sample-campus.loadledger``,
     made by ``bash installer/run-sample.sh``; a copy is budgeted, models are fitted on it
@@ -81,6 +86,7 @@ from tests.engine.test_budget_campus import (  # noqa: E402
     CampusMeter,
     campus_plans,
     make_campus,
+    true_campus_totals,
 )
 
 PATHS = 1000
@@ -356,6 +362,34 @@ def calibration() -> None:
     table(title, budgets, chosen, household)
 
 
+def roll_up_against_truth() -> None:
+    """Section (d): the campus roll-up's P10–P90 against the true process's (known truth)."""
+    campus = make_campus(seed=11)
+    as_of = date(2023, 12, 31)
+    plans = campus_plans(campus, as_of)
+    assumption = WeatherAssumption.typical(campus.weather)
+    print("\n(d) campus roll-up against the known truth (synthetic campus, daily, typical weather)")
+    print(
+        f"  {'month':<9}{'roll-up P10–P90':>16}{'truth':>10}{'Σ meters':>10}"
+        f"{'independent':>13}   (widths in MWh; truth: 20,000 draws of the true process)"
+    )
+    for month in ("2024-01", "2024-04", "2024-07", "2024-10"):
+        run = simulate_budget(plans, [month], as_of, assumption, paths=4000, error_days=1800,
+                              rng=12)  # fmt: skip
+        truth = true_campus_totals(campus, month, assumption, as_of, draws=20_000, seed=77)
+        true_width = np.subtract(*np.percentile(truth, [90, 10]))
+        spread = run.campus.months[0].energy.quantiles
+        widths = np.array(
+            [m.months[0].energy.quantiles["90"] - m.months[0].energy.quantiles["10"]
+             for m in run.meters]
+        )  # fmt: skip
+        print(
+            f"  {month:<9}{(spread['90'] - spread['10']) / 1e3:>16.1f}{true_width / 1e3:>10.1f}"
+            f"{widths.sum() / 1e3:>10.1f}{np.sqrt((widths**2).sum()) / 1e3:>13.1f}"
+        )
+    print("  Σ meters = adding the meters' ranges; independent = combining them as independent")
+
+
 SAMPLE_PROJECT = ROOT / "out" / "sample-campus.loadledger"
 
 
@@ -404,11 +438,13 @@ def main() -> int:
     if sys.argv[1:] == ["sample"]:  # only section (c)
         sample_campus()
         return 0
-    if sys.argv[1:] == ["calibration"]:  # only sections (a) and (b)
+    if sys.argv[1:] == ["calibration"]:  # only sections (a), (b) and (d)
         calibration()
+        roll_up_against_truth()
         return 0
     missed = speed()
     calibration()
+    roll_up_against_truth()
     sample_campus()
     if missed:
         print("missed: " + ", ".join(missed))

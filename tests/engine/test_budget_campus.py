@@ -196,6 +196,29 @@ def make_campus(
     return Campus(inputs, weather)
 
 
+def true_campus_totals(
+    campus: Campus, month: str, assumption: WeatherAssumption, as_of: date, draws: int, seed: int
+) -> np.ndarray:
+    """The campus's total for ``month`` drawn ``draws`` times from the true (daily) process
+    under the first weather scenario of ``assumption``: fresh noise with the documented AR(1)
+    and cross-meter correlation, the known structure, the same temperatures."""
+    window = BudgetWindow.of([month], ZONE)
+    cut = local_midnight(as_of + pd.Timedelta(days=1), ZONE)
+    scenario = weather_scenarios(assumption, window, cut)
+    temperature = day_means(pd.Series(scenario.hourly[0], index=window.hours)).to_numpy()
+    days = window.day_midnights()
+    rng = np.random.default_rng(seed)
+    noise = day_noise(len(days), rng, draws=draws)
+    day = np.arange(len(days))
+    return np.sum(
+        [
+            true_energy(meter, days, temperature, noise[:, number], day, False, rng).sum(axis=1)
+            for number, meter in enumerate(METERS)
+        ],
+        axis=0,
+    )
+
+
 class WeekSlotDegreeModel:
     """Test model: a mean per week slot (local weekday, or hour of week) plus degree terms.
 

@@ -26,7 +26,6 @@ from engine.budget import (
     summarise,
 )
 from engine.budget.periods import BudgetWindow, as_of_cut
-from engine.budget.weather_paths import weather_scenarios
 from engine.errors import InputError
 from engine.models.base import ModelInputs
 from engine.progress import Cancelled, Progress
@@ -36,10 +35,8 @@ from tests.engine.test_budget_campus import (
     Campus,
     WeekSlotDegreeModel,
     campus_plans,
-    day_means,
-    day_noise,
     make_campus,
-    true_energy,
+    true_campus_totals,
 )
 
 AS_OF = date(2024, 3, 15)
@@ -166,32 +163,18 @@ def test_the_campus_range_is_the_true_range_of_the_sum(
     Typical weather fixes the weather, so the spread is the noise's; the truth draws fresh
     noise with the documented AR(1) and cross-meter correlation. Adding the meters' ranges
     (perfect dependence) or combining them as independent would both miss it by > 15 %.
-    Month-long blocks over five years of errors keep the bootstrap's own shortfall small: the
-    stationary bootstrap keeps a lag-k correlation only with probability (1 − 1/m)^k, so with
-    the default week-long mean block about 5 % of this AR(1)'s month-total standard deviation
-    is lost (the calibration step corrects such shortfalls).
+    The errors are resampled with the block length the budget chooses itself (Politis &
+    White 2004, from the errors' autocorrelation): the stationary bootstrap keeps a lag-k
+    correlation only with probability (1 − 1/m)^k, so too short a block would lose part of
+    this AR(1)'s month-total spread (the calibration step corrects such shortfalls).
     """
     month = "2024-04"
     assumption = WeatherAssumption.typical(campus.weather)
-    totals = simulate_paths(
-        plans, [month], AS_OF, assumption, paths=4000, block_days=30, error_days=1800, rng=12
-    )
+    totals = simulate_paths(plans, [month], AS_OF, assumption, paths=4000, error_days=1800, rng=12)
+    assert 1 < totals.block_days < 30
     run = summarise(totals)
 
-    window = BudgetWindow.of([month], ZONE)
-    scenario = weather_scenarios(assumption, window, as_of_cut(AS_OF, ZONE))
-    temperature = day_means(pd.Series(scenario.hourly[0], index=window.hours)).to_numpy()
-    days = window.day_midnights()
-    rng = np.random.default_rng(77)
-    noise = day_noise(len(days), rng, draws=20_000)
-    day = np.arange(len(days))
-    truth = np.sum(
-        [
-            true_energy(meter, days, temperature, noise[:, number], day, False, rng).sum(axis=1)
-            for number, meter in enumerate(METERS)
-        ],
-        axis=0,
-    )
+    truth = true_campus_totals(campus, month, assumption, AS_OF, draws=20_000, seed=77)
     true_p10, true_p50, true_p90 = np.percentile(truth, [10, 50, 90])
     true_width = true_p90 - true_p10
     spread = run.campus.months[0].energy.quantiles
