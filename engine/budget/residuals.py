@@ -28,8 +28,9 @@ from engine.errors import InputError
 MIN_POOL_DAYS = 28
 
 
-def model_errors(plan: MeterPlan, cut: pd.Timestamp, days: int) -> tuple[pd.Series, str]:
-    """The meter's errors (actual − predicted) in the ``days`` before the cut, and their source.
+def model_errors(plan: MeterPlan, cut: pd.Timestamp, days: int) -> tuple[pd.Series, pd.Series, str]:
+    """The meter's errors (actual − predicted) in the ``days`` before the cut, the forecasts
+    they were errors of (actual − error, on the same intervals), and their source.
 
     Out-of-sample errors from the plan when it has them, else the fit period's residuals
     (the model predicting its own history).
@@ -48,10 +49,13 @@ def model_errors(plan: MeterPlan, cut: pd.Timestamp, days: int) -> tuple[pd.Seri
         predicted = np.asarray(plan.model.predict(history.without_energy()), dtype=np.float64)
         errors = history.energy - predicted
         source = "fit-period residuals"
+    forecasts = plan.history.energy.reindex(errors.index) - errors
     native = native_interval(plan.history)
     if native < HOUR and len(errors):
-        errors = hourly_sums(errors, native, errors.index[0].floor("h"))
-    return errors.astype(np.float64), source
+        first_hour = errors.index[0].floor("h")
+        errors = hourly_sums(errors, native, first_hour)
+        forecasts = hourly_sums(forecasts, native, first_hour)
+    return errors.astype(np.float64), forecasts.astype(np.float64), source
 
 
 def _day_numbers(local: pd.DatetimeIndex) -> np.ndarray:
@@ -113,3 +117,44 @@ def error_block_days(tables: list[pd.DataFrame], pool: np.ndarray) -> float:
     dependence (a month-long bias stays a month long), and a shorter one loses nothing.
     """
     return max(stationary_block_length(table.loc[pool].sum(axis=1).to_numpy()) for table in tables)
+
+
+def level_elasticity(day_errors: np.ndarray, day_forecasts: np.ndarray) -> float:
+    """How the size of a day's error grows with the day's forecast: ``b`` in ``sd ∝ level^b``.
+
+    The days are sorted by forecast into up to ten groups of equal size (at least five days
+    each); ``b`` is the slope of the log of each group's root-mean-square error on the log of
+    its mean forecast (a grouped form of the Park 1966 regression for heteroscedasticity,
+    from memory: grouping keeps single tiny errors, whose logs are far below the rest, from
+    pulling the slope). It is kept between 0 (errors the same size whatever the load:
+    additive) and 1 (errors in proportion to it). Fewer than :data:`MIN_POOL_DAYS` usable
+    days, or forecasts that hardly vary, give 0.
+    """
+    usable = (day_forecasts > 0) & np.isfinite(day_errors) & np.isfinite(day_forecasts)
+    if usable.sum() < MIN_POOL_DAYS:
+        return 0.0
+    order = np.argsort(day_forecasts[usable])
+    groups = np.array_split(order, min(10, int(usable.sum()) // 5))
+    errors, forecasts = day_errors[usable], day_forecasts[usable]
+    level = np.log([forecasts[group].mean() for group in groups])
+    size = np.array([np.sqrt(np.mean(errors[group] ** 2)) for group in groups])
+    if np.ptp(level) < 0.1 or not (size > 0).all():  # a flat load, or exact forecasts
+        return 0.0
+    slope = np.polyfit(level, np.log(size), 1)[0]
+    return float(np.clip(slope, 0.0, 1.0))
+
+
+def level_factors(
+    budget_levels: np.ndarray, drawn_levels: np.ndarray, elasticity: float
+) -> np.ndarray:
+    """Per path and budget day, the factor on a drawn day's errors: ``(budget / drawn)^b``.
+
+    A day drawn from a light-load season and laid on a heavy-load budget day grows with the
+    load, and the other way round; the ratio is kept within 1/3 and 3 so that a nearly idle
+    day never scales an error beyond what the pool's own days show, and days without a
+    positive forecast keep their errors as drawn.
+    """
+    with np.errstate(divide="ignore", invalid="ignore"):
+        ratio = budget_levels / drawn_levels
+    usable = (budget_levels > 0) & (drawn_levels > 0)
+    return np.where(usable, np.clip(ratio, 1 / 3, 3.0) ** elasticity, 1.0)

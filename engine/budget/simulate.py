@@ -40,7 +40,14 @@ from engine.budget.meter_grid import (
 )
 from engine.budget.periods import BudgetWindow, as_of_cut, as_of_date
 from engine.budget.plan import MeterPlan
-from engine.budget.residuals import error_block_days, error_table, model_errors, shared_pool
+from engine.budget.residuals import (
+    error_block_days,
+    error_table,
+    level_elasticity,
+    level_factors,
+    model_errors,
+    shared_pool,
+)
 from engine.budget.weather_paths import WeatherAssumption, WeatherScenarios, weather_scenarios
 from engine.errors import InputError
 from engine.progress import Progress, step
@@ -58,7 +65,8 @@ class MeterPaths:
     ``cost`` is ``(paths, months)`` in ``currency`` (None without a price);
     ``actual_to_date`` the metered kWh before the cut in each month (part of every path);
     ``day_floor`` the least kWh each day can hold (the path floor times the day's intervals),
-    which a calibration's widening respects.
+    which a calibration's widening respects; ``error_growth`` the power of the forecast level
+    the drawn errors were scaled with (:func:`engine.budget.residuals.level_elasticity`).
     """
 
     plan: MeterPlan
@@ -68,6 +76,7 @@ class MeterPaths:
     actual_to_date: np.ndarray
     errors_source: str
     day_floor: np.ndarray | None = None
+    error_growth: float = 0.0
 
 
 @dataclass
@@ -106,12 +115,17 @@ class _Meter:
     known: np.ndarray
     floor: float
     table: pd.DataFrame
+    day_forecasts: pd.Series  # the forecast each error day's errors were errors of, kWh
+    elasticity: float  # errors grow with the forecast level to this power
+    day_predicted: np.ndarray  # the budget's predicted kWh per scenario and budget day
     out: MeterPaths
     errors: np.ndarray | None = None
+    drawn_levels: np.ndarray | None = None
 
     def use_pool(self, pool: np.ndarray) -> None:
         """Keep the errors of the pool's days, flattened day by day for fast gathering."""
         self.errors = self.table.loc[pool].to_numpy(dtype=np.float64).ravel()
+        self.drawn_levels = self.day_forecasts.loc[pool].to_numpy(dtype=np.float64)
 
 
 def _check_plans(meters: Sequence[MeterPlan]) -> str:
@@ -173,6 +187,7 @@ def _prepare(
     cut: pd.Timestamp,
     paths: int,
     errors: pd.Series,
+    forecasts: pd.Series,
     source: str,
 ) -> _Meter:
     grid = MeterGrid.on(window, simulation_step(plan))
@@ -196,18 +211,30 @@ def _prepare(
         day_floor=lowest * np.diff(np.r_[grid.day_starts, len(grid.index)]),
     )
     table = error_table(errors, plan.timezone, grid.step)
-    return _Meter(plan, grid, predicted, known_at, known[known_at], lowest, table, out)
+    day_forecasts = error_table(forecasts, plan.timezone, grid.step).reindex(table.index)
+    day_forecasts = day_forecasts.sum(axis=1, min_count=1)
+    elasticity = level_elasticity(table.sum(axis=1).to_numpy(), day_forecasts.to_numpy())
+    out.error_growth = elasticity
+    day_predicted = np.add.reduceat(predicted, grid.day_starts, axis=1)
+    return _Meter(plan, grid, predicted, known_at, known[known_at], lowest, table,
+                  day_forecasts, elasticity, day_predicted, out)  # fmt: skip
 
 
 def _fill_block(
     meter: _Meter,
     rows: np.ndarray,
+    drawn_days: np.ndarray,
     scenario: np.ndarray,
     month_starts: np.ndarray,
     paths: slice,
 ) -> None:
     """Simulate one block of paths of one meter and store its totals."""
     energy = meter.errors[rows]
+    if meter.elasticity > 0:
+        several = len(meter.day_predicted) > 1
+        levels = meter.day_predicted[scenario] if several else meter.day_predicted[:1]
+        factors = level_factors(levels, meter.drawn_levels[drawn_days], meter.elasticity)
+        energy *= factors[:, meter.grid.day]
     energy += meter.predicted[scenario] if len(meter.predicted) > 1 else meter.predicted[0]
     np.maximum(energy, meter.floor, out=energy)
     if meter.known_at.size:
@@ -275,8 +302,8 @@ def simulate_paths(
     prepared: list[_Meter] = []
     for number, plan in enumerate(meters):
         step(progress, 0.2 * number / len(meters), f"Budget: forecasting {plan.name}")
-        errors, source = model_errors(plan, cut, error_days)
-        prepared.append(_prepare(plan, window, scenarios, cut, paths, errors, source))
+        errors, forecasts, source = model_errors(plan, cut, error_days)
+        prepared.append(_prepare(plan, window, scenarios, cut, paths, errors, forecasts, source))
     pool = shared_pool({meter.plan.name: meter.table for meter in prepared})
     for meter in prepared:
         meter.use_pool(pool)
@@ -306,6 +333,7 @@ def simulate_paths(
             _fill_block(
                 meter,
                 rows_by_step[grid.step],
+                drawn_days,
                 scenario_of_path[chosen],
                 starts,
                 chosen,

@@ -191,6 +191,13 @@ def _assumptions(totals: PathTotals, calibration: Mapping[str, Calibration]) -> 
         "model_errors": {
             meter.plan.name: f"{meter.errors_source} of the {totals.settings['error_days']} "
             "days before the as-of date"
+            + (
+                f"; each drawn day's errors scaled by the ratio of the budget day's forecast to "
+                f"its own to the power {meter.error_growth:.2f}, as error size grew with the "
+                "forecast on those days (log–log fit)"
+                if meter.error_growth > 0
+                else ""
+            )
             for meter in totals.meters
         },
         "resampling": (
