@@ -2,10 +2,15 @@
 
 from __future__ import annotations
 
+import dataclasses
 from pathlib import Path
 
 import numpy as np
 import pandas as pd
+
+from engine.importing import ImportedFiles, store_files
+from engine.project import Project
+from engine.reading import ReadOptions, read_calendar, read_file
 
 ROOT = Path(__file__).resolve().parents[2]
 SAMPLE = ROOT / "sample" / "data"
@@ -44,3 +49,22 @@ def write_hourly_weather(path: Path, temps_c: np.ndarray, start: str) -> None:
         f"{t:%Y-%m-%d %H:%M},{v:.2f}" for t, v in zip(stamps, temps_c, strict=True)
     ]
     path.write_text("\n".join(lines) + "\n", encoding="utf-8")
+
+
+def short_sample_project(path: Path, meters: int = 1, first_day: str = "2025-06-01") -> Path:
+    """A project of the sample's first ``meters`` electricity meters from ``first_day`` (local)
+    on, with its weather station and campus calendar (US public holidays)."""
+    options = ReadOptions(timezone=SITE_ZONE, holidays="US")
+    found = read_file(SAMPLE / "electricity-15min.xlsx", options)
+    start = pd.Timestamp(first_day, tz=SITE_ZONE).tz_convert("UTC")
+    reads = []
+    for read in found.meters[:meters]:
+        values = read.meter.values[read.meter.values.index >= start]
+        meter = dataclasses.replace(read.meter, values=values)
+        reads.append(dataclasses.replace(read, meter=meter, raw=read.raw[read.raw["t"] >= start]))
+    weather = read_file(SAMPLE / "weather-station.csv", options)
+    calendar = read_calendar(SAMPLE / "campus-calendar.csv", options)
+    files = ImportedFiles([dataclasses.replace(found, meters=reads)], [], [weather], options)
+    with Project.create(path, timezone=SITE_ZONE) as project:
+        store_files(project, dataclasses.replace(files, calendar=calendar))
+    return path

@@ -13,8 +13,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 import pytest
-from desktop_support import ROOT, SITE_ZONE, save_screen, wait_until_idle
-from test_models_screen import short_sample_project
+from desktop_support import ROOT, SITE_ZONE, save_screen, short_sample_project, wait_until_idle
 
 from desktop.budget_jobs import period_months
 from desktop.budget_screen import BudgetScreen

@@ -7,43 +7,21 @@ fit quick) with the sample's weather station and campus calendar.
 
 from __future__ import annotations
 
-import dataclasses
 from pathlib import Path
 
 import numpy as np
 import pandas as pd
 import pytest
-from desktop_support import SAMPLE, SITE_ZONE, save_screen, wait_until_idle
+from desktop_support import SITE_ZONE, save_screen, short_sample_project, wait_until_idle
 
 from desktop.model_tables import RANK_HEADERS
 from desktop.models_screen import ModelsScreen
 from desktop.session import Session
-from engine.importing import ImportedFiles, store_files
 from engine.modelling import DEFAULT_FAMILIES
 from engine.project import Project
-from engine.reading import ReadOptions, read_calendar, read_file
 
 FAMILIES = ("calendar_regression", "seasonal_naive")
 ORIGINS = 3
-
-
-def short_sample_project(path: Path, meters: int = 1, first_day: str = "2025-06-01") -> Path:
-    """A project of the sample's first ``meters`` electricity meters from ``first_day`` (local)
-    on, with its weather station and campus calendar (US public holidays)."""
-    options = ReadOptions(timezone=SITE_ZONE, holidays="US")
-    found = read_file(SAMPLE / "electricity-15min.xlsx", options)
-    start = pd.Timestamp(first_day, tz=SITE_ZONE).tz_convert("UTC")
-    reads = []
-    for read in found.meters[:meters]:
-        values = read.meter.values[read.meter.values.index >= start]
-        meter = dataclasses.replace(read.meter, values=values)
-        reads.append(dataclasses.replace(read, meter=meter, raw=read.raw[read.raw["t"] >= start]))
-    weather = read_file(SAMPLE / "weather-station.csv", options)
-    calendar = read_calendar(SAMPLE / "campus-calendar.csv", options)
-    files = ImportedFiles([dataclasses.replace(found, meters=reads)], [], [weather], options)
-    with Project.create(path, timezone=SITE_ZONE) as project:
-        store_files(project, dataclasses.replace(files, calendar=calendar))
-    return path
 
 
 @pytest.fixture(scope="module")
