@@ -54,8 +54,11 @@ def screen(qtbot, budget):
 
 def _monthly_p50(path: Path) -> dict[tuple[str, str], float]:
     """(budget for, "YYYY-MM") → P50 of the month rows of the sheet "Monthly", by openpyxl."""
-    sheet = load_workbook(path, read_only=True)["Monthly"]
-    rows = list(sheet.iter_rows(values_only=True))
+    book = load_workbook(path, read_only=True)  # keeps the file open until closed
+    try:
+        rows = list(book["Monthly"].iter_rows(values_only=True))
+    finally:
+        book.close()
     header_at = next(i for i, row in enumerate(rows) if row and "budget for" in row)
     header = list(rows[header_at])
     name, month = header.index("budget for"), header.index("month")
