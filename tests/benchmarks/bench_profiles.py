@@ -9,10 +9,12 @@ from __future__ import annotations
 
 import time
 from collections.abc import Callable
+from datetime import date
 
 import numpy as np
 import pandas as pd
 
+from engine.calendar import CampusCalendar, CampusPeriod, OccupancyRule, label_intervals
 from engine.decomposition import decompose_daily, decompose_hourly
 from engine.meters import MeterSeries
 from engine.profiles import (
@@ -85,6 +87,23 @@ def bench_decomposition() -> None:
     timed("MSTL daily (7, 365)", lambda: decompose_daily(meter))
 
 
+def bench_labels() -> None:
+    """Calendar labels of 50 years of quarter hours with a term a year (target ≤ 2 s)."""
+    calendar = CampusCalendar(
+        "US",
+        "TX",
+        tuple(
+            CampusPeriod(f"Term {year}", date(year, 8, 25), date(year, 12, 12), "term")
+            for year in range(2005, 2055)
+        ),
+    )
+    index = pd.date_range("2005-01-01", periods=1_750_000, freq="15min", tz="UTC")
+    print(f"Calendar labels, {len(index):,} quarter hours (target ≤ 2 s):")
+    rule = OccupancyRule()
+    timed("label_intervals", lambda: label_intervals(index, "America/Chicago", calendar, rule))
+
+
 if __name__ == "__main__":
     bench_all_profiles()
     bench_decomposition()
+    bench_labels()
