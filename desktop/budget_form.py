@@ -28,12 +28,9 @@ from desktop.budget_jobs import (
     PERIODS,
     WEATHER_FILE,
     BudgetChoices,
-    first_open_month,
-    fiscal_quarter_of,
-    fiscal_year_of,
 )
 from desktop.choices import ChoiceBox
-from engine.budget.periods import MAX_MONTHS
+from engine.budget.periods import MAX_MONTHS, first_open_month, fiscal_quarter_of, fiscal_year_of
 from engine.tariffs import RATECARD_SUFFIX
 
 WEATHER_WORDS = (

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import inspect
 from dataclasses import dataclass
-from datetime import date, timedelta
+from datetime import date
 
 from engine.budget import budget_months
 from engine.budget.summary import PEAK_CAUTION
@@ -78,33 +78,6 @@ def period_months(choices: BudgetChoices) -> list[str]:
         fiscal_start_month=choices.fiscal_start_month,
         quarter=quarter,
     )
-
-
-def first_open_month(as_of: date) -> str:
-    """The month holding the day after ``as_of``: the first one not fully metered."""
-    following = as_of + timedelta(days=1)
-    return f"{following.year:04d}-{following.month:02d}"
-
-
-def fiscal_year_of(month: str, fiscal_start_month: int) -> int:
-    """The fiscal year (by the engine's naming) that holds ``month``."""
-    year = int(month[:4])
-    return next(
-        fiscal
-        for fiscal in (year, year + 1)
-        if month in budget_months(fiscal_year=fiscal, fiscal_start_month=fiscal_start_month)
-    )
-
-
-def fiscal_quarter_of(month: str, fiscal_year: int, fiscal_start_month: int) -> int:
-    """The quarter of ``fiscal_year`` that holds ``month`` (1 when it is not in that year)."""
-    for quarter in (1, 2, 3, 4):
-        quarter_months = budget_months(
-            fiscal_year=fiscal_year, fiscal_start_month=fiscal_start_month, quarter=quarter
-        )
-        if month in quarter_months:
-            return quarter
-    return 1
 
 
 def request_for(project: Project, choices: BudgetChoices) -> BudgetRequest:

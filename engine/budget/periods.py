@@ -14,7 +14,7 @@ from __future__ import annotations
 
 import re
 from dataclasses import dataclass
-from datetime import date
+from datetime import date, timedelta
 
 import numpy as np
 import pandas as pd
@@ -106,6 +106,33 @@ def budget_months(
                 hint=f"Choose from 1 to {MAX_MONTHS} months.",
             )
     return [str(month) for month in pd.period_range(first, periods=count, freq="M")]
+
+
+def first_open_month(as_of: date) -> str:
+    """The month holding the day after ``as_of``: the first one not fully metered."""
+    following = as_of + timedelta(days=1)
+    return f"{following.year:04d}-{following.month:02d}"
+
+
+def fiscal_year_of(month: str, fiscal_start_month: int) -> int:
+    """The fiscal year (by the engine's naming) that holds ``month``."""
+    year = int(month[:4])
+    return next(
+        fiscal
+        for fiscal in (year, year + 1)
+        if month in budget_months(fiscal_year=fiscal, fiscal_start_month=fiscal_start_month)
+    )
+
+
+def fiscal_quarter_of(month: str, fiscal_year: int, fiscal_start_month: int) -> int:
+    """The quarter of ``fiscal_year`` that holds ``month`` (1 when it is not in that year)."""
+    for quarter in (1, 2, 3, 4):
+        quarter_months = budget_months(
+            fiscal_year=fiscal_year, fiscal_start_month=fiscal_start_month, quarter=quarter
+        )
+        if month in quarter_months:
+            return quarter
+    return 1
 
 
 def as_of_date(as_of: date | str | pd.Timestamp) -> date:

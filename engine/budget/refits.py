@@ -17,13 +17,13 @@ from __future__ import annotations
 
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, replace
-from datetime import date, timedelta
+from datetime import date
 
 import numpy as np
 import pandas as pd
 
 from engine.backtest import backtest_origins
-from engine.budget.periods import BudgetWindow, as_of_cut
+from engine.budget.periods import BudgetWindow, as_of_cut, first_open_month
 from engine.budget.plan import MeterPlan
 from engine.errors import InputError
 from engine.models.base import EnergyModel, ModelInputs, fresh
@@ -115,7 +115,7 @@ def plans_from_refits(
     """
 
     def as_of(day: date) -> list[MeterPlan]:
-        month = f"{day + timedelta(days=1):%Y-%m}"
+        month = first_open_month(day)
         made = []
         for plan in plans:
             cut = as_of_cut(day, plan.timezone)
