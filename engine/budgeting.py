@@ -38,7 +38,7 @@ from engine.models.base import fresh
 from engine.progress import Progress, step
 from engine.project import Project
 from engine.reading import ReadOptions, read_weather_file
-from engine.tariffs import Tariff, read_tariff
+from engine.tariffs import Tariff, is_currency_code, read_tariff
 from engine.weather import typical_year
 
 WEATHER_CHOICES = ("typical", "past-years")
@@ -113,7 +113,7 @@ def budget_request(
             f"{paths} paths are too few for a range.", hint=f"Use {MIN_PATHS} or more."
         )
     tariff = read_tariff(tariff_file) if tariff_file else None
-    if currency is not None and not (len(currency) == 3 and currency.isalpha()):
+    if currency is not None and not is_currency_code(currency.upper()):
         raise InputError(
             f"the currency '{currency}' is not a three-letter code.", hint="e.g. USD, EUR, CAD."
         )

@@ -17,7 +17,12 @@ For accounts with bills only, :func:`effective_rate` gives the recent price per 
 
 from engine.tariffs._bills import effective_rate
 from engine.tariffs._cost import COST_PARTS, billing_months, cost, cost_paths
-from engine.tariffs._ratecard import RATECARD_SUFFIX, read_tariff, tariff_from_dict
+from engine.tariffs._ratecard import (
+    RATECARD_SUFFIX,
+    is_currency_code,
+    read_tariff,
+    tariff_from_dict,
+)
 from engine.tariffs._schema import (
     Block,
     DemandCharge,
@@ -42,6 +47,7 @@ __all__ = [
     "cost",
     "cost_paths",
     "effective_rate",
+    "is_currency_code",
     "read_tariff",
     "tariff_from_dict",
 ]

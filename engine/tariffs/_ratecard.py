@@ -157,6 +157,11 @@ class _Table:
             )
 
 
+def is_currency_code(text: str) -> bool:
+    """Whether ``text`` has the form of an ISO 4217 currency code: three capital letters."""
+    return re.fullmatch(r"[A-Z]{3}", text) is not None
+
+
 def read_tariff(path: str | Path) -> Tariff:
     """Read and check a rate card (``*.ratecard.toml``).
 
@@ -197,7 +202,7 @@ def tariff_from_dict(data: dict[str, Any], source: str = "") -> Tariff:
         )
     name = top.text("name")
     currency = top.text("currency")
-    if not re.fullmatch(r"[A-Z]{3}", currency):
+    if not is_currency_code(currency):
         raise top.error("currency", f"must be a three-letter ISO 4217 code, not {currency!r}.")
     country, subdivision, dates = _holidays(top, source) if top.has("holidays") else _NO_HOLIDAYS
     versions = tuple(sorted((_version(table) for table in top.tables("version")), key=_effective))
