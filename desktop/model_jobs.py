@@ -9,7 +9,6 @@ recommendation (``ModelChoice.to_dict()``), its backtest and the chosen model in
 
 from __future__ import annotations
 
-import inspect
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -17,13 +16,12 @@ import pandas as pd
 
 from engine.backtest import BacktestResult
 from engine.errors import ProjectError
-from engine.modelling import DEFAULT_FAMILIES, chosen_model, default_families, fit_meter
+from engine.modelling import chosen_model, fit_meter
 from engine.models import MODEL_FAMILIES, EnergyModel
 from engine.progress import Progress, step
 from engine.project import Project
+from engine.wizard import DEFAULT_FAMILIES, DEFAULT_ORIGINS, default_families
 
-#: Backtest origins the wizard asks for unless told otherwise (the engine's own default).
-DEFAULT_ORIGINS: int = inspect.signature(fit_meter).parameters["origins"].default
 #: The residual groupings of the engine's diagnostics, with the words the screen uses.
 RESIDUAL_GROUPINGS: dict[str, str] = {
     "hour": "hour of day",

@@ -33,7 +33,7 @@ import copy
 import math
 import time
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, field, replace
 from typing import Any
 
 import numpy as np
@@ -218,6 +218,8 @@ class BacktestResult:
         (together they cover the last months once each). Out-of-sample, so p = 0.
     forecasts : per interval: ``origin``, ``model``, ``weather``, ``start`` (UTC), ``month``
         (local), ``lead``, ``actual kWh``, ``predicted kWh``; None when loaded without them.
+    fitted : model name → origin (``"YYYY-MM"``) → the model fitted before it, when the run
+        was asked to keep them (never stored: a budget's refits reuse them in the same run).
     """
 
     timezone: str
@@ -234,6 +236,7 @@ class BacktestResult:
     failures: pd.DataFrame
     scorecards: tuple[Scorecard, ...]
     forecasts: pd.DataFrame | None = None
+    fitted: dict[str, dict[str, EnergyModel]] = field(default_factory=dict, repr=False)
 
     def scorecard(self, model: str, condition: str) -> Scorecard | None:
         """The pooled scorecard of one model under one weather condition, if it has one."""
@@ -398,13 +401,18 @@ def _prepare_window(plan: _Plan, origin: pd.Timestamp) -> _Window:
 class _Collector:
     """Rows gathered during a run, turned into the result's tables at the end."""
 
-    def __init__(self) -> None:
+    def __init__(self, keep_fitted: bool = False) -> None:
+        self.keep_fitted = keep_fitted
+        self.fitted: dict[str, dict[str, EnergyModel]] = {}
         self.fits: list[dict[str, Any]] = []
         self.scores: list[dict[str, Any]] = []
         self.failures: list[dict[str, Any]] = []
         self.pieces: list[dict[str, Any]] = []
 
-    def fit(self, window: _Window, model: str, seconds: float, parameters: float) -> None:
+    def fit(self, window: _Window, model: str, seconds: float, fitted: EnergyModel | None) -> None:
+        parameters = math.nan if fitted is None else getattr(fitted, "n_parameters_", math.nan)
+        if fitted is not None and self.keep_fitted:
+            self.fitted.setdefault(model, {})[window.name] = fitted
         self.fits.append(
             {
                 "origin": window.name,
@@ -481,11 +489,11 @@ def _run_one(window: _Window, name: str, prototype: EnergyModel, out: _Collector
     except Cancelled:
         raise
     except Exception as error:  # any model failure is recorded, not raised
-        out.fit(window, name, math.nan, math.nan)
+        out.fit(window, name, math.nan, None)
         for condition in window.temperatures:
             out.fail(window, name, condition, "fit", _failure_message(error))
         return
-    out.fit(window, name, time.perf_counter() - started, getattr(model, "n_parameters_", math.nan))
+    out.fit(window, name, time.perf_counter() - started, model)
     for condition, temperature in window.temperatures.items():
         if condition == TYPICAL_WEATHER and window.weather_problem is not None:
             out.fail(window, name, condition, TYPICAL_WEATHER, window.weather_problem)
@@ -559,6 +567,7 @@ def run_backtest(
     horizons: Sequence[int] = (1, 3),
     weather_history: pd.Series | None = None,
     season_length: int | None = None,
+    keep_fitted: bool = False,
     progress: Progress | None = None,
 ) -> BacktestResult:
     """Rolling-origin backtest of unfitted models on one meter's inputs.
@@ -578,6 +587,8 @@ def run_backtest(
         Hourly °C for typical weather; defaults to ``inputs.temperature`` (hourly or finer).
     season_length : int, optional
         MASE's seasonal naive lag in intervals; default one week.
+    keep_fitted : bool, default False
+        Keep every model fitted at each origin in :attr:`BacktestResult.fitted`.
     progress : Progress, optional
         Stepped once per origin × model; cancelling stops the run with ``Cancelled``.
 
@@ -595,7 +606,7 @@ def run_backtest(
             hint="Import at least two calendar months of readings (a year or more for a "
             "useful backtest).",
         )
-    out = _Collector()
+    out = _Collector(keep_fitted)
     total = len(starts) * len(named)
     for number, origin in enumerate(starts):
         done = number * len(named)
@@ -690,6 +701,7 @@ def _assemble(
         ),
         scorecards=tuple(scorecards),
         forecasts=forecasts.drop(columns="naive scale"),
+        fitted=out.fitted,
     )
 
 

@@ -1,5 +1,5 @@
-"""Models for the meters of a project: inputs from the stored data, the fit wizard's backtest
-and recommendation, and the chosen model kept in the project file as plain JSON.
+"""Models for the meters of a project: the fit wizard run on the project's meters (side by
+side, see :mod:`engine.parallel`) and the chosen model kept in the project file as plain JSON.
 """
 
 from __future__ import annotations
@@ -9,42 +9,15 @@ from dataclasses import dataclass
 
 import pandas as pd
 
-from engine.backtest import ACTUAL_WEATHER, NO_WEATHER, BacktestResult, run_backtest
-from engine.calendar import CampusCalendar, label_intervals
-from engine.cleaning.project_log import cleaned_meter, stored_calendar
+from engine.backtest import BacktestResult
 from engine.errors import InputError
 from engine.models import MODEL_FAMILIES, EnergyModel, ModelInputs, RefitNeeded, model_from_dict
-from engine.models.base import fresh
+from engine.parallel import run_per_meter
+from engine.prepared_site import prepare_site
 from engine.progress import Progress, step
 from engine.project import Project
-from engine.selection import ModelChoice, recommend_model
-from engine.weather import fill_hourly
-
-#: Families the wizard tries unless told otherwise. The billing-period model needs bills and
-#: the gradient-boosting challenger is less explainable and slower: both on request only.
-DEFAULT_FAMILIES: tuple[str, ...] = (
-    "calendar_regression",
-    "time_of_week_temperature",
-    "daily_change_point",
-    "seasonal_naive",
-    "daily_ets",
-    "monthly_sarima",
-    "mstl_ets",
-)
-#: Families whose orders (Fourier orders, temperature knots) the wizard chooses by backtest.
-TUNED_FAMILIES: tuple[str, ...] = ("calendar_regression", "time_of_week_temperature")
-#: Origins of the short backtest that chooses those orders (one-month-ahead, actual weather).
-TUNING_ORIGINS = 3
-
-#: Families that make sense on daily readings (a daily register meter, say).
-DAILY_FAMILIES: tuple[str, ...] = (
-    "daily_change_point",
-    "seasonal_naive",
-    "daily_ets",
-    "monthly_sarima",
-    "mstl_ets",
-)
-HOUR = pd.Timedelta(hours=1)
+from engine.selection import ModelChoice
+from engine.wizard import DEFAULT_ORIGINS, MeterJob, MeterModels, model_meter
 
 
 @dataclass
@@ -59,98 +32,52 @@ class FitOutcome:
     inputs: ModelInputs  # what the models were fitted on, for explaining the chosen one
 
 
-def meter_inputs(project: Project, name: str, *, as_of: pd.Timestamp | None = None) -> ModelInputs:
-    """One meter's cleaned energy with temperature and calendar labels, ready for a model.
-
-    Sub-hourly readings are summed to hours (an hour with any interval missing is missing);
-    daily readings stay daily. Excluded ranges are missing. With ``as_of`` only the data
-    before it is used.
-    """
-    meter, cleaned = cleaned_meter(project, name)
-    energy = cleaned.values.where(~cleaned.excluded)
-    if as_of is not None:
-        energy = energy[energy.index < as_of]
-    if meter.interval < HOUR:
-        per_hour = int(HOUR / meter.interval)
-        grouped = energy.resample("h")
-        energy = grouped.sum(min_count=1).where(grouped.count() == per_hour)
-    index = _regular_index(energy.index, meter.timezone, meter.interval >= pd.Timedelta(days=1))
-    energy = energy.reindex(index)
-    calendar = stored_calendar(project) or CampusCalendar()
-    labels = label_intervals(index, meter.timezone, calendar)
-    temperature = project_temperature(project, index, meter.timezone, as_of=as_of)
-    return ModelInputs(index, meter.timezone, energy, temperature, labels)
-
-
-def project_temperature(
-    project: Project,
-    index: pd.DatetimeIndex,
-    timezone: str,
-    *,
-    as_of: pd.Timestamp | None = None,
-) -> pd.Series | None:
-    """The project's weather on ``index``: hourly °C with short gaps filled, or daily means."""
-    hourly = hourly_weather(project, as_of=as_of)
-    if hourly is None:
-        return None
-    if len(index) > 1 and (index[1] - index[0]) >= pd.Timedelta(hours=23):
-        local_days = hourly.tz_convert(timezone).index.normalize()
-        daily = hourly.groupby(local_days).mean()
-        daily.index = daily.index.tz_convert("UTC")
-        return daily.reindex(index)
-    return hourly.reindex(index)
+def meter_inputs(project: Project, name: str) -> ModelInputs:
+    """One meter's cleaned energy with temperature and calendar labels, ready for a model."""
+    return prepare_site(project, [name]).meter(name).inputs
 
 
 def hourly_weather(project: Project, *, as_of: pd.Timestamp | None = None) -> pd.Series | None:
-    """The project's weather as hourly °C with short gaps interpolated; None without weather."""
-    if not project.weather_stations():
-        return None
-    temps = project.load_weather()
-    if as_of is not None:
-        temps = temps[temps.index < as_of]
-    return fill_hourly(temps).hourly
+    """The project's weather as hourly °C with short gaps filled from the readings before
+    ``as_of`` (all of them by default); None without weather."""
+    return prepare_site(project, []).hourly_before(as_of)
 
 
-def default_families(interval: pd.Timedelta) -> tuple[str, ...]:
-    """The families the wizard tries on readings ``interval`` apart (daily or finer)."""
-    return DAILY_FAMILIES if interval >= pd.Timedelta(hours=23) else DEFAULT_FAMILIES
-
-
-def families_for(inputs: ModelInputs, names: Sequence[str] | None = None) -> list[EnergyModel]:
-    """Fresh, unfitted models of the named families (default: those that suit the inputs)."""
-    chosen = list(names) if names else list(default_families(inputs.interval))
-    unknown = [n for n in chosen if n not in MODEL_FAMILIES]
-    if unknown:
-        raise InputError(
-            f"unknown model family '{unknown[0]}'.",
-            hint=f"Choose from: {', '.join(MODEL_FAMILIES)}.",
-        )
-    return [MODEL_FAMILIES[n]() for n in chosen]
-
-
-@dataclass
-class ModelComparison:
-    """The wizard's backtest of the families, its recommendation and the tuned, unfitted models."""
-
-    backtest: BacktestResult
-    choice: ModelChoice
-    models: dict[str, EnergyModel]
-
-
-def compare_models(
-    inputs: ModelInputs,
-    weather: pd.Series | None,
+def fit_meters(
+    project: Project,
+    names: Sequence[str] | None = None,
     *,
     families: Sequence[str] | None = None,
-    origins: int = 12,
+    origins: int = DEFAULT_ORIGINS,
+    workers: int | None = None,
+    scheduler: str | None = None,
     progress: Progress | None = None,
-) -> ModelComparison:
-    """Tune the families' orders, backtest them on ``inputs`` and recommend one."""
-    step(progress, 0.0, "choosing the models' orders")
-    models = {m.family: tuned(m, inputs, weather) for m in families_for(inputs, families)}
-    part = progress.part(0.1, 1.0) if progress is not None else None
-    backtest = run_backtest(models, inputs, origins=origins, weather_history=weather, progress=part)
-    return ModelComparison(backtest, recommend_model(backtest, labels=inputs.labels), models)
+) -> list[FitOutcome]:
+    """Backtest the families on each meter, recommend one, fit it on all data and keep it.
+
+    Meters run side by side (``workers`` local processes, default every core, or the Dask
+    scheduler at ``scheduler``); every meter's result is kept in one save. A meter that
+    fails is reported after the others are kept.
+    """
+    step(progress, 0.0, "preparing the meters")
+    site = prepare_site(project, names)
+    jobs = [
+        MeterJob(name, ready.inputs, site.hourly, None, _tuple(families), origins)
+        for name, ready in site.meters.items()
+    ]
+    part = progress.part(0.05, 0.95) if progress is not None else None
+    results, failures = run_per_meter(
+        model_meter, jobs, workers=workers, scheduler=scheduler, progress=part
+    )
+    outcomes = []
+    with project.transaction():
+        for job in jobs:
+            if job.name in results:
+                outcomes.append(keep_fit(project, results[job.name], job.history))
+    step(progress, 1.0, "done")
+    if failures:
+        raise failures[0].error()
+    return outcomes
 
 
 def fit_meter(
@@ -158,56 +85,34 @@ def fit_meter(
     name: str,
     *,
     families: Sequence[str] | None = None,
-    origins: int = 12,
+    origins: int = DEFAULT_ORIGINS,
     progress: Progress | None = None,
 ) -> FitOutcome:
-    """Backtest the families on one meter, recommend one, fit it on all data and keep it."""
-    inputs = meter_inputs(project, name)
-    part = progress.part(0.0, 0.9) if progress is not None else None
-    compared = compare_models(
-        inputs, hourly_weather(project), families=families, origins=origins, progress=part
+    """:func:`fit_meters` for one meter, in this process."""
+    (outcome,) = fit_meters(
+        project, [name], families=families, origins=origins, workers=1, progress=progress
     )
-    backtest, choice = compared.backtest, compared.choice
-    model, result_id = None, None
-    if choice.chosen is not None:
-        step(progress, 0.95, f"fitting {choice.chosen} on all the history")
-        model = fresh(compared.models[choice.chosen]).fit(inputs)
+    return outcome
+
+
+def keep_fit(project: Project, made: MeterModels, inputs: ModelInputs) -> FitOutcome:
+    """Store the wizard's backtest and the chosen model of one meter (when it chose one)."""
+    comparison = made.comparison
+    result_id = None
+    if made.model is not None:
         with project.transaction():
-            project.add_result("backtest", name, "rolling-origin backtest", backtest.to_dict())
+            project.add_result(
+                "backtest", made.name, "rolling-origin backtest", comparison.backtest.to_dict()
+            )
             result_id = project.add_result(
                 "model",
-                name,
-                model.label,
-                {"model": model.to_dict(), "choice": choice.to_dict()},
+                made.name,
+                made.model.label,
+                {"model": made.model.to_dict(), "choice": comparison.choice.to_dict()},
             )
-    step(progress, 1.0, "done")
-    return FitOutcome(name, backtest, choice, model, result_id, inputs)
-
-
-def tuned(model: EnergyModel, inputs: ModelInputs, weather: pd.Series | None) -> EnergyModel:
-    """The family's candidate settings compared in a short backtest; the best one, unfitted.
-
-    Only :data:`TUNED_FAMILIES` are tuned: the orders of their terms are chosen by how well
-    each candidate forecast the last :data:`TUNING_ORIGINS` months with their actual weather
-    (hourly CV(RMSE)), not by hand. Other families come back as they are.
-    """
-    if model.family not in TUNED_FAMILIES:
-        return model
-    family = type(model)
-    candidates = {str(i): family(**s) for i, s in enumerate([{}, *family.candidate_settings()])}
-    result = run_backtest(
-        candidates, inputs, origins=TUNING_ORIGINS, horizons=(1,), weather_history=weather
+    return FitOutcome(
+        made.name, comparison.backtest, comparison.choice, made.model, result_id, inputs
     )
-    condition = ACTUAL_WEATHER if inputs.temperature is not None else NO_WEATHER
-    scored = [
-        (card.cv_rmse, key)
-        for key in candidates
-        if (card := result.scorecard(key, condition)) is not None
-        and result.model_failures(key, condition).empty
-    ]
-    if not scored:
-        return model
-    return candidates[min(scored)[1]]
 
 
 def chosen_model(project: Project, name: str) -> tuple[EnergyModel, dict]:
@@ -232,17 +137,6 @@ def chosen_model(project: Project, name: str) -> tuple[EnergyModel, dict]:
     return model, body["choice"]
 
 
-def _regular_index(index: pd.DatetimeIndex, timezone: str, daily: bool) -> pd.DatetimeIndex:
-    """Every interval start from the first to the last (local midnights for daily data)."""
-    if len(index) == 0:
-        raise InputError("the meter has no readings to model.", hint="Import readings first.")
-    if daily:
-        local = index.tz_convert(timezone)
-        days = pd.date_range(local[0], local[-1], freq=pd.DateOffset(days=1))
-        return days.tz_convert("UTC")
-    return pd.date_range(index[0], index[-1], freq="h")
-
-
 def monthly_contributions(model: EnergyModel, inputs: ModelInputs, months: int = 12) -> list[dict]:
     """Each component's share of the model's energy in each of the last ``months`` local months.
 
@@ -262,3 +156,7 @@ def monthly_contributions(model: EnergyModel, inputs: ModelInputs, months: int =
         shares = (100 * row / predicted[period]).round(2)
         rows.append({"month": str(period), "kWh": float(predicted[period]), **shares.to_dict()})
     return rows
+
+
+def _tuple(names: Sequence[str] | None) -> tuple[str, ...] | None:
+    return tuple(names) if names else None

@@ -22,11 +22,12 @@ from datetime import date
 import numpy as np
 import pandas as pd
 
-from engine.backtest import backtest_origins
+from engine.backtest import ACTUAL_WEATHER, NO_WEATHER, BacktestResult, backtest_origins
 from engine.budget.periods import BudgetWindow, as_of_cut, first_open_month
 from engine.budget.plan import MeterPlan
 from engine.errors import InputError
 from engine.models.base import EnergyModel, ModelInputs, fresh
+from engine.models.registry import model_from_dict
 from engine.progress import Cancelled, Progress, step
 
 
@@ -56,12 +57,53 @@ class RollingRefits:
         """The errors of the months that ended before ``cut``."""
         return self.errors[self.errors.index < cut]
 
+    @classmethod
+    def from_backtest(cls, backtest: BacktestResult, name: str) -> RollingRefits:
+        """The refits a backtest already made of model ``name`` (kept with ``keep_fitted``):
+        its one-month-ahead forecasts under the actual weather (or none) are exactly the
+        month-ahead errors :func:`rolling_refits` would compute for the same months."""
+        forecasts = backtest.forecasts
+        condition = NO_WEATHER if NO_WEATHER in backtest.conditions else ACTUAL_WEATHER
+        first = forecasts[
+            (forecasts["model"] == name)
+            & (forecasts["weather"] == condition)
+            & (forecasts["lead"] == 1)
+        ]
+        errors = pd.Series(
+            first["actual kWh"].to_numpy() - first["predicted kWh"].to_numpy(),
+            index=pd.DatetimeIndex(first["start"]),
+            name="error",
+        )
+        models = dict(backtest.fitted.get(name, {}))
+        failures = backtest.model_failures(name, condition)
+        failed = {str(row.origin): str(row.message) for row in failures.itertuples()}
+        return cls(models=models, errors=errors.dropna().sort_index(), failed=failed)
+
+    def to_dict(self) -> dict:
+        """JSON-safe form (models as their own JSON, errors as UTC seconds and kWh)."""
+        return {
+            "models": {month: model.to_dict() for month, model in self.models.items()},
+            "errors": {
+                "seconds": self.errors.index.as_unit("s").asi8.tolist(),
+                "kWh": self.errors.to_numpy(dtype=np.float64).tolist(),
+            },
+            "failed": dict(self.failed),
+        }
+
+    @classmethod
+    def from_dict(cls, data: dict) -> RollingRefits:
+        index = pd.to_datetime(data["errors"]["seconds"], unit="s", utc=True)
+        errors = pd.Series(data["errors"]["kWh"], index=index, dtype=np.float64, name="error")
+        models = {month: model_from_dict(body) for month, body in data["models"].items()}
+        return cls(models=models, errors=errors, failed=dict(data["failed"]))
+
 
 def rolling_refits(
     family: EnergyModel,
     history: ModelInputs,
     months: int,
     *,
+    reuse: RollingRefits | None = None,
     progress: Progress | None = None,
 ) -> RollingRefits:
     """Refit ``family`` before each of the last ``months`` whole months of ``history``.
@@ -75,6 +117,10 @@ def rolling_refits(
     months : int
         How many of the last whole local months to refit for (fewer when the history is
         short; the first month of the data is never one).
+    reuse : RollingRefits, optional
+        Refits already made of the same family on the same history (e.g. by the fit
+        wizard's backtest, :meth:`RollingRefits.from_backtest`): their months are taken as
+        they are instead of being fitted again.
     progress : Progress, optional
         Stepped per month; cancelling raises ``Cancelled``.
     """
@@ -85,7 +131,13 @@ def rolling_refits(
     for number, start in enumerate(starts):
         month = start.tz_convert(history.timezone).strftime("%Y-%m")
         step(progress, number / max(len(starts), 1), f"refitting {family.label} before {month}")
-        ahead = history.window(start=start, end=BudgetWindow.of([month], history.timezone).end)
+        end = BudgetWindow.of([month], history.timezone).end
+        if reuse is not None and month in reuse.models:
+            models[month] = reuse.models[month]
+            kept = reuse.errors
+            pieces.append(kept[(kept.index >= start) & (kept.index < end)])
+            continue
+        ahead = history.window(start=start, end=end)
         model = fresh(family)
         try:
             model.fit(history.window(end=start))

@@ -77,10 +77,10 @@ from engine.budget import (  # noqa: E402
     simulate_budget,
 )
 from engine.budgeting import ERROR_DAYS  # noqa: E402
-from engine.modelling import compare_models  # noqa: E402
 from engine.models.base import ModelInputs  # noqa: E402
 from engine.scoring import pinball_loss, winkler_score  # noqa: E402
 from engine.tariffs import read_tariff  # noqa: E402
+from engine.wizard import compare_models  # noqa: E402
 from tests.engine.test_budget_campus import (  # noqa: E402
     METERS,
     CampusMeter,
@@ -233,7 +233,7 @@ def rolling_budgets(
     """Month-ahead budgets of every month from ``first_target`` on, issued as the tool issues them.
 
     The fit wizard chooses each meter's family anew every twelve months, on the readings
-    before them (:func:`engine.modelling.compare_models`), as a user who refits yearly would.
+    before them (:func:`engine.wizard.compare_models`), as a user who refits yearly would.
     For each month the chosen family, refitted before it (:func:`engine.budget.rolling_refits`),
     budgets it with the out-of-sample errors of the 12 months before it, and the range is
     corrected by the same family's budgets of the 12 months before it once they exist — what

@@ -43,10 +43,10 @@ from engine.backtest import (  # noqa: E402
     run_backtest,
 )
 from engine.calendar import CampusCalendar, CampusPeriod, label_intervals  # noqa: E402
-from engine.modelling import DEFAULT_FAMILIES  # noqa: E402
 from engine.models.base import ModelInputs  # noqa: E402
 from engine.scoring import cv_rmse, nmbe  # noqa: E402
 from engine.selection import recommend_model  # noqa: E402
+from engine.wizard import DEFAULT_FAMILIES  # noqa: E402
 from sample import (  # noqa: E402
     LoadModel,
     campus_periods,

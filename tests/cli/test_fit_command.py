@@ -96,8 +96,9 @@ def test_the_stored_model_predicts_identically_after_reopening(project):
 
 def test_the_orders_are_chosen_by_backtest(project):
     from engine.backtest import ACTUAL_WEATHER, run_backtest
-    from engine.modelling import TUNING_ORIGINS, hourly_weather, tuned
+    from engine.modelling import hourly_weather
     from engine.models import CalendarRegressionModel
+    from engine.wizard import TUNING_ORIGINS, tuned
 
     path, _ = project
     with Project.open(path) as opened:

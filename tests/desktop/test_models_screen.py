@@ -17,8 +17,8 @@ from desktop_support import SITE_ZONE, save_screen, short_sample_project, wait_u
 from desktop.model_tables import RANK_HEADERS
 from desktop.models_screen import ModelsScreen
 from desktop.session import Session
-from engine.modelling import DEFAULT_FAMILIES
 from engine.project import Project
+from engine.wizard import DEFAULT_FAMILIES
 
 FAMILIES = ("calendar_regression", "seasonal_naive")
 ORIGINS = 3

@@ -1,0 +1,217 @@
+"""The fit wizard's work on one meter, and everything a budget needs of one meter's model.
+
+Pure functions of a meter's model inputs (no project file), so meters can be modelled in
+worker processes or on a cluster (:mod:`engine.parallel`): the families' orders are tuned by a
+short backtest, the families are compared in the rolling-origin backtest and one is
+recommended (:func:`compare_models`); :func:`model_meter` then fits the chosen (or a given)
+model on the whole history and, for a budget, refits it before each of the last months,
+taking the months the backtest already fitted from the backtest itself.
+"""
+
+from __future__ import annotations
+
+import time
+from collections.abc import Sequence
+from dataclasses import dataclass, replace
+
+import pandas as pd
+from threadpoolctl import threadpool_limits
+
+from engine.backtest import ACTUAL_WEATHER, NO_WEATHER, BacktestResult, run_backtest
+from engine.budget.refits import RollingRefits, rolling_refits
+from engine.errors import InputError
+from engine.models import MODEL_FAMILIES, EnergyModel, ModelInputs, model_from_dict
+from engine.models.base import fresh
+from engine.progress import Progress, step
+from engine.selection import ModelChoice, recommend_model
+
+#: Families the wizard tries unless told otherwise. The billing-period model needs bills and
+#: the gradient-boosting challenger is less explainable and slower: both on request only.
+DEFAULT_FAMILIES: tuple[str, ...] = (
+    "calendar_regression",
+    "time_of_week_temperature",
+    "daily_change_point",
+    "seasonal_naive",
+    "daily_ets",
+    "monthly_sarima",
+    "mstl_ets",
+)
+#: Families whose orders (Fourier orders, temperature knots) the wizard chooses by backtest.
+TUNED_FAMILIES: tuple[str, ...] = ("calendar_regression", "time_of_week_temperature")
+#: Origins of the short backtest that chooses those orders (one-month-ahead, actual weather).
+TUNING_ORIGINS = 3
+#: Monthly origins of the wizard's backtest unless told otherwise.
+DEFAULT_ORIGINS = 12
+
+#: Families that make sense on daily readings (a daily register meter, say).
+DAILY_FAMILIES: tuple[str, ...] = (
+    "daily_change_point",
+    "seasonal_naive",
+    "daily_ets",
+    "monthly_sarima",
+    "mstl_ets",
+)
+
+
+def default_families(interval: pd.Timedelta) -> tuple[str, ...]:
+    """The families the wizard tries on readings ``interval`` apart (daily or finer)."""
+    return DAILY_FAMILIES if interval >= pd.Timedelta(hours=23) else DEFAULT_FAMILIES
+
+
+def families_for(inputs: ModelInputs, names: Sequence[str] | None = None) -> list[EnergyModel]:
+    """Fresh, unfitted models of the named families (default: those that suit the inputs)."""
+    chosen = list(names) if names else list(default_families(inputs.interval))
+    unknown = [n for n in chosen if n not in MODEL_FAMILIES]
+    if unknown:
+        raise InputError(
+            f"unknown model family '{unknown[0]}'.",
+            hint=f"Choose from: {', '.join(MODEL_FAMILIES)}.",
+        )
+    return [MODEL_FAMILIES[n]() for n in chosen]
+
+
+@dataclass
+class ModelComparison:
+    """The wizard's backtest of the families, its recommendation and the tuned, unfitted models."""
+
+    backtest: BacktestResult
+    choice: ModelChoice
+    models: dict[str, EnergyModel]
+
+
+def compare_models(
+    inputs: ModelInputs,
+    weather: pd.Series | None,
+    *,
+    families: Sequence[str] | None = None,
+    origins: int = DEFAULT_ORIGINS,
+    keep_fitted: bool = False,
+    progress: Progress | None = None,
+) -> ModelComparison:
+    """Tune the families' orders, backtest them on ``inputs`` and recommend one.
+
+    With ``keep_fitted`` the backtest keeps each model fitted at each origin
+    (:attr:`BacktestResult.fitted`), for refits that reuse them.
+    """
+    step(progress, 0.0, "choosing the models' orders")
+    models = {m.family: tuned(m, inputs, weather) for m in families_for(inputs, families)}
+    part = progress.part(0.1, 1.0) if progress is not None else None
+    backtest = run_backtest(
+        models,
+        inputs,
+        origins=origins,
+        weather_history=weather,
+        keep_fitted=keep_fitted,
+        progress=part,
+    )
+    return ModelComparison(backtest, recommend_model(backtest, labels=inputs.labels), models)
+
+
+def tuned(model: EnergyModel, inputs: ModelInputs, weather: pd.Series | None) -> EnergyModel:
+    """The family's candidate settings compared in a short backtest; the best one, unfitted.
+
+    Only :data:`TUNED_FAMILIES` are tuned: the orders of their terms are chosen by how well
+    each candidate forecast the last :data:`TUNING_ORIGINS` months with their actual weather
+    (hourly CV(RMSE)), not by hand. Other families come back as they are.
+    """
+    if model.family not in TUNED_FAMILIES:
+        return model
+    family = type(model)
+    candidates = {str(i): family(**s) for i, s in enumerate([{}, *family.candidate_settings()])}
+    result = run_backtest(
+        candidates, inputs, origins=TUNING_ORIGINS, horizons=(1,), weather_history=weather
+    )
+    condition = ACTUAL_WEATHER if inputs.temperature is not None else NO_WEATHER
+    scored = [
+        (card.cv_rmse, key)
+        for key in candidates
+        if (card := result.scorecard(key, condition)) is not None
+        and result.model_failures(key, condition).empty
+    ]
+    if not scored:
+        return model
+    return candidates[min(scored)[1]]
+
+
+@dataclass(frozen=True)
+class MeterJob:
+    """One meter's modelling asked of :func:`model_meter`.
+
+    ``model`` is a chosen model's JSON (its settings are used, not its fit); without one the
+    wizard compares ``families`` (default: those that suit the readings) in a backtest from
+    ``origins`` monthly origins, with ``weather`` (hourly °C) for its typical weather.
+    ``refit_months`` > 0 also refits the model before each of that many last months.
+    """
+
+    name: str
+    history: ModelInputs
+    weather: pd.Series | None = None
+    model: dict | None = None
+    families: tuple[str, ...] | None = None
+    origins: int = DEFAULT_ORIGINS
+    refit_months: int = 0
+
+
+@dataclass
+class MeterModels:
+    """What :func:`model_meter` made: the chosen settings (unfitted), the model fitted on the
+    whole history, the wizard's comparison when it chose, the refits when asked for.
+    ``family`` and ``model`` are None when the wizard could recommend no family
+    (``comparison.choice.warnings`` say why)."""
+
+    name: str
+    family: EnergyModel | None
+    model: EnergyModel | None
+    comparison: ModelComparison | None
+    refits: RollingRefits | None
+    seconds: float
+
+
+def model_meter(job: MeterJob, progress: Progress | None = None) -> MeterModels:
+    """Choose (or take) the meter's model, fit it on the history and refit it as asked.
+
+    Runs with one BLAS thread, so a meter gives the same numbers in a worker process as in
+    the caller's, and parallel meters do not compete for cores.
+    """
+    started = time.perf_counter()
+    with threadpool_limits(limits=1):
+        comparison, family = _choose(job, _part(progress, 0.0, 0.8))
+        if family is None:
+            return MeterModels(job.name, None, None, comparison, None, 0.0)
+        step(progress, 0.8, f"fitting {family.label} on all the history of '{job.name}'")
+        model = fresh(family).fit(job.history)
+        refits = None
+        if job.refit_months > 0:
+            reuse = None
+            if comparison is not None:
+                chosen = comparison.choice.chosen
+                reuse = RollingRefits.from_backtest(comparison.backtest, chosen)
+                comparison = replace(comparison, backtest=replace(comparison.backtest, fitted={}))
+            refits = rolling_refits(
+                family, job.history, job.refit_months, reuse=reuse,
+                progress=_part(progress, 0.85, 1.0),
+            )  # fmt: skip
+    step(progress, 1.0, f"'{job.name}' modelled")
+    return MeterModels(job.name, family, model, comparison, refits, time.perf_counter() - started)
+
+
+def _choose(
+    job: MeterJob, progress: Progress | None
+) -> tuple[ModelComparison | None, EnergyModel | None]:
+    if job.model is not None:
+        return None, fresh(model_from_dict(job.model))
+    compared = compare_models(
+        job.history,
+        job.weather,
+        families=job.families,
+        origins=job.origins,
+        keep_fitted=job.refit_months > 0,
+        progress=progress,
+    )
+    if compared.choice.chosen is None:
+        return compared, None
+    return compared, compared.models[compared.choice.chosen]
+
+
+def _part(progress: Progress | None, start: float, stop: float) -> Progress | None:
+    return progress.part(start, stop) if progress is not None else None
