@@ -5,7 +5,7 @@ rolling month-ahead budgets, the simulated run, and everything the finance workb
 from __future__ import annotations
 
 from collections.abc import Sequence
-from dataclasses import dataclass, replace
+from dataclasses import dataclass
 from datetime import date
 from pathlib import Path
 
@@ -19,27 +19,21 @@ from engine.budget import (
     as_of_cut,
     backtest_budget,
     plans_from_refits,
-    rolling_refits,
     simulate_budget,
 )
 from engine.budget.summary import check_levels
-from engine.calendar import CampusCalendar
-from engine.cleaning.project_log import cleaned_meter, stored_calendar
 from engine.errors import InputError
-from engine.modelling import (
-    chosen_model,
-    compare_models,
-    fit_meter,
-    hourly_weather,
-    meter_inputs,
-)
-from engine.models import EnergyModel, ModelInputs
-from engine.models.base import fresh
+from engine.kept_models import job_key, keep, kept
+from engine.modelling import keep_fit
+from engine.models import MODEL_FAMILIES, ModelInputs
+from engine.parallel import MeterFailure, run_per_meter
+from engine.prepared_site import PreparedSite, ReadyMeter, prepare_site
 from engine.progress import Progress, step
 from engine.project import Project
 from engine.reading import ReadOptions, read_weather_file
 from engine.tariffs import Tariff, is_currency_code, read_tariff
 from engine.weather import typical_year
+from engine.wizard import MeterJob, MeterModels, model_meter
 
 WEATHER_CHOICES = ("typical", "past-years")
 #: The bills' currency unless told otherwise (bills store plain amounts).
@@ -136,13 +130,10 @@ def keep_budget(project: Project, run: BudgetRun) -> int:
 
 def last_reading_day(project: Project) -> date:
     """The latest local day holding a reading of any meter: the default as-of date."""
-    days = []
-    for name in project.meter_names():
-        meter = project.load_meter(name)
-        days.append(meter.values.index[-1].tz_convert(meter.timezone).date())
-    if not days:
+    lasts = [pd.Timestamp(meter["last"]) for meter in project.summary()["meters"]]
+    if not lasts:
         raise InputError("the project has no meters.", hint="Import meter files first.")
-    return max(days)
+    return max(lasts).tz_convert(project.timezone).date()
 
 
 def budget_project(
@@ -150,6 +141,8 @@ def budget_project(
     request: BudgetRequest,
     *,
     meters: Sequence[str] | None = None,
+    workers: int | None = None,
+    scheduler: str | None = None,
     progress: Progress | None = None,
 ) -> ProjectBudget:
     """Budget the project's meters, each with its recommended model, from the as-of date.
@@ -159,40 +152,27 @@ def budget_project(
     when no reading comes after it). Each meter's model is refitted
     before each of its last months (:func:`engine.budget.rolling_refits`): those refits give
     the past month-ahead budgets that check the range and the out-of-sample errors every
-    budget draws its model error from.
+    budget draws its model error from. That modelling is kept in the project
+    (:mod:`engine.kept_models`), so a budget of unchanged data with another period, weather
+    assumption or tariff reuses it; meters are modelled side by side (``workers`` local
+    processes, default every core, or the Dask scheduler at ``scheduler``).
     """
-    names = list(meters) if meters else project.meter_names()
+    step(progress, 0.0, "preparing the meters")
+    site = prepare_site(project, meters or None)
+    names = list(site.meters)
     cut = as_of_cut(request.as_of, project.timezone)
-    calendar = stored_calendar(project) or CampusCalendar()
-    utilities = {m["name"]: m["utility"] for m in project.summary()["meters"]}
-    hourly = hourly_weather(project, as_of=cut)
+    hourly = site.hourly_before(cut)
     weather, no_weather = _weather(request, hourly, project.timezone)
-    if no_weather:
-        hourly = None
-    refit_months = request.calibration_origins + ERROR_MONTHS
-    histories, families, scorecards, refits = {}, {}, {}, {}
-    for done, name in enumerate(names):
-        share = _share(progress, 0.7 * done / len(names), 0.7 * (done + 1) / len(names))
-        everything = meter_inputs(project, name)
-        histories[name] = everything.window(end=cut)
-        if no_weather:
-            histories[name] = replace(histories[name], temperature=None)
-        families[name], scorecards[name] = _family_and_scores(
-            project, name, histories[name], hourly,
-            stored=not no_weather, storable=everything.index[-1] < cut,
-            progress=_share(share, 0.0, 0.8),
-        )  # fmt: skip
-        refits[name] = rolling_refits(
-            families[name], histories[name], refit_months, progress=_share(share, 0.8, 1.0)
-        )
-
+    modelled, scorecards, failures = _meter_models(
+        project, site, cut, request, no_weather, hourly,
+        workers=workers, scheduler=scheduler, progress=_share(progress, 0.05, 0.7),
+    )  # fmt: skip
+    names = [name for name in names if name in modelled]
+    histories = {name: site.meter(name).history(cut, weather=not no_weather) for name in names}
     prices = bill_prices(project)
-    plans = []
-    for name in names:
-        model = fresh(families[name]).fit(histories[name])
-        plans.append(MeterPlan(name, utilities[name], model, histories[name], calendar=calendar,
-                               residuals=refits[name].errors,
-                               **_price(utilities[name], request, prices)))  # fmt: skip
+    plans = [_plan(site.meter(name), modelled[name], histories[name], site, request, prices)
+             for name in names]  # fmt: skip
+    refits = {name: modelled[name].refits for name in names}
     past = backtest_budget(
         plans_from_refits(plans, refits),
         histories,
@@ -218,7 +198,7 @@ def budget_project(
     )
     run.assumptions.update(
         {
-            "models": {name: families[name].label for name in names},
+            "models": {name: modelled[name].model.label for name in names},
             "model error": f"out-of-sample errors of each meter's model refitted before each of "
             f"the {ERROR_MONTHS} months before the as-of date (month-ahead, actual weather)",
             "calibration": f"the {request.calibration_origins} most recent past month-ahead "
@@ -227,6 +207,10 @@ def budget_project(
     )
     if no_weather:
         run.cautions.append(no_weather)
+    run.cautions += [
+        f"Meter '{failure.name}' is left out of this budget: {failure.reason}"
+        for failure in failures
+    ]
     priced_by_bills = {plan.utility for plan in plans if plan.rate is not None}
     if priced_by_bills:
         run.assumptions["prices from bills"] = {
@@ -236,10 +220,115 @@ def budget_project(
     step(progress, 1.0, "budget ready")
     return ProjectBudget(
         run=run,
-        quality={name: _quality(project, name) for name in names},
-        steps=[s for name in names for s in project.cleaning_steps(name)],
+        quality={name: site.meter(name).quality() for name in names},
+        steps=[s for name in names for s in site.meter(name).steps],
         scorecards=scorecards,
         data_range={name: _range(histories[name]) for name in names},
+    )
+
+
+def _meter_models(
+    project: Project,
+    site: PreparedSite,
+    cut: pd.Timestamp,
+    request: BudgetRequest,
+    no_weather: str,
+    hourly: pd.Series | None,
+    *,
+    workers: int | None,
+    scheduler: str | None,
+    progress: Progress | None,
+) -> tuple[dict[str, MeterModels], dict[str, dict], list[MeterFailure]]:
+    """Each meter's model, fit and refits: kept ones where their inputs are unchanged, the
+    others made side by side and kept; the backtest scores shown beside each model; and the
+    meters that could not be modelled (the budget goes on without them and says so).
+
+    A meter uses its stored model choice unless the budget drops the weather it was made with;
+    otherwise the fit wizard chooses on the readings before the cut, and its choice is stored
+    when no reading comes after the cut (same inputs as a fit of the whole history).
+    """
+    refit_months = request.calibration_origins + ERROR_MONTHS
+    modelled: dict[str, MeterModels] = {}
+    scorecards: dict[str, dict] = {}
+    jobs, keys = [], {}
+    for name, ready in site.meters.items():
+        stored = project.results("model", name) if not no_weather else []
+        choice = stored[-1]["body"] if stored else None
+        job = MeterJob(
+            name,
+            ready.history(cut, weather=not no_weather),
+            None if no_weather else hourly,
+            _unfitted(choice) if choice else None,
+            refit_months=refit_months,
+        )
+        keys[name] = job_key(job)
+        found = kept(project, job, keys[name])
+        if found is not None:
+            modelled[name], scorecards[name] = found
+        else:
+            jobs.append(job)
+        if choice:
+            scorecards[name] = _scores(choice["choice"], choice["model"]["family"])
+    results, failures = run_per_meter(
+        model_meter, jobs, workers=workers, scheduler=scheduler, progress=progress
+    )
+    if failures and not (results or modelled):
+        raise failures[0].error()
+    with project.transaction():
+        for job in jobs:
+            made = results.get(job.name)
+            if made is None:
+                continue
+            if made.model is None:
+                failures.append(MeterFailure(job.name, _no_choice(made), True))
+                continue
+            if made.comparison is not None:
+                scorecards[job.name] = _scores(made.comparison.choice.to_dict(), made.model.family)
+                if site.meter(job.name).inputs.index[-1] < cut:
+                    keep_fit(project, made, job.history)
+            keep(project, made, keys[job.name], scorecards[job.name])
+            modelled[job.name] = made
+    if failures and not modelled:
+        raise failures[0].error()
+    return modelled, scorecards, failures
+
+
+def _unfitted(choice: dict) -> dict:
+    """The stored choice's settings as an unfitted model's JSON (its fit is not needed)."""
+    stored = choice["model"]
+    return MODEL_FAMILIES[stored["family"]](**stored.get("settings", {})).to_dict()
+
+
+def _scores(choice: dict, family: str) -> dict:
+    """The chosen family's row of the wizard's ranking ({} when it has none)."""
+    return {row["model"]: row for row in choice.get("ranking", [])}.get(family, {})
+
+
+def _no_choice(made: MeterModels) -> str:
+    warnings = made.comparison.choice.warnings if made.comparison is not None else ()
+    return (
+        "no model could be chosen from its readings before the as-of date: "
+        f"{'; '.join(warnings) or 'every family failed'}."
+    )
+
+
+def _plan(
+    ready: ReadyMeter,
+    made: MeterModels,
+    history: ModelInputs,
+    site: PreparedSite,
+    request: BudgetRequest,
+    prices: dict[str, BillPrice],
+) -> MeterPlan:
+    """The meter's budget plan: its model fitted on the history, its refits' errors, price."""
+    return MeterPlan(
+        ready.name,
+        ready.utility,
+        made.model,
+        history,
+        calendar=site.calendar,
+        residuals=made.refits.errors,
+        **_price(ready.utility, request, prices),
     )
 
 
@@ -255,41 +344,6 @@ def _price(utility: str, request: BudgetRequest, prices: dict[str, BillPrice]) -
 
 def _share(progress: Progress | None, start: float, stop: float) -> Progress | None:
     return progress.part(start, stop) if progress is not None else None
-
-
-def _family_and_scores(
-    project: Project,
-    name: str,
-    history: ModelInputs,
-    hourly: pd.Series | None,
-    *,
-    stored: bool,
-    storable: bool,
-    progress: Progress | None,
-) -> tuple[EnergyModel, dict]:
-    """The meter's model, unfitted, and its backtest scores.
-
-    The stored choice when there is one and ``stored`` allows it (the user's; not when the
-    budget drops the weather it was made with); otherwise the fit wizard's, made on
-    ``history``, and stored when ``storable`` (no reading after the as-of date, same inputs).
-    """
-    has_choice = stored and bool(project.results("model", name))
-    if has_choice or (stored and storable):
-        if not has_choice:
-            fit_meter(project, name, progress=progress)
-        model, choice = chosen_model(project, name)
-    else:
-        compared = compare_models(history, hourly, progress=progress)
-        if compared.choice.chosen is None:
-            raise InputError(
-                f"no model could be chosen for meter '{name}' from its readings before the "
-                f"as-of date: {'; '.join(compared.choice.warnings) or 'every family failed'}.",
-                hint="Choose a later as-of date, or import more history for this meter.",
-                file=project.path,
-            )
-        model, choice = compared.models[compared.choice.chosen], compared.choice.to_dict()
-    ranking = {row["model"]: row for row in choice.get("ranking", [])}
-    return fresh(model), ranking.get(model.family, {})
 
 
 def _weather(
@@ -318,13 +372,6 @@ def _weather(
     if request.weather == "past-years":
         return WeatherAssumption.past_years(temps), ""
     return WeatherAssumption.typical(temps), ""
-
-
-def _quality(project: Project, name: str) -> dict:
-    from engine.cleaning import quality_summary
-
-    meter, cleaned = cleaned_meter(project, name)
-    return quality_summary(meter.values, cleaned)
 
 
 def _range(history: ModelInputs) -> tuple[str, str]:

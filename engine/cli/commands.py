@@ -13,11 +13,12 @@ from engine.budgeting import budget_project, keep_budget
 from engine.cleaning import apply_recommended, review_meter
 from engine.cli import text
 from engine.cli.budget_options import request_from_args
+from engine.cli.progress_line import terminal_progress
 from engine.errors import InputError
 from engine.export.finance_workbook import write_finance_workbook
 from engine.export.profile_workbook import write_profile_workbook
 from engine.importing import create_project, read_project_files
-from engine.modelling import fit_meter, monthly_contributions
+from engine.modelling import fit_meters, monthly_contributions
 from engine.profile_run import profile_project_meter
 from engine.project import Project
 from engine.reading import ReadOptions, describe, read_file
@@ -108,8 +109,15 @@ def fit(args: argparse.Namespace) -> int:
         raise InputError("--origins must be at least 1.", hint="The default is 12.")
     with Project.open(args.project) as project:
         meters = []
-        for name in _meters(project, args.meter):
-            outcome = fit_meter(project, name, families=families, origins=args.origins)
+        outcomes = fit_meters(
+            project,
+            _meters(project, args.meter),
+            families=families,
+            origins=args.origins,
+            **_parallel(args),
+        )
+        for outcome in outcomes:
+            name = outcome.meter
             summary = outcome.backtest.summary()
             meters.append(
                 {
@@ -151,7 +159,7 @@ def budget(args: argparse.Namespace) -> int:
 
 def _budget_report(args: argparse.Namespace, project: Project) -> int:
     request = request_from_args(args, project)
-    outcome = budget_project(project, request)
+    outcome = budget_project(project, request, **_parallel(args))
     keep_budget(project, outcome.run)
     report = outcome.run.to_json()
     if args.xlsx:
@@ -166,6 +174,17 @@ def _budget_report(args: argparse.Namespace, project: Project) -> int:
         report["workbook"] = str(written.resolve())
     _emit(args, report, text.budget_report)
     return 0
+
+
+def _parallel(args: argparse.Namespace) -> dict:
+    """Where meters are modelled, and progress on stderr when it is a terminal."""
+    if args.workers is not None and args.workers < 1:
+        raise InputError("--workers must be at least 1.", hint="Leave it out to use every core.")
+    return {
+        "workers": args.workers,
+        "scheduler": args.scheduler,
+        "progress": terminal_progress(sys.stderr),
+    }
 
 
 def _contributions(outcome) -> list[dict]:

@@ -16,6 +16,7 @@ from collections.abc import Sequence
 from engine import __version__
 from engine.cli import commands
 from engine.errors import InputError, ProjectError
+from engine.wizard import DEFAULT_ORIGINS
 
 EXIT_OK, EXIT_INTERNAL, EXIT_BAD_INPUT = 0, 1, 2
 
@@ -84,8 +85,13 @@ def build_parser() -> argparse.ArgumentParser:
         help="comma-separated model families (default: every family that suits the meter)",
     )
     fit.add_argument(
-        "--origins", type=int, default=12, metavar="N", help="monthly backtest origins (12)"
+        "--origins",
+        type=int,
+        default=DEFAULT_ORIGINS,
+        metavar="N",
+        help=f"monthly backtest origins ({DEFAULT_ORIGINS})",
     )
+    _parallel_options(fit)
     _json_option(fit)
     fit.set_defaults(run=commands.fit)
 
@@ -132,6 +138,7 @@ def build_parser() -> argparse.ArgumentParser:
     budget.add_argument("--weather-file", metavar="FILE",
                         help="one-shot: the weather-station history")  # fmt: skip
     budget.add_argument("--timezone", metavar="TZ", help="one-shot: the site's time zone")
+    _parallel_options(budget)
     _json_option(budget)
     budget.set_defaults(run=commands.budget)
 
@@ -201,6 +208,21 @@ def _date_order_options(parser) -> None:
                        help="dates are written day before month (31/01/2025)")  # fmt: skip
     order.add_argument("--month-first", dest="dayfirst", action="store_const", const=False,
                        help="dates are written month before day (01/31/2025)")  # fmt: skip
+
+
+def _parallel_options(command: argparse.ArgumentParser) -> None:
+    command.add_argument(
+        "--workers",
+        type=int,
+        metavar="N",
+        help="worker processes that model meters side by side (default: every core; 1: none)",
+    )
+    command.add_argument(
+        "--scheduler",
+        metavar="ADDRESS",
+        help="model the meters on the Dask cluster whose scheduler is at ADDRESS "
+        "(e.g. tcp://10.0.0.5:8786) instead of local worker processes",
+    )
 
 
 def _json_option(parser: argparse.ArgumentParser) -> None:

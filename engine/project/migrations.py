@@ -26,8 +26,14 @@ def _add_results_table(conn: sqlite3.Connection) -> None:
         conn.execute(statement)
 
 
+def _add_kept_models_table(conn: sqlite3.Connection) -> None:
+    """Format 2 → 3: a table for the budget modelling kept between runs."""
+    for statement in schema.SCHEMA_V3_ADDITIONS:
+        conn.execute(statement)
+
+
 #: ``{from_version: step}``; each step upgrades a file from ``from_version`` to the next.
-MIGRATIONS: dict[int, Migration] = {1: _add_results_table}
+MIGRATIONS: dict[int, Migration] = {1: _add_results_table, 2: _add_kept_models_table}
 
 log = logging.getLogger(__name__)
 

@@ -24,6 +24,7 @@ from engine.progress import Progress
 from engine.project import (
     bill_table,
     cleaning_table,
+    kept_table,
     meter_tables,
     migrations,
     results_table,
@@ -363,6 +364,22 @@ class Project:
     def remove_result(self, result_id: int) -> None:
         with self._writing() as conn:
             results_table.remove_result(conn, result_id)
+
+    # -- budget modelling kept between runs ---------------------------------------------
+
+    def find_kept(self, meter: str, key: str) -> dict | None:
+        """The document kept for ``meter`` under ``key`` (:mod:`engine.kept_models`), or None."""
+        with self._reading() as conn:
+            return kept_table.find_kept(conn, meter, key)
+
+    def put_kept(self, meter: str, key: str, body: dict, keep: int) -> None:
+        """Keep ``body`` for ``meter`` under ``key``, and only the newest ``keep`` of the meter."""
+        with self._writing() as conn:
+            kept_table.put_kept(conn, meter, key, body, keep)
+
+    def count_kept(self, meter: str | None = None) -> int:
+        with self._reading() as conn:
+            return kept_table.count_kept(conn, meter)
 
     # -- overview -------------------------------------------------------------------------
 

@@ -23,7 +23,7 @@ import sqlite3
 APPLICATION_ID = int.from_bytes(b"LdLg", "big")
 
 #: ``PRAGMA user_version`` written by this code; older files are upgraded on open.
-FORMAT_VERSION = 2
+FORMAT_VERSION = 3
 
 #: What a source file may hold (the CHECK on ``sources.kind`` lists the same words).
 SOURCE_KINDS: tuple[str, ...] = ("meters", "bills", "weather", "calendar", "tariff")
@@ -121,6 +121,20 @@ SCHEMA_V2_ADDITIONS: tuple[str, ...] = (
     "CREATE INDEX results_by_kind ON results (kind, meter, id)",
 )
 
+#: Format 3 keeps each meter's budget modelling (model choice, fit, refits and their errors)
+#: between runs, under a digest of everything it was computed from (see
+#: :mod:`engine.kept_models`); the key column makes a lookup read one document.
+SCHEMA_V3_ADDITIONS: tuple[str, ...] = (
+    """CREATE TABLE kept_models (
+        id INTEGER PRIMARY KEY,
+        meter TEXT NOT NULL,
+        key TEXT NOT NULL,
+        created_at INTEGER NOT NULL,
+        body TEXT NOT NULL
+    )""",
+    "CREATE INDEX kept_models_by_meter ON kept_models (meter, key)",
+)
+
 #: Tables a file of the current format must have.
 TABLES: frozenset[str] = frozenset(
     {
@@ -133,6 +147,7 @@ TABLES: frozenset[str] = frozenset(
         "weather",
         "cleaning_steps",
         "results",
+        "kept_models",
     }
 )
 
@@ -142,7 +157,7 @@ def create_schema(conn: sqlite3.Connection) -> None:
 
     Statements run one by one because ``executescript`` would commit the open transaction.
     """
-    for statement in (*SCHEMA_V1, *SCHEMA_V2_ADDITIONS):
+    for statement in (*SCHEMA_V1, *SCHEMA_V2_ADDITIONS, *SCHEMA_V3_ADDITIONS):
         conn.execute(statement)
     conn.execute(f"PRAGMA application_id = {APPLICATION_ID}")
     conn.execute(f"PRAGMA user_version = {FORMAT_VERSION}")

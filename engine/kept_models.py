@@ -1,0 +1,83 @@
+"""A meter's budget modelling kept in the project file between runs, keyed by what it used.
+
+A budget's slow part is per meter and does not depend on the budget's period, weather
+assumption or tariff: the model choice, its fit on the history and its refits before each past
+month with their out-of-sample errors. They are kept in the project's ``kept_models`` table under a
+key that digests everything they were computed from: the model inputs (readings after the
+cleaning log, the calendar's labels, the temperatures), the weather history the wizard used,
+the model settings, the number of refitted months, and the engine's version. A later budget
+whose key matches reuses them; any change to one of those gives another key, so nothing stale
+is ever used. Only the newest :data:`KEEP_PER_METER` entries of a meter are kept.
+"""
+
+from __future__ import annotations
+
+from importlib.metadata import PackageNotFoundError, version
+
+from engine.budget.refits import RollingRefits
+from engine.errors import ProjectError
+from engine.models import RefitNeeded, model_from_dict
+from engine.prepared_site import fingerprint
+from engine.project import Project
+from engine.wizard import MeterJob, MeterModels
+
+#: Layout of the kept document; a change of layout or of the engine makes old entries misses.
+LAYOUT = 1
+KEEP_PER_METER = 3
+
+
+def job_key(job: MeterJob) -> str:
+    """The digest of everything :func:`engine.wizard.model_meter` computes ``job`` from."""
+    wizard = job.model is None
+    return fingerprint(
+        job.history,
+        job.weather if wizard else None,
+        {
+            "model": job.model,
+            "families": list(job.families or ()),
+            "origins": job.origins if wizard else None,
+            "refit months": job.refit_months,
+            "layout": LAYOUT,
+            "engine": _engine_version(),
+        },
+    )
+
+
+def kept(project: Project, job: MeterJob, key: str) -> tuple[MeterModels, dict] | None:
+    """The meter's kept modelling under ``key`` and the scores kept beside it, or None
+    (never a stale one)."""
+    body = project.find_kept(job.name, key)
+    if body is None:
+        return None
+    try:
+        made = MeterModels(
+            name=job.name,
+            family=model_from_dict(body["family"]),
+            model=model_from_dict(body["model"]),
+            comparison=None,
+            refits=RollingRefits.from_dict(body["refits"]),
+            seconds=0.0,
+        )
+    except (RefitNeeded, ProjectError, KeyError, TypeError, ValueError):
+        return None
+    return made, dict(body.get("scorecard", {}))
+
+
+def keep(project: Project, made: MeterModels, key: str, scorecard: dict) -> None:
+    """Keep ``made`` under ``key`` with the backtest scores the budget shows beside it;
+    older entries of the meter beyond :data:`KEEP_PER_METER` are dropped."""
+    body = {
+        "layout": LAYOUT,
+        "family": made.family.to_dict(),
+        "model": made.model.to_dict(),
+        "refits": made.refits.to_dict(),
+        "scorecard": scorecard,
+    }
+    project.put_kept(made.name, key, body, KEEP_PER_METER)
+
+
+def _engine_version() -> str:
+    try:
+        return version("loadledger")
+    except PackageNotFoundError:
+        return "unknown"

@@ -1,0 +1,201 @@
+"""Run one function per meter: in this process, in local worker processes, or on a cluster.
+
+Meters are independent until their budgets are summed, so their modelling runs side by side:
+by default in worker processes, one per core (``concurrent.futures``); given the address of a
+Dask ``distributed`` scheduler, on its workers (``Client.get_executor``), for sites with more
+meters than one machine can model in time. The function must be a module-level function of
+one picklable argument (the job) whose ``name`` names the meter.
+
+Progress names the meter just finished, counts meters done and estimates the time left from
+the pace so far. Cancelling stops waiting at once and ends the local worker processes. A meter
+whose work fails is reported with its reason (:class:`MeterFailure`); the others' results
+still come back.
+"""
+
+from __future__ import annotations
+
+import multiprocessing
+import os
+import time
+from collections.abc import Callable, Sequence
+from concurrent.futures import FIRST_COMPLETED, Executor, Future, ProcessPoolExecutor, wait
+from concurrent.futures.process import BrokenProcessPool
+from dataclasses import dataclass
+from typing import Any, Protocol, TypeVar
+
+from engine.errors import InputError
+from engine.progress import Cancelled, Progress, step
+
+#: Seconds to wait for a Dask scheduler to answer before giving up.
+CONNECT_SECONDS = 10
+#: How often the caller's cancel flag is looked at while meters run (seconds).
+_POLL_SECONDS = 0.2
+
+
+class Named(Protocol):
+    name: str
+
+
+Job = TypeVar("Job", bound=Named)
+
+
+@dataclass(frozen=True)
+class MeterFailure:
+    """A meter whose work failed: the reason, and whether it is the user's to fix."""
+
+    name: str
+    reason: str
+    user_error: bool
+
+    def error(self) -> InputError:
+        return InputError(
+            f"meter '{self.name}' could not be modelled: {self.reason}",
+            hint="Check the meter's readings and cleaning, or leave it out with --meter.",
+        )
+
+
+def default_workers() -> int:
+    """The cores this process may use."""
+    try:
+        return len(os.sched_getaffinity(0))
+    except AttributeError:  # not on Linux
+        return os.cpu_count() or 1
+
+
+def run_per_meter(
+    function: Callable[..., Any],
+    jobs: Sequence[Job],
+    *,
+    workers: int | None = None,
+    scheduler: str | None = None,
+    progress: Progress | None = None,
+) -> tuple[dict[str, Any], list[MeterFailure]]:
+    """``function(job)`` for every job; results by meter name, and the meters that failed.
+
+    Parameters
+    ----------
+    function : callable
+        A module-level function of a job (and, when run here, ``progress=``).
+    jobs : sequence
+        One per meter, each with a ``name``.
+    workers : int, optional
+        Local worker processes (default: every core); 1 runs the jobs in this process,
+        with progress inside each meter.
+    scheduler : str, optional
+        Address of a Dask distributed scheduler (``tcp://host:8786``); its workers run the
+        jobs instead of local processes.
+    progress : Progress, optional
+        Stepped per meter; cancelling raises ``Cancelled``.
+    """
+    if not jobs:
+        return {}, []
+    count = default_workers() if workers is None else max(int(workers), 1)
+    if scheduler is None and (count == 1 or len(jobs) == 1):
+        return _run_here(function, jobs, progress)
+    if scheduler is not None:
+        client = _connect(scheduler)
+        try:
+            return _run_on(client.get_executor(), function, jobs, progress, None)
+        finally:
+            client.close()
+    context = multiprocessing.get_context("spawn" if os.name == "nt" else "forkserver")
+    pool = ProcessPoolExecutor(max_workers=min(count, len(jobs)), mp_context=context)
+    return _run_on(pool, function, jobs, progress, pool)
+
+
+def _run_here(
+    function: Callable[..., Any], jobs: Sequence[Job], progress: Progress | None
+) -> tuple[dict[str, Any], list[MeterFailure]]:
+    results, failures = {}, []
+    for number, job in enumerate(jobs):
+        part = progress.part(number / len(jobs), (number + 1) / len(jobs)) if progress else None
+        try:
+            results[job.name] = function(job, progress=part)
+        except Cancelled:
+            raise
+        except Exception as error:  # a meter's failure is reported; the others go on
+            failures.append(_failure(job.name, error))
+    return results, failures
+
+
+def _run_on(
+    executor: Executor,
+    function: Callable[..., Any],
+    jobs: Sequence[Job],
+    progress: Progress | None,
+    pool: ProcessPoolExecutor | None,
+) -> tuple[dict[str, Any], list[MeterFailure]]:
+    started = time.perf_counter()
+    names: dict[Future, str] = {executor.submit(function, job): job.name for job in jobs}
+    results: dict[str, Any] = {}
+    failures: list[MeterFailure] = []
+    pending = set(names)
+    step(progress, 0.0, f"modelling {len(jobs)} meters on {_where(pool)}")
+    try:
+        while pending:
+            if progress is not None and progress.cancelled:
+                raise Cancelled("cancelled")
+            finished, pending = wait(pending, timeout=_POLL_SECONDS, return_when=FIRST_COMPLETED)
+            for future in finished:
+                name = names[future]
+                try:
+                    results[name] = future.result()
+                except BrokenProcessPool:
+                    failures.append(MeterFailure(name, "its worker process died", False))
+                except Exception as error:  # a meter's failure is reported; the others go on
+                    failures.append(_failure(name, error))
+                done = len(results) + len(failures)
+                step(progress, done / len(jobs), _pace(name, done, len(jobs), started))
+    except BaseException:
+        for future in pending:
+            future.cancel()
+        if pool is not None:
+            _end_workers(pool)
+        raise
+    if pool is not None:
+        pool.shutdown()
+    return results, failures
+
+
+def _pace(name: str, done: int, total: int, started: float) -> str:
+    """ "'Library' done (3 of 8), about 40 s left"."""
+    message = f"'{name}' done ({done} of {total})"
+    if done < total:
+        left = (time.perf_counter() - started) / done * (total - done)
+        message += f", about {left:.0f} s left"
+    return message
+
+
+def _where(pool: ProcessPoolExecutor | None) -> str:
+    return "the cluster" if pool is None else f"{pool._max_workers} worker processes"
+
+
+def _end_workers(pool: ProcessPoolExecutor) -> None:
+    """Stop the pool's processes now (running meters included) and let it go."""
+    for process in list(getattr(pool, "_processes", {}).values()):
+        process.terminate()
+    pool.shutdown(wait=False, cancel_futures=True)
+
+
+def _failure(name: str, error: Exception) -> MeterFailure:
+    if isinstance(error, InputError):
+        return MeterFailure(name, error.message, True)
+    return MeterFailure(name, f"{type(error).__name__}: {error}", False)
+
+
+def _connect(address: str) -> Any:
+    """A client of the Dask scheduler at ``address``; a clear error when it cannot be reached."""
+    try:
+        from distributed import Client
+    except ImportError:
+        raise InputError(
+            "running on a cluster needs the Dask 'distributed' package.",
+            hint="Install it (pip install 'loadledger[cluster]'), or leave out --scheduler.",
+        ) from None
+    try:
+        return Client(address, timeout=CONNECT_SECONDS, set_as_default=False)
+    except (OSError, TimeoutError, ValueError, TypeError) as error:
+        raise InputError(
+            f"the Dask scheduler at '{address}' cannot be reached ({error}).",
+            hint="Check the address (e.g. tcp://10.0.0.5:8786) and that the scheduler runs.",
+        ) from None
