@@ -35,7 +35,7 @@ from engine.models._inputs import (
     require_same_step,
     step_of,
 )
-from engine.models._statsmodels import estimate
+from engine.models._statsmodels import ETSRun, fit_ets
 from engine.models.base import ModelInputs
 
 RESOLUTIONS: tuple[str, ...] = ("interval", "day")
@@ -97,6 +97,8 @@ class MSTLETSModel(DayTotalsModel):
     label = "MSTL decomposition with ETS (MSTL-ETS)"
     explainable = False
 
+    _run: tuple[np.ndarray, ETSRun] | None
+
     def __init__(
         self,
         resolution: str = "interval",
@@ -146,26 +148,32 @@ class MSTLETSModel(DayTotalsModel):
         )
         if per_day == 1 and len(values) > 2 * _DAYS_PER_YEAR:  # MSTL drops longer periods
             periods = (7, _DAYS_PER_YEAR)
-        self._parts = seasonal_parts(values, periods)
-        adjusted = values - self._parts.sum(axis=1)
-        result, self.converged_ = estimate(lambda: self._ets(adjusted).fit(disp=False))
+        parts, ets = self._split(values, periods)
+        self.parameters_, self.converged_ = fit_ets(ets)
         self.history_ = StoredSeries(stamps[start], to_offset(step).freqstr, values)
         self.periods_ = periods
-        self.parameters_ = np.asarray(result.params, dtype=float)
+        self._run = parts, ETSRun.smooth(ets, self.parameters_)
         shapes = self.day_shapes_.n_parameters if self.by_day_ else 0
         self.n_parameters_ = len(self.parameters_) + sum(periods) + shapes
         return self
 
+    def _split(self, values: np.ndarray, periods: tuple[int, ...]) -> tuple[np.ndarray, ETSModel]:
+        """MSTL's cycles of ``values`` and the ETS model of what they leave."""
+        parts = seasonal_parts(values, periods)
+        return parts, self._ets(values - parts.sum(axis=1))
+
+    def _decomposed(self) -> tuple[np.ndarray, ETSRun]:
+        """The cycles of the history and the smoother's run over the rest: kept from the fit,
+        rebuilt once after loading."""
+        if self._run is None:
+            parts, ets = self._split(self.history_.values, self.periods_)
+            self._run = parts, ETSRun.smooth(ets, self.parameters_)
+        return self._run
+
     def _path(self, horizon: int) -> np.ndarray:
         """In-sample one-step values over the history, then ``horizon`` forecasts."""
-        if getattr(self, "_parts", None) is None:
-            self._parts = seasonal_parts(self.history_.values, self.periods_)
-        adjusted = self.history_.values - self._parts.sum(axis=1)
-        smoothed = self._ets(adjusted).smooth(self.parameters_)
-        trend = np.asarray(smoothed.fittedvalues, dtype=float)
-        if horizon:
-            trend = np.concatenate([trend, np.asarray(smoothed.forecast(horizon), dtype=float)])
-        return trend + repeated_seasons(self._parts, self.periods_, horizon)
+        parts, run = self._decomposed()
+        return run.path(horizon) + repeated_seasons(parts, self.periods_, horizon)
 
     def _day_energy(self, view: DailyView) -> np.ndarray:
         return self.history_.continued(view.days, self._path)
@@ -201,4 +209,4 @@ class MSTLETSModel(DayTotalsModel):
         self.parameters_ = float_array(state["parameters"])
         self.converged_ = bool(state["converged"])
         self.n_parameters_ = int(state["n_parameters"])
-        self._parts = None
+        self._run = None

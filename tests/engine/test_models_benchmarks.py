@@ -33,7 +33,7 @@ from engine.models import (
     SeasonalNaiveModel,
 )
 from engine.models._history import bridged_stretch
-from engine.models._statsmodels import estimate
+from engine.models._statsmodels import ETSRun, estimate, fit_ets
 from engine.models.mstl_ets import repeated_seasons
 
 
@@ -218,3 +218,34 @@ def test_estimation_notices_are_recorded_and_others_pass_through():
 
     with pytest.warns(RuntimeWarning, match="unexpected"):
         assert estimate(surprising) == (1, True)
+
+
+@pytest.mark.parametrize(
+    ("trend", "damped", "seasonal"),
+    [("add", True, "add"), ("add", False, "add"), (None, False, "add"), ("add", True, None)],
+)
+def test_ets_runs_forecast_what_statsmodels_results_forecast(trend, damped, seasonal):
+    # Reference: statsmodels' own ETSResults (smoothed with the same parameters), whose
+    # forecast simulates the state equations with zero errors.
+    days = np.arange(300)
+    rng = np.random.default_rng(3)
+    values = 500 + 0.3 * days + 40 * np.sin(2 * np.pi * days / 7) + rng.normal(0, 5, len(days))
+    model = ETSModel(
+        values,
+        error="add",
+        trend=trend,
+        damped_trend=damped,
+        seasonal=seasonal,
+        seasonal_periods=7 if seasonal else None,
+    )
+    params, _ = fit_ets(model)
+    reference = model.smooth(params)
+    path = ETSRun.smooth(model, params).path(45)
+    np.testing.assert_allclose(path[:300], reference.fittedvalues, rtol=1e-12)
+    np.testing.assert_allclose(path[300:], reference.forecast(45), rtol=1e-12)
+
+
+def test_ets_runs_refuse_multiplicative_forms():
+    model = ETSModel(np.linspace(10, 20, 60), error="mul", trend="add")
+    with pytest.raises(ValueError, match="additive"):
+        ETSRun.smooth(model, model.start_params)
