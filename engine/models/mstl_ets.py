@@ -8,8 +8,8 @@ does. At the ``"interval"`` resolution the cycles are the day and the week, in s
 grid (so around daylight-saving changes the daily cycle is an hour off the local clock for a
 while); at ``"day"`` resolution the model works on daily totals with a weekly cycle (and an
 annual one given two years), spread over each day's intervals by the typical day shape.
-MSTL runs with the fast settings of :data:`engine.decomposition.STL_SETTINGS`. No weather or
-calendar drivers: shown as less explainable.
+MSTL runs with :data:`MSTL_SETTINGS`. No weather or calendar drivers: shown as less
+explainable.
 """
 
 from __future__ import annotations
@@ -40,11 +40,17 @@ from engine.models.base import ModelInputs
 
 RESOLUTIONS: tuple[str, ...] = ("interval", "day")
 _DAYS_PER_YEAR = 365
+#: The fast settings of :data:`engine.decomposition.STL_SETTINGS`, with the low-pass LOESS
+#: evaluated at every 10th point instead of every 2nd and interpolated between (R's ``stl``
+#: jumps a tenth of each window by default; the weekly cycle's low-pass window is 169 hours).
+#: On the sample campus's seven hourly meters this halves the time of the fits in the wizard's
+#: backtest and leaves the month-total errors the same to within 0.1 percentage point.
+MSTL_SETTINGS: dict[str, int] = {**STL_SETTINGS, "low_pass_jump": 10}
 
 
 def seasonal_parts(values: np.ndarray, periods: tuple[int, ...]) -> np.ndarray:
     """MSTL's seasonal components of ``values``, one column per period."""
-    result = MSTL(values, periods=periods, stl_kwargs=dict(STL_SETTINGS)).fit()
+    result = MSTL(values, periods=periods, stl_kwargs=dict(MSTL_SETTINGS)).fit()
     return np.asarray(result.seasonal, dtype=float).reshape(len(values), -1)
 
 

@@ -23,7 +23,6 @@ from test_models_campus import (
     synthetic_campus,
 )
 
-from engine.decomposition import STL_SETTINGS
 from engine.errors import InputError
 from engine.models import (
     DailyETSModel,
@@ -34,7 +33,7 @@ from engine.models import (
 )
 from engine.models._history import bridged_stretch
 from engine.models._statsmodels import ETSRun, estimate, fit_ets
-from engine.models.mstl_ets import repeated_seasons
+from engine.models.mstl_ets import MSTL_SETTINGS, repeated_seasons
 
 
 def _hourly(values: np.ndarray, start: str, zone: str) -> ModelInputs:
@@ -158,7 +157,7 @@ def test_mstl_ets_is_mstl_carried_forward_plus_ets(campus_year):
     forecast = model.predict(future.without_energy()).to_numpy()
     values = fit.energy.to_numpy()
     seasonal = np.asarray(
-        MSTL(values, periods=(24, 168), stl_kwargs=dict(STL_SETTINGS)).fit().seasonal
+        MSTL(values, periods=(24, 168), stl_kwargs=dict(MSTL_SETTINGS)).fit().seasonal
     )
     ets = ETSModel(values - seasonal.sum(axis=1), error="add", trend="add", damped_trend=True)
     trend = ets.fit(disp=False).forecast(len(forecast))
