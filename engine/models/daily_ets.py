@@ -6,7 +6,8 @@ daily energy; forecasts continue from the end of the history, and each day is sp
 intervals by the meter's typical day shape. It uses neither weather nor the campus calendar, so
 it is shown as less explainable. Missing days are bridged (see
 :func:`engine.models._history.bridged_stretch`); the fitted parameters and the bridged daily
-history are stored, and predictions re-run the smoother with those parameters.
+history are stored. The smoother's run over that history is kept from the fit (and rebuilt
+once after loading), so predictions only extend its final states.
 """
 
 from __future__ import annotations
@@ -21,7 +22,7 @@ from engine.models._day_totals import DayTotalsModel
 from engine.models._days import DailyView
 from engine.models._family import float_array, float_list
 from engine.models._history import StoredSeries, bridged_stretch
-from engine.models._statsmodels import estimate
+from engine.models._statsmodels import ETSRun, fit_ets
 from engine.models.base import ModelInputs
 
 _WEEK = 7
@@ -55,6 +56,8 @@ class DailyETSModel(DayTotalsModel):
     label = "exponential smoothing of daily totals (ETS)"
     explainable = False
 
+    _run: ETSRun | None
+
     def __init__(
         self, trend: bool = True, damped_trend: bool = True, longest_gap_days: int = 14
     ) -> None:
@@ -84,22 +87,21 @@ class DailyETSModel(DayTotalsModel):
             minimum=4 * _WEEK,
             what=self.label,
         )
-        result, self.converged_ = estimate(lambda: self._model(values).fit(disp=False))
+        model = self._model(values)
+        self.parameters_, self.converged_ = fit_ets(model)
         self.history_ = StoredSeries(every_day[start], "D", values)
-        self.parameters_ = np.asarray(result.params, dtype=float)
+        self._run = ETSRun.smooth(model, self.parameters_)
         self.n_parameters_ = len(self.parameters_) + self.day_shapes_.n_parameters
         return self
 
-    def _path(self, horizon: int) -> np.ndarray:
-        """One-step-ahead values over the history, then ``horizon`` forecasts."""
-        smoothed = self._model(self.history_.values).smooth(self.parameters_)
-        fitted = np.asarray(smoothed.fittedvalues, dtype=float)
-        if horizon == 0:
-            return fitted
-        return np.concatenate([fitted, np.asarray(smoothed.forecast(horizon), dtype=float)])
+    def _smoothed(self) -> ETSRun:
+        """The smoother's run over the history: kept from the fit, rebuilt once after loading."""
+        if self._run is None:
+            self._run = ETSRun.smooth(self._model(self.history_.values), self.parameters_)
+        return self._run
 
     def _day_energy(self, view: DailyView) -> np.ndarray:
-        return self.history_.continued(view.days, self._path)
+        return self.history_.continued(view.days, self._smoothed().path)
 
     def _fitted_state(self) -> dict[str, Any]:
         return {
@@ -116,3 +118,4 @@ class DailyETSModel(DayTotalsModel):
         self.parameters_ = float_array(state["parameters"])
         self.converged_ = bool(state["converged"])
         self.n_parameters_ = int(state["n_parameters"])
+        self._run = None

@@ -15,6 +15,7 @@ from typing import Any
 
 import numpy as np
 import pandas as pd
+from statsmodels.tsa.statespace.mlemodel import MLEResults
 from statsmodels.tsa.statespace.sarimax import SARIMAX
 
 from engine.errors import InputError
@@ -65,6 +66,8 @@ class MonthlySARIMAModel(DayTotalsModel):
     label = "seasonal ARIMA of monthly energy (SARIMA)"
     explainable = False
 
+    _smoothed: MLEResults | None
+
     def __init__(
         self,
         order: tuple[int, int, int] = (1, 0, 0),
@@ -104,10 +107,11 @@ class MonthlySARIMAModel(DayTotalsModel):
         with np.errstate(invalid="ignore", divide="ignore"):
             self.monthly_energy_ = np.where(enough, total / count, np.nan)
         result, self.converged_ = estimate(
-            lambda: self._model(self.monthly_energy_).fit(disp=False)
+            lambda: self._model(self.monthly_energy_).fit(disp=False, cov_type="none")
         )
         self.first_month_ = str(months[0])
         self.parameters_ = np.asarray(result.params, dtype=float)
+        self._smoothed = result
         average = view.energy[whole].mean()
         ratios = [
             view.energy[whole & (view.group == code)].mean() / average
@@ -128,11 +132,16 @@ class MonthlySARIMAModel(DayTotalsModel):
                 "earlier months.",
                 hint="Predict the fit window or later.",
             )
-        smoothed, _ = estimate(lambda: self._model(self.monthly_energy_).smooth(self.parameters_))
-        path = np.asarray(
-            smoothed.get_prediction(start=0, end=int(position.max())).predicted_mean, dtype=float
-        )
-        return path[position] * self.day_group_ratios_[view.group]
+        path = self._smoother().get_prediction(start=0, end=int(position.max())).predicted_mean
+        return np.asarray(path, dtype=float)[position] * self.day_group_ratios_[view.group]
+
+    def _smoother(self) -> MLEResults:
+        """The state-space smoother over the monthly history with the fitted parameters: the
+        fit's own, or run once after loading."""
+        if self._smoothed is None:
+            model = self._model(self.monthly_energy_)
+            self._smoothed, _ = estimate(lambda: model.smooth(self.parameters_, cov_type="none"))
+        return self._smoothed
 
     def _fitted_state(self) -> dict[str, Any]:
         return {
@@ -153,3 +162,4 @@ class MonthlySARIMAModel(DayTotalsModel):
         self.day_group_ratios_ = float_array(state["day_group_ratios"])
         self.converged_ = bool(state["converged"])
         self.n_parameters_ = int(state["n_parameters"])
+        self._smoothed = None

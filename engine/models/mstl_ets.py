@@ -8,8 +8,8 @@ does. At the ``"interval"`` resolution the cycles are the day and the week, in s
 grid (so around daylight-saving changes the daily cycle is an hour off the local clock for a
 while); at ``"day"`` resolution the model works on daily totals with a weekly cycle (and an
 annual one given two years), spread over each day's intervals by the typical day shape.
-MSTL runs with the fast settings of :data:`engine.decomposition.STL_SETTINGS`. No weather or
-calendar drivers: shown as less explainable.
+MSTL runs with :data:`MSTL_SETTINGS`. No weather or calendar drivers: shown as less
+explainable.
 """
 
 from __future__ import annotations
@@ -35,16 +35,22 @@ from engine.models._inputs import (
     require_same_step,
     step_of,
 )
-from engine.models._statsmodels import estimate
+from engine.models._statsmodels import ETSRun, fit_ets
 from engine.models.base import ModelInputs
 
 RESOLUTIONS: tuple[str, ...] = ("interval", "day")
 _DAYS_PER_YEAR = 365
+#: The fast settings of :data:`engine.decomposition.STL_SETTINGS`, with the low-pass LOESS
+#: evaluated at every 10th point instead of every 2nd and interpolated between (R's ``stl``
+#: jumps a tenth of each window by default; the weekly cycle's low-pass window is 169 hours).
+#: On the sample campus (seven hourly meters, one daily) this halves the time of the fits in the
+#: wizard's backtest and leaves the month-total errors the same to within 0.1 percentage point.
+MSTL_SETTINGS: dict[str, int] = {**STL_SETTINGS, "low_pass_jump": 10}
 
 
 def seasonal_parts(values: np.ndarray, periods: tuple[int, ...]) -> np.ndarray:
     """MSTL's seasonal components of ``values``, one column per period."""
-    result = MSTL(values, periods=periods, stl_kwargs=dict(STL_SETTINGS)).fit()
+    result = MSTL(values, periods=periods, stl_kwargs=dict(MSTL_SETTINGS)).fit()
     return np.asarray(result.seasonal, dtype=float).reshape(len(values), -1)
 
 
@@ -97,6 +103,8 @@ class MSTLETSModel(DayTotalsModel):
     label = "MSTL decomposition with ETS (MSTL-ETS)"
     explainable = False
 
+    _run: tuple[np.ndarray, ETSRun] | None
+
     def __init__(
         self,
         resolution: str = "interval",
@@ -146,26 +154,32 @@ class MSTLETSModel(DayTotalsModel):
         )
         if per_day == 1 and len(values) > 2 * _DAYS_PER_YEAR:  # MSTL drops longer periods
             periods = (7, _DAYS_PER_YEAR)
-        self._parts = seasonal_parts(values, periods)
-        adjusted = values - self._parts.sum(axis=1)
-        result, self.converged_ = estimate(lambda: self._ets(adjusted).fit(disp=False))
+        parts, ets = self._split(values, periods)
+        self.parameters_, self.converged_ = fit_ets(ets)
         self.history_ = StoredSeries(stamps[start], to_offset(step).freqstr, values)
         self.periods_ = periods
-        self.parameters_ = np.asarray(result.params, dtype=float)
+        self._run = parts, ETSRun.smooth(ets, self.parameters_)
         shapes = self.day_shapes_.n_parameters if self.by_day_ else 0
         self.n_parameters_ = len(self.parameters_) + sum(periods) + shapes
         return self
 
+    def _split(self, values: np.ndarray, periods: tuple[int, ...]) -> tuple[np.ndarray, ETSModel]:
+        """MSTL's cycles of ``values`` and the ETS model of what they leave."""
+        parts = seasonal_parts(values, periods)
+        return parts, self._ets(values - parts.sum(axis=1))
+
+    def _decomposed(self) -> tuple[np.ndarray, ETSRun]:
+        """The cycles of the history and the smoother's run over the rest: kept from the fit,
+        rebuilt once after loading."""
+        if self._run is None:
+            parts, ets = self._split(self.history_.values, self.periods_)
+            self._run = parts, ETSRun.smooth(ets, self.parameters_)
+        return self._run
+
     def _path(self, horizon: int) -> np.ndarray:
         """In-sample one-step values over the history, then ``horizon`` forecasts."""
-        if getattr(self, "_parts", None) is None:
-            self._parts = seasonal_parts(self.history_.values, self.periods_)
-        adjusted = self.history_.values - self._parts.sum(axis=1)
-        smoothed = self._ets(adjusted).smooth(self.parameters_)
-        trend = np.asarray(smoothed.fittedvalues, dtype=float)
-        if horizon:
-            trend = np.concatenate([trend, np.asarray(smoothed.forecast(horizon), dtype=float)])
-        return trend + repeated_seasons(self._parts, self.periods_, horizon)
+        parts, run = self._decomposed()
+        return run.path(horizon) + repeated_seasons(parts, self.periods_, horizon)
 
     def _day_energy(self, view: DailyView) -> np.ndarray:
         return self.history_.continued(view.days, self._path)
@@ -201,4 +215,4 @@ class MSTLETSModel(DayTotalsModel):
         self.parameters_ = float_array(state["parameters"])
         self.converged_ = bool(state["converged"])
         self.n_parameters_ = int(state["n_parameters"])
-        self._parts = None
+        self._run = None

@@ -23,7 +23,6 @@ from test_models_campus import (
     synthetic_campus,
 )
 
-from engine.decomposition import STL_SETTINGS
 from engine.errors import InputError
 from engine.models import (
     DailyETSModel,
@@ -33,8 +32,8 @@ from engine.models import (
     SeasonalNaiveModel,
 )
 from engine.models._history import bridged_stretch
-from engine.models._statsmodels import estimate
-from engine.models.mstl_ets import repeated_seasons
+from engine.models._statsmodels import ETSRun, estimate, fit_ets
+from engine.models.mstl_ets import MSTL_SETTINGS, repeated_seasons
 
 
 def _hourly(values: np.ndarray, start: str, zone: str) -> ModelInputs:
@@ -158,7 +157,7 @@ def test_mstl_ets_is_mstl_carried_forward_plus_ets(campus_year):
     forecast = model.predict(future.without_energy()).to_numpy()
     values = fit.energy.to_numpy()
     seasonal = np.asarray(
-        MSTL(values, periods=(24, 168), stl_kwargs=dict(STL_SETTINGS)).fit().seasonal
+        MSTL(values, periods=(24, 168), stl_kwargs=dict(MSTL_SETTINGS)).fit().seasonal
     )
     ets = ETSModel(values - seasonal.sum(axis=1), error="add", trend="add", damped_trend=True)
     trend = ets.fit(disp=False).forecast(len(forecast))
@@ -218,3 +217,34 @@ def test_estimation_notices_are_recorded_and_others_pass_through():
 
     with pytest.warns(RuntimeWarning, match="unexpected"):
         assert estimate(surprising) == (1, True)
+
+
+@pytest.mark.parametrize(
+    ("trend", "damped", "seasonal"),
+    [("add", True, "add"), ("add", False, "add"), (None, False, "add"), ("add", True, None)],
+)
+def test_ets_runs_forecast_what_statsmodels_results_forecast(trend, damped, seasonal):
+    # Reference: statsmodels' own ETSResults (smoothed with the same parameters), whose
+    # forecast simulates the state equations with zero errors.
+    days = np.arange(300)
+    rng = np.random.default_rng(3)
+    values = 500 + 0.3 * days + 40 * np.sin(2 * np.pi * days / 7) + rng.normal(0, 5, len(days))
+    model = ETSModel(
+        values,
+        error="add",
+        trend=trend,
+        damped_trend=damped,
+        seasonal=seasonal,
+        seasonal_periods=7 if seasonal else None,
+    )
+    params, _ = fit_ets(model)
+    reference = model.smooth(params)
+    path = ETSRun.smooth(model, params).path(45)
+    np.testing.assert_allclose(path[:300], reference.fittedvalues, rtol=1e-12)
+    np.testing.assert_allclose(path[300:], reference.forecast(45), rtol=1e-12)
+
+
+def test_ets_runs_refuse_multiplicative_forms():
+    model = ETSModel(np.linspace(10, 20, 60), error="mul", trend="add")
+    with pytest.raises(ValueError, match="additive"):
+        ETSRun.smooth(model, model.start_params)
