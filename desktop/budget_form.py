@@ -112,6 +112,12 @@ class BudgetForm(QWidget):
         self.paths.setSingleStep(100)
         self.paths.setValue(DEFAULT_PATHS)
         self.paths.setToolTip("Simulated futures behind the P-levels: more is steadier, slower.")
+        self.scheduler = QLineEdit()
+        self.scheduler.setPlaceholderText("this computer, every core")
+        self.scheduler.setToolTip(
+            "For sites with hundreds of meters: the address of a Dask scheduler "
+            "(e.g. tcp://10.0.0.5:8786) whose workers model the meters."
+        )
         #: The period's own fields: the periods that show each, its label and its box.
         self.period_fields: list[tuple[tuple[str, ...], QLabel, QWidget]] = []
         self._lay_out()
@@ -146,6 +152,8 @@ class BudgetForm(QWidget):
         grid.addWidget(self.tariff, 1, 4, 1, 1)
         grid.addWidget(QLabel("Paths"), 2, 0)
         grid.addWidget(self.paths, 2, 1, Qt.AlignmentFlag.AlignLeft)
+        grid.addWidget(QLabel("Model meters on"), 2, 3, Qt.AlignmentFlag.AlignRight)
+        grid.addWidget(self.scheduler, 2, 4)
         grid.setColumnStretch(2, 1)
         grid.setColumnStretch(4, 1)
 
@@ -195,4 +203,5 @@ class BudgetForm(QWidget):
             weather_file=self.weather_file.text(),
             tariff_file=self.tariff.text(),
             paths=self.paths.value(),
+            scheduler=self.scheduler.text().strip(),
         )

@@ -51,6 +51,8 @@ class BudgetChoices:
     ``fiscal_year`` (named by the year it ends in), ``quarter`` and ``fiscal_start_month`` the
     "quarter" and "fiscal" ones. ``weather`` is one of :data:`WEATHER_CHOICES` or
     :data:`WEATHER_FILE` (then ``weather_file`` names the file); ``tariff_file`` may be empty.
+    ``scheduler`` is the address of a Dask scheduler to model the meters on; empty: this
+    computer's cores.
     """
 
     period: str
@@ -64,6 +66,7 @@ class BudgetChoices:
     weather_file: str = ""
     tariff_file: str = ""
     paths: int = DEFAULT_PATHS
+    scheduler: str = ""
 
 
 def period_months(choices: BudgetChoices) -> list[str]:
@@ -105,7 +108,12 @@ def run_budget(
     project: Project, choices: BudgetChoices, progress: Progress | None = None
 ) -> ProjectBudget:
     """Budget every meter of the project and keep the run in the project file."""
-    outcome = budget_project(project, request_for(project, choices), progress=progress)
+    outcome = budget_project(
+        project,
+        request_for(project, choices),
+        scheduler=choices.scheduler or None,
+        progress=progress,
+    )
     keep_budget(project, outcome.run)
     return outcome
 

@@ -130,8 +130,8 @@ def _run_on(
     results: dict[str, Any] = {}
     failures: list[MeterFailure] = []
     pending = set(names)
-    step(progress, 0.0, f"modelling {len(jobs)} meters on {_where(pool)}")
     try:
+        step(progress, 0.0, f"modelling {len(jobs)} meters on {_where(pool)}")
         while pending:
             if progress is not None and progress.cancelled:
                 raise Cancelled("cancelled")

@@ -795,3 +795,24 @@ def test_results_are_kept_as_json_documents(project: Project) -> None:
     assert project.results("model") == []
     with pytest.raises(ValueError, match="result kind"):
         project.add_result("picture", None, "", {})
+
+
+def test_the_format_2_fixture_still_opens(tmp_path: Path) -> None:
+    # Built once by tests/fixtures/projects/build_v2_fixture.py with the format-2 code; the
+    # expected content is that script's input data.
+    path = tmp_path / "v2_small.loadledger"
+    shutil.copyfile(FIXTURES / "v2_small.loadledger", path)
+    expected = json.loads((FIXTURES / "v2_small.expected.json").read_text(encoding="utf-8"))
+    assert int.from_bytes((FIXTURES / "v2_small.loadledger").read_bytes()[60:64], "big") == 2
+    with Project.open(path) as project:
+        assert project.upgrade_note == (
+            f"Upgraded 'v2_small.loadledger' from project format 2 to {FORMAT_VERSION}."
+        )
+        assert project.timezone == expected["timezone"]
+        stored = [project.results(kind)[0] for kind in ("model", "budget")]
+        assert [
+            {key: row[key] for key in ("kind", "meter", "label", "body")} for row in stored
+        ] == expected["results"]
+        assert project.count_kept() == 0  # format 3's kept-models table came with the upgrade
+        project.put_kept("Brightwater Hall main", "k", {"family": "seasonal_naive"}, keep=1)
+        assert project.find_kept("Brightwater Hall main", "k") == {"family": "seasonal_naive"}
