@@ -39,12 +39,15 @@ EPOCH = pd.Timestamp("2000-01-01")
 
 
 def fourier_columns(phase: np.ndarray, order: int) -> np.ndarray:
-    """``cos(2πk·phase), sin(2πk·phase)`` for k = 1..order, as ``2·order`` columns."""
-    angles = 2 * np.pi * phase[:, None] * np.arange(1, order + 1)[None, :]
-    columns = np.empty((len(phase), 2 * order))
-    columns[:, 0::2] = np.cos(angles)
-    columns[:, 1::2] = np.sin(angles)
-    return columns
+    """``cos(2πk·phase), sin(2πk·phase)`` for k = 1..order, as ``2·order`` columns.
+
+    The columns are contiguous (column-major), as the design matrix stores them.
+    """
+    angles = 2 * np.pi * phase[None, :] * np.arange(1, order + 1)[:, None]
+    rows = np.empty((2 * order, len(phase)))
+    np.cos(angles, out=rows[0::2])
+    np.sin(angles, out=rows[1::2])
+    return rows.T
 
 
 def fourier_names(prefix: str, order: int) -> list[str]:
@@ -183,17 +186,26 @@ def _effective_day_type(day_type: np.ndarray, learned: tuple[str, ...]) -> np.nd
 
 @dataclass
 class _Columns:
-    """Columns collected while building a design, with their component and name."""
+    """Blocks of columns collected for a design, with each column's component and name."""
 
-    values: list[np.ndarray] = field(default_factory=list)
+    blocks: list[np.ndarray] = field(default_factory=list)
     components: list[str] = field(default_factory=list)
     names: list[str] = field(default_factory=list)
 
     def add(self, component: str, names: list[str], values: np.ndarray) -> None:
         block = values[:, None] if values.ndim == 1 else values
-        self.values.extend(block.T)
+        self.blocks.append(block)
         self.components.extend([component] * block.shape[1])
         self.names.extend(names)
+
+    def design(self) -> Design:
+        """The blocks side by side in one column-major matrix (each column contiguous)."""
+        matrix = np.empty((len(self.blocks[0]), len(self.names)), order="F")
+        at = 0
+        for block in self.blocks:
+            matrix[:, at : at + block.shape[1]] = block
+            at += block.shape[1]
+        return Design(matrix, tuple(self.components), tuple(self.names))
 
 
 @dataclass(frozen=True)
@@ -208,18 +220,30 @@ class Design:
         return np.array([c == component for c in self.components])
 
 
+def _degree_hours(features: CalendarFeatures, base: float | np.ndarray, kind: str) -> np.ndarray:
+    """``(base − T)⁺`` or ``(T − base)⁺`` times the interval hours: intervals × bases.
+
+    Built base by base (rows of bases × intervals, transposed) so each column is contiguous.
+    """
+    bases = np.atleast_1d(base)[:, None]
+    temperature = features.temperature[None, :]
+    if kind == "heating":
+        difference = np.subtract(bases, temperature)
+    else:
+        difference = np.subtract(temperature, bases)
+    np.maximum(difference, 0.0, out=difference)
+    difference *= features.interval_hours
+    return difference.T.reshape((len(features), *np.shape(base)))
+
+
 def heating_column(features: CalendarFeatures, base: float | np.ndarray) -> np.ndarray:
     """Heating degree-hours per interval, ``(base − T)⁺ · interval hours``, per base."""
-    return np.maximum(np.subtract.outer(base, features.temperature), 0.0).T * (
-        features.interval_hours
-    )
+    return _degree_hours(features, base, "heating")
 
 
 def cooling_column(features: CalendarFeatures, base: float | np.ndarray) -> np.ndarray:
     """Cooling degree-hours per interval, ``(T − base)⁺ · interval hours``, per base."""
-    return np.maximum(np.subtract.outer(features.temperature, base), 0.0) * (
-        features.interval_hours
-    )
+    return _degree_hours(features, base, "cooling")
 
 
 def build_design(features: CalendarFeatures, layout: DesignLayout) -> Design:
@@ -277,8 +301,4 @@ def build_design(features: CalendarFeatures, layout: DesignLayout) -> Design:
         for knot in layout.trend_knots:
             hinge = np.maximum(since - knot, 0.0)
             columns.add("trend", [f"trend change after {knot:.2f} years"], hinge)
-    return Design(
-        matrix=np.column_stack(columns.values),
-        components=tuple(columns.components),
-        names=tuple(columns.names),
-    )
+    return columns.design()
