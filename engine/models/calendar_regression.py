@@ -46,6 +46,7 @@ from engine.models._calendar_design import (
     calendar_features,
     cooling_column,
     heating_column,
+    smoothed_temperature,
 )
 from engine.models._calendar_explain import FittedTerms, statements
 from engine.models._days import daily_view
@@ -68,7 +69,7 @@ from engine.models._inputs import (
     temperature_values,
 )
 from engine.models._normal_equations import NormalEquations
-from engine.models.base import ModelInputs
+from engine.models.base import ModelInputs, scenario_rows
 
 #: Which weather terms to include: found from the data ("auto"), fixed, or none.
 WEATHER_TERMS: tuple[str, ...] = ("auto", "heating", "cooling", "both", "none")
@@ -324,6 +325,40 @@ class CalendarRegressionModel(ModelFamily):
     def predict(self, inputs: ModelInputs) -> pd.Series:
         """Energy per interval (kWh); NaN where a needed temperature is missing."""
         return prediction(self._design_for(inputs).matrix @ self.coefficients_, inputs)
+
+    def predict_scenarios(self, inputs: ModelInputs, temperatures: np.ndarray) -> np.ndarray:
+        """:meth:`predict` under each row of ``temperatures`` (scenarios × intervals).
+
+        The calendar columns are built and weighted once; each scenario adds only its
+        degree-hours. ``inputs.temperature`` is ignored.
+        """
+        rows = scenario_rows(inputs, temperatures)
+        self._require_fitted()
+        step = step_of(inputs)
+        require_same_step(self.interval_, step)
+        features = calendar_features(inputs, step, None, None)
+        layout = replace(self.layout_, heating_base=None, cooling_base=None)
+        calendar = build_design(features, layout)
+        at = [self.column_names_.index(name) for name in calendar.names]
+        predicted = np.empty(rows.shape)
+        predicted[:] = calendar.matrix @ self.coefficients_[at]
+        if not self.uses_temperature_:
+            return predicted
+        terms = [
+            (base, make, self.coefficients_[self.column_names_.index(f"{term} degree-hours")])
+            for term, base, make in (
+                ("heating", self.layout_.heating_base, heating_column),
+                ("cooling", self.layout_.cooling_base, cooling_column),
+            )
+            if base is not None
+        ]
+        for scenario, row in zip(predicted, rows, strict=True):
+            if self.temperature_smoothing_hours:
+                row = smoothed_temperature(row, step, self.temperature_smoothing_hours)
+            weather = replace(features, temperature=row)
+            for base, make, coefficient in terms:
+                scenario += make(weather, base) * coefficient
+        return predicted
 
     def components(self, inputs: ModelInputs) -> pd.DataFrame:
         """Each component's contribution (kWh per interval); the columns add up to the prediction.

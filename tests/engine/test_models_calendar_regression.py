@@ -215,3 +215,28 @@ def test_a_model_stored_before_the_days_off_term_still_predicts_as_stored(campus
     assert not again.layout_.period_days_off
     prediction = again.predict(campus.inputs.without_energy())
     assert np.isfinite(prediction.to_numpy()).all()
+
+
+@pytest.mark.parametrize(
+    ("settings", "step"),
+    [({"temperature_smoothing_hours": 24.0}, "h"), ({"weather_terms": "heating"}, "15min")],
+)
+def test_scenario_predictions_equal_one_predict_per_scenario(settings, step):
+    # Smoothing runs over each scenario's own temperatures; quarter hours scale degree-hours.
+    inputs = synthetic_campus("2022-01-01", "2022-05-01", step=step).inputs
+    fit, future = (
+        inputs.window(end=inputs.index[-14 * 96]),
+        inputs.window(start=inputs.index[-14 * 96]),
+    )
+    model = CalendarRegressionModel(**settings).fit(fit)
+    temperature = future.temperature.to_numpy()
+    temperatures = np.vstack([temperature, temperature - 8.0, temperature[::-1]])
+    expected = [
+        model.predict(replace(future, temperature=pd.Series(row, index=future.index)))
+        for row in temperatures
+    ]
+    np.testing.assert_allclose(
+        model.predict_scenarios(future.without_energy(), temperatures),
+        np.vstack(expected),
+        rtol=1e-10,
+    )
