@@ -246,6 +246,42 @@ def cooling_column(features: CalendarFeatures, base: float | np.ndarray) -> np.n
     return _degree_hours(features, base, "cooling")
 
 
+def degree_hour_products(
+    data: np.ndarray, features: CalendarFeatures, bases: np.ndarray, kind: str
+) -> tuple[np.ndarray, np.ndarray]:
+    """``dataᵀh`` and ``hᵀh`` for the degree-hour column ``h`` of ``kind`` at each base.
+
+    ``features`` (and the rows of ``data``) must be in ascending temperature order and
+    ``bases`` ascending. Then rows split into three runs: one where every column is zero, one
+    where every column is linear in its base (``dt·(b − T)`` heating, ``dt·(T − b)``
+    cooling), and the band of temperatures between the lowest and highest base; only the
+    band needs the columns themselves. The linear run is summed about its mean temperature
+    ``m``: ``Σ x·(b − T) = (b − m)·Σ x + Σ x·(m − T)``.
+    """
+    temperature = features.temperature
+    below = int(np.searchsorted(temperature, bases[0], side="right"))
+    above = int(np.searchsorted(temperature, bases[-1], side="left"))
+    linear = slice(0, below) if kind == "heating" else slice(above, len(temperature))
+    band = slice(below, max(below, above))
+    columns = _degree_hours(features.rows(band), bases, kind)
+    products = data[band].T @ columns
+    norms = np.einsum("ij,ij->j", columns, columns)
+    if linear.stop > linear.start:
+        run = temperature[linear]
+        mean = run.mean()
+        offsets = np.column_stack([np.ones(len(run)), mean - run])
+        sums = data[linear].T @ offsets
+        # dt·sign·(b − T): heating columns grow with the base, cooling columns shrink.
+        scale = features.interval_hours * (1.0 if kind == "heating" else -1.0)
+        shift = bases - mean
+        products += scale * (np.outer(sums[:, 0], shift) + sums[:, 1:])
+        spread = offsets[:, 1]
+        norms += features.interval_hours**2 * (
+            len(run) * shift**2 + 2 * shift * spread.sum() + spread @ spread
+        )
+    return products, norms
+
+
 def build_design(features: CalendarFeatures, layout: DesignLayout) -> Design:
     """The design matrix of ``features`` under ``layout``."""
     n = len(features)

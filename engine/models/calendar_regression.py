@@ -45,6 +45,7 @@ from engine.models._calendar_design import (
     build_design,
     calendar_features,
     cooling_column,
+    degree_hour_products,
     heating_column,
     smoothed_temperature,
 )
@@ -186,6 +187,10 @@ class CalendarRegressionModel(ModelFamily):
         if features.temperature is not None:
             start = self._starting_bases(inputs, step, energy, temperature)
             layout = replace(layout, heating_base=start[0], cooling_base=start[1])
+            # Least squares ignores the order of rows; in temperature order the balance-point
+            # search needs each candidate column only where temperatures fall in its grid.
+            order = np.argsort(fit_features.temperature, kind="stable")
+            fit_features, y = fit_features.rows(order), y[order]
         design = build_design(fit_features, layout)
         equations = NormalEquations(design.matrix, y)
         layout = self._refined_bases(fit_features, layout, design, equations)
@@ -285,6 +290,7 @@ class CalendarRegressionModel(ModelFamily):
 
         Each pass moves the heating, then the cooling, balance point to the best of a grid
         around it (heating never above cooling); ``equations`` end up holding the final columns.
+        ``features`` and the rows of ``equations`` are in ascending temperature order.
         """
         searched = [
             term
@@ -306,7 +312,8 @@ class CalendarRegressionModel(ModelFamily):
                     grid = grid[grid >= layout.heating_base]
                 column = int(np.flatnonzero(design.component_mask(term))[0])
                 make = heating_column if term == "heating" else cooling_column
-                best = equations.best_replacement(column, make(features, grid), penalty)
+                products, norms = degree_hour_products(equations.data, features, grid, term)
+                best = equations.best_replacement(column, products, norms, penalty)
                 if best is not None:
                     layout = replace(layout, **{f"{term}_base": float(grid[best])})
                     equations.replace(column, make(features, grid[best]))

@@ -30,7 +30,15 @@ from test_models_campus import (
 
 from engine.errors import InputError
 from engine.models import CalendarRegressionModel
-from engine.models._calendar_design import COMPONENTS, HOURS_PER_YEAR, smoothed_temperature
+from engine.models._calendar_design import (
+    COMPONENTS,
+    HOURS_PER_YEAR,
+    calendar_features,
+    cooling_column,
+    degree_hour_products,
+    heating_column,
+    smoothed_temperature,
+)
 
 FIT_END = pd.Timestamp("2024-01-01", tz=ZONE)
 
@@ -240,3 +248,22 @@ def test_scenario_predictions_equal_one_predict_per_scenario(settings, step):
         np.vstack(expected),
         rtol=1e-10,
     )
+
+
+@pytest.mark.parametrize("kind", ["heating", "cooling"])
+def test_degree_hour_products_equal_the_products_of_the_columns(campus, kind):
+    # The run-by-run sums against numpy products of the full columns (computed another way).
+    # Temperatures are rounded to 0.5 °C so that some lie exactly on the candidate bases; a
+    # half-hour interval checks that the columns scale with the interval's hours.
+    inputs = campus.inputs.window(end=pd.Timestamp("2021-04-01", tz=ZONE))
+    temperature = np.round(inputs.temperature.to_numpy() * 2) / 2
+    features = calendar_features(inputs, pd.Timedelta(minutes=30), temperature, None)
+    order = np.argsort(features.temperature, kind="stable")
+    features = features.rows(order)
+    data = np.asfortranarray(np.column_stack([np.ones(len(order)), features.hour_of_week]))
+    bases = np.arange(6.0, 14.01, 0.25)
+    make = heating_column if kind == "heating" else cooling_column
+    columns = make(features, bases)
+    products, norms = degree_hour_products(data, features, bases, kind)
+    np.testing.assert_allclose(products, data.T @ columns, rtol=1e-12)
+    np.testing.assert_allclose(norms, np.einsum("ij,ij->j", columns, columns), rtol=1e-12)
