@@ -43,11 +43,13 @@ def fourier_columns(phase: np.ndarray, order: int) -> np.ndarray:
 
     The columns are contiguous (column-major), as the design matrix stores them.
     """
-    angles = 2 * np.pi * phase[None, :] * np.arange(1, order + 1)[:, None]
-    rows = np.empty((2 * order, len(phase)))
+    # Clock phases repeat (24 per day for hourly data): take sines of each distinct one once.
+    distinct, at = np.unique(phase, return_inverse=True)
+    angles = 2 * np.pi * distinct[None, :] * np.arange(1, order + 1)[:, None]
+    rows = np.empty((2 * order, len(distinct)))
     np.cos(angles, out=rows[0::2])
     np.sin(angles, out=rows[1::2])
-    return rows.T
+    return np.take(rows, at, axis=1).T
 
 
 def fourier_names(prefix: str, order: int) -> list[str]:
@@ -102,6 +104,15 @@ def smoothed_temperature(temperature: np.ndarray, step: pd.Timedelta, hours: flo
     return np.where(np.isfinite(temperature), smoothed, np.nan)
 
 
+def _text(labels: pd.Series) -> np.ndarray:
+    """A label column as numpy strings; categories are converted once, not row by row."""
+    if not isinstance(labels.dtype, pd.CategoricalDtype):
+        return labels.to_numpy().astype(str)
+    # Code −1 (missing) picks the appended "nan", as str() of a missing value gives.
+    names = np.append(labels.cat.categories.to_numpy().astype(str), "nan")
+    return names[labels.cat.codes.to_numpy()]
+
+
 def calendar_features(
     inputs: ModelInputs,
     step: pd.Timedelta,
@@ -113,7 +124,7 @@ def calendar_features(
     labels = labels_of(inputs)
     hours_since_midnight = (local - local.normalize()) / HOUR
     hour_of_day = np.asarray(hours_since_midnight, dtype=float)
-    raw_day = labels["day_type"].to_numpy().astype(str)
+    raw_day = _text(labels["day_type"])
     day_type = np.where(np.isin(raw_day, ("saturday", "sunday")), "weekend", raw_day)
     if temperature is not None and smoothing_hours:
         temperature = smoothed_temperature(temperature, step, smoothing_hours)
@@ -124,7 +135,7 @@ def calendar_features(
         years=np.asarray((inputs.index - EPOCH.tz_localize("UTC")) / HOUR, dtype=float)
         / HOURS_PER_YEAR,
         day_type=day_type,
-        period_kind=labels["period_kind"].to_numpy().astype(str),
+        period_kind=_text(labels["period_kind"]),
         temperature=temperature,
         interval_hours=step / HOUR,
     )
