@@ -286,9 +286,9 @@ def degree_hour_products(
         scale = features.interval_hours * (1.0 if kind == "heating" else -1.0)
         shift = bases - mean
         products += scale * (np.outer(sums[:, 0], shift) + sums[:, 1:])
-        spread = offsets[:, 1]
+        deviation = offsets[:, 1]
         norms += features.interval_hours**2 * (
-            len(run) * shift**2 + 2 * shift * spread.sum() + spread @ spread
+            len(run) * shift**2 + 2 * shift * deviation.sum() + deviation @ deviation
         )
     return products, norms
 

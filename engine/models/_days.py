@@ -114,14 +114,15 @@ def day_mean_temperatures(position: np.ndarray, days: int, temperature: np.ndarr
     with too few temperatures (see :data:`MIN_TEMPERATURE_COVERAGE`) is NaN.
     """
     rows = np.atleast_2d(temperature)
-    count = np.bincount(position, minlength=days)
+    shape = (len(rows), days)
     # One bincount over all rows: row r's intervals fall in bins r·days … (r + 1)·days − 1.
     key = (np.arange(len(rows))[:, None] * days + position[None, :]).ravel()
     known = np.isfinite(rows).ravel()
-    size = len(rows) * days
-    sums = np.bincount(key, weights=np.where(known, rows.ravel(), 0.0), minlength=size)
-    present = np.bincount(key, weights=known, minlength=size)
+    weights = np.where(known, rows.ravel(), 0.0)
+    sums = np.bincount(key, weights=weights, minlength=shape[0] * days).reshape(shape)
+    present = np.bincount(key, weights=known, minlength=shape[0] * days).reshape(shape)
     with np.errstate(invalid="ignore", divide="ignore"):
         mean = sums / present
-    means = np.where(present >= MIN_TEMPERATURE_COVERAGE * np.tile(count, len(rows)), mean, np.nan)
-    return means.reshape(rows.shape[0], days) if temperature.ndim > 1 else means
+    count = np.bincount(position, minlength=days)
+    means = np.where(present >= MIN_TEMPERATURE_COVERAGE * count, mean, np.nan)
+    return means if temperature.ndim > 1 else means[0]

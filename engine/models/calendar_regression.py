@@ -321,10 +321,15 @@ class CalendarRegressionModel(ModelFamily):
 
     # -- using the fit -----------------------------------------------------------------------
 
-    def _design_for(self, inputs: ModelInputs) -> Design:
+    def _step_for(self, inputs: ModelInputs) -> pd.Timedelta:
+        """The inputs' interval, checked against the fit's."""
         self._require_fitted()
         step = step_of(inputs)
         require_same_step(self.interval_, step)
+        return step
+
+    def _design_for(self, inputs: ModelInputs) -> Design:
+        step = self._step_for(inputs)
         temperature = require_temperature(inputs, self.label) if self.uses_temperature_ else None
         features = calendar_features(inputs, step, temperature, self.temperature_smoothing_hours)
         return build_design(features, self.layout_)
@@ -340,9 +345,7 @@ class CalendarRegressionModel(ModelFamily):
         degree-hours. ``inputs.temperature`` is ignored.
         """
         rows = scenario_rows(inputs, temperatures)
-        self._require_fitted()
-        step = step_of(inputs)
-        require_same_step(self.interval_, step)
+        step = self._step_for(inputs)
         features = calendar_features(inputs, step, None, None)
         layout = replace(self.layout_, heating_base=None, cooling_base=None)
         calendar = build_design(features, layout)
