@@ -185,7 +185,7 @@ def _single_fits(yc: np.ndarray, x: _Candidates) -> tuple[np.ndarray, np.ndarray
     """Slopes (bases × 1) and SSE of centred ``yc`` on each candidate's centred degree-days."""
     spread = np.einsum("ij,ij->j", x.centred, x.centred)
     moment = yc @ x.centred
-    singular = spread <= 1e-9 * spread
+    singular = spread <= 0.0  # the same degree-days every day: no slope can be fitted
     slope = moment / np.where(singular, 1.0, spread)
     sse = np.where(singular, np.inf, yc @ yc - slope * moment)
     return slope[:, None], sse
@@ -227,8 +227,10 @@ def _search(
     """
     yc = y - y.mean()
     if kind == "both":
-        found = [_Candidates.of(daily, heating, "heating", method)]
-        found.append(_Candidates.of(daily, cooling, "cooling", method))
+        found = [
+            _Candidates.of(daily, bases, side, method)
+            for bases, side in ((heating, "heating"), (cooling, "cooling"))
+        ]
         slopes, sse = _pair_fits(yc, *found)
         sse[heating[:, None] > cooling[None, :]] = np.inf
     else:
