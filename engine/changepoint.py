@@ -45,9 +45,26 @@ def _hinges(x: np.ndarray, points: np.ndarray, side: str) -> np.ndarray:
     return np.maximum(x[None, :] - points[:, None], 0.0)
 
 
+#: Normal equations whose Gram determinant is below this share of its diagonal's product are
+#: (nearly) singular: they get the least-norm solution instead of a direct solve.
+_NEARLY_SINGULAR = 1e-10
+
+
 def _stacked_sse(gram: np.ndarray, rhs: np.ndarray, total: float) -> np.ndarray:
-    """Weighted SSE of the least-squares solution of each stacked normal-equation system."""
-    coefficients = np.einsum("...ij,...j->...i", np.linalg.pinv(gram), rhs)
+    """Weighted SSE of the least-squares solution of each stacked normal-equation system.
+
+    Regular systems are solved directly (LU); only nearly singular ones, e.g. a hinge that is
+    zero at every temperature, take the pseudo-inverse's least-norm solution.
+    """
+    diagonal = np.prod(np.diagonal(gram, axis1=-2, axis2=-1), axis=-1)
+    regular = np.linalg.det(gram) > _NEARLY_SINGULAR * diagonal
+    coefficients = np.empty_like(rhs)
+    coefficients[regular] = np.linalg.solve(gram[regular], rhs[regular][..., None])[..., 0]
+    if not regular.all():
+        irregular = ~regular
+        coefficients[irregular] = np.einsum(
+            "...ij,...j->...i", np.linalg.pinv(gram[irregular]), rhs[irregular]
+        )
     return total - np.einsum("...i,...i->...", coefficients, rhs)
 
 

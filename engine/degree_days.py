@@ -166,27 +166,50 @@ class BalancePointFit:
         return asdict(self)
 
 
-def _batched_least_squares(
-    y: np.ndarray, regressors: list[np.ndarray]
-) -> tuple[np.ndarray, np.ndarray]:
-    """Coefficients (intercept first) and SSE of ``y`` on an intercept plus regressors.
+@dataclass(frozen=True)
+class _Candidates:
+    """Degree-days of one kind at each candidate base: their means and centred days × bases."""
 
-    Each regressor is a days × candidates table; one least-squares fit per candidate, solved
-    together through the normal equations in centred form.
+    bases: np.ndarray
+    means: np.ndarray
+    centred: np.ndarray
+
+    @classmethod
+    def of(cls, daily: pd.DataFrame, bases: np.ndarray, kind: str, method: str) -> _Candidates:
+        table = _degree_day_table(daily, bases, kind, method)
+        means = table.mean(axis=0)
+        return cls(bases, means, table - means)
+
+
+def _single_fits(yc: np.ndarray, x: _Candidates) -> tuple[np.ndarray, np.ndarray]:
+    """Slopes (bases × 1) and SSE of centred ``yc`` on each candidate's centred degree-days."""
+    spread = np.einsum("ij,ij->j", x.centred, x.centred)
+    moment = yc @ x.centred
+    singular = spread <= 0.0  # the same degree-days every day: no slope can be fitted
+    slope = moment / np.where(singular, 1.0, spread)
+    sse = np.where(singular, np.inf, yc @ yc - slope * moment)
+    return slope[:, None], sse
+
+
+def _pair_fits(
+    yc: np.ndarray, heating: _Candidates, cooling: _Candidates
+) -> tuple[np.ndarray, np.ndarray]:
+    """Slopes (heating bases × cooling bases × 2) and SSE of ``yc`` on each pair of columns.
+
+    The 2 × 2 normal equations of every pair are solved in closed form (Cramer's rule); pairs
+    whose Gram determinant is negligible against its diagonal are singular and get SSE ∞.
     """
-    centred = [x - x.mean(axis=0) for x in regressors]
-    yc = y - y.mean()
-    gram = np.stack([np.stack([(a * b).sum(axis=0) for b in centred], -1) for a in centred], -2)
-    moment = np.stack([(a * yc[:, None]).sum(axis=0) for a in centred], -1)
-    singular = np.linalg.det(gram) <= 1e-9 * np.prod(np.diagonal(gram, axis1=-2, axis2=-1), -1)
-    gram[singular] = np.eye(len(regressors))
-    slopes = np.linalg.solve(gram, moment[..., None])[..., 0]
-    residual = yc[:, None] - sum(c * slopes[:, i] for i, c in enumerate(centred))
-    sse = (residual**2).sum(axis=0)
-    sse[singular] = np.inf
-    means = np.stack([x.mean(axis=0) for x in regressors], -1)
-    intercept = y.mean() - (slopes * means).sum(axis=-1)
-    return np.column_stack([intercept, slopes]), sse
+    hh = np.einsum("ij,ij->j", heating.centred, heating.centred)[:, None]
+    cc = np.einsum("ij,ij->j", cooling.centred, cooling.centred)[None, :]
+    hc = heating.centred.T @ cooling.centred
+    mh = (yc @ heating.centred)[:, None]
+    mc = (yc @ cooling.centred)[None, :]
+    det = hh * cc - hc * hc
+    singular = det <= 1e-9 * hh * cc
+    det = np.where(singular, 1.0, det)
+    slopes = np.stack([(cc * mh - hc * mc) / det, (hh * mc - hc * mh) / det], axis=-1)
+    sse = yc @ yc - slopes[..., 0] * mh - slopes[..., 1] * mc
+    return slopes, np.where(singular, np.inf, sse)
 
 
 def _search(
@@ -197,32 +220,37 @@ def _search(
     heating: np.ndarray,
     cooling: np.ndarray,
 ) -> tuple[np.ndarray, float, float | None, float | None]:
-    """Best (coefficients, sse, heating base, cooling base) over the candidate grid."""
+    """Best (coefficients, sse, heating base, cooling base) over the candidate grid.
+
+    Each candidate is a least-squares fit of ``y`` on an intercept and degree-days, solved in
+    centred form; for ``"both"`` every pair with heating base ≤ cooling base is a candidate.
+    """
+    yc = y - y.mean()
     if kind == "both":
-        hb, cb = np.meshgrid(heating, cooling, indexing="ij")
-        keep = hb.ravel() <= cb.ravel()
-        hb, cb = hb.ravel()[keep], cb.ravel()[keep]
-        tables = [
-            _degree_day_table(daily, hb, "heating", method),
-            _degree_day_table(daily, cb, "cooling", method),
+        found = [
+            _Candidates.of(daily, bases, side, method)
+            for bases, side in ((heating, "heating"), (cooling, "cooling"))
         ]
+        slopes, sse = _pair_fits(yc, *found)
+        sse[heating[:, None] > cooling[None, :]] = np.inf
     else:
-        bases = heating if kind == "heating" else cooling
-        hb = cb = bases
-        tables = [_degree_day_table(daily, bases, kind, method)]
-    coefficients, sse = _batched_least_squares(y, tables)
-    sse[(coefficients[:, 1:] <= 0).any(axis=1)] = np.inf
+        found = [_Candidates.of(daily, heating if kind == "heating" else cooling, kind, method)]
+        slopes, sse = _single_fits(yc, found[0])
+    sse[(slopes <= 0).any(axis=-1)] = np.inf
     if not np.isfinite(sse).any():
         raise InputError(
             f"daily energy does not rise with {kind} degree-days at any base temperature.",
             hint="The meter may not depend on the weather, or try another kind.",
         )
-    best = int(np.argmin(sse))
+    best = np.unravel_index(np.argmin(sse), sse.shape)
+    slope = slopes[best]
+    intercept = y.mean() - sum(s * x.means[at] for s, x, at in zip(slope, found, best, strict=True))
+    bases = [float(x.bases[at]) for x, at in zip(found, best, strict=True)]
     return (
-        coefficients[best],
+        np.concatenate(([intercept], slope)),
         float(sse[best]),
-        float(hb[best]) if kind != "cooling" else None,
-        float(cb[best]) if kind != "heating" else None,
+        bases[0] if kind != "cooling" else None,
+        bases[-1] if kind != "heating" else None,
     )
 
 

@@ -39,12 +39,17 @@ EPOCH = pd.Timestamp("2000-01-01")
 
 
 def fourier_columns(phase: np.ndarray, order: int) -> np.ndarray:
-    """``cos(2πk·phase), sin(2πk·phase)`` for k = 1..order, as ``2·order`` columns."""
-    angles = 2 * np.pi * phase[:, None] * np.arange(1, order + 1)[None, :]
-    columns = np.empty((len(phase), 2 * order))
-    columns[:, 0::2] = np.cos(angles)
-    columns[:, 1::2] = np.sin(angles)
-    return columns
+    """``cos(2πk·phase), sin(2πk·phase)`` for k = 1..order, as ``2·order`` columns.
+
+    The columns are contiguous (column-major), as the design matrix stores them.
+    """
+    # Clock phases repeat (24 per day for hourly data): take sines of each distinct one once.
+    distinct, at = np.unique(phase, return_inverse=True)
+    angles = 2 * np.pi * distinct[None, :] * np.arange(1, order + 1)[:, None]
+    rows = np.empty((2 * order, len(distinct)))
+    np.cos(angles, out=rows[0::2])
+    np.sin(angles, out=rows[1::2])
+    return np.take(rows, at, axis=1).T
 
 
 def fourier_names(prefix: str, order: int) -> list[str]:
@@ -99,6 +104,15 @@ def smoothed_temperature(temperature: np.ndarray, step: pd.Timedelta, hours: flo
     return np.where(np.isfinite(temperature), smoothed, np.nan)
 
 
+def _text(labels: pd.Series) -> np.ndarray:
+    """A label column as numpy strings; categories are converted once, not row by row."""
+    if not isinstance(labels.dtype, pd.CategoricalDtype):
+        return labels.to_numpy().astype(str)
+    # Code −1 (missing) picks the appended "nan", as str() of a missing value gives.
+    names = np.append(labels.cat.categories.to_numpy().astype(str), "nan")
+    return names[labels.cat.codes.to_numpy()]
+
+
 def calendar_features(
     inputs: ModelInputs,
     step: pd.Timedelta,
@@ -110,7 +124,7 @@ def calendar_features(
     labels = labels_of(inputs)
     hours_since_midnight = (local - local.normalize()) / HOUR
     hour_of_day = np.asarray(hours_since_midnight, dtype=float)
-    raw_day = labels["day_type"].to_numpy().astype(str)
+    raw_day = _text(labels["day_type"])
     day_type = np.where(np.isin(raw_day, ("saturday", "sunday")), "weekend", raw_day)
     if temperature is not None and smoothing_hours:
         temperature = smoothed_temperature(temperature, step, smoothing_hours)
@@ -121,7 +135,7 @@ def calendar_features(
         years=np.asarray((inputs.index - EPOCH.tz_localize("UTC")) / HOUR, dtype=float)
         / HOURS_PER_YEAR,
         day_type=day_type,
-        period_kind=labels["period_kind"].to_numpy().astype(str),
+        period_kind=_text(labels["period_kind"]),
         temperature=temperature,
         interval_hours=step / HOUR,
     )
@@ -183,17 +197,26 @@ def _effective_day_type(day_type: np.ndarray, learned: tuple[str, ...]) -> np.nd
 
 @dataclass
 class _Columns:
-    """Columns collected while building a design, with their component and name."""
+    """Blocks of columns collected for a design, with each column's component and name."""
 
-    values: list[np.ndarray] = field(default_factory=list)
+    blocks: list[np.ndarray] = field(default_factory=list)
     components: list[str] = field(default_factory=list)
     names: list[str] = field(default_factory=list)
 
     def add(self, component: str, names: list[str], values: np.ndarray) -> None:
         block = values[:, None] if values.ndim == 1 else values
-        self.values.extend(block.T)
+        self.blocks.append(block)
         self.components.extend([component] * block.shape[1])
         self.names.extend(names)
+
+    def design(self) -> Design:
+        """The blocks side by side in one column-major matrix (each column contiguous)."""
+        matrix = np.empty((len(self.blocks[0]), len(self.names)), order="F")
+        at = 0
+        for block in self.blocks:
+            matrix[:, at : at + block.shape[1]] = block
+            at += block.shape[1]
+        return Design(matrix, tuple(self.components), tuple(self.names))
 
 
 @dataclass(frozen=True)
@@ -208,18 +231,66 @@ class Design:
         return np.array([c == component for c in self.components])
 
 
+def _degree_hours(features: CalendarFeatures, base: float | np.ndarray, kind: str) -> np.ndarray:
+    """``(base − T)⁺`` or ``(T − base)⁺`` times the interval hours: intervals × bases.
+
+    Built base by base (rows of bases × intervals, transposed) so each column is contiguous.
+    """
+    bases = np.atleast_1d(base)[:, None]
+    temperature = features.temperature[None, :]
+    if kind == "heating":
+        difference = np.subtract(bases, temperature)
+    else:
+        difference = np.subtract(temperature, bases)
+    np.maximum(difference, 0.0, out=difference)
+    difference *= features.interval_hours
+    return difference.T.reshape((len(features), *np.shape(base)))
+
+
 def heating_column(features: CalendarFeatures, base: float | np.ndarray) -> np.ndarray:
     """Heating degree-hours per interval, ``(base − T)⁺ · interval hours``, per base."""
-    return np.maximum(np.subtract.outer(base, features.temperature), 0.0).T * (
-        features.interval_hours
-    )
+    return _degree_hours(features, base, "heating")
 
 
 def cooling_column(features: CalendarFeatures, base: float | np.ndarray) -> np.ndarray:
     """Cooling degree-hours per interval, ``(T − base)⁺ · interval hours``, per base."""
-    return np.maximum(np.subtract.outer(features.temperature, base), 0.0) * (
-        features.interval_hours
-    )
+    return _degree_hours(features, base, "cooling")
+
+
+def degree_hour_products(
+    data: np.ndarray, features: CalendarFeatures, bases: np.ndarray, kind: str
+) -> tuple[np.ndarray, np.ndarray]:
+    """``dataᵀh`` and ``hᵀh`` for the degree-hour column ``h`` of ``kind`` at each base.
+
+    ``features`` (and the rows of ``data``) must be in ascending temperature order and
+    ``bases`` ascending. Then rows split into three runs: one where every column is zero, one
+    where every column is linear in its base (``dt·(b − T)`` heating, ``dt·(T − b)``
+    cooling), and the band of temperatures between the lowest and highest base; only the
+    band needs the columns themselves. The linear run is summed about its mean temperature
+    ``m``: ``Σ x·(b − T) = (b − m)·Σ x + Σ x·(m − T)``.
+    """
+    temperature = features.temperature
+    below = int(np.searchsorted(temperature, bases[0], side="right"))
+    above = int(np.searchsorted(temperature, bases[-1], side="left"))
+    linear = slice(0, below) if kind == "heating" else slice(above, len(temperature))
+    band = slice(below, max(below, above))
+    columns = _degree_hours(features.rows(band), bases, kind)
+    products = data[band].T @ columns
+    norms = np.einsum("ij,ij->j", columns, columns)
+    if linear.stop > linear.start:
+        run = temperature[linear]
+        mean = run.mean()
+        offsets = np.column_stack([np.ones(len(run)), mean - run])
+        sums = data[linear].T @ offsets
+        # dt·sign·(b − T): heating columns grow with the base, cooling columns shrink.
+        scale = features.interval_hours * (1.0 if kind == "heating" else -1.0)
+        shift = bases - mean
+        products += scale * (np.outer(sums[:, 0], shift) + sums[:, 1:])
+        deviation = offsets[:, 1]
+        norms += features.interval_hours**2 * (
+            len(run) * shift**2 + 2 * shift * deviation.sum() + deviation @ deviation
+        )
+    return products, norms
 
 
 def build_design(features: CalendarFeatures, layout: DesignLayout) -> Design:
@@ -277,8 +348,4 @@ def build_design(features: CalendarFeatures, layout: DesignLayout) -> Design:
         for knot in layout.trend_knots:
             hinge = np.maximum(since - knot, 0.0)
             columns.add("trend", [f"trend change after {knot:.2f} years"], hinge)
-    return Design(
-        matrix=np.column_stack(columns.values),
-        components=tuple(columns.components),
-        names=tuple(columns.names),
-    )
+    return columns.design()

@@ -96,12 +96,7 @@ def daily_view(
 
     day_temperature = None
     if temperature is not None:
-        known = np.isfinite(temperature)
-        sums = np.bincount(position, weights=np.where(known, temperature, 0.0), minlength=len(days))
-        present = np.bincount(position, weights=known, minlength=len(days))
-        with np.errstate(invalid="ignore", divide="ignore"):
-            mean = sums / present
-        day_temperature = np.where(present >= MIN_TEMPERATURE_COVERAGE * count, mean, np.nan)
+        day_temperature = day_mean_temperatures(position, len(days), temperature)
     return DailyView(
         days=days,
         position=position,
@@ -109,3 +104,25 @@ def daily_view(
         energy=day_energy,
         temperature=day_temperature,
     )
+
+
+def day_mean_temperatures(position: np.ndarray, days: int, temperature: np.ndarray) -> np.ndarray:
+    """Mean °C of each day from interval temperatures, for one series or rows of scenarios.
+
+    ``position`` gives each interval's day (as in :class:`DailyView`); the last axis of
+    ``temperature`` runs over the intervals and that of the result over the ``days``. A day
+    with too few temperatures (see :data:`MIN_TEMPERATURE_COVERAGE`) is NaN.
+    """
+    rows = np.atleast_2d(temperature)
+    shape = (len(rows), days)
+    # One bincount over all rows: row r's intervals fall in bins r·days … (r + 1)·days − 1.
+    key = (np.arange(len(rows))[:, None] * days + position[None, :]).ravel()
+    known = np.isfinite(rows).ravel()
+    weights = np.where(known, rows.ravel(), 0.0)
+    sums = np.bincount(key, weights=weights, minlength=shape[0] * days).reshape(shape)
+    present = np.bincount(key, weights=known, minlength=shape[0] * days).reshape(shape)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        mean = sums / present
+    count = np.bincount(position, minlength=days)
+    means = np.where(present >= MIN_TEMPERATURE_COVERAGE * count, mean, np.nan)
+    return means if temperature.ndim > 1 else means[0]

@@ -17,14 +17,21 @@ def _solve(gram: np.ndarray, moment: np.ndarray) -> np.ndarray:
 
 
 class NormalEquations:
-    """``XᵀX``, ``Xᵀy`` and ``yᵀy`` of a design, kept current as columns are replaced."""
+    """``XᵀX``, ``Xᵀy`` and ``yᵀy`` of a design, kept current as columns are replaced.
+
+    ``data`` holds ``[X y]`` side by side (column-major), so one product ``dataᵀh`` gives both
+    ``Xᵀh`` and ``yᵀh`` of a candidate column ``h``.
+    """
 
     def __init__(self, matrix: np.ndarray, y: np.ndarray) -> None:
-        self.matrix = matrix.copy()
-        self.y = y
-        self.gram = matrix.T @ matrix
-        self.moment = matrix.T @ y
-        self.total = float(y @ y)
+        n, p = matrix.shape
+        self.data = np.empty((n, p + 1), order="F")
+        self.data[:, :p] = matrix
+        self.data[:, p] = y
+        products = self.data.T @ self.data
+        self.gram = products[:p, :p].copy()
+        self.moment = products[:p, p].copy()
+        self.total = float(products[p, p])
 
     def solve(self, penalty: np.ndarray) -> np.ndarray:
         """Coefficients minimising ``‖y − Xβ‖² + Σ penaltyᵢ βᵢ²``."""
@@ -34,27 +41,27 @@ class NormalEquations:
         """``SSE / (n − p)`` of the unpenalised fit."""
         beta = self.solve(np.zeros(len(self.moment)))
         sse = self.total - 2 * beta @ self.moment + beta @ self.gram @ beta
-        n, p = self.matrix.shape
+        n, p = len(self.data), len(self.moment)
         return float(max(sse, 0.0) / max(n - p, 1))
 
     def best_replacement(
-        self, column: int, candidates: np.ndarray, penalty: np.ndarray
+        self, column: int, products: np.ndarray, norms: np.ndarray, penalty: np.ndarray
     ) -> int | None:
         """The candidate for ``column`` with the lowest penalised error and a positive coefficient.
 
-        With ``X`` the other columns, ``v`` their fit and ``h`` a candidate (unpenalised), the
-        error drops by ``g² / s`` with ``g = hᵀ(y − Xv)`` and ``s = hᵀh − hᵀX (XᵀX + P)⁻¹ Xᵀh``;
-        every candidate is scored from one solve with many right-hand sides. Returns None when
-        no candidate gets a positive coefficient.
+        Candidates ``h`` come as ``products`` (``dataᵀh``, one column each) and ``norms``
+        (``hᵀh``). With ``X`` the other columns and ``v`` their fit (unpenalised for ``h``),
+        the error drops by ``g² / s`` with ``g = hᵀ(y − Xv)`` and
+        ``s = hᵀh − hᵀX (XᵀX + P)⁻¹ Xᵀh``; every candidate is scored from one solve with
+        many right-hand sides. Returns None when no candidate gets a positive coefficient.
         """
         keep = np.arange(len(self.moment)) != column
         gram = self.gram[np.ix_(keep, keep)] + np.diag(penalty[keep])
-        cross = (self.matrix.T @ candidates)[keep]
+        cross = products[:-1][keep]
         solved = _solve(gram, np.column_stack([self.moment[keep], cross]))
         without, projected = solved[:, 0], solved[:, 1:]
-        norms = np.einsum("ij,ij->j", candidates, candidates)
         spread = norms - np.einsum("ij,ij->j", cross, projected)
-        gain = candidates.T @ self.y - cross.T @ without
+        gain = products[-1] - cross.T @ without
         useful = (gain > 0) & (spread > 1e-9 * norms)
         if not useful.any():
             return None
@@ -63,8 +70,8 @@ class NormalEquations:
 
     def replace(self, column: int, values: np.ndarray) -> None:
         """Put ``values`` in ``column`` and update the normal equations."""
-        self.matrix[:, column] = values
-        products = self.matrix.T @ values
-        self.gram[:, column] = products
-        self.gram[column, :] = products
-        self.moment[column] = values @ self.y
+        self.data[:, column] = values
+        products = self.data.T @ values
+        self.gram[:, column] = products[:-1]
+        self.gram[column, :] = products[:-1]
+        self.moment[column] = products[-1]

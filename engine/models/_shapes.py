@@ -71,8 +71,9 @@ class DayShapes:
         local: pd.DatetimeIndex,
         timezone: str,
     ) -> np.ndarray:
-        """Energy per interval from energy per day of ``view``."""
-        per_day = day_energy[view.position]
+        """Energy per interval from energy per day of ``view`` (the last axis: rows of scenarios
+        give rows of interval values)."""
+        per_day = day_energy[..., view.position]
         if self.shares.shape[1] == 1:
             return per_day
         weight = self.shares[view.group[view.position], slot_of_day(local, self.step)]

@@ -5,6 +5,11 @@ for the index of other :class:`ModelInputs` whose ``energy`` may be ``None``. Co
 store settings; ``fit`` learns, sets attributes ending in ``_`` and returns ``self``; ``predict``
 on an unfitted model raises ``sklearn.exceptions.NotFittedError``. Models save to plain JSON
 with ``to_dict``/``from_dict`` (never pickle) and predict identically after a round trip.
+
+Budgets predict the same window under many weather scenarios: :func:`predict_scenarios` does
+that for any model, through the model's own ``predict_scenarios(inputs, temperatures)`` when
+it has one (weather models build their calendar part once and only the temperature terms per
+scenario), else by one ``predict`` per scenario.
 """
 
 from __future__ import annotations
@@ -12,6 +17,7 @@ from __future__ import annotations
 from dataclasses import dataclass, replace
 from typing import Any, ClassVar, Protocol, Self, runtime_checkable
 
+import numpy as np
 import pandas as pd
 
 
@@ -101,3 +107,33 @@ class EnergyModel(Protocol):
 def fresh(model: EnergyModel) -> EnergyModel:
     """An unfitted model of the same family with the same settings."""
     return type(model)(**model.settings())
+
+
+def scenario_rows(inputs: ModelInputs, temperatures: np.ndarray) -> np.ndarray:
+    """``temperatures`` as a float array of scenarios × intervals of ``inputs.index``."""
+    rows = np.asarray(temperatures, dtype=float)
+    if rows.ndim != 2 or rows.shape[1] != len(inputs.index):
+        raise ValueError(
+            f"temperature scenarios must be scenarios × {len(inputs.index)} intervals, "
+            f"not of shape {rows.shape}"
+        )
+    return rows
+
+
+def predict_scenarios(
+    model: EnergyModel, inputs: ModelInputs, temperatures: np.ndarray
+) -> np.ndarray:
+    """Energy per interval under each temperature scenario, shape scenarios × intervals.
+
+    Row ``s`` is ``model.predict`` of ``inputs`` (index and labels; their temperature is
+    ignored) with ``temperatures[s]`` as the temperature on ``inputs.index``.
+    """
+    rows = scenario_rows(inputs, temperatures)
+    batched = getattr(model, "predict_scenarios", None)
+    if batched is not None:
+        return batched(inputs, rows)
+    predicted = [
+        model.predict(replace(inputs, temperature=pd.Series(row, index=inputs.index)))
+        for row in rows
+    ]
+    return np.array(predicted, dtype=float).reshape(rows.shape)

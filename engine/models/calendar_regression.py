@@ -45,7 +45,9 @@ from engine.models._calendar_design import (
     build_design,
     calendar_features,
     cooling_column,
+    degree_hour_products,
     heating_column,
+    smoothed_temperature,
 )
 from engine.models._calendar_explain import FittedTerms, statements
 from engine.models._days import daily_view
@@ -68,7 +70,7 @@ from engine.models._inputs import (
     temperature_values,
 )
 from engine.models._normal_equations import NormalEquations
-from engine.models.base import ModelInputs
+from engine.models.base import ModelInputs, scenario_rows
 
 #: Which weather terms to include: found from the data ("auto"), fixed, or none.
 WEATHER_TERMS: tuple[str, ...] = ("auto", "heating", "cooling", "both", "none")
@@ -185,6 +187,10 @@ class CalendarRegressionModel(ModelFamily):
         if features.temperature is not None:
             start = self._starting_bases(inputs, step, energy, temperature)
             layout = replace(layout, heating_base=start[0], cooling_base=start[1])
+            # Least squares ignores the order of rows; in temperature order the balance-point
+            # search needs each candidate column only where temperatures fall in its grid.
+            order = np.argsort(fit_features.temperature, kind="stable")
+            fit_features, y = fit_features.rows(order), y[order]
         design = build_design(fit_features, layout)
         equations = NormalEquations(design.matrix, y)
         layout = self._refined_bases(fit_features, layout, design, equations)
@@ -284,6 +290,7 @@ class CalendarRegressionModel(ModelFamily):
 
         Each pass moves the heating, then the cooling, balance point to the best of a grid
         around it (heating never above cooling); ``equations`` end up holding the final columns.
+        ``features`` and the rows of ``equations`` are in ascending temperature order.
         """
         searched = [
             term
@@ -305,7 +312,8 @@ class CalendarRegressionModel(ModelFamily):
                     grid = grid[grid >= layout.heating_base]
                 column = int(np.flatnonzero(design.component_mask(term))[0])
                 make = heating_column if term == "heating" else cooling_column
-                best = equations.best_replacement(column, make(features, grid), penalty)
+                products, norms = degree_hour_products(equations.data, features, grid, term)
+                best = equations.best_replacement(column, products, norms, penalty)
                 if best is not None:
                     layout = replace(layout, **{f"{term}_base": float(grid[best])})
                     equations.replace(column, make(features, grid[best]))
@@ -313,10 +321,15 @@ class CalendarRegressionModel(ModelFamily):
 
     # -- using the fit -----------------------------------------------------------------------
 
-    def _design_for(self, inputs: ModelInputs) -> Design:
+    def _step_for(self, inputs: ModelInputs) -> pd.Timedelta:
+        """The inputs' interval, checked against the fit's."""
         self._require_fitted()
         step = step_of(inputs)
         require_same_step(self.interval_, step)
+        return step
+
+    def _design_for(self, inputs: ModelInputs) -> Design:
+        step = self._step_for(inputs)
         temperature = require_temperature(inputs, self.label) if self.uses_temperature_ else None
         features = calendar_features(inputs, step, temperature, self.temperature_smoothing_hours)
         return build_design(features, self.layout_)
@@ -324,6 +337,38 @@ class CalendarRegressionModel(ModelFamily):
     def predict(self, inputs: ModelInputs) -> pd.Series:
         """Energy per interval (kWh); NaN where a needed temperature is missing."""
         return prediction(self._design_for(inputs).matrix @ self.coefficients_, inputs)
+
+    def predict_scenarios(self, inputs: ModelInputs, temperatures: np.ndarray) -> np.ndarray:
+        """:meth:`predict` under each row of ``temperatures`` (scenarios × intervals).
+
+        The calendar columns are built and weighted once; each scenario adds only its
+        degree-hours. ``inputs.temperature`` is ignored.
+        """
+        rows = scenario_rows(inputs, temperatures)
+        step = self._step_for(inputs)
+        features = calendar_features(inputs, step, None, None)
+        layout = replace(self.layout_, heating_base=None, cooling_base=None)
+        calendar = build_design(features, layout)
+        at = [self.column_names_.index(name) for name in calendar.names]
+        predicted = np.empty(rows.shape)
+        predicted[:] = calendar.matrix @ self.coefficients_[at]
+        if not self.uses_temperature_:
+            return predicted
+        terms = [
+            (base, make, self.coefficients_[self.column_names_.index(f"{term} degree-hours")])
+            for term, base, make in (
+                ("heating", self.layout_.heating_base, heating_column),
+                ("cooling", self.layout_.cooling_base, cooling_column),
+            )
+            if base is not None
+        ]
+        for scenario, row in zip(predicted, rows, strict=True):
+            if self.temperature_smoothing_hours:
+                row = smoothed_temperature(row, step, self.temperature_smoothing_hours)
+            weather = replace(features, temperature=row)
+            for base, make, coefficient in terms:
+                scenario += make(weather, base) * coefficient
+        return predicted
 
     def components(self, inputs: ModelInputs) -> pd.DataFrame:
         """Each component's contribution (kWh per interval); the columns add up to the prediction.

@@ -11,6 +11,7 @@ predicts each day group's mean daily energy.
 
 from __future__ import annotations
 
+from dataclasses import replace
 from typing import Any
 
 import numpy as np
@@ -18,9 +19,22 @@ import numpy as np
 from engine.changepoint import PARAMETER_COUNT, ChangePointModel, select_best
 from engine.errors import InputError
 from engine.models._day_totals import DayTotalsModel
-from engine.models._days import DAY_GROUPS, DailyView
-from engine.models._inputs import require_temperature, temperature_values
-from engine.models.base import ModelInputs
+from engine.models._days import (
+    DAY_GROUPS,
+    DailyView,
+    daily_view,
+    day_group_codes,
+    day_mean_temperatures,
+)
+from engine.models._inputs import (
+    labels_of,
+    local_clock,
+    require_same_step,
+    require_temperature,
+    step_of,
+    temperature_values,
+)
+from engine.models.base import ModelInputs, scenario_rows
 
 #: Name of the single fit when day groups are not split.
 ALL_DAYS = "all_days"
@@ -117,6 +131,25 @@ class DailyChangePointModel(DayTotalsModel):
             else:
                 energy[chosen] = self.mean_daily_energy_[name]
         return energy
+
+    def predict_scenarios(self, inputs: ModelInputs, temperatures: np.ndarray) -> np.ndarray:
+        """``predict`` under each row of ``temperatures`` (scenarios × intervals).
+
+        The local days, their groups and the day shapes' weights are found once; each scenario
+        needs only its daily mean temperatures and day totals. ``inputs.temperature`` is
+        ignored.
+        """
+        rows = scenario_rows(inputs, temperatures)
+        self._require_fitted()
+        step = step_of(inputs)
+        require_same_step(self.interval_, step)
+        local = local_clock(inputs)
+        view = daily_view(local, step, inputs.timezone, day_group_codes(labels_of(inputs)))
+        day_temperatures = day_mean_temperatures(view.position, len(view.days), rows)
+        day_energy = np.array(
+            [self._day_energy(replace(view, temperature=row)) for row in day_temperatures]
+        ).reshape(len(rows), len(view.days))
+        return self.day_shapes_.spread(day_energy, view, local, inputs.timezone)
 
     def _prediction_temperature(self, inputs: ModelInputs) -> np.ndarray | None:
         return require_temperature(inputs, self.label) if self.uses_temperature_ else None

@@ -46,7 +46,7 @@ from engine.models._inputs import (
     step_of,
     temperature_values,
 )
-from engine.models.base import ModelInputs
+from engine.models.base import ModelInputs, scenario_rows
 
 WEEK = pd.Timedelta(weeks=1)
 #: How occupancy is decided: from the inputs' labels when given ("auto"), always from the
@@ -229,8 +229,8 @@ class TimeOfWeekTemperatureModel(ModelFamily):
         segments = temperature_segments(np.atleast_1d(temps), self.knots_)
         return segments @ self.temperature_coefficients_[mode]
 
-    def predict(self, inputs: ModelInputs) -> pd.Series:
-        """Energy per interval from its time-of-week slot, occupancy and temperature."""
+    def _slot_part(self, inputs: ModelInputs) -> tuple[np.ndarray, np.ndarray]:
+        """Each interval's occupancy mode and slot coefficient (the prediction at 0 °C)."""
         self._require_fitted()
         step = step_of(inputs)
         require_same_step(self.interval_, step)
@@ -240,12 +240,32 @@ class TimeOfWeekTemperatureModel(ModelFamily):
         else:
             mode = self.occupied_slots_[slot].astype(np.int64)
         mode = np.where(np.isnan(self.slot_coefficients_[mode, slot]), 1 - mode, mode)
-        values = self.slot_coefficients_[mode, slot]
+        return mode, self.slot_coefficients_[mode, slot]
+
+    def _temperature_part(self, temperature: np.ndarray, mode: np.ndarray) -> np.ndarray:
+        segments = temperature_segments(temperature, self.knots_)
+        return np.einsum("ij,ij->i", segments, self.temperature_coefficients_[mode])
+
+    def predict(self, inputs: ModelInputs) -> pd.Series:
+        """Energy per interval from its time-of-week slot, occupancy and temperature."""
+        mode, values = self._slot_part(inputs)
         if self.uses_temperature_:
             temperature = require_temperature(inputs, self.label)
-            segments = temperature_segments(temperature, self.knots_)
-            values = values + np.einsum("ij,ij->i", segments, self.temperature_coefficients_[mode])
+            values = values + self._temperature_part(temperature, mode)
         return prediction(values, inputs)
+
+    def predict_scenarios(self, inputs: ModelInputs, temperatures: np.ndarray) -> np.ndarray:
+        """:meth:`predict` under each row of ``temperatures`` (scenarios × intervals).
+
+        Slots and occupancy are looked up once; ``inputs.temperature`` is ignored.
+        """
+        rows = scenario_rows(inputs, temperatures)
+        mode, values = self._slot_part(inputs)
+        if not self.uses_temperature_:
+            return np.tile(values, (len(rows), 1))
+        return np.array([values + self._temperature_part(row, mode) for row in rows]).reshape(
+            rows.shape
+        )
 
     def _fitted_state(self) -> dict[str, Any]:
         return {

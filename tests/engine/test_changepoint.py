@@ -96,6 +96,32 @@ def test_search_finds_at_least_the_optimum_scipy_finds(kind):
     assert our_sse <= scipy_sse * (1 + 1e-9)
 
 
+@pytest.mark.parametrize("kind", ["3PH", "4P", "5P"])
+def test_candidates_with_an_empty_hinge_do_not_stop_the_search(kind):
+    # A sensor that reads no lower than -12 °C: a tenth of the days sit exactly there, so the
+    # search's lowest candidate has no temperature below it, its hinge is zero on every day
+    # and its normal equations are singular. The search must pass over it and still reach an
+    # SSE no worse than scipy.optimize.curve_fit started at the true parameters.
+    temps, energy = _daily_data(kind, n=300, noise=40.0, seed=9)
+    temps[:30] = -12.0
+    energy[:30] = _shape(temps[:30], *TRUTH[kind])
+    assert np.sort(temps)[3] == np.quantile(temps, 0.05) == -12.0
+
+    base, heat_point, heat_slope, _, cool_slope = TRUTH[kind]
+    curve, start = {
+        "3PH": (lambda x, b, c, h: _shape(x, b, c, h, c, 0.0), (base, heat_point, heat_slope)),
+        "4P": (
+            lambda x, b, c, h, k: _shape(x, b, c, h, c, k),
+            (base, heat_point, heat_slope, cool_slope),
+        ),
+        "5P": (_shape, TRUTH[kind]),
+    }[kind]
+    found, _ = curve_fit(curve, temps, energy, p0=start)
+    scipy_sse = np.sum((energy - curve(temps, *found)) ** 2)
+    model = ChangePointModel(kind).fit(temps, energy)
+    assert np.sum((energy - model.predict(temps)) ** 2) <= scipy_sse * (1 + 1e-9)
+
+
 def test_two_parameter_line_matches_numpy_polyfit():
     temps, energy = _daily_data("3PC", n=200)
     slope, intercept = np.polyfit(temps, energy, 1)  # numpy's least-squares line

@@ -298,6 +298,41 @@ def test_balance_point_cooling_and_both() -> None:
     assert set(fit.to_dict()) >= {"heating_base", "cooling_base", "intercept", "r_squared"}
 
 
+def _best_pair(energy: np.ndarray, t: np.ndarray, heating: np.ndarray, cooling: np.ndarray):
+    """Brute force with numpy's lstsq, one fit per pair (heating base ≤ cooling base, both
+    slopes positive): the pair with the least squared error."""
+    best, best_sse = None, np.inf
+    for h in heating:
+        for c in cooling[cooling >= h]:
+            design = np.column_stack([np.ones_like(t), np.maximum(h - t, 0), np.maximum(t - c, 0)])
+            coefficients = np.linalg.lstsq(design, energy, rcond=None)[0]
+            sse = np.sum((energy - design @ coefficients) ** 2)
+            if (coefficients[1:] > 0).all() and sse < best_sse:
+                best, best_sse = (h, c), sse
+    return best, best_sse
+
+
+def test_balance_point_search_picks_the_pair_brute_force_picks() -> None:
+    # A coarse grid of 9 candidates, then 41 × 41 between the winners' neighbours (as the
+    # docstring describes), each pair fitted on its own by numpy's least squares.
+    daily = _invented_climate_days(years=2, seed=8)
+    rng = np.random.default_rng(6)
+    t = daily["tmean"].to_numpy()
+    energy = 600 + 40 * np.maximum(13.0 - t, 0) + 70 * np.maximum(t - 19.0, 0)
+    energy = energy + rng.normal(0, 30, len(t))
+    grid = np.linspace(5.0, 25.0, 9)
+    fit = balance_point(pd.Series(energy, index=daily.index), daily, "both", grid)
+
+    (coarse_h, coarse_c), _ = _best_pair(energy, t, grid, grid)
+    fine = [
+        np.linspace(grid[i - 1], grid[i + 1], 41)
+        for i in np.searchsorted(grid, (coarse_h, coarse_c))
+    ]
+    (heating, cooling), sse = _best_pair(energy, t, *fine)
+    assert (fit.heating_base, fit.cooling_base) == (heating, cooling)
+    assert 1 - fit.r_squared == pytest.approx(sse / np.sum((energy - energy.mean()) ** 2), rel=1e-9)
+
+
 def test_balance_point_in_fahrenheit_and_met_office_method() -> None:
     daily_c = _invented_climate_days(seed=21)
     rng = np.random.default_rng(2)

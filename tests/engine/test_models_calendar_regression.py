@@ -30,7 +30,15 @@ from test_models_campus import (
 
 from engine.errors import InputError
 from engine.models import CalendarRegressionModel
-from engine.models._calendar_design import COMPONENTS, HOURS_PER_YEAR, smoothed_temperature
+from engine.models._calendar_design import (
+    COMPONENTS,
+    HOURS_PER_YEAR,
+    calendar_features,
+    cooling_column,
+    degree_hour_products,
+    heating_column,
+    smoothed_temperature,
+)
 
 FIT_END = pd.Timestamp("2024-01-01", tz=ZONE)
 
@@ -215,3 +223,47 @@ def test_a_model_stored_before_the_days_off_term_still_predicts_as_stored(campus
     assert not again.layout_.period_days_off
     prediction = again.predict(campus.inputs.without_energy())
     assert np.isfinite(prediction.to_numpy()).all()
+
+
+@pytest.mark.parametrize(
+    ("settings", "step"),
+    [({"temperature_smoothing_hours": 24.0}, "h"), ({"weather_terms": "heating"}, "15min")],
+)
+def test_scenario_predictions_equal_one_predict_per_scenario(settings, step):
+    # Smoothing runs over each scenario's own temperatures; quarter hours scale degree-hours.
+    inputs = synthetic_campus("2022-01-01", "2022-05-01", step=step).inputs
+    fit, future = (
+        inputs.window(end=inputs.index[-14 * 96]),
+        inputs.window(start=inputs.index[-14 * 96]),
+    )
+    model = CalendarRegressionModel(**settings).fit(fit)
+    temperature = future.temperature.to_numpy()
+    temperatures = np.vstack([temperature, temperature - 8.0, temperature[::-1]])
+    expected = [
+        model.predict(replace(future, temperature=pd.Series(row, index=future.index)))
+        for row in temperatures
+    ]
+    np.testing.assert_allclose(
+        model.predict_scenarios(future.without_energy(), temperatures),
+        np.vstack(expected),
+        rtol=1e-10,
+    )
+
+
+@pytest.mark.parametrize("kind", ["heating", "cooling"])
+def test_degree_hour_products_equal_the_products_of_the_columns(campus, kind):
+    # The run-by-run sums against numpy products of the full columns (computed another way).
+    # Temperatures are rounded to 0.5 °C so that some lie exactly on the candidate bases; a
+    # half-hour interval checks that the columns scale with the interval's hours.
+    inputs = campus.inputs.window(end=pd.Timestamp("2021-04-01", tz=ZONE))
+    temperature = np.round(inputs.temperature.to_numpy() * 2) / 2
+    features = calendar_features(inputs, pd.Timedelta(minutes=30), temperature, None)
+    order = np.argsort(features.temperature, kind="stable")
+    features = features.rows(order)
+    data = np.asfortranarray(np.column_stack([np.ones(len(order)), features.hour_of_week]))
+    bases = np.arange(6.0, 14.01, 0.25)
+    make = heating_column if kind == "heating" else cooling_column
+    columns = make(features, bases)
+    products, norms = degree_hour_products(data, features, bases, kind)
+    np.testing.assert_allclose(products, data.T @ columns, rtol=1e-12)
+    np.testing.assert_allclose(norms, np.einsum("ij,ij->j", columns, columns), rtol=1e-12)

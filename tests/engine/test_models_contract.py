@@ -32,6 +32,7 @@ from engine.models import (
     RefitNeeded,
     model_from_dict,
 )
+from engine.models.base import predict_scenarios
 from engine.weather import daily_stats
 
 FIT_END = pd.Timestamp("2023-01-01", tz=ZONE)
@@ -240,3 +241,43 @@ def test_the_registry_names_each_family_once_and_rejects_strangers():
     stored = BillingPeriodChangePointModel().to_dict()
     with pytest.raises(ProjectError, match="version"):
         model_from_dict({**stored, "version": 99})
+
+
+def _scenario_temperatures(future: ModelInputs) -> np.ndarray:
+    """Four scenarios: the forecast month's weather, 6 °C colder, 6 °C warmer, and noisier with
+    a few missing hours."""
+    temperature = future.temperature.to_numpy()
+    rng = np.random.default_rng(4)
+    noisy = temperature + rng.normal(0.0, 3.0, len(temperature))
+    noisy[rng.choice(len(noisy), 30, replace=False)] = np.nan
+    return np.vstack([temperature, temperature - 6.0, temperature + 6.0, noisy])
+
+
+def _looped(model: EnergyModel, future: ModelInputs, temperatures: np.ndarray) -> np.ndarray:
+    return np.vstack(
+        [
+            model.predict(replace(future, temperature=pd.Series(row, index=future.index)))
+            for row in temperatures
+        ]
+    )
+
+
+@pytest.mark.parametrize("name", sorted(set(FAMILIES) - {"billing_change_point"}))
+@pytest.mark.parametrize("with_temperature", [True, False])
+def test_scenario_predictions_equal_one_predict_per_scenario(name, cases, fitted, with_temperature):
+    case = cases[name] if with_temperature else cases[name].without_temperature()
+    model = fitted[name] if with_temperature else MODEL_FAMILIES[name]().fit(case.fit)
+    temperatures = _scenario_temperatures(cases[name].future)
+    # The inputs' own temperature is ignored: give a constant that is in no scenario.
+    future = replace(case.future, temperature=pd.Series(99.0, index=case.future.index))
+    batched = predict_scenarios(model, future, temperatures)
+    expected = _looped(model, future, temperatures)
+    assert batched.shape == expected.shape == temperatures.shape
+    assert np.array_equal(np.isnan(batched), np.isnan(expected))
+    np.testing.assert_allclose(batched, expected, rtol=1e-10, atol=0.0)
+
+
+def test_scenario_predictions_check_the_shape(cases, fitted):
+    future = cases["calendar_regression"].future
+    with pytest.raises(ValueError, match="scenarios"):
+        predict_scenarios(fitted["calendar_regression"], future, np.zeros(len(future.index)))
