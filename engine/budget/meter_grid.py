@@ -19,7 +19,7 @@ from engine.budget.plan import MeterPlan
 from engine.budget.weather_paths import WeatherScenarios
 from engine.calendar import label_intervals
 from engine.errors import InputError
-from engine.models.base import ModelInputs
+from engine.models.base import ModelInputs, predict_scenarios
 
 HOUR = pd.Timedelta(hours=1)
 DAY = pd.Timedelta(days=1)
@@ -134,7 +134,7 @@ def predictions(
         else None
     )
     if not plan.uses_temperature:
-        temperatures = [None]
+        temperatures = None
     elif weather.hourly is None:
         raise InputError(
             f"the model of meter '{plan.name}' uses outdoor temperature, but the budget "
@@ -142,23 +142,18 @@ def predictions(
             hint="Choose typical weather, past years' weather or a temperature file.",
         )
     elif native == DAY:
-        temperatures = list(_daily_means(weather.hourly, window))
+        temperatures = _daily_means(weather.hourly, window)
     else:
+        temperatures = np.repeat(weather.hourly, int(HOUR // native), axis=1)
+    inputs = ModelInputs(index=index, timezone=plan.timezone, labels=labels)
+    if temperatures is None:
+        predicted = np.asarray(plan.model.predict(inputs), dtype=np.float64)[np.newaxis, :]
+    else:
+        predicted = predict_scenarios(plan.model, inputs, temperatures)
+    if native < HOUR:
         per_hour = int(HOUR // native)
-        temperatures = [np.repeat(row, per_hour) for row in weather.hourly]
-    rows = []
-    for temperature in temperatures:
-        inputs = ModelInputs(
-            index=index,
-            timezone=plan.timezone,
-            temperature=None if temperature is None else pd.Series(temperature, index=index),
-            labels=labels,
-        )
-        predicted = np.asarray(plan.model.predict(inputs), dtype=np.float64)
-        if native < HOUR:
-            predicted = predicted.reshape(-1, int(HOUR // native)).sum(axis=1)
-        rows.append(predicted)
-    return np.vstack(rows)
+        predicted = predicted.reshape(len(predicted), -1, per_hour).sum(axis=2)
+    return predicted
 
 
 def check_predictions(
