@@ -26,6 +26,9 @@ from typing import Any, Protocol, TypeVar
 from engine.errors import InputError
 from engine.progress import Cancelled, Progress, step
 
+#: Intervals of history (summed over the meters) below which worker processes are not worth
+#: their start-up of a few seconds: about five meter-years of hourly readings.
+MIN_POOL_WORK = 45_000
 #: Seconds to wait for a Dask scheduler to answer before giving up.
 CONNECT_SECONDS = 10
 #: How often the caller's cancel flag is looked at while meters run (seconds).
@@ -33,7 +36,10 @@ _POLL_SECONDS = 0.2
 
 
 class Named(Protocol):
+    """A job: the meter it is for, and its size in intervals of history."""
+
     name: str
+    size: int
 
 
 Job = TypeVar("Job", bound=Named)
@@ -79,8 +85,9 @@ def run_per_meter(
     jobs : sequence
         One per meter, each with a ``name``.
     workers : int, optional
-        Local worker processes (default: every core); 1 runs the jobs in this process,
-        with progress inside each meter.
+        Local worker processes; 1 runs the jobs in this process, with progress inside each
+        meter. By default every core, unless the jobs are too small together
+        (:data:`MIN_POOL_WORK`) to repay starting the processes: then this process.
     scheduler : str, optional
         Address of a Dask distributed scheduler (``tcp://host:8786``); its workers run the
         jobs instead of local processes.
@@ -89,7 +96,11 @@ def run_per_meter(
     """
     if not jobs:
         return {}, []
-    count = default_workers() if workers is None else max(int(workers), 1)
+    if workers is None:
+        small = sum(job.size for job in jobs) < MIN_POOL_WORK
+        count = 1 if small else default_workers()
+    else:
+        count = max(int(workers), 1)
     if scheduler is None and (count == 1 or len(jobs) == 1):
         return _run_here(function, jobs, progress)
     if scheduler is not None:

@@ -151,6 +151,11 @@ class MeterJob:
     origins: int = DEFAULT_ORIGINS
     refit_months: int = 0
 
+    @property
+    def size(self) -> int:
+        """Intervals of history: what the work grows with."""
+        return len(self.history.index)
+
 
 @dataclass
 class MeterModels:

@@ -24,6 +24,7 @@ from tests.engine.test_budget_kept_models import fitted_site  # noqa: F401 (fixt
 class Job:
     name: str
     value: float
+    size: int = 1
 
 
 def halve_or_refuse(job: Job, progress: Progress | None = None) -> float:
@@ -38,6 +39,16 @@ def halve_or_refuse(job: Job, progress: Progress | None = None) -> float:
 
 
 JOBS = [Job("north", 4.0), Job("south", -1.0), Job("east", 6.0), Job("west", 0.0)]
+
+
+def test_small_jobs_stay_in_this_process_unless_workers_are_asked_for():
+    seen = []
+    progress = Progress(lambda fraction, message: seen.append(message))
+    run_per_meter(halve_or_refuse, JOBS[:1] * 2, progress=progress)
+    assert not any("worker processes" in message for message in seen)
+    big = [Job(job.name, job.value, size=10**6) for job in JOBS[:1] * 2]
+    run_per_meter(halve_or_refuse, big, progress=progress)
+    assert any("worker processes" in message for message in seen)
 
 
 @pytest.mark.parametrize("workers", [1, 2])
