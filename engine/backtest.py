@@ -60,6 +60,8 @@ from engine.weather import TypicalWeather, typical_year
 ACTUAL_WEATHER = "actual weather"
 TYPICAL_WEATHER = "typical weather"
 NO_WEATHER = "no weather"
+#: The stage recorded for origins a raced model skipped (:class:`Race`): not a failure.
+STOPPED = "stopped"
 #: What each condition gives the models for the forecast months, in plain words.
 CONDITIONS: dict[str, str] = {
     ACTUAL_WEATHER: "the measured temperatures of the forecast months",
@@ -267,14 +269,21 @@ class BacktestResult:
         """The model's own failures under a condition: in fitting or forecasting.
 
         An origin without typical weather is left out: that is the data's limit, shared by
-        every model, not the model's failure.
+        every model, not the model's failure; so are the origins a raced model skipped.
         """
         failures = self.failures
         return failures[
             (failures["model"] == model)
             & (failures["weather"] == condition)
-            & (failures["stage"] != TYPICAL_WEATHER)
+            & ~failures["stage"].isin((TYPICAL_WEATHER, STOPPED))
         ]
+
+    def stopped(self, model: str) -> str:
+        """Why a raced model stopped before the last origin ("" when it ran every one)."""
+        rows = self.failures[
+            (self.failures["model"] == model) & (self.failures["stage"] == STOPPED)
+        ]
+        return str(rows["message"].iloc[0]) if len(rows) else ""
 
     def failed_origins(self, model: str, condition: str) -> int:
         """How many origins a model failed at under a condition (see :meth:`model_failures`)."""
@@ -403,6 +412,7 @@ class _Collector:
 
     def __init__(self, keep_fitted: bool = False) -> None:
         self.keep_fitted = keep_fitted
+        self.misses: dict[tuple[str, str], list[float]] = {}
         self.fitted: dict[str, dict[str, EnergyModel]] = {}
         self.fits: list[dict[str, Any]] = []
         self.scores: list[dict[str, Any]] = []
@@ -436,6 +446,9 @@ class _Collector:
 
     def forecast(self, window: _Window, model: str, condition: str, predicted: np.ndarray) -> None:
         """Score one forecast per interval for every horizon; keep it for the tables."""
+        first = (window.lead == 1) & ~np.isnan(window.actual) & ~np.isnan(predicted)
+        miss = forecast_vs_actual_percent(window.actual[first].sum(), predicted[first].sum())
+        self.misses.setdefault((model, condition), []).append(float(np.abs(miss)))
         for horizon in window.horizons:
             within = window.lead <= horizon
             y, y_hat = window.actual[within], predicted[within]
@@ -465,6 +478,10 @@ class _Collector:
                 "naive scale": window.naive_scale,
             }
         )
+
+    def lead_one_misses(self, model: str, condition: str) -> list[float]:
+        """Per origin so far, the absolute month-total error % of the first forecast month."""
+        return self.misses.get((model, condition), [])
 
     def forecast_table(self) -> pd.DataFrame:
         """Every kept forecast, one row per interval, built in one go."""
@@ -559,6 +576,72 @@ def _plan(
     )
 
 
+@dataclass(frozen=True)
+class Race:
+    """Stop models that can no longer be recommended, instead of running every origin.
+
+    The wizard recommends a model by its month-total MAPE under ``condition`` and prefers an
+    explainable one unless another beats it by more than ``margin`` points. A model named in
+    ``families`` therefore runs after the others, origin by origin, and stops as soon as the
+    sum of its absolute month-total errors so far, divided by the number of origins, is at
+    least the best explainable model's MAPE (over every origin, none failed) less ``margin``:
+    its final MAPE can only be higher, so it could not be recommended. The origins it skips are
+    recorded with the stage :data:`STOPPED`, which is not a failure.
+    """
+
+    families: frozenset[str]
+    margin: float
+
+    def takes(self, model: EnergyModel) -> bool:
+        return model.family in self.families
+
+    def bar(self, out: _Collector, plan: _Plan, others: list[str], origins: int) -> float:
+        """The month-total MAPE a racer must stay below: the best complete explainable
+        model's, less the margin (minus infinity, so nothing stops, when none completed)."""
+        condition = ranking_condition(plan)
+        best = math.inf
+        for name in others:
+            misses = out.lead_one_misses(name, condition)
+            failed = any(f["model"] == name for f in out.failures)
+            if len(misses) == origins and not failed:
+                best = min(best, float(np.nanmean(misses)))
+        return best - self.margin
+
+
+def ranking_condition(plan: _Plan) -> str:
+    """The condition month totals are ranked on: typical weather, else none."""
+    return TYPICAL_WEATHER if TYPICAL_WEATHER in plan.conditions else NO_WEATHER
+
+
+def _run_racer(
+    windows: list[_Window],
+    name: str,
+    prototype: EnergyModel,
+    out: _Collector,
+    plan: _Plan,
+    bar: float,
+    progress: Progress | None,
+) -> None:
+    """Run one racing model origin by origin until it can no longer be recommended."""
+    condition = ranking_condition(plan)
+    for number, window in enumerate(windows):
+        step(progress, number / len(windows), f"Backtest from {window.name}: {prototype.label}")
+        _run_one(window, name, prototype, out)
+        misses = out.lead_one_misses(name, condition)
+        if np.nansum(misses) / len(windows) >= bar and number + 1 < len(windows):
+            for later in windows[number + 1 :]:
+                for stopped in window.temperatures:
+                    out.fail(later, name, stopped, STOPPED, _stopped_text(misses, bar))
+            return
+
+
+def _stopped_text(misses: list[float], bar: float) -> str:
+    return (
+        f"stopped after {len(misses)} origins: its month totals were already off by "
+        f"{np.nanmean(misses):.1f} % on average, and it could not come below {bar:.1f} %"
+    )
+
+
 def run_backtest(
     models: Mapping[str, EnergyModel] | Sequence[EnergyModel],
     inputs: ModelInputs,
@@ -568,6 +651,7 @@ def run_backtest(
     weather_history: pd.Series | None = None,
     season_length: int | None = None,
     keep_fitted: bool = False,
+    race: Race | None = None,
     progress: Progress | None = None,
 ) -> BacktestResult:
     """Rolling-origin backtest of unfitted models on one meter's inputs.
@@ -589,6 +673,9 @@ def run_backtest(
         MASE's seasonal naive lag in intervals; default one week.
     keep_fitted : bool, default False
         Keep every model fitted at each origin in :attr:`BacktestResult.fitted`.
+    race : Race, optional
+        Models it names run after the others and stop at the origin from which they can no
+        longer be recommended (see :class:`Race`).
     progress : Progress, optional
         Stepped once per origin × model; cancelling stops the run with ``Cancelled``.
 
@@ -607,15 +694,27 @@ def run_backtest(
             "useful backtest).",
         )
     out = _Collector(keep_fitted)
+    racers = [name for name in named if race is not None and race.takes(named[name])]
     total = len(starts) * len(named)
+    windows = []
     for number, origin in enumerate(starts):
         done = number * len(named)
         step(progress, done / total, "Backtest: learning typical weather")
         window = _prepare_window(plan, origin)
+        windows.append(window)
         for offset, (name, prototype) in enumerate(named.items()):
+            if name in racers:
+                continue
             message = f"Backtest from {window.name}: {prototype.label}"
             step(progress, (done + offset) / total, message)
             _run_one(window, name, prototype, out)
+    if racers:
+        explainable = [n for n in named if n not in racers and named[n].explainable]
+        bar = race.bar(out, plan, explainable, len(windows))
+        for number, name in enumerate(racers):
+            done = (len(named) - len(racers) + number) / len(named)
+            part = progress.part(done, done + 1 / len(named)) if progress is not None else None
+            _run_racer(windows, name, named[name], out, plan, bar, part)
     step(progress, 1.0, "Backtest finished")
     return _assemble(plan, named, starts, origins, out)
 

@@ -327,6 +327,11 @@ def _failure_text(result: BacktestResult, model: str, condition: str) -> str:
     )
 
 
+#: Month-total MAPE points within which an explainable model is preferred to a less
+#: explainable one.
+EXPLAINABLE_MARGIN = 1.0
+
+
 def _ranking_table(result: BacktestResult, condition: str) -> pd.DataFrame:
     resolution = _resolution_word(result.interval)
     rows = []
@@ -334,7 +339,7 @@ def _ranking_table(result: BacktestResult, condition: str) -> pd.DataFrame:
         card = result.scorecard(name, condition)
         actual_card = result.scorecard(name, ACTUAL_WEATHER) or card
         failed = result.failed_origins(name, condition)
-        failure = _failure_text(result, name, condition)
+        failure = _failure_text(result, name, condition) or result.stopped(name)
         if card is None:
             reason = _sentence(
                 f"{info.label}: no forecasts to score; {failure or 'it did not run'}."
@@ -361,7 +366,7 @@ def _ranking_table(result: BacktestResult, condition: str) -> pd.DataFrame:
                 "meets Guideline 14": meets,
                 "reason": reason,
                 "_order": (
-                    failed > 0 or card is None,
+                    failed > 0 or card is None or bool(result.stopped(name)),
                     round(mape, 1) if not math.isnan(mape) else math.inf,
                     cv if not math.isnan(cv) else math.inf,
                 ),
@@ -489,7 +494,7 @@ def recommend_model(
     result: BacktestResult,
     *,
     labels: pd.DataFrame | None = None,
-    margin_points: float = 1.0,
+    margin_points: float = EXPLAINABLE_MARGIN,
     min_miss_percent: float = 3.0,
 ) -> ModelChoice:
     """Rank the backtested models, choose one, and explain the choice (see module notes).

@@ -17,13 +17,13 @@ from dataclasses import dataclass, replace
 import pandas as pd
 from threadpoolctl import threadpool_limits
 
-from engine.backtest import ACTUAL_WEATHER, NO_WEATHER, BacktestResult, run_backtest
+from engine.backtest import ACTUAL_WEATHER, NO_WEATHER, BacktestResult, Race, run_backtest
 from engine.budget.refits import RollingRefits, rolling_refits
 from engine.errors import InputError
 from engine.models import MODEL_FAMILIES, EnergyModel, ModelInputs, model_from_dict
 from engine.models.base import fresh
 from engine.progress import Progress, step
-from engine.selection import ModelChoice, recommend_model
+from engine.selection import EXPLAINABLE_MARGIN, ModelChoice, recommend_model
 
 #: Families the wizard tries unless told otherwise. The billing-period model needs bills and
 #: the gradient-boosting challenger is less explainable and slower: both on request only.
@@ -40,6 +40,11 @@ DEFAULT_FAMILIES: tuple[str, ...] = (
 TUNED_FAMILIES: tuple[str, ...] = ("calendar_regression", "time_of_week_temperature")
 #: Origins of the short backtest that chooses those orders (one-month-ahead, actual weather).
 TUNING_ORIGINS = 3
+#: Slow, less explainable families that stop at the backtest origin from which they could no
+#: longer be recommended (:class:`engine.backtest.Race`).
+RACED_FAMILIES: frozenset[str] = frozenset(
+    {"daily_ets", "monthly_sarima", "mstl_ets", "gradient_boosting"}
+)
 #: Monthly origins of the wizard's backtest unless told otherwise.
 DEFAULT_ORIGINS = 12
 
@@ -102,6 +107,7 @@ def compare_models(
         origins=origins,
         weather_history=weather,
         keep_fitted=keep_fitted,
+        race=Race(RACED_FAMILIES, EXPLAINABLE_MARGIN),
         progress=part,
     )
     return ModelComparison(backtest, recommend_model(backtest, labels=inputs.labels), models)
@@ -117,7 +123,11 @@ def tuned(model: EnergyModel, inputs: ModelInputs, weather: pd.Series | None) ->
     if model.family not in TUNED_FAMILIES:
         return model
     family = type(model)
-    candidates = {str(i): family(**s) for i, s in enumerate([{}, *family.candidate_settings()])}
+    candidates: dict[str, EnergyModel] = {}
+    for number, settings in enumerate([{}, *family.candidate_settings()]):
+        candidate = family(**settings)
+        if all(candidate.settings() != kept.settings() for kept in candidates.values()):
+            candidates[str(number)] = candidate  # the defaults are often a candidate too
     result = run_backtest(
         candidates, inputs, origins=TUNING_ORIGINS, horizons=(1,), weather_history=weather
     )
