@@ -85,6 +85,7 @@ def _read(path: Path, options: ReadOptions, chosen: ChosenTable) -> WeatherFile:
                                 message=f"{int(duplicated.sum())} repeated timestamp(s); the "
                                 "first reading of each was kept."))  # fmt: skip
     temps_c = temps_c[~duplicated & temps_c.index.notna()].sort_index().dropna()
+    raw = raw[~raw.index.duplicated()].reindex(temps_c.index)  # the same readings as kept
     findings += _implausible(temps_c)
     return WeatherFile(path, path.stem, temps_c.rename("temp_c"), raw.rename("raw"), unit_name,
                        extremes, site, findings)  # fmt: skip

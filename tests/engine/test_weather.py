@@ -247,3 +247,28 @@ def test_past_year_samples_leave_out_years_with_long_gaps() -> None:
     assert 2021 not in samples.columns and 2022 in samples.columns
     with pytest.raises(InputError, match="no past year"):
         past_year_samples(holed.loc[:"2019-06-01"], date(2024, 7, 1), date(2024, 7, 31), zone)
+
+
+def test_a_weather_file_on_local_clock_time_across_both_clock_changes_is_stored(tmp_path):
+    # Local stamps written hour by hour straight through the calendar, as many loggers do: the
+    # hour clocks skip in spring lands on the next one, which is then read twice (IANA zone
+    # Europe/Dublin: 2021-03-28 01:00 does not exist; 2021-10-31 01:00 happens twice).
+    from engine.importing import create_project, read_project_files
+    from engine.project import Project
+    from engine.reading import ReadOptions
+
+    hours = pd.date_range("2021-03-27", "2021-11-01", freq="h")
+    weather = tmp_path / "station.csv"
+    weather.write_text(
+        "Time,Dry bulb (°C)\n"
+        + "\n".join(f"{t:%Y-%m-%d %H:%M},{10 + i % 7}" for i, t in enumerate(hours))
+    )
+    meters = tmp_path / "meter.csv"
+    meters.write_text("Time,Hall (kWh)\n" + "\n".join(f"{t:%Y-%m-%d %H:%M},5" for t in hours[:48]))
+    files = read_project_files([meters], (), [weather], ReadOptions(timezone="Europe/Dublin"))
+    path = tmp_path / "site.loadledger"
+    create_project(path, files, timezone="Europe/Dublin").close()
+    with Project.open(path) as project:
+        stored = project.load_weather()
+    assert stored.index.is_unique and stored.index.is_monotonic_increasing
+    assert len(stored) == len(files.weather[0].temps_c)
