@@ -636,9 +636,15 @@ def _run_racer(
 
 
 def _stopped_text(misses: list[float], bar: float) -> str:
+    scored = [miss for miss in misses if not math.isnan(miss)]
+    so_far = (
+        f"its month totals were already off by {sum(scored) / len(scored):.1f} % on average"
+        if scored
+        else "no month of it could be scored yet"
+    )
     return (
-        f"stopped after {len(misses)} origins: its month totals were already off by "
-        f"{np.nanmean(misses):.1f} % on average, and it could not come below {bar:.1f} %"
+        f"stopped after {len(misses)} origins: {so_far}, and it could not come below "
+        f"{max(bar, 0.0):.1f} % (the best explainable model's month-total MAPE less the margin)"
     )
 
 

@@ -5,7 +5,7 @@ rolling month-ahead budgets, the simulated run, and everything the finance workb
 from __future__ import annotations
 
 from collections.abc import Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from datetime import date
 from pathlib import Path
 
@@ -282,11 +282,14 @@ def _meter_models(
             if made.model is None:
                 failures.append(MeterFailure(job.name, _no_choice(made), True))
                 continue
+            key = keys[job.name]
             if made.comparison is not None:
                 scorecards[job.name] = _scores(made.comparison.choice.to_dict(), made.model.family)
                 if site.meter(job.name).inputs.index[-1] < cut:
                     keep_fit(project, made, job.history)
-            keep(project, made, keys[job.name], scorecards[job.name])
+                    # the next budget starts from the stored choice: keep it under that key
+                    key = job_key(replace(job, model=made.family.to_dict()))
+            keep(project, made, key, scorecards[job.name])
             modelled[job.name] = made
     if failures and not modelled:
         raise failures[0].error()

@@ -1,8 +1,7 @@
 """Budget modelling kept in the project between runs: reused while its inputs are unchanged,
 made again for exactly the meters whose inputs changed, and never stale.
 
-Ground truth by construction: two invented hourly meters over two years sharing an invented
-weather station (the same site as the budget command's tests, smaller). Whether a budget made
+The site is ``tests/engine/conftest.py``'s invented two-meter campus. Whether a budget made
 its meters' models again is read from the project file itself: a kept row is added only when
 a meter was modelled.
 """
@@ -14,7 +13,6 @@ import sqlite3
 from datetime import date
 from pathlib import Path
 
-import numpy as np
 import pandas as pd
 import pytest
 
@@ -24,34 +22,7 @@ from engine.cleaning.steps import range_step
 from engine.kept_models import KEEP_PER_METER
 from engine.modelling import fit_meter
 from engine.project import Project
-from tests.cli.cli_support import loadledger
-
-METERS = ("Hall", "Boiler gas")
-
-
-@pytest.fixture(scope="module")
-def fitted_site(tmp_path_factory) -> Path:
-    folder = tmp_path_factory.mktemp("kept")
-    rng = np.random.default_rng(11)
-    hours = pd.date_range("2024-01-01", "2025-12-31 23:00", freq="h")
-    day = hours.day_of_year.to_numpy()
-    temps = 11 - 12 * np.cos(2 * np.pi * (day - 20) / 365) + rng.normal(0, 2, len(hours))
-    busy = (hours.day_of_week < 5) & (hours.hour >= 8) & (hours.hour < 18)
-    hall = (50 + 60 * busy + 3 * np.maximum(12 - temps, 0)) * (1 + rng.normal(0, 0.04, len(hours)))
-    boiler = (5 + 9 * np.maximum(14 - temps, 0)) * (1 + rng.normal(0, 0.05, len(hours)))
-    meters = folder / "campus.csv"
-    meters.write_text("Timestamp,Hall (kWh),Boiler gas (kWh)\n" + "\n".join(
-        f"{t:%Y-%m-%d %H:%M},{a:.3f},{b:.3f}"
-        for t, a, b in zip(hours, hall, boiler, strict=True)))  # fmt: skip
-    weather = folder / "station.csv"
-    weather.write_text("Timestamp,Dry bulb (°C)\n" + "\n".join(
-        f"{t:%Y-%m-%d %H:%M},{v:.2f}" for t, v in zip(hours, temps, strict=True)))  # fmt: skip
-    project = folder / "site.loadledger"
-    loadledger("new", project, "--meters", meters, "--weather", weather, "--timezone", "UTC")
-    with Project.open(project) as opened:
-        for name in METERS:
-            fit_meter(opened, name, families=["seasonal_naive"], origins=2)
-    return project
+from tests.engine.conftest import METERS
 
 
 @pytest.fixture
@@ -93,6 +64,19 @@ def test_a_second_budget_reuses_the_kept_models(site):
     assert _kept_rows(site) == kept  # nothing was modelled again
     assert again["weather"] != first["weather"]
     assert longer["months"] == ["2026-01", "2026-02"]
+
+
+def test_the_wizards_first_budget_is_kept_for_the_next_one(new_site, tmp_path):
+    # No model chosen yet: the first budget runs the fit wizard and stores its choice; the
+    # next budget starts from that stored choice and must find the work kept under it.
+    path = tmp_path / "new.loadledger"
+    shutil.copyfile(new_site, path)
+    with Project.open(path) as project:
+        _budget(project)
+        assert all(project.results("model", name) for name in METERS)
+        kept = _kept_rows(path)
+        _budget(project, "past-years")
+    assert _kept_rows(path) == kept
 
 
 def test_kept_models_give_the_numbers_a_fresh_run_gives(site, tmp_path):

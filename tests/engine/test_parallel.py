@@ -17,7 +17,6 @@ from engine.errors import InputError
 from engine.parallel import run_per_meter
 from engine.progress import Cancelled, Progress
 from engine.project import Project
-from tests.engine.test_budget_kept_models import fitted_site  # noqa: F401 (fixture)
 
 
 @dataclass(frozen=True)
@@ -82,7 +81,7 @@ def _campus_totals(path: Path, **where) -> list[dict]:
     return [meter["total"] for meter in run["meters"]] + [run["campus"]["total"]]
 
 
-def test_worker_processes_and_a_dask_cluster_give_the_serial_numbers(fitted_site, tmp_path):  # noqa: F811
+def test_worker_processes_and_a_dask_cluster_give_the_serial_numbers(fitted_site, tmp_path):
     from distributed import LocalCluster
 
     copies = {}
@@ -97,7 +96,7 @@ def test_worker_processes_and_a_dask_cluster_give_the_serial_numbers(fitted_site
         assert _campus_totals(copies["cluster"], scheduler=cluster.scheduler_address) == serial
 
 
-def test_a_scheduler_that_cannot_be_reached_is_a_clear_error(fitted_site):  # noqa: F811
+def test_a_scheduler_that_cannot_be_reached_is_a_clear_error(fitted_site):
     with Project.open(fitted_site) as project:
         request = budget_request(project, ["2026-01"], paths=100)
         with pytest.raises(InputError, match="cannot be reached"):
