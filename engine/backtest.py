@@ -55,7 +55,7 @@ from engine.scoring import (
     seasonal_naive_mae,
     total_by,
 )
-from engine.weather import TypicalWeather, typical_year
+from engine.weather import TypicalWeather, TypicalYears
 
 ACTUAL_WEATHER = "actual weather"
 TYPICAL_WEATHER = "typical weather"
@@ -349,7 +349,7 @@ class _Plan:
     """What every origin shares: the inputs, settings and per-interval month keys."""
 
     inputs: ModelInputs
-    weather: pd.Series | None
+    typical: TypicalYears | None
     conditions: tuple[str, ...]
     horizons: tuple[int, ...]
     season: int
@@ -389,7 +389,7 @@ def _prepare_window(plan: _Plan, origin: pd.Timestamp) -> _Window:
         temperatures[condition] = ahead.temperature if condition == ACTUAL_WEATHER else None
         if condition == TYPICAL_WEATHER:
             try:
-                typical = typical_year(plan.weather[plan.weather.index < origin], inputs.timezone)
+                typical = plan.typical.before(origin)
                 temperatures[condition] = typical_on(typical, ahead.index, inputs.interval)
             except InputError as error:
                 problem = f"no typical weather before {month}: {error.message}"
@@ -549,7 +549,7 @@ def _hourly_history(inputs: ModelInputs, weather_history: pd.Series | None) -> p
 def _plan(
     inputs: ModelInputs,
     horizons: Sequence[int],
-    weather_history: pd.Series | None,
+    weather_history: pd.Series | TypicalYears | None,
     season_length: int | None,
 ) -> _Plan:
     if inputs.energy is None:
@@ -561,12 +561,16 @@ def _plan(
     steps = tuple(sorted({int(h) for h in horizons}))
     if not steps or steps[0] != 1:
         raise ValueError("the horizons must be whole months and include 1")
-    weather = _hourly_history(inputs, weather_history)
+    if isinstance(weather_history, TypicalYears):
+        typical = weather_history
+    else:
+        weather = _hourly_history(inputs, weather_history)
+        typical = None if weather is None else TypicalYears(weather, inputs.timezone)
     local = inputs.index.tz_convert(inputs.timezone)
     return _Plan(
         inputs=inputs,
-        weather=weather,
-        conditions=(ACTUAL_WEATHER, TYPICAL_WEATHER) if weather is not None else (NO_WEATHER,),
+        typical=typical,
+        conditions=(ACTUAL_WEATHER, TYPICAL_WEATHER) if typical is not None else (NO_WEATHER,),
         horizons=steps,
         season=season_length or max(round(_WEEK / inputs.interval), 1),
         month_names=local_months(inputs.index, inputs.timezone),
@@ -654,7 +658,7 @@ def run_backtest(
     *,
     origins: int = 12,
     horizons: Sequence[int] = (1, 3),
-    weather_history: pd.Series | None = None,
+    weather_history: pd.Series | TypicalYears | None = None,
     season_length: int | None = None,
     keep_fitted: bool = False,
     race: Race | None = None,
@@ -673,8 +677,10 @@ def run_backtest(
         Number of monthly origins (the last whole local months of the data).
     horizons : sequence of int, default (1, 3)
         Forecast lengths in months; must include 1, which the scorecards use.
-    weather_history : pandas.Series, optional
+    weather_history : pandas.Series or TypicalYears, optional
         Hourly °C for typical weather; defaults to ``inputs.temperature`` (hourly or finer).
+        :class:`~engine.weather.TypicalYears` of that history shares the typical years
+        learned before each origin with other backtests on the same weather.
     season_length : int, optional
         MASE's seasonal naive lag in intervals; default one week.
     keep_fitted : bool, default False

@@ -32,8 +32,14 @@ from engine.progress import Progress, step
 from engine.project import Project
 from engine.reading import ReadOptions, read_weather_file
 from engine.tariffs import Tariff, is_currency_code, read_tariff
-from engine.weather import typical_year
-from engine.wizard import MeterJob, MeterModels, model_meter
+from engine.weather import TypicalYears, typical_year
+from engine.wizard import (
+    DEFAULT_ORIGINS,
+    MeterJob,
+    MeterModels,
+    learn_typical_years,
+    model_meter,
+)
 
 WEATHER_CHOICES = ("typical", "past-years")
 #: The bills' currency unless told otherwise (bills store plain amounts).
@@ -251,13 +257,14 @@ def _meter_models(
     modelled: dict[str, MeterModels] = {}
     scorecards: dict[str, dict] = {}
     jobs, keys = [], {}
+    weather = None if no_weather or hourly is None else TypicalYears(hourly, site.timezone)
     for name, ready in site.meters.items():
         stored = project.results("model", name) if not no_weather else []
         choice = stored[-1]["body"] if stored else None
         job = MeterJob(
             name,
             ready.history(cut, weather=not no_weather),
-            None if no_weather else hourly,
+            weather,
             _unfitted(choice) if choice else None,
             refit_months=refit_months,
         )
@@ -269,6 +276,8 @@ def _meter_models(
             jobs.append(job)
         if choice:
             scorecards[name] = _scores(choice["choice"], choice["model"]["family"])
+    wizard = [job.history for job in jobs if job.model is None]
+    learn_typical_years(weather, wizard, DEFAULT_ORIGINS)
     results, failures = run_per_meter(
         model_meter, jobs, workers=workers, scheduler=scheduler, progress=progress
     )

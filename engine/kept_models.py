@@ -31,7 +31,7 @@ def job_key(job: MeterJob) -> str:
     wizard = job.model is None
     return fingerprint(
         job.history,
-        job.weather if wizard else None,
+        job.weather.hourly if wizard and job.weather is not None else None,
         {
             "model": job.model,
             "families": list(job.families or ()),

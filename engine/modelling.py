@@ -17,7 +17,14 @@ from engine.prepared_site import prepare_site
 from engine.progress import Progress, step
 from engine.project import Project
 from engine.selection import ModelChoice
-from engine.wizard import DEFAULT_ORIGINS, MeterJob, MeterModels, model_meter
+from engine.weather import TypicalYears
+from engine.wizard import (
+    DEFAULT_ORIGINS,
+    MeterJob,
+    MeterModels,
+    learn_typical_years,
+    model_meter,
+)
 
 
 @dataclass
@@ -61,8 +68,10 @@ def fit_meters(
     """
     step(progress, 0.0, "preparing the meters")
     site = prepare_site(project, names)
+    weather = None if site.hourly is None else TypicalYears(site.hourly, site.timezone)
+    learn_typical_years(weather, [ready.inputs for ready in site.meters.values()], origins)
     jobs = [
-        MeterJob(name, ready.inputs, site.hourly, None, _tuple(families), origins)
+        MeterJob(name, ready.inputs, weather, None, _tuple(families), origins)
         for name, ready in site.meters.items()
     ]
     part = progress.part(0.05, 0.95) if progress is not None else None

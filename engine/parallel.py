@@ -137,7 +137,9 @@ def _run_on(
     pool: ProcessPoolExecutor | None,
 ) -> tuple[dict[str, Any], list[MeterFailure]]:
     started = time.perf_counter()
-    names: dict[Future, str] = {executor.submit(function, job): job.name for job in jobs}
+    # Largest first, so no worker is left with one long meter at the end.
+    largest_first = sorted(jobs, key=lambda job: job.size, reverse=True)
+    names: dict[Future, str] = {executor.submit(function, job): job.name for job in largest_first}
     results: dict[str, Any] = {}
     failures: list[MeterFailure] = []
     pending = set(names)

@@ -7,6 +7,8 @@ are the site's local calendar days.
 
 from __future__ import annotations
 
+import contextlib
+from collections.abc import Iterable
 from dataclasses import dataclass
 from datetime import date
 from typing import Any
@@ -365,3 +367,38 @@ def past_year_samples(
             hint="Import more weather history or fill its long gaps first.",
         )
     return pd.DataFrame(samples, index=target)
+
+
+class TypicalYears:
+    """Typical years learned from the readings before given moments, each learned once.
+
+    A backtest learns one before each of its origins, and the fit wizard's tuning and main
+    backtests, and every meter of a site, use the same weather: sharing one of these learns
+    each typical year once. A moment whose history cannot give one raises the same
+    :class:`~engine.errors.InputError` each time it is asked for.
+    """
+
+    def __init__(self, hourly_temps_c: pd.Series, timezone: str) -> None:
+        self.hourly = hourly_temps_c
+        self.timezone = timezone
+        self._learned: dict[pd.Timestamp, TypicalWeather | tuple[str, str]] = {}
+
+    def before(self, moment: pd.Timestamp) -> TypicalWeather:
+        """The typical year of the readings before ``moment``."""
+        if moment not in self._learned:
+            try:
+                found = typical_year(self.hourly[self.hourly.index < moment], self.timezone)
+            except InputError as error:
+                found = (error.message, error.hint)
+            self._learned[moment] = found
+        found = self._learned[moment]
+        if isinstance(found, tuple):
+            raise InputError(found[0], hint=found[1])
+        return found
+
+    def learn(self, moments: Iterable[pd.Timestamp]) -> TypicalYears:
+        """Learn the typical years before ``moments`` now (before sending this elsewhere)."""
+        for moment in moments:
+            with contextlib.suppress(InputError):
+                self.before(moment)
+        return self

@@ -17,13 +17,21 @@ from dataclasses import dataclass, replace
 import pandas as pd
 from threadpoolctl import threadpool_limits
 
-from engine.backtest import ACTUAL_WEATHER, NO_WEATHER, BacktestResult, Race, run_backtest
+from engine.backtest import (
+    ACTUAL_WEATHER,
+    NO_WEATHER,
+    BacktestResult,
+    Race,
+    backtest_origins,
+    run_backtest,
+)
 from engine.budget.refits import RollingRefits, rolling_refits
 from engine.errors import InputError
 from engine.models import MODEL_FAMILIES, EnergyModel, ModelInputs, model_from_dict
 from engine.models.base import fresh
 from engine.progress import Progress, step
 from engine.selection import EXPLAINABLE_MARGIN, ModelChoice, recommend_model
+from engine.weather import TypicalYears
 
 #: Families the wizard tries unless told otherwise. The billing-period model needs bills and
 #: the gradient-boosting challenger is less explainable and slower: both on request only.
@@ -86,7 +94,7 @@ class ModelComparison:
 
 def compare_models(
     inputs: ModelInputs,
-    weather: pd.Series | None,
+    weather: pd.Series | TypicalYears | None,
     *,
     families: Sequence[str] | None = None,
     origins: int = DEFAULT_ORIGINS,
@@ -99,6 +107,8 @@ def compare_models(
     (:attr:`BacktestResult.fitted`), for refits that reuse them.
     """
     step(progress, 0.0, "choosing the models' orders")
+    if isinstance(weather, pd.Series):  # one set of typical years for both backtests
+        weather = TypicalYears(weather, inputs.timezone)
     models = {m.family: tuned(m, inputs, weather) for m in families_for(inputs, families)}
     part = progress.part(0.1, 1.0) if progress is not None else None
     backtest = run_backtest(
@@ -113,7 +123,9 @@ def compare_models(
     return ModelComparison(backtest, recommend_model(backtest, labels=inputs.labels), models)
 
 
-def tuned(model: EnergyModel, inputs: ModelInputs, weather: pd.Series | None) -> EnergyModel:
+def tuned(
+    model: EnergyModel, inputs: ModelInputs, weather: pd.Series | TypicalYears | None
+) -> EnergyModel:
     """The family's candidate settings compared in a short backtest; the best one, unfitted.
 
     Only :data:`TUNED_FAMILIES` are tuned: the orders of their terms are chosen by how well
@@ -149,13 +161,14 @@ class MeterJob:
 
     ``model`` is a chosen model's JSON (its settings are used, not its fit); without one the
     wizard compares ``families`` (default: those that suit the readings) in a backtest from
-    ``origins`` monthly origins, with ``weather`` (hourly °C) for its typical weather.
+    ``origins`` monthly origins, with ``weather`` (the site's hourly °C, with the typical
+    years learned before each origin, :func:`typical_years_for`) for its typical weather.
     ``refit_months`` > 0 also refits the model before each of that many last months.
     """
 
     name: str
     history: ModelInputs
-    weather: pd.Series | None = None
+    weather: TypicalYears | None = None
     model: dict | None = None
     families: tuple[str, ...] | None = None
     origins: int = DEFAULT_ORIGINS
@@ -180,6 +193,17 @@ class MeterModels:
     comparison: ModelComparison | None
     refits: RollingRefits | None
     seconds: float
+
+
+def learn_typical_years(
+    typical: TypicalYears | None, histories: Sequence[ModelInputs], origins: int
+) -> None:
+    """Learn, here and once, the typical years the backtests of these histories will ask
+    for (the meters' jobs may run in other processes, each with its own copy)."""
+    if typical is None:
+        return
+    for history in histories:
+        typical.learn(backtest_origins(history.index, history.timezone, origins, history.interval))
 
 
 def model_meter(job: MeterJob, progress: Progress | None = None) -> MeterModels:

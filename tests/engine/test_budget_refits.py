@@ -9,6 +9,7 @@ import numpy as np
 import pytest
 
 from engine.budget import RollingRefits, rolling_refits
+from engine.weather import TypicalYears
 from engine.wizard import MeterJob, compare_models, model_meter
 from tests.engine.test_budget_campus import make_campus
 
@@ -47,7 +48,8 @@ def test_refits_taken_from_the_backtest_equal_refits_from_scratch(inputs):
 
 def test_the_refits_survive_the_project_files_json(inputs):
     history, weather = inputs
-    job = MeterJob("meter", history, weather, families=("seasonal_naive",), refit_months=3)
+    typical = TypicalYears(weather, history.timezone)
+    job = MeterJob("meter", history, typical, families=("seasonal_naive",), refit_months=3)
     made = model_meter(job)
     restored = RollingRefits.from_dict(made.refits.to_dict())
     assert restored.errors.equals(made.refits.errors)

@@ -272,3 +272,18 @@ def test_a_weather_file_on_local_clock_time_across_both_clock_changes_is_stored(
         stored = project.load_weather()
     assert stored.index.is_unique and stored.index.is_monotonic_increasing
     assert len(stored) == len(files.weather[0].temps_c)
+
+
+def test_typical_years_are_learned_once_and_equal_typical_year() -> None:
+    from engine.weather import TypicalYears
+
+    history = _invented_station(range(2026, 2029))
+    shared = TypicalYears(history, "America/Regina")
+    cut = pd.Timestamp("2028-06-01", tz="UTC")
+    first = shared.before(cut)
+    assert shared.before(cut) is first  # learned once
+    assert first == typical_year(history[history.index < cut], "America/Regina")
+    too_early = pd.Timestamp("2026-03-01", tz="UTC")  # two months of history: no typical year
+    for _ in range(2):
+        with pytest.raises(InputError, match="typical"):
+            shared.before(too_early)
