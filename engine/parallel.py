@@ -16,6 +16,7 @@ from __future__ import annotations
 
 import multiprocessing
 import os
+import sys
 import time
 from collections.abc import Callable, Sequence
 from concurrent.futures import FIRST_COMPLETED, Executor, Future, ProcessPoolExecutor, wait
@@ -53,9 +54,13 @@ class MeterFailure:
     reason: str
     user_error: bool
 
-    def error(self) -> InputError:
+    def error(self) -> Exception:
+        """The error to raise for it: the user's to fix, or an internal one."""
+        message = f"meter '{self.name}' could not be modelled: {self.reason}"
+        if not self.user_error:
+            return RuntimeError(message)
         return InputError(
-            f"meter '{self.name}' could not be modelled: {self.reason}",
+            message,
             hint="Check the meter's readings and cleaning, or leave it out with --meter.",
         )
 
@@ -101,7 +106,7 @@ def run_per_meter(
         count = 1 if small else default_workers()
     else:
         count = max(int(workers), 1)
-    if scheduler is None and (count == 1 or len(jobs) == 1):
+    if scheduler is None and (count == 1 or len(jobs) == 1 or not _main_importable()):
         return _run_here(function, jobs, progress)
     if scheduler is not None:
         client = _connect(scheduler)
@@ -112,6 +117,14 @@ def run_per_meter(
     context = multiprocessing.get_context("spawn" if os.name == "nt" else "forkserver")
     pool = ProcessPoolExecutor(max_workers=min(count, len(jobs)), mp_context=context)
     return _run_on(pool, function, jobs, progress, pool)
+
+
+def _main_importable() -> bool:
+    """Whether worker processes can start: they import the caller's main module again, which
+    a script read from standard input does not have."""
+    main = sys.modules.get("__main__")
+    path = getattr(main, "__file__", None)
+    return path is None or getattr(main, "__spec__", None) is not None or os.path.exists(path)
 
 
 def _run_here(

@@ -78,17 +78,17 @@ def error_table(errors: pd.Series, timezone: str, step: pd.Timedelta) -> pd.Data
     errors = errors[np.isfinite(errors.to_numpy())]
     local = errors.index.tz_convert(timezone).tz_localize(None)
     days = _day_numbers(local)
+    values = errors.to_numpy(dtype=np.float64)
     if step == DAY:
-        table = pd.DataFrame({0: errors.to_numpy()}, index=days)
+        table = pd.DataFrame({0: values}, index=days)
         return table[~table.index.duplicated()]
-    frame = pd.DataFrame({"day": days, "slot": local.hour, "error": errors.to_numpy()})
-    counts = frame.groupby("day").size()
-    whole = counts.index[counts.to_numpy() == _hours_in_days(counts.index.to_numpy(), timezone)]
-    frame = frame[frame["day"].isin(whole)].drop_duplicates(["day", "slot"], keep="first")
-    table = frame.pivot(index="day", columns="slot", values="error")
-    table = table.reindex(columns=range(24)).bfill(axis=1).ffill(axis=1)
-    table.index.name = None
-    return table
+    numbers, row, counts = np.unique(days, return_inverse=True, return_counts=True)
+    grid = np.full((len(numbers), 24), np.nan)
+    last_first = np.arange(len(values))[::-1]  # written last to first: the first of a repeat wins
+    grid[row[last_first], local.hour.to_numpy()[last_first]] = values[last_first]
+    whole = counts == _hours_in_days(numbers, timezone)
+    table = pd.DataFrame(grid[whole], index=numbers[whole], columns=range(24))
+    return table.bfill(axis=1).ffill(axis=1)
 
 
 def shared_pool(tables: dict[str, pd.DataFrame]) -> np.ndarray:

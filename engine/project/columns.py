@@ -111,5 +111,21 @@ def fetch_columns(cursor: sqlite3.Cursor, dtypes: tuple[str, ...]) -> list[np.nd
     rows = cursor.fetchall()
     if not rows:
         return [np.empty(0, dtype=dtype) for dtype in dtypes]
+    if all(np.dtype(dtype).kind in "if" for dtype in dtypes):
+        # One pass in C for numbers (None becomes NaN); whole numbers below 2**53 (times in
+        # seconds, row numbers) come back exactly.
+        table = np.array(rows, dtype=np.float64)
+        if table.shape[1] == len(dtypes) and _exact(table, dtypes):
+            return [table[:, i].astype(dtype) for i, dtype in enumerate(dtypes)]
     by_column = zip(*rows, strict=True)
     return [np.array(column, dtype=dtype) for column, dtype in zip(by_column, dtypes, strict=True)]
+
+
+def _exact(table: np.ndarray, dtypes: tuple[str, ...]) -> bool:
+    """Whether the whole-number columns of ``table`` hold whole numbers float64 keeps exactly."""
+    for i, dtype in enumerate(dtypes):
+        if np.dtype(dtype).kind == "i":
+            column = table[:, i]
+            if not (np.isfinite(column).all() and np.abs(column).max() < 2**53):
+                return False
+    return True

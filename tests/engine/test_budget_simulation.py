@@ -361,3 +361,22 @@ def test_a_given_series_and_recent_past_years_are_weather_assumptions(
     assert drawn.shape == (50, 30)
     assert drawn.min() >= np.datetime64("2019-03-31") and drawn.max() <= np.datetime64(AS_OF)
     assert np.bincount(recent.scenario_of_path).tolist() == [2] * 50  # equal shares
+
+
+def test_error_days_across_clock_changes_fill_the_skipped_hour_and_keep_the_first_repeat():
+    from engine.budget.residuals import error_table
+
+    # IANA zone America/Chicago: 2026-03-08 has 23 local hours (02:00 is skipped), 2026-11-01
+    # has 25 (01:00 happens twice). Each error is its own UTC hour number, so the slots show
+    # which reading landed where.
+    hours = pd.date_range("2026-03-07 06:00", "2026-03-10 05:00", freq="h", tz="UTC").append(
+        pd.date_range("2026-10-31 05:00", "2026-11-03 06:00", freq="h", tz="UTC", inclusive="left")
+    )
+    errors = pd.Series(np.arange(len(hours), dtype=float), index=hours)
+    table = error_table(errors, "America/Chicago", pd.Timedelta(hours=1))
+    days = pd.to_datetime(table.index.to_numpy().astype("datetime64[D]"))
+    spring = table.iloc[list(days).index(pd.Timestamp("2026-03-08"))]
+    assert spring[2] == spring[3]  # the skipped 02:00 takes 03:00's error
+    fall = table.iloc[list(days).index(pd.Timestamp("2026-11-01"))]
+    assert fall[2] == fall[1] + 2  # 01:00 kept its first reading: 02:00 came two hours later
+    assert len(table) == 6 and not table.isna().any().any()
