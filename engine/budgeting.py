@@ -5,7 +5,7 @@ rolling month-ahead budgets, the simulated run, and everything the finance workb
 from __future__ import annotations
 
 from collections.abc import Sequence
-from dataclasses import dataclass, replace
+from dataclasses import dataclass
 from datetime import date
 from pathlib import Path
 
@@ -21,9 +21,17 @@ from engine.budget import (
     plans_from_refits,
     simulate_budget,
 )
+from engine.budget.refits import CALIBRATION_MONTHS, ERROR_MONTHS
 from engine.budget.summary import check_levels
 from engine.errors import InputError
-from engine.kept_models import job_key, keep, kept
+from engine.kept_models import (
+    chosen_scores,
+    job_key,
+    keep,
+    keep_for_next_budget,
+    kept,
+    ranking_row,
+)
 from engine.modelling import keep_fit
 from engine.models import MODEL_FAMILIES, ModelInputs
 from engine.parallel import MeterFailure, run_per_meter
@@ -46,8 +54,6 @@ WEATHER_CHOICES = ("typical", "past-years")
 DEFAULT_CURRENCY = "USD"
 #: Fewest simulated paths that make a range.
 MIN_PATHS = 100
-#: Months of out-of-sample errors a budget draws its model error from.
-ERROR_MONTHS = 12
 #: Those months in days, for the simulation's error window.
 ERROR_DAYS = 366
 
@@ -61,7 +67,7 @@ class BudgetRequest:
     weather: str  # "typical", "past-years" or a file's name
     levels: tuple[int, ...] = (10, 50, 90)
     paths: int = 1000
-    calibration_origins: int = 12
+    calibration_origins: int = CALIBRATION_MONTHS
     tariff: Tariff | None = None
     given_weather: pd.Series | None = None  # °C, for a weather file
     currency: str = DEFAULT_CURRENCY  # of the bills' costs (a rate card states its own)
@@ -275,7 +281,7 @@ def _meter_models(
         else:
             jobs.append(job)
         if choice:
-            scorecards[name] = _scores(choice["choice"], choice["model"]["family"])
+            scorecards[name] = ranking_row(choice["choice"], choice["model"]["family"])
     wizard = [job.history for job in jobs if job.model is None]
     learn_typical_years(weather, wizard, DEFAULT_ORIGINS)
     results, failures = run_per_meter(
@@ -291,14 +297,14 @@ def _meter_models(
             if made.model is None:
                 failures.append(MeterFailure(job.name, _no_choice(made), True))
                 continue
-            key = keys[job.name]
-            if made.comparison is not None:
-                scorecards[job.name] = _scores(made.comparison.choice.to_dict(), made.model.family)
-                if site.meter(job.name).inputs.index[-1] < cut:
-                    keep_fit(project, made, job.history)
-                    # the next budget starts from the stored choice: keep it under that key
-                    key = job_key(replace(job, model=made.family.to_dict()))
-            keep(project, made, key, scorecards[job.name])
+            if made.comparison is None:
+                keep(project, made, keys[job.name], scorecards[job.name])
+            elif site.meter(job.name).inputs.index[-1] < cut:
+                keep_fit(project, made, job.history)
+                scorecards[job.name] = keep_for_next_budget(project, made, job)
+            else:
+                scorecards[job.name] = chosen_scores(made)
+                keep(project, made, keys[job.name], scorecards[job.name])
             modelled[job.name] = made
     if failures and not modelled:
         raise failures[0].error()
@@ -309,11 +315,6 @@ def _unfitted(choice: dict) -> dict:
     """The stored choice's settings as an unfitted model's JSON (its fit is not needed)."""
     stored = choice["model"]
     return MODEL_FAMILIES[stored["family"]](**stored.get("settings", {})).to_dict()
-
-
-def _scores(choice: dict, family: str) -> dict:
-    """The chosen family's row of the wizard's ranking ({} when it has none)."""
-    return {row["model"]: row for row in choice.get("ranking", [])}.get(family, {})
 
 
 def _no_choice(made: MeterModels) -> str:

@@ -12,6 +12,7 @@ is ever used. Only the newest :data:`KEEP_PER_METER` entries of a meter are kept
 
 from __future__ import annotations
 
+from dataclasses import replace
 from importlib.metadata import PackageNotFoundError, version
 
 from engine.budget.refits import RollingRefits
@@ -34,7 +35,7 @@ def job_key(job: MeterJob) -> str:
         job.weather.hourly if wizard and job.weather is not None else None,
         {
             "model": job.model,
-            "families": list(job.families or ()),
+            "families": list(job.families or ()) if wizard else None,
             "origins": job.origins if wizard else None,
             "refit months": job.refit_months,
             "layout": LAYOUT,
@@ -74,6 +75,25 @@ def keep(project: Project, made: MeterModels, key: str, scorecard: dict) -> None
         "scorecard": scorecard,
     }
     project.put_kept(made.name, key, body, KEEP_PER_METER)
+
+
+def keep_for_next_budget(project: Project, made: MeterModels, job: MeterJob) -> dict:
+    """Keep the fit wizard's work for the budgets that start from its (now stored) choice:
+    under the key of a job that names the chosen model. Returns the scores kept beside it."""
+    scorecard = chosen_scores(made)
+    if made.refits is not None:
+        keep(project, made, job_key(replace(job, model=made.family.to_dict())), scorecard)
+    return scorecard
+
+
+def chosen_scores(made: MeterModels) -> dict:
+    """The chosen model's row of the wizard's ranking."""
+    return ranking_row(made.comparison.choice.to_dict(), made.model.family)
+
+
+def ranking_row(choice: dict, family: str) -> dict:
+    """A family's row of a stored recommendation's ranking ({} when it has none)."""
+    return {row["model"]: row for row in choice.get("ranking", [])}.get(family, {})
 
 
 def _engine_version() -> str:

@@ -10,7 +10,9 @@ from dataclasses import dataclass
 import pandas as pd
 
 from engine.backtest import BacktestResult
+from engine.budget.refits import REFIT_MONTHS
 from engine.errors import InputError
+from engine.kept_models import keep_for_next_budget
 from engine.models import MODEL_FAMILIES, EnergyModel, ModelInputs, RefitNeeded, model_from_dict
 from engine.parallel import run_per_meter
 from engine.prepared_site import prepare_site
@@ -62,16 +64,19 @@ def fit_meters(
 ) -> list[FitOutcome]:
     """Backtest the families on each meter, recommend one, fit it on all data and keep it.
 
-    Meters run side by side (``workers`` local processes, default every core, or the Dask
-    scheduler at ``scheduler``); every meter's result is kept in one save. A meter that
-    fails is reported after the others are kept.
+    The chosen model's refits before each of the last months, which a budget needs, are
+    kept too (:func:`engine.kept_models.keep_for_next_budget`; half of them come free from
+    the backtest), so the first budget after a fit does not make them. Meters run side by
+    side (``workers`` local processes, default every core, or the Dask scheduler at
+    ``scheduler``); every meter's result is kept in one save. A meter that fails is reported
+    after the others are kept.
     """
     step(progress, 0.0, "preparing the meters")
     site = prepare_site(project, names)
     weather = None if site.hourly is None else TypicalYears(site.hourly, site.timezone)
     learn_typical_years(weather, [ready.inputs for ready in site.meters.values()], origins)
     jobs = [
-        MeterJob(name, ready.inputs, weather, None, _tuple(families), origins)
+        MeterJob(name, ready.inputs, weather, None, _tuple(families), origins, REFIT_MONTHS)
         for name, ready in site.meters.items()
     ]
     part = progress.part(0.05, 0.95) if progress is not None else None
@@ -83,6 +88,8 @@ def fit_meters(
         for job in jobs:
             if job.name in results:
                 outcomes.append(keep_fit(project, results[job.name], job.history))
+                if results[job.name].model is not None:
+                    keep_for_next_budget(project, results[job.name], job)
     step(progress, 1.0, "done")
     if failures:
         raise failures[0].error()

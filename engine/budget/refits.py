@@ -30,6 +30,14 @@ from engine.models.base import EnergyModel, ModelInputs, fresh
 from engine.models.registry import model_from_dict
 from engine.progress import Cancelled, Progress, step
 
+#: Past month-ahead budgets that check a budget's range (the calibration), by default.
+CALIBRATION_MONTHS = 12
+#: Months of out-of-sample errors a budget draws its model error from.
+ERROR_MONTHS = 12
+#: Months a budget refits its models for: each calibration month needs the errors of the
+#: year before it.
+REFIT_MONTHS = CALIBRATION_MONTHS + ERROR_MONTHS
+
 
 @dataclass(frozen=True)
 class RollingRefits:

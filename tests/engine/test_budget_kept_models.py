@@ -141,3 +141,15 @@ def test_another_as_of_date_is_modelled_again_and_old_entries_are_pruned(site):
             assert project.count_kept() <= KEEP_PER_METER * len(METERS)
         ids = _kept_rows(site)
     assert all(len(rows) == KEEP_PER_METER for rows in ids.values())
+
+
+def test_a_budget_after_fit_finds_the_refits_the_fit_kept(new_site, tmp_path):
+    path = tmp_path / "fitted.loadledger"
+    shutil.copyfile(new_site, path)
+    with Project.open(path) as project:
+        for name in METERS:
+            fit_meter(project, name, families=["seasonal_naive", "daily_change_point"], origins=2)
+        kept = _kept_rows(path)
+        assert all(len(ids) == 1 for ids in kept.values())
+        _budget(project)
+    assert _kept_rows(path) == kept

@@ -5,6 +5,7 @@ meter, and a clear error for a scheduler that cannot be reached."""
 from __future__ import annotations
 
 import shutil
+import sqlite3
 import threading
 import time
 from dataclasses import dataclass
@@ -88,6 +89,8 @@ def test_worker_processes_and_a_dask_cluster_give_the_serial_numbers(fitted_site
     for where in ("serial", "processes", "cluster"):
         copies[where] = tmp_path / f"{where}.loadledger"
         shutil.copyfile(fitted_site, copies[where])
+        with sqlite3.connect(copies[where]) as conn:  # the refits the fit kept: made again
+            conn.execute("DELETE FROM kept_models")
     serial = _campus_totals(copies["serial"], workers=1)
     assert _campus_totals(copies["processes"], workers=2) == serial
     with LocalCluster(
@@ -96,8 +99,11 @@ def test_worker_processes_and_a_dask_cluster_give_the_serial_numbers(fitted_site
         assert _campus_totals(copies["cluster"], scheduler=cluster.scheduler_address) == serial
 
 
-def test_a_scheduler_that_cannot_be_reached_is_a_clear_error(fitted_site):
-    with Project.open(fitted_site) as project:
+def test_a_scheduler_that_cannot_be_reached_is_a_clear_error(new_site, tmp_path):
+    # A project with meters to model (nothing kept yet), so the cluster is needed.
+    path = tmp_path / "new.loadledger"
+    shutil.copyfile(new_site, path)
+    with Project.open(path) as project:
         request = budget_request(project, ["2026-01"], paths=100)
         with pytest.raises(InputError, match="cannot be reached"):
             budget_project(project, request, scheduler="tcp://127.0.0.1:9")
