@@ -14,7 +14,7 @@ import pandas as pd
 import pytest
 from python_calamine import CalamineWorkbook
 
-from tests.cli.cli_support import loadledger
+from tests.cli.cli_support import loadledger, write_hall_and_boiler
 
 ROOT = Path(__file__).resolve().parents[2]
 RATE_CARD = ROOT / "sample" / "tariffs" / "orrinvale-main-electric.ratecard.toml"
@@ -36,13 +36,7 @@ def site(tmp_path_factory):
     busy = (hours.day_of_week < 5) * ramp
     hall = (50 + 70 * busy + 3 * np.maximum(12 - temps, 0)) * (1 + rng.normal(0, 0.04, len(hours)))
     boiler = (5 + 9 * np.maximum(14 - temps, 0)) * (1 + rng.normal(0, 0.05, len(hours)))
-    meters = folder / "campus.csv"
-    meters.write_text("Timestamp,Hall (kWh),Boiler gas (kWh)\n" + "\n".join(
-        f"{t:%Y-%m-%d %H:%M},{a:.3f},{b:.3f}"
-        for t, a, b in zip(hours, hall, boiler, strict=True)))  # fmt: skip
-    weather = folder / "station.csv"
-    weather.write_text("Timestamp,Dry bulb (°C)\n" + "\n".join(
-        f"{t:%Y-%m-%d %H:%M},{v:.2f}" for t, v in zip(hours, temps, strict=True)))  # fmt: skip
+    meters, weather = write_hall_and_boiler(folder, hours, hall, boiler, temps)
     project = folder / "site.loadledger"
     _run("new", project, "--meters", meters, "--weather", weather, "--timezone", "UTC")
     for name in ("Hall", "Boiler gas"):

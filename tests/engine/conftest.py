@@ -16,7 +16,7 @@ import pytest
 
 from engine.modelling import fit_meter
 from engine.project import Project
-from tests.cli.cli_support import loadledger
+from tests.cli.cli_support import loadledger, write_hall_and_boiler
 
 METERS = ("Hall", "Boiler gas")
 
@@ -32,13 +32,7 @@ def new_site(tmp_path_factory) -> Path:
     busy = (hours.day_of_week < 5) & (hours.hour >= 8) & (hours.hour < 18)
     hall = (50 + 60 * busy + 3 * np.maximum(12 - temps, 0)) * (1 + rng.normal(0, 0.04, len(hours)))
     boiler = (5 + 9 * np.maximum(14 - temps, 0)) * (1 + rng.normal(0, 0.05, len(hours)))
-    meters = folder / "campus.csv"
-    meters.write_text("Timestamp,Hall (kWh),Boiler gas (kWh)\n" + "\n".join(
-        f"{t:%Y-%m-%d %H:%M},{a:.3f},{b:.3f}"
-        for t, a, b in zip(hours, hall, boiler, strict=True)))  # fmt: skip
-    weather = folder / "station.csv"
-    weather.write_text("Timestamp,Dry bulb (°C)\n" + "\n".join(
-        f"{t:%Y-%m-%d %H:%M},{v:.2f}" for t, v in zip(hours, temps, strict=True)))  # fmt: skip
+    meters, weather = write_hall_and_boiler(folder, hours, hall, boiler, temps)
     project = folder / "site.loadledger"
     loadledger("new", project, "--meters", meters, "--weather", weather, "--timezone", "UTC")
     return project
