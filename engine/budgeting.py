@@ -287,8 +287,6 @@ def _meter_models(
     results, failures = run_per_meter(
         model_meter, jobs, workers=workers, scheduler=scheduler, progress=progress
     )
-    if failures and not (results or modelled):
-        raise failures[0].error()
     with project.transaction():
         for job in jobs:
             made = results.get(job.name)
