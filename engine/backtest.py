@@ -60,6 +60,8 @@ from engine.weather import TypicalWeather, TypicalYears
 ACTUAL_WEATHER = "actual weather"
 TYPICAL_WEATHER = "typical weather"
 NO_WEATHER = "no weather"
+#: A model already fitted at an origin, with the seconds its fit took.
+Fitted = tuple[EnergyModel, float]
 #: The stage recorded for origins a raced model skipped (:class:`Race`): not a failure.
 STOPPED = "stopped"
 #: What each condition gives the models for the forecast months, in plain words.
@@ -497,20 +499,31 @@ class _Collector:
         return pd.DataFrame(columns)[[*order, "predicted kWh", "naive scale"]]
 
 
-def _run_one(window: _Window, name: str, prototype: EnergyModel, out: _Collector) -> None:
-    """Fit one model at one origin and forecast under every condition, recording failures."""
-    model = copy.deepcopy(prototype)
-    started = time.perf_counter()
-    try:
-        model.fit(window.training)
-    except Cancelled:
-        raise
-    except Exception as error:  # any model failure is recorded, not raised
-        out.fit(window, name, math.nan, None)
-        for condition in window.temperatures:
-            out.fail(window, name, condition, "fit", _failure_message(error))
-        return
-    out.fit(window, name, time.perf_counter() - started, model)
+def _run_one(
+    window: _Window,
+    name: str,
+    prototype: EnergyModel,
+    out: _Collector,
+    fitted: Fitted | None = None,
+) -> None:
+    """Fit one model at one origin (or take its ``fitted`` model and fit seconds) and
+    forecast under every condition, recording failures."""
+    if fitted is not None:
+        model, seconds = fitted
+    else:
+        model = copy.deepcopy(prototype)
+        started = time.perf_counter()
+        try:
+            model.fit(window.training)
+        except Cancelled:
+            raise
+        except Exception as error:  # any model failure is recorded, not raised
+            out.fit(window, name, math.nan, None)
+            for condition in window.temperatures:
+                out.fail(window, name, condition, "fit", _failure_message(error))
+            return
+        seconds = time.perf_counter() - started
+    out.fit(window, name, seconds, model)
     for condition, temperature in window.temperatures.items():
         if condition == TYPICAL_WEATHER and window.weather_problem is not None:
             out.fail(window, name, condition, TYPICAL_WEATHER, window.weather_problem)
@@ -662,6 +675,7 @@ def run_backtest(
     season_length: int | None = None,
     keep_fitted: bool = False,
     race: Race | None = None,
+    fitted: Mapping[str, Mapping[str, Fitted]] | None = None,
     progress: Progress | None = None,
 ) -> BacktestResult:
     """Rolling-origin backtest of unfitted models on one meter's inputs.
@@ -688,6 +702,10 @@ def run_backtest(
     race : Race, optional
         Models it names run after the others and stop at the origin from which they can no
         longer be recommended (see :class:`Race`).
+    fitted : mapping, optional
+        Model name → origin (``"YYYY-MM"``) → a model of the same settings already fitted on
+        the data before that origin, with its fit seconds (e.g. by a shorter backtest): it is
+        used instead of fitting again.
     progress : Progress, optional
         Stepped once per origin × model; cancelling stops the run with ``Cancelled``.
 
@@ -719,7 +737,7 @@ def run_backtest(
                 continue
             message = f"Backtest from {window.name}: {prototype.label}"
             step(progress, (done + offset) / total, message)
-            _run_one(window, name, prototype, out)
+            _run_one(window, name, prototype, out, (fitted or {}).get(name, {}).get(window.name))
     if racers:
         explainable = [n for n in named if n not in racers and named[n].explainable]
         bar = race.bar(out, plan, explainable, len(windows))

@@ -21,6 +21,7 @@ from engine.backtest import (
     ACTUAL_WEATHER,
     NO_WEATHER,
     BacktestResult,
+    Fitted,
     Race,
     backtest_origins,
     run_backtest,
@@ -101,7 +102,8 @@ def compare_models(
     keep_fitted: bool = False,
     progress: Progress | None = None,
 ) -> ModelComparison:
-    """Tune the families' orders, backtest them on ``inputs`` and recommend one.
+    """Tune the families' orders, backtest them on ``inputs`` and recommend one (the tuned
+    families' fits at the tuning origins serve the backtest too).
 
     With ``keep_fitted`` the backtest keeps each model fitted at each origin
     (:attr:`BacktestResult.fitted`), for refits that reuse them.
@@ -109,7 +111,8 @@ def compare_models(
     step(progress, 0.0, "choosing the models' orders")
     if isinstance(weather, pd.Series):  # one set of typical years for both backtests
         weather = TypicalYears(weather, inputs.timezone)
-    models = {m.family: tuned(m, inputs, weather) for m in families_for(inputs, families)}
+    tunings = {m.family: _tune(m, inputs, weather) for m in families_for(inputs, families)}
+    models = {family: model for family, (model, _) in tunings.items()}
     part = progress.part(0.1, 1.0) if progress is not None else None
     backtest = run_backtest(
         models,
@@ -118,6 +121,7 @@ def compare_models(
         weather_history=weather,
         keep_fitted=keep_fitted,
         race=Race(RACED_FAMILIES, EXPLAINABLE_MARGIN),
+        fitted={family: fitted for family, (_, fitted) in tunings.items()},
         progress=part,
     )
     return ModelComparison(backtest, recommend_model(backtest, labels=inputs.labels), models)
@@ -132,8 +136,16 @@ def tuned(
     each candidate forecast the last :data:`TUNING_ORIGINS` months with their actual weather
     (hourly CV(RMSE)), not by hand. Other families come back as they are.
     """
+    return _tune(model, inputs, weather)[0]
+
+
+def _tune(
+    model: EnergyModel, inputs: ModelInputs, weather: pd.Series | TypicalYears | None
+) -> tuple[EnergyModel, dict[str, Fitted]]:
+    """:func:`tuned`, with the chosen candidate's fits at the tuning origins (origin →
+    model and fit seconds) for the main backtest to reuse."""
     if model.family not in TUNED_FAMILIES:
-        return model
+        return model, {}
     family = type(model)
     candidates: dict[str, EnergyModel] = {}
     for number, settings in enumerate([{}, *family.candidate_settings()]):
@@ -141,7 +153,12 @@ def tuned(
         if all(candidate.settings() != kept.settings() for kept in candidates.values()):
             candidates[str(number)] = candidate  # the defaults are often a candidate too
     result = run_backtest(
-        candidates, inputs, origins=TUNING_ORIGINS, horizons=(1,), weather_history=weather
+        candidates,
+        inputs,
+        origins=TUNING_ORIGINS,
+        horizons=(1,),
+        weather_history=weather,
+        keep_fitted=True,
     )
     condition = ACTUAL_WEATHER if inputs.temperature is not None else NO_WEATHER
     scored = [
@@ -151,8 +168,11 @@ def tuned(
         and result.model_failures(key, condition).empty
     ]
     if not scored:
-        return model
-    return candidates[min(scored)[1]]
+        return model, {}
+    best = min(scored)[1]
+    fits = result.fits[result.fits["model"] == best].set_index("origin")["fit seconds"]
+    fitted = {origin: (done, float(fits[origin])) for origin, done in result.fitted[best].items()}
+    return candidates[best], fitted
 
 
 @dataclass(frozen=True)
@@ -162,7 +182,7 @@ class MeterJob:
     ``model`` is a chosen model's JSON (its settings are used, not its fit); without one the
     wizard compares ``families`` (default: those that suit the readings) in a backtest from
     ``origins`` monthly origins, with ``weather`` (the site's hourly °C, with the typical
-    years learned before each origin, :func:`typical_years_for`) for its typical weather.
+    years learned before each origin, :func:`learn_typical_years`) for its typical weather.
     ``refit_months`` > 0 also refits the model before each of that many last months.
     """
 

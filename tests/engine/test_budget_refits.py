@@ -55,3 +55,19 @@ def test_the_refits_survive_the_project_files_json(inputs):
     assert restored.errors.equals(made.refits.errors)
     assert list(restored.models) == list(made.refits.models)
     assert restored.failed == made.refits.failed
+
+
+def test_the_main_backtest_reuses_the_tuning_fits_of_the_chosen_settings(inputs):
+    from engine.backtest import run_backtest
+    from engine.models import CalendarRegressionModel
+    from engine.wizard import TUNING_ORIGINS, _tune
+
+    history, weather = inputs
+    chosen, fitted = _tune(CalendarRegressionModel(), history, weather)
+    assert len(fitted) == TUNING_ORIGINS
+    reused = run_backtest({"c": chosen}, history, origins=5, weather_history=weather,
+                          keep_fitted=True, fitted={"c": fitted})  # fmt: skip
+    fresh = run_backtest({"c": chosen}, history, origins=5, weather_history=weather)
+    for origin, (model, _) in fitted.items():
+        assert reused.fitted["c"][origin] is model  # taken, not fitted again
+    assert reused.scorecards == fresh.scorecards
