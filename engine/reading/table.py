@@ -14,10 +14,9 @@ import numpy as np
 import pandas as pd
 
 from engine import units
-from engine.reading.grid import Grid
+from engine.reading.grid import BLANK_HEADER, Grid
 
 SCAN_ROWS = 60
-BLANK_HEADER = "column "  # name given to a column whose header cell is empty
 NUMBER_RE = re.compile(r"^[-+]?(\d{1,3}([ ,.\u00a0']\d{3})+|\d+)([.,]\d+)?([eE][-+]?\d+)?$")
 DATE_RE = re.compile(
     r"^\s*(\d{4}[-/.]\d{1,2}[-/.]\d{1,2}|\d{1,2}[-/.]\d{1,2}[-/.]\d{2,4})"
