@@ -69,7 +69,7 @@ def is_stamp_column(facts: ColumnFacts, values: pd.Series | None = None) -> bool
     if facts.share("datetime", "date") >= 0.8:
         return True
     if facts.share("number") >= 0.95 and facts.has(vocab.TIME_WORDS) and values is not None:
-        numbers = pd.to_numeric(values, errors="coerce").dropna()
+        numbers = _numeric(values).dropna()
         low, high = EXCEL_SERIAL_RANGE
         return bool(len(numbers) and numbers.between(low, high).mean() > 0.95)
     return False

@@ -89,7 +89,7 @@ def _read_workbook(path: Path, head: bytes) -> list[Grid]:
         stream_oversized = check_zip_workbook(path).oversized_sheet
     return [
         Grid(sheet=name, cells=_blank_to_none(cells))
-        for name, cells in read_sheets(path, stream_oversized)
+        for name, cells in read_sheets(path, stream_oversized, legacy=head.startswith(OLE_MAGIC))
     ]
 
 

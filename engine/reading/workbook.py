@@ -13,20 +13,28 @@ stream and checked against these limits:
   needs one, and refusing it rules out entity expansion ("billion laughs") and external
   entities;
 * a sheet's used range, from the ``<dimension>`` it declares and from the cell references it
-  holds, spans at most :data:`MAX_SHEET_CELLS` (10 million) cells.
+  holds, spans at most :data:`MAX_SHEET_CELLS` (10 million) cells, and no cell lies beyond
+  Excel's last row (1,048,576) or column (XFD); in an OpenDocument file, repeated filled rows
+  and cells count as many times as they repeat.
 
-A sheet over the cell limit is read by a streaming reader (openpyxl, read-only) that keeps only
-cells holding something, so a far empty cell (say at XFD1048576) does not stop a good sheet;
-if the filled cells still span too many, the sheet is refused. The reader's own failures,
+Legacy ``.xls`` files are read by xlrd, in pure Python, so that damage inside them ends in an
+exception rather than an abort. A sheet over the cell limit is read by a streaming reader
+(openpyxl, read-only) that keeps only cells holding something, so a far empty cell (say at
+XFD1048576) does not stop a good sheet; if the filled cells still span too many, the sheet is
+refused. The reader's own failures,
 including Rust panics, become an ``InputError`` naming the file and sheet.
 """
 
 from __future__ import annotations
 
+import contextlib
+import io
 import re
 import zipfile
+import zlib
 from dataclasses import dataclass
 from pathlib import Path
+from xml.etree.ElementTree import ParseError, iterparse
 
 import pandas as pd
 
@@ -37,6 +45,7 @@ MAX_MEMBER_BYTES = 256 * 2**20
 MAX_TOTAL_BYTES = 2**30
 MAX_SHEET_CELLS = 10_000_000
 EXCEL_COLUMNS = 16_384  # XFD, the widest sheet Excel allows
+EXCEL_ROWS = 1_048_576  # the longest
 
 _CHUNK = 2**20
 _OVERLAP = 64  # bytes kept between chunks so a reference cut in two is still seen whole
@@ -69,7 +78,7 @@ def check_zip_workbook(path: Path) -> ContainerCheck:
             for member in members:
                 oversized |= _check_member(archive, member, path)
     except (zipfile.BadZipFile, zipfile.LargeZipFile, NotImplementedError, EOFError,
-            OSError, ValueError) as error:  # fmt: skip
+            OSError, ValueError, zlib.error, ParseError) as error:  # fmt: skip
         raise InputError(
             f"the workbook cannot be unpacked ({first_line(error)}).",
             hint=_DAMAGED_HINT,
@@ -103,7 +112,52 @@ def _check_member(archive: zipfile.ZipFile, member: zipfile.ZipInfo, path: Path)
             if is_sheet:
                 rows, columns = _widen(window, rows, columns)
             tail = window[-_OVERLAP:]
+    if rows > EXCEL_ROWS or columns > EXCEL_COLUMNS:
+        raise InputError(
+            f"part '{member.filename}' places a cell beyond the last row or column a "
+            "spreadsheet can have.",
+            hint=_DAMAGED_HINT,
+            file=path,
+        )
+    if member.filename == "content.xml" and "mimetype" in archive.namelist():
+        _check_opendocument(archive, member, path)
     return rows * columns > MAX_SHEET_CELLS
+
+
+def _check_opendocument(archive: zipfile.ZipFile, member: zipfile.ZipInfo, path: Path) -> None:
+    """Refuse an OpenDocument table whose repeated rows and cells span too many filled cells.
+
+    Repeated empty rows and cells (how OpenDocument pads a sheet to its edge) do not count:
+    the span runs to the last filled cell and row.
+    """
+    table = "{urn:oasis:names:tc:opendocument:xmlns:table:1.0}"
+    office = "{urn:oasis:names:tc:opendocument:xmlns:office:1.0}"
+    cells = (f"{table}table-cell", f"{table}covered-table-cell")
+    name, at_row, rows, at_cell, width, filled_to = "", 0, 0, 0, 0, 0
+    with archive.open(member) as stream:
+        for event, element in iterparse(stream, events=("start", "end")):
+            if event == "start":
+                if element.tag == f"{table}table":
+                    name, at_row, rows, width = element.get(f"{table}name", ""), 0, 0, 0
+                elif element.tag == f"{table}table-row":
+                    at_cell, filled_to = 0, 0
+                continue
+            if element.tag in cells:
+                at_cell += _repeat(element, f"{table}number-columns-repeated")
+                if element.get(f"{office}value-type") is not None or len(element):
+                    filled_to = at_cell
+            elif element.tag == f"{table}table-row":
+                at_row += _repeat(element, f"{table}number-rows-repeated")
+                if filled_to:
+                    rows, width = at_row, max(width, filled_to)
+                if rows * width > MAX_SHEET_CELLS:
+                    raise _too_big(path, name, rows, width)
+                element.clear()
+
+
+def _repeat(element, attribute: str) -> int:
+    text = element.get(attribute, "1")
+    return int(text) if text.isdigit() and len(text) < 12 else 1
 
 
 def _widen(xml: bytes, rows: int, columns: int) -> tuple[int, int]:
@@ -127,8 +181,13 @@ def column_number(letters: str) -> int:
     return number
 
 
-def read_sheets(path: Path, stream_oversized: bool) -> list[tuple[str, pd.DataFrame]]:
-    """Every sheet's raw cells; sheets over the cell limit are read by the streaming reader."""
+def read_sheets(
+    path: Path, stream_oversized: bool, legacy: bool = False
+) -> list[tuple[str, pd.DataFrame]]:
+    """Every sheet's raw cells; sheets over the cell limit are read by the streaming reader,
+    legacy ``.xls`` files by xlrd (pure Python: damage there cannot abort the process)."""
+    if legacy:
+        return _read_legacy(path)
     if stream_oversized:
         return _read_streaming(path)
     from python_calamine import CalamineWorkbook
@@ -197,6 +256,49 @@ def _filled_cells(sheet, path: Path) -> pd.DataFrame:
         for column, value in kept.items():
             grid[number][column] = value
     return pd.DataFrame(grid, dtype=object)
+
+
+def _read_legacy(path: Path) -> list[tuple[str, pd.DataFrame]]:
+    """The sheets of a legacy BIFF workbook (``.xls``) with date cells as datetimes."""
+    import xlrd
+
+    try:
+        book = xlrd.open_workbook(str(path), logfile=io.StringIO(), on_demand=True)
+    except Exception as error:  # xlrd raises many types for damaged files
+        raise _unreadable(path, None, error) from None
+    sheets = []
+    try:
+        for name in book.sheet_names():
+            try:
+                sheet = book.sheet_by_name(name)
+                if sheet.nrows * sheet.ncols > MAX_SHEET_CELLS:
+                    raise _too_big(path, name, sheet.nrows, sheet.ncols)
+                rows = [_legacy_row(sheet, r, book.datemode) for r in range(sheet.nrows)]
+            except InputError:
+                raise
+            except Exception as error:
+                raise _unreadable(path, name, error) from None
+            sheets.append((name, pd.DataFrame(rows, dtype=object)))
+    finally:
+        book.release_resources()
+    return sheets
+
+
+def _legacy_row(sheet, number: int, datemode: int) -> list[object]:
+    import xlrd
+
+    cells = []
+    for kind, value in zip(sheet.row_types(number), sheet.row_values(number), strict=True):
+        if kind == xlrd.XL_CELL_DATE:
+            # a bad serial stays a number, for the stamp reader to judge and report
+            with contextlib.suppress(xlrd.xldate.XLDateError, ValueError, OverflowError):
+                value = xlrd.xldate.xldate_as_datetime(value, datemode)
+        elif kind in (xlrd.XL_CELL_EMPTY, xlrd.XL_CELL_BLANK, xlrd.XL_CELL_ERROR):
+            value = None
+        elif kind == xlrd.XL_CELL_BOOLEAN:
+            value = bool(value)
+        cells.append(value)
+    return cells
 
 
 def _too_big(path: Path, sheet: str, rows: int, columns: int) -> InputError:
