@@ -26,6 +26,7 @@ DELIMITERS = (",", ";", "\t", "|")
 HEAD_ROWS = 200
 BLANK_HEADER = "column "  # name of a column whose header cell is empty
 MAX_COLUMNS = EXCEL_COLUMNS
+MAX_HEADED_ROWS = 10_000  # a campus calendar holds a few periods a year
 _QUOTED = re.compile(r'"[^"]*"')
 _LINE_END = re.compile(r"\r\n|\r|\n")
 
@@ -155,9 +156,9 @@ def _text_cells(text: str, delimiter: str) -> pd.DataFrame:
 def read_headed_table(path: str | Path) -> tuple[pd.DataFrame, str | None]:
     """The first sheet (or the text table) under its first row's headers, and the sheet name.
 
-    For small tables read whole, such as a campus calendar: every row is kept (blank ones
-    too), text stays text, short rows are padded and cells beyond the header get a column
-    named by position. Headers are made unique.
+    For small tables read whole, such as a campus calendar (at most :data:`MAX_HEADED_ROWS`
+    rows): every row is kept (blank ones too), text stays text, short rows are padded and
+    cells beyond the header get a column named by position. Headers are made unique.
     """
     path = Path(path)
     grid = read_grids(path)[0]
@@ -167,6 +168,14 @@ def read_headed_table(path: str | Path) -> tuple[pd.DataFrame, str | None]:
         raise error.at_file(path) from None
     if cells.empty:
         return pd.DataFrame(), grid.sheet
+    if len(cells) > MAX_HEADED_ROWS + 1:
+        raise InputError(
+            f"the table has {len(cells) - 1:,} rows; a file of this kind has at most "
+            f"{MAX_HEADED_ROWS:,}.",
+            hint="Check that this is the right file.",
+            file=path,
+            sheet=grid.sheet,
+        )
     table = cells.iloc[1:].reset_index(drop=True)
     table.columns = _unique_headers(cells.iloc[0].tolist())
     return table, grid.sheet
