@@ -9,6 +9,8 @@ stream and checked against these limits:
 * each member unpacks to at most :data:`MAX_MEMBER_BYTES` (256 MiB), and all of them together
   to at most :data:`MAX_TOTAL_BYTES` (1 GiB); the stream is counted, so a member that lies
   about its size is caught too (the zip's CRC check fails);
+* no XML part declares more shared strings or styles (``count``, ``uniqueCount``) than the
+  cell limit below, since the reader sets room aside for all of them first;
 * no XML member declares a document type (``<!DOCTYPE``/``<!ENTITY``): spreadsheet XML never
   needs one, and refusing it rules out entity expansion ("billion laughs") and external
   entities;
@@ -30,6 +32,7 @@ from __future__ import annotations
 import contextlib
 import io
 import re
+import warnings
 import zipfile
 import zlib
 from dataclasses import dataclass
@@ -51,6 +54,7 @@ _CHUNK = 2**20
 _OVERLAP = 64  # bytes kept between chunks so a reference cut in two is still seen whole
 _DOCTYPE = re.compile(rb"<!(DOCTYPE|ENTITY)", re.IGNORECASE)
 _CELL_REF = re.compile(rb"<(?:\w+:)?c\b[^>]{0,200}?\br=\"([A-Z]{1,4})(\d{1,8})\"")
+_DECLARED_COUNT = re.compile(rb"\b(?:count|uniqueCount)=\"(\d{8,20})\"")
 _DIMENSION = re.compile(rb"<(?:\w+:)?dimension\b[^>]{0,200}?\bref=\"([^\"]{1,40})\"")
 _RANGE_END = re.compile(r"([A-Z]{1,4})(\d{1,8})$")
 _SHEET_MEMBER = re.compile(r"xl/worksheets/[^/]+\.xml", re.IGNORECASE)
@@ -109,6 +113,8 @@ def _check_member(archive: zipfile.ZipFile, member: zipfile.ZipInfo, path: Path)
                     hint="Open the workbook in a spreadsheet program and save it as .xlsx.",
                     file=path,
                 )
+            if is_xml:
+                _check_counts(window, member.filename, path)
             if is_sheet:
                 rows, columns = _widen(window, rows, columns)
             tail = window[-_OVERLAP:]
@@ -122,6 +128,19 @@ def _check_member(archive: zipfile.ZipFile, member: zipfile.ZipInfo, path: Path)
     if member.filename == "content.xml" and "mimetype" in archive.namelist():
         _check_opendocument(archive, member, path)
     return rows * columns > MAX_SHEET_CELLS
+
+
+def _check_counts(xml: bytes, part: str, path: Path) -> None:
+    """Refuse a declared item count (shared strings, styles) no sheet within the limit needs:
+    the reader sets aside room for that many before it reads one."""
+    for digits in _DECLARED_COUNT.findall(xml):
+        if int(digits) > MAX_SHEET_CELLS:
+            raise InputError(
+                f"part '{part}' declares {int(digits):,} items, more than a sheet of at most "
+                f"{MAX_SHEET_CELLS:,} cells can hold.",
+                hint=_DAMAGED_HINT,
+                file=path,
+            )
 
 
 def _check_opendocument(archive: zipfile.ZipFile, member: zipfile.ZipInfo, path: Path) -> None:
@@ -225,14 +244,16 @@ def _read_streaming(path: Path) -> list[tuple[str, pd.DataFrame]]:
     """Read sheets row by row, keeping only filled cells (for sheets with a huge used range)."""
     import openpyxl
 
-    try:
-        book = openpyxl.load_workbook(path, read_only=True, data_only=True)
-    except Exception as error:  # openpyxl raises many types for damaged files
-        raise _unreadable(path, None, error) from None
-    try:
-        return [(sheet.title, _filled_cells(sheet, path)) for sheet in book.worksheets]
-    finally:
-        book.close()
+    with warnings.catch_warnings():  # its notes on styles and extensions do not touch values
+        warnings.simplefilter("ignore")
+        try:
+            book = openpyxl.load_workbook(path, read_only=True, data_only=True)
+        except Exception as error:  # openpyxl raises many types for damaged files
+            raise _unreadable(path, None, error) from None
+        try:
+            return [(sheet.title, _filled_cells(sheet, path)) for sheet in book.worksheets]
+        finally:
+            book.close()
 
 
 def _filled_cells(sheet, path: Path) -> pd.DataFrame:

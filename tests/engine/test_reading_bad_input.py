@@ -296,3 +296,24 @@ def test_xml_entities_are_refused(tmp_path, entity):
     path.write_bytes(workbooks.zip_parts(workbooks.xlsx_parts({"Data": sheet})))
     error = _error(path)
     assert "entities.xlsx" in str(error) and "document type" in str(error)
+
+
+@pytest.mark.parametrize(("count", "refused"), [(3, False), (2_000_000_000, True)])
+def test_declared_shared_string_count_is_checked_before_reading(tmp_path, count, refused):
+    rows = [["Timestamp", "Main (kWh)"], *([s, 2] for s in _hours(10))]
+    parts = workbooks.xlsx_parts({"Data": workbooks.sheet_xml(rows)})
+    parts["xl/sharedStrings.xml"] = (
+        f'<sst xmlns="{workbooks.MAIN}" count="{count}" uniqueCount="{count}"><si><t>x</t></si>'
+        "</sst>"
+    ).encode()
+    parts["xl/_rels/workbook.xml.rels"] = parts["xl/_rels/workbook.xml.rels"].replace(
+        b"</Relationships>",
+        f'<Relationship Id="rId99" Type="{workbooks.OFFICE_RELS}/sharedStrings" '
+        'Target="sharedStrings.xml"/></Relationships>'.encode(),
+    )
+    path = tmp_path / "strings.xlsx"
+    path.write_bytes(workbooks.zip_parts(parts))  # before: a 48 GB allocation aborted
+    if refused:
+        assert "declares 2,000,000,000 items" in str(_error(path))
+    else:
+        assert _inspect(path)["meters"][0]["total_kwh"] == 20

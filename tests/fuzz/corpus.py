@@ -589,9 +589,11 @@ def _damage_parts(parts: dict[str, bytes], rng: random.Random) -> str:
     if choice == 2:
         parts[name] = truncate(parts[name], rng)
         return f"truncated {name}"
+    count = rng.choice([1, 10**7, 2 * 10**9, 10**19])  # a reader may set room aside for them
     parts["xl/sharedStrings.xml"] = (
-        f'<sst xmlns="{wb.MAIN}" count="1"><si><t>{"&amp;" * 1000}</t></si></sst>'.encode()
-    )
+        f'<sst xmlns="{wb.MAIN}" count="{count}" uniqueCount="{count}"><si><t>{"&amp;" * 1000}'
+        "</t></si></sst>"
+    ).encode()
     return "shared strings"
 
 
