@@ -53,8 +53,9 @@ EXCEL_ROWS = 1_048_576  # the longest
 _CHUNK = 2**20
 _OVERLAP = 64  # bytes kept between chunks so a reference cut in two is still seen whole
 _DOCTYPE = re.compile(rb"<!(DOCTYPE|ENTITY)", re.IGNORECASE)
-_CELL_REF = re.compile(rb"<(?:\w+:)?c\b[^>]{0,200}?\br=\"([A-Z]{1,4})(\d{1,8})\"")
-_DECLARED_COUNT = re.compile(rb"\b(?:count|uniqueCount)=\"(\d{8,20})\"")
+_CELL_COLUMN = re.compile(rb' r="([A-Z]{1,4})\d')  # a cell reference such as r="B17"
+_CELL_ROW = re.compile(rb' r="[A-Z]{1,4}(\d{1,8})"')
+_DECLARED_COUNT = re.compile(rb'ount="(\d{8,20})"')  # count="…" and uniqueCount="…"
 _DIMENSION = re.compile(rb"<(?:\w+:)?dimension\b[^>]{0,200}?\bref=\"([^\"]{1,40})\"")
 _RANGE_END = re.compile(r"([A-Z]{1,4})(\d{1,8})$")
 _SHEET_MEMBER = re.compile(r"xl/worksheets/[^/]+\.xml", re.IGNORECASE)
@@ -180,15 +181,22 @@ def _repeat(element, attribute: str) -> int:
 
 
 def _widen(xml: bytes, rows: int, columns: int) -> tuple[int, int]:
-    """The used range grown by the cell references and declared dimension in ``xml``."""
-    refs = [(letters, digits) for letters, digits in _CELL_REF.findall(xml)]
+    """The used range grown by the cell references and declared dimension in ``xml``.
+
+    Only distinct column letters and row numbers are converted: a sheet of a million cells
+    has a handful of columns.
+    """
+    letters = set(_CELL_COLUMN.findall(xml))
+    digits = set(_CELL_ROW.findall(xml))
     for ref in _DIMENSION.findall(xml):
         end = _RANGE_END.search(ref.decode("ascii", "replace"))
         if end:
-            refs.append((end[1].encode(), end[2].encode()))
-    for letters, digits in refs:
-        rows = max(rows, int(digits))
-        columns = max(columns, column_number(letters.decode("ascii")))
+            letters.add(end[1].encode())
+            digits.add(end[2].encode())
+    if digits:
+        rows = max(rows, *map(int, digits))
+    if letters:
+        columns = max(columns, *(column_number(text.decode("ascii")) for text in letters))
     return rows, columns
 
 
