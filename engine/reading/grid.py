@@ -16,7 +16,13 @@ from pathlib import Path
 import pandas as pd
 
 from engine.errors import InputError
-from engine.reading.workbook import EXCEL_COLUMNS, check_zip_workbook, first_line, read_sheets
+from engine.reading.workbook import (
+    EXCEL_COLUMNS,
+    ZIP_ERRORS,
+    check_zip_workbook,
+    first_line,
+    read_sheets,
+)
 
 SPREADSHEET_SUFFIXES = (".xlsx", ".xlsm", ".xls", ".xlsb", ".ods")
 TEXT_SUFFIXES = (".csv", ".tsv", ".txt", ".dat")
@@ -104,7 +110,7 @@ def _zip_is_workbook(path: Path) -> bool:
     try:
         with zipfile.ZipFile(path) as archive:
             names = set(archive.namelist())
-    except (zipfile.BadZipFile, OSError, ValueError, EOFError):
+    except ZIP_ERRORS:
         return False
     return "[Content_Types].xml" in names or "mimetype" in names
 

@@ -50,6 +50,11 @@ MAX_SHEET_CELLS = 10_000_000
 EXCEL_COLUMNS = 16_384  # XFD, the widest sheet Excel allows
 EXCEL_ROWS = 1_048_576  # the longest
 
+#: What the zip module and the XML parser raise for a damaged container (NotImplementedError:
+#: a version or compression method it does not know).
+ZIP_ERRORS = (zipfile.BadZipFile, zipfile.LargeZipFile, NotImplementedError, EOFError, OSError,
+              ValueError, zlib.error, ParseError)  # fmt: skip
+
 _CHUNK = 2**20
 _OVERLAP = 64  # bytes kept between chunks so a reference cut in two is still seen whole
 _DOCTYPE = re.compile(rb"<!(DOCTYPE|ENTITY)", re.IGNORECASE)
@@ -82,8 +87,7 @@ def check_zip_workbook(path: Path) -> ContainerCheck:
             oversized = False
             for member in members:
                 oversized |= _check_member(archive, member, path)
-    except (zipfile.BadZipFile, zipfile.LargeZipFile, NotImplementedError, EOFError,
-            OSError, ValueError, zlib.error, ParseError) as error:  # fmt: skip
+    except ZIP_ERRORS as error:
         raise InputError(
             f"the workbook cannot be unpacked ({first_line(error)}).",
             hint=_DAMAGED_HINT,

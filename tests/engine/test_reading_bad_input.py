@@ -317,3 +317,13 @@ def test_declared_shared_string_count_is_checked_before_reading(tmp_path, count,
         assert "declares 2,000,000,000 items" in str(_error(path))
     else:
         assert _inspect(path)["meters"][0]["total_kwh"] == 20
+
+
+def test_zip_needing_an_unknown_version_is_refused(tmp_path):
+    rows = [["Timestamp", "Main (kWh)"], *([s, 2] for s in _hours(10))]
+    data = bytearray(workbooks.zip_parts(workbooks.xlsx_parts({"Data": workbooks.sheet_xml(rows)})))
+    central = data.find(b"PK\x01\x02")
+    data[central + 6] = 68  # "version needed to extract" 6.8: zipfile raises NotImplementedError
+    path = tmp_path / "future.xlsx"
+    path.write_bytes(bytes(data))
+    assert "future.xlsx" in str(_error(path))

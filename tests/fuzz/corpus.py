@@ -120,7 +120,7 @@ def openpyxl_workbook() -> bytes:
         sheet.append([start + dt.timedelta(minutes=15 * k), 4.0 + k % 3])
     buffer = io.BytesIO()
     book.save(buffer)
-    return buffer.getvalue()
+    return wb.repack(buffer.getvalue())  # openpyxl stamps the time of saving
 
 
 @cache

@@ -8,6 +8,7 @@ same for a minimal OpenDocument spreadsheet (``ods_parts``).
 from __future__ import annotations
 
 import io
+import re
 import zipfile
 from xml.sax.saxutils import escape
 
@@ -17,6 +18,7 @@ OFFICE_RELS = "http://schemas.openxmlformats.org/officeDocument/2006/relationshi
 SHEET_TYPE = "application/vnd.openxmlformats-officedocument.spreadsheetml.worksheet+xml"
 BOOK_TYPE = "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet.main+xml"
 HEAD = '<?xml version="1.0" encoding="UTF-8" standalone="yes"?>\n'
+FIXED_DATE = (2024, 1, 1, 0, 0, 0)
 
 
 def column_letters(number: int) -> str:
@@ -136,10 +138,23 @@ def ods_content(rows: list[list[object]], *, repeat_rows: int = 1, repeat_column
 
 
 def zip_parts(parts: dict[str, bytes], *, stored: bool = False) -> bytes:
-    """Pack parts into a zip (deflated unless ``stored``), in the given order."""
+    """Pack parts into a zip (deflated unless ``stored``), in the given order, with a fixed
+    date on every part so that the same parts always give the same bytes."""
     buffer = io.BytesIO()
     method = zipfile.ZIP_STORED if stored else zipfile.ZIP_DEFLATED
     with zipfile.ZipFile(buffer, "w", method) as archive:
         for name, data in parts.items():
-            archive.writestr(name, data)
+            archive.writestr(zipfile.ZipInfo(name, date_time=FIXED_DATE), data, method)
     return buffer.getvalue()
+
+
+def repack(data: bytes) -> bytes:
+    """A zip written by another program, repacked with fixed dates (also inside its
+    ``docProps/core.xml``), so that it is the same on every run."""
+    with zipfile.ZipFile(io.BytesIO(data)) as archive:
+        parts = {name: archive.read(name) for name in archive.namelist()}
+    if "docProps/core.xml" in parts:
+        parts["docProps/core.xml"] = re.sub(
+            rb">\d{4}-\d\d-\d\dT[\d:.]+Z?<", b">2024-01-01T00:00:00Z<", parts["docProps/core.xml"]
+        )
+    return zip_parts(parts)
