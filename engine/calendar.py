@@ -473,36 +473,16 @@ def _parse_day(value: object, day_first: bool) -> date | None:
 
 
 def _read_table(path: Path) -> tuple[pd.DataFrame, str | None]:
-    suffix = path.suffix.lower()
-    try:
-        if suffix in (".xlsx", ".xlsm", ".xls", ".ods"):
-            with pd.ExcelFile(path, engine="calamine") as book:
-                sheet = book.sheet_names[0]
-                return pd.read_excel(book, sheet_name=sheet, dtype=object), sheet
-        if suffix in (".csv", ".txt"):
-            table = pd.read_csv(
-                path,
-                dtype=str,
-                keep_default_na=False,
-                skip_blank_lines=False,
-                sep=None,
-                engine="python",
-                encoding="utf-8-sig",
-            )
-            return table, None
-    except FileNotFoundError as error:
-        raise InputError("the calendar file was not found.", file=path) from error
-    except (ValueError, UnicodeDecodeError, pd.errors.ParserError) as error:
+    """The first sheet or the text table, through the importer's guarded file reading."""
+    from engine.reading.grid import read_headed_table  # engine.reading imports this module
+
+    if path.suffix.lower() not in (".xlsx", ".xlsm", ".xls", ".ods", ".csv", ".txt"):
         raise InputError(
-            f"the calendar file could not be read ({error}).",
-            hint="Save it as CSV or XLSX with one period per row.",
+            f"calendar files of type {path.suffix.lower() or '(none)'} are not read.",
+            hint="Save the calendar as .csv or .xlsx.",
             file=path,
-        ) from error
-    raise InputError(
-        f"calendar files of type {suffix or '(none)'} are not read.",
-        hint="Save the calendar as .csv or .xlsx.",
-        file=path,
-    )
+        )
+    return read_headed_table(path)
 
 
 def read_calendar_file(

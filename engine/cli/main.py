@@ -238,8 +238,8 @@ def main(argv: Sequence[str] | None = None) -> int:
         return EXIT_OK
     try:
         return args.run(args)
-    except (InputError, ProjectError) as error:
-        print(f"loadledger: {error}", file=sys.stderr)
+    except (InputError, ProjectError) as error:  # one line, even if a name holds a line break
+        print(f"loadledger: {' '.join(str(error).split())}", file=sys.stderr)
         return EXIT_BAD_INPUT
     except KeyboardInterrupt:
         print("loadledger: interrupted", file=sys.stderr)

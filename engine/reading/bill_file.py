@@ -20,6 +20,7 @@ from engine.reading import vocabulary as vocab
 from engine.reading.columns import ColumnFacts, is_numeric_column, is_stamp_column, to_numbers
 from engine.reading.options import ReadOptions
 from engine.reading.sheets import ChosenTable, read_table_with
+from engine.reading.stamps import WINDOW_NOTE, within_window
 from engine.reading.table import Table
 
 CURRENCY = r"[$€£¥]|USD|EUR|GBP|CAD|AUD"
@@ -83,10 +84,10 @@ def _read(path: Path, options: ReadOptions, chosen: ChosenTable) -> BillFile:
         raise InputError(
             error.problem, hint=error.hint, sheet=table.sheet, row=row, column=column
         ) from error
-    stamps = pd.DatetimeIndex(parsed.values)
+    stamps, bad = within_window(pd.DatetimeIndex(parsed.values), parsed.bad_rows)
     n = len(data)
     good = np.ones(2 * n, dtype=bool)
-    good[np.asarray(parsed.bad_rows, dtype=int)] = False
+    good[bad] = False
     good = good[:n] & good[n:]
     frame = pd.DataFrame(
         {
@@ -161,8 +162,8 @@ def _bad_rows(rows: pd.Index, column: str) -> list[Finding]:
             kind="unparsed_rows",
             count=len(rows),
             rows=tuple(int(r) for r in rows[:50]),
-            message=f"{len(rows)} bill row(s) have an unreadable period date (column "
-            f"'{column}') and were left out: rows {shown}.",
+            message=f"{len(rows)} bill row(s) have an unreadable period date ({WINDOW_NOTE}; "
+            f"column '{column}') and were left out: rows {shown}.",
         )
     ]
 

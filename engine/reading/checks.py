@@ -15,7 +15,7 @@ ROWS_SHOWN = 10
 
 
 def non_numeric(cells: pd.Series, numbers: np.ndarray, meter: str, column: str) -> list[Finding]:
-    """Cells that hold something other than a number (empty cells are counted apart)."""
+    """Cells that hold something other than a usable number (empty cells are counted apart)."""
     findings = []
     bad = np.isnan(numbers) & cells.notna().to_numpy()
     if bad.any():
@@ -28,8 +28,9 @@ def non_numeric(cells: pd.Series, numbers: np.ndarray, meter: str, column: str) 
                 count=int(bad.sum()),
                 rows=_rows(rows),
                 message=(
-                    f"{int(bad.sum())} cell(s) in column '{column}' are not numbers (e.g. "
-                    f"{examples}) and were left out: rows {_row_text(rows)}."
+                    f"{int(bad.sum())} cell(s) in column '{column}' are not numbers, or too "
+                    f"large to be readings (e.g. {examples}), and were left out: rows "
+                    f"{_row_text(rows)}."
                 ),
             )
         )

@@ -16,6 +16,9 @@ from engine.reading import vocabulary as vocab
 from engine.reading.table import Table, cell_kind
 
 SAMPLE_ROWS = 400
+#: Larger numbers are typing or export errors: a year of the world's electricity is about
+#: 3e13 kWh (from memory), and a register read in Wh stays far below this too.
+LARGEST_READING = 1e15
 EXCEL_SERIAL_RANGE = (20000.0, 80000.0)  # 1954-10-03 .. 2119-01-10
 LABEL_REPEAT_SHARE = 0.6  # a label column repeats: at most this share of sampled cells differ
 
@@ -66,7 +69,7 @@ def is_stamp_column(facts: ColumnFacts, values: pd.Series | None = None) -> bool
     if facts.share("datetime", "date") >= 0.8:
         return True
     if facts.share("number") >= 0.95 and facts.has(vocab.TIME_WORDS) and values is not None:
-        numbers = pd.to_numeric(values, errors="coerce").dropna()
+        numbers = _numeric(values).dropna()
         low, high = EXCEL_SERIAL_RANGE
         return bool(len(numbers) and numbers.between(low, high).mean() > 0.95)
     return False
@@ -100,9 +103,11 @@ def is_label_column(facts: ColumnFacts, rows: int) -> bool:
 def to_numbers(cells: pd.Series, decimal_comma: bool) -> np.ndarray:
     """Cells → float64; numbers written as text (also with decimal comma or thousands) too.
 
-    Cells that are not numbers become NaN; the caller reports them by row.
+    Cells that are not numbers become NaN, and so do numbers beyond :data:`LARGEST_READING`
+    (and infinities): no meter, bill or thermometer gives them, and their sums would overflow.
+    The caller reports them by row.
     """
-    numbers = pd.to_numeric(cells, errors="coerce")
+    numbers = _numeric(cells)
     retry = numbers.isna() & cells.notna()
     if retry.any():
         text = cells[retry].astype(str).str.strip().str.replace("\u00a0", "").str.replace(" ", "")
@@ -111,5 +116,26 @@ def to_numbers(cells: pd.Series, decimal_comma: bool) -> np.ndarray:
         else:
             text = text.str.replace(r"(?<=\d),(?=\d{3}(\D|$))", "", regex=True)
         numbers = numbers.astype("float64")
-        numbers[retry] = pd.to_numeric(text, errors="coerce")
-    return numbers.to_numpy(dtype="float64", na_value=np.nan)
+        numbers[retry] = _numeric(text)
+    values = numbers.to_numpy(dtype="float64", na_value=np.nan)
+    return np.where(np.abs(values) <= LARGEST_READING, values, np.nan)
+
+
+def _numeric(cells: pd.Series) -> pd.Series:
+    """``pd.to_numeric`` as float64, with integers too long for a float (400 digits) as NaN."""
+    try:
+        numbers = pd.to_numeric(cells, errors="coerce")
+    except OverflowError:  # a Python int beyond a float's range, in an object column
+        return cells.map(_float_or_nan).astype("float64")
+    if numbers.dtype == object:  # text of such integers came through as Python ints
+        return numbers.map(_float_or_nan).astype("float64")
+    return numbers.astype("float64")
+
+
+def _float_or_nan(value: object) -> float:
+    if isinstance(value, str) or value is None:
+        value = pd.to_numeric(value, errors="coerce") if isinstance(value, str) else None
+    try:
+        return float(value)
+    except (TypeError, ValueError, OverflowError):
+        return np.nan

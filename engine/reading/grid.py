@@ -7,8 +7,8 @@ search, the column roles and the parsing happen later (``engine.reading.layout``
 
 from __future__ import annotations
 
-import csv
 import io
+import re
 import zipfile
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -16,6 +16,13 @@ from pathlib import Path
 import pandas as pd
 
 from engine.errors import InputError
+from engine.reading.workbook import (
+    EXCEL_COLUMNS,
+    ZIP_ERRORS,
+    check_zip_workbook,
+    first_line,
+    read_sheets,
+)
 
 SPREADSHEET_SUFFIXES = (".xlsx", ".xlsm", ".xls", ".xlsb", ".ods")
 TEXT_SUFFIXES = (".csv", ".tsv", ".txt", ".dat")
@@ -23,6 +30,11 @@ OLE_MAGIC = b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1"
 ZIP_MAGIC = b"PK\x03\x04"
 DELIMITERS = (",", ";", "\t", "|")
 HEAD_ROWS = 200
+BLANK_HEADER = "column "  # name of a column whose header cell is empty
+MAX_COLUMNS = EXCEL_COLUMNS
+MAX_HEADED_ROWS = 10_000  # a campus calendar holds a few periods a year
+_QUOTED = re.compile(r'"[^"]*"')
+_LINE_END = re.compile(r"\r\n|\r|\n")
 
 
 @dataclass
@@ -73,36 +85,19 @@ def _read_workbook(path: Path, head: bytes) -> list[Grid]:
             hint="Open it in a spreadsheet program, remove the password and save it again.",
             file=path,
         )
-    if head.startswith(ZIP_MAGIC) and not _zip_is_workbook(path):
-        raise InputError(
-            "this zip archive is not a workbook.",
-            hint="Unpack it and import the spreadsheet inside.",
-            file=path,
-        )
-    from python_calamine import CalamineWorkbook
-
-    try:
-        book = CalamineWorkbook.from_path(str(path))
-    except Exception as error:  # calamine raises its own error types for damaged files
-        raise InputError(
-            f"the workbook cannot be read ({_first_line(error)}).",
-            hint="It may be damaged: open it in a spreadsheet program and save it again.",
-            file=path,
-        ) from error
-    grids = []
-    for name in book.sheet_names:
-        try:
-            rows = book.get_sheet_by_name(name).to_python(skip_empty_area=False)
-        except Exception as error:
+    stream_oversized = False
+    if head.startswith(ZIP_MAGIC):
+        if not _zip_is_workbook(path):
             raise InputError(
-                f"the sheet cannot be read ({_first_line(error)}).",
-                hint="Save the workbook again from a spreadsheet program.",
+                "this zip archive is not a workbook.",
+                hint="Unpack it and import the spreadsheet inside.",
                 file=path,
-                sheet=name,
-            ) from error
-        cells = pd.DataFrame(rows, dtype=object) if rows else pd.DataFrame(dtype=object)
-        grids.append(Grid(sheet=name, cells=_blank_to_none(cells)))
-    return grids
+            )
+        stream_oversized = check_zip_workbook(path).oversized_sheet
+    return [
+        Grid(sheet=name, cells=_blank_to_none(cells))
+        for name, cells in read_sheets(path, stream_oversized, legacy=head.startswith(OLE_MAGIC))
+    ]
 
 
 def _is_encrypted_ole(path: Path) -> bool:
@@ -115,7 +110,7 @@ def _zip_is_workbook(path: Path) -> bool:
     try:
         with zipfile.ZipFile(path) as archive:
             names = set(archive.namelist())
-    except zipfile.BadZipFile:
+    except ZIP_ERRORS:
         return False
     return "[Content_Types].xml" in names or "mimetype" in names
 
@@ -132,22 +127,9 @@ def _read_text(path: Path) -> Grid:
     head_text = "\n".join(text.splitlines()[:HEAD_ROWS])
     delimiter = _sniff_delimiter(head_text)
     try:
-        head = pd.read_csv(
-            io.StringIO(head_text),
-            sep=delimiter,
-            header=None,
-            dtype=str,
-            keep_default_na=False,
-            skip_blank_lines=False,
-            names=range(_widest_row(head_text, delimiter)),
-        )
-    except (pd.errors.ParserError, ValueError) as error:
-        raise InputError(
-            f"the text table cannot be split into columns ({_first_line(error)}).",
-            hint="Check that every row uses the same delimiter.",
-            file=path,
-        ) from error
-    head = _blank_to_none(head.astype(object))
+        head = _text_cells(head_text, delimiter)
+    except InputError as error:
+        raise error.at_file(path) from None
     return Grid(
         sheet=None,
         cells=head,
@@ -155,6 +137,66 @@ def _read_text(path: Path) -> Grid:
         delimiter=delimiter,
         text=text,
     )
+
+
+def _text_cells(text: str, delimiter: str) -> pd.DataFrame:
+    """Every row of ``text`` as text cells (None where blank), as wide as its widest row."""
+    try:
+        cells = pd.read_csv(
+            io.StringIO(text),
+            sep=delimiter,
+            header=None,
+            dtype=str,
+            keep_default_na=False,
+            skip_blank_lines=False,
+            names=range(_widest_row(text, delimiter)),
+        )
+    except (pd.errors.ParserError, ValueError) as error:
+        raise InputError(
+            f"the text table cannot be split into columns ({first_line(error)}).",
+            hint="Check that every row uses the same delimiter.",
+        ) from error
+    return _blank_to_none(cells.astype(object))
+
+
+def read_headed_table(path: str | Path) -> tuple[pd.DataFrame, str | None]:
+    """The first sheet (or the text table) under its first row's headers, and the sheet name.
+
+    For small tables read whole, such as a campus calendar (at most :data:`MAX_HEADED_ROWS`
+    rows): every row is kept (blank ones too), text stays text, short rows are padded and
+    cells beyond the header get a column named by position. Headers are made unique.
+    """
+    path = Path(path)
+    grid = read_grids(path)[0]
+    try:
+        cells = grid.cells if grid.text is None else _text_cells(grid.text, grid.delimiter)
+    except InputError as error:
+        raise error.at_file(path) from None
+    if cells.empty:
+        return pd.DataFrame(), grid.sheet
+    if len(cells) > MAX_HEADED_ROWS + 1:
+        raise InputError(
+            f"the table has {len(cells) - 1:,} rows; a file of this kind has at most "
+            f"{MAX_HEADED_ROWS:,}.",
+            hint="Check that this is the right file.",
+            file=path,
+            sheet=grid.sheet,
+        )
+    table = cells.iloc[1:].reset_index(drop=True)
+    table.columns = _unique_headers(cells.iloc[0].tolist())
+    return table, grid.sheet
+
+
+def _unique_headers(cells: list[object]) -> list[str]:
+    headers: list[str] = []
+    seen: set[str] = set()
+    for position, cell in enumerate(cells):
+        text = "" if cell is None else " ".join(str(cell).split())
+        text = text or f"{BLANK_HEADER}{position + 1}"
+        text = f"{text} ({position + 1})" if text in seen else text
+        headers.append(text)
+        seen.add(text)
+    return headers
 
 
 def _read_block(text: str, delimiter: str, first: int, width: int, decimal_comma: bool):
@@ -183,7 +225,7 @@ def _read_block(text: str, delimiter: str, first: int, width: int, decimal_comma
                                 **options)  # fmt: skip
     except (pd.errors.ParserError, ValueError) as error:
         raise InputError(
-            f"the rows cannot be split into columns ({_first_line(error)}).",
+            f"the rows cannot be split into columns ({first_line(error)}).",
             hint="Check that every row uses the same delimiter.",
         ) from error
     block = block.reindex(columns=range(width))
@@ -220,12 +262,25 @@ def _sniff_delimiter(text: str) -> str:
 
 
 def _split_count(line: str, delimiter: str) -> int:
-    return len(next(csv.reader([line], delimiter=delimiter)))
+    """Cells in one line: the delimiters outside quotes, plus one."""
+    return _QUOTED.sub("", line).count(delimiter) + 1
 
 
 def _widest_row(text: str, delimiter: str) -> int:
-    """Most cells in any row, honouring quotes."""
-    return max((len(row) for row in csv.reader(io.StringIO(text), delimiter=delimiter)), default=1)
+    """Most cells in any row, never fewer than a row really holds.
+
+    Counted without the csv module, whose field-size limit and line-end rules a damaged file
+    breaks: once over the raw lines and once with quoted parts (which may span lines) taken
+    out; the larger count wins, and a count too high only adds empty columns.
+    """
+    raw = max(line.count(delimiter) for line in _LINE_END.split(text))
+    unquoted = max(line.count(delimiter) for line in _LINE_END.split(_QUOTED.sub("", text)))
+    if min(raw, unquoted) >= MAX_COLUMNS:
+        raise InputError(
+            f"a row has more than {MAX_COLUMNS:,} cells.",
+            hint="Check the delimiter, or split the file into narrower tables.",
+        )
+    return max(raw, unquoted) + 1
 
 
 def _uses_decimal_comma(cells: pd.DataFrame, delimiter: str) -> bool:
@@ -241,8 +296,3 @@ def _uses_decimal_comma(cells: pd.DataFrame, delimiter: str) -> bool:
 def _blank_to_none(cells: pd.DataFrame) -> pd.DataFrame:
     """Empty-string cells become None so that 'empty' has one meaning downstream."""
     return cells.where(cells != "", None)
-
-
-def _first_line(error: BaseException) -> str:
-    text = str(error).strip().splitlines()
-    return text[0][:160] if text else type(error).__name__

@@ -138,8 +138,9 @@ def _findings(findings: list[Finding]) -> list[dict]:
 
 
 def _number(value) -> float | None:
+    """A JSON-safe figure: None where there is none (NaN, or an infinity JSON cannot hold)."""
     value = float(value)
-    return None if math.isnan(value) else round(value, 6)
+    return round(value, 6) if math.isfinite(value) else None
 
 
 def _date(value) -> str | None:

@@ -13,6 +13,11 @@ from engine.meters import Finding
 from engine.reading.columns import ColumnFacts, is_clock_column, is_stamp_column
 from engine.reading.table import Table
 
+#: Stamps outside these years are typing errors (a reading in 3023 or 1700). They are left out
+#: like unreadable stamps, which also keeps every span within what nanosecond times can hold.
+EARLIEST, LATEST = pd.Timestamp("1900-01-01"), pd.Timestamp("2100-01-01")
+WINDOW_NOTE = "or one outside 1900–2099"
+
 
 @dataclass
 class StampColumns:
@@ -71,11 +76,11 @@ def parse_table_stamps(table: Table, columns: StampColumns, dayfirst: bool | Non
             row=_row_number(data, error.place.row),
             column=header,
         ) from error
-    values = pd.Series(parsed.values, index=data.index)
+    stamps, bad = within_window(parsed.values, parsed.bad_rows)
+    values = pd.Series(stamps, index=data.index)
     end_of_day = pd.Series(False, index=data.index)
     end_of_day.iloc[np.asarray(parsed.end_of_day_rows, dtype=int)] = True
     findings = []
-    bad = np.asarray(parsed.bad_rows, dtype=int)
     if len(bad):
         rows = data.index[bad]
         empty = data[columns.date].iloc[bad].isna().to_numpy()
@@ -83,8 +88,8 @@ def parse_table_stamps(table: Table, columns: StampColumns, dayfirst: bool | Non
             Finding(
                 kind="unparsed_rows",
                 message=(
-                    f"{len(bad)} row(s) have no readable timestamp in column '{header}' "
-                    f"({int(empty.sum())} empty) and were left out: rows "
+                    f"{len(bad)} row(s) have no readable timestamp ({WINDOW_NOTE}) in column "
+                    f"'{header}' ({int(empty.sum())} empty) and were left out: rows "
                     f"{_row_list(rows)}."
                 ),
                 count=len(bad),
@@ -99,6 +104,17 @@ def parse_table_stamps(table: Table, columns: StampColumns, dayfirst: bool | Non
         end_of_day=end_of_day,
         findings=findings,
     )
+
+
+def within_window(
+    stamps: pd.DatetimeIndex, bad_rows: np.ndarray
+) -> tuple[pd.DatetimeIndex, np.ndarray]:
+    """The stamps with those outside :data:`EARLIEST`..:data:`LATEST` made NaT, and the
+    positions of every unusable stamp (``bad_rows`` and those)."""
+    clock = stamps.tz_localize(None) if stamps.tz is not None else stamps
+    outside = np.asarray((clock < EARLIEST) | (clock >= LATEST))
+    bad = np.union1d(np.asarray(bad_rows, dtype=int), np.flatnonzero(outside)).astype(int)
+    return stamps.where(~outside), bad
 
 
 def _row_number(data: pd.DataFrame, position: int | None) -> int | None:

@@ -14,10 +14,13 @@ import numpy as np
 import pandas as pd
 
 from engine import units
-from engine.reading.grid import Grid
+from engine.errors import InputError
+from engine.reading.grid import BLANK_HEADER, Grid
 
 SCAN_ROWS = 60
-BLANK_HEADER = "column "  # name given to a column whose header cell is empty
+#: Each column is described one by one; a thousand meters in one file is already far more than
+#: an export holds, and wider tables are stray cells or a wrong delimiter.
+MAX_TABLE_COLUMNS = 1_000
 NUMBER_RE = re.compile(r"^[-+]?(\d{1,3}([ ,.\u00a0']\d{3})+|\d+)([.,]\d+)?([eE][-+]?\d+)?$")
 DATE_RE = re.compile(
     r"^\s*(\d{4}[-/.]\d{1,2}[-/.]\d{1,2}|\d{1,2}[-/.]\d{1,2}[-/.]\d{2,4})"
@@ -68,8 +71,7 @@ def locate_table(grid: Grid) -> Table | None:
     cells = grid.cells
     if cells.empty:
         return None
-    head = cells.head(SCAN_ROWS)
-    kinds = head.map(cell_kind)
+    kinds = _head_kinds(cells.head(SCAN_ROWS))
     filled = (kinds != "empty").sum(axis=1)
     typed = kinds.isin(("number", "datetime", "date", "clock")).sum(axis=1)
     is_data = (filled >= 2) & (typed >= 1) & (typed * 2 >= filled)
@@ -81,6 +83,12 @@ def locate_table(grid: Grid) -> Table | None:
     if header_pos is not None:
         width = max(width, int(np.flatnonzero((kinds.iloc[header_pos] != "empty").to_numpy())
                                .max()) + 1)  # fmt: skip
+    if width > MAX_TABLE_COLUMNS:
+        raise InputError(
+            f"the table is {width:,} columns wide; the tool reads at most {MAX_TABLE_COLUMNS:,}.",
+            hint="Split it into files of fewer meters, or delete stray cells far to the right.",
+            sheet=grid.sheet,
+        )
     data = grid.block(first, width)
     data = data[data.notna().any(axis=1)]
     data.index = data.index + 1
@@ -97,6 +105,16 @@ def locate_table(grid: Grid) -> Table | None:
         header_row=header_pos + 1 if header_pos is not None else None,
         decimal_comma=grid.decimal_comma,
     )
+
+
+def _head_kinds(head: pd.DataFrame) -> pd.DataFrame:
+    """The kind of every cell of the first rows; columns empty there are not looked at (a
+    far cell further down can make a sheet thousands of columns wide)."""
+    used = head.notna().to_numpy().any(axis=0)
+    kinds = pd.DataFrame("empty", index=head.index, columns=head.columns, dtype=object)
+    if used.any():
+        kinds.iloc[:, np.flatnonzero(used)] = head.iloc[:, np.flatnonzero(used)].map(cell_kind)
+    return kinds
 
 
 def _first_data_run(is_data: np.ndarray, run: int = 3) -> int | None:

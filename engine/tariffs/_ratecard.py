@@ -46,6 +46,7 @@ from __future__ import annotations
 import itertools
 import math
 import re
+import reprlib
 import tomllib
 from datetime import date, datetime, time
 from pathlib import Path
@@ -75,6 +76,10 @@ from engine.tariffs._schema import (
 RATECARD_SUFFIX = ".ratecard.toml"
 _FULL_DAY_NAMES = ("monday", "tuesday", "wednesday", "thursday", "friday", "saturday", "sunday")
 _NO_HOLIDAYS: tuple[None, None, tuple[date, ...]] = (None, None, ())
+#: A rate card is a page of text; a file far larger is not one.
+MAX_RATECARD_BYTES = 2**20
+_SHORT = reprlib.Repr()
+_SHORT.maxlevel, _SHORT.maxstring, _SHORT.maxother = 3, 60, 60
 #: A tax above this many percent is almost surely a slip (a fraction typed as a percentage).
 _MAX_PERCENT = 100.0
 
@@ -109,15 +114,15 @@ class _Table:
     def number(self, key: str, *, maximum: float = math.inf) -> float:
         value = self.raw(key)
         ok = isinstance(value, int | float) and not isinstance(value, bool)
-        if not ok or not math.isfinite(value) or not 0 <= value <= maximum:
+        if not ok or not math.isfinite(_as_float(value)) or not 0 <= value <= maximum:
             limit = f" and at most {maximum:g}" if math.isfinite(maximum) else ""
-            raise self.error(key, f"must be a number of 0 or more{limit}, not {value!r}.")
+            raise self.error(key, f"must be a number of 0 or more{limit}, not {_shown(value)}.")
         return float(value)
 
     def text(self, key: str) -> str:
         value = self.raw(key)
         if not isinstance(value, str) or not value.strip():
-            raise self.error(key, f"must be non-empty text, not {value!r}.")
+            raise self.error(key, f"must be non-empty text, not {_shown(value)}.")
         return value.strip()
 
     def day(self, key: str) -> date:
@@ -130,12 +135,13 @@ class _Table:
         try:
             return date.fromisoformat(value)
         except (TypeError, ValueError):
-            raise self.error(key, f"must be a date such as 2025-07-01, not {value!r}.") from None
+            problem = f"must be a date such as 2025-07-01, not {_shown(value)}."
+            raise self.error(key, problem) from None
 
     def flag(self, key: str) -> bool:
         value = self.raw(key)
         if not isinstance(value, bool):
-            raise self.error(key, f"must be true or false, not {value!r}.")
+            raise self.error(key, f"must be true or false, not {_shown(value)}.")
         return value
 
     def tables(self, key: str) -> list[_Table]:
@@ -157,6 +163,21 @@ class _Table:
             )
 
 
+def _as_float(value: int | float) -> float:
+    """The number as a float; an integer beyond a float's range is infinite."""
+    try:
+        return float(value)
+    except OverflowError:
+        return math.inf
+
+
+def _shown(value: Any) -> str:
+    """A short, one-line picture of a value for a message (long or deep ones cut short)."""
+    if isinstance(value, int) and value.bit_length() > 128:  # repr fails beyond 4300 digits
+        return f"an integer of about {int(value.bit_length() * math.log10(2)) + 1} digits"
+    return _SHORT.repr(value)
+
+
 def is_currency_code(text: str) -> bool:
     """Whether ``text`` has the form of an ISO 4217 currency code: three capital letters."""
     return re.fullmatch(r"[A-Z]{3}", text) is not None
@@ -172,6 +193,13 @@ def read_tariff(path: str | Path) -> Tariff:
     """
     path = Path(path)
     try:
+        if path.stat().st_size > MAX_RATECARD_BYTES:
+            raise InputError(
+                f"is {path.stat().st_size:,} bytes, far more than a rate card needs (at most "
+                f"{MAX_RATECARD_BYTES:,}).",
+                hint="Check that this is the rate card; see sample/tariffs/README.md.",
+                file=path,
+            )
         text = path.read_text(encoding="utf-8")
     except (OSError, UnicodeDecodeError) as error:
         raise InputError(
@@ -179,15 +207,28 @@ def read_tariff(path: str | Path) -> Tariff:
             hint="Check the path, and save the rate card as UTF-8 text.",
             file=path,
         ) from None
+    return tariff_from_dict(_parse_toml(text, path), source=str(path))
+
+
+def _parse_toml(text: str, path: Path) -> dict[str, Any]:
+    """The TOML document; its syntax errors, over-long integers and deep nesting explained."""
+    hint = "Fix the line named; see sample/tariffs/README.md for the format."
     try:
-        data = tomllib.loads(text)
+        return tomllib.loads(text)
     except tomllib.TOMLDecodeError as error:
+        raise InputError(f"is not valid TOML: {error}.", hint=hint, file=path) from None
+    except ValueError:  # Python converts integers of at most 4300 digits
         raise InputError(
-            f"is not valid TOML: {error}.",
-            hint="Fix the line named; see sample/tariffs/README.md for the format.",
+            "holds an integer with thousands of digits, too long to read.",
+            hint="Write prices and charges as ordinary numbers such as 0.0712.",
             file=path,
         ) from None
-    return tariff_from_dict(data, source=str(path))
+    except RecursionError:
+        raise InputError(
+            "nests lists or tables too deeply to read.",
+            hint="A rate card needs at most a list of tables; see sample/tariffs/README.md.",
+            file=path,
+        ) from None
 
 
 def tariff_from_dict(data: dict[str, Any], source: str = "") -> Tariff:
@@ -197,13 +238,15 @@ def tariff_from_dict(data: dict[str, Any], source: str = "") -> Tariff:
     if form != FORMAT_VERSION:
         raise top.error(
             FORMAT_KEY,
-            f"is {form!r}; this version of Loadledger reads rate-card format {FORMAT_VERSION}.",
+            f"is {_shown(form)}; this version of Loadledger reads rate-card format "
+            f"{FORMAT_VERSION}.",
             hint="Write the file in format 1, or update Loadledger.",
         )
     name = top.text("name")
     currency = top.text("currency")
     if not is_currency_code(currency):
-        raise top.error("currency", f"must be a three-letter ISO 4217 code, not {currency!r}.")
+        problem = f"must be a three-letter ISO 4217 code, not {_shown(currency)}."
+        raise top.error("currency", problem)
     country, subdivision, dates = _holidays(top, source) if top.has("holidays") else _NO_HOLIDAYS
     versions = tuple(sorted((_version(table) for table in top.tables("version")), key=_effective))
     top.done()
@@ -356,9 +399,9 @@ def _months(table: _Table) -> tuple[int, ...]:
     value = table.raw("months")
     ok = isinstance(value, list) and value
     if not ok or not all(isinstance(m, int) and not isinstance(m, bool) for m in value):
-        raise table.error("months", f"must be a list of month numbers 1–12, not {value!r}.")
+        raise table.error("months", f"must be a list of month numbers 1–12, not {_shown(value)}.")
     if not set(value) <= set(ALL_MONTHS):
-        raise table.error("months", f"must hold month numbers 1–12 only, not {value!r}.")
+        raise table.error("months", f"must hold month numbers 1–12 only, not {_shown(value)}.")
     return tuple(sorted(set(value)))
 
 
@@ -376,7 +419,7 @@ def _days(table: _Table) -> tuple[int, ...]:
         else:
             raise table.error(
                 "days",
-                f"has {name!r}, which is not a day.",
+                f"has {_shown(name)}, which is not a day.",
                 hint='Use "weekdays", "weekends", "all" or a list such as ["mon", "sat"].',
             )
     return tuple(sorted(found))
@@ -391,5 +434,6 @@ def _clock(table: _Table, key: str) -> int:
     match = re.fullmatch(r"(\d{1,2}):(\d{2})", value.strip()) if isinstance(value, str) else None
     minutes = int(match[1]) * 60 + int(match[2]) if match else -1
     if not match or int(match[2]) >= 60 or not 0 <= minutes <= MINUTES_PER_DAY:
-        raise table.error(key, f'must be a local time "HH:MM" from 00:00 to 24:00, not {value!r}.')
+        problem = f'must be a local time "HH:MM" from 00:00 to 24:00, not {_shown(value)}.'
+        raise table.error(key, problem)
     return minutes

@@ -466,6 +466,11 @@ CARD_MISTAKES = [
     ("fixed_per_month = 250.00", "fixed_per_month = 250.00\nenergy_per_kwh = 0.1", "2 ways"),
     ("effective_from = 2030-01-01", "", "'effective_from'"),
     ('name = "Fernhollow', 'name = "Fernhollow\n', "not valid TOML"),
+    # numbers and nesting no rate card has: Python refuses to convert integers over 4300
+    # digits, a 4000-digit one overflows a float, and tomllib recurses once per nested list
+    ("fixed_per_month = 250.00", "fixed_per_month = " + "9" * 4000, "'fixed_per_month'"),
+    ("ratecard_format = 1", "ratecard_format = " + "9" * 5000, "too long to read"),
+    ("ratecard_format = 1", "ratecard_format = 1\nx = " + "[" * 5000 + "]" * 5000, "too deeply"),
 ]
 
 
@@ -480,6 +485,7 @@ def test_rate_card_mistakes_name_the_file_and_key(
     assert caught.value.place.file == str(path)
     assert "fernhollow.ratecard.toml" in caught.value.message
     assert named in caught.value.message
+    assert len(caught.value.message) < 400 and "\n" not in caught.value.message
 
 
 def test_blocks_must_rise_and_end_open(tmp_path: Path) -> None:
