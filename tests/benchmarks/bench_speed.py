@@ -14,16 +14,17 @@ years of hourly readings and hourly weather, generated here:
 
 1. ``new`` and ``clean --apply-recommended`` (the quick start's first two steps);
 2. next-month budget from the freshly cleaned project with no stored models (target ≤ 20 s);
-3. the same budget again with typical weather instead of past years' (target ≤ 3 s in the
-   window, i.e. this time less the imports);
-4. the fiscal-year budget (July–June) with the stored models (target ≤ 5 s, likewise);
+3. the same budget again with typical weather instead of past years' (target ≤ 3 s);
+4. the fiscal-year budget (July–June) with the stored models (target ≤ 5 s);
 5. ``fit --meter Library``: one meter, 3 years of 15-minute readings, default families,
    12 origins (target ≤ 5 s);
 6. one-shot ``budget --meters … --weather-file …`` of the 3-meter campus, beside a plain
    pandas read of the same file (target ≤ 15 s);
 7. the README's quick start end to end: new, clean, fit, fiscal-year budget with the rate card
    and the workbook (target ≤ 60 s);
-with every peak at most 1.5 GB.
+with every peak at most 1.5 GB. Steps 2–5 are what the window runs: their targets are held
+after the command line's start-up and imports (timed with ``--version``), which the window
+pays once when it opens.
 """
 
 from __future__ import annotations
@@ -53,7 +54,15 @@ TARGETS = {
     "one-shot, 3 meters x 4 years": 15.0,
     "quick start end to end": 60.0,
 }
-IMPORTS_NOTE = "targets 3 and 4 are for the window, which has its imports done: compare time − 2 s"
+#: Steps whose target is for the window, which has started and imported once: they are held
+#: to it after the command line's own start-up (``--version``) is taken off.
+WINDOW_STEPS = (
+    "budget, no stored models",
+    "budget again, typical weather",
+    "fiscal-year budget",
+    "fit one 15-minute meter",
+)
+START_UP = "  start-up and imports (--version)"
 
 
 def run(engine: Path, *args: object) -> tuple[float, float, str]:
@@ -85,8 +94,9 @@ def new_sample(engine: Path, project: Path) -> float:
 
 
 def three_meter_campus(folder: Path) -> tuple[Path, Path]:
-    """An invented campus (Quarry Hill Institute, a cool inland climate): a lecture hall, a
-    residence and a boiler house, hourly from 2021 to 2024, with its weather station."""
+    """An invented campus (Quarry Hill Institute, a cool climate on a clock without daylight
+    saving): a lecture hall, a residence and a boiler house, hourly from 2021 to 2024, with
+    its weather station."""
     rng = np.random.default_rng(2024)
     hours = pd.date_range("2021-01-01", "2024-12-31 23:00", freq="h")
     day = hours.day_of_year.to_numpy()
@@ -118,6 +128,8 @@ def measure(engine: Path, folder: Path) -> dict[str, tuple[float, float, str]]:
     """Every step with the engine in ``engine``, in ``folder``."""
     folder.mkdir(parents=True, exist_ok=True)
     figures: dict[str, tuple[float, float, str]] = {}
+    figures[START_UP] = run(engine, "--version")
+    figures[START_UP] = (figures[START_UP][0], figures[START_UP][1], "")
     project = folder / "campus.loadledger"
     made = new_sample(engine, project)
     cleaned = run(engine, "clean", project, "--apply-recommended")[0]
@@ -144,7 +156,7 @@ def measure(engine: Path, folder: Path) -> dict[str, tuple[float, float, str]]:
     read = time.perf_counter() - started
     seconds, peak, out = run(
         engine, "budget", "--meters", meters, "--weather-file", weather,
-        "--timezone", "Europe/Dublin", "--start", "2025-01", "--months", "1", "--json",
+        "--timezone", "Atlantic/Reykjavik", "--start", "2025-01", "--months", "1", "--json",
     )  # fmt: skip
     figures["one-shot, 3 meters x 4 years"] = (seconds, peak, campus_total(out))
     figures["  plain pandas read of its meter file"] = (read, float("nan"), "")
@@ -177,21 +189,25 @@ def report(now: dict, then: dict | None, revision: str | None) -> int:
     head = f"{'step':40} {'now s':>8} {'peak MB':>8}"
     if then is not None:
         head += f" {revision + ' s':>12} {'peak MB':>8}"
-    print(head + f" {'target s':>9}")
+    print(head + f" {'target s':>9} {'held':>5}")
     missed = 0
+    start_up = now[START_UP][0]
     for step, (seconds, peak, _) in now.items():
-        line = f"{step:40} {seconds:8.1f} {peak:8.0f}"
+        line = f"{step:40} {seconds:8.2f} {peak:8.0f}"
         if then is not None:
             old_seconds, old_peak, _ = then[step]
-            line += f" {old_seconds:12.1f} {old_peak:8.0f}"
+            line += f" {old_seconds:12.2f} {old_peak:8.0f}"
         target = TARGETS.get(step)
         if target is not None:
-            line += f" {target:9.0f}"
-            window = seconds - 2.0 if step in ("budget again, typical weather",
-                                                "fiscal-year budget") else seconds  # fmt: skip
-            missed += window > target or (peak == peak and peak > 1536)
+            waited = seconds - start_up if step in WINDOW_STEPS else seconds
+            held = waited <= target and not peak > 1536
+            missed += not held
+            line += f" {target:9.0f} {'yes' if held else 'NO':>5}"
         print(line)
-    print(f"({IMPORTS_NOTE})")
+    print(
+        f"(window steps — {', '.join(WINDOW_STEPS)} — are held to their target after the "
+        f"{start_up:.1f} s of start-up and imports the window pays once)"
+    )
     for step, (_, _, answer) in now.items():
         if answer:
             print(f"{step}: now {answer}")
