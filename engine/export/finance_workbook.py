@@ -54,6 +54,7 @@ from engine.export.finance_tables import (
     scores_frame,
     steps_frame,
 )
+from engine.export.saving import save_workbook
 from engine.export.sheets import DATE_FORMAT, put
 from engine.progress import Progress
 
@@ -145,14 +146,7 @@ def write_finance_workbook(
     for sheet in sheets.values():
         print_on_page_width(sheet)
     progress_steps.step(progress, 0.85, "Saving the workbook")
-    try:
-        book.save(path)
-    except OSError as error:
-        raise InputError(
-            f"the finance workbook could not be saved ({error.strerror or error}).",
-            hint="Close it if a spreadsheet program has it open, or choose another folder.",
-            file=path,
-        ) from error
+    save_workbook(book, path, "finance workbook")
     progress_steps.step(progress, 1.0, "Finance workbook written")
     return path
 

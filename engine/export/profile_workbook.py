@@ -7,6 +7,7 @@ from pathlib import Path
 import pandas as pd
 from openpyxl import Workbook
 
+from engine.export.saving import save_workbook
 from engine.export.sheets import put, write_table
 from engine.profile_run import ProjectMeterProfile
 
@@ -38,9 +39,7 @@ def write_profile_workbook(path: str | Path, profiles: list[ProjectMeterProfile]
         if rows[name] == 1:
             put(sheet, 1, 1, "No meter has data for this table.")
         sheet.freeze_panes = None
-    path = Path(path)
-    book.save(path)
-    return path
+    return save_workbook(book, path, "profile workbook")
 
 
 def _tables(profile: ProjectMeterProfile) -> dict[str, pd.DataFrame | None]:
