@@ -13,7 +13,9 @@ months of 15-minute, hourly and daily readings) and on an invented 3-meter campu
 years of hourly readings and hourly weather, generated here:
 
 1. ``new`` and ``clean --apply-recommended`` (the quick start's first two steps);
-2. next-month budget from the freshly cleaned project with no stored models (target ≤ 20 s);
+2. next-month budget from the freshly cleaned project with no stored models, as the window
+   runs it (in a process with the engine imported, so its worker processes import little;
+   target ≤ 20 s), and the same through the command line;
 3. the same budget again with typical weather instead of past years' (target ≤ 3 s);
 4. the fiscal-year budget (July–June) with the stored models (target ≤ 5 s);
 5. ``fit --meter Library``: one meter, 3 years of 15-minute readings, default families,
@@ -47,7 +49,7 @@ DATA = ROOT / "sample" / "data"
 RATE_CARD = ROOT / "sample" / "tariffs" / "orrinvale-main-electric.ratecard.toml"
 PYTHON = sys.executable
 TARGETS = {
-    "budget, no stored models": 20.0,
+    "budget, no stored models, in the window": 20.0,
     "budget again, typical weather": 3.0,
     "fiscal-year budget": 5.0,
     "fit one 15-minute meter": 5.0,
@@ -57,7 +59,6 @@ TARGETS = {
 #: Steps whose target is for the window, which has started and imported once: they are held
 #: to it after the command line's own start-up (``--version``) is taken off.
 WINDOW_STEPS = (
-    "budget, no stored models",
     "budget again, typical weather",
     "fiscal-year budget",
     "fit one 15-minute meter",
@@ -79,6 +80,31 @@ def run(engine: Path, *args: object) -> tuple[float, float, str]:
         if process.returncode:
             raise SystemExit(f"{' '.join(command)} failed:\n{err.read()}")
         return seconds, usage.ru_maxrss / 1024, out.read()
+
+
+#: A budget as the window runs it: in a process that has imported the engine already.
+WINDOW_BUDGET = """
+import sys, time
+from engine.budgeting import budget_project, budget_request
+from engine.project import Project
+with Project.open(sys.argv[1]) as project:
+    request = budget_request(project, ["2026-11"])
+    started = time.perf_counter()
+    budget_project(project, request)
+    print(time.perf_counter() - started)
+"""
+
+
+def window_budget(engine: Path, project: Path) -> tuple[float, float, str]:
+    """Seconds of the first budget inside one process, as the window's worker thread runs it."""
+    done = subprocess.run(
+        [PYTHON, "-c", WINDOW_BUDGET, str(project)],
+        cwd=engine,
+        capture_output=True,
+        text=True,
+        check=True,
+    )
+    return float(done.stdout.split()[-1]), float("nan"), ""
 
 
 def new_sample(engine: Path, project: Path) -> float:
@@ -141,6 +167,9 @@ def measure(engine: Path, folder: Path) -> dict[str, tuple[float, float, str]]:
         seconds, peak, out = run(engine, "budget", project, *extra, "--json")
         return seconds, peak, campus_total(out)
 
+    window_copy = folder / "window.loadledger"
+    shutil.copyfile(clean_copy, window_copy)
+    figures["budget, no stored models, in the window"] = window_budget(engine, window_copy)
     figures["budget, no stored models"] = budget("--start", "2026-11", "--months", "1")
     figures["budget again, typical weather"] = budget(
         "--start", "2026-11", "--months", "1", "--weather", "typical"
