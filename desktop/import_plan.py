@@ -8,13 +8,12 @@ one save: all of them or none.
 
 from __future__ import annotations
 
-import os
 from collections.abc import Callable, Iterable, Sequence
 from dataclasses import dataclass, field, replace
 from pathlib import Path
 
 from engine.errors import InputError
-from engine.importing import ImportedFiles, store_files
+from engine.importing import ImportedFiles, assemble_project, store_files
 from engine.progress import Progress, step
 from engine.project import Project
 from engine.reading import BillFile, MeterFile, ReadOptions, WeatherFile, describe, read_file
@@ -249,15 +248,12 @@ def build_project(
     """
     if path.suffix != Project.EXTENSION:
         raise ValueError(f"project files end in {Project.EXTENSION}")
-    draft = path.with_name(f"{path.stem}.unfinished{Project.EXTENSION}")
-    try:
-        with Project.create(draft, timezone=timezone, overwrite=True) as project:
-            add_to_project(project, bundles, progress)
-        os.replace(draft, path)
-    except BaseException:
-        draft.unlink(missing_ok=True)
-        raise
-    return Project.open(path)
+    return assemble_project(
+        path,
+        lambda project: add_to_project(project, bundles, progress),
+        timezone=timezone,
+        overwrite=True,
+    )
 
 
 def add_to_project(

@@ -5,13 +5,13 @@ Nothing is stored when any file cannot be read, so a failed import leaves nothin
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from pathlib import Path
 
 from engine.errors import InputError
 from engine.progress import Progress, step
-from engine.project import Project
+from engine.project import Project, sqlite_file
 from engine.reading import (
     BillFile,
     CalendarFile,
@@ -87,14 +87,38 @@ def create_project(
     overwrite: bool = False,
     progress: Progress | None = None,
 ) -> Project:
-    """Store ``files`` in a new project file at ``path`` in one atomic save."""
-    project = Project.create(path, timezone=timezone, overwrite=overwrite)
+    """Store ``files`` in a new project file at ``path`` in one atomic save.
+
+    The project is built and filled under another name beside ``path`` and renamed over it
+    only when everything is stored: a failure or a kill leaves the old file (with
+    ``overwrite``) or none, never an empty or half-filled project.
+    """
+    return assemble_project(
+        path, lambda project: store_files(project, files, progress),
+        timezone=timezone, overwrite=overwrite,
+    )  # fmt: skip
+
+
+def assemble_project(
+    path: str | Path,
+    fill: Callable[[Project], object],
+    *,
+    timezone: str,
+    overwrite: bool = False,
+) -> Project:
+    """A new project at ``path``, filled by ``fill`` under another name beside it and renamed
+    over ``path`` only when ``fill`` has finished; returned open. Until then any earlier file
+    at ``path`` stays as it was, whatever fails or is cancelled."""
+    path = Path(path)
+    sqlite_file.require_free(path, overwrite=overwrite)
+    building = sqlite_file.building_path(path)
     try:
-        store_files(project, files, progress)
-    except BaseException:
-        project.close()
-        raise
-    return project
+        with Project.create(building, timezone=timezone) as project:
+            fill(project)
+        sqlite_file.place_file(building, path, overwrite=overwrite)
+    finally:
+        sqlite_file.remove_building(building)
+    return Project.open(path)
 
 
 def store_files(project: Project, files: ImportedFiles, progress: Progress | None = None) -> None:

@@ -142,11 +142,8 @@ def build_file(path: Path, *, overwrite: bool, fill: Callable[[sqlite3.Connectio
     ``fill`` runs inside one transaction on the new file. Until ``os.replace`` the target is
     untouched, so a failure or a kill leaves either the old file or no file, never half a project.
     """
-    if path.exists() and not overwrite:
-        raise ProjectError(
-            f"'{path.name}' already exists; choose another name or allow replacing it."
-        )
-    building = path.with_name(f".{path.name}.{uuid.uuid4().hex}.building")
+    require_free(path, overwrite=overwrite)
+    building = building_path(path)
     try:
         with reported_as_project_errors(path):
             conn = connect(building)
@@ -156,6 +153,27 @@ def build_file(path: Path, *, overwrite: bool, fill: Callable[[sqlite3.Connectio
                 conn.execute("COMMIT")
             finally:
                 conn.close()
+        place_file(building, path, overwrite=overwrite)
+    finally:
+        remove_building(building)
+
+
+def require_free(path: Path, *, overwrite: bool) -> None:
+    """Refuse to replace an existing file unless ``overwrite``."""
+    if path.exists() and not overwrite:
+        raise ProjectError(
+            f"'{path.name}' already exists; choose another name or allow replacing it."
+        )
+
+
+def building_path(path: Path) -> Path:
+    """A fresh name beside ``path`` to build its replacement under."""
+    return path.with_name(f".{path.stem}.{uuid.uuid4().hex}.building{path.suffix}")
+
+
+def place_file(building: Path, path: Path, *, overwrite: bool) -> None:
+    """Rename the complete database ``building`` over ``path`` in one step."""
+    try:
         if path.exists() and not overwrite:
             raise ProjectError(
                 f"'{path.name}' appeared while it was being created; choose another name."
@@ -168,9 +186,12 @@ def build_file(path: Path, *, overwrite: bool, fill: Callable[[sqlite3.Connectio
             f"Cannot create '{path.name}' ({error.strerror}); check the folder exists and you "
             "may write to it."
         ) from error
-    finally:
-        for leftover in (building, Path(f"{building}-journal")):
-            leftover.unlink(missing_ok=True)
+
+
+def remove_building(building: Path) -> None:
+    """Delete what is left of a file that was being built (nothing once it was placed)."""
+    for leftover in (building, Path(f"{building}-journal")):
+        leftover.unlink(missing_ok=True)
 
 
 def _settle_journal(path: Path) -> None:

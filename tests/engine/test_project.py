@@ -816,3 +816,33 @@ def test_the_format_2_fixture_still_opens(tmp_path: Path) -> None:
         assert project.count_kept() == 0  # format 3's kept-models table came with the upgrade
         project.put_kept("Brightwater Hall main", "k", {"family": "seasonal_naive"}, keep=1)
         assert project.find_kept("Brightwater Hall main", "k") == {"family": "seasonal_naive"}
+
+
+def test_new_over_an_old_project_that_fails_while_storing_leaves_the_old_one(tmp_path: Path):
+    # A store that fails half way (here: a weather file whose raw values lost a row, which
+    # the weather table refuses after the meters were stored) must leave the old project as
+    # it was and nothing else behind.
+    from dataclasses import replace
+
+    from engine.importing import create_project, read_project_files
+    from engine.reading import ReadOptions
+
+    hours = pd.date_range("2026-01-05", periods=72, freq="h")
+    meters = tmp_path / "meter.csv"
+    meters.write_text("Time,Hall (kWh)\n" + "\n".join(f"{t:%Y-%m-%d %H:%M},5" for t in hours))
+    weather = tmp_path / "station.csv"
+    weather.write_text("Time,Dry bulb (°C)\n" + "\n".join(f"{t:%Y-%m-%d %H:%M},4" for t in hours))
+    files = read_project_files([meters], (), [weather], ReadOptions(timezone="UTC"))
+    target = tmp_path / f"site{Project.EXTENSION}"
+    create_project(target, files, timezone="UTC").close()
+    broken = replace(files.weather[0], raw=files.weather[0].raw.iloc[:-1])
+    with pytest.raises(ValueError):
+        create_project(target, replace(files, weather=[broken]), timezone="UTC", overwrite=True)
+    with Project.open(target) as kept:
+        assert kept.meter_names() == ["Hall"]
+        assert len(kept.load_weather()) == len(hours)
+    assert sorted(path.name for path in tmp_path.iterdir()) == [
+        "meter.csv",
+        f"site{Project.EXTENSION}",
+        "station.csv",
+    ]
