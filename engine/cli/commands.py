@@ -65,11 +65,9 @@ def clean(args: argparse.Namespace) -> int:
         if args.undo is not None:
             project.set_step_active(args.undo, False)
         meters = []
-        for name in names:
-            review = review_meter(project, name)
-            applied = apply_recommended(project, review) if args.apply_recommended else []
-            if applied:
-                review = review_meter(project, name)
+        with project.transaction():  # every meter's fixes in one save
+            reviews = [_reviewed(project, name, args.apply_recommended) for name in names]
+        for name, (review, applied) in zip(names, reviews, strict=True):
             meters.append(
                 {
                     "name": name,
@@ -84,6 +82,13 @@ def clean(args: argparse.Namespace) -> int:
         report = {"project": str(project.path), "meters": meters}
     _emit(args, report, text.clean_report)
     return 0
+
+
+def _reviewed(project: Project, name: str, apply: bool) -> tuple:
+    """The meter's review after logging its recommended fixes when ``apply``, and their ids."""
+    review = review_meter(project, name)
+    applied = apply_recommended(project, review) if apply else []
+    return (review_meter(project, name) if applied else review), applied
 
 
 def profile(args: argparse.Namespace) -> int:
