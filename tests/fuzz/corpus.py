@@ -237,13 +237,18 @@ def mixed_dates(rows: Rows, rng: random.Random) -> Rows:
     return out
 
 
-def odd_dates(rows: Rows, rng: random.Random) -> Rows:
+def _scatter(rows: Rows, rng: random.Random, odd: tuple[str, ...], most: int, first: int) -> Rows:
+    """Up to ``most`` random cells (from column ``first`` on) replaced by ``odd`` values."""
     out = [list(r) for r in rows]
-    for _ in range(rng.randint(1, 8)):
+    for _ in range(rng.randint(1, most)):
         row = out[rng.randrange(1, len(out))] if len(out) > 1 else out[0]
-        if row:
-            row[rng.randrange(len(row))] = rng.choice(ODD_DATES)
+        if len(row) > first:
+            row[rng.randrange(first, len(row))] = rng.choice(odd)
     return out
+
+
+def odd_dates(rows: Rows, rng: random.Random) -> Rows:
+    return _scatter(rows, rng, ODD_DATES, most=8, first=0)
 
 
 ODD_NUMBERS = (
@@ -278,12 +283,7 @@ ODD_NUMBERS = (
 
 
 def odd_numbers(rows: Rows, rng: random.Random) -> Rows:
-    out = [list(r) for r in rows]
-    for _ in range(rng.randint(1, 12)):
-        row = out[rng.randrange(1, len(out))] if len(out) > 1 else out[0]
-        if len(row) > 1:
-            row[rng.randrange(1, len(row))] = rng.choice(ODD_NUMBERS)
-    return out
+    return _scatter(rows, rng, ODD_NUMBERS, most=12, first=1)
 
 
 def many_huge(rows: Rows, rng: random.Random) -> Rows:
