@@ -46,10 +46,9 @@ def meter_inputs(project: Project, name: str) -> ModelInputs:
     return prepare_site(project, [name]).meter(name).inputs
 
 
-def hourly_weather(project: Project, *, as_of: pd.Timestamp | None = None) -> pd.Series | None:
-    """The project's weather as hourly °C with short gaps filled from the readings before
-    ``as_of`` (all of them by default); None without weather."""
-    return prepare_site(project, []).hourly_before(as_of)
+def hourly_weather(project: Project) -> pd.Series | None:
+    """The project's weather as hourly °C with short gaps filled; None without weather."""
+    return prepare_site(project, []).hourly
 
 
 def fit_meters(
