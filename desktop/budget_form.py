@@ -113,7 +113,7 @@ class BudgetForm(QWidget):
         self.paths.setValue(DEFAULT_PATHS)
         self.paths.setToolTip("Simulated futures behind the P-levels: more is steadier, slower.")
         self.scheduler = QLineEdit()
-        self.scheduler.setPlaceholderText("this computer, every core")
+        self.scheduler.setPlaceholderText("this computer")
         self.scheduler.setToolTip(
             "For sites with hundreds of meters: the address of a Dask scheduler "
             "(e.g. tcp://10.0.0.5:8786) whose workers model the meters."

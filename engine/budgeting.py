@@ -167,7 +167,8 @@ def budget_project(
     budget draws its model error from. That modelling is kept in the project
     (:mod:`engine.kept_models`), so a budget of unchanged data with another period, weather
     assumption or tariff reuses it; meters are modelled side by side (``workers`` local
-    processes, default every core, or the Dask scheduler at ``scheduler``).
+    processes, by default one per core when the site is large enough to repay them, or the
+    Dask scheduler at ``scheduler``).
     """
     step(progress, 0.0, "preparing the meters")
     site = prepare_site(project, meters or None)
@@ -175,12 +176,12 @@ def budget_project(
     cut = as_of_cut(request.as_of, project.timezone)
     hourly = site.hourly_before(cut)
     weather, no_weather = _weather(request, hourly, project.timezone)
+    histories = {name: site.meter(name).history(cut, weather=not no_weather) for name in names}
     modelled, scorecards, failures = _meter_models(
-        project, site, cut, request, no_weather, hourly,
+        project, site, histories, cut, request, no_weather, hourly,
         workers=workers, scheduler=scheduler, progress=_share(progress, 0.05, 0.7),
     )  # fmt: skip
     names = [name for name in names if name in modelled]
-    histories = {name: site.meter(name).history(cut, weather=not no_weather) for name in names}
     prices = bill_prices(project)
     plans = [_plan(site.meter(name), modelled[name], histories[name], site, request, prices)
              for name in names]  # fmt: skip
@@ -242,6 +243,7 @@ def budget_project(
 def _meter_models(
     project: Project,
     site: PreparedSite,
+    histories: dict[str, ModelInputs],
     cut: pd.Timestamp,
     request: BudgetRequest,
     no_weather: str,
@@ -264,12 +266,12 @@ def _meter_models(
     scorecards: dict[str, dict] = {}
     jobs, keys = [], {}
     weather = None if no_weather or hourly is None else TypicalYears(hourly, site.timezone)
-    for name, ready in site.meters.items():
+    for name in histories:
         stored = project.results("model", name) if not no_weather else []
         choice = stored[-1]["body"] if stored else None
         job = MeterJob(
             name,
-            ready.history(cut, weather=not no_weather),
+            histories[name],
             weather,
             _unfitted(choice) if choice else None,
             refit_months=refit_months,

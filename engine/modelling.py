@@ -66,9 +66,9 @@ def fit_meters(
     The chosen model's refits before each of the last months, which a budget needs, are
     kept too (:func:`engine.kept_models.keep_for_next_budget`; half of them come free from
     the backtest), so the first budget after a fit does not make them. Meters run side by
-    side (``workers`` local processes, default every core, or the Dask scheduler at
-    ``scheduler``); every meter's result is kept in one save. A meter that fails is reported
-    after the others are kept.
+    side (``workers`` local processes, by default one per core when the site is large enough
+    to repay them, or the Dask scheduler at ``scheduler``); every meter's result is kept in
+    one save. A meter that fails is reported after the others are kept.
     """
     step(progress, 0.0, "preparing the meters")
     site = prepare_site(project, names)
