@@ -111,12 +111,13 @@ def run_per_meter(
     if scheduler is not None:
         client = _connect(scheduler)
         try:
-            return _run_on(client.get_executor(), function, jobs, progress, None)
+            return _run_on(client.get_executor(), function, jobs, progress, None, "the cluster")
         finally:
             client.close()
     context = multiprocessing.get_context("spawn" if os.name == "nt" else "forkserver")
-    pool = ProcessPoolExecutor(max_workers=min(count, len(jobs)), mp_context=context)
-    return _run_on(pool, function, jobs, progress, pool)
+    count = min(count, len(jobs))
+    pool = ProcessPoolExecutor(max_workers=count, mp_context=context)
+    return _run_on(pool, function, jobs, progress, pool, f"{count} worker processes")
 
 
 def _main_importable() -> bool:
@@ -148,7 +149,10 @@ def _run_on(
     jobs: Sequence[Job],
     progress: Progress | None,
     pool: ProcessPoolExecutor | None,
+    where: str,
 ) -> tuple[dict[str, Any], list[MeterFailure]]:
+    """The jobs on ``executor``; ``pool`` is the local one to end on cancel (None for a
+    cluster); ``where`` names where they run, for progress."""
     started = time.perf_counter()
     # Largest first, so no worker is left with one long meter at the end.
     largest_first = sorted(jobs, key=lambda job: job.size, reverse=True)
@@ -157,7 +161,7 @@ def _run_on(
     failures: list[MeterFailure] = []
     pending = set(names)
     try:
-        step(progress, 0.0, f"modelling {len(jobs)} meters on {_where(pool)}")
+        step(progress, 0.0, f"modelling {len(jobs)} meters on {where}")
         while pending:
             if progress is not None and progress.cancelled:
                 raise Cancelled("cancelled")
@@ -190,10 +194,6 @@ def _pace(name: str, done: int, total: int, started: float) -> str:
         left = (time.perf_counter() - started) / done * (total - done)
         message += f", about {left:.0f} s left"
     return message
-
-
-def _where(pool: ProcessPoolExecutor | None) -> str:
-    return "the cluster" if pool is None else f"{pool._max_workers} worker processes"
 
 
 def _end_workers(pool: ProcessPoolExecutor) -> None:
