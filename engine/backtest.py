@@ -504,10 +504,15 @@ def _run_one(
     name: str,
     prototype: EnergyModel,
     out: _Collector,
-    fitted: Fitted | None = None,
+    fitted: Fitted | Exception | None = None,
 ) -> None:
-    """Fit one model at one origin (or take its ``fitted`` model and fit seconds) and
-    forecast under every condition, recording failures."""
+    """Fit one model at one origin (or take its ``fitted`` model and fit seconds, or the
+    error its fit raised) and forecast under every condition, recording failures."""
+    if isinstance(fitted, Exception):
+        out.fit(window, name, math.nan, None)
+        for condition in window.temperatures:
+            out.fail(window, name, condition, "fit", _failure_message(fitted))
+        return
     if fitted is not None:
         model, seconds = fitted
     else:
@@ -518,9 +523,7 @@ def _run_one(
         except Cancelled:
             raise
         except Exception as error:  # any model failure is recorded, not raised
-            out.fit(window, name, math.nan, None)
-            for condition in window.temperatures:
-                out.fail(window, name, condition, "fit", _failure_message(error))
+            _run_one(window, name, prototype, out, error)
             return
         seconds = time.perf_counter() - started
     out.fit(window, name, seconds, model)
@@ -543,6 +546,27 @@ def _run_one(
             out.fail(window, name, condition, "forecast", "the forecast has no usable values")
             continue
         out.forecast(window, name, condition, values)
+
+
+def _fits_at(
+    prototype: EnergyModel,
+    inputs: ModelInputs,
+    starts: pd.DatetimeIndex,
+    given: Mapping[str, Fitted],
+) -> dict[str, Fitted | Exception]:
+    """Per origin month, the model fitted on the data before it (or its fit's error): the
+    ``given`` fits as they are, the others by one :meth:`fit_before_each` of the family,
+    which shares work between the windows where the family can."""
+    months = [str(_local_month(start, inputs.timezone)) for start in starts]
+    missing = [start for start, month in zip(starts, months, strict=True) if month not in given]
+    started = time.perf_counter()
+    made = prototype.fit_before_each(inputs, missing) if missing else []
+    seconds = (time.perf_counter() - started) / max(len(missing), 1)
+    fits: dict[str, Fitted | Exception] = dict(given)
+    for start, model in zip(missing, made, strict=True):
+        month = str(_local_month(start, inputs.timezone))
+        fits[month] = model if isinstance(model, Exception) else (model, seconds)
+    return fits
 
 
 def _hourly_history(inputs: ModelInputs, weather_history: pd.Series | None) -> pd.Series | None:
@@ -725,21 +749,24 @@ def run_backtest(
         )
     out = _Collector(keep_fitted)
     racers = [name for name in named if race is not None and race.takes(named[name])]
-    total = len(starts) * len(named)
+    others = [name for name in named if name not in racers]
+    share = len(others) / len(named)
+    fits: dict[str, dict[str, Fitted | Exception]] = {}
+    for number, name in enumerate(others):
+        step(progress, share * number / (2 * len(others)), f"Backtest: fitting {named[name].label}")
+        given = (fitted or {}).get(name, {})
+        fits[name] = _fits_at(named[name], inputs, starts, given)
     windows = []
     for number, origin in enumerate(starts):
-        done = number * len(named)
-        step(progress, done / total, "Backtest: learning typical weather")
+        step(progress, share * (0.5 + number / (2 * len(starts))), "Backtest: typical weather")
         window = _prepare_window(plan, origin)
         windows.append(window)
-        for offset, (name, prototype) in enumerate(named.items()):
-            if name in racers:
-                continue
-            message = f"Backtest from {window.name}: {prototype.label}"
-            step(progress, (done + offset) / total, message)
-            _run_one(window, name, prototype, out, (fitted or {}).get(name, {}).get(window.name))
+        for offset, name in enumerate(others):
+            done = share * (0.5 + (number + offset / len(others)) / (2 * len(starts)))
+            step(progress, done, f"Backtest from {window.name}: {named[name].label}")
+            _run_one(window, name, named[name], out, fits[name][window.name])
     if racers:
-        explainable = [n for n in named if n not in racers and named[n].explainable]
+        explainable = [name for name in others if named[name].explainable]
         bar = race.bar(out, plan, explainable, len(windows))
         for number, name in enumerate(racers):
             done = (len(named) - len(racers) + number) / len(named)

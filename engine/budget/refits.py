@@ -26,7 +26,7 @@ from engine.backtest import ACTUAL_WEATHER, NO_WEATHER, BacktestResult, backtest
 from engine.budget.periods import BudgetWindow, as_of_cut, first_open_month
 from engine.budget.plan import MeterPlan
 from engine.errors import InputError
-from engine.models.base import EnergyModel, ModelInputs, fresh
+from engine.models.base import EnergyModel, ModelInputs
 from engine.models.registry import model_from_dict
 from engine.progress import Cancelled, Progress, step
 
@@ -133,27 +133,33 @@ def rolling_refits(
         Stepped per month; cancelling raises ``Cancelled``.
     """
     starts = backtest_origins(history.index, history.timezone, months, history.interval)
+    months_of = [start.tz_convert(history.timezone).strftime("%Y-%m") for start in starts]
+    kept = reuse.models if reuse is not None else {}
+    missing = [start for start, month in zip(starts, months_of, strict=True) if month not in kept]
+    step(progress, 0.0, f"refitting {family.label} before {len(missing)} months")
+    made = dict(zip(missing, family.fit_before_each(history, missing), strict=True))
     models: dict[str, EnergyModel] = {}
     failed: dict[str, str] = {}
     pieces: list[pd.Series] = []
-    for number, start in enumerate(starts):
-        month = start.tz_convert(history.timezone).strftime("%Y-%m")
-        step(progress, number / max(len(starts), 1), f"refitting {family.label} before {month}")
+    for number, (start, month) in enumerate(zip(starts, months_of, strict=True)):
+        step(progress, 0.5 + number / (2 * max(len(starts), 1)), f"forecasting {month}")
         end = BudgetWindow.of([month], history.timezone).end
-        if reuse is not None and month in reuse.models:
-            models[month] = reuse.models[month]
-            kept = reuse.errors
-            pieces.append(kept[(kept.index >= start) & (kept.index < end)])
+        if month in kept:
+            models[month] = kept[month]
+            errors = reuse.errors
+            pieces.append(errors[(errors.index >= start) & (errors.index < end)])
+            continue
+        model = made[start]
+        if isinstance(model, Exception):  # a month the family cannot serve is reported
+            failed[month] = _reason(model)
             continue
         ahead = history.window(start=start, end=end)
-        model = fresh(family)
         try:
-            model.fit(history.window(end=start))
             predicted = np.asarray(model.predict(ahead.without_energy()), dtype=np.float64)
         except Cancelled:
             raise
-        except Exception as error:  # a month the family cannot serve is reported, not fatal
-            failed[month] = str(error) or type(error).__name__
+        except Exception as error:  # ... whether its fit or its forecast failed
+            failed[month] = _reason(error)
             continue
         models[month] = model
         errors = ahead.energy.to_numpy(dtype=np.float64) - predicted
@@ -162,6 +168,10 @@ def rolling_refits(
     empty = pd.Series([], index=pd.DatetimeIndex([], tz="UTC"), dtype=np.float64, name="error")
     errors = pd.concat(pieces) if pieces else empty
     return RollingRefits(models=models, errors=errors.dropna(), failed=failed)
+
+
+def _reason(error: Exception) -> str:
+    return str(error) or type(error).__name__
 
 
 def plans_from_refits(

@@ -209,9 +209,11 @@ class _Columns:
         self.components.extend([component] * block.shape[1])
         self.names.extend(names)
 
-    def design(self) -> Design:
-        """The blocks side by side in one column-major matrix (each column contiguous)."""
-        matrix = np.empty((len(self.blocks[0]), len(self.names)), order="F")
+    def design(self, rows: int | None = None) -> Design:
+        """The blocks side by side in one column-major matrix (each column contiguous);
+        ``rows`` gives the length when there may be no blocks."""
+        length = len(self.blocks[0]) if rows is None else rows
+        matrix = np.empty((length, len(self.names)), order="F")
         at = 0
         for block in self.blocks:
             matrix[:, at : at + block.shape[1]] = block
@@ -258,9 +260,14 @@ def cooling_column(features: CalendarFeatures, base: float | np.ndarray) -> np.n
 
 
 def degree_hour_products(
-    data: np.ndarray, features: CalendarFeatures, bases: np.ndarray, kind: str
+    data: np.ndarray,
+    features: CalendarFeatures,
+    bases: np.ndarray,
+    kind: str,
+    weights: np.ndarray | None = None,
 ) -> tuple[np.ndarray, np.ndarray]:
-    """``dataᵀh`` and ``hᵀh`` for the degree-hour column ``h`` of ``kind`` at each base.
+    """``dataᵀWh`` and ``hᵀWh`` for the degree-hour column ``h`` of ``kind`` at each base,
+    with ``W`` the row ``weights`` (all 1 when None).
 
     ``features`` (and the rows of ``data``) must be in ascending temperature order and
     ``bases`` ascending. Then rows split into three runs: one where every column is zero, one
@@ -275,28 +282,57 @@ def degree_hour_products(
     linear = slice(0, below) if kind == "heating" else slice(above, len(temperature))
     band = slice(below, max(below, above))
     columns = _degree_hours(features.rows(band), bases, kind)
-    products = data[band].T @ columns
-    norms = np.einsum("ij,ij->j", columns, columns)
+    weighted = columns if weights is None else columns * weights[band, None]
+    products = data[band].T @ weighted
+    norms = np.einsum("ij,ij->j", weighted, columns)
     if linear.stop > linear.start:
         run = temperature[linear]
         mean = run.mean()
-        offsets = np.column_stack([np.ones(len(run)), mean - run])
+        deviation = mean - run
+        offsets = np.column_stack([np.ones(len(run)), deviation])
+        if weights is not None:
+            offsets *= weights[linear, None]
         sums = data[linear].T @ offsets
         # dt·sign·(b − T): heating columns grow with the base, cooling columns shrink.
         scale = features.interval_hours * (1.0 if kind == "heating" else -1.0)
         shift = bases - mean
         products += scale * (np.outer(sums[:, 0], shift) + sums[:, 1:])
-        deviation = offsets[:, 1]
-        norms += features.interval_hours**2 * (
-            len(run) * shift**2 + 2 * shift * deviation.sum() + deviation @ deviation
-        )
+        count, first, second = offsets[:, 0].sum(), offsets[:, 1].sum(), offsets[:, 1] @ deviation
+        norms += features.interval_hours**2 * (count * shift**2 + 2 * shift * first + second)
     return products, norms
 
 
 def build_design(features: CalendarFeatures, layout: DesignLayout) -> Design:
-    """The design matrix of ``features`` under ``layout``."""
-    n = len(features)
+    """The design matrix of ``features`` under ``layout``: :func:`calendar_design`'s columns,
+    then :func:`weather_and_trend_design`'s."""
     columns = _Columns()
+    _add_calendar_columns(columns, features, layout)
+    _add_weather_and_trend_columns(columns, features, layout)
+    return columns.design()
+
+
+def calendar_design(features: CalendarFeatures, layout: DesignLayout) -> Design:
+    """The columns that depend on the clock and calendar only (base load to annual cycle).
+
+    They do not change with the balance points or the trend's knots, so one build serves every
+    fit window of a history that shares the layout's orders, day types and period kinds.
+    """
+    columns = _Columns()
+    _add_calendar_columns(columns, features, layout)
+    return columns.design()
+
+
+def weather_and_trend_design(features: CalendarFeatures, layout: DesignLayout) -> Design:
+    """The degree-hour and trend columns, which follow the design's calendar columns."""
+    columns = _Columns()
+    _add_weather_and_trend_columns(columns, features, layout)
+    return columns.design(len(features))
+
+
+def _add_calendar_columns(
+    columns: _Columns, features: CalendarFeatures, layout: DesignLayout
+) -> None:
+    n = len(features)
     columns.add("base", ["base load"], np.ones(n))
     daily = fourier_columns(features.hour_of_day / 24.0, layout.daily_order)
     columns.add("daily", fourier_names("daily", layout.daily_order), daily)
@@ -334,6 +370,11 @@ def build_design(features: CalendarFeatures, layout: DesignLayout) -> Design:
         fourier_names("annual", layout.annual_order),
         fourier_columns(features.year_phase, layout.annual_order),
     )
+
+
+def _add_weather_and_trend_columns(
+    columns: _Columns, features: CalendarFeatures, layout: DesignLayout
+) -> None:
     if layout.heating_base is not None:
         columns.add(
             "heating", ["heating degree-hours"], heating_column(features, layout.heating_base)
@@ -348,4 +389,3 @@ def build_design(features: CalendarFeatures, layout: DesignLayout) -> Design:
         for knot in layout.trend_knots:
             hinge = np.maximum(since - knot, 0.0)
             columns.add("trend", [f"trend change after {knot:.2f} years"], hinge)
-    return columns.design()

@@ -10,14 +10,20 @@ learned values as plain numbers, strings and lists. Stored form::
 
 from __future__ import annotations
 
+import copy
 import inspect
-from typing import Any, ClassVar, Self
+from collections.abc import Sequence
+from typing import TYPE_CHECKING, Any, ClassVar, Self
 
 import numpy as np
 import pandas as pd
 from sklearn.exceptions import NotFittedError
 
 from engine.errors import ProjectError
+from engine.progress import Cancelled
+
+if TYPE_CHECKING:
+    from engine.models.base import ModelInputs
 
 
 def plain(value: Any) -> Any:
@@ -71,6 +77,26 @@ class ModelFamily:
         """The constructor settings, JSON-ready."""
         names = list(inspect.signature(type(self).__init__).parameters)[1:]
         return {name: plain(getattr(self, name)) for name in names}
+
+    def fit_before_each(
+        self, inputs: ModelInputs, cuts: Sequence[pd.Timestamp]
+    ) -> list[Self | Exception]:
+        """For each cut (UTC), a copy of this (unfitted) model fitted on the inputs before it,
+        or the error that fit raised.
+
+        Backtests and budgets refit a family before many monthly cuts of one history; a family
+        that can share work between those windows overrides this with the same results.
+        """
+        fitted: list[Self | Exception] = []
+        for cut in cuts:
+            model = copy.deepcopy(self)
+            try:
+                fitted.append(model.fit(inputs.window(end=cut)))
+            except Cancelled:
+                raise
+            except Exception as error:  # a window the family cannot fit is reported, not fatal
+                fitted.append(error)
+        return fitted
 
     @classmethod
     def candidate_settings(cls) -> list[dict[str, Any]]:

@@ -4,9 +4,15 @@ The calendar regression solves ``min ‖y − Xβ‖² + βᵀ diag(p) β`` many
 (a degree-hour column at different balance points) changes. Keeping ``XᵀX`` and ``Xᵀy`` and
 updating one row and column of them when a column is replaced makes each step cost one pass
 over the data for that column instead of a new ``XᵀX``.
+
+Rows can carry weights: with 0/1 weights one matrix of a whole history serves the fit of any
+window of it, and the block of ``XᵀX`` of columns that every window shares can be summed month
+by block once (:func:`prefix_grams`) instead of once per window.
 """
 
 from __future__ import annotations
+
+from collections.abc import Sequence
 
 import numpy as np
 
@@ -17,21 +23,47 @@ def _solve(gram: np.ndarray, moment: np.ndarray) -> np.ndarray:
 
 
 class NormalEquations:
-    """``XᵀX``, ``Xᵀy`` and ``yᵀy`` of a design, kept current as columns are replaced.
+    """``XᵀWX``, ``XᵀWy`` and ``yᵀWy`` of a design with row weights ``W`` (identity when none),
+    kept current as columns are replaced.
 
-    ``data`` holds ``[X y]`` side by side (column-major), so one product ``dataᵀh`` gives both
-    ``Xᵀh`` and ``yᵀh`` of a candidate column ``h``.
+    ``data`` holds ``[X y]`` side by side (column-major), so one product ``dataᵀ(w·h)`` gives
+    both ``XᵀWh`` and ``yᵀWh`` of a candidate column ``h``. ``leading``, when given, is the
+    already summed ``XᵀWX`` block of the first columns of ``X`` (those of ``blocks[0]``): only
+    the products that involve the other columns and ``y`` are computed.
     """
 
-    def __init__(self, matrix: np.ndarray, y: np.ndarray) -> None:
-        n, p = matrix.shape
+    def __init__(
+        self,
+        blocks: Sequence[np.ndarray],
+        y: np.ndarray,
+        *,
+        weights: np.ndarray | None = None,
+        leading: np.ndarray | None = None,
+    ) -> None:
+        n = len(y)
+        p = sum(block.shape[1] for block in blocks)
+        self.weights = weights
+        self.rows = float(n if weights is None else weights.sum())
         self.data = np.empty((n, p + 1), order="F")
-        self.data[:, :p] = matrix
+        at = 0
+        for block in blocks:
+            self.data[:, at : at + block.shape[1]] = block
+            at += block.shape[1]
         self.data[:, p] = y
-        products = self.data.T @ self.data
-        self.gram = products[:p, :p].copy()
-        self.moment = products[:p, p].copy()
-        self.total = float(products[p, p])
+        known = 0 if leading is None else len(leading)
+        products = self.data.T @ self._weighted(self.data[:, known:])
+        self.gram = np.empty((p, p))
+        self.gram[:, known:] = products[:p, :-1]
+        self.gram[known:, :] = products[:p, :-1].T
+        if leading is not None:
+            self.gram[:known, :known] = leading
+        self.moment = products[:p, -1].copy()
+        self.total = float(products[p, -1])
+
+    def _weighted(self, values: np.ndarray) -> np.ndarray:
+        if self.weights is None:
+            return values
+        return values * (self.weights if values.ndim == 1 else self.weights[:, None])
 
     def solve(self, penalty: np.ndarray) -> np.ndarray:
         """Coefficients minimising ``‖y − Xβ‖² + Σ penaltyᵢ βᵢ²``."""
@@ -41,8 +73,7 @@ class NormalEquations:
         """``SSE / (n − p)`` of the unpenalised fit."""
         beta = self.solve(np.zeros(len(self.moment)))
         sse = self.total - 2 * beta @ self.moment + beta @ self.gram @ beta
-        n, p = len(self.data), len(self.moment)
-        return float(max(sse, 0.0) / max(n - p, 1))
+        return float(max(sse, 0.0) / max(self.rows - len(self.moment), 1))
 
     def best_replacement(
         self, column: int, products: np.ndarray, norms: np.ndarray, penalty: np.ndarray
@@ -71,7 +102,23 @@ class NormalEquations:
     def replace(self, column: int, values: np.ndarray) -> None:
         """Put ``values`` in ``column`` and update the normal equations."""
         self.data[:, column] = values
-        products = self.data.T @ values
+        products = self.data.T @ self._weighted(values)
         self.gram[:, column] = products[:-1]
         self.gram[column, :] = products[:-1]
         self.moment[column] = products[-1]
+
+
+def prefix_grams(matrix: np.ndarray, ends: Sequence[int]) -> dict[int, np.ndarray]:
+    """``XᵀX`` of the first ``end`` rows of ``matrix``, for each of ``ends``.
+
+    The rows between two consecutive ends are multiplied once and the blocks summed, so all
+    the windows of a history cost one ``XᵀX`` of it.
+    """
+    grams: dict[int, np.ndarray] = {}
+    total = np.zeros((matrix.shape[1], matrix.shape[1]))
+    start = 0
+    for end in sorted(set(ends)):
+        block = matrix[start:end]
+        total = total + block.T @ block
+        grams[end], start = total, end
+    return grams

@@ -14,6 +14,7 @@ scenario), else by one ``predict`` per scenario.
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import dataclass, replace
 from typing import Any, ClassVar, Protocol, Self, runtime_checkable
 
@@ -91,6 +92,12 @@ class EnergyModel(Protocol):
     n_parameters_: int
 
     def fit(self, inputs: ModelInputs) -> Self: ...
+
+    def fit_before_each(
+        self, inputs: ModelInputs, cuts: Sequence[pd.Timestamp]
+    ) -> list[Self | Exception]:
+        """Fresh fits on the inputs before each cut, or each fit's error (one per cut)."""
+        ...
 
     def predict(self, inputs: ModelInputs) -> pd.Series: ...
 

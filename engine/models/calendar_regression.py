@@ -27,30 +27,26 @@ setting ``trend_change_scale`` (a typical slope change as a share of mean use pe
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import replace
 from typing import Any
 
 import numpy as np
 import pandas as pd
 
-from engine.degree_days import balance_point
 from engine.errors import InputError
 from engine.models._calendar_design import (
     COMPONENTS,
-    HOURS_PER_YEAR,
-    SHAPE_DAY_TYPES,
-    CalendarFeatures,
     Design,
     DesignLayout,
     build_design,
     calendar_features,
     cooling_column,
-    degree_hour_products,
     heating_column,
     smoothed_temperature,
 )
 from engine.models._calendar_explain import FittedTerms, statements
-from engine.models._days import daily_view
+from engine.models._calendar_fitting import FitHistory, Solution
 from engine.models._family import (
     ModelFamily,
     float_array,
@@ -60,26 +56,15 @@ from engine.models._family import (
 )
 from engine.models._inputs import (
     HOUR,
-    energy_values,
-    local_clock,
     prediction,
-    require_interval_data,
     require_same_step,
     require_temperature,
     step_of,
-    temperature_values,
 )
-from engine.models._normal_equations import NormalEquations
-from engine.models.base import ModelInputs, scenario_rows
+from engine.models.base import ModelInputs, fresh, scenario_rows
 
 #: Which weather terms to include: found from the data ("auto"), fixed, or none.
 WEATHER_TERMS: tuple[str, ...] = ("auto", "heating", "cooling", "both", "none")
-#: A day type or period kind gets its own terms only with at least this many days of data.
-MIN_GROUP_DAYS = 3
-#: Balance-point refinement: search half-width and step (°C), and passes over both terms.
-_SEARCH_HALF_WIDTH, _SEARCH_STEP, _SEARCH_PASSES = 4.0, 0.25, 2
-#: The annual cycle needs a year of data, the trend's hinges two.
-_DAYS_FOR_ANNUAL, _DAYS_FOR_TREND_CHANGES = 365, 730
 
 
 class CalendarRegressionModel(ModelFamily):
@@ -163,161 +148,43 @@ class CalendarRegressionModel(ModelFamily):
 
     def fit(self, inputs: ModelInputs) -> CalendarRegressionModel:
         """Choose the columns, find the balance points and solve the penalised least squares."""
+        self._check_settings()
+        return self._take(FitHistory(self, inputs).solve(None))
+
+    def fit_before_each(
+        self, inputs: ModelInputs, cuts: Sequence[pd.Timestamp]
+    ) -> list[CalendarRegressionModel | Exception]:
+        """:meth:`fit` on the inputs before each cut, sharing the work that does not depend
+        on the cut (see :mod:`engine.models._calendar_fitting`); the same results."""
+        self._check_settings()
+        try:
+            history = FitHistory(self, inputs, cuts)
+        except InputError as error:
+            return [error] * len(cuts)
+        fitted: list[CalendarRegressionModel | Exception] = []
+        for cut in cuts:
+            try:
+                fitted.append(fresh(self)._take(history.solve(cut)))
+            except InputError as error:
+                fitted.append(error)
+        return fitted
+
+    def _check_settings(self) -> None:
         if self.weather_terms not in WEATHER_TERMS:
             raise ValueError(f"weather_terms must be one of {WEATHER_TERMS}")
-        step = step_of(inputs)
-        require_interval_data(step, self.label)
-        energy = energy_values(inputs)
-        temperature = None if self.weather_terms == "none" else temperature_values(inputs)
-        features = calendar_features(inputs, step, temperature, self.temperature_smoothing_hours)
-        usable = np.isfinite(energy)
-        if features.temperature is not None:
-            usable &= np.isfinite(features.temperature)
-        fit_features, y = features.rows(usable), energy[usable]
-        if len(y) < 7 * 24 / fit_features.interval_hours:
-            raise InputError(
-                f"only {len(y)} intervals have energy"
-                + (" and temperature" if features.temperature is not None else "")
-                + "; the calendar regression needs at least a week of them.",
-                hint="Choose a longer fit window or fill gaps in the readings and weather.",
-            )
-        self.interval_ = step
-        self.mean_energy_ = float(y.mean())
-        layout = self._calendar_layout(fit_features)
-        if features.temperature is not None:
-            start = self._starting_bases(inputs, step, energy, temperature)
-            layout = replace(layout, heating_base=start[0], cooling_base=start[1])
-            # Least squares ignores the order of rows; in temperature order the balance-point
-            # search needs each candidate column only where temperatures fall in its grid.
-            order = np.argsort(fit_features.temperature, kind="stable")
-            fit_features, y = fit_features.rows(order), y[order]
-        design = build_design(fit_features, layout)
-        equations = NormalEquations(design.matrix, y)
-        layout = self._refined_bases(fit_features, layout, design, equations)
-        self.coefficients_ = equations.solve(
-            self._hinge_penalty(design, equations.residual_variance())
-        )
+
+    def _take(self, solution: Solution) -> CalendarRegressionModel:
+        """Set the fitted attributes from what a fit learned."""
+        layout = solution.layout
+        self.interval_ = solution.interval
+        self.mean_energy_ = solution.mean_energy
         self.layout_ = layout
-        self.column_names_ = design.names
+        self.column_names_ = solution.names
+        self.coefficients_ = solution.coefficients
         # "auto" may find no weather effect: then forecasts need no temperature either.
         self.uses_temperature_ = layout.heating_base is not None or layout.cooling_base is not None
-        self.n_parameters_ = len(design.names)
+        self.n_parameters_ = len(solution.names)
         return self
-
-    def _calendar_layout(self, features: CalendarFeatures) -> DesignLayout:
-        """Orders, groups with their own terms and the trend, from the fit window's extent."""
-        per_day = 24 / features.interval_hours
-        enough = MIN_GROUP_DAYS * per_day
-        day_types = tuple(
-            name for name in SHAPE_DAY_TYPES[1:] if (features.day_type == name).sum() >= enough
-        )
-        kinds, counts = np.unique(features.period_kind, return_counts=True)
-        reference = str(kinds[np.argmax(counts)])
-        period_kinds = tuple(
-            str(kind)
-            for kind, count in zip(kinds, counts, strict=True)
-            if kind != reference and count >= enough
-        )
-        span_days = (features.years.max() - features.years.min()) * HOURS_PER_YEAR / 24
-        with_trend = self.trend and span_days >= _DAYS_FOR_ANNUAL
-        changes = self.trend_changes if span_days >= _DAYS_FOR_TREND_CHANGES else 0
-        span_years = span_days * 24 / HOURS_PER_YEAR
-        return DesignLayout(
-            daily_order=self.daily_order,
-            weekly_order=self.weekly_order,
-            annual_order=self.annual_order if span_days >= _DAYS_FOR_ANNUAL else 0,
-            period_order=min(self.period_order, self.daily_order),
-            day_types=day_types,
-            period_kinds=period_kinds,
-            reference_kind=reference,
-            period_days_off=True,
-            trend_origin=float(features.years.min()) if with_trend else None,
-            trend_knots=tuple(float(span_years * j / (changes + 1)) for j in range(1, changes + 1))
-            if with_trend
-            else (),
-        )
-
-    def _starting_bases(
-        self,
-        inputs: ModelInputs,
-        step: pd.Timedelta,
-        energy: np.ndarray,
-        temperature: np.ndarray,
-    ) -> tuple[float | None, float | None]:
-        """Balance points as set, else from daily energy against daily mean temperature.
-
-        "auto" tries heating and cooling together, then each alone, and goes without weather
-        terms when daily energy rises with neither.
-        """
-        heating, cooling = self.heating_base, self.cooling_base
-        if heating is not None and cooling is not None:
-            return heating, cooling
-        view = daily_view(
-            local_clock(inputs),
-            step,
-            inputs.timezone,
-            np.zeros(len(energy), dtype=np.int64),
-            energy,
-            temperature,
-        )
-        daily_energy = pd.Series(view.energy, index=view.days)
-        daily_temps = pd.Series(view.temperature, index=view.days)
-        kinds = ("both", "heating", "cooling") if self.weather_terms == "auto" else None
-        for kind in kinds or (self.weather_terms,):
-            try:
-                found = balance_point(daily_energy, daily_temps, kind)
-            except InputError:
-                if kinds is None:
-                    raise
-                continue
-            heating = found.heating_base if heating is None else heating
-            cooling = found.cooling_base if cooling is None else cooling
-            break
-        return heating, cooling
-
-    def _hinge_penalty(self, design: Design, sigma2: float) -> np.ndarray:
-        hinge = np.array([name.startswith("trend change") for name in design.names])
-        return np.where(hinge, sigma2 / (self.trend_change_scale * self.mean_energy_) ** 2, 0.0)
-
-    def _refined_bases(
-        self,
-        features: CalendarFeatures,
-        layout: DesignLayout,
-        design: Design,
-        equations: NormalEquations,
-    ) -> DesignLayout:
-        """Refine found balance points on the interval fit (set ones stay as set).
-
-        Each pass moves the heating, then the cooling, balance point to the best of a grid
-        around it (heating never above cooling); ``equations`` end up holding the final columns.
-        ``features`` and the rows of ``equations`` are in ascending temperature order.
-        """
-        searched = [
-            term
-            for term, setting in (("heating", self.heating_base), ("cooling", self.cooling_base))
-            if setting is None and getattr(layout, f"{term}_base") is not None
-        ]
-        if not searched:
-            return layout
-        penalty = self._hinge_penalty(design, equations.residual_variance())
-        offsets = np.arange(
-            -_SEARCH_HALF_WIDTH, _SEARCH_HALF_WIDTH + _SEARCH_STEP / 2, _SEARCH_STEP
-        )
-        for _ in range(_SEARCH_PASSES):
-            for term in searched:
-                grid = getattr(layout, f"{term}_base") + offsets
-                if term == "heating" and layout.cooling_base is not None:
-                    grid = grid[grid <= layout.cooling_base]
-                if term == "cooling" and layout.heating_base is not None:
-                    grid = grid[grid >= layout.heating_base]
-                column = int(np.flatnonzero(design.component_mask(term))[0])
-                make = heating_column if term == "heating" else cooling_column
-                products, norms = degree_hour_products(equations.data, features, grid, term)
-                best = equations.best_replacement(column, products, norms, penalty)
-                if best is not None:
-                    layout = replace(layout, **{f"{term}_base": float(grid[best])})
-                    equations.replace(column, make(features, grid[best]))
-        return layout
 
     # -- using the fit -----------------------------------------------------------------------
 

@@ -26,6 +26,7 @@ from engine.backtest import (
     typical_on,
 )
 from engine.errors import InputError, ProjectError
+from engine.models._family import ModelFamily
 from engine.models.base import ModelInputs
 from engine.progress import Cancelled, Progress
 from engine.weather import typical_year
@@ -73,7 +74,7 @@ def hour_of_week(index: pd.DatetimeIndex, zone: str) -> np.ndarray:
     return local.day_of_week.to_numpy() * 24 + local.hour.to_numpy()
 
 
-class ToyModel:
+class ToyModel(ModelFamily):
     """Shared plumbing of the small models below (not part of the engine)."""
 
     family: ClassVar[str] = "toy"

@@ -34,6 +34,7 @@ from sklearn.exceptions import NotFittedError
 from engine.budget import MeterPlan, WeatherAssumption, simulate_paths
 from engine.budget.periods import BudgetWindow, local_midnight
 from engine.budget.weather_paths import weather_scenarios
+from engine.models._family import ModelFamily
 from engine.models.base import EnergyModel, ModelInputs
 
 ZONE = "America/Denver"
@@ -219,7 +220,7 @@ def true_campus_totals(
     )
 
 
-class WeekSlotDegreeModel:
+class WeekSlotDegreeModel(ModelFamily):
     """Test model: a mean per week slot (local weekday, or hour of week) plus degree terms.
 
     Energy = slot mean + a · max(b − T, 0) + c · max(T − b, 0), fitted by least squares with

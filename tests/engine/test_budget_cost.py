@@ -21,6 +21,7 @@ from engine.budget import MeterPlan, WeatherAssumption, simulate_budget, simulat
 from engine.budget.periods import local_midnight
 from engine.budget.summary import COST_CAUTION, PEAK_CAUTION
 from engine.errors import InputError
+from engine.models._family import ModelFamily
 from engine.models.base import ModelInputs
 from engine.tariffs import tariff_from_dict
 
@@ -45,7 +46,7 @@ TARIFF = tariff_from_dict(
 )
 
 
-class ConstantLoadModel:
+class ConstantLoadModel(ModelFamily):
     """Test model: the mean kWh per interval of the fit, predicted for every interval."""
 
     family: ClassVar[str] = "constant_load_test"

@@ -16,6 +16,7 @@ import pytest
 
 from engine.budget import MeterPlan, WeatherAssumption, simulate_budget
 from engine.budget.residuals import level_elasticity, level_factors
+from engine.models._family import ModelFamily
 from engine.models.base import ModelInputs
 
 ZONE = "Europe/Lisbon"
@@ -54,7 +55,7 @@ def test_factors_follow_the_ratio_of_loads_within_bounds() -> None:
     np.testing.assert_allclose(factors, [[np.sqrt(3), 1.0, np.sqrt(3), 1.0]])  # 9× capped at 3×
 
 
-class SeasonalCurve:
+class SeasonalCurve(ModelFamily):
     """Test model: predicts the known seasonal load of :func:`seasonal_days` (no fitting)."""
 
     family: ClassVar[str] = "seasonal_curve_test"

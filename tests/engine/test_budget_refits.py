@@ -6,6 +6,7 @@ from __future__ import annotations
 from datetime import date
 
 import numpy as np
+import pandas as pd
 import pytest
 
 from engine.budget import RollingRefits, rolling_refits
@@ -70,4 +71,6 @@ def test_the_main_backtest_reuses_the_tuning_fits_of_the_chosen_settings(inputs)
     fresh = run_backtest({"c": chosen}, history, origins=5, weather_history=weather)
     for origin, (model, _) in fitted.items():
         assert reused.fitted["c"][origin] is model  # taken, not fitted again
-    assert reused.scorecards == fresh.scorecards
+    # Fits sharing work across other sets of windows agree to rounding, not bit for bit.
+    scores = [run.summary().drop(columns="mean fit seconds") for run in (reused, fresh)]
+    pd.testing.assert_frame_equal(*scores, rtol=1e-9)

@@ -267,3 +267,40 @@ def test_degree_hour_products_equal_the_products_of_the_columns(campus, kind):
     products, norms = degree_hour_products(data, features, bases, kind)
     np.testing.assert_allclose(products, data.T @ columns, rtol=1e-12)
     np.testing.assert_allclose(norms, np.einsum("ij,ij->j", columns, columns), rtol=1e-12)
+    # Row weights (here every third row left out) weigh every sum.
+    weights = (np.arange(len(order)) % 3 > 0).astype(float)
+    products, norms = degree_hour_products(data, features, bases, kind, weights)
+    weighted = columns * weights[:, None]
+    np.testing.assert_allclose(products, data.T @ weighted, rtol=1e-12)
+    np.testing.assert_allclose(norms, np.einsum("ij,ij->j", weighted, columns), rtol=1e-12)
+
+
+WINDOW_SETTINGS = [{}, {"temperature_smoothing_hours": 24.0}, {"weather_terms": "none"}]
+
+
+@pytest.mark.parametrize("settings", WINDOW_SETTINGS, ids=["default", "smoothed", "no weather"])
+def test_fits_before_many_cuts_equal_fits_from_scratch(campus, settings):
+    # Issue bar: refits at many origins equal a refit from scratch to 1e-8 relative. The cuts
+    # span windows of 5 to 35 months, so the layouts differ (annual cycle, trend, hinges); the
+    # first cut leaves under a week, which must fail as a fit from scratch does.
+    inputs = campus.inputs
+    starts = pd.date_range("2021-06-01", "2023-12-01", freq="3MS", tz=ZONE)
+    cuts = [pd.Timestamp("2021-01-03", tz=ZONE), *starts]
+    cuts = [cut.tz_convert("UTC") for cut in cuts]
+    family = CalendarRegressionModel(**settings)
+    shared = family.fit_before_each(inputs, cuts)
+    assert isinstance(shared[0], InputError)
+    with pytest.raises(InputError):
+        CalendarRegressionModel(**settings).fit(inputs.window(end=cuts[0]))
+    layouts = set()
+    for cut, fitted in zip(cuts[1:], shared[1:], strict=True):
+        alone = CalendarRegressionModel(**settings).fit(inputs.window(end=cut))
+        assert fitted.layout_ == alone.layout_
+        assert fitted.column_names_ == alone.column_names_
+        scale = np.max(np.abs(alone.coefficients_))
+        np.testing.assert_allclose(fitted.coefficients_, alone.coefficients_, atol=1e-8 * scale)
+        ahead = inputs.window(start=cut, end=cut + pd.Timedelta(days=92)).without_energy()
+        expected = alone.predict(ahead).to_numpy()
+        np.testing.assert_allclose(fitted.predict(ahead).to_numpy(), expected, rtol=1e-8)
+        layouts.add((fitted.layout_.annual_order, fitted.layout_.trend_knots))
+    assert len(layouts) >= 3  # windows with and without the annual cycle, trend and hinges

@@ -17,6 +17,7 @@ import pytest
 
 from engine.backtest import ACTUAL_WEATHER, NO_WEATHER, BacktestResult, run_backtest
 from engine.calendar import CampusCalendar, CampusPeriod, label_intervals
+from engine.models._family import ModelFamily
 from engine.models.base import ModelInputs
 from engine.selection import MIN_HISTORY_MONTHS, recommend_model, residual_pattern
 
@@ -45,7 +46,7 @@ def studio_inputs(first: str, last: str, temperature: bool = False) -> ModelInpu
     return ModelInputs(index, ZONE, pd.Series(studio_load(index), index=index), temps)
 
 
-class _Scaled:
+class _Scaled(ModelFamily):
     """``factor`` times the true load; optionally refusing to fit before ``works_from``."""
 
     family: ClassVar[str] = "scaled"
