@@ -8,7 +8,7 @@ import tomllib
 from pathlib import Path
 
 import pytest
-from desktop_support import ROOT
+from desktop_support import ROOT, save_screen, show_widget
 from PySide6.QtCore import QPoint, QSettings, Qt
 from PySide6.QtGui import QKeySequence
 from PySide6.QtWidgets import QFileDialog, QMessageBox
@@ -25,21 +25,10 @@ from desktop.preferences import (
 )
 from engine.project import Project
 
-SHOTS = Path("/tmp/shots-habits")
-
-
-def shot(widget, name: str) -> None:
-    """Save what ``widget`` shows for a person to look at."""
-    SHOTS.mkdir(parents=True, exist_ok=True)
-    assert widget.grab().save(str(SHOTS / f"{name}.png"))
-
 
 @pytest.fixture
 def window(qtbot):
-    widget = MainWindow()
-    qtbot.addWidget(widget)
-    widget.resize(1280, 720)
-    widget.show()
+    widget = show_widget(qtbot, MainWindow(), (1280, 720))
     widget.activateWindow()
     qtbot.waitActive(widget)
     return widget
@@ -76,7 +65,7 @@ def test_recent_projects_newest_first_and_gone_files_dropped_with_a_word(qtbot, 
     assert window.open_project(north)
     assert recent_entries(window) == [f"&1 {north.name}", f"&2 {south.name}"]
     window.recent_menu.popup(window.mapToGlobal(QPoint(40, 40)))
-    shot(window.recent_menu, "recent-projects-menu")
+    save_screen(window.recent_menu, "recent-projects-menu", min_bytes=500)
     window.recent_menu.hide()
 
     south.unlink()
@@ -187,10 +176,7 @@ def test_the_close_key_closes_the_project(qtbot, window, tmp_path):
 
 def reopened(qtbot) -> MainWindow:
     """A new window, as the next run of the program makes it."""
-    window = MainWindow()
-    qtbot.addWidget(window)
-    window.show()
-    return window
+    return show_widget(qtbot, MainWindow())
 
 
 def test_size_and_state_come_back_in_the_next_session(qtbot, own_settings):
@@ -247,13 +233,13 @@ def test_about_names_the_version_and_what_a_forecast_is_not(qtbot, window):
     assert f"Loadledger {engine.__version__}" in text
     assert "estimates with ranges" in text and "not a design load" in text
     assert "licensed engineer under local codes" in text
-    shot(window.about_dialog, "about-dialog")
+    save_screen(window.about_dialog, "about-dialog")
     window.show_step("Budget")
     window.show_help()
-    shot(window.help_dialog, "help-budget")
-    shot(window, "main-window-empty")
+    save_screen(window.help_dialog, "help-budget")
+    save_screen(window, "main-window-empty")
     for words in ("&Project", "&Steps", "&Help"):
         shown = menu(window, words)
         shown.popup(window.mapToGlobal(QPoint(10, 10)))
-        shot(shown, f"menu-{words.strip('&').lower()}")
+        save_screen(shown, f"menu-{words.strip('&').lower()}", min_bytes=500)
         shown.hide()
