@@ -14,6 +14,8 @@ from PySide6.QtWidgets import (
     QMessageBox,
     QSplitter,
     QStackedWidget,
+    QVBoxLayout,
+    QWidget,
 )
 
 from desktop.budget_screen import BudgetScreen
@@ -25,6 +27,7 @@ from desktop.help_pages import ReadingDialog, about_text, help_text
 from desktop.models_screen import ModelsScreen
 from desktop.patterns_screen import PatternsScreen
 from desktop.preferences import RecentProjects, stored_settings
+from desktop.recent_list import RecentList
 from desktop.session import Session
 from engine.errors import ProjectError
 from engine.project import Project
@@ -39,6 +42,7 @@ STEPS = (
 )
 STEP_NAMES = tuple(name for name, _ in STEPS)
 APP_NAME = "Loadledger"
+SIDE_WIDTH = 170
 PROJECT_FILTER = f"Loadledger projects (*{Project.EXTENSION})"
 
 
@@ -74,7 +78,6 @@ class MainWindow(QMainWindow):
         }
         self.steps = QListWidget()
         self.steps.addItems(list(STEP_NAMES))
-        self.steps.setFixedWidth(170)
         for row, (_, purpose) in enumerate(STEPS):
             self.steps.item(row).setToolTip(purpose)
         self.screens = QStackedWidget()
@@ -83,12 +86,12 @@ class MainWindow(QMainWindow):
         self.steps.currentRowChanged.connect(self.screens.setCurrentIndex)
         self.steps.setCurrentRow(0)
         splitter = QSplitter(Qt.Orientation.Horizontal)
-        splitter.addWidget(self.steps)
+        splitter.addWidget(self._side_column())
         splitter.addWidget(self.screens)
         splitter.setStretchFactor(0, 0)
         splitter.setStretchFactor(1, 1)
         splitter.setChildrenCollapsible(False)
-        splitter.setSizes([self.steps.width(), self.width()])
+        splitter.setSizes([SIDE_WIDTH, self.width()])
         self.setCentralWidget(splitter)
         self.recent_menu = QMenu("Open &recent", self)
         self.recent_menu.setToolTipsVisible(True)
@@ -97,6 +100,18 @@ class MainWindow(QMainWindow):
         self.session.subscribe(self._project_changed)
         self._project_changed(None)
         self._restore_layout()
+
+    def _side_column(self) -> QWidget:
+        """The steps, with the recent projects below them while no project is open."""
+        self.recent_list = RecentList()
+        self.recent_list.chosen.connect(self.open_recent)
+        column = QWidget()
+        column.setFixedWidth(SIDE_WIDTH)
+        layout = QVBoxLayout(column)
+        layout.setContentsMargins(0, 0, 0, 0)
+        layout.addWidget(self.steps, 1)
+        layout.addWidget(self.recent_list, 1)
+        return column
 
     def _build_menus(self) -> None:
         """The Project, Steps and Help menus. Shortcuts are the platform's standard keys, so
@@ -151,17 +166,21 @@ class MainWindow(QMainWindow):
         """Show the version and what the figures may and may not be used for."""
         self.about_dialog.show_page(f"About {APP_NAME}", about_text())
 
-    def fill_recent_menu(self) -> None:
-        """List the recent projects, newest first; files gone since are taken off, with a word."""
-        self.recent_menu.clear()
+    def _recent_paths(self) -> tuple[list[Path], str]:
+        """The recent projects, newest first, and a word on any taken off for being gone."""
         gone = self.recent.drop_missing()
+        note = ""
         if gone:
-            names = ", ".join(path.name for path in gone)
-            self.recent_menu.addAction(f"No longer found, taken off the list: {names}").setEnabled(
-                False
-            )
+            note = "No longer found, taken off the list: " + ", ".join(p.name for p in gone)
+        return self.recent.paths(), note
+
+    def fill_recent_menu(self) -> None:
+        """List the recent projects in the Project menu (newest first)."""
+        self.recent_menu.clear()
+        paths, note = self._recent_paths()
+        if note:
+            self.recent_menu.addAction(note).setEnabled(False)
             self.recent_menu.addSeparator()
-        paths = self.recent.paths()
         for number, path in enumerate(paths, start=1):
             action = self.recent_menu.addAction(
                 f"&{number} {path.name}", lambda _=False, p=path: self.open_recent(p)
@@ -202,9 +221,11 @@ class MainWindow(QMainWindow):
     def _project_changed(self, project: Project | None) -> None:
         self.close_action.setEnabled(project is not None)
         self.setWindowFilePath("" if project is None else str(project.path))
+        self.recent_list.setVisible(project is None)
         if project is None:
             self.setWindowTitle(APP_NAME)
             self.statusBar().showMessage("No project open")
+            self.recent_list.show_paths(*self._recent_paths())
             return
         self.setWindowTitle(f"{project.path.stem} — {APP_NAME}")
         self.recent.remember(project.path)

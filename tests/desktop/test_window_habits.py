@@ -83,6 +83,25 @@ def test_recent_projects_newest_first_and_gone_files_dropped_with_a_word(qtbot, 
     assert window.project is not None and window.project.path == north.absolute()
 
 
+def test_the_empty_window_lists_recent_projects_and_opens_one(qtbot, tmp_path):
+    kept = empty_project(tmp_path / f"east-wing{Project.EXTENSION}")
+    recent = RecentProjects(stored_settings())
+    for path in (kept, tmp_path / f"moved-away{Project.EXTENSION}"):
+        recent.remember(path)
+    window = show_widget(qtbot, MainWindow(), (1280, 720))
+    assert window.recent_list.isVisible()
+    assert window.recent_list.names() == [kept.name]
+    assert f"No longer found, taken off the list: moved-away{Project.EXTENSION}" in (
+        window.recent_list.note.text()
+    )
+    save_screen(window, "main-window-recent-projects")
+    window.recent_list.files.itemActivated.emit(window.recent_list.files.item(0))
+    assert window.project is not None and window.project.path == kept.absolute()
+    assert not window.recent_list.isVisible()
+    window.close_project()
+    assert window.recent_list.isVisible() and window.recent_list.names() == [kept.name]
+
+
 def test_a_recent_project_that_vanished_after_the_menu_was_filled(window, tmp_path, monkeypatch):
     shown = []
     monkeypatch.setattr(QMessageBox, "warning", lambda *args: shown.append(args[1:]))
