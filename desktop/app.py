@@ -6,12 +6,17 @@ import sys
 
 from PySide6.QtWidgets import QApplication
 
-from desktop.main_window import MainWindow
+import engine
+from desktop.main_window import APP_NAME, MainWindow
+from desktop.preferences import ORGANISATION
 
 
 def run_window(project: str | None = None) -> int:
+    """Show the window (opening ``project`` if given) and run until it closes."""
     app = QApplication.instance() or QApplication(sys.argv[:1])
-    app.setApplicationName("Loadledger")
+    app.setOrganizationName(ORGANISATION)
+    app.setApplicationName(APP_NAME)
+    app.setApplicationVersion(engine.__version__)
     window = MainWindow()
     if project:
         window.open_project(project)

@@ -12,7 +12,6 @@ from pathlib import Path
 from PySide6.QtCore import QUrl, Signal
 from PySide6.QtGui import QDesktopServices
 from PySide6.QtWidgets import (
-    QFileDialog,
     QHBoxLayout,
     QLabel,
     QPushButton,
@@ -21,11 +20,13 @@ from PySide6.QtWidgets import (
 )
 
 from desktop.budget_jobs import period_words
+from desktop.file_dialogs import ask_save_path
 from desktop.task_screen import TaskScreen
 from engine.budgeting import ProjectBudget
 from engine.export.finance_workbook import SHEETS, write_finance_workbook
 from engine.progress import Progress
 
+WORKBOOK_NAME = "finance-budget.xlsx"
 NO_BUDGET = (
     "No budget has been run yet in this window. Run one on the Budget step; the workbook "
     "is written from it."
@@ -113,11 +114,11 @@ class ExportScreen(TaskScreen):
 
     def ask_path(self) -> None:
         """Ask where to write the workbook, then write it."""
-        path, _ = QFileDialog.getSaveFileName(
-            self, "Write finance workbook", "", "Excel workbooks (*.xlsx)"
+        answer = ask_save_path(
+            self, "workbooks", "Write finance workbook", "Excel workbooks (*.xlsx)", WORKBOOK_NAME
         )
-        if path:
-            self.write_to(Path(path))
+        if answer is not None:
+            self.write_to(answer[0])
 
     def write_to(self, path: Path) -> None:
         """Write the budget to ``path`` (.xlsx) on a worker."""

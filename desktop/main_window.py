@@ -2,24 +2,32 @@
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from pathlib import Path
 
 from PySide6.QtCore import Qt
+from PySide6.QtGui import QAction, QKeySequence
 from PySide6.QtWidgets import (
-    QFileDialog,
     QListWidget,
     QMainWindow,
+    QMenu,
     QMessageBox,
     QSplitter,
     QStackedWidget,
+    QVBoxLayout,
+    QWidget,
 )
 
 from desktop.budget_screen import BudgetScreen
 from desktop.cleaning_screen import CleaningScreen
 from desktop.export_screen import ExportScreen
+from desktop.file_dialogs import ask_open_path
 from desktop.files_screen import FilesScreen
+from desktop.help_pages import ReadingDialog, about_text, help_text
 from desktop.models_screen import ModelsScreen
 from desktop.patterns_screen import PatternsScreen
+from desktop.preferences import RecentProjects, stored_settings
+from desktop.recent_list import RecentList
 from desktop.session import Session
 from engine.errors import ProjectError
 from engine.project import Project
@@ -33,6 +41,9 @@ STEPS = (
     ("Export", "Write the workbook for finance."),
 )
 STEP_NAMES = tuple(name for name, _ in STEPS)
+APP_NAME = "Loadledger"
+SIDE_WIDTH = 170
+PROJECT_FILTER = f"Loadledger projects (*{Project.EXTENSION})"
 
 
 class MainWindow(QMainWindow):
@@ -41,7 +52,11 @@ class MainWindow(QMainWindow):
     def __init__(self) -> None:
         super().__init__()
         self.session = Session()
-        self.setWindowTitle("Loadledger")
+        self.settings = stored_settings()
+        self.recent = RecentProjects(self.settings)
+        self.help_dialog = ReadingDialog(self)
+        self.about_dialog = ReadingDialog(self)
+        self.about_dialog.resize(540, 330)
         self.resize(1280, 800)
         self.files_screen = FilesScreen(self.session)
         self.cleaning_screen = CleaningScreen(self.session)
@@ -63,7 +78,6 @@ class MainWindow(QMainWindow):
         }
         self.steps = QListWidget()
         self.steps.addItems(list(STEP_NAMES))
-        self.steps.setFixedWidth(170)
         for row, (_, purpose) in enumerate(STEPS):
             self.steps.item(row).setToolTip(purpose)
         self.screens = QStackedWidget()
@@ -72,20 +86,67 @@ class MainWindow(QMainWindow):
         self.steps.currentRowChanged.connect(self.screens.setCurrentIndex)
         self.steps.setCurrentRow(0)
         splitter = QSplitter(Qt.Orientation.Horizontal)
-        splitter.addWidget(self.steps)
+        splitter.addWidget(self._side_column())
         splitter.addWidget(self.screens)
         splitter.setStretchFactor(0, 0)
         splitter.setStretchFactor(1, 1)
         splitter.setChildrenCollapsible(False)
-        splitter.setSizes([self.steps.width(), self.width()])
+        splitter.setSizes([SIDE_WIDTH, self.width()])
         self.setCentralWidget(splitter)
-        menu = self.menuBar().addMenu("&Project")
-        menu.addAction("&New from files…", self._new_from_files)
-        menu.addAction("&Open…", self._ask_open)
-        menu.addSeparator()
-        menu.addAction("&Quit", self.close)
+        self.recent_menu = QMenu("Open &recent", self)
+        self.recent_menu.setToolTipsVisible(True)
+        self.recent_menu.aboutToShow.connect(self.fill_recent_menu)
+        self._build_menus()
         self.session.subscribe(self._project_changed)
         self._project_changed(None)
+        self._restore_layout()
+
+    def _side_column(self) -> QWidget:
+        """The steps, with the recent projects below them while no project is open."""
+        self.recent_list = RecentList()
+        self.recent_list.chosen.connect(self.open_recent)
+        column = QWidget()
+        column.setFixedWidth(SIDE_WIDTH)
+        layout = QVBoxLayout(column)
+        layout.setContentsMargins(0, 0, 0, 0)
+        layout.addWidget(self.steps, 1)
+        layout.addWidget(self.recent_list, 1)
+        return column
+
+    def _build_menus(self) -> None:
+        """The Project, Steps and Help menus. Shortcuts are the platform's standard keys, so
+        each system gets the keys its people know."""
+        keys = QKeySequence.StandardKey
+        project = self.menuBar().addMenu("&Project")
+        self._add(project, "&New from files…", self._new_from_files, keys.New)
+        self._add(project, "&Open…", self._ask_open, keys.Open)
+        project.addMenu(self.recent_menu)
+        self.close_action = self._add(project, "&Close project", self.close_project, keys.Close)
+        project.addSeparator()
+        # Windows (and Qt's generic platform) bind no key to Quit: Ctrl+Q there, common practice
+        self._add(project, "&Quit", self.close, keys.Quit, fallback="Ctrl+Q")
+        steps = self.menuBar().addMenu("&Steps")
+        for number, name in enumerate(STEP_NAMES, start=1):
+            go = self._add(steps, f"&{number} {name}", lambda _=False, n=name: self.show_step(n))
+            go.setShortcut(QKeySequence(f"Ctrl+{number}"))
+        help_menu = self.menuBar().addMenu("&Help")
+        self._add(help_menu, "Help on this &step", self.show_help, keys.HelpContents)
+        self._add(help_menu, f"&About {APP_NAME}", self.show_about)
+
+    def _add(
+        self,
+        menu: QMenu,
+        words: str,
+        slot: Callable[[], object],
+        key: QKeySequence.StandardKey | None = None,
+        fallback: str = "",
+    ) -> QAction:
+        """Add an action to ``menu`` with the platform's keys for ``key`` (else ``fallback``)."""
+        action = menu.addAction(words, slot)
+        if key is not None:
+            bound = QKeySequence.keyBindings(key)
+            action.setShortcuts(bound or [QKeySequence(fallback)])
+        return action
 
     @property
     def project(self) -> Project | None:
@@ -95,6 +156,57 @@ class MainWindow(QMainWindow):
     def show_step(self, name: str) -> None:
         """Bring the screen of step ``name`` (one of :data:`STEP_NAMES`) forward."""
         self.steps.setCurrentRow(STEP_NAMES.index(name))
+
+    def show_help(self) -> None:
+        """Show the help page of the step on screen."""
+        step = STEP_NAMES[self.steps.currentRow()]
+        self.help_dialog.show_page(f"Help: {step}", help_text(step))
+
+    def show_about(self) -> None:
+        """Show the version and what the figures may and may not be used for."""
+        self.about_dialog.show_page(f"About {APP_NAME}", about_text())
+
+    def _recent_paths(self) -> tuple[list[Path], str]:
+        """The recent projects, newest first, and a word on any taken off for being gone."""
+        gone = self.recent.drop_missing()
+        note = ""
+        if gone:
+            note = "No longer found, taken off the list: " + ", ".join(p.name for p in gone)
+        return self.recent.paths(), note
+
+    def fill_recent_menu(self) -> None:
+        """List the recent projects in the Project menu (newest first)."""
+        self.recent_menu.clear()
+        paths, note = self._recent_paths()
+        if note:
+            self.recent_menu.addAction(note).setEnabled(False)
+            self.recent_menu.addSeparator()
+        for number, path in enumerate(paths, start=1):
+            action = self.recent_menu.addAction(
+                f"&{number} {path.name}", lambda _=False, p=path: self.open_recent(p)
+            )
+            action.setToolTip(str(path))
+            action.setStatusTip(str(path))
+        if not paths:
+            self.recent_menu.addAction("No projects opened yet").setEnabled(False)
+
+    def open_recent(self, path: Path) -> bool:
+        """Open a project from the recent list; one that has gone is taken off it."""
+        if not path.is_file():
+            self.recent.forget(path)
+            QMessageBox.warning(
+                self,
+                "Project not found",
+                f"{path} is no longer there, so it was taken off the recent projects.",
+            )
+            return False
+        return self.open_project(path)
+
+    def close_project(self) -> None:
+        """Stop any running work and close the open project (the window stays)."""
+        for screen in self.screens_with_work():
+            screen.shutdown()
+        self.session.close()
 
     def open_project(self, path: str | Path) -> bool:
         """Open a project file; report problems in a message box, never as a traceback."""
@@ -107,9 +219,16 @@ class MainWindow(QMainWindow):
         return True
 
     def _project_changed(self, project: Project | None) -> None:
+        self.close_action.setEnabled(project is not None)
+        self.setWindowFilePath("" if project is None else str(project.path))
+        self.recent_list.setVisible(project is None)
         if project is None:
+            self.setWindowTitle(APP_NAME)
             self.statusBar().showMessage("No project open")
+            self.recent_list.show_paths(*self._recent_paths())
             return
+        self.setWindowTitle(f"{project.path.stem} — {APP_NAME}")
+        self.recent.remember(project.path)
         meters = len(project.meter_names())
         words = f"{project.path.name}: {meters} meter(s), site zone {project.timezone}"
         if project.upgrade_note:
@@ -127,10 +246,8 @@ class MainWindow(QMainWindow):
         self.files_screen.choose_files()
 
     def _ask_open(self) -> None:
-        path, _ = QFileDialog.getOpenFileName(
-            self, "Open project", "", f"Loadledger projects (*{Project.EXTENSION})"
-        )
-        if path:
+        path = ask_open_path(self, "projects", "Open project", PROJECT_FILTER)
+        if path is not None:
             self.open_project(path)
 
     def screens_with_work(self) -> tuple:
@@ -144,8 +261,17 @@ class MainWindow(QMainWindow):
             self.export_screen,
         )
 
+    def _restore_layout(self) -> None:
+        """Put the window back where and as large as it was when last closed."""
+        geometry = self.settings.value("window/geometry")
+        if geometry is not None:
+            self.restoreGeometry(geometry)
+        state = self.settings.value("window/state")
+        if state is not None:
+            self.restoreState(state)
+
     def closeEvent(self, event) -> None:
-        for screen in self.screens_with_work():
-            screen.shutdown()
-        self.session.close()
+        self.settings.setValue("window/geometry", self.saveGeometry())
+        self.settings.setValue("window/state", self.saveState())
+        self.close_project()
         super().closeEvent(event)

@@ -15,8 +15,16 @@ import numpy as np
 import pandas as pd
 import pyqtgraph as pg
 from PySide6.QtCore import QRectF, Qt
-from PySide6.QtWidgets import QLabel, QSizePolicy, QStackedWidget, QVBoxLayout, QWidget
+from PySide6.QtWidgets import (
+    QHBoxLayout,
+    QLabel,
+    QSizePolicy,
+    QStackedWidget,
+    QVBoxLayout,
+    QWidget,
+)
 
+from desktop.chart_export import ChartActions
 from desktop.palette import FIT_LINE, INK, PAPER, SERIES_CYCLE, heat_colour_map, series_colour
 from engine.profiles import TemperatureResponse, quantile_column
 
@@ -70,6 +78,8 @@ class PlotPanel(QWidget):
         self.stack = QStackedWidget()
         self.stack.addWidget(self.plot)
         self.stack.addWidget(self.note)
+        self.chart_actions = ChartActions(self, title)
+        self.stack.currentChanged.connect(lambda: self.chart_actions.set_enabled(self.showing_plot))
         self.key = QLabel()
         self.key.setWordWrap(True)
         self.key.setSizePolicy(QSizePolicy.Policy.Ignored, QSizePolicy.Policy.Minimum)
@@ -79,7 +89,10 @@ class PlotPanel(QWidget):
         self.caption.setSizePolicy(QSizePolicy.Policy.Ignored, QSizePolicy.Policy.Minimum)
         layout = QVBoxLayout(self)
         layout.setContentsMargins(2, 2, 2, 2)
-        layout.addWidget(self.title)
+        heading = QHBoxLayout()
+        heading.addWidget(self.title, 1)
+        heading.addWidget(self.chart_actions.button)
+        layout.addLayout(heading)
         layout.addWidget(self.key)
         layout.addWidget(self.stack, 1)
         layout.addWidget(self.caption)

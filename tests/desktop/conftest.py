@@ -7,6 +7,7 @@ from pathlib import Path
 
 import pytest
 from desktop_support import SAMPLE, SITE_ZONE
+from PySide6.QtCore import QSettings
 
 from engine.importing import ImportedFiles, store_files
 from engine.project import Project
@@ -24,3 +25,11 @@ def sample_project(tmp_path_factory) -> Path:
     with Project.create(path, timezone=SITE_ZONE) as project:
         store_files(project, ImportedFiles([library], [], [weather], options))
     return path
+
+
+@pytest.fixture(autouse=True)
+def own_settings(tmp_path_factory) -> Path:
+    """Every window test keeps its remembered settings in a fresh folder, never the user's."""
+    folder = tmp_path_factory.mktemp("settings")
+    QSettings.setPath(QSettings.Format.IniFormat, QSettings.Scope.UserScope, str(folder))
+    return folder

@@ -19,13 +19,23 @@ SITE_ZONE = "America/Chicago"
 TASK_TIMEOUT_MS = 120_000  # generous: a loaded 2-core machine runs a budget slowly
 
 
-def save_screen(widget, name: str) -> Path:
-    """Save what ``widget`` shows to ``out/screens/<name>.png`` for a person to look at."""
+def save_screen(widget, name: str, min_bytes: int = 10_000) -> Path:
+    """Save what ``widget`` shows to ``out/screens/<name>.png`` for a person to look at
+    (a picture smaller than ``min_bytes`` is taken for an empty one)."""
     SCREENS.mkdir(parents=True, exist_ok=True)
     path = SCREENS / f"{name}.png"
     assert widget.grab().save(str(path))
-    assert path.stat().st_size > 10_000
+    assert path.stat().st_size > min_bytes
     return path
+
+
+def show_widget(qtbot, widget, size: tuple[int, int] | None = None):
+    """Show ``widget`` (at ``size``, if given) under qtbot's care; the widget."""
+    qtbot.addWidget(widget)
+    if size is not None:
+        widget.resize(*size)
+    widget.show()
+    return widget
 
 
 def wait_until_idle(qtbot, screen) -> None:

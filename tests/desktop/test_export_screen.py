@@ -12,7 +12,7 @@ from pathlib import Path
 
 import pandas as pd
 import pytest
-from desktop_support import save_screen, wait_until_idle
+from desktop_support import save_screen, show_widget, wait_until_idle
 from openpyxl import load_workbook
 from PySide6.QtGui import QDesktopServices
 from PySide6.QtWidgets import QFileDialog
@@ -44,10 +44,7 @@ def budget(campus) -> ProjectBudget:
 
 @pytest.fixture
 def screen(qtbot, budget):
-    widget = ExportScreen()
-    qtbot.addWidget(widget)
-    widget.resize(1100, 600)
-    widget.show()
+    widget = show_widget(qtbot, ExportScreen(), (1100, 600))
     widget.set_budget(budget)
     return widget
 

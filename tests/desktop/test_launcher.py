@@ -36,12 +36,14 @@ sys.exit(main([]))
 """
 
 
-def test_no_arguments_open_the_window():
-    env = {**os.environ, "QT_QPA_PLATFORM": "offscreen"}
+def test_no_arguments_open_the_window(tmp_path):
+    # the window remembers its settings under XDG_CONFIG_HOME: keep them out of the real home
+    env = {**os.environ, "QT_QPA_PLATFORM": "offscreen", "XDG_CONFIG_HOME": str(tmp_path)}
     done = subprocess.run([sys.executable, "-c", OPEN_AND_LOOK], capture_output=True,
                           text=True, timeout=120, env=env)  # fmt: skip
     assert done.returncode == 0, done.stderr
     assert "visible windows: 1" in done.stdout
+    assert list(tmp_path.rglob("*.ini")), "the window kept no settings where it was told to"
 
 
 def test_a_command_runs_without_the_window(qapp, capsys):
