@@ -6,6 +6,7 @@ These plain dataclasses are the contract between the budget engine, the command 
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -95,6 +96,50 @@ class RollUp:
         }
 
 
+@dataclass(frozen=True)
+class Skill:
+    """How the budget's P50 month totals compared with a naive budget's, over past months.
+
+    ``p50_mape`` and ``baseline_mape`` are mean absolute percentage errors of the month totals
+    over the ``months`` both could be scored on; ``relative`` is ``1 − p50_mape /
+    baseline_mape`` (0.2: the P50 missed by a fifth less than the baseline; negative: it
+    missed by more).
+    """
+
+    baseline: str
+    months: int
+    p50_mape: float
+    baseline_mape: float
+
+    @property
+    def relative(self) -> float:
+        if not self.months or self.baseline_mape == 0:
+            return float("nan")
+        return 1.0 - self.p50_mape / self.baseline_mape
+
+    def sentence(self) -> str:
+        if not self.months:
+            return f"no past month could be compared with {self.baseline}"
+        verdict = "better" if self.relative > 0 else "worse"
+        return (
+            f"P50 month totals missed by {self.p50_mape:.1f} % on average over {self.months} "
+            f"past months, against {self.baseline_mape:.1f} % for {self.baseline} "
+            f"({abs(self.relative):.0%} {verdict})"
+        )
+
+    def to_json(self) -> dict[str, Any]:
+        known = bool(self.months)
+        relative = self.relative
+        return {
+            "baseline": self.baseline,
+            "months": self.months,
+            "p50_mape": self.p50_mape if known else None,
+            "baseline_mape": self.baseline_mape if known else None,
+            "relative": relative if known and math.isfinite(relative) else None,
+            "summary": self.sentence(),
+        }
+
+
 @dataclass
 class Calibration:
     """How the P-low–P-high range held actual month totals in the backtest, and any correction.
@@ -109,6 +154,9 @@ class Calibration:
     tried: int
     scale: float
     method: str
+    #: The P50's skill against the same month last year, and against a seasonal naive budget.
+    vs_last_year: Skill | None = None
+    vs_seasonal_naive: Skill | None = None
 
     @property
     def coverage(self) -> float:
@@ -125,6 +173,8 @@ class Calibration:
                 f"; ranges were {'widened' if self.scale > 1 else 'narrowed'} by a factor "
                 f"{self.scale:.2f} ({self.method})"
             )
+        if self.vs_last_year is not None and self.vs_last_year.months:
+            text += f"; {self.vs_last_year.sentence()}"
         return text
 
     def to_json(self) -> dict[str, Any]:
@@ -136,7 +186,13 @@ class Calibration:
             "scale": self.scale,
             "method": self.method,
             "summary": self.sentence(),
+            "skill_vs_last_year": _skill_json(self.vs_last_year),
+            "skill_vs_seasonal_naive": _skill_json(self.vs_seasonal_naive),
         }
+
+
+def _skill_json(skill: Skill | None) -> dict[str, Any] | None:
+    return None if skill is None else skill.to_json()
 
 
 @dataclass
