@@ -17,6 +17,7 @@ from desktop_support import ROOT, SITE_ZONE, save_screen, short_sample_project, 
 
 from desktop.budget_jobs import period_months
 from desktop.budget_screen import BudgetScreen
+from desktop.budget_table import ROW_ROLE
 from desktop.session import Session
 from engine.modelling import fit_meter
 from engine.project import Project
@@ -184,3 +185,42 @@ def test_period_choices_follow_the_as_of_date(screen):
     form.fiscal_start.set_value(1)
     assert form.choices().fiscal_year == 2026 and form.choices().quarter == 4
     assert form.fiscal_year.isVisible() and not form.start.isVisible()
+
+
+def _blank_rows(table) -> list[int]:
+    """Rows of the table whose cells show nothing: hidden under a stale span or left empty."""
+    grid = table.table
+    blank = []
+    for row in range(grid.rowCount()):
+        first = grid.item(row, 0)
+        if first is None or not first.text():
+            blank.append(row)
+        elif first.data(ROW_ROLE) is not None and grid.columnSpan(row, 0) != 1:
+            blank.append(row)  # a figures row drawn as one wide cell hides its numbers
+    return blank
+
+
+def test_a_second_budget_of_another_length_fills_every_row(qtbot, screen):
+    screen.form.set_as_of(date(2026, 10, 15))
+    screen.form.paths.setValue(PATHS)
+    screen.form.period.set_value("months")
+    screen.form.months.setValue(2)
+    _run(qtbot, screen)
+    assert screen.notice.tone == "done", screen.notice.text.text()
+    screen.form.period.set_value("fiscal")
+    screen.form.fiscal_start.set_value(7)
+    _run(qtbot, screen)
+    assert screen.notice.tone == "done", screen.notice.text.text()
+    run = screen.budget.run
+    assert len(run.months) == 12
+    table = screen.table
+    assert _blank_rows(table) == []
+    # Every month and total of every budgeted thing shows the engine's P50, the campus first.
+    p50 = next(h for h in table.headers if h.startswith("P50"))
+    for meter in run.meters:
+        for period in [*meter.months, meter.total]:
+            assert table.value(meter.name, period.period, p50) == period.energy.quantiles["50"]
+    for rollup in [run.campus, *run.utilities]:
+        for period in [*rollup.months, rollup.total]:
+            shown = table.value(rollup.group, period.period, p50)
+            assert shown == period.energy.quantiles["50"]
