@@ -262,3 +262,39 @@ def test_the_campus_calendar_is_stored_as_the_command_line_stores_it(
     assert (kept.country, kept.subdivision) == ("US", "IL")
     assert len(kept.periods) == len(periods)
     assert "Traceback" not in capfd.readouterr().err
+
+
+def test_a_file_the_screen_cannot_classify_says_what_it_looks_like_and_asks(
+    qtbot, screen, tmp_path, capfd
+):
+    # Term dates without the Kind column: dated rows and no figures, so it looks like a campus
+    # calendar, which needs the kind of each period. The sample's fault list is JSON.
+    terms = tmp_path / "terms.csv"
+    terms.write_text("Name,Start,End\nFall 2025,2025-08-25,2025-12-12\n", encoding="utf-8")
+    faults = SAMPLE / "faults.json"
+    screen.set_site_timezone(SITE_ZONE)
+    screen.add_files([terms, faults])
+    wait_until_idle(qtbot, screen)
+    states = [screen.file_table.item(row, 2).text() for row in range(2)]
+    assert states == ["cannot be read as campus calendar", "cannot be read"]
+    screen.file_table.selectRow(0)
+    summary = screen.view.summary.text()
+    assert "looks like campus calendar" in summary and "Kind" in summary
+    assert "What is this file? Choose its kind under 'What it is'" in summary
+    kind = screen.file_table.cellWidget(0, 1)
+    offered = [kind.itemData(i) for i in range(kind.count())]
+    assert offered == [None, "meters", "bills", "weather", "calendar"]
+    screen.file_table.selectRow(1)
+    assert "no table of dates and figures" in screen.view.summary.text()
+
+    kind.set_value("meters")  # the user says what it is; it is read again as that
+    kind.activated.emit(kind.currentIndex())
+    wait_until_idle(qtbot, screen)
+    assert screen.file_table.item(0, 2).text() == "cannot be read as meter readings"
+    screen.file_table.selectRow(0)
+    assert "as you said it is" in screen.view.summary.text()
+    screen.create_project_at(tmp_path / "never")
+    assert screen.notice.tone == "problem" and "terms.csv" in screen.notice.text.text()
+    assert [p.name for p in tmp_path.iterdir()] == ["terms.csv"]  # nothing half-created
+    assert "Traceback" not in capfd.readouterr().err
+    save_screen(screen, "files-unclassified")
