@@ -13,27 +13,23 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 import pytest
-from desktop_support import ROOT, SITE_ZONE, save_screen, short_sample_project, wait_until_idle
+from desktop_support import (
+    FITTED_METERS,
+    RATE_CARD,
+    SITE_ZONE,
+    fitted_campus,
+    save_screen,
+    wait_until_idle,
+)
 
 from desktop.budget_jobs import period_months
 from desktop.budget_screen import BudgetScreen
 from desktop.budget_table import ROW_ROLE
 from desktop.session import Session
-from engine.modelling import fit_meter
 from engine.project import Project
 
-RATE_CARD = ROOT / "sample" / "tariffs" / "orrinvale-main-electric.ratecard.toml"
-METERS = ("Library", "Science Labs")
+METERS = FITTED_METERS
 PATHS = 200
-
-
-def fitted_campus(path: Path) -> Path:
-    """Two sample meters from June 2025, each with a quickly fitted daily change-point model."""
-    short_sample_project(path, meters=len(METERS))
-    with Project.open(path) as project:
-        for name in METERS:
-            fit_meter(project, name, families=["daily_change_point"], origins=3)
-    return path
 
 
 @pytest.fixture(scope="module")
