@@ -27,8 +27,8 @@ from engine.export.finance_workbook import SHEETS, write_finance_workbook
 from engine.progress import Progress
 
 NO_BUDGET = (
-    "No budget has been run yet in this window. Run one on the Budget step; the workbook "
-    "is written from it."
+    "The open project keeps no budget yet. Run one on the Budget step; the workbook is "
+    "written from it."
 )
 
 

@@ -6,6 +6,7 @@ These plain dataclasses are the contract between the budget engine, the command 
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -24,6 +25,10 @@ class Spread:
 
     def to_json(self) -> dict[str, Any]:
         return {"mean": self.mean, "quantiles": dict(self.quantiles)}
+
+    @classmethod
+    def from_json(cls, data: Mapping[str, Any]) -> Spread:
+        return cls(mean=data["mean"], quantiles=dict(data["quantiles"]))
 
 
 @dataclass(frozen=True)
@@ -50,6 +55,15 @@ class PeriodTotal:
             out["cost"] = self.cost.to_json()
         return out
 
+    @classmethod
+    def from_json(cls, data: Mapping[str, Any]) -> PeriodTotal:
+        return cls(
+            period=data["month"] if "month" in data else data["period"],
+            actual_to_date=data["actual_to_date"],
+            energy=Spread.from_json(data),
+            cost=Spread.from_json(data["cost"]) if "cost" in data else None,
+        )
+
 
 @dataclass
 class MeterBudget:
@@ -74,6 +88,26 @@ class MeterBudget:
             "total": self.total.to_json(),
         }
 
+    @classmethod
+    def from_json(
+        cls,
+        data: Mapping[str, Any],
+        daily: pd.DataFrame | None = None,
+        scores: Mapping[str, Any] | None = None,
+    ) -> MeterBudget:
+        """The meter's budget from :meth:`to_json`, with the daily detail and scores that the
+        JSON leaves out (an empty daily table when not given)."""
+        return cls(
+            name=data["name"],
+            utility=data["utility"],
+            model=data["model"],
+            months=[PeriodTotal.from_json(m) for m in data["months"]],
+            total=PeriodTotal.from_json(data["total"]),
+            daily=pd.DataFrame() if daily is None else daily,
+            unit=data["unit"],
+            scores=dict(scores or {}),
+        )
+
 
 @dataclass
 class RollUp:
@@ -93,6 +127,16 @@ class RollUp:
             "months": [m.to_json() for m in self.months],
             "total": self.total.to_json(),
         }
+
+    @classmethod
+    def from_json(cls, data: Mapping[str, Any]) -> RollUp:
+        return cls(
+            group=data["group"],
+            meters=list(data["meters"]),
+            months=[PeriodTotal.from_json(m) for m in data["months"]],
+            total=PeriodTotal.from_json(data["total"]),
+            unit=data["unit"],
+        )
 
 
 @dataclass
@@ -138,6 +182,11 @@ class Calibration:
             "summary": self.sentence(),
         }
 
+    @classmethod
+    def from_json(cls, data: Mapping[str, Any]) -> Calibration:
+        low, high = data["levels"]
+        return cls(low, high, data["held"], data["tried"], data["scale"], data["method"])
+
 
 @dataclass
 class BudgetRun:
@@ -175,3 +224,32 @@ class BudgetRun:
             "assumptions": self.assumptions,
             "cautions": list(self.cautions),
         }
+
+    @classmethod
+    def from_json(
+        cls,
+        data: Mapping[str, Any],
+        daily: Mapping[str, pd.DataFrame] | None = None,
+        scores: Mapping[str, Mapping[str, Any]] | None = None,
+    ) -> BudgetRun:
+        """The run from :meth:`to_json`, with each meter's daily detail and scores by name."""
+        daily, scores = daily or {}, scores or {}
+        return cls(
+            start=data["start"],
+            months=list(data["months"]),
+            as_of=data["as_of"],
+            weather=data["weather"],
+            levels=list(data["levels"]),
+            paths=data["paths"],
+            meters=[
+                MeterBudget.from_json(m, daily.get(m["name"]), scores.get(m["name"]))
+                for m in data["meters"]
+            ],
+            utilities=[RollUp.from_json(u) for u in data["utilities"]],
+            campus=RollUp.from_json(data["campus"]) if data["campus"] else None,
+            calibration={k: Calibration.from_json(v) for k, v in data["calibration"].items()},
+            currency=data["currency"],
+            tariff=data["tariff"],
+            assumptions=dict(data["assumptions"]),
+            cautions=list(data["cautions"]),
+        )

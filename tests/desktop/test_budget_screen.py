@@ -7,6 +7,7 @@ chosen by the engine's fit wizard beforehand; the sample's invented rate card pr
 
 from __future__ import annotations
 
+import shutil
 from datetime import date
 from pathlib import Path
 
@@ -33,21 +34,38 @@ PATHS = 200
 
 
 @pytest.fixture(scope="module")
-def campus(tmp_path_factory) -> Path:
-    return fitted_campus(tmp_path_factory.mktemp("budget") / f"campus{Project.EXTENSION}")
+def unbudgeted(tmp_path_factory) -> Path:
+    """The fitted campus before any budget: copied for tests that need a project without one."""
+    return fitted_campus(tmp_path_factory.mktemp("budget") / f"fitted{Project.EXTENSION}")
 
 
-@pytest.fixture
-def screen(qtbot, campus):
+@pytest.fixture(scope="module")
+def campus(unbudgeted, tmp_path_factory) -> Path:
+    """The project the tests of this module budget one after another."""
+    return Path(shutil.copy(unbudgeted, tmp_path_factory.mktemp("budget") / unbudgeted.name))
+
+
+def _screen_on(qtbot, path: Path):
     session = Session()
     widget = BudgetScreen(session)
     qtbot.addWidget(widget)
     widget.resize(1400, 900)
     widget.show()
-    session.open(Project.open(campus))
+    session.open(Project.open(path))
     wait_until_idle(qtbot, widget)  # the as-of date is looked up on a worker
     yield widget
     session.close()
+
+
+@pytest.fixture
+def screen(qtbot, campus):
+    yield from _screen_on(qtbot, campus)
+
+
+@pytest.fixture
+def fresh_screen(qtbot, unbudgeted, tmp_path):
+    """The screen on a copy of the fitted campus that keeps no budget yet."""
+    yield from _screen_on(qtbot, Path(shutil.copy(unbudgeted, tmp_path)))
 
 
 def _stored_budgets(path: Path) -> list[dict]:
@@ -134,13 +152,13 @@ def test_a_bad_tariff_file_is_named_in_a_message(qtbot, screen, campus, tmp_path
     bad = tmp_path / "north-campus.ratecard.toml"
     bad.write_text("ratecard_format = 1\nname = [unclosed\n", encoding="utf-8")
     screen.form.tariff.path.setText(str(bad))
-    kept_before = len(_stored_budgets(campus))
+    kept_before, shown = len(_stored_budgets(campus)), screen.budget
     _run(qtbot, screen)
     assert screen.notice.tone == "problem"
     words = screen.notice.text.text()
     assert "north-campus.ratecard.toml" in words and "TOML" in words
     assert "Traceback" not in words and not screen.notice.details_button.isVisible()
-    assert screen.budget is None and len(_stored_budgets(campus)) == kept_before
+    assert screen.budget is shown and len(_stored_budgets(campus)) == kept_before
 
 
 def test_a_weather_file_must_be_chosen(qtbot, screen):
@@ -149,20 +167,22 @@ def test_a_weather_file_must_be_chosen(qtbot, screen):
     assert screen.notice.tone == "problem" and "no file is chosen" in screen.notice.text.text()
 
 
-def test_cancel_stops_a_running_budget(qtbot, screen, campus):
+def test_cancel_stops_a_running_budget(qtbot, fresh_screen):
+    screen = fresh_screen
     screen.form.paths.setValue(PATHS)
-    kept_before = len(_stored_budgets(campus))
+    project = screen.session.project.path
+    kept_before = len(_stored_budgets(project))
     screen.run()
     screen.task.progressed.connect(lambda *_: screen.task_bar.cancel_button.click())
     wait_until_idle(qtbot, screen)
     assert screen.notice.tone == "info" and "Stopped budgeting" in screen.notice.text.text()
     assert screen.budget is None and "Stopped before" in screen.plot.note.text()
-    assert len(_stored_budgets(campus)) == kept_before
+    assert len(_stored_budgets(project)) == kept_before
     assert screen.budget_button.isEnabled()
 
 
-def test_period_choices_follow_the_as_of_date(screen):
-    form = screen.form
+def test_period_choices_follow_the_as_of_date(fresh_screen):
+    form = fresh_screen.form
     form.set_as_of(date(2026, 10, 31))
     assert period_months(form.choices()) == ["2026-11"]  # next month
     # A fiscal year is named by the calendar year it ends in (common practice in US
