@@ -217,7 +217,7 @@ class ImportPlan:
         calendars = [p.path.name for p in self.files if isinstance(p.result, CalendarFile)]
         if len(calendars) > 1:
             return (
-                f"{' and '.join(calendars)} are all campus calendars; a project keeps one. "
+                f"{' and '.join(calendars)} are each a campus calendar; a project keeps one. "
                 "Remove all but one, or say what the others are."
             )
         return None
