@@ -6,7 +6,7 @@ from __future__ import annotations
 from datetime import date
 
 import pytest
-from desktop_support import FITTED_METERS, RATE_CARD, fitted_campus, wait_until_idle
+from desktop_support import FITTED_METERS, RATE_CARD, fitted_campus, save_screen, wait_until_idle
 from python_calamine import CalamineWorkbook
 
 from desktop.main_window import MainWindow
@@ -91,6 +91,8 @@ def test_the_kept_budget_and_the_form_come_back_with_the_project(qtbot, open_win
     assert screen.table.titles()[0] == f"Campus ({len(FITTED_METERS)} meters)"
     assert screen.plot.showing_plot
     assert screen.form.choices() == chosen
+    again.show_step("Budget")
+    save_screen(again, "budget-reopened")
     # The Export step writes the kept budget: the same workbook, cell for cell.
     _write(qtbot, again, tmp_path / "after-reopening.xlsx")
     assert _cells(tmp_path / "after-reopening.xlsx") == _cells(tmp_path / "as-run.xlsx")
