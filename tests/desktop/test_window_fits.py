@@ -65,6 +65,11 @@ def test_every_step_fits_a_laptop_screen(qtbot, window, tmp_path):
         assert hint.width() <= LAPTOP[0] and hint.height() <= LAPTOP[1], (name, hint)
         assert window.size().toTuple() == LAPTOP, name
         assert window.grab().save(str(SHOTS / f"{number}-{name.lower()}.png"))
+    # A fiscal year's twelve months: every third is always labelled, the others where they fit.
+    run = window.budget_screen.budget.run
+    always, where_room = window.budget_screen.plot.month_labels
+    assert [label for _, label in always] == run.months[::3]
+    assert sorted(always + where_room) == [(float(i), m) for i, m in enumerate(run.months)]
     # The model families wrap onto rows inside the picker: each box whole, none on another.
     window.show_step("Models")
     picker = window.models_screen.families
