@@ -187,6 +187,24 @@ class BudgetForm(QWidget):
     def _show_weather_file(self) -> None:
         self.weather_file.setEnabled(self.weather.value() == WEATHER_FILE)
 
+    def show_choices(self, choices: BudgetChoices) -> None:
+        """Fill the controls with ``choices`` (as-of date and fiscal start first: changing
+        them resets the period fields to their defaults)."""
+        day = choices.as_of
+        self.as_of.setDate(QDate(day.year, day.month, day.day))
+        self.fiscal_start.set_value(choices.fiscal_start_month)
+        self.period.set_value(choices.period)
+        year, month = (int(part) for part in choices.start.split("-"))
+        self.start.setDate(QDate(year, month, 1))
+        self.months.setValue(choices.months)
+        self.fiscal_year.setValue(choices.fiscal_year)
+        self.quarter.setValue(choices.quarter)
+        self.weather.set_value(choices.weather)
+        self.weather_file.path.setText(choices.weather_file)
+        self.tariff.path.setText(choices.tariff_file)
+        self.paths.setValue(choices.paths)
+        self.scheduler.setText(choices.scheduler)
+
     # -- reading ----------------------------------------------------------------------------
 
     def choices(self) -> BudgetChoices:

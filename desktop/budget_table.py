@@ -61,6 +61,7 @@ class BudgetTable(QWidget):
 
     def clear(self) -> None:
         self.table.clear()
+        self.table.clearSpans()
         self.table.setRowCount(0)
         self.table.setColumnCount(0)
         self.headers = []
@@ -72,6 +73,7 @@ class BudgetTable(QWidget):
         items = budgeted(run)
         rows = sum(len(item.months) + 2 for item in items)
         self.table.clear()
+        self.table.clearSpans()  # clear() keeps the heading spans of the run shown before
         self.table.setColumnCount(len(self.headers))
         self.table.setHorizontalHeaderLabels(self.headers)
         self.table.setRowCount(rows)

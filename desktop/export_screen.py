@@ -28,8 +28,8 @@ from engine.progress import Progress
 
 WORKBOOK_NAME = "finance-budget.xlsx"
 NO_BUDGET = (
-    "No budget has been run yet in this window. Run one on the Budget step; the workbook "
-    "is written from it."
+    "The open project keeps no budget yet. Run one on the Budget step; the workbook is "
+    "written from it."
 )
 
 

@@ -23,7 +23,7 @@ from engine.budget import (
 )
 from engine.budget.refits import CALIBRATION_MONTHS, ERROR_MONTHS
 from engine.budget.summary import check_levels
-from engine.errors import InputError
+from engine.errors import InputError, ProjectError
 from engine.kept_models import (
     chosen_scores,
     job_key,
@@ -135,9 +135,63 @@ def budget_request(
     )
 
 
-def keep_budget(project: Project, run: BudgetRun) -> int:
-    """Store the run's summary in the project file; returns its result id."""
-    return project.add_result("budget", None, f"budget from {run.months[0]}", run.to_json())
+def keep_budget(project: Project, budget: ProjectBudget) -> int:
+    """Store the run in the project file; returns its result id.
+
+    The body is the run's JSON (what ``budget --json`` prints) plus, under ``"detail"``, what
+    the finance workbook needs beside it (each meter's daily figures and scores, the data
+    quality, cleaning steps, scorecards and data ranges), so that :func:`latest_budget` gives
+    back the budget as it was run.
+    """
+    run = budget.run
+    detail = {
+        "daily": {m.name: _daily_json(m.daily) for m in run.meters},
+        "scores": {m.name: m.scores for m in run.meters},
+        "quality": budget.quality,
+        "steps": budget.steps,
+        "scorecards": budget.scorecards,
+        "data_range": {name: list(span) for name, span in budget.data_range.items()},
+    }
+    body = {**run.to_json(), "detail": detail}
+    return project.add_result("budget", None, f"budget from {run.months[0]}", body)
+
+
+def latest_budget(project: Project) -> ProjectBudget | None:
+    """The budget kept last in the project, as it was run; None when it keeps none.
+
+    A budget kept before the detail was kept comes back without daily figures, data quality
+    or scorecards (the workbook then says so on those sheets).
+    """
+    kept = project.results("budget")
+    if not kept:
+        return None
+    body = max(kept, key=lambda result: result["id"])["body"]
+    try:
+        detail = body.get("detail", {})
+        daily = {name: _daily_frame(table) for name, table in detail.get("daily", {}).items()}
+        return ProjectBudget(
+            run=BudgetRun.from_json(body, daily, detail.get("scores")),
+            quality=detail.get("quality", {}),
+            steps=detail.get("steps", []),
+            scorecards=detail.get("scorecards", {}),
+            data_range={name: tuple(span) for name, span in detail.get("data_range", {}).items()},
+        )
+    except (AttributeError, KeyError, TypeError, ValueError) as error:
+        raise ProjectError(
+            f"the budget kept in {project.path.name} cannot be read ({error!r}); "
+            "budget again to replace it."
+        ) from error
+
+
+def _daily_json(daily: pd.DataFrame) -> dict:
+    """A meter's daily figures (naive local days) as JSON: the days and each column."""
+    days = [day.date().isoformat() for day in daily.index]
+    return {"days": days, "figures": {str(c): daily[c].tolist() for c in daily.columns}}
+
+
+def _daily_frame(table: dict) -> pd.DataFrame:
+    index = pd.DatetimeIndex(pd.to_datetime(table["days"]), name="day")
+    return pd.DataFrame(table["figures"], index=index)
 
 
 def last_reading_day(project: Project) -> date:

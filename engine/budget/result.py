@@ -7,6 +7,7 @@ These plain dataclasses are the contract between the budget engine, the command 
 from __future__ import annotations
 
 import math
+from collections.abc import Mapping
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -25,6 +26,10 @@ class Spread:
 
     def to_json(self) -> dict[str, Any]:
         return {"mean": self.mean, "quantiles": dict(self.quantiles)}
+
+    @classmethod
+    def from_json(cls, data: Mapping[str, Any]) -> Spread:
+        return cls(mean=data["mean"], quantiles=dict(data["quantiles"]))
 
 
 @dataclass(frozen=True)
@@ -51,6 +56,15 @@ class PeriodTotal:
             out["cost"] = self.cost.to_json()
         return out
 
+    @classmethod
+    def from_json(cls, data: Mapping[str, Any]) -> PeriodTotal:
+        return cls(
+            period=data["month"] if "month" in data else data["period"],
+            actual_to_date=data["actual_to_date"],
+            energy=Spread.from_json(data),
+            cost=Spread.from_json(data["cost"]) if "cost" in data else None,
+        )
+
 
 @dataclass
 class MeterBudget:
@@ -75,6 +89,26 @@ class MeterBudget:
             "total": self.total.to_json(),
         }
 
+    @classmethod
+    def from_json(
+        cls,
+        data: Mapping[str, Any],
+        daily: pd.DataFrame | None = None,
+        scores: Mapping[str, Any] | None = None,
+    ) -> MeterBudget:
+        """The meter's budget from :meth:`to_json`, with the daily detail and scores that the
+        JSON leaves out (an empty daily table when not given)."""
+        return cls(
+            name=data["name"],
+            utility=data["utility"],
+            model=data["model"],
+            months=[PeriodTotal.from_json(m) for m in data["months"]],
+            total=PeriodTotal.from_json(data["total"]),
+            daily=pd.DataFrame() if daily is None else daily,
+            unit=data["unit"],
+            scores=dict(scores or {}),
+        )
+
 
 @dataclass
 class RollUp:
@@ -94,6 +128,16 @@ class RollUp:
             "months": [m.to_json() for m in self.months],
             "total": self.total.to_json(),
         }
+
+    @classmethod
+    def from_json(cls, data: Mapping[str, Any]) -> RollUp:
+        return cls(
+            group=data["group"],
+            meters=list(data["meters"]),
+            months=[PeriodTotal.from_json(m) for m in data["months"]],
+            total=PeriodTotal.from_json(data["total"]),
+            unit=data["unit"],
+        )
 
 
 @dataclass(frozen=True)
@@ -190,9 +234,38 @@ class Calibration:
             "skill_vs_seasonal_naive": _skill_json(self.vs_seasonal_naive),
         }
 
+    @classmethod
+    def from_json(cls, data: Mapping[str, Any]) -> Calibration:
+        low, high = data["levels"]
+        return cls(
+            low,
+            high,
+            data["held"],
+            data["tried"],
+            data["scale"],
+            data["method"],
+            _skill_from_json(data.get("skill_vs_last_year")),
+            _skill_from_json(data.get("skill_vs_seasonal_naive")),
+        )
+
 
 def _skill_json(skill: Skill | None) -> dict[str, Any] | None:
     return None if skill is None else skill.to_json()
+
+
+def _skill_from_json(data: Mapping[str, Any] | None) -> Skill | None:
+    """A :class:`Skill` from :meth:`Skill.to_json` (budgets kept before it was added: None)."""
+    if data is None:
+        return None
+    unknown = float("nan")
+    p50 = data["p50_mape"]
+    baseline = data["baseline_mape"]
+    return Skill(
+        data["baseline"],
+        data["months"],
+        unknown if p50 is None else p50,
+        unknown if baseline is None else baseline,
+    )
 
 
 @dataclass
@@ -231,3 +304,32 @@ class BudgetRun:
             "assumptions": self.assumptions,
             "cautions": list(self.cautions),
         }
+
+    @classmethod
+    def from_json(
+        cls,
+        data: Mapping[str, Any],
+        daily: Mapping[str, pd.DataFrame] | None = None,
+        scores: Mapping[str, Mapping[str, Any]] | None = None,
+    ) -> BudgetRun:
+        """The run from :meth:`to_json`, with each meter's daily detail and scores by name."""
+        daily, scores = daily or {}, scores or {}
+        return cls(
+            start=data["start"],
+            months=list(data["months"]),
+            as_of=data["as_of"],
+            weather=data["weather"],
+            levels=list(data["levels"]),
+            paths=data["paths"],
+            meters=[
+                MeterBudget.from_json(m, daily.get(m["name"]), scores.get(m["name"]))
+                for m in data["meters"]
+            ],
+            utilities=[RollUp.from_json(u) for u in data["utilities"]],
+            campus=RollUp.from_json(data["campus"]) if data["campus"] else None,
+            calibration={k: Calibration.from_json(v) for k, v in data["calibration"].items()},
+            currency=data["currency"],
+            tariff=data["tariff"],
+            assumptions=dict(data["assumptions"]),
+            cautions=list(data["cautions"]),
+        )

@@ -165,7 +165,7 @@ def budget(args: argparse.Namespace) -> int:
 def _budget_report(args: argparse.Namespace, project: Project) -> int:
     request = request_from_args(args, project)
     outcome = budget_project(project, request, **_parallel(args))
-    keep_budget(project, outcome.run)
+    keep_budget(project, outcome)
     report = outcome.run.to_json()
     if args.xlsx:
         written = write_finance_workbook(
