@@ -340,3 +340,4 @@ def test_past_budgets_carry_last_years_total_and_the_last_week_repeated(
     calibration = past.calibration(next(iter(campus.inputs)))
     assert calibration.vs_last_year.months == calibration.tried
     assert calibration.to_json()["skill_vs_last_year"]["baseline"] == LAST_YEAR
+    assert Calibration.from_json(calibration.to_json()) == calibration  # kept with budgets
