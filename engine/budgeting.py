@@ -83,6 +83,9 @@ class ProjectBudget:
     steps: list[dict]
     scorecards: dict[str, dict]
     data_range: dict[str, tuple[str, str]]
+    #: The past month-ahead budgets that checked the ranges (:class:`BudgetBacktest` pairs);
+    #: None for a budget read back from the project.
+    past_budgets: pd.DataFrame | None = None
 
 
 def budget_request(
@@ -291,6 +294,7 @@ def budget_project(
         steps=[s for name in names for s in site.meter(name).steps],
         scorecards=scorecards,
         data_range={name: _range(histories[name]) for name in names},
+        past_budgets=past.pairs,
     )
 
 
