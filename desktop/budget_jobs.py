@@ -15,7 +15,7 @@ from datetime import date
 from engine.budget import budget_months
 from engine.budget.summary import PEAK_CAUTION
 from engine.budgeting import (
-    WEATHER_CHOICES,
+    DEFAULT_WEATHER,
     BudgetRequest,
     ProjectBudget,
     budget_project,
@@ -64,7 +64,7 @@ class BudgetChoices:
     fiscal_year: int = 0
     quarter: int = 1
     fiscal_start_month: int = DEFAULT_FISCAL_START
-    weather: str = WEATHER_CHOICES[0]
+    weather: str = DEFAULT_WEATHER
     weather_file: str = ""
     tariff_file: str = ""
     paths: int = DEFAULT_PATHS

@@ -14,6 +14,7 @@ import traceback
 from collections.abc import Sequence
 
 from engine import __version__
+from engine.budgeting import DEFAULT_WEATHER
 from engine.cli import commands
 from engine.errors import InputError, ProjectError
 from engine.wizard import DEFAULT_ORIGINS
@@ -116,7 +117,7 @@ def build_parser() -> argparse.ArgumentParser:
     )
     budget.add_argument(
         "--weather",
-        default="past-years",
+        default=DEFAULT_WEATHER,
         metavar="past-years|typical|FILE",
         help="weather assumption: typical weather plus past days' departures from it, drawn "
         "per path (default), typical weather for every path, or a temperature file",

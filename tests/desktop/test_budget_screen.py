@@ -240,3 +240,23 @@ def test_a_second_budget_of_another_length_fills_every_row(qtbot, screen):
         for period in [*rollup.months, rollup.total]:
             shown = table.value(rollup.group, period.period, p50)
             assert shown == period.energy.quantiles["50"]
+    # Actual to date: what the readings hold for months begun by the as-of date (2026-10-15),
+    # nothing (not 0) for the months after it.
+    actual = next(h for h in table.headers if h.startswith("actual to date"))
+    for period in run.campus.months:
+        shown = table.value(run.campus.group, period.period, actual)
+        if period.period <= "2026-10":
+            assert shown == period.actual_to_date and shown > 0
+        else:
+            assert shown is None or np.isnan(shown), period.period
+
+
+def test_the_weather_default_is_the_command_lines_and_says_why(fresh_screen):
+    # One default for one question: a new project's form asks for the weather assumption the
+    # command line assumes when --weather is not given, and says why in a visible sentence.
+    from engine.cli.main import build_parser
+
+    command_line = build_parser().parse_args(["budget", "p.loadledger", "--start", "2026-11"])
+    assert fresh_screen.form.choices().weather == command_line.weather == "past-years"
+    note = fresh_screen.form.weather_note
+    assert note.isVisible() and "default" in note.text() and "past years" in note.text()
