@@ -118,7 +118,11 @@ class ExportScreen(TaskScreen):
             self, "workbooks", "Write finance workbook", "Excel workbooks (*.xlsx)", WORKBOOK_NAME
         )
         if answer is not None:
-            self.write_to(answer[0])
+            path = answer[0]
+            # A name typed without the extension gets it, as a save dialog's filter promises.
+            if path.suffix.lower() != ".xlsx":
+                path = path.with_name(path.name + ".xlsx")
+            self.write_to(path)
 
     def write_to(self, path: Path) -> None:
         """Write the budget to ``path`` (.xlsx) on a worker."""
