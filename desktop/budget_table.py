@@ -20,6 +20,7 @@ from PySide6.QtWidgets import (
 
 from desktop.number_cells import number_cell
 from desktop.understood_view import NUMBER_ROLE
+from desktop.wording import counted
 from engine.budget.result import BudgetRun
 from engine.export.finance_tables import TOTAL_LABEL, Budgeted, budgeted, figure_columns
 
@@ -34,7 +35,7 @@ def item_title(item: Budgeted) -> str:
         return f"{item.name} (meter)"
     if item.scope == "campus":
         return f"Campus ({item.meters} meters)"
-    return f"{item.name} (roll-up of {item.meters} meter{'s' * (item.meters > 1)})"
+    return f"{item.name} (roll-up of {counted(item.meters, 'meter')})"
 
 
 def _bold(cell: QTableWidgetItem) -> None:

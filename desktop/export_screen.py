@@ -22,6 +22,7 @@ from PySide6.QtWidgets import (
 from desktop.budget_jobs import period_words
 from desktop.file_dialogs import ask_save_path
 from desktop.task_screen import TaskScreen
+from desktop.wording import counted
 from engine.budgeting import ProjectBudget
 from engine.export.finance_workbook import SHEETS, write_finance_workbook
 from engine.progress import Progress
@@ -52,7 +53,7 @@ def budget_words(budget: ProjectBudget) -> str:
     meters = len(run.meters)
     return (
         f"Budget {period_words(budget)}, readings up to {run.as_of}, "
-        f"{meters} meter{'s' * (meters != 1)}, {run.paths:,} paths"
+        f"{counted(meters, 'meter')}, {run.paths:,} paths"
         + (f", costs under {run.tariff}." if run.tariff else ", energy only (no tariff).")
     )
 

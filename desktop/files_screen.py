@@ -41,6 +41,7 @@ from desktop.reading_form import ReadingForm
 from desktop.session import Session
 from desktop.task_bar import TaskBar
 from desktop.understood_view import KIND_WORDS, UnderstoodView
+from desktop.wording import counted
 from desktop.workers import SHUTDOWN_SECONDS, Failure, Task
 from engine.calendar_edit import current as current_calendar
 from engine.errors import InputError
@@ -62,12 +63,12 @@ def _state_words(planned: PlannedFile, reading: bool) -> str:
     report = planned.report
     if report["kind"] == "meters":
         count = len(report["meters"])
-        return f"read: {count} meter{'s' * (count != 1)}"
+        return f"read: {counted(count, 'meter')}"
     if report["kind"] == "bills":
         return f"read: {report['periods']} bills"
     if report["kind"] == "calendar":
         count = len(report["periods"])
-        return f"read: {count} campus period{'s' * (count != 1)}"
+        return f"read: {counted(count, 'campus period')}"
     return f"read: {report['count']:,} temperatures"
 
 

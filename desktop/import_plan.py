@@ -12,6 +12,7 @@ from collections.abc import Callable, Iterable, Sequence
 from dataclasses import dataclass, field, replace
 from pathlib import Path
 
+from desktop.wording import counted
 from engine.errors import InputError
 from engine.importing import ImportedFiles, assemble_project, store_files
 from engine.progress import Progress, step
@@ -328,11 +329,11 @@ def stored_summary(bundles: Sequence[ImportedFiles]) -> str:
     bills = sum(len(b.bills) for b in bundles)
     weather = sum(len(b.weather) for b in bundles)
     periods = sum(len(b.calendar.calendar.periods) for b in bundles if b.calendar)
-    parts = [f"{meters} meter{'s' * (meters != 1)}"]
+    parts = [f"{counted(meters, 'meter')}"]
     if bills:
-        parts.append(f"{bills} bill file{'s' * (bills != 1)}")
+        parts.append(f"{counted(bills, 'bill file')}")
     if weather:
-        parts.append(f"{weather} weather file{'s' * (weather != 1)}")
+        parts.append(f"{counted(weather, 'weather file')}")
     if any(b.calendar for b in bundles):
-        parts.append(f"the campus calendar ({periods} period{'s' * (periods != 1)})")
+        parts.append(f"the campus calendar ({counted(periods, 'period')})")
     return ", ".join(parts)

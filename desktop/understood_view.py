@@ -23,6 +23,8 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from desktop.wording import counted
+
 #: Data role holding a cell's number as the engine gave it (the text is rounded for reading).
 NUMBER_ROLE = Qt.ItemDataRole.UserRole
 ROWS_SHOWN = 8
@@ -142,7 +144,7 @@ def _summary(report: dict) -> str:
 def _calendar_words(report: dict) -> str:
     """How many periods and public holidays, and whose holidays they are."""
     periods, holidays = len(report["periods"]), len(report["public_holidays"])
-    words = f"{periods} campus period{'s' * (periods != 1)}"
+    words = f"{counted(periods, 'campus period')}"
     if report["country"] is None:
         return f"{words}; no public holidays (choose the country above to add them)."
     place = "-".join(filter(None, (report["country"], report["subdivision"])))
