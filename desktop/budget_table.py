@@ -30,12 +30,16 @@ ROW_ROLE = Qt.ItemDataRole.UserRole + 2
 
 
 def item_title(item: Budgeted) -> str:
-    """How a budgeted thing is named on screen, e.g. "electricity (roll-up of 2 meters)"."""
+    """How a budgeted thing is named on screen, e.g. "natural gas (roll-up of 2 meters)".
+
+    The campus row adds every utility's energy in kWh (thermal kWh for gas and chilled
+    water), and says so.
+    """
     if item.scope == "meter":
         return f"{item.name} (meter)"
     if item.scope == "campus":
-        return f"Campus ({item.meters} meters)"
-    return f"{item.name} (roll-up of {counted(item.meters, 'meter')})"
+        return f"Campus, all utilities added ({counted(item.meters, 'meter')})"
+    return f"{item.name.replace('_', ' ')} (roll-up of {counted(item.meters, 'meter')})"
 
 
 def _bold(cell: QTableWidgetItem) -> None:

@@ -106,7 +106,10 @@ def test_the_table_shows_the_run_the_project_keeps(qtbot, screen, campus):
             shown = table.value(meter["name"], month["month"], p50)
             assert shown == month["quantiles"]["50"]
     campus_run = run["campus"]
-    assert table.titles()[:2] == ["Campus (2 meters)", "electricity (roll-up of 2 meters)"]
+    assert table.titles()[:2] == [
+        "Campus, all utilities added (2 meters)",
+        "electricity (roll-up of 2 meters)",
+    ]
     november = campus_run["months"][1]
     assert table.value("campus", "2026-11", p50) == november["quantiles"]["50"]
     # The campus is summed path by path, so its mean is the sum of the meters' means
@@ -123,7 +126,7 @@ def test_the_table_shows_the_run_the_project_keeps(qtbot, screen, campus):
     to_date = whole[(local >= "2026-10-01") & (local < "2026-10-16")].sum()
     actual = next(h for h in table.headers if h.startswith("actual to date"))
     assert table.value("Library", "2026-10", actual) == pytest.approx(to_date, rel=1e-9)
-    assert table.value("Library", "2026-11", actual) == 0.0
+    assert np.isnan(table.value("Library", "2026-11", actual))  # not begun: blank, not 0
 
     # Costs under the rate card, ordered like the energy figures.
     costs = [table.value("campus", "total", h) for h in table.headers if h.startswith("cost P")]
@@ -131,7 +134,7 @@ def test_the_table_shows_the_run_the_project_keeps(qtbot, screen, campus):
 
     # The plot draws the campus's monthly P50 and its P10–P90 range (in MWh).
     plot = screen.plot
-    assert plot.pick.value() == "Campus (2 meters)" and plot.showing_plot
+    assert plot.pick.value() == "Campus, all utilities added (2 meters)" and plot.showing_plot
     medians = [m["quantiles"]["50"] for m in campus_run["months"]]
     np.testing.assert_allclose(plot.drawn_median(), medians, rtol=1e-12)
     low = np.asarray(plot.ranges.opts["y0"]) * 1000.0
@@ -260,3 +263,13 @@ def test_the_weather_default_is_the_command_lines_and_says_why(fresh_screen):
     assert fresh_screen.form.choices().weather == command_line.weather == "past-years"
     note = fresh_screen.form.weather_note
     assert note.isVisible() and "default" in note.text() and "past years" in note.text()
+
+
+def test_utility_keys_read_as_words_and_the_campus_says_it_adds_utilities():
+    from desktop.budget_table import item_title
+    from engine.export.finance_tables import Budgeted
+
+    gas = Budgeted("utility", "natural_gas", 2, [], None)
+    campus = Budgeted("campus", "campus", 1, [], None)
+    assert item_title(gas) == "natural gas (roll-up of 2 meters)"
+    assert item_title(campus) == "Campus, all utilities added (1 meter)"
