@@ -199,11 +199,10 @@ def _contributions(outcome) -> list[dict]:
 
 
 def _explanation(model) -> list[dict]:
-    """The chosen model's coefficients in physical units, where the family gives them."""
-    table = getattr(model, "coefficients_table", None)
-    if table is None:
+    """The chosen model's statements: its effects in physical units, or how it forecasts."""
+    if model is None:
         return []
-    return json.loads(table().to_json(orient="records"))
+    return json.loads(model.coefficients_table().to_json(orient="records"))
 
 
 def _meters(project: Project, only: str | None) -> list[str]:
