@@ -125,6 +125,15 @@ class DailyChangePointModel(DayTotalsModel):
                 rows.append((f"{group}: mean day", mean, "kWh per day",
                              f"{group} use {mean:,.0f} kWh per day on average"))  # fmt: skip
                 continue
+            if model.kind == "2P":  # a straight line: no change point, level at 0 °C
+                slope = model.cooling_slope_ - model.heating_slope_
+                rows += [
+                    (f"{group}: use at 0 °C", model.intercept_, "kWh per day",
+                     f"{group} use {model.intercept_:,.0f} kWh per day at a daily mean of 0 °C"),
+                    (f"{group}: temperature", slope, "kWh per day per °C",
+                     f"on {group}, each °C warmer changes use by {slope:+,.1f} kWh per day"),
+                ]  # fmt: skip
+                continue
             rows.append(
                 (
                     f"{group}: base load",

@@ -245,3 +245,14 @@ def test_the_statements_give_each_groups_known_slopes_and_change_points(model):
     heating = table.loc["weekdays: heating", "meaning"]
     point = model.change_point_models_["weekday"].change_points_[0]
     assert f"below {point:.1f} °C" in heating and "kWh per day" in heating
+
+
+def test_a_straight_line_is_stated_at_0_degrees_with_its_slope(library):
+    line = DailyChangePointModel(kind="2P", split_day_groups=False).fit(library[0])
+    fitted = line.change_point_models_["all_days"]
+    table = line.coefficients_table().set_index("term")
+    assert table.loc["all days: use at 0 °C", "value"] == fitted.intercept_
+    slope = fitted.cooling_slope_ - fitted.heating_slope_
+    assert table.loc["all days: temperature", "value"] == pytest.approx(slope)
+    # The library heats more than it cools over the year: the line falls as it warms.
+    assert slope < 0
