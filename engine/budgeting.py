@@ -5,7 +5,7 @@ rolling month-ahead budgets, the simulated run, and everything the finance workb
 from __future__ import annotations
 
 from collections.abc import Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from datetime import date
 from pathlib import Path
 
@@ -23,6 +23,7 @@ from engine.budget import (
 )
 from engine.budget.refits import CALIBRATION_MONTHS, ERROR_MONTHS
 from engine.budget.summary import check_levels
+from engine.calendar import CampusCalendar
 from engine.errors import InputError
 from engine.kept_models import (
     chosen_scores,
@@ -83,6 +84,10 @@ class ProjectBudget:
     steps: list[dict]
     scorecards: dict[str, dict]
     data_range: dict[str, tuple[str, str]]
+    # What the run was made from, for adopting it (engine.tracking.adopt).
+    plans: list[MeterPlan] = field(default_factory=list)
+    weather: WeatherAssumption | None = None
+    calendar: CampusCalendar | None = None
 
 
 def budget_request(
@@ -237,6 +242,9 @@ def budget_project(
         steps=[s for name in names for s in site.meter(name).steps],
         scorecards=scorecards,
         data_range={name: _range(histories[name]) for name in names},
+        plans=plans,
+        weather=weather,
+        calendar=site.calendar,
     )
 
 
