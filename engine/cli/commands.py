@@ -263,6 +263,7 @@ def calendar(args: argparse.Namespace) -> int:
 def info(args: argparse.Namespace) -> int:
     with Project.open(args.project) as project:
         report = project.summary()
+        report["adopted_budgets"] = project.adopted_budget_names()
     _emit(args, report, text.project_report)
     return 0
 

@@ -83,6 +83,8 @@ def project_report(summary: dict) -> str:
     for key in ("bills", "weather"):
         for item in summary.get(key, []):
             lines.append(f"  {key}: " + ", ".join(f"{k}={_num(v)}" for k, v in item.items()))
+    if summary.get("adopted_budgets"):
+        lines.append(f"  adopted budgets: {', '.join(summary['adopted_budgets'])}")
     return "\n".join(lines) + "\n"
 
 

@@ -359,7 +359,9 @@ def _roll_up_costs(records: list[dict], members: list[list[dict]]) -> None:
         known = all(part["weather_cost"] is not None for part in parts)
         weather = sum(part["weather_cost"] for part in parts) if known else None
         variance = actual - cost_p50
+        energy_p50 = record["budget"]["quantiles"]["50"]
         record.update(
+            budget_price_per_kwh=cost_p50 / energy_p50 if energy_p50 > 0 else None,
             actual_cost=actual,
             variance_cost=variance,
             weather_cost=weather,
@@ -437,7 +439,7 @@ def _outlook(
     run = budget_project(
         project, fresh, meters=names, workers=workers, scheduler=scheduler, progress=part
     ).run
-    return run, cautions + [c for c in run.cautions if not c.startswith("A budget forecast")]
+    return run, cautions + run.cautions
 
 
 def _attach_outlook(
@@ -540,7 +542,8 @@ def _assumptions(doc: dict) -> dict[str, Any]:
         "weather that happened, plus the gap between that model's forecast under the assumed "
         "weather and the budget's P50",
         "price effect": "actual cost minus actual kWh at the month's budgeted price per kWh "
-        "(budget cost P50 / budget energy P50)",
+        "(budget cost P50 / budget energy P50): prices that changed, and the charges that do "
+        "not follow the kWh (fixed and demand charges, time-of-use mix)",
         "month under way": "compared with the budget P50 to date: its share of the month in "
         "the budget's daily means; no range check until the month is complete",
         "outlook": "a fresh budget of the same months from the as-of date (actuals to date "

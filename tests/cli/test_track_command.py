@@ -64,6 +64,8 @@ def test_budget_adopt_stores_the_budget_and_says_so(adopted):
     assert body["request"]["as_of"] == "2024-12-31"
     assert set(body["meters"]) == {"Hall", "Boiler gas"}
     assert body["meters"]["Hall"]["model"]["family"] == "daily_change_point"
+    info = json.loads(loadledger("info", project, "--json").stdout)
+    assert info["adopted_budgets"] == [NAME]
 
 
 def test_track_json_has_the_keys_the_issue_lists(adopted, tmp_path):

@@ -1,6 +1,7 @@
 """Adopted budgets tracked against actuals, on an invented campus with a known weather response.
 
-Invented scenario (ground truth by construction): two hourly meters on UTC over 2022–2025, a
+Invented scenario (ground truth by construction): two hourly meters on US Mountain time
+(local stamps, so months and daylight saving are the site's) over 2022–2025, a
 hall (base, weekday hours, heating below 12 °C at 3 kWh per °C-hour) and a boiler house
 (heating below 14 °C at 9 kWh per °C-hour), each with 4–5 % multiplicative noise, under a
 seasonal climate with iid hourly noise. The winter of 2025 (January to March) is made
@@ -43,6 +44,7 @@ ADOPTED_AS_OF = date(2024, 12, 31)
 TRACKED_AS_OF = date(2025, 6, 15)
 HALL_HEATING = (12.0, 3.0)  # balance °C, kWh per °C-hour
 BOILER_HEATING = (14.0, 9.0)
+ZONE = "America/Denver"
 
 
 def _campus(hours: pd.DatetimeIndex, rng: np.random.Generator) -> dict[str, np.ndarray]:
@@ -72,9 +74,9 @@ def campus(tmp_path_factory) -> dict:
     meters, weather = write_hall_and_boiler(
         folder, hours, data["Hall"], data["Boiler gas"], data["temps"]
     )
-    files = read_project_files([meters], (), [weather], ReadOptions(timezone="UTC"))
+    files = read_project_files([meters], (), [weather], ReadOptions(timezone=ZONE))
     path = folder / "campus.loadledger"
-    create_project(path, files, timezone="UTC").close()
+    create_project(path, files, timezone=ZONE).close()
     months = [f"2025-{m:02d}" for m in range(1, 13)]
     with Project.open(path) as project:
         for name in ("Hall", "Boiler gas"):
@@ -138,13 +140,13 @@ def test_actuals_equal_the_stored_readings_summed_by_month_with_plain_pandas(cam
         frame = pd.read_sql_query(
             "SELECT m.name, r.t, r.kwh FROM readings r JOIN meters m ON m.id = r.meter_id", conn
         )
-    frame["t"] = pd.to_datetime(frame["t"], unit="s", utc=True)
-    cut = pd.Timestamp(TRACKED_AS_OF, tz="UTC") + pd.Timedelta(days=1)
+    frame["t"] = pd.to_datetime(frame["t"], unit="s", utc=True).dt.tz_convert(ZONE)
+    cut = pd.Timestamp(TRACKED_AS_OF, tz=ZONE) + pd.Timedelta(days=1)
     for name, rows in frame.groupby("name"):
         series = rows.set_index("t")["kwh"].sort_index()
         monthly = series[series.index < cut].resample("MS").sum()
         for month in _meter(campus["report"], name)["months"]:
-            start = pd.Timestamp(month["month"] + "-01", tz="UTC")
+            start = pd.Timestamp(month["month"] + "-01", tz=ZONE)
             if month["status"] == NOT_BEGUN:
                 assert month["actual"] is None and month["complete"] is False
                 continue
