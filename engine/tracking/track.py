@@ -43,9 +43,10 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from engine.bill_prices import bill_prices
+from engine.bill_prices import BillPrice, bill_prices
 from engine.budget import BudgetRun, BudgetWindow, as_of_cut
 from engine.budget.summary import PEAK_CAUTION
+from engine.budget.weather_paths import WeatherScenarios
 from engine.budgeting import (
     WEATHER_CHOICES,
     BudgetRequest,
@@ -54,10 +55,10 @@ from engine.budgeting import (
 )
 from engine.calendar import CampusCalendar
 from engine.errors import InputError
-from engine.prepared_site import prepare_site
+from engine.prepared_site import ReadyMeter, prepare_site
 from engine.progress import Progress, step
 from engine.project import Project
-from engine.tariffs import tariff_from_dict
+from engine.tariffs import Tariff, tariff_from_dict
 from engine.tracking.actuals import (
     daily_actuals,
     expected_readings,
@@ -111,6 +112,22 @@ def month_status(window: BudgetWindow, as_of: date) -> tuple[list[str], np.ndarr
     return status, np.asarray(counted)
 
 
+@dataclass(frozen=True)
+class _Scene:
+    """What every meter's tracking shares: the window, the as-of cut and month states, the
+    adopted calendar, rate card and levels, the weather that happened, the bills' prices."""
+
+    window: BudgetWindow
+    cut: pd.Timestamp
+    status: list[str]
+    counted: np.ndarray
+    calendar: CampusCalendar
+    weather: WeatherScenarios | None
+    tariff: Tariff | None
+    prices: dict[str, BillPrice]
+    levels: list[str]
+
+
 def track_budget(
     project: Project,
     name: str,
@@ -127,9 +144,8 @@ def track_budget(
     """
     stored = _adopted(project, name)
     doc = stored["body"]
-    request = doc["request"]
-    timezone = doc["timezone"]
-    window = BudgetWindow.of(request["months"], timezone)
+    request, run = doc["request"], doc["run"]
+    window = BudgetWindow.of(request["months"], doc["timezone"])
     as_of = as_of if as_of is not None else last_reading_day(project)
     if as_of < window.first_day:
         raise InputError(
@@ -137,72 +153,36 @@ def track_budget(
             hint=f"Track it as of {window.first_day} or later.",
             file=project.path,
         )
+    names, cautions = _meters_present(project, name, run)
     step(progress, 0.0, "reading the actuals")
-    cut = as_of_cut(as_of, timezone)
-    run = doc["run"]
-    present = set(project.meter_names())
-    names = [meter["name"] for meter in run["meters"] if meter["name"] in present]
-    cautions = [PEAK_CAUTION]
-    cautions += [
-        f"Meter '{meter['name']}' of the adopted budget is no longer in the project; it is "
-        "left out of the tracking."
-        for meter in run["meters"]
-        if meter["name"] not in present
-    ]
-    if not names:
-        raise InputError(
-            f"none of the meters of the budget '{name}' is in the project any more.",
-            hint="Import the meters again, or adopt a new budget.",
-            file=project.path,
-        )
-    status, counted = month_status(window, as_of)
     site = prepare_site(project, names)
-    calendar = CampusCalendar.from_dict(doc["calendar"] or {})
-    weather = happened_weather(site.hourly_before(cut), window)
-    prices = bill_prices(project)
-    tariff = tariff_from_dict(doc["tariff"]) if doc["tariff"] else None
-    levels = [str(level) for level in run["levels"]]
-    meters, days_of, costs_of = [], {}, {}
-    for budget in run["meters"]:
-        if budget["name"] not in names:
-            continue
-        adopted = doc["meters"][budget["name"]]
-        ready = site.meter(budget["name"])
-        readings = daily_actuals(ready.raw, window, cut)
-        happened = happened_prediction(ready, adopted, calendar, window, weather)
-        days = _Days(
-            np.nan_to_num(np.asarray(adopted["daily_mean_kwh"], dtype=np.float64)),
-            np.asarray(adopted["assumed_weather_kwh"], dtype=np.float64),
-            happened,
-            readings["kwh"].to_numpy(dtype=np.float64),
+    status, counted = month_status(window, as_of)
+    cut = as_of_cut(as_of, window.timezone)
+    scene = _Scene(
+        window,
+        cut,
+        status,
+        counted,
+        CampusCalendar.from_dict(doc["calendar"] or {}),
+        happened_weather(site.hourly_before(cut), window),
+        tariff_from_dict(doc["tariff"]) if doc["tariff"] else None,
+        bill_prices(project),
+        [str(level) for level in run["levels"]],
+    )
+    meters, days_of, records_of = [], {}, {}
+    for budget in (meter for meter in run["meters"] if meter["name"] in names):
+        report, days, meter_cautions = _track_meter(
+            budget, doc["meters"][budget["name"]], site.meter(budget["name"]), scene
         )
-        cautions += _reading_cautions(
-            budget["name"], readings, expected_readings(window, ready.raw.interval), status, window
-        )
-        if happened is None:
-            cautions.append(
-                f"The weather effect of meter '{budget['name']}' is unknown: its adopted model "
-                "uses the outdoor temperature and the project has no weather for the months."
-            )
-        actual_costs = _actual_costs(ready, adopted, window, status, days, tariff, prices)
-        records = _months(budget["months"], status, counted, window, days, levels, actual_costs)
-        meters.append(_group_report(budget, records, "name"))
-        days_of[budget["name"]], costs_of[budget["name"]] = days, records
-    cautions += _weather_gap_cautions(meters, status)
-    groups = {}
-    for group in [*run["utilities"], *([run["campus"]] if run["campus"] else [])]:
-        members = [member for member in group["meters"] if member in days_of]
-        if not members:
-            continue
-        days = sum((days_of[m] for m in members[1:]), days_of[members[0]])
-        records = _months(group["months"], status, counted, window, days, levels, None)
-        _roll_up_costs(records, [costs_of[m] for m in members])
-        groups[group["group"]] = _group_report(group, records, "group")
+        meters.append(report)
+        days_of[budget["name"]], records_of[budget["name"]] = days, report["months"]
+        cautions += meter_cautions
+    cautions += _weather_gap_cautions(meters)
+    groups = _roll_ups(run, days_of, records_of, scene)
     outlook, outlook_cautions = _outlook(
         project, doc, name, as_of, names, status, workers, scheduler, progress
     )
-    _attach_outlook(meters, groups, outlook, run, status)
-    utilities = [groups[g["group"]] for g in run["utilities"] if g["group"] in groups]
+    _attach_outlook(meters, groups, outlook, run)
     step(progress, 1.0, "tracking ready")
     return {
         "budget": name,
@@ -215,12 +195,86 @@ def track_budget(
         "currency": run["currency"],
         "weather": run["weather"],
         "meters": meters,
-        "utilities": utilities,
+        "utilities": [groups[g["group"]] for g in run["utilities"] if g["group"] in groups],
         "campus": groups.get("campus"),
         "identity": IDENTITY,
         "assumptions": _assumptions(doc),
         "cautions": _unique([*cautions, *outlook_cautions]),
     }
+
+
+def _meters_present(project: Project, name: str, run: dict) -> tuple[list[str], list[str]]:
+    """The adopted budget's meters still in the project, and the tracking's first cautions."""
+    present = set(project.meter_names())
+    names = [meter["name"] for meter in run["meters"] if meter["name"] in present]
+    if not names:
+        raise InputError(
+            f"none of the meters of the budget '{name}' is in the project any more.",
+            hint="Import the meters again, or adopt a new budget.",
+            file=project.path,
+        )
+    gone = [
+        f"Meter '{meter['name']}' of the adopted budget is no longer in the project; it is "
+        "left out of the tracking."
+        for meter in run["meters"]
+        if meter["name"] not in present
+    ]
+    return names, [PEAK_CAUTION, *gone]
+
+
+def _track_meter(
+    budget: dict, adopted: dict, ready: ReadyMeter, scene: _Scene
+) -> tuple[dict, _Days, list[str]]:
+    """One meter's tracking report, its days (for the roll-ups) and its cautions."""
+    name, window, counted = budget["name"], scene.window, scene.counted
+    readings = daily_actuals(ready.raw, window, scene.cut)
+    expected = expected_readings(window, ready.raw.interval)
+    cautions = _reading_cautions(name, readings, expected, scene.status, window)
+    happened = happened_prediction(ready, adopted, scene.calendar, window, scene.weather)
+    assumed = np.asarray(adopted["assumed_weather_kwh"], dtype=np.float64)
+    if happened is None:
+        cautions.append(
+            f"The weather effect of meter '{name}' is unknown: its adopted model uses the "
+            "outdoor temperature and the project has no weather for the months."
+        )
+    elif _blind(happened[counted], assumed[counted]):
+        happened = assumed.copy()  # the same forecast, whatever the weather: no effect
+        cautions.append(
+            f"The adopted model of meter '{name}' ({budget['model']}) does not respond to the "
+            "outdoor temperature: its weather effect is zero and the whole variance shows as "
+            "usage."
+        )
+    days = _Days(
+        np.nan_to_num(np.asarray(adopted["daily_mean_kwh"], dtype=np.float64)),
+        assumed,
+        happened,
+        readings["kwh"].to_numpy(dtype=np.float64),
+    )
+    costs = _actual_costs(ready, adopted, scene, days)
+    records = _months(budget["months"], scene, days, costs)
+    return _group_report(budget, records, "name"), days, cautions
+
+
+def _roll_ups(
+    run: dict, days_of: dict[str, _Days], records_of: dict[str, list[dict]], scene: _Scene
+) -> dict[str, dict]:
+    """Each utility's and the campus's tracking, from their meters' days and cost effects."""
+    groups = {}
+    for group in [*run["utilities"], *([run["campus"]] if run["campus"] else [])]:
+        members = [member for member in group["meters"] if member in days_of]
+        if not members:
+            continue
+        days = sum((days_of[m] for m in members[1:]), days_of[members[0]])
+        records = _months(group["months"], scene, days, None)
+        _roll_up_costs(records, [records_of[m] for m in members])
+        groups[group["group"]] = _group_report(group, records, "group")
+    return groups
+
+
+def _blind(happened: np.ndarray, assumed: np.ndarray) -> bool:
+    """Whether the model predicted the same under both weathers (to rounding): a model that
+    does not respond to the outdoor temperature."""
+    return bool(np.allclose(happened, assumed, rtol=1e-9, atol=1e-9, equal_nan=True))
 
 
 def _adopted(project: Project, name: str) -> dict:
@@ -247,20 +301,16 @@ def _adopted(project: Project, name: str) -> dict:
 
 
 def _months(
-    adopted: list[dict],
-    status: list[str],
-    counted: np.ndarray,
-    window: BudgetWindow,
-    days: _Days,
-    levels: list[str],
-    actual_costs: list[float | None] | None,
+    adopted: list[dict], scene: _Scene, days: _Days, actual_costs: list[float | None] | None
 ) -> list[dict]:
     """One record per budget month (energy split; cost split where ``actual_costs``)."""
-    month_of_day = window.month_of_day()
+    month_of_day = scene.window.month_of_day()
     records = []
     for number, month in enumerate(adopted):
         inside = month_of_day == number
-        record = _energy_record(month, status[number], inside, inside & counted, days, levels)
+        record = _energy_record(
+            month, scene.status[number], inside, inside & scene.counted, days, scene.levels
+        )
         if "cost" in month:
             cost = actual_costs[number] if actual_costs is not None else None
             record.update(_cost_record(month, record, cost))
@@ -370,18 +420,20 @@ def _roll_up_costs(records: list[dict], members: list[list[dict]]) -> None:
         )
 
 
-def _actual_costs(ready, adopted, window, status, days, tariff, prices) -> list[float | None]:
+def _actual_costs(
+    ready: ReadyMeter, adopted: dict, scene: _Scene, days: _Days
+) -> list[float | None]:
     """What each complete month's metered energy cost: the adopted rate card on the readings,
     or the price per kWh the project's bills now give (the adopted one without bills)."""
-    month_of_day = window.month_of_day()
+    month_of_day = scene.window.month_of_day()
     out: list[float | None] = []
-    for number, state in enumerate(status):
+    for number, state in enumerate(scene.status):
         if state != COMPLETE or adopted["priced_by"] is None:
             out.append(None)
-        elif adopted["priced_by"] == "tariff" and tariff is not None:
-            out.append(tariff_cost(ready.raw, window, number, tariff))
+        elif adopted["priced_by"] == "tariff" and scene.tariff is not None:
+            out.append(tariff_cost(ready.raw, scene.window, number, scene.tariff))
         else:
-            current = prices.get(ready.utility)
+            current = scene.prices.get(ready.utility)
             rate = current.rate if current is not None else adopted["rate"]
             out.append(float(days.actual[month_of_day == number].sum()) * rate)
     return out
@@ -447,7 +499,6 @@ def _attach_outlook(
     groups: dict[str, dict],
     outlook: BudgetRun | None,
     adopted: dict,
-    status: list[str],
 ) -> None:
     """Each meter's and roll-up's year-end outlook: the fresh budget's period total (actuals
     to date plus the forecast of the rest), or the actual total once every month is over."""
@@ -507,7 +558,7 @@ def _reading_cautions(
     return cautions
 
 
-def _weather_gap_cautions(meters: list[dict], status: list[str]) -> list[str]:
+def _weather_gap_cautions(meters: list[dict]) -> list[str]:
     gaps = sorted(
         {
             record["month"]

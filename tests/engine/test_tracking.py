@@ -259,3 +259,20 @@ def test_bad_tracking_requests_say_why_and_store_nothing(campus, tmp_path, name,
     with Project.open(path) as project, pytest.raises(InputError, match=words):
         track_budget(project, name, as_of=as_of, workers=1)
     assert path.read_bytes() == before
+
+
+def test_a_model_blind_to_weather_puts_the_whole_variance_in_usage_and_says_so(campus, tmp_path):
+    path = tmp_path / "blind.loadledger"
+    shutil.copyfile(campus["path"], path)
+    months = ["2025-01", "2025-02"]
+    with Project.open(path) as project:
+        fit_meter(project, "Hall", families=["seasonal_naive"], origins=2)
+        request = budget_request(project, months, as_of=ADOPTED_AS_OF, paths=100)
+        adopt_budget(project, "blind", budget_project(project, request, workers=1), request)
+        report = track_budget(project, "blind", as_of=date(2025, 2, 28), workers=1)
+    for month in _meter(report, "Hall")["months"]:
+        assert month["weather_kwh"] == 0.0
+        assert month["usage_kwh"] == month["variance_kwh"]
+    assert any("meter 'Hall'" in c and "does not respond" in c for c in report["cautions"])
+    boiler = [c for c in report["cautions"] if "meter 'Boiler gas'" in c]
+    assert not any("does not respond" in c for c in boiler)
