@@ -182,7 +182,7 @@ def track_budget(
     outlook, outlook_cautions = _outlook(
         project, doc, name, as_of, names, status, workers, scheduler, progress
     )
-    _attach_outlook(meters, groups, outlook, run)
+    _attach_outlook(meters, groups, outlook, run, all(state == COMPLETE for state in status))
     step(progress, 1.0, "tracking ready")
     return {
         "budget": name,
@@ -355,7 +355,7 @@ def _energy_record(
         variance_kwh=variance,
         weather_kwh=weather,
         usage_kwh=None if weather is None else variance - weather,
-        model_kwh={"assumed_weather": assumed, "weather_that_happened": happened},
+        model_kwh={"assumed_weather": _finite(assumed), "weather_that_happened": happened},
     )
     if status == COMPLETE:
         low, high = quantiles[levels[0]], quantiles[levels[-1]]
@@ -488,9 +488,12 @@ def _outlook(
         rng=request["rng"],
     )
     part = progress.part(0.1, 1.0) if progress is not None else None
-    run = budget_project(
-        project, fresh, meters=names, workers=workers, scheduler=scheduler, progress=part
-    ).run
+    try:
+        run = budget_project(
+            project, fresh, meters=names, workers=workers, scheduler=scheduler, progress=part
+        ).run
+    except InputError as error:  # the tracking stands without it; say why it is missing
+        return None, [*cautions, f"The year-end outlook could not be made: {error.message}"]
     return run, cautions + run.cautions
 
 
@@ -499,9 +502,11 @@ def _attach_outlook(
     groups: dict[str, dict],
     outlook: BudgetRun | None,
     adopted: dict,
+    over: bool,
 ) -> None:
     """Each meter's and roll-up's year-end outlook: the fresh budget's period total (actuals
-    to date plus the forecast of the rest), or the actual total once every month is over."""
+    to date plus the forecast of the rest), the actual total once every month is ``over``,
+    else None (the outlook could not be made)."""
     fresh: dict[str, Any] = {}
     if outlook is not None:
         fresh = {m.name: m for m in outlook.meters} | {u.group: u for u in outlook.utilities}
@@ -523,7 +528,7 @@ def _attach_outlook(
                 {"month": m.period, "mean": m.energy.mean, "quantiles": dict(m.energy.quantiles)}
                 for m in found.months
             ]
-        elif outlook is None:
+        elif over:
             actual = sum(record["actual"] for record in report["months"])
             levels = adopted["levels"]
             report["outlook"] = {
@@ -602,6 +607,11 @@ def _assumptions(doc: dict) -> dict[str, Any]:
         "actual cost": "the adopted rate card applied to the readings; meters priced from bills "
         "at the price per kWh the project's bills now give",
     }
+
+
+def _finite(value: float) -> float | None:
+    """The value, or None where it is not a number (JSON has no NaN)."""
+    return value if np.isfinite(value) else None
 
 
 def _unique(items: list[str]) -> list[str]:
