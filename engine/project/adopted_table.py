@@ -8,8 +8,19 @@ the caller asks to replace it, which swaps the whole row in one statement.
 from __future__ import annotations
 
 import sqlite3
+from pathlib import Path
 
+from engine.errors import InputError
 from engine.project.columns import from_json, iso_utc, now_seconds, to_json
+
+
+def name_taken(name: str, path: Path) -> InputError:
+    """What adopting a second budget under ``name`` without replacing says."""
+    return InputError(
+        f"a budget is already adopted as '{name}'.",
+        hint="Choose another name, or give --replace to adopt this one in its place.",
+        file=path,
+    )
 
 
 def put_adopted(conn: sqlite3.Connection, name: str, body: dict, *, replace: bool) -> None:

@@ -389,11 +389,7 @@ class Project:
         replaced only when ``replace``, otherwise refused with an :class:`InputError`."""
         with self._writing() as conn:
             if not replace and adopted_table.find_adopted(conn, name) is not None:
-                raise InputError(
-                    f"a budget is already adopted as '{name}'.",
-                    hint="Choose another name, or give --replace to adopt this one in its place.",
-                    file=self.path,
-                )
+                raise adopted_table.name_taken(name, self.path)
             adopted_table.put_adopted(conn, name, body, replace=replace)
 
     def adopted_budget(self, name: str) -> dict | None:

@@ -23,6 +23,7 @@ from engine.budget.weather_paths import WeatherScenarios, weather_scenarios
 from engine.budgeting import BudgetRequest, ProjectBudget
 from engine.errors import InputError
 from engine.project import Project
+from engine.project.adopted_table import name_taken
 
 #: Shape of the adopted document; bump when it changes (tracking reads older layouts or
 #: refuses them in words).
@@ -44,11 +45,7 @@ def check_name(project: Project, name: str, *, replace: bool) -> str:
             file=project.path,
         )
     if not replace and project.adopted_budget(cleaned) is not None:
-        raise InputError(
-            f"a budget is already adopted as '{cleaned}'.",
-            hint="Choose another name, or give --replace to adopt this one in its place.",
-            file=project.path,
-        )
+        raise name_taken(cleaned, project.path)
     return cleaned
 
 
