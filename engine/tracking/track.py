@@ -12,9 +12,10 @@ incomplete; nothing for months not begun), and the variance split:
                    = (actual − adopted model under the weather that happened)
                      + (adopted model under the assumed weather − budget P50)
 
-The last bracket is the gap between the model's forecast and the budget's simulated P50
-(errors, calibration, floor); it is usually small and stays with usage, so the two parts add
-up to the variance exactly. With a spread-of-years weather assumption the model under the
+The last bracket is the gap between the model's forecast and the budget's simulated P50 (the
+mean of the model's past errors in that season, the calibration, the floor); it stays with
+usage, which cancels a model's seasonal bias, and the two parts add up to the variance
+exactly. With a spread-of-years weather assumption the model under the
 assumed weather is the mean over the weather scenarios the budget drew. For the month under
 way the budget P50 is taken to date: its share of the month in the budget's own daily means.
 

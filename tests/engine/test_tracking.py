@@ -276,3 +276,13 @@ def test_a_model_blind_to_weather_puts_the_whole_variance_in_usage_and_says_so(c
     assert any("meter 'Hall'" in c and "does not respond" in c for c in report["cautions"])
     boiler = [c for c in report["cautions"] if "meter 'Boiler gas'" in c]
     assert not any("does not respond" in c for c in boiler)
+
+
+def test_months_of_ordinary_weather_show_little_weather_effect(campus):
+    # Ground truth by construction: only January to March were shifted; April and May had
+    # the climate's own weather, so their weather effect is near zero beside the warm months'.
+    for meter in campus["report"]["meters"]:
+        months = [m for m in meter["months"] if m["complete"]]
+        warm = min(abs(m["weather_kwh"]) for m in months if m["month"] in WARM_MONTHS)
+        ordinary = [abs(m["weather_kwh"]) for m in months if m["month"] not in WARM_MONTHS]
+        assert ordinary and max(ordinary) < 0.02 * warm
