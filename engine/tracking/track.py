@@ -8,6 +8,7 @@ incomplete; nothing for months not begun), and the variance split:
              = weather effect + usage effect
     weather effect = adopted model under the weather that happened
                      − adopted model under the assumed weather
+                     (zero on days up to the budget's own as-of date: it knew them)
     usage effect   = variance − weather effect
                    = (actual − adopted model under the weather that happened)
                      + (adopted model under the assumed weather − budget P50)
@@ -122,6 +123,7 @@ class _Scene:
     cut: pd.Timestamp
     status: list[str]
     counted: np.ndarray
+    known: np.ndarray  # days the budget already knew the actuals of (up to its as-of date)
     calendar: CampusCalendar
     weather: WeatherScenarios | None
     tariff: Tariff | None
@@ -164,6 +166,7 @@ def track_budget(
         cut,
         status,
         counted,
+        np.asarray(window.days <= pd.Timestamp(request["as_of"])),
         CampusCalendar.from_dict(doc["calendar"] or {}),
         happened_weather(site.hourly_before(cut), window),
         tariff_from_dict(doc["tariff"]) if doc["tariff"] else None,
@@ -245,6 +248,8 @@ def _track_meter(
             "outdoor temperature: its weather effect is zero and the whole variance shows as "
             "usage."
         )
+    if happened is not None:  # days the budget knew: their actual weather was no surprise
+        happened = np.where(scene.known, assumed, happened)
     days = _Days(
         np.nan_to_num(np.asarray(adopted["daily_mean_kwh"], dtype=np.float64)),
         assumed,

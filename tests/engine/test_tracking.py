@@ -286,3 +286,23 @@ def test_months_of_ordinary_weather_show_little_weather_effect(campus):
         warm = min(abs(m["weather_kwh"]) for m in months if m["month"] in WARM_MONTHS)
         ordinary = [abs(m["weather_kwh"]) for m in months if m["month"] not in WARM_MONTHS]
         assert ordinary and max(ordinary) < 0.02 * warm
+
+
+def test_months_the_budget_already_knew_show_no_variance_and_no_weather_effect(campus, tmp_path):
+    # A budget adopted in the middle of its period took the months before its as-of date
+    # from the readings: tracked later, those months have nothing to explain.
+    path = tmp_path / "midway.loadledger"
+    shutil.copyfile(campus["path"], path)
+    months = ["2024-11", "2024-12", "2025-01"]
+    with Project.open(path) as project:
+        request = budget_request(project, months, as_of=ADOPTED_AS_OF, paths=100)
+        adopt_budget(project, "midway", budget_project(project, request, workers=1), request)
+        report = track_budget(project, "midway", as_of=date(2025, 1, 31), workers=1)
+    for meter in report["meters"]:
+        known, tracked = meter["months"][:2], meter["months"][2]
+        for month in known:
+            # the budget forecast only hours it had no reading for (the clock change's)
+            assert abs(month["variance_kwh"]) < 1e-3 * month["budget"]["quantiles"]["50"]
+            assert month["weather_kwh"] == 0.0
+            assert month["usage_kwh"] == month["variance_kwh"]
+        assert tracked["weather_kwh"] < 0  # the warm January
