@@ -5,7 +5,7 @@ rolling month-ahead budgets, the simulated run, and everything the finance workb
 from __future__ import annotations
 
 from collections.abc import Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from datetime import date
 from pathlib import Path
 
@@ -23,6 +23,7 @@ from engine.budget import (
 )
 from engine.budget.refits import CALIBRATION_MONTHS, ERROR_MONTHS
 from engine.budget.summary import check_levels
+from engine.calendar import CampusCalendar
 from engine.errors import InputError, ProjectError
 from engine.kept_models import (
     chosen_scores,
@@ -96,6 +97,10 @@ class ProjectBudget:
     #: The past month-ahead budgets that checked the ranges (:class:`BudgetBacktest` pairs);
     #: None for a budget read back from the project.
     past_budgets: pd.DataFrame | None = None
+    # What the run was made from, for adopting it (engine.tracking.adopt).
+    plans: list[MeterPlan] = field(default_factory=list)
+    weather: WeatherAssumption | None = None
+    calendar: CampusCalendar | None = None
 
 
 def budget_request(
@@ -305,6 +310,9 @@ def budget_project(
         scorecards=scorecards,
         data_range={name: _range(histories[name]) for name in names},
         past_budgets=past.pairs,
+        plans=plans,
+        weather=weather,
+        calendar=site.calendar,
     )
 
 
