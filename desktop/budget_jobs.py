@@ -150,8 +150,8 @@ def period_words(budget: ProjectBudget) -> str:
 
 
 def budget_cautions(budget: ProjectBudget) -> list[str]:
-    """The run's own cautions, and always that a forecast is not a design load: the run says
-    so only when a demand charge is priced, the workbook always does."""
+    """The run's own cautions, which include that a forecast is not a design load; a budget
+    kept before every run said so gets the caution here."""
     cautions = list(budget.run.cautions)
     if PEAK_CAUTION not in cautions:
         cautions.append(DESIGN_LOAD_CAUTION)
