@@ -16,7 +16,7 @@ import pandas as pd
 
 from engine.backtest import BacktestResult
 from engine.errors import ProjectError
-from engine.modelling import chosen_model, fit_meter
+from engine.modelling import chosen_model, fit_meter, use_ranked_model
 from engine.models import MODEL_FAMILIES, EnergyModel
 from engine.progress import Progress, step
 from engine.project import Project
@@ -131,6 +131,15 @@ def stored_report(
     kept = f"Fitted {stored[-1]['created_at'][:16].replace('T', ' ')} UTC, kept in the project"
     step(progress, 1.0, "model read")
     return _report(meter, choice, backtest, model, kept)
+
+
+def use_model_report(
+    project: Project, meter: str, model: str, progress: Progress | None = None
+) -> ModelReport | None:
+    """Keep ``model`` of the meter's ranking as its choice (:func:`use_ranked_model`)."""
+    step(progress, 0.1, f"fitting the chosen model of '{meter}' on all its history")
+    use_ranked_model(project, meter, model)
+    return stored_report(project, meter, progress)
 
 
 def _report(

@@ -112,7 +112,8 @@ class RankingTable(TitledTable):
 
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__("Backtest ranking", _table(RANK_HEADERS, 1), parent)
-        self.table.setSelectionMode(QAbstractItemView.SelectionMode.NoSelection)
+        self.table.setSelectionMode(QAbstractItemView.SelectionMode.SingleSelection)
+        self.table.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)
 
     def show_ranking(self, ranking: pd.DataFrame, chosen: str | None, condition: str) -> None:
         """One row per model; the row of ``chosen`` is tinted, bold and says so."""
@@ -140,6 +141,13 @@ class RankingTable(TitledTable):
                     cell.setFont(font)
                     cell.setBackground(QBrush(QColor(RECOMMENDED_TINT)))
                 self.table.setItem(r, c, cell)
+
+    def selected(self) -> str | None:
+        """The model identifier of the selected row, if any."""
+        rows = self.table.selectionModel().selectedRows()
+        if not rows:
+            return None
+        return self.table.item(rows[0].row(), RANK_HEADERS.index("Model")).data(MODEL_ROLE)
 
     def recommended(self) -> str | None:
         """The model identifier of the marked row, if any."""

@@ -34,6 +34,7 @@ from desktop.model_jobs import (
     fit_report,
     stored_report,
     ticked_families,
+    use_model_report,
 )
 from desktop.model_plots import BacktestPanel, ResidualPanel
 from desktop.model_tables import CoefficientsTable, RankingTable
@@ -89,9 +90,18 @@ class ModelsScreen(MeterScreen):
         self.fit_button = QPushButton("Fit and compare")
         self.fit_button.setToolTip("Backtest the ticked models, rank them and keep the best.")
         self.fit_button.clicked.connect(self.fit)
+        self.use_button = QPushButton("Use selected model")
+        self.use_button.setToolTip(
+            "Keep the model selected in the ranking instead of the recommended one: it is "
+            "fitted on all the history with the settings its backtest ran; nothing is "
+            "backtested again."
+        )
+        self.use_button.setEnabled(False)
+        self.use_button.clicked.connect(self.use_selected)
         self.kept = QLabel()
         self.kept.setStyleSheet("color: #5a5f66;")
         self.ranking = RankingTable()
+        self.ranking.table.itemSelectionChanged.connect(self._selection_changed)
         self.why = QTextBrowser()
         self.why.setOpenLinks(False)
         self.coefficients = CoefficientsTable()
@@ -109,6 +119,7 @@ class ModelsScreen(MeterScreen):
         controls.addWidget(self.origins)
         controls.addSpacing(12)
         controls.addWidget(self.fit_button)
+        controls.addWidget(self.use_button)
         controls.addSpacing(12)
         controls.addWidget(self.kept, 1)
         left = QSplitter(Qt.Orientation.Vertical)
@@ -156,30 +167,48 @@ class ModelsScreen(MeterScreen):
             return
         request = FitRequest(name, families, self.origins.value())
         work = partial(fit_report, project, request)
-        self._run(work, f"fitting and comparing models of '{name}'", fitting=True)
+        self._run(work, f"fitting and comparing models of '{name}'", announce="Recommended")
+
+    def use_selected(self) -> None:
+        """Keep the model selected in the ranking as the meter's choice."""
+        name, model = self.meter.currentText(), self.ranking.selected()
+        project = self.session.project
+        if project is None or not name or model is None:
+            return
+        work = partial(use_model_report, project, name, model)
+        self._run(work, f"keeping another model for '{name}'", announce="Now used")
+
+    def _selection_changed(self) -> None:
+        selected = self.ranking.selected()
+        chosen = None if self.report is None else self.report.chosen
+        self.use_button.setEnabled(
+            self.task is None and selected is not None and selected != chosen
+        )
 
     # -- work -------------------------------------------------------------------------------
 
-    def _run(self, work: Work, doing: str, fitting: bool = False) -> None:
+    def _run(self, work: Work, doing: str, announce: str | None = None) -> None:
+        """Run ``work``; ``announce`` (e.g. "Recommended") words the notice of a kept model."""
         if self.task is not None:
-            self._wanted = (work, doing, fitting)
+            self._wanted = (work, doing, announce)
             self.task.cancel()
             return
-        self._start(work, doing, fitting)
+        self._start(work, doing, announce)
 
-    def _start(self, work: Work, doing: str, fitting: bool) -> None:
+    def _start(self, work: Work, doing: str, announce: str | None) -> None:
         self._wanted = None
         self.notice.clear()
         task = Task(work, doing)
         task.succeeded.connect(self._show)
-        if fitting:
-            task.succeeded.connect(self._fitted)
+        if announce is not None:
+            task.succeeded.connect(partial(self._fitted, announce))
         task.failed.connect(self._failed)
         task.cancelled.connect(partial(self._cancelled, doing))
         task.ended.connect(self._ended)
         self.task = task
         self.task_bar.follow(task)
         self.fit_button.setEnabled(False)
+        self.use_button.setEnabled(False)
         task.start()
 
     def _ended(self) -> None:
@@ -234,14 +263,14 @@ class ModelsScreen(MeterScreen):
         else:
             self.residuals.show_note("No residual diagnostics: no model was chosen.")
 
-    def _fitted(self, report: ModelReport) -> None:
+    def _fitted(self, verb: str, report: ModelReport) -> None:
         if self._wanted is not None:
             return
         if report.chosen is None:
             self.notice.say("No model could be scored, so none was kept.", "problem")
             return
         self.notice.say(
-            f"Recommended for '{report.meter}': {report.chosen_label}. {report.kept}.", "done"
+            f"{verb} for '{report.meter}': {report.chosen_label}. {report.kept}.", "done"
         )
 
 

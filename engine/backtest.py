@@ -195,6 +195,9 @@ class ModelInfo:
     family: str
     label: str
     explainable: bool
+    #: The model's constructor settings (tuned orders included); empty in results stored
+    #: before they were recorded.
+    settings: dict[str, Any] = field(default_factory=dict)
 
 
 @dataclass(frozen=True)
@@ -303,7 +306,12 @@ class BacktestResult:
             "conditions": list(self.conditions),
             "history_start": self.history_start.isoformat(),
             "models": {
-                name: {"family": i.family, "label": i.label, "explainable": i.explainable}
+                name: {
+                    "family": i.family,
+                    "label": i.label,
+                    "explainable": i.explainable,
+                    "settings": i.settings,
+                }
                 for name, i in self.models.items()
             },
             "fits": _table_to_json(self.fits),
@@ -805,7 +813,7 @@ def _assemble(
 ) -> BacktestResult:
     inputs = plan.inputs
     infos = {
-        name: ModelInfo(model.family, model.label, bool(model.explainable))
+        name: ModelInfo(model.family, model.label, bool(model.explainable), model.settings())
         for name, model in named.items()
     }
     forecasts = out.forecast_table() if out.pieces else _empty_forecasts()

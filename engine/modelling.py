@@ -152,6 +152,50 @@ def chosen_model(project: Project, name: str) -> tuple[EnergyModel, dict]:
     return model, body["choice"]
 
 
+def use_ranked_model(project: Project, name: str, model: str) -> tuple[EnergyModel, dict]:
+    """Keep another model of the meter's last ranking as its choice, fitted on all the history
+    with the settings its backtest ran (tuned orders included); no new backtest is run.
+
+    The stored recommendation keeps its ranking and scores; ``chosen`` becomes ``model`` and
+    the first reason says it was chosen over the recommendation. Returns the model and choice.
+    """
+    _, choice = chosen_model(project, name)
+    ranked = {row["model"]: row for row in choice["ranking"]}
+    if model not in ranked:
+        raise InputError(
+            f"'{model}' is not in the last ranking of meter '{name}' "
+            f"({', '.join(ranked) or 'it ranks no model'}).",
+            hint="Choose a model from the ranking, or fit again with that family ticked.",
+            file=project.path,
+        )
+    backtests = project.results("backtest", name)
+    info = BacktestResult.from_dict(backtests[-1]["body"]).models.get(model) if backtests else None
+    if info is None:
+        raise InputError(
+            f"the backtest of meter '{name}' that ranked '{model}' is not kept.",
+            hint="Fit the meter again to rank its models afresh.",
+            file=project.path,
+        )
+    fitted = MODEL_FAMILIES[info.family](**info.settings).fit(meter_inputs(project, name))
+    recommended = ranked.get(choice["chosen"], {}).get("name", choice["chosen"])
+    reason = (
+        f"{ranked[model]['name']} was chosen by hand over the recommended {recommended}; "
+        "the ranking and scores are the backtest's."
+    )
+    # The residual diagnostics were the recommended model's: they do not describe this one.
+    chosen = {
+        **choice,
+        "chosen": model,
+        "reasons": [reason, *choice["reasons"]],
+        "diagnostics": None,
+    }
+    with project.transaction():
+        project.add_result(
+            "model", name, fitted.label, {"model": fitted.to_dict(), "choice": chosen}
+        )
+    return fitted, chosen
+
+
 def monthly_contributions(model: EnergyModel, inputs: ModelInputs, months: int = 12) -> list[dict]:
     """Each component's share of the model's energy in each of the last ``months`` local months.
 

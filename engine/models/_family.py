@@ -86,8 +86,9 @@ class ModelFamily:
 
     def settings(self) -> dict[str, Any]:
         """The constructor settings, JSON-ready."""
-        names = list(inspect.signature(type(self).__init__).parameters)[1:]
-        return {name: plain(getattr(self, name)) for name in names}
+        parameters = list(inspect.signature(type(self).__init__).parameters.values())[1:]
+        named = (inspect.Parameter.POSITIONAL_OR_KEYWORD, inspect.Parameter.KEYWORD_ONLY)
+        return {p.name: plain(getattr(self, p.name)) for p in parameters if p.kind in named}
 
     def fit_before_each(
         self, inputs: ModelInputs, cuts: Sequence[pd.Timestamp]

@@ -7,6 +7,7 @@ fit quick) with the sample's weather station and campus calendar.
 
 from __future__ import annotations
 
+import shutil
 from pathlib import Path
 
 import numpy as np
@@ -14,7 +15,7 @@ import pandas as pd
 import pytest
 from desktop_support import SITE_ZONE, save_screen, short_sample_project, wait_until_idle
 
-from desktop.model_tables import RANK_HEADERS
+from desktop.model_tables import MODEL_ROLE, RANK_HEADERS
 from desktop.models_screen import ModelsScreen
 from desktop.session import Session
 from engine.project import Project
@@ -111,12 +112,11 @@ def test_fitting_shows_the_ranking_the_project_keeps(qtbot, library):
 
         # Reasons and warnings in words; the chosen model's effects when it states them.
         assert report.reasons and report.reasons[0] in screen.why.toPlainText()
-        if report.coefficients is not None:
-            shown = screen.coefficients.table
-            assert shown.rowCount() == len(report.coefficients) > 0
-            assert "kWh" in " ".join(shown.item(r, 2).text() for r in range(shown.rowCount()))
-        else:
-            assert "physical units" in screen.coefficients.note.text()
+        # Every family says what it learned: effects in kWh, or (benchmarks) how it forecasts.
+        shown = screen.coefficients.table
+        assert shown.rowCount() == len(report.coefficients) > 0
+        words = " ".join(shown.item(r, c).text() for r in range(shown.rowCount()) for c in (2, 3))
+        assert "kWh" in words if report.chosen == "calendar_regression" else "repeats" in words
         save_screen(screen, "models")
     finally:
         screen.session.close()
@@ -147,5 +147,37 @@ def test_fitting_with_no_family_ticked_asks_for_one(qtbot, library):
         screen.fit()
         assert screen.task is None and screen.notice.tone == "problem"
         assert "Tick at least one" in screen.notice.text.text()
+    finally:
+        screen.session.close()
+
+
+def test_another_ranked_model_is_used_without_a_new_backtest(qtbot, library, tmp_path):
+    path = Path(shutil.copyfile(library, tmp_path / library.name))
+    screen = _open(qtbot, path)
+    try:
+        screen.families.tick(FAMILIES)
+        screen.origins.setValue(ORIGINS)
+        screen.fit()
+        wait_until_idle(qtbot, screen)
+        recommended = screen.report.chosen
+        assert not screen.use_button.isEnabled()  # nothing selected yet
+        other_row = next(
+            r
+            for r in range(screen.ranking.table.rowCount())
+            if screen.ranking.table.item(r, 1).data(MODEL_ROLE) != recommended
+        )
+        with Project.open(path) as before:
+            backtests = len(before.results("backtest", "Library"))
+        screen.ranking.table.selectRow(other_row)
+        other = screen.ranking.selected()
+        assert other != recommended and screen.use_button.isEnabled()
+        screen.use_button.click()
+        wait_until_idle(qtbot, screen)
+        assert screen.notice.tone == "done" and "Now used" in screen.notice.text.text()
+        assert screen.report.chosen == other == screen.ranking.recommended()
+        assert "chosen by hand" in screen.why.toPlainText()
+        with Project.open(path) as reopened:
+            assert len(reopened.results("backtest", "Library")) == backtests  # none run again
+            assert reopened.results("model", "Library")[-1]["body"]["model"]["family"] == other
     finally:
         screen.session.close()
