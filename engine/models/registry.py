@@ -11,6 +11,7 @@ from engine.models.calendar_regression import CalendarRegressionModel
 from engine.models.challenger import GradientBoostingChallenger
 from engine.models.daily_change_point import DailyChangePointModel
 from engine.models.daily_ets import DailyETSModel
+from engine.models.last_year_adjusted import LastYearAdjustedModel
 from engine.models.monthly_sarima import MonthlySARIMAModel
 from engine.models.mstl_ets import MSTLETSModel
 from engine.models.seasonal_naive import SeasonalNaiveModel
@@ -23,6 +24,7 @@ MODEL_FAMILIES: dict[str, type[ModelFamily]] = {
         CalendarRegressionModel,
         TimeOfWeekTemperatureModel,
         DailyChangePointModel,
+        LastYearAdjustedModel,
         BillingPeriodChangePointModel,
         SeasonalNaiveModel,
         DailyETSModel,

@@ -39,7 +39,7 @@ FIT_END = pd.Timestamp("2023-01-01", tz=ZONE)
 FORECAST_END = pd.Timestamp("2023-02-01", tz=ZONE)
 FAMILIES = sorted(MODEL_FAMILIES)
 #: Families that need readings within the day.
-INTERVAL_ONLY = {"calendar_regression", "time_of_week_temperature"}
+INTERVAL_ONLY = {"calendar_regression", "time_of_week_temperature", "last_year_adjusted"}
 
 
 @dataclass(frozen=True)
