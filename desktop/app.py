@@ -11,12 +11,18 @@ from desktop.main_window import APP_NAME, MainWindow
 from desktop.preferences import ORGANISATION
 
 
-def run_window(project: str | None = None) -> int:
-    """Show the window (opening ``project`` if given) and run until it closes."""
+def prepared_application() -> QApplication:
+    """The application object, named so settings and the About box find this program."""
     app = QApplication.instance() or QApplication(sys.argv[:1])
     app.setOrganizationName(ORGANISATION)
     app.setApplicationName(APP_NAME)
     app.setApplicationVersion(engine.__version__)
+    return app
+
+
+def run_window(project: str | None = None) -> int:
+    """Show the window (opening ``project`` if given) and run until it closes."""
+    app = prepared_application()
     window = MainWindow()
     if project:
         window.open_project(project)
