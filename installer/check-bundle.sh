@@ -59,5 +59,26 @@ grep -q "Independence Day" "$scratch/holidays.out" \
   || { echo "FAILED  the bundled holidays named no Independence Day"; failed=1; }
 run self-check --self-check
 grep -q "^loadledger [0-9]" "$scratch/version.out" || { echo "FAILED  --version printed no version"; failed=1; }
+
+# The Linux .tar.gz, when built: install.sh twice (an update), the installed command, uninstall.sh.
+tarball="$(ls dist/loadledger-*-linux-*.tar.gz 2>/dev/null | head -n 1 || true)"
+if [ -n "$tarball" ]; then
+  mkdir -p "$scratch/unpacked" "$scratch/person"
+  tar -C "$scratch/unpacked" -xzf "$tarball"
+  unpacked="$(echo "$scratch"/unpacked/loadledger-*)"
+  as_person() { env -i HOME="$scratch/person" PATH=/usr/bin:/bin "$@" >> "$scratch/install.out" 2>&1; }
+  installed="$scratch/person/.local/share/loadledger/loadledger"
+  entry="$scratch/person/.local/share/applications/loadledger.desktop"
+  if as_person bash "$unpacked/install.sh" && as_person bash "$unpacked/install.sh" \
+    && as_person "$scratch/person/.local/bin/loadledger" --version && [ -f "$entry" ] \
+    && grep -q "^Exec=\"$installed\" --project %f" "$entry" \
+    && as_person bash "$unpacked/uninstall.sh" && [ ! -e "$installed" ] && [ ! -e "$entry" ]; then
+    echo "ok      install.sh twice, the installed command, uninstall.sh ($(basename "$tarball"))"
+  else
+    echo "FAILED  installing $(basename "$tarball"):"
+    sed 's/^/    /' "$scratch/install.out" | tail -20
+    failed=1
+  fi
+fi
 [ "$failed" -eq 0 ] && echo "bundle check passed: $bundle"
 exit "$failed"
