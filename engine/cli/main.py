@@ -26,7 +26,8 @@ EXIT_OK, EXIT_INTERNAL, EXIT_BAD_INPUT = 0, 1, 2
 def build_parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
         prog="loadledger",
-        description="Meter data to an energy budget. With no command, opens the window.",
+        description="Meter data to an energy budget. With no command, opens the window "
+        "(--self-check: opens it, shows every step once and exits).",
     )
     parser.add_argument("--version", action="version", version=f"loadledger {__version__}")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND")
