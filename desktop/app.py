@@ -3,7 +3,9 @@
 from __future__ import annotations
 
 import sys
+from importlib.resources import files
 
+from PySide6.QtGui import QIcon
 from PySide6.QtWidgets import QApplication
 
 import engine
@@ -17,6 +19,9 @@ def prepared_application() -> QApplication:
     app.setOrganizationName(ORGANISATION)
     app.setApplicationName(APP_NAME)
     app.setApplicationVersion(engine.__version__)
+    app.setDesktopFileName("loadledger")  # Wayland matches the window to the menu entry by it
+    # the packaged icon is a file on disk both when installed and when bundled
+    app.setWindowIcon(QIcon(str(files("desktop") / "loadledger.svg")))
     return app
 
 

@@ -43,6 +43,8 @@ def run_self_check(started: float, say: Callable[[str], None] = print) -> int:
         window.show()
         app.processEvents()
         say(f"self-check: window shown after {time.perf_counter() - started:.2f} s")
+        if window.windowIcon().pixmap(64, 64).isNull():
+            failures.append("the window has no icon (desktop/loadledger.svg not found or unread)")
 
         def walk() -> None:
             try:

@@ -1,4 +1,4 @@
-"""Render the application icon (installer/loadledger.svg) to the sizes each system wants.
+"""Render the application icon (desktop/loadledger.svg) to the sizes each system wants.
 
 Writes into the folder given (default build/icons): ``loadledger-N.png`` for the freedesktop
 sizes, ``loadledger.ico`` for Windows and ``loadledger.icns`` for macOS. Both container formats
@@ -19,7 +19,7 @@ from PySide6.QtCore import QBuffer, QByteArray, QIODevice, Qt
 from PySide6.QtGui import QGuiApplication, QImage, QPainter
 from PySide6.QtSvg import QSvgRenderer
 
-SOURCE = Path(__file__).with_name("loadledger.svg")
+SOURCE = Path(__file__).resolve().parent.parent / "desktop" / "loadledger.svg"
 #: The hicolor theme's usual application sizes.
 PNG_SIZES = (16, 24, 32, 48, 64, 128, 256, 512)
 ICO_SIZES = (16, 24, 32, 48, 64, 256)

@@ -15,7 +15,7 @@ machine="$(uname -m)"
 share_tree() {
   local share="$1"
   mkdir -p "$share/icons/hicolor/scalable/apps"
-  cp installer/loadledger.svg "$share/icons/hicolor/scalable/apps/loadledger.svg"
+  cp desktop/loadledger.svg "$share/icons/hicolor/scalable/apps/loadledger.svg"
   for png in build/icons/loadledger-*.png; do
     size="${png##*-}"; size="${size%.png}"
     mkdir -p "$share/icons/hicolor/${size}x${size}/apps"
