@@ -122,7 +122,10 @@ def run_per_meter(
 
 def _main_importable() -> bool:
     """Whether worker processes can start: they import the caller's main module again, which
-    a script read from standard input does not have."""
+    a script read from standard input does not have. A bundled copy starts them by running
+    its own program again (``multiprocessing.freeze_support`` in the launcher)."""
+    if getattr(sys, "frozen", False):
+        return True
     main = sys.modules.get("__main__")
     path = getattr(main, "__file__", None)
     return path is None or getattr(main, "__spec__", None) is not None or os.path.exists(path)

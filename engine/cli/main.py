@@ -1,8 +1,9 @@
 """Parse the command line, run one command, print text or JSON, and exit 0 or 2.
 
 Exit status: 0 success; 2 bad input or a project that cannot be used (one line on stderr naming
-the file, sheet, row or column and what to do); 1 an internal error (a bug: a short message, and
-the traceback only when LOADLEDGER_DEBUG is set).
+the file, sheet, row or column and what to do); 1 an internal error (a bug: a short message
+naming the error report written to the user's log folder, and the traceback only when
+LOADLEDGER_DEBUG is set).
 """
 
 from __future__ import annotations
@@ -16,6 +17,7 @@ from collections.abc import Sequence
 from engine import __version__
 from engine.budgeting import DEFAULT_WEATHER
 from engine.cli import commands
+from engine.crash_report import write_report
 from engine.errors import InputError, ProjectError
 from engine.wizard import DEFAULT_ORIGINS
 
@@ -25,7 +27,8 @@ EXIT_OK, EXIT_INTERNAL, EXIT_BAD_INPUT = 0, 1, 2
 def build_parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
         prog="loadledger",
-        description="Meter data to an energy budget. With no command, opens the window.",
+        description="Meter data to an energy budget. With no command, opens the window "
+        "(--self-check: opens it, shows every step once and exits).",
     )
     parser.add_argument("--version", action="version", version=f"loadledger {__version__}")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND")
@@ -256,8 +259,9 @@ def _json_option(parser: argparse.ArgumentParser) -> None:
 
 def main(argv: Sequence[str] | None = None) -> int:
     """Run the command line; returns the exit status."""
+    command = list(sys.argv[1:] if argv is None else argv)
     parser = build_parser()
-    args = parser.parse_args(argv)
+    args = parser.parse_args(command)
     if args.command is None:
         parser.print_help()
         return EXIT_OK
@@ -269,12 +273,18 @@ def main(argv: Sequence[str] | None = None) -> int:
     except KeyboardInterrupt:
         print("loadledger: interrupted", file=sys.stderr)
         return EXIT_INTERNAL
-    except Exception as error:  # a bug: say so plainly, show details only on request
+    except Exception as error:  # a bug: say so plainly, keep a report, details on request
         if os.environ.get("LOADLEDGER_DEBUG"):
             traceback.print_exc()
+        report = write_report(command, error)
+        where = (
+            f"a report for the developers is in {report}"
+            if report
+            else "no report could be written to the log folder"
+        )
         print(
             f"loadledger: internal error ({type(error).__name__}: {error}). This is a bug; "
-            "set LOADLEDGER_DEBUG=1 to see the details.",
+            f"{where} (set LOADLEDGER_DEBUG=1 to see the details here).",
             file=sys.stderr,
         )
         return EXIT_INTERNAL
