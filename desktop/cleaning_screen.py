@@ -23,7 +23,7 @@ from PySide6.QtWidgets import (
 
 from desktop.cleaning_jobs import Change, FixPreview, preview_fix, review_after
 from desktop.cleaning_log_view import CleaningLogView
-from desktop.cleaning_words import finding_name, step_name
+from desktop.cleaning_words import finding_name, nothing_recommended, step_name
 from desktop.findings_table import FindingsTable
 from desktop.fix_preview_plot import FixPreviewPlot
 from desktop.meter_screen import MeterScreen
@@ -64,6 +64,8 @@ class CleaningScreen(MeterScreen):
             "'for you to decide', such as lasting level changes, are left alone."
         )
         self.apply_all_button.clicked.connect(self.apply_all_recommended)
+        self.apply_all_reason = QLabel()
+        self.apply_all_reason.setStyleSheet("color: #5a5f66;")
         self.findings = FindingsTable()
         self.findings.chosen.connect(self._finding_chosen)
         self.explanation = QLabel()
@@ -86,6 +88,7 @@ class CleaningScreen(MeterScreen):
         controls.addWidget(self.meter)
         controls.addWidget(self.review_button)
         controls.addStretch(1)
+        controls.addWidget(self.apply_all_reason)
         controls.addWidget(self.apply_all_button)
         fix_row = QHBoxLayout()
         fix_row.addWidget(self.explanation, 1)
@@ -241,9 +244,9 @@ class CleaningScreen(MeterScreen):
     def _update_buttons(self) -> None:
         idle = self.task is None
         review = self.review
-        self.apply_all_button.setEnabled(
-            idle and review is not None and bool(recommended_steps(review.findings))
-        )
+        recommended = review is not None and bool(recommended_steps(review.findings))
+        self.apply_all_button.setEnabled(idle and recommended)
+        self.apply_all_reason.setText("" if recommended else nothing_recommended(review))
         # A fix is offered once its preview shows it applies: one that cannot be replayed
         # would break the meter's log.
         previewed = self.preview is not None and self.preview.after is not None

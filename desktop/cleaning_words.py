@@ -10,7 +10,8 @@ from collections.abc import Mapping
 
 import pandas as pd
 
-from engine.cleaning import FINDING_KINDS, STEP_KINDS, Finding, recommended_steps
+from desktop.wording import counted
+from engine.cleaning import FINDING_KINDS, STEP_KINDS, Finding, MeterReview, recommended_steps
 
 #: Short names for the kinds of finding (the engine's own descriptions go in tooltips).
 FINDING_NAMES: dict[str, str] = {
@@ -161,3 +162,16 @@ def quality_words(key: str, value: float) -> str:
     if reads == "count":
         return f"{int(value):,}"
     return energy_words(value)
+
+
+def nothing_recommended(review: MeterReview | None) -> str:
+    """Why "Apply all recommended" has nothing to do for ``review``, in a few words."""
+    if review is None:
+        return ""
+    if not review.findings:
+        return "No findings: nothing to apply."
+    kinds = sorted({finding_name(f.kind) for f in review.findings})
+    return (
+        f"Nothing recommended: the {counted(len(review.findings), 'finding')} "
+        f"({', '.join(kinds)}) are for you to decide one by one."
+    )

@@ -209,6 +209,8 @@ def test_all_recommended_leaves_the_level_change_to_the_user(qtbot, screen, comm
     assert [s["kind"] for s in _stored_steps(commons.project)] == ["spread"]
     assert _finding(screen, "level_shift").id == shift.id
     assert not screen.apply_all_button.isEnabled()  # nothing recommended is left
+    reason = screen.apply_all_reason.text()  # ... and the screen says why it is greyed
+    assert reason.startswith("Nothing recommended") and "level change" in reason.lower()
 
     # The user may still decide to leave the readings before the change out of fitting.
     assert screen.findings.select(shift.id)
