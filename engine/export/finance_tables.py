@@ -375,8 +375,8 @@ def run_facts(run: BudgetRun) -> list[tuple[str, str]]:
             rows += [(f"{_label(key)} ({_label(k)})", in_words(v)) for k, v in value.items()]
         else:
             rows.append((_label(key), in_words(value)))
-    seen: set[str] = set()
-    return [(label, words) for label, words in rows if not (words in seen or seen.add(words))]
+    first = {words: index for index, (_, words) in reversed(list(enumerate(rows)))}
+    return [row for index, row in enumerate(rows) if first[row[1]] == index]
 
 
 def meter_facts(

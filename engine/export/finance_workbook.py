@@ -71,7 +71,11 @@ NAME_WIDTH = 36  # column A widens to the longest meter name up to this; longer 
 #: Assumptions columns B–E (fact or step, the words, a step's note, when it was added):
 #: with column A they fit a landscape page at about 95 %.
 ASSUMPTION_WIDTHS = {"B": 20.0, "C": 56.0, "D": 20.0, "E": 20.0}
-CHART_ROWS = 21  # rows of 15 points under the Overview's 10 cm chart, and one to spare
+CHART_ROWS = 20  # rows of 15 points under the Overview's 10 cm chart, and one to spare
+CHART_CAPTION = (
+    "Chart: {name}'s month totals, P{middle} with the P{low}–P{high} range, drawn from the "
+    "sheet 'Monthly'."
+)
 DAILY_HEADER_ROW = 2
 PAGE_NOTE = "Budgets are estimates, not bills: read them with the sheet 'Assumptions'."
 DAILY_NOTE = (
@@ -156,10 +160,13 @@ def write_finance_workbook(
     chart = range_chart(sheets["Monthly"], header_row, chart_block(blocks), columns)
     chart_row = sheets["Overview"].max_row + 2
     sheets["Overview"].add_chart(chart, f"A{chart_row}")
+    caption_row = chart_row + CHART_ROWS  # under the chart: it also ends the chart's block
+    put(sheets["Overview"], caption_row, 1, _caption(chart_block(blocks), columns)).font = NOTE_FONT
     progress_steps.step(progress, 0.2, "Daily detail")
     _write_daily(sheets["Daily"], run)
     progress_steps.step(progress, 0.7, "Assumptions, data quality and scores")
     kept = {
+        "Overview": [chart_row],  # the chart prints whole, on the next page if need be
         "Monthly": [header_row + 1 + block.first for block in blocks],
         "Assumptions": _write_assumptions(sheets["Assumptions"], run, steps, data_range),
     }
@@ -170,12 +177,22 @@ def write_finance_workbook(
     )
     scores, formats = scores_frame(run, scorecards)
     table(sheets["Model scores"], scores, formats=formats)
-    printed = {"Overview": (1, chart_row + CHART_ROWS), "Daily": (1, 1)}
+    printed = {"Overview": (1, caption_row), "Daily": (1, 1)}
     _set_up_pages(book, PageLabels(project, PAGE_NOTE), printed, kept)
     progress_steps.step(progress, 0.85, "Saving the workbook")
     save_workbook(book, path, "finance workbook")
     progress_steps.step(progress, 1.0, "Finance workbook written")
     return path
+
+
+def _caption(block: Block, columns: FigureColumns) -> str:
+    levels = columns.levels
+    return CHART_CAPTION.format(
+        name=block.item.name,
+        middle=levels[len(levels) // 2],
+        low=levels[0],
+        high=levels[-1],
+    )
 
 
 def _checked_path(path: Path) -> Path:
