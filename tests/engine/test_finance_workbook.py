@@ -440,6 +440,17 @@ def test_numbers_carry_number_formats_and_headers_are_frozen(written):
     assert first[2].number_format == "mmm yyyy"
     assert {c.number_format for c in first[3:8]} == {"#,##0"}
     assert all("USD" in c.number_format and "#,##0" in c.number_format for c in first[8:12])
+    # columns as wide as the numbers as shown ("1,234,567"), not as Python prints the float
+    for column in range(4, 13):
+        values = [
+            row[0].value
+            for row in monthly.iter_rows(min_row=header_row + 1, min_col=column, max_col=column)
+            if isinstance(row[0].value, float)
+        ]
+        prefix = "USD " if column > 8 else ""
+        shown = max(len(f"{prefix}{v:,.0f}") for v in values)
+        width = monthly.column_dimensions[get_column_letter(column)].width
+        assert shown <= width <= max(shown + 4, 16), (column, shown, width)
     daily = book["Daily"]
     assert daily.freeze_panes == "A3"  # under the note and the header
     assert daily["C3"].number_format == "yyyy-mm-dd" and daily["D3"].number_format == "#,##0"
