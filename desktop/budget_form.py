@@ -31,11 +31,12 @@ from desktop.budget_jobs import (
 )
 from desktop.choices import ChoiceBox
 from engine.budget.periods import MAX_MONTHS, first_open_month, fiscal_quarter_of, fiscal_year_of
+from engine.budgeting import DEFAULT_WEATHER, DEFAULT_WEATHER_REASON
 from engine.tariffs import RATECARD_SUFFIX
 
 WEATHER_WORDS = (
-    ("a typical year", "typical"),
     ("the spread of past years", "past-years"),
+    ("a typical year", "typical"),
     ("a temperature file", WEATHER_FILE),
 )
 WEATHER_FILTER = "Temperature files (*.csv *.xlsx *.xls);;All files (*)"
@@ -100,6 +101,9 @@ class BudgetForm(QWidget):
         self.as_of.setCalendarPopup(True)
         self.as_of.dateChanged.connect(self._period_defaults)
         self.weather = ChoiceBox(WEATHER_WORDS)
+        self.weather.set_value(DEFAULT_WEATHER)
+        self.weather_note = QLabel(DEFAULT_WEATHER_REASON)
+        self.weather_note.setWordWrap(True)
         self.weather.currentIndexChanged.connect(self._show_weather_file)
         self.weather_file = FileField(
             "temperature file", "Choose a temperature file", WEATHER_FILTER
@@ -150,10 +154,11 @@ class BudgetForm(QWidget):
         grid.addWidget(self.weather_file, 1, 2)
         grid.addWidget(QLabel("Tariff"), 1, 3, Qt.AlignmentFlag.AlignRight)
         grid.addWidget(self.tariff, 1, 4, 1, 1)
-        grid.addWidget(QLabel("Paths"), 2, 0)
-        grid.addWidget(self.paths, 2, 1, Qt.AlignmentFlag.AlignLeft)
-        grid.addWidget(QLabel("Model meters on"), 2, 3, Qt.AlignmentFlag.AlignRight)
-        grid.addWidget(self.scheduler, 2, 4)
+        grid.addWidget(self.weather_note, 2, 1, 1, 5)
+        grid.addWidget(QLabel("Paths"), 3, 0)
+        grid.addWidget(self.paths, 3, 1, Qt.AlignmentFlag.AlignLeft)
+        grid.addWidget(QLabel("Model meters on"), 3, 3, Qt.AlignmentFlag.AlignRight)
+        grid.addWidget(self.scheduler, 3, 4)
         grid.setColumnStretch(2, 1)
         grid.setColumnStretch(4, 1)
 
@@ -186,6 +191,24 @@ class BudgetForm(QWidget):
 
     def _show_weather_file(self) -> None:
         self.weather_file.setEnabled(self.weather.value() == WEATHER_FILE)
+
+    def show_choices(self, choices: BudgetChoices) -> None:
+        """Fill the controls with ``choices`` (as-of date and fiscal start first: changing
+        them resets the period fields to their defaults)."""
+        day = choices.as_of
+        self.as_of.setDate(QDate(day.year, day.month, day.day))
+        self.fiscal_start.set_value(choices.fiscal_start_month)
+        self.period.set_value(choices.period)
+        year, month = (int(part) for part in choices.start.split("-"))
+        self.start.setDate(QDate(year, month, 1))
+        self.months.setValue(choices.months)
+        self.fiscal_year.setValue(choices.fiscal_year)
+        self.quarter.setValue(choices.quarter)
+        self.weather.set_value(choices.weather)
+        self.weather_file.path.setText(choices.weather_file)
+        self.tariff.path.setText(choices.tariff_file)
+        self.paths.setValue(choices.paths)
+        self.scheduler.setText(choices.scheduler)
 
     # -- reading ----------------------------------------------------------------------------
 

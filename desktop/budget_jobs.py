@@ -9,13 +9,13 @@ naming it. The run is kept in the project file as the command line keeps it.
 from __future__ import annotations
 
 import inspect
-from dataclasses import dataclass
+from dataclasses import asdict, dataclass
 from datetime import date
 
 from engine.budget import budget_months
 from engine.budget.summary import PEAK_CAUTION
 from engine.budgeting import (
-    WEATHER_CHOICES,
+    DEFAULT_WEATHER,
     BudgetRequest,
     ProjectBudget,
     budget_project,
@@ -36,6 +36,8 @@ PERIODS: dict[str, str] = {
 }
 #: The weather choice that reads a temperature file instead of the project's history.
 WEATHER_FILE = "file"
+#: The project setting holding the Budget screen's last choices (the window's own).
+FORM_SETTING = "window.budget_form"
 #: Simulated paths unless told otherwise, and the month a fiscal year starts in (the engine's).
 DEFAULT_PATHS: int = inspect.signature(BudgetRequest).parameters["paths"].default
 DEFAULT_FISCAL_START: int = (
@@ -62,11 +64,26 @@ class BudgetChoices:
     fiscal_year: int = 0
     quarter: int = 1
     fiscal_start_month: int = DEFAULT_FISCAL_START
-    weather: str = WEATHER_CHOICES[0]
+    weather: str = DEFAULT_WEATHER
     weather_file: str = ""
     tariff_file: str = ""
     paths: int = DEFAULT_PATHS
     scheduler: str = ""
+
+
+def choices_setting(choices: BudgetChoices) -> dict:
+    """The choices as a JSON setting."""
+    return {**asdict(choices), "as_of": choices.as_of.isoformat()}
+
+
+def kept_choices(project: Project) -> BudgetChoices | None:
+    """The choices of the project's last budget from this window; None when there are none
+    (or they were kept in a shape this version does not know, when the defaults serve)."""
+    stored = project.get_setting(FORM_SETTING)
+    try:
+        return BudgetChoices(**{**stored, "as_of": date.fromisoformat(stored["as_of"])})
+    except (KeyError, TypeError, ValueError):
+        return None
 
 
 def period_months(choices: BudgetChoices) -> list[str]:
@@ -107,14 +124,17 @@ def request_for(project: Project, choices: BudgetChoices) -> BudgetRequest:
 def run_budget(
     project: Project, choices: BudgetChoices, progress: Progress | None = None
 ) -> ProjectBudget:
-    """Budget every meter of the project and keep the run in the project file."""
+    """Budget every meter of the project; keep the run, and the choices it was run with, in
+    the project file (one save)."""
     outcome = budget_project(
         project,
         request_for(project, choices),
         scheduler=choices.scheduler or None,
         progress=progress,
     )
-    keep_budget(project, outcome.run)
+    with project.transaction():
+        keep_budget(project, outcome)
+        project.set_setting(FORM_SETTING, choices_setting(choices))
     return outcome
 
 

@@ -23,6 +23,8 @@ TO_DATE_COLOUR = SERIES_CYCLE[1]
 #: Alpha of the range bars' fill, as the last two hex digits of pyqtgraph's #RRGGBBAA.
 RANGE_ALPHA = "55"
 RANGE_WIDTH = 0.5
+#: Every this many months a label is always written; those between only where they fit.
+LABEL_EVERY = 3
 
 
 class BudgetRangePanel(PlotPanel):
@@ -60,6 +62,8 @@ class BudgetRangePanel(PlotPanel):
             self.plot.addItem(item)
         self.run: BudgetRun | None = None
         self.items: dict[str, Budgeted] = {}
+        #: The month labels asked of the axis: those always written, then those that may be.
+        self.month_labels: list[list[tuple[float, str]]] = [[], []]
 
     def show_run(self, run: BudgetRun) -> None:
         """Offer every budgeted thing of ``run`` (the campus first) and draw the first."""
@@ -88,7 +92,11 @@ class BudgetRangePanel(PlotPanel):
         under_way = actual > 0
         self.to_date.setData(x[under_way], actual[under_way])
         ticks = [(float(i), m.period) for i, m in enumerate(item.months)]
-        self.plot.getAxis("bottom").setTicks([ticks])
+        # pyqtgraph writes the first level always and the next only where it leaves room, so
+        # a fiscal year on a laptop screen shows every third month instead of a smudge.
+        always = ticks[::LABEL_EVERY]
+        self.month_labels = [always, [tick for tick in ticks if tick not in always]]
+        self.plot.getAxis("bottom").setTicks(self.month_labels)
         self.plot.setXRange(-0.5, len(x) - 0.5, padding=0.02)
         self.plot.enableAutoRange(axis="y")
         key = [("●", "P50", MEDIAN_COLOUR), ("▯", f"P{low} to P{high}", MEDIAN_COLOUR)]

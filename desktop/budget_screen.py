@@ -3,7 +3,8 @@ every meter on a worker; see the monthly totals with their range, cost, how well
 held in past months, and the cautions that go with a forecast.
 
 The last budget run stays on the screen (``budget``) and is announced with
-``budget_changed`` so the Export step can write it.
+``budget_changed`` so the Export step can write it. Opening a project shows the budget it
+keeps last, and the form shows the choices that budget was run with.
 """
 
 from __future__ import annotations
@@ -23,13 +24,20 @@ from PySide6.QtWidgets import (
 )
 
 from desktop.budget_form import BudgetForm
-from desktop.budget_jobs import budget_cautions, meters_without_model, period_words, run_budget
+from desktop.budget_jobs import (
+    budget_cautions,
+    kept_choices,
+    meters_without_model,
+    period_words,
+    run_budget,
+)
 from desktop.budget_plot import BudgetRangePanel
 from desktop.budget_table import BudgetTable
 from desktop.palette import TONES
 from desktop.session import Session
 from desktop.task_screen import TaskScreen
-from engine.budgeting import ProjectBudget, last_reading_day
+from engine.budgeting import ProjectBudget, last_reading_day, latest_budget
+from engine.errors import ProjectError
 from engine.project import Project
 
 
@@ -85,6 +93,7 @@ class BudgetScreen(TaskScreen):
             self._clear("Open a project to budget its meters.")
         else:
             self._clear("Choose the period and press 'Budget'.")
+            self._show_kept(project)
         if self.task is not None:
             self.task.cancel()  # the new project's as-of date is looked up once it stops
             return
@@ -104,8 +113,27 @@ class BudgetScreen(TaskScreen):
         )
 
     def _as_of_found(self, project: Project, day) -> None:
-        if self.session.project is project:
-            self.form.set_as_of(day)
+        if self.session.project is not project:
+            return
+        self.form.set_as_of(day)
+        kept = kept_choices(project)
+        if kept is not None:
+            self.form.show_choices(kept)
+
+    def _show_kept(self, project: Project) -> None:
+        """Show the budget the project keeps last, if any."""
+        try:
+            budget = latest_budget(project)
+        except ProjectError as error:
+            self.notice.say(str(error), "problem")
+            return
+        if budget is not None:
+            self._display(budget)
+            self.summary.setText(
+                f"The budget {period_words(budget)} kept in {project.path.name}, as it was "
+                f"run (budget again for new readings or other choices): "
+                f"{self.summary.text()}"
+            )
 
     def task_ended(self) -> None:
         if self._as_of_for is not self.session.project:
@@ -157,17 +185,20 @@ class BudgetScreen(TaskScreen):
     def _show(self, project: Project, budget: ProjectBudget) -> None:
         if self.session.project is not project:
             return  # another project was opened meanwhile
+        self._display(budget)
+        self.notice.say(
+            f"Budget {period_words(budget)} ready; kept in "
+            f"{project.path.name}. Write it for finance on the Export step.",
+            "done",
+        )
+
+    def _display(self, budget: ProjectBudget) -> None:
         self._keep(budget)
         run = budget.run
         self.summary.setText(_summary_words(budget))
         self.table.show_run(run)
         self.plot.show_run(run)
         self.notes.setHtml(_notes_html(budget))
-        self.notice.say(
-            f"Budget {period_words(budget)} ready; kept in "
-            f"{project.path.name}. Write it for finance on the Export step.",
-            "done",
-        )
 
 
 def _summary_words(budget: ProjectBudget) -> str:

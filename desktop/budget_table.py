@@ -20,6 +20,7 @@ from PySide6.QtWidgets import (
 
 from desktop.number_cells import number_cell
 from desktop.understood_view import NUMBER_ROLE
+from desktop.wording import counted
 from engine.budget.result import BudgetRun
 from engine.export.finance_tables import TOTAL_LABEL, Budgeted, budgeted, figure_columns
 
@@ -29,12 +30,16 @@ ROW_ROLE = Qt.ItemDataRole.UserRole + 2
 
 
 def item_title(item: Budgeted) -> str:
-    """How a budgeted thing is named on screen, e.g. "electricity (roll-up of 2 meters)"."""
+    """How a budgeted thing is named on screen, e.g. "natural gas (roll-up of 2 meters)".
+
+    The campus row adds every utility's energy in kWh (thermal kWh for gas and chilled
+    water), and says so.
+    """
     if item.scope == "meter":
         return f"{item.name} (meter)"
     if item.scope == "campus":
-        return f"Campus ({item.meters} meters)"
-    return f"{item.name} (roll-up of {item.meters} meter{'s' * (item.meters > 1)})"
+        return f"Campus, all utilities added ({counted(item.meters, 'meter')})"
+    return f"{item.name.replace('_', ' ')} (roll-up of {counted(item.meters, 'meter')})"
 
 
 def _bold(cell: QTableWidgetItem) -> None:
@@ -61,6 +66,7 @@ class BudgetTable(QWidget):
 
     def clear(self) -> None:
         self.table.clear()
+        self.table.clearSpans()
         self.table.setRowCount(0)
         self.table.setColumnCount(0)
         self.headers = []
@@ -72,6 +78,7 @@ class BudgetTable(QWidget):
         items = budgeted(run)
         rows = sum(len(item.months) + 2 for item in items)
         self.table.clear()
+        self.table.clearSpans()  # clear() keeps the heading spans of the run shown before
         self.table.setColumnCount(len(self.headers))
         self.table.setHorizontalHeaderLabels(self.headers)
         self.table.setRowCount(rows)

@@ -22,14 +22,15 @@ from PySide6.QtWidgets import (
 from desktop.budget_jobs import period_words
 from desktop.file_dialogs import ask_save_path
 from desktop.task_screen import TaskScreen
+from desktop.wording import counted
 from engine.budgeting import ProjectBudget
 from engine.export.finance_workbook import SHEETS, write_finance_workbook
 from engine.progress import Progress
 
 WORKBOOK_NAME = "finance-budget.xlsx"
 NO_BUDGET = (
-    "No budget has been run yet in this window. Run one on the Budget step; the workbook "
-    "is written from it."
+    "The open project keeps no budget yet. Run one on the Budget step; the workbook is "
+    "written from it."
 )
 
 
@@ -52,7 +53,7 @@ def budget_words(budget: ProjectBudget) -> str:
     meters = len(run.meters)
     return (
         f"Budget {period_words(budget)}, readings up to {run.as_of}, "
-        f"{meters} meter{'s' * (meters != 1)}, {run.paths:,} paths"
+        f"{counted(meters, 'meter')}, {run.paths:,} paths"
         + (f", costs under {run.tariff}." if run.tariff else ", energy only (no tariff).")
     )
 
@@ -118,7 +119,11 @@ class ExportScreen(TaskScreen):
             self, "workbooks", "Write finance workbook", "Excel workbooks (*.xlsx)", WORKBOOK_NAME
         )
         if answer is not None:
-            self.write_to(answer[0])
+            path = answer[0]
+            # A name typed without the extension gets it, as a save dialog's filter promises.
+            if path.suffix.lower() != ".xlsx":
+                path = path.with_name(path.name + ".xlsx")
+            self.write_to(path)
 
     def write_to(self, path: Path) -> None:
         """Write the budget to ``path`` (.xlsx) on a worker."""

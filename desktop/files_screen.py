@@ -26,6 +26,7 @@ from PySide6.QtWidgets import (
 )
 
 from desktop.choices import ChoiceBox, ZoneBox
+from desktop.holiday_picker import HolidayPicker
 from desktop.import_plan import (
     ImportPlan,
     PlannedFile,
@@ -39,17 +40,14 @@ from desktop.notice import Notice
 from desktop.reading_form import ReadingForm
 from desktop.session import Session
 from desktop.task_bar import TaskBar
-from desktop.understood_view import UnderstoodView
+from desktop.understood_view import KIND_WORDS, UnderstoodView
+from desktop.wording import counted
 from desktop.workers import SHUTDOWN_SECONDS, Failure, Task
+from engine.calendar_edit import current as current_calendar
 from engine.errors import InputError
 from engine.project import Project
 
-KINDS = (
-    ("decide from the contents", None),
-    ("meter readings", "meters"),
-    ("utility bills", "bills"),
-    ("weather station", "weather"),
-)
+KINDS = (("decide from the contents", None), *((words, kind) for kind, words in KIND_WORDS.items()))
 FILE_FILTER = "Spreadsheets and text files (*.xlsx *.xlsm *.xls *.csv *.txt *.tsv);;All files (*)"
 PROBLEM_INK = QColor("#9b3b16")
 READING = "reading files"
@@ -57,16 +55,21 @@ READING = "reading files"
 
 def _state_words(planned: PlannedFile, reading: bool) -> str:
     if planned.state == "problem":
-        return "cannot be read"
+        if planned.read_as is None:
+            return "cannot be read"
+        return f"cannot be read as {KIND_WORDS[planned.read_as]}"
     if planned.state == "waiting":
         return "reading…" if reading else "not read yet"
-    report = planned.report or {}
-    if report.get("kind") == "meters":
+    report = planned.report
+    if report["kind"] == "meters":
         count = len(report["meters"])
-        return f"read: {count} meter{'s' * (count != 1)}"
-    if report.get("kind") == "bills":
+        return f"read: {counted(count, 'meter')}"
+    if report["kind"] == "bills":
         return f"read: {report['periods']} bills"
-    return f"read: {report.get('count', 0):,} temperatures"
+    if report["kind"] == "calendar":
+        count = len(report["periods"])
+        return f"read: {counted(count, 'campus period')}"
+    return f"read: {report['count']:,} temperatures"
 
 
 class FilesScreen(QWidget):
@@ -84,6 +87,12 @@ class FilesScreen(QWidget):
         self.remove_button.clicked.connect(self._remove_selected)
         self.site_zone = ZoneBox("choose the site's time zone")
         self.site_zone.zone_chosen.connect(self._site_zone_chosen)
+        self.holidays = HolidayPicker()
+        self.holidays.setToolTip(
+            "The public holidays a campus calendar file takes (closed days in profiles and "
+            "models); the command line's --holidays."
+        )
+        self.holidays.chosen.connect(self._holidays_chosen)
         self.file_table = QTableWidget(0, 3)
         self.file_table.setHorizontalHeaderLabels(("File", "What it is", "State"))
         self.file_table.verticalHeader().hide()
@@ -120,6 +129,10 @@ class FilesScreen(QWidget):
         top.addStretch(1)
         top.addWidget(QLabel("Site time zone"))
         top.addWidget(self.site_zone)
+        calendar = QHBoxLayout()
+        calendar.addWidget(QLabel("Public holidays of the campus calendar"))
+        calendar.addWidget(self.holidays)
+        calendar.addStretch(1)
         details = QSplitter(Qt.Orientation.Horizontal)
         details.addWidget(self.form)
         details.addWidget(self.view)
@@ -135,6 +148,7 @@ class FilesScreen(QWidget):
         bottom.addWidget(self.create_button)
         layout = QVBoxLayout(self)
         layout.addLayout(top)
+        layout.addLayout(calendar)
         layout.addWidget(self.notice)
         layout.addWidget(middle, 1)
         layout.addLayout(bottom)
@@ -187,6 +201,10 @@ class FilesScreen(QWidget):
             self.notice.say(error.message, "problem")
             self.site_zone.set_zone(self.plan.site_timezone)
             return
+        self._request_read()
+
+    def _holidays_chosen(self, code: str | None) -> None:
+        self.plan.set_holidays(code)
         self._request_read()
 
     def set_site_timezone(self, zone: str | None) -> None:
@@ -303,7 +321,18 @@ class FilesScreen(QWidget):
     def _project_changed(self, project: Project | None) -> None:
         if project is not None and self.plan.site_timezone is None:
             self.set_site_timezone(project.timezone)
+        if project is not None and self.plan.holidays is None:
+            self._show_project_holidays(project)
         self._update_store_buttons()
+
+    def _show_project_holidays(self, project: Project) -> None:
+        """Start from the public holidays the open project's calendar already takes."""
+        try:
+            calendar = current_calendar(project)
+        except InputError as error:
+            self.notice.say(error.message, "problem")
+            return
+        self.holidays.choose(calendar.country, calendar.subdivision)
 
     def selected(self) -> PlannedFile | None:
         """The file whose settings and report are shown."""
@@ -371,7 +400,8 @@ class FilesScreen(QWidget):
         if planned is None:
             self.view.show_nothing("Add files to see what the importer understands of them.")
         elif planned.problem is not None:
-            self.view.show_problem(planned.path.name, planned.problem)
+            told = planned.kind is not None
+            self.view.show_problem(planned.path.name, planned.problem, planned.read_as, told)
         elif planned.report is not None:
             self.view.show_report(planned.report)
         else:

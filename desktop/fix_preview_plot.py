@@ -17,6 +17,7 @@ from desktop.cleaning_jobs import FixPreview
 from desktop.cleaning_words import finding_name, step_name
 from desktop.palette import FIT_LINE, INK, SERIES_CYCLE
 from desktop.pattern_plots import PlotPanel
+from desktop.wording import counted
 from engine.cleaning import CleanedSeries
 
 _EPOCH = pd.Timestamp("1970-01-01", tz="UTC")
@@ -139,10 +140,12 @@ class FixPreviewPlot(PlotPanel):
     def _caption(preview: FixPreview, after: CleanedSeries, estimated: np.ndarray) -> str:
         fix = preview.finding.fix
         logged = preview.logged_steps
-        basis = f"the {logged} logged step{'s' * (logged != 1)} and " if logged else ""
+        basis = f"the {counted(logged, 'logged step')} and " if logged else ""
         excluded = int(after.excluded.sum())
-        left_out = f" {excluded:,} intervals in view are left out of fitting." if excluded else ""
+        left_out = (
+            f" {counted(excluded, 'interval')} in view left out of fitting." if excluded else ""
+        )
         return (
-            f"After: {basis}this {step_name(fix.kind)}, replayed on a copy (nothing is saved). "
-            f"{int(estimated.sum()):,} estimated values in view.{left_out}"
+            f"After: {basis}the step “{step_name(fix.kind)}”, replayed on a copy (nothing is "
+            f"saved). {counted(int(estimated.sum()), 'estimated value')} in view.{left_out}"
         )

@@ -12,14 +12,24 @@ from collections.abc import Callable, Iterable, Sequence
 from dataclasses import dataclass, field, replace
 from pathlib import Path
 
+from desktop.wording import counted
 from engine.errors import InputError
 from engine.importing import ImportedFiles, assemble_project, store_files
 from engine.progress import Progress, step
 from engine.project import Project
-from engine.reading import BillFile, MeterFile, ReadOptions, WeatherFile, describe, read_file
+from engine.reading import (
+    BillFile,
+    CalendarFile,
+    MeterFile,
+    ReadOptions,
+    WeatherFile,
+    describe,
+    guess_kind,
+    read_file,
+)
 from engine.reading.zones import validate_timezone
 
-ReadResult = MeterFile | BillFile | WeatherFile
+ReadResult = MeterFile | BillFile | WeatherFile | CalendarFile
 
 
 @dataclass
@@ -27,6 +37,8 @@ class PlannedFile:
     """One chosen file: what it is said to be, how to read it, and what reading it gave.
 
     ``kind`` None lets the importer decide; ``options.timezone`` None follows the site's zone.
+    ``read_as`` is the kind the file was last read (or tried) as, None when nothing could
+    tell.
     """
 
     path: Path
@@ -35,6 +47,7 @@ class PlannedFile:
     result: ReadResult | None = None
     report: dict | None = None
     problem: str | None = None
+    read_as: str | None = None
 
     @property
     def state(self) -> str:
@@ -44,7 +57,12 @@ class PlannedFile:
         return "waiting" if self.result is None else "read"
 
     def forget(self) -> None:
-        self.result = self.report = self.problem = None
+        self.result = self.report = self.problem = self.read_as = None
+
+    @property
+    def is_calendar(self) -> bool:
+        """Said to be, or read as, a campus calendar (which takes the public holidays)."""
+        return "calendar" in (self.kind, self.read_as)
 
 
 @dataclass(frozen=True)
@@ -62,14 +80,18 @@ class ReadOutcome:
     result: ReadResult | None = None
     report: dict | None = None
     problem: str | None = None
+    read_as: str | None = None
 
 
 class ImportPlan:
-    """The files on the Files screen, in the order chosen, and the site's time zone."""
+    """The files on the Files screen, in the order chosen, the site's time zone and the public
+    holidays a campus calendar takes (``holidays``: "US", "US-IL" or None, as
+    :class:`~engine.reading.ReadOptions` has it)."""
 
     def __init__(self) -> None:
         self.files: list[PlannedFile] = []
         self.site_timezone: str | None = None
+        self.holidays: str | None = None
         self._listeners: list[Callable[[], None]] = []
 
     def subscribe(self, listener: Callable[[], None]) -> None:
@@ -133,10 +155,21 @@ class ImportPlan:
                 planned.forget()
         self._changed()
 
+    def set_holidays(self, code: str | None) -> None:
+        """The public holidays of the campus calendar; calendar files are read again."""
+        if code == self.holidays:
+            return
+        self.holidays = code
+        for planned in self.files:
+            if planned.is_calendar:
+                planned.forget()
+        self._changed()
+
     def options_for(self, planned: PlannedFile) -> ReadOptions:
-        """The settings a file is read with: its own, with the site's zone where it has none."""
+        """The settings a file is read with: its own, with the site's zone where it has none,
+        and the plan's public holidays (stored with every file, as the command line does)."""
         zone = planned.options.timezone or self.site_timezone
-        return replace(planned.options, timezone=zone)
+        return replace(planned.options, timezone=zone, holidays=self.holidays)
 
     def pending(self) -> list[ReadJob]:
         """A job for every file not read with its current settings."""
@@ -156,7 +189,7 @@ class ImportPlan:
             current = ReadJob(planned.path, planned.kind, self.options_for(planned))
             if current == outcome.job and planned.state == "waiting":
                 planned.result, planned.report = outcome.result, outcome.report
-                planned.problem = outcome.problem
+                planned.problem, planned.read_as = outcome.problem, outcome.read_as
         self._changed()
 
     def storing_problem(self, project_timezone: str | None = None) -> str | None:
@@ -182,6 +215,12 @@ class ImportPlan:
                 )
         if any(planned.state == "waiting" for planned in self.files):
             return "Some files are still to be read."
+        calendars = [p.path.name for p in self.files if isinstance(p.result, CalendarFile)]
+        if len(calendars) > 1:
+            return (
+                f"{' and '.join(calendars)} are each a campus calendar; a project keeps one. "
+                "Remove all but one, or say what the others are."
+            )
         return None
 
     def bundles(self) -> list[ImportedFiles]:
@@ -197,6 +236,7 @@ class ImportPlan:
                     bills=[result] if isinstance(result, BillFile) else [],
                     weather=[result] if isinstance(result, WeatherFile) else [],
                     options=self.options_for(planned),
+                    calendar=result if isinstance(result, CalendarFile) else None,
                 )
             )
         return bundles
@@ -207,14 +247,16 @@ class ImportPlan:
 
 
 def read_jobs(jobs: Sequence[ReadJob], progress: Progress | None = None) -> list[ReadOutcome]:
-    """Read each file; a file that cannot be read gets its problem, the others go on."""
+    """Read each file; a file that cannot be read gets its problem and the kind it was tried
+    as, the others go on."""
     outcomes = []
     for done, job in enumerate(jobs):
         step(progress, done / len(jobs), f"reading {job.path.name}")
         try:
             result = read_file(job.path, job.options, job.kind)
         except InputError as error:
-            outcomes.append(ReadOutcome(job, problem=error.at_file(job.path).message))
+            problem = error.at_file(job.path).message
+            outcomes.append(ReadOutcome(job, problem=problem, read_as=_tried_as(job)))
         except OSError as error:
             problem = (
                 f"{job.path.name}: the file cannot be opened ({error.strerror or error}). "
@@ -222,9 +264,21 @@ def read_jobs(jobs: Sequence[ReadJob], progress: Progress | None = None) -> list
             )
             outcomes.append(ReadOutcome(job, problem=problem))
         else:
-            outcomes.append(ReadOutcome(job, result=result, report=describe(result)))
+            report = describe(result)
+            outcomes.append(ReadOutcome(job, result, report, read_as=report["kind"]))
     step(progress, 1.0, "files read")
     return outcomes
+
+
+def _tried_as(job: ReadJob) -> str | None:
+    """The kind a file that failed was read as: the one it was said to be, else the one its
+    contents suggested (None when not even a table could be found in it)."""
+    if job.kind is not None:
+        return job.kind
+    try:
+        return guess_kind(job.path, job.options)
+    except (InputError, OSError):
+        return None
 
 
 def project_path(chosen: str | Path) -> Path:
@@ -274,9 +328,12 @@ def stored_summary(bundles: Sequence[ImportedFiles]) -> str:
     meters = sum(len(f.meters) for b in bundles for f in b.meters)
     bills = sum(len(b.bills) for b in bundles)
     weather = sum(len(b.weather) for b in bundles)
-    parts = [f"{meters} meter{'s' * (meters != 1)}"]
+    periods = sum(len(b.calendar.calendar.periods) for b in bundles if b.calendar)
+    parts = [f"{counted(meters, 'meter')}"]
     if bills:
-        parts.append(f"{bills} bill file{'s' * (bills != 1)}")
+        parts.append(f"{counted(bills, 'bill file')}")
     if weather:
-        parts.append(f"{weather} weather file{'s' * (weather != 1)}")
+        parts.append(f"{counted(weather, 'weather file')}")
+    if any(b.calendar for b in bundles):
+        parts.append(f"the campus calendar ({counted(periods, 'period')})")
     return ", ".join(parts)

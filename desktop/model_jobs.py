@@ -61,7 +61,7 @@ class ModelReport:
     """Everything the Models screen shows about one meter's recommendation.
 
     ``ranking`` is the engine's ranking table; ``coefficients`` the chosen model's statements
-    in physical units (None, with ``coefficients_note``, for families that give none);
+    in physical units, or how it forecasts (None, with ``coefficients_note``, without a model);
     ``residuals`` maps each of :data:`RESIDUAL_GROUPINGS` to residual % by group (the
     engine's words on the largest systematic miss are among the ``reasons``).
     ``kept`` says when and where the model was stored; ``backtest`` is the engine's backtest
@@ -165,14 +165,10 @@ def _report(
 
 
 def _add_coefficients(report: ModelReport, model: EnergyModel | None) -> None:
-    table = getattr(model, "coefficients_table", None)
-    if table is None:
-        report.coefficients_note = (
-            f"The {report.chosen_label} does not state its effects in physical units; judge it "
-            "by its backtest scores and the residuals."
-        )
+    if model is None:
+        report.coefficients_note = "No fitted model is stored: fit again to see what it says."
         return
-    report.coefficients = table()
+    report.coefficients = model.coefficients_table()
 
 
 def _add_trace(report: ModelReport, backtest: BacktestResult | None) -> None:

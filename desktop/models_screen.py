@@ -14,7 +14,6 @@ from html import escape
 from PySide6.QtCore import Qt
 from PySide6.QtWidgets import (
     QCheckBox,
-    QGridLayout,
     QHBoxLayout,
     QLabel,
     QPushButton,
@@ -25,6 +24,7 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from desktop.flow_layout import FlowLayout
 from desktop.meter_screen import MeterScreen
 from desktop.model_jobs import (
     DEFAULT_ORIGINS,
@@ -41,20 +41,17 @@ from desktop.palette import TONES
 from desktop.session import Session
 from desktop.workers import Failure, Task, Work
 
-FAMILY_COLUMNS = 3
-
 
 class FamilyPicker(QWidget):
-    """One check box per model family; less explainable families say so."""
+    """One check box per model family, as many to a row as fit; less explainable families
+    say so."""
 
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__(parent)
         self.boxes: dict[str, QCheckBox] = {}
-        grid = QGridLayout(self)
-        grid.setContentsMargins(0, 0, 0, 0)
-        grid.setHorizontalSpacing(16)
-        grid.setVerticalSpacing(2)
-        for position, (name, label, explainable) in enumerate(family_choices()):
+        flow = FlowLayout(self)
+        flow.setContentsMargins(0, 0, 0, 0)
+        for name, label, explainable in family_choices():
             box = QCheckBox(label if explainable else f"{label} · less explainable")
             box.setToolTip(
                 "Explainable: its effects can be stated in plain words."
@@ -62,7 +59,7 @@ class FamilyPicker(QWidget):
                 else "A benchmark or flexible model: chosen only when clearly more accurate."
             )
             self.boxes[name] = box
-            grid.addWidget(box, position // FAMILY_COLUMNS, position % FAMILY_COLUMNS)
+            flow.addWidget(box)
 
     def tick(self, names: Sequence[str]) -> None:
         for name, box in self.boxes.items():

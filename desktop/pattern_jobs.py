@@ -12,6 +12,7 @@ from dataclasses import dataclass, field
 
 import pandas as pd
 
+from desktop.wording import counted
 from engine.cleaning.project_log import stored_calendar
 from engine.profile_run import ProjectMeterProfile, profile_project_meter
 from engine.profiles import TemperatureResponse
@@ -121,7 +122,7 @@ def _basis(project: Project, meter: str) -> str:
     """What the profiles are of: how many logged steps, and which calendar labels the days."""
     logged = len(project.cleaning_steps(meter))
     cleaning = (
-        f"Cleaned readings: {logged} logged step{'s' * (logged != 1)} replayed, ranges left "
+        f"Cleaned readings: {counted(logged, 'logged step')} replayed, ranges left "
         "out of fitting dropped."
         if logged
         else "Readings as recorded: no cleaning steps logged for this meter."

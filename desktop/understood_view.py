@@ -23,12 +23,19 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from desktop.wording import counted
+
 #: Data role holding a cell's number as the engine gave it (the text is rounded for reading).
 NUMBER_ROLE = Qt.ItemDataRole.UserRole
 ROWS_SHOWN = 8
 
 STAMP_WORDS = {"start": "interval start", "end": "interval end", "between reads": "between reads"}
-KIND_WORDS = {"meters": "meter readings", "bills": "utility bills", "weather": "weather station"}
+KIND_WORDS = {
+    "meters": "meter readings",
+    "bills": "utility bills",
+    "weather": "weather station",
+    "calendar": "campus calendar",
+}
 
 
 @dataclass(frozen=True)
@@ -103,6 +110,13 @@ WEATHER_COLUMNS = (
     Column("Lowest °C", lambda w: _quantity(w["min_c"]), "min_c"),
     Column("Highest °C", lambda w: _quantity(w["max_c"]), "max_c"),
 )
+#: A calendar's rows: its named periods, then the public holidays of the years they cover.
+CALENDAR_COLUMNS = (
+    Column("Name", lambda d: d["name"]),
+    Column("Kind", lambda d: d["kind"]),
+    Column("First day", lambda d: d["first_day"]),
+    Column("Last day", lambda d: d["last_day"]),
+)
 FINDING_HEADERS = ("Meter", "What", "How many", "In words", "Rows in the file")
 WIDEST_COLUMN = 360
 
@@ -121,8 +135,30 @@ def _summary(report: dict) -> str:
         lines.append(f"{place[:1].upper()}{place[1:]}; {layout}.")
         lines.append(f"Stamps: {escape(stamps['format'])}; {escape(stamps['note'])}.")
         lines.append(f"Rows left out: {report['excluded_rows']}.")
+    if report["kind"] == "calendar":
+        lines.append(_calendar_words(report))
     nothing = "Nothing is stored until you create a project or add the files to one."
     return "<br>".join([*lines, f"<i>{nothing}</i>"])
+
+
+def _calendar_words(report: dict) -> str:
+    """How many periods and public holidays, and whose holidays they are."""
+    periods, holidays = len(report["periods"]), len(report["public_holidays"])
+    words = f"{counted(periods, 'campus period')}"
+    if report["country"] is None:
+        return f"{words}; no public holidays (choose the country above to add them)."
+    place = "-".join(filter(None, (report["country"], report["subdivision"])))
+    return f"{words}; {holidays} public holidays of {escape(place)} in the years they cover."
+
+
+def calendar_rows(report: dict) -> list[dict]:
+    """The periods of a calendar report, then its public holidays as one-day rows."""
+    holidays = [
+        {"name": day["name"], "kind": "public holiday", "first_day": day["date"],
+         "last_day": day["date"]}
+        for day in report["public_holidays"]
+    ]  # fmt: skip
+    return [*report["periods"], *holidays]
 
 
 def _rows_words(rows: list[int]) -> str:
@@ -161,12 +197,20 @@ class UnderstoodView(QWidget):
         self._fill_table((), [])
         self.findings.clear()
 
-    def show_problem(self, file: str, problem: str) -> None:
-        """A file that could not be read: the engine's message says where and what to do."""
+    def show_problem(self, file: str, problem: str, read_as: str | None, told: bool) -> None:
+        """A file that could not be read: what it was read as (``told``: the user said so,
+        else its contents suggested it), the engine's message, and what to do."""
+        if read_as is None:
+            taken = "could not be read: no table of dates and figures was found in it."
+        elif told:
+            taken = f"could not be read as {KIND_WORDS[read_as]}, as you said it is."
+        else:
+            taken = f"looks like {KIND_WORDS[read_as]} but could not be read as such."
         self.summary.setText(
-            f"<b>{escape(file)}</b> could not be read.<br>"
+            f"<b>{escape(file)}</b> {taken}<br>"
             f"<span style='color:#9b3b16'>{escape(problem)}</span><br>"
-            "Correct the reading settings on the left and read it again, or remove the file."
+            "What is this file? Choose its kind under 'What it is' in the list above, or "
+            "correct the reading settings on the left and read it again, or remove the file."
         )
         self._fill_table((), [])
         self.findings.clear()
@@ -176,6 +220,8 @@ class UnderstoodView(QWidget):
         kind = report["kind"]
         if kind == "meters":
             self._fill_table(METER_COLUMNS, report["meters"])
+        elif kind == "calendar":
+            self._fill_table(CALENDAR_COLUMNS, calendar_rows(report))
         else:
             self._fill_table(BILL_COLUMNS if kind == "bills" else WEATHER_COLUMNS, [report])
         self._fill_findings(report)

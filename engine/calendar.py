@@ -154,6 +154,32 @@ class CampusCalendar:
         )
 
 
+def holiday_countries() -> dict[str, str]:
+    """Countries with a public-holiday list, code → name, in the order of their names.
+
+    The names come from the ``holidays`` package's registry of country classes
+    ("UnitedStates" reads "United States"); a country it does not name is shown by its code.
+    """
+    named = {
+        entry[1]: re.sub(r"(?<=[a-z])(?=[A-Z])", " ", entry[0])
+        for entry in getattr(holidays.registry, "COUNTRIES", {}).values()
+    }
+    codes = holidays.list_supported_countries(include_aliases=False)
+    return dict(sorted(((code, named.get(code, code)) for code in codes), key=lambda p: p[1]))
+
+
+def holiday_subdivisions(country: str) -> dict[str, str]:
+    """The regions of ``country`` with their own public holidays, code → name (the code where
+    the ``holidays`` package gives no name)."""
+    codes = holidays.list_supported_countries(include_aliases=False).get(country, [])
+    names: dict[str, str] = {}
+    if codes:
+        aliases = holidays.country_holidays(country).subdivisions_aliases
+        for name, code in aliases.items():
+            names.setdefault(code, name)
+    return {code: names.get(code, code) for code in codes}
+
+
 def _format_clock(minutes: int) -> str:
     return f"{minutes // 60:02d}:{minutes % 60:02d}"
 

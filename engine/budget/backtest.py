@@ -11,7 +11,7 @@ as in the models' rolling-origin backtest.
 from __future__ import annotations
 
 from collections.abc import Callable, Mapping, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from datetime import date
 
 import numpy as np
@@ -24,12 +24,22 @@ from engine.budget.periods import BudgetWindow
 from engine.budget.plan import MeterPlan
 from engine.budget.result import Calibration
 from engine.budget.simulate import simulate_paths
+from engine.budget.skill import (
+    LAST_YEAR,
+    LAST_YEAR_COLUMN,
+    SEASONAL_NAIVE,
+    SEASONAL_NAIVE_COLUMN,
+    baseline_windows,
+    skill,
+)
 from engine.budget.summary import check_levels, roll_up_groups, spreads
 from engine.budget.weather_paths import WeatherAssumption
 from engine.errors import InputError
 from engine.models.base import ModelInputs
 from engine.progress import Progress, step
 
+#: The metered month total and the naive budgets' totals of each past month.
+_MEASURED = ("actual kWh", LAST_YEAR_COLUMN, SEASONAL_NAIVE_COLUMN)
 #: Makes the meter plans a budget as of the given date would have had.
 PlanFactory = Callable[[date], Sequence[MeterPlan]]
 
@@ -40,7 +50,9 @@ class BudgetBacktest:
 
     ``pairs`` has one row per origin month and meter or roll-up: ``month``, ``kind``
     (``"meter"``, ``"utility"`` or ``"campus"``), ``name``, ``actual kWh`` (NaN when the
-    month's readings are incomplete), ``mean kWh`` and ``P{level}`` per level. ``skipped``
+    month's readings are incomplete), the naive budgets ``last year kWh`` and ``last week
+    kWh`` (:mod:`engine.budget.skill`; NaN without whole readings), ``mean kWh`` and
+    ``P{level}`` per level. ``skipped``
     lists origins the plan factory or the simulation could not serve, with the message.
     """
 
@@ -49,10 +61,17 @@ class BudgetBacktest:
     levels: tuple[int, ...]
 
     def calibration(self, name: str, kind: str = "meter") -> Calibration:
-        """The calibration of one meter's (or roll-up's) range, from its most recent months."""
+        """The calibration of one meter's (or roll-up's) range, from its most recent months,
+        with the P50's skill against the naive budgets on the same months."""
         rows = self.pairs[(self.pairs["name"] == name) & (self.pairs["kind"] == kind)]
         recent = rows.sort_values("month").tail(CALIBRATION_WINDOW)
-        return calibrate(recent, level_low=self.levels[0], level_high=self.levels[-1])
+        made = calibrate(recent, level_low=self.levels[0], level_high=self.levels[-1])
+        middle = "P50" if 50 in self.levels else "mean kWh"
+        return replace(
+            made,
+            vs_last_year=skill(recent, LAST_YEAR_COLUMN, LAST_YEAR, middle),
+            vs_seasonal_naive=skill(recent, SEASONAL_NAIVE_COLUMN, SEASONAL_NAIVE, middle),
+        )
 
     def calibrations(self) -> dict[str, Calibration]:
         """Per meter name, for :func:`engine.budget.simulate_budget`."""
@@ -86,7 +105,7 @@ def _rows(
     month: str,
     plans: Sequence[MeterPlan],
     totals: dict[str, np.ndarray],
-    actuals: dict[str, float],
+    actuals: dict[str, dict[str, float]],
     levels: tuple[int, ...],
 ) -> list[dict[str, object]]:
     groups = [("meter", plan.name, [plan.name]) for plan in plans] + roll_up_groups(plans)
@@ -99,7 +118,10 @@ def _rows(
                 "month": month,
                 "kind": kind,
                 "name": name,
-                "actual kWh": float(np.sum([actuals[member] for member in members])),
+                **{
+                    column: float(np.sum([actuals[member][column] for member in members]))
+                    for column in _MEASURED
+                },
                 "mean kWh": spread.mean,
                 **{f"P{level}": value for level, value in spread.quantiles.items()},
             }
@@ -177,13 +199,21 @@ def backtest_budget(
                 f"the history has no readings for meter(s) {', '.join(unknown)}.",
                 hint="Give the whole history of every meter the plans budget.",
             )
+        spans = {
+            "actual kWh": (window.start, window.end, 1.0),
+            **baseline_windows(window.start, month, plans[0].timezone),
+        }
         actuals = {
-            plan.name: month_total(history[plan.name], window.start, window.end) for plan in plans
+            plan.name: {
+                column: factor * month_total(history[plan.name], start, end)
+                for column, (start, end, factor) in spans.items()
+            }
+            for plan in plans
         }
         by_meter = {meter.plan.name: meter.months[:, 0] for meter in totals.meters}
         rows += _rows(month, plans, by_meter, actuals, levels)
     step(progress, 1.0, "Past budgets made")
-    columns = ["month", "kind", "name", "actual kWh", "mean kWh", *(f"P{x}" for x in levels)]
+    columns = ["month", "kind", "name", *_MEASURED, "mean kWh", *(f"P{x}" for x in levels)]
     return BudgetBacktest(
         pairs=pd.DataFrame(rows, columns=columns),
         skipped=pd.DataFrame(skipped, columns=["month", "message"]),

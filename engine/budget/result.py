@@ -6,6 +6,8 @@ These plain dataclasses are the contract between the budget engine, the command 
 
 from __future__ import annotations
 
+import math
+from collections.abc import Mapping
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -24,6 +26,10 @@ class Spread:
 
     def to_json(self) -> dict[str, Any]:
         return {"mean": self.mean, "quantiles": dict(self.quantiles)}
+
+    @classmethod
+    def from_json(cls, data: Mapping[str, Any]) -> Spread:
+        return cls(mean=data["mean"], quantiles=dict(data["quantiles"]))
 
 
 @dataclass(frozen=True)
@@ -50,6 +56,15 @@ class PeriodTotal:
             out["cost"] = self.cost.to_json()
         return out
 
+    @classmethod
+    def from_json(cls, data: Mapping[str, Any]) -> PeriodTotal:
+        return cls(
+            period=data["month"] if "month" in data else data["period"],
+            actual_to_date=data["actual_to_date"],
+            energy=Spread.from_json(data),
+            cost=Spread.from_json(data["cost"]) if "cost" in data else None,
+        )
+
 
 @dataclass
 class MeterBudget:
@@ -74,6 +89,26 @@ class MeterBudget:
             "total": self.total.to_json(),
         }
 
+    @classmethod
+    def from_json(
+        cls,
+        data: Mapping[str, Any],
+        daily: pd.DataFrame | None = None,
+        scores: Mapping[str, Any] | None = None,
+    ) -> MeterBudget:
+        """The meter's budget from :meth:`to_json`, with the daily detail and scores that the
+        JSON leaves out (an empty daily table when not given)."""
+        return cls(
+            name=data["name"],
+            utility=data["utility"],
+            model=data["model"],
+            months=[PeriodTotal.from_json(m) for m in data["months"]],
+            total=PeriodTotal.from_json(data["total"]),
+            daily=pd.DataFrame() if daily is None else daily,
+            unit=data["unit"],
+            scores=dict(scores or {}),
+        )
+
 
 @dataclass
 class RollUp:
@@ -94,6 +129,60 @@ class RollUp:
             "total": self.total.to_json(),
         }
 
+    @classmethod
+    def from_json(cls, data: Mapping[str, Any]) -> RollUp:
+        return cls(
+            group=data["group"],
+            meters=list(data["meters"]),
+            months=[PeriodTotal.from_json(m) for m in data["months"]],
+            total=PeriodTotal.from_json(data["total"]),
+            unit=data["unit"],
+        )
+
+
+@dataclass(frozen=True)
+class Skill:
+    """How the budget's P50 month totals compared with a naive budget's, over past months.
+
+    ``p50_mape`` and ``baseline_mape`` are mean absolute percentage errors of the month totals
+    over the ``months`` both could be scored on; ``relative`` is ``1 − p50_mape /
+    baseline_mape`` (0.2: the P50 missed by a fifth less than the baseline; negative: it
+    missed by more).
+    """
+
+    baseline: str
+    months: int
+    p50_mape: float
+    baseline_mape: float
+
+    @property
+    def relative(self) -> float:
+        if not self.months or self.baseline_mape == 0:
+            return float("nan")
+        return 1.0 - self.p50_mape / self.baseline_mape
+
+    def sentence(self) -> str:
+        if not self.months:
+            return f"no past month could be compared with {self.baseline}"
+        verdict = "better" if self.relative > 0 else "worse"
+        return (
+            f"P50 month totals missed by {self.p50_mape:.1f} % on average over {self.months} "
+            f"past months, against {self.baseline_mape:.1f} % for {self.baseline} "
+            f"({abs(self.relative):.0%} {verdict})"
+        )
+
+    def to_json(self) -> dict[str, Any]:
+        known = bool(self.months)
+        relative = self.relative
+        return {
+            "baseline": self.baseline,
+            "months": self.months,
+            "p50_mape": self.p50_mape if known else None,
+            "baseline_mape": self.baseline_mape if known else None,
+            "relative": relative if known and math.isfinite(relative) else None,
+            "summary": self.sentence(),
+        }
+
 
 @dataclass
 class Calibration:
@@ -109,6 +198,9 @@ class Calibration:
     tried: int
     scale: float
     method: str
+    #: The P50's skill against the same month last year, and against a seasonal naive budget.
+    vs_last_year: Skill | None = None
+    vs_seasonal_naive: Skill | None = None
 
     @property
     def coverage(self) -> float:
@@ -125,6 +217,8 @@ class Calibration:
                 f"; ranges were {'widened' if self.scale > 1 else 'narrowed'} by a factor "
                 f"{self.scale:.2f} ({self.method})"
             )
+        if self.vs_last_year is not None and self.vs_last_year.months:
+            text += f"; {self.vs_last_year.sentence()}"
         return text
 
     def to_json(self) -> dict[str, Any]:
@@ -136,7 +230,42 @@ class Calibration:
             "scale": self.scale,
             "method": self.method,
             "summary": self.sentence(),
+            "skill_vs_last_year": _skill_json(self.vs_last_year),
+            "skill_vs_seasonal_naive": _skill_json(self.vs_seasonal_naive),
         }
+
+    @classmethod
+    def from_json(cls, data: Mapping[str, Any]) -> Calibration:
+        low, high = data["levels"]
+        return cls(
+            low,
+            high,
+            data["held"],
+            data["tried"],
+            data["scale"],
+            data["method"],
+            _skill_from_json(data.get("skill_vs_last_year")),
+            _skill_from_json(data.get("skill_vs_seasonal_naive")),
+        )
+
+
+def _skill_json(skill: Skill | None) -> dict[str, Any] | None:
+    return None if skill is None else skill.to_json()
+
+
+def _skill_from_json(data: Mapping[str, Any] | None) -> Skill | None:
+    """A :class:`Skill` from :meth:`Skill.to_json` (budgets kept before it was added: None)."""
+    if data is None:
+        return None
+    unknown = float("nan")
+    p50 = data["p50_mape"]
+    baseline = data["baseline_mape"]
+    return Skill(
+        data["baseline"],
+        data["months"],
+        unknown if p50 is None else p50,
+        unknown if baseline is None else baseline,
+    )
 
 
 @dataclass
@@ -175,3 +304,32 @@ class BudgetRun:
             "assumptions": self.assumptions,
             "cautions": list(self.cautions),
         }
+
+    @classmethod
+    def from_json(
+        cls,
+        data: Mapping[str, Any],
+        daily: Mapping[str, pd.DataFrame] | None = None,
+        scores: Mapping[str, Mapping[str, Any]] | None = None,
+    ) -> BudgetRun:
+        """The run from :meth:`to_json`, with each meter's daily detail and scores by name."""
+        daily, scores = daily or {}, scores or {}
+        return cls(
+            start=data["start"],
+            months=list(data["months"]),
+            as_of=data["as_of"],
+            weather=data["weather"],
+            levels=list(data["levels"]),
+            paths=data["paths"],
+            meters=[
+                MeterBudget.from_json(m, daily.get(m["name"]), scores.get(m["name"]))
+                for m in data["meters"]
+            ],
+            utilities=[RollUp.from_json(u) for u in data["utilities"]],
+            campus=RollUp.from_json(data["campus"]) if data["campus"] else None,
+            calibration={k: Calibration.from_json(v) for k, v in data["calibration"].items()},
+            currency=data["currency"],
+            tariff=data["tariff"],
+            assumptions=dict(data["assumptions"]),
+            cautions=list(data["cautions"]),
+        )

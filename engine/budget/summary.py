@@ -44,9 +44,11 @@ COST_CAUTION = (
     "Costs apply the tariff to forecast energy; they do not replace the utility's bill or the "
     "tariff's legal text."
 )
+#: Carried by every budget, with or without demand charges: a forecast is not a design load.
 PEAK_CAUTION = (
-    "Forecast peaks drive the demand-charge budget only; they are not design loads. Capacity "
-    "and protection decisions belong to a licensed engineer under local codes."
+    "A forecast peak or month total is not a design load: service sizing, protection and plant "
+    "capacity are decided by a licensed engineer under local codes. Forecast peaks serve the "
+    "demand-charge budget only."
 )
 PARAMETER_NOTE = (
     "carried by the model errors, which come from the model refitted before each past month "
@@ -222,8 +224,7 @@ def _cautions(totals: PathTotals, calibration: Mapping[str, Calibration]) -> lis
     plans = [meter.plan for meter in totals.meters]
     if any(plan.tariff is not None or plan.rate is not None for plan in plans):
         cautions.append(COST_CAUTION)
-    if any(version.demand for plan in plans if plan.tariff for version in plan.tariff.versions):
-        cautions.append(PEAK_CAUTION)
+    cautions.append(PEAK_CAUTION)
     unchecked = [plan.name for plan in plans if plan.name not in calibration]
     if unchecked:
         cautions.append(

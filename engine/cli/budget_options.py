@@ -16,7 +16,7 @@ def request_from_args(args: argparse.Namespace, project: Project) -> BudgetReque
     return budget_request(
         project,
         _months(args),
-        as_of=_as_of(args.as_of) if args.as_of else None,
+        as_of=parse_as_of(args.as_of) if args.as_of else None,
         weather=args.weather,
         levels=_levels(args.levels),
         paths=args.paths,
@@ -48,7 +48,8 @@ def _levels(text: str) -> tuple[int, ...]:
         ) from None
 
 
-def _as_of(text: str) -> date:
+def parse_as_of(text: str) -> date:
+    """An --as-of option's date."""
     try:
         return date.fromisoformat(text)
     except ValueError:

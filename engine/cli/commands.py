@@ -12,17 +12,19 @@ from engine import calendar_edit
 from engine.budgeting import budget_project, keep_budget
 from engine.cleaning import apply_recommended, review_meter
 from engine.cli import text
-from engine.cli.budget_options import request_from_args
+from engine.cli.budget_options import parse_as_of, request_from_args
 from engine.cli.progress_line import terminal_progress
 from engine.errors import InputError
 from engine.export.finance_workbook import write_finance_workbook
 from engine.export.profile_workbook import write_profile_workbook
+from engine.export.tracking_workbook import write_tracking_workbook
 from engine.importing import create_project, read_project_files
 from engine.modelling import fit_meters, monthly_contributions
 from engine.profile_run import profile_project_meter
 from engine.project import Project
 from engine.reading import ReadOptions, describe, read_file
 from engine.reading.report import describe_calendar
+from engine.tracking import adopt_budget, check_name, track_budget
 
 
 def reading_options(args: argparse.Namespace) -> ReadOptions:
@@ -149,6 +151,13 @@ def budget(args: argparse.Namespace) -> int:
             "give either a project file or --meters files for a one-shot budget.",
             hint="e.g. loadledger budget campus.loadledger --start 2027-01",
         )
+    if args.adopt and not args.project:
+        raise InputError(
+            "a one-shot budget cannot be adopted: it keeps no project file.",
+            hint="Create a project with loadledger new, then budget it with --adopt.",
+        )
+    if args.replace and not args.adopt:
+        raise InputError("--replace goes with --adopt NAME.", hint="e.g. --adopt FY2026 --replace")
     if args.project:
         with Project.open(args.project) as project:
             return _budget_report(args, project)
@@ -165,9 +174,13 @@ def budget(args: argparse.Namespace) -> int:
 
 def _budget_report(args: argparse.Namespace, project: Project) -> int:
     request = request_from_args(args, project)
+    adopt_as = check_name(project, args.adopt, replace=args.replace) if args.adopt else None
     outcome = budget_project(project, request, **_parallel(args))
-    keep_budget(project, outcome.run)
+    keep_budget(project, outcome)
     report = outcome.run.to_json()
+    if adopt_as:
+        adopt_budget(project, adopt_as, outcome, request, replace=args.replace)
+        report["adopted"] = adopt_as
     if args.xlsx:
         written = write_finance_workbook(
             args.xlsx,
@@ -180,6 +193,16 @@ def _budget_report(args: argparse.Namespace, project: Project) -> int:
         )
         report["workbook"] = str(written.resolve())
     _emit(args, report, text.budget_report)
+    return 0
+
+
+def track(args: argparse.Namespace) -> int:
+    as_of = parse_as_of(args.as_of) if args.as_of else None
+    with Project.open(args.project) as project:
+        report = track_budget(project, args.budget, as_of=as_of, **_parallel(args))
+    if args.xlsx:
+        report["workbook"] = str(write_tracking_workbook(args.xlsx, report).resolve())
+    _emit(args, report, text.track_report)
     return 0
 
 
@@ -201,11 +224,10 @@ def _contributions(outcome) -> list[dict]:
 
 
 def _explanation(model) -> list[dict]:
-    """The chosen model's coefficients in physical units, where the family gives them."""
-    table = getattr(model, "coefficients_table", None)
-    if table is None:
+    """The chosen model's statements: its effects in physical units, or how it forecasts."""
+    if model is None:
         return []
-    return json.loads(table().to_json(orient="records"))
+    return json.loads(model.coefficients_table().to_json(orient="records"))
 
 
 def _meters(project: Project, only: str | None) -> list[str]:
@@ -242,6 +264,7 @@ def calendar(args: argparse.Namespace) -> int:
 def info(args: argparse.Namespace) -> int:
     with Project.open(args.project) as project:
         report = project.summary()
+        report["adopted_budgets"] = project.adopted_budget_names()
     _emit(args, report, text.project_report)
     return 0
 

@@ -14,6 +14,7 @@ import traceback
 from collections.abc import Sequence
 
 from engine import __version__
+from engine.budgeting import DEFAULT_WEATHER
 from engine.cli import commands
 from engine.errors import InputError, ProjectError
 from engine.wizard import DEFAULT_ORIGINS
@@ -116,7 +117,7 @@ def build_parser() -> argparse.ArgumentParser:
     )
     budget.add_argument(
         "--weather",
-        default="past-years",
+        default=DEFAULT_WEATHER,
         metavar="past-years|typical|FILE",
         help="weather assumption: typical weather plus past days' departures from it, drawn "
         "per path (default), typical weather for every path, or a temperature file",
@@ -138,9 +139,33 @@ def build_parser() -> argparse.ArgumentParser:
     budget.add_argument("--weather-file", metavar="FILE",
                         help="one-shot: the weather-station history")  # fmt: skip
     budget.add_argument("--timezone", metavar="TZ", help="one-shot: the site's time zone")
+    budget.add_argument(
+        "--adopt",
+        metavar="NAME",
+        help="keep this budget in the project as adopted under NAME, with everything it "
+        "assumed, to track it later (loadledger track)",
+    )
+    budget.add_argument(
+        "--replace", action="store_true", help="with --adopt: replace a budget adopted as NAME"
+    )
     _parallel_options(budget)
     _json_option(budget)
     budget.set_defaults(run=commands.budget)
+
+    track = sub.add_parser(
+        "track",
+        help="an adopted budget against the actuals: variance split into weather and usage, "
+        "and the year-end outlook",
+    )
+    track.add_argument("project")
+    track.add_argument("--budget", required=True, metavar="NAME", help="the adopted budget")
+    track.add_argument(
+        "--as-of", metavar="DATE", help="count readings up to this day (default: the last one)"
+    )
+    track.add_argument("--xlsx", metavar="OUT", help="write the tracking workbook")
+    _parallel_options(track)
+    _json_option(track)
+    track.set_defaults(run=commands.track)
 
     calendar = sub.add_parser("calendar", help="show or change the project's campus calendar")
     calendar.add_argument("project")

@@ -83,6 +83,8 @@ def project_report(summary: dict) -> str:
     for key in ("bills", "weather"):
         for item in summary.get(key, []):
             lines.append(f"  {key}: " + ", ".join(f"{k}={_num(v)}" for k, v in item.items()))
+    if summary.get("adopted_budgets"):
+        lines.append(f"  adopted budgets: {', '.join(summary['adopted_budgets'])}")
     return "\n".join(lines) + "\n"
 
 
@@ -216,3 +218,54 @@ def calendar_report(report: dict) -> str:
     state = "changed and saved" if report["changed"] else "unchanged"
     return "\n".join([f"project {report['project']}: campus calendar {state}",
                       *_calendar_lines(report)]) + "\n"  # fmt: skip
+
+
+def track_report(report: dict) -> str:
+    """What ``track`` prints: per meter and roll-up, budget against actual month by month,
+    the variance split, and the year-end outlook beside the adopted total."""
+    levels = [str(level) for level in report["levels"]]
+    lines = [
+        f"budget '{report['budget']}' (adopted as of {report['adopted_as_of']}) tracked as of "
+        f"{report['as_of']}: {report['months'][0]} .. {report['months'][-1]}",
+        f"  {report['identity']}",
+    ]
+    groups = [*report["meters"], *report["utilities"]]
+    if report.get("campus"):
+        groups.append(report["campus"])
+    for group in groups:
+        label = group.get("name") or group.get("group")
+        lines.append(f"  {label} ({group.get('utility', 'roll-up')}, kWh)")
+        lines.append(
+            f"    {'month':<8} {'status':<10} {'budget P50':>12} {'actual':>12} {'variance':>12}"
+            f" {'weather':>12} {'usage':>12}  P{levels[0]}–P{levels[-1]}"
+        )
+        for month in group["months"]:
+            if month["status"] == "not begun":
+                continue
+            inside = {None: "-", True: "outside", False: "inside"}[month["outside_range"]]
+            lines.append(
+                f"    {month['month']:<8} {month['status']:<10} "
+                f"{_num(month['budget_to_date']):>12} {_num(month['actual']):>12} "
+                f"{_num(month['variance_kwh']):>12} {_num(month['weather_kwh']):>12} "
+                f"{_num(month['usage_kwh']):>12}  {inside}"
+            )
+        lines.append(_outlook_line(group, levels, report.get("currency") or ""))
+    lines += [f"  note: {caution}" for caution in report["cautions"]]
+    if "workbook" in report:
+        lines.append(f"wrote {report['workbook']}")
+    return "\n".join(lines) + "\n"
+
+
+def _outlook_line(group: dict, levels: list[str], currency: str) -> str:
+    adopted = group["adopted_total"]["quantiles"]
+    outlook = group.get("outlook")
+    if not outlook:
+        return f"    year-end outlook: none; adopted P50 {_num(adopted['50'])}"
+    spread = " / ".join(f"P{level} {_num(outlook['quantiles'][level])}" for level in levels)
+    line = f"    year-end outlook {spread} kWh; adopted P50 {_num(adopted['50'])} kWh"
+    if "cost" in outlook and "cost" in group["adopted_total"]:
+        line += (
+            f"; cost P50 {currency} {_num(outlook['cost']['quantiles']['50'])} (adopted "
+            f"{_num(group['adopted_total']['cost']['quantiles']['50'])})"
+        )
+    return line

@@ -17,6 +17,7 @@ from openpyxl.styles import Alignment, Font
 from openpyxl.utils import get_column_letter
 from openpyxl.worksheet.worksheet import Worksheet
 
+from engine.export.printing import PageLabels, set_up_printing
 from engine.export.sheets import (
     CHARACTER_WIDTH,
     LINE_HEIGHT,
@@ -151,6 +152,18 @@ def _width(sheet: Worksheet, first_column: int, last_column: int) -> float:
         sheet.column_dimensions[get_column_letter(c)].width
         for c in range(first_column, last_column + 1)
     )
+
+
+def print_on_page_width(sheet: Worksheet, labels: PageLabels | None = None) -> None:
+    """Print one page wide, the frozen header row (else the first row) on every page, charts
+    included (:func:`engine.export.printing.set_up_printing`)."""
+    header = frozen_header(sheet)
+    set_up_printing(sheet, labels or PageLabels(), title_rows=(header, header))
+
+
+def frozen_header(sheet: Worksheet) -> int:
+    """The row above the frozen panes (a table's header), else 1 (a sheet's title)."""
+    return sheet[sheet.freeze_panes].row - 1 if sheet.freeze_panes else 1
 
 
 def money_format(currency: str | None) -> str:

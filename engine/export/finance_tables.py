@@ -79,6 +79,10 @@ class FigureColumns:
     levels: tuple[int, ...]
     currency: str | None
     with_cost: bool
+    #: The month of the as-of date and the budget's first month ("YYYY-MM"): months not begun
+    #: by the as-of date have no actual to date (blank, not 0).
+    as_of_month: str = "9999-12"
+    first_month: str = "0000-01"
 
     @property
     def actual(self) -> str:
@@ -105,7 +109,9 @@ class FigureColumns:
 
     def figures(self, total: PeriodTotal) -> dict[str, float | None]:
         """The actual to date, energy and (when shown) cost figures of one period."""
-        out: dict[str, float | None] = {self.actual: total.actual_to_date}
+        month = self.first_month if total.period == "total" else total.period
+        begun = month <= self.as_of_month
+        out: dict[str, float | None] = {self.actual: total.actual_to_date if begun else None}
         energy = [total.energy.mean] + [total.energy.quantiles[str(v)] for v in self.levels]
         out.update(zip(self.energy, energy, strict=True))
         if self.with_cost:
@@ -146,6 +152,8 @@ def figure_columns(run: BudgetRun) -> FigureColumns:
         levels=tuple(sorted(run.levels)),
         currency=run.currency,
         with_cost=with_cost,
+        as_of_month=run.as_of[:7],
+        first_month=run.months[0],
     )
 
 

@@ -31,6 +31,7 @@ from engine.export.finance_layout import (
     BOLD,
     NOTE_FONT,
     facts,
+    frozen_header,
     labelled,
     money_format,
     paragraph,
@@ -414,8 +415,7 @@ def _set_up_pages(
     totals are. ``kept`` holds the first rows of blocks that print unsplit where they fit.
     """
     for sheet in book.worksheets:
-        frozen = sheet[sheet.freeze_panes].row - 1 if sheet.freeze_panes else 1
-        header, last_row = printed.get(sheet.title, (frozen, None))
+        header, last_row = printed.get(sheet.title, (frozen_header(sheet), None))
         set_up_printing(
             sheet,
             labels,

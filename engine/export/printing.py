@@ -10,10 +10,11 @@ or Letter by its locale.
 
 from __future__ import annotations
 
+import math
 from collections.abc import Sequence
 from dataclasses import dataclass
 
-from openpyxl.utils import get_column_letter
+from openpyxl.utils import coordinate_to_tuple, get_column_letter
 from openpyxl.worksheet.page import PageMargins
 from openpyxl.worksheet.pagebreak import Break
 from openpyxl.worksheet.worksheet import Worksheet
@@ -30,6 +31,7 @@ LONGEST_NAME = 60  # characters of the project name in the header (Excel allows 
 PAPER = {"portrait": (8.27 * 72, 11.0 * 72), "landscape": (11.0 * 72, 8.27 * 72)}
 POINTS_PER_UNIT = 5.25  # a column-width unit: about 7 pixels at 96 per inch (from memory)
 ROW_HEIGHT = 15.0  # points, a row without a height of its own (11-point Calibri)
+CM_PER_ROW = ROW_HEIGHT / 72 * 2.54  # a chart's height in rows
 FILL = 0.97  # share of a page that page breaks plan to fill: the sizes above are estimates
 
 
@@ -57,11 +59,12 @@ def set_up_printing(
     """Print ``sheet`` one page wide from A1 to (``last_row``, ``last_column``).
 
     ``title_rows`` (first, last) repeat at the top of every page; the last row and column
-    default to the sheet's used range. ``blocks`` are the first rows of blocks that should
-    not be split over two pages (a meter's months, a meter's facts): a page break goes
-    before a block that would not fit on what is left of the page.
+    default to the sheet's used range and the rows under its charts. ``blocks`` are the
+    first rows of blocks that should not be split over two pages (a meter's months, a
+    meter's facts): a page break goes before a block that would not fit on what is left of
+    the page.
     """
-    last_row = last_row or sheet.max_row
+    last_row = last_row or used_rows(sheet)
     last_column = last_column or sheet.max_column
     sheet.print_area = f"A1:{get_column_letter(last_column)}{last_row}"
     if title_rows is not None:
@@ -77,6 +80,16 @@ def set_up_printing(
     _header_and_footer(sheet, labels)
     if blocks:
         _keep_blocks_together(sheet, blocks, title_rows, last_row, last_column)
+
+
+def used_rows(sheet: Worksheet) -> int:
+    """The last row with a value or under a chart (charts are not cells: max_row misses them)."""
+    bottom = sheet.max_row
+    for chart in sheet._charts:  # openpyxl keeps a sheet's charts only here
+        anchor = chart.anchor
+        top = coordinate_to_tuple(anchor)[0] if isinstance(anchor, str) else anchor._from.row + 1
+        bottom = max(bottom, top + math.ceil(chart.height / CM_PER_ROW))
+    return bottom
 
 
 def printed_width(sheet: Worksheet, last_column: int) -> float:

@@ -19,13 +19,10 @@ from engine.models._calendar_design import (
     DesignLayout,
     fourier_columns,
 )
+from engine.models._family import Statement, statement_table
 
-#: Columns of the statements table.
-STATEMENT_COLUMNS: tuple[str, ...] = ("term", "value", "unit", "meaning")
 #: Local hours counted as daytime when stating day-type effects in percent.
 DAYTIME_HOURS: tuple[int, int] = (8, 18)
-
-Statement = tuple[str, float, str, str]
 
 
 @dataclass(frozen=True)
@@ -173,4 +170,4 @@ def _cycles(terms: FittedTerms) -> list[Statement]:
 def statements(terms: FittedTerms) -> pd.DataFrame:
     """The statements table (see the module docstring)."""
     rows = [*_base(terms), *_weather(terms), *_calendar(terms), *_trend(terms), *_cycles(terms)]
-    return pd.DataFrame(rows, columns=list(STATEMENT_COLUMNS))
+    return statement_table(rows)

@@ -26,6 +26,17 @@ if TYPE_CHECKING:
     from engine.models.base import ModelInputs
 
 
+#: Columns of a model's statements table (:meth:`ModelFamily.coefficients_table`).
+STATEMENT_COLUMNS: tuple[str, ...] = ("term", "value", "unit", "meaning")
+#: One statement: a term, its value in a unit (NaN when it has none) and a sentence.
+Statement = tuple[str, float, str, str]
+
+
+def statement_table(rows: list[Statement]) -> pd.DataFrame:
+    """Statements as the table every family's ``coefficients_table`` returns."""
+    return pd.DataFrame(rows, columns=list(STATEMENT_COLUMNS))
+
+
 def plain(value: Any) -> Any:
     """``value`` with tuples turned into lists, recursively, for JSON."""
     if isinstance(value, tuple | list):
@@ -97,6 +108,23 @@ class ModelFamily:
             except Exception as error:  # a window the family cannot fit is reported, not fatal
                 fitted.append(error)
         return fitted
+
+    def coefficients_table(self) -> pd.DataFrame:
+        """The fit in physical units and plain words: one row per statement, columns
+        ``term``, ``value``, ``unit`` and ``meaning``.
+
+        Families with effects to state (a base load, a heating slope) override it; the others
+        say in one statement how they forecast (:meth:`how_it_forecasts`).
+        """
+        self._require_fitted()
+        return statement_table([("method", float("nan"), "", self.how_it_forecasts())])
+
+    def how_it_forecasts(self) -> str:
+        """How the family makes a forecast, in one plain sentence."""
+        return (
+            f"the {self.label} states no effects in physical units; judge it by its backtest "
+            "scores and residuals"
+        )
 
     @classmethod
     def candidate_settings(cls) -> list[dict[str, Any]]:

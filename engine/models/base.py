@@ -101,6 +101,10 @@ class EnergyModel(Protocol):
 
     def predict(self, inputs: ModelInputs) -> pd.Series: ...
 
+    def coefficients_table(self) -> pd.DataFrame:
+        """The fit in plain words: ``term``, ``value``, ``unit``, ``meaning`` per statement."""
+        ...
+
     def settings(self) -> dict[str, Any]:
         """The constructor's keyword arguments, as given."""
         ...

@@ -75,6 +75,12 @@ class GradientBoostingChallenger(ModelFamily):
     label = "gradient-boosted trees (challenger)"
     explainable = False
 
+    def how_it_forecasts(self) -> str:
+        return (
+            "learns energy from the calendar and the temperature with gradient-boosted trees: "
+            "flexible, but it states no effects in physical units"
+        )
+
     def __init__(
         self,
         max_iter: int = 100,

@@ -15,6 +15,7 @@ from dataclasses import replace
 from typing import Any
 
 import numpy as np
+import pandas as pd
 
 from engine.changepoint import PARAMETER_COUNT, ChangePointModel, select_best
 from engine.errors import InputError
@@ -26,6 +27,7 @@ from engine.models._days import (
     day_group_codes,
     day_mean_temperatures,
 )
+from engine.models._family import Statement, statement_table
 from engine.models._inputs import (
     labels_of,
     local_clock,
@@ -38,6 +40,9 @@ from engine.models.base import ModelInputs, scenario_rows
 
 #: Name of the single fit when day groups are not split.
 ALL_DAYS = "all_days"
+#: Day groups as the statements name them.
+_GROUP_WORDS = {"weekday": "weekdays", "weekend_or_holiday": "weekends and holidays",
+                ALL_DAYS: "all days"}  # fmt: skip
 
 
 class DailyChangePointModel(DayTotalsModel):
@@ -105,6 +110,54 @@ class DailyChangePointModel(DayTotalsModel):
         per_group = [PARAMETER_COUNT[model.kind] for model in models.values()] or [1] * len(means)
         self.n_parameters_ = int(sum(per_group) + self.day_shapes_.n_parameters)
         return self
+
+    def coefficients_table(self) -> pd.DataFrame:
+        """The fit in physical units and plain words, per day group: the base load, and the
+        heating and cooling slopes with their change points (or the mean day without
+        temperature), e.g. "weekdays: heating adds 41.2 kWh per day for each °C the day's
+        mean is below 12.5 °C"."""
+        self._require_fitted()
+        rows: list[Statement] = []
+        for name, mean in self.mean_daily_energy_.items():
+            group = _GROUP_WORDS[name]
+            model = self.change_point_models_.get(name)
+            if model is None:
+                rows.append((f"{group}: mean day", mean, "kWh per day",
+                             f"{group} use {mean:,.0f} kWh per day on average"))  # fmt: skip
+                continue
+            if model.kind == "2P":  # a straight line: no change point, level at 0 °C
+                slope = model.cooling_slope_ - model.heating_slope_
+                rows += [
+                    (f"{group}: use at 0 °C", model.intercept_, "kWh per day",
+                     f"{group} use {model.intercept_:,.0f} kWh per day at a daily mean of 0 °C"),
+                    (f"{group}: temperature", slope, "kWh per day per °C",
+                     f"on {group}, each °C warmer changes use by {slope:+,.1f} kWh per day"),
+                ]  # fmt: skip
+                continue
+            rows.append(
+                (
+                    f"{group}: base load",
+                    model.intercept_,
+                    "kWh per day",
+                    f"{group} use {model.intercept_:,.0f} kWh per day at mild temperatures "
+                    f"(the {model.kind} shape's level at its change point)",
+                )
+            )
+            for term, slope, point, side in (
+                ("heating", model.heating_slope_, model.change_points_[:1], "below"),
+                ("cooling", model.cooling_slope_, model.change_points_[-1:], "above"),
+            ):
+                if slope and point:
+                    rows.append(
+                        (
+                            f"{group}: {term}",
+                            slope,
+                            "kWh per day per °C",
+                            f"on {group}, {term} adds {slope:,.1f} kWh per day for each °C the "
+                            f"day's mean is {side} {point[0]:.1f} °C",
+                        )
+                    )
+        return statement_table(rows)
 
     def _group_masks(self, view: DailyView, usable: np.ndarray) -> dict[str, np.ndarray]:
         masks = {name: usable & (view.group == code) for code, name in enumerate(DAY_GROUPS)}

@@ -56,6 +56,12 @@ class DailyETSModel(DayTotalsModel):
     label = "exponential smoothing of daily totals (ETS)"
     explainable = False
 
+    def how_it_forecasts(self) -> str:
+        return (
+            "forecasts each day's total by exponential smoothing (ETS) with a weekly cycle and "
+            "spreads it over the day by the meter's typical day shape; it does not use weather"
+        )
+
     _run: ETSRun | None
 
     def __init__(

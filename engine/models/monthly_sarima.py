@@ -66,6 +66,12 @@ class MonthlySARIMAModel(DayTotalsModel):
     label = "seasonal ARIMA of monthly energy (SARIMA)"
     explainable = False
 
+    def how_it_forecasts(self) -> str:
+        return (
+            "forecasts each month's energy per day with a seasonal ARIMA of the monthly series "
+            "(a 12-month cycle) and spreads it over the days and intervals; it does not use weather"
+        )
+
     _smoothed: MLEResults | None
 
     def __init__(

@@ -103,6 +103,12 @@ class MSTLETSModel(DayTotalsModel):
     label = "MSTL decomposition with ETS (MSTL-ETS)"
     explainable = False
 
+    def how_it_forecasts(self) -> str:
+        return (
+            "splits the recent readings into daily and weekly cycles (MSTL), carries the cycles "
+            "forward and forecasts the rest by exponential smoothing (ETS); it does not use weather"
+        )
+
     _run: tuple[np.ndarray, ETSRun] | None
 
     def __init__(

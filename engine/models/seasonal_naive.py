@@ -53,6 +53,12 @@ class SeasonalNaiveModel(ModelFamily):
     def candidate_settings(cls) -> list[dict[str, Any]]:
         return [{"lag": "week"}, {"lag": "year"}]
 
+    def how_it_forecasts(self) -> str:
+        return (
+            f"repeats the readings of the same local time one {self.lag} earlier, and the last "
+            f"{self.lag} of readings beyond them: a benchmark that any model should beat"
+        )
+
     def fit(self, inputs: ModelInputs) -> SeasonalNaiveModel:
         """Remember the history on the local clock (readings of a repeated hour averaged)."""
         if self.lag not in LAGS:

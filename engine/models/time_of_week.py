@@ -30,8 +30,10 @@ import pandas as pd
 from engine.errors import InputError
 from engine.models._family import (
     ModelFamily,
+    Statement,
     float_array,
     float_list,
+    statement_table,
     timedelta_from,
     timedelta_seconds,
 )
@@ -212,6 +214,34 @@ class TimeOfWeekTemperatureModel(ModelFamily):
             residual = y - line @ np.linalg.lstsq(line, y, rcond=None)[0]
         positive = np.bincount(slot, weights=residual > 0, minlength=slots)
         return positive / np.bincount(slot, minlength=slots) > self.occupied_share
+
+    def coefficients_table(self) -> pd.DataFrame:
+        """The fit in physical units and plain words, per occupancy mode: the average load at
+        0 °C over the times of the week, and the slope below the lowest and above the highest
+        temperature knot (kWh per hour per °C), e.g. "occupied: below 2.1 °C each °C colder
+        adds 3.4 kWh per hour"."""
+        self._require_fitted()
+        hours = self.interval_ / pd.Timedelta(hours=1)
+        rows: list[Statement] = []
+        for mode, words in ((_OCCUPIED, "occupied"), (_UNOCCUPIED, "unoccupied")):
+            slots = self.slot_coefficients_[mode]
+            if not np.isfinite(slots).any():
+                continue
+            level = float(np.nanmean(slots)) / hours
+            rows.append((f"{words}: load at 0 °C", level, "kWh per hour",
+                         f"{words} times of the week use {level:,.1f} kWh per hour on average "
+                         "before the temperature's effect"))  # fmt: skip
+            if not self.uses_temperature_:
+                continue
+            slopes = self.temperature_coefficients_[mode] / hours
+            cold, warm = -slopes[0], slopes[-1]
+            rows.append((f"{words}: colder", cold, "kWh per hour per °C",
+                         f"{words}, below {self.knots_[0]:.1f} °C each °C colder changes use by "
+                         f"{cold:+,.2f} kWh per hour"))  # fmt: skip
+            rows.append((f"{words}: warmer", warm, "kWh per hour per °C",
+                         f"{words}, above {self.knots_[-1]:.1f} °C each °C warmer changes use by "
+                         f"{warm:+,.2f} kWh per hour"))  # fmt: skip
+        return statement_table(rows)
 
     def temperature_response(self, temps: Any, occupied: bool = True) -> np.ndarray:
         """The temperature part of the prediction (kWh per interval) at ``temps`` °C.

@@ -32,8 +32,18 @@ def _add_kept_models_table(conn: sqlite3.Connection) -> None:
         conn.execute(statement)
 
 
+def _add_adopted_budgets_table(conn: sqlite3.Connection) -> None:
+    """Format 3 → 4: a table for budgets adopted under a name."""
+    for statement in schema.SCHEMA_V4_ADDITIONS:
+        conn.execute(statement)
+
+
 #: ``{from_version: step}``; each step upgrades a file from ``from_version`` to the next.
-MIGRATIONS: dict[int, Migration] = {1: _add_results_table, 2: _add_kept_models_table}
+MIGRATIONS: dict[int, Migration] = {
+    1: _add_results_table,
+    2: _add_kept_models_table,
+    3: _add_adopted_budgets_table,
+}
 
 log = logging.getLogger(__name__)
 

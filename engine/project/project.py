@@ -22,6 +22,7 @@ from engine.errors import InputError, ProjectError
 from engine.meters import MeterSeries
 from engine.progress import Progress
 from engine.project import (
+    adopted_table,
     bill_table,
     cleaning_table,
     kept_table,
@@ -380,6 +381,25 @@ class Project:
     def count_kept(self, meter: str | None = None) -> int:
         with self._reading() as conn:
             return kept_table.count_kept(conn, meter)
+
+    # -- adopted budgets ------------------------------------------------------------------
+
+    def adopt_budget(self, name: str, body: dict, *, replace: bool = False) -> None:
+        """Store a budget under ``name`` (:mod:`engine.tracking.adopt`); an adopted name is
+        replaced only when ``replace``, otherwise refused with an :class:`InputError`."""
+        with self._writing() as conn:
+            if not replace and adopted_table.find_adopted(conn, name) is not None:
+                raise adopted_table.name_taken(name, self.path)
+            adopted_table.put_adopted(conn, name, body, replace=replace)
+
+    def adopted_budget(self, name: str) -> dict | None:
+        """The budget adopted as ``name`` ({name, adopted_at, body}), or None."""
+        with self._reading() as conn:
+            return adopted_table.find_adopted(conn, name)
+
+    def adopted_budget_names(self) -> list[str]:
+        with self._reading() as conn:
+            return adopted_table.adopted_names(conn)
 
     # -- overview -------------------------------------------------------------------------
 

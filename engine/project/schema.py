@@ -1,4 +1,5 @@
-"""The tables of a project file, format version 1, and the numbers that mark a file as ours.
+"""The tables of a project file (format 1 and what later formats add), and the numbers that
+mark a file as ours.
 
 Design notes for whoever writes the next migration:
 
@@ -23,7 +24,7 @@ import sqlite3
 APPLICATION_ID = int.from_bytes(b"LdLg", "big")
 
 #: ``PRAGMA user_version`` written by this code; older files are upgraded on open.
-FORMAT_VERSION = 3
+FORMAT_VERSION = 4
 
 #: What a source file may hold (the CHECK on ``sources.kind`` lists the same words).
 SOURCE_KINDS: tuple[str, ...] = ("meters", "bills", "weather", "calendar", "tariff")
@@ -135,6 +136,18 @@ SCHEMA_V3_ADDITIONS: tuple[str, ...] = (
     "CREATE INDEX kept_models_by_meter ON kept_models (meter, key)",
 )
 
+#: Format 4 keeps adopted budgets: a budget stored under a name with everything it assumed
+#: (see :mod:`engine.tracking.adopt`), written once and never changed by later imports,
+#: cleaning or refits; a name is adopted again only by replacing its row on request.
+SCHEMA_V4_ADDITIONS: tuple[str, ...] = (
+    """CREATE TABLE adopted_budgets (
+        id INTEGER PRIMARY KEY,
+        name TEXT NOT NULL UNIQUE,
+        adopted_at INTEGER NOT NULL,
+        body TEXT NOT NULL
+    )""",
+)
+
 #: Tables a file of the current format must have.
 TABLES: frozenset[str] = frozenset(
     {
@@ -148,6 +161,7 @@ TABLES: frozenset[str] = frozenset(
         "cleaning_steps",
         "results",
         "kept_models",
+        "adopted_budgets",
     }
 )
 
@@ -157,7 +171,7 @@ def create_schema(conn: sqlite3.Connection) -> None:
 
     Statements run one by one because ``executescript`` would commit the open transaction.
     """
-    for statement in (*SCHEMA_V1, *SCHEMA_V2_ADDITIONS, *SCHEMA_V3_ADDITIONS):
+    for statement in (*SCHEMA_V1, *SCHEMA_V2_ADDITIONS, *SCHEMA_V3_ADDITIONS, *SCHEMA_V4_ADDITIONS):
         conn.execute(statement)
     conn.execute(f"PRAGMA application_id = {APPLICATION_ID}")
     conn.execute(f"PRAGMA user_version = {FORMAT_VERSION}")

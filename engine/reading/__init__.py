@@ -31,6 +31,7 @@ __all__ = [
     "ReadOptions",
     "WeatherFile",
     "describe",
+    "guess_kind",
     "read_bill_file",
     "read_calendar",
     "read_file",
@@ -46,23 +47,35 @@ def read_file(
     options = options or ReadOptions()
     if kind is not None and kind not in FILE_KINDS:
         raise InputError(f"unknown file kind '{kind}'.", hint=f"Use one of {FILE_KINDS}.")
-    try:
-        chosen = choose_table(path, options.sheet)
-    except InputError as error:
-        raise error.at_file(path) from None
-    if kind is None:
-        if _looks_like_calendar(chosen):
-            kind = "calendar"
-        elif looks_like_bills(chosen.table, chosen.facts):
-            kind = "bills"
-        elif looks_like_weather(chosen.facts):
-            kind = "weather"
-        else:
-            kind = "meters"
+    chosen = _chosen_table(path, options)
+    kind = kind or _kind_of(chosen)
     if kind == "calendar":
         return read_calendar(path, options)
     reader = {"meters": read_meter_file, "bills": read_bill_file, "weather": read_weather_file}
     return reader[kind](path, options, chosen)
+
+
+def guess_kind(path: str | Path, options: ReadOptions | None = None) -> str:
+    """Which of :data:`FILE_KINDS` :func:`read_file` takes ``path`` for when not told, so that
+    a file that fails to read can say what it was read as."""
+    return _kind_of(_chosen_table(path, options or ReadOptions()))
+
+
+def _chosen_table(path: str | Path, options: ReadOptions):
+    try:
+        return choose_table(path, options.sheet)
+    except InputError as error:
+        raise error.at_file(path) from None
+
+
+def _kind_of(chosen) -> str:
+    if _looks_like_calendar(chosen):
+        return "calendar"
+    if looks_like_bills(chosen.table, chosen.facts):
+        return "bills"
+    if looks_like_weather(chosen.facts):
+        return "weather"
+    return "meters"
 
 
 def read_calendar(path: str | Path, options: ReadOptions | None = None) -> CalendarFile:

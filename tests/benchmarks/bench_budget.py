@@ -35,9 +35,11 @@ before it; see :func:`rolling_budgets`), on
 (c) "sample campus": the bundled Orrinvale College project (``out/sample-campus.loadledger``,
     made by ``bash installer/run-sample.sh``; a copy is budgeted, models are fitted on it
     when it has none) budgeted as the command line does (:func:`engine.budgeting.budget_project`,
-    default past-years weather): per meter the raw coverage of the 24 rolling month-ahead
-    budgets and the correction scale they give, then, for the next twelve months, the
-    corrected period total's P50 beside the sum of the corrected monthly P50s.
+    default past-years weather, 24 past month-ahead budgets): per meter the raw coverage of the
+    12 most recent and the correction scale they give, then, for the next twelve months, the
+    corrected period total's P50 beside the sum of the corrected monthly P50s; and per meter
+    over all 24 past budgets, the P50's month-total MAPE beside the same month last year's and
+    the last week repeated, with the raw coverage.
 
 For (a) and (b): the share of months inside P10–P90, raw (as simulated) and as issued (the
 tool corrects a range by the budgets of the 12 months before it once they exist, raw before),
@@ -415,7 +417,9 @@ def sample_campus() -> None:
         project = Project.open(copy)
         as_of = last_reading_day(project)
         first = (pd.Period(as_of, freq="M") + 1).strftime("%Y-%m")
-        request = BudgetRequest(budget_months(first, months=12), as_of, "past-years")
+        request = BudgetRequest(
+            budget_months(first, months=12), as_of, "past-years", calibration_origins=24
+        )
         seconds, budget = timed(lambda: budget_project(project, request))
     run = budget.run
     print(f"  {run.weather}")
@@ -436,6 +440,33 @@ def sample_campus() -> None:
     print("  M = MWh; raw = P10–P90 held before any correction; gap = P50 total vs Σ P50 months")
     for caution in run.cautions:
         print(f"  caution: {caution}")
+    skill_table(budget.past_budgets)
+
+
+def skill_table(pairs: pd.DataFrame) -> None:
+    """Per meter, over every past month-ahead budget: the P50's month-total MAPE beside the
+    same month last year's and the last week repeated (:mod:`engine.budget.skill`), and the
+    raw P10–P90 coverage; then all meters pooled."""
+    from engine.budget.skill import LAST_YEAR, LAST_YEAR_COLUMN, SEASONAL_NAIVE_COLUMN, skill
+
+    meters = pairs[pairs["kind"] == "meter"]
+    print(f"\n  past month-ahead budgets: {meters['month'].nunique()} months per meter")
+    print(
+        f"  {'meter':<24}{'months':>7}{'P50 MAPE':>10}{'last year':>11}{'last week':>11}"
+        f"{'vs last year':>14}{'P10–P90 held':>14}"
+    )
+    for name, rows in [*meters.groupby("name", sort=False), ("all meters", meters)]:
+        year = skill(rows, LAST_YEAR_COLUMN, LAST_YEAR)
+        week = skill(rows, SEASONAL_NAIVE_COLUMN, "")
+        known = rows.dropna(subset=["actual kWh"])
+        held = (
+            (known["actual kWh"] >= known["P10"]) & (known["actual kWh"] <= known["P90"])
+        ).mean()
+        print(
+            f"  {name:<24}{year.months:>7}{year.p50_mape:>9.1f}%{year.baseline_mape:>10.1f}%"
+            f"{week.baseline_mape:>10.1f}%{year.relative:>+13.0%}{held:>14.0%}"
+        )
+    print("  vs last year = 1 − P50 MAPE / last year's MAPE (positive: the P50 missed less)")
 
 
 def main() -> int:

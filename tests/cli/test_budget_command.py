@@ -14,6 +14,9 @@ import pandas as pd
 import pytest
 from python_calamine import CalamineWorkbook
 
+from engine.budgeting import latest_budget
+from engine.export.finance_workbook import write_finance_workbook
+from engine.project import Project
 from tests.cli.cli_support import loadledger, write_hall_and_boiler
 
 ROOT = Path(__file__).resolve().parents[2]
@@ -128,3 +131,27 @@ def test_without_a_year_of_weather_the_budget_runs_on_the_calendar_and_says_so(s
     q = hall["months"][0]["quantiles"]
     assert q["10"] <= q["50"] <= q["90"]
     assert 0.8 * may < q["50"] < 1.2 * may  # the hall's weekly rhythm carries most of it
+
+
+def _cells(path) -> dict[str, list]:
+    book = CalamineWorkbook.from_path(str(path))
+    return {name: book.get_sheet_by_name(name).to_python() for name in book.sheet_names}
+
+
+def test_the_kept_budget_comes_back_as_it_was_run(site):
+    project, folder, _ = site
+    first = folder / "as-run.xlsx"
+    done = _run("budget", project, "--start", "2026-02", "--months", "2", "--paths", "200",
+                "--tariff", RATE_CARD, "--xlsx", first, "--json")  # fmt: skip
+    report = json.loads(done.stdout)
+    with Project.open(project) as opened:
+        kept = latest_budget(opened)
+    assert kept.run.to_json() == {k: v for k, v in report.items() if k != "workbook"}
+    again = write_finance_workbook(
+        folder / "from-the-project.xlsx", kept.run, quality=kept.quality, steps=kept.steps,
+        scorecards=kept.scorecards, data_range=kept.data_range,
+    )  # fmt: skip
+    # Every sheet of the workbook written from the kept budget holds the same cells, the daily
+    # figures included.
+    assert _cells(again) == _cells(first)
+    assert len(_cells(again)["Daily"]) > 2 * 28

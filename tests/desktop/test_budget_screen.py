@@ -7,50 +7,65 @@ chosen by the engine's fit wizard beforehand; the sample's invented rate card pr
 
 from __future__ import annotations
 
+import shutil
 from datetime import date
 from pathlib import Path
 
 import numpy as np
 import pandas as pd
 import pytest
-from desktop_support import ROOT, SITE_ZONE, save_screen, short_sample_project, wait_until_idle
+from desktop_support import (
+    FITTED_METERS,
+    RATE_CARD,
+    SITE_ZONE,
+    fitted_campus,
+    save_screen,
+    wait_until_idle,
+)
 
 from desktop.budget_jobs import period_months
 from desktop.budget_screen import BudgetScreen
+from desktop.budget_table import ROW_ROLE
 from desktop.session import Session
-from engine.modelling import fit_meter
 from engine.project import Project
 
-RATE_CARD = ROOT / "sample" / "tariffs" / "orrinvale-main-electric.ratecard.toml"
-METERS = ("Library", "Science Labs")
+METERS = FITTED_METERS
 PATHS = 200
 
 
-def fitted_campus(path: Path) -> Path:
-    """Two sample meters from June 2025, each with a quickly fitted daily change-point model."""
-    short_sample_project(path, meters=len(METERS))
-    with Project.open(path) as project:
-        for name in METERS:
-            fit_meter(project, name, families=["daily_change_point"], origins=3)
-    return path
+@pytest.fixture(scope="module")
+def unbudgeted(tmp_path_factory) -> Path:
+    """The fitted campus before any budget: copied for tests that need a project without one."""
+    return fitted_campus(tmp_path_factory.mktemp("budget") / f"fitted{Project.EXTENSION}")
 
 
 @pytest.fixture(scope="module")
-def campus(tmp_path_factory) -> Path:
-    return fitted_campus(tmp_path_factory.mktemp("budget") / f"campus{Project.EXTENSION}")
+def campus(unbudgeted, tmp_path_factory) -> Path:
+    """The project the tests of this module budget one after another."""
+    return Path(shutil.copy(unbudgeted, tmp_path_factory.mktemp("budget") / unbudgeted.name))
 
 
-@pytest.fixture
-def screen(qtbot, campus):
+def _screen_on(qtbot, path: Path):
     session = Session()
     widget = BudgetScreen(session)
     qtbot.addWidget(widget)
     widget.resize(1400, 900)
     widget.show()
-    session.open(Project.open(campus))
+    session.open(Project.open(path))
     wait_until_idle(qtbot, widget)  # the as-of date is looked up on a worker
     yield widget
     session.close()
+
+
+@pytest.fixture
+def screen(qtbot, campus):
+    yield from _screen_on(qtbot, campus)
+
+
+@pytest.fixture
+def fresh_screen(qtbot, unbudgeted, tmp_path):
+    """The screen on a copy of the fitted campus that keeps no budget yet."""
+    yield from _screen_on(qtbot, Path(shutil.copy(unbudgeted, tmp_path)))
 
 
 def _stored_budgets(path: Path) -> list[dict]:
@@ -91,7 +106,10 @@ def test_the_table_shows_the_run_the_project_keeps(qtbot, screen, campus):
             shown = table.value(meter["name"], month["month"], p50)
             assert shown == month["quantiles"]["50"]
     campus_run = run["campus"]
-    assert table.titles()[:2] == ["Campus (2 meters)", "electricity (roll-up of 2 meters)"]
+    assert table.titles()[:2] == [
+        "Campus, all utilities added (2 meters)",
+        "electricity (roll-up of 2 meters)",
+    ]
     november = campus_run["months"][1]
     assert table.value("campus", "2026-11", p50) == november["quantiles"]["50"]
     # The campus is summed path by path, so its mean is the sum of the meters' means
@@ -108,7 +126,7 @@ def test_the_table_shows_the_run_the_project_keeps(qtbot, screen, campus):
     to_date = whole[(local >= "2026-10-01") & (local < "2026-10-16")].sum()
     actual = next(h for h in table.headers if h.startswith("actual to date"))
     assert table.value("Library", "2026-10", actual) == pytest.approx(to_date, rel=1e-9)
-    assert table.value("Library", "2026-11", actual) == 0.0
+    assert np.isnan(table.value("Library", "2026-11", actual))  # not begun: blank, not 0
 
     # Costs under the rate card, ordered like the energy figures.
     costs = [table.value("campus", "total", h) for h in table.headers if h.startswith("cost P")]
@@ -116,7 +134,7 @@ def test_the_table_shows_the_run_the_project_keeps(qtbot, screen, campus):
 
     # The plot draws the campus's monthly P50 and its P10–P90 range (in MWh).
     plot = screen.plot
-    assert plot.pick.value() == "Campus (2 meters)" and plot.showing_plot
+    assert plot.pick.value() == "Campus, all utilities added (2 meters)" and plot.showing_plot
     medians = [m["quantiles"]["50"] for m in campus_run["months"]]
     np.testing.assert_allclose(plot.drawn_median(), medians, rtol=1e-12)
     low = np.asarray(plot.ranges.opts["y0"]) * 1000.0
@@ -137,13 +155,13 @@ def test_a_bad_tariff_file_is_named_in_a_message(qtbot, screen, campus, tmp_path
     bad = tmp_path / "north-campus.ratecard.toml"
     bad.write_text("ratecard_format = 1\nname = [unclosed\n", encoding="utf-8")
     screen.form.tariff.path.setText(str(bad))
-    kept_before = len(_stored_budgets(campus))
+    kept_before, shown = len(_stored_budgets(campus)), screen.budget
     _run(qtbot, screen)
     assert screen.notice.tone == "problem"
     words = screen.notice.text.text()
     assert "north-campus.ratecard.toml" in words and "TOML" in words
     assert "Traceback" not in words and not screen.notice.details_button.isVisible()
-    assert screen.budget is None and len(_stored_budgets(campus)) == kept_before
+    assert screen.budget is shown and len(_stored_budgets(campus)) == kept_before
 
 
 def test_a_weather_file_must_be_chosen(qtbot, screen):
@@ -152,20 +170,22 @@ def test_a_weather_file_must_be_chosen(qtbot, screen):
     assert screen.notice.tone == "problem" and "no file is chosen" in screen.notice.text.text()
 
 
-def test_cancel_stops_a_running_budget(qtbot, screen, campus):
+def test_cancel_stops_a_running_budget(qtbot, fresh_screen):
+    screen = fresh_screen
     screen.form.paths.setValue(PATHS)
-    kept_before = len(_stored_budgets(campus))
+    project = screen.session.project.path
+    kept_before = len(_stored_budgets(project))
     screen.run()
     screen.task.progressed.connect(lambda *_: screen.task_bar.cancel_button.click())
     wait_until_idle(qtbot, screen)
     assert screen.notice.tone == "info" and "Stopped budgeting" in screen.notice.text.text()
     assert screen.budget is None and "Stopped before" in screen.plot.note.text()
-    assert len(_stored_budgets(campus)) == kept_before
+    assert len(_stored_budgets(project)) == kept_before
     assert screen.budget_button.isEnabled()
 
 
-def test_period_choices_follow_the_as_of_date(screen):
-    form = screen.form
+def test_period_choices_follow_the_as_of_date(fresh_screen):
+    form = fresh_screen.form
     form.set_as_of(date(2026, 10, 31))
     assert period_months(form.choices()) == ["2026-11"]  # next month
     # A fiscal year is named by the calendar year it ends in (common practice in US
@@ -184,3 +204,72 @@ def test_period_choices_follow_the_as_of_date(screen):
     form.fiscal_start.set_value(1)
     assert form.choices().fiscal_year == 2026 and form.choices().quarter == 4
     assert form.fiscal_year.isVisible() and not form.start.isVisible()
+
+
+def _blank_rows(table) -> list[int]:
+    """Rows of the table whose cells show nothing: hidden under a stale span or left empty."""
+    grid = table.table
+    blank = []
+    for row in range(grid.rowCount()):
+        first = grid.item(row, 0)
+        if first is None or not first.text():
+            blank.append(row)
+        elif first.data(ROW_ROLE) is not None and grid.columnSpan(row, 0) != 1:
+            blank.append(row)  # a figures row drawn as one wide cell hides its numbers
+    return blank
+
+
+def test_a_second_budget_of_another_length_fills_every_row(qtbot, screen):
+    screen.form.set_as_of(date(2026, 10, 15))
+    screen.form.paths.setValue(PATHS)
+    screen.form.period.set_value("months")
+    screen.form.months.setValue(2)
+    _run(qtbot, screen)
+    assert screen.notice.tone == "done", screen.notice.text.text()
+    screen.form.period.set_value("fiscal")
+    screen.form.fiscal_start.set_value(7)
+    _run(qtbot, screen)
+    assert screen.notice.tone == "done", screen.notice.text.text()
+    run = screen.budget.run
+    assert len(run.months) == 12
+    table = screen.table
+    assert _blank_rows(table) == []
+    # Every month and total of every budgeted thing shows the engine's P50, the campus first.
+    p50 = next(h for h in table.headers if h.startswith("P50"))
+    for meter in run.meters:
+        for period in [*meter.months, meter.total]:
+            assert table.value(meter.name, period.period, p50) == period.energy.quantiles["50"]
+    for rollup in [run.campus, *run.utilities]:
+        for period in [*rollup.months, rollup.total]:
+            shown = table.value(rollup.group, period.period, p50)
+            assert shown == period.energy.quantiles["50"]
+    # Actual to date: what the readings hold for months begun by the as-of date (2026-10-15),
+    # nothing (not 0) for the months after it.
+    actual = next(h for h in table.headers if h.startswith("actual to date"))
+    for period in run.campus.months:
+        shown = table.value(run.campus.group, period.period, actual)
+        if period.period <= "2026-10":
+            assert shown == period.actual_to_date and shown > 0
+        else:
+            assert shown is None or np.isnan(shown), period.period
+
+
+def test_the_weather_default_is_the_command_lines_and_says_why(fresh_screen):
+    # One default for one question: a new project's form asks for the weather assumption the
+    # command line assumes when --weather is not given, and says why in a visible sentence.
+    from engine.cli.main import build_parser
+
+    command_line = build_parser().parse_args(["budget", "p.loadledger", "--start", "2026-11"])
+    assert fresh_screen.form.choices().weather == command_line.weather == "past-years"
+    note = fresh_screen.form.weather_note
+    assert note.isVisible() and "default" in note.text() and "past years" in note.text()
+
+
+def test_utility_keys_read_as_words_and_the_campus_says_it_adds_utilities():
+    from desktop.budget_table import item_title
+    from engine.export.finance_tables import Budgeted
+
+    gas = Budgeted("utility", "natural_gas", 2, [], None)
+    campus = Budgeted("campus", "campus", 1, [], None)
+    assert item_title(gas) == "natural gas (roll-up of 2 meters)"
+    assert item_title(campus) == "Campus, all utilities added (1 meter)"

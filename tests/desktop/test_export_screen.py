@@ -133,3 +133,14 @@ def test_without_a_budget_the_window_offers_the_budget_step(qtbot, campus, tmp_p
         save_screen(window, "main-window-budget")
     finally:
         window.close()
+
+
+def test_a_name_typed_without_the_extension_gets_xlsx(qtbot, screen, tmp_path, monkeypatch):
+    typed = tmp_path / "march budget"
+    monkeypatch.setattr(QFileDialog, "getSaveFileName", lambda *args: (str(typed), ""))
+    screen.write_button.click()
+    wait_until_idle(qtbot, screen)
+    assert screen.notice.tone == "done", screen.notice.text.text()
+    written = tmp_path / "march budget.xlsx"
+    assert written.exists() and not typed.exists()
+    assert load_workbook(written)["Monthly"].max_row > 1

@@ -19,6 +19,8 @@ from PySide6.QtGui import QDropEvent
 from desktop.files_screen import FilesScreen
 from desktop.session import Session
 from desktop.understood_view import NUMBER_ROLE
+from engine.calendar import CampusCalendar
+from engine.cli.main import main as command_line
 from engine.project import Project
 from engine.reading import ReadOptions, describe, read_file
 
@@ -124,7 +126,7 @@ def test_a_file_that_cannot_be_read_is_named_with_what_to_do(qtbot, screen, tmp_
     kind.activated.emit(kind.currentIndex())  # as when the user picks it
     wait_until_idle(qtbot, screen)
     assert screen.plan.files[0].kind == "weather"
-    assert screen.file_table.item(0, 2).text() == "cannot be read"
+    assert screen.file_table.item(0, 2).text() == "cannot be read as weather station"
 
 
 def test_the_user_settles_the_date_order_and_reads_again(qtbot, screen, tmp_path):
@@ -211,3 +213,88 @@ def test_create_project_then_add_to_it(qtbot, screen, tmp_path):
     assert screen.notice.tone == "done", screen.notice.text.text()
     assert screen.session.project.meter_names() == ["Hall B", "Hall C"]
     assert screen.session.project.load_meter("Hall C").values.sum() == pytest.approx(144.0)
+
+
+def _sources(project: Project) -> dict[str, tuple]:
+    return {s["file_name"]: (s["kind"], s["settings"]) for s in project.sources()}
+
+
+def test_the_campus_calendar_is_stored_as_the_command_line_stores_it(
+    qtbot, screen, tmp_path, capfd
+):
+    meters, bills = SAMPLE / "electricity-15min.xlsx", SAMPLE / "electric-bills.csv"
+    weather, calendar = SAMPLE / "weather-station.csv", SAMPLE / "campus-calendar.csv"
+    screen.set_site_timezone(SITE_ZONE)
+    screen.holidays.choose("US", "IL")
+    screen.add_files([meters, bills, weather, calendar])
+    wait_until_idle(qtbot, screen)
+    assert [f.state for f in screen.plan.files] == ["read"] * 4
+    # The calendar's periods, counted by pandas reading the file on its own.
+    periods = pd.read_csv(calendar)
+    assert screen.file_table.item(3, 2).text() == f"read: {len(periods)} campus periods"
+    screen.file_table.selectRow(3)
+    assert "read as campus calendar" in screen.view.summary.text()
+    assert "public holidays of US-IL" in screen.view.summary.text()
+    rows = _rows(screen.view.table)
+    assert [r["Name"].text() for r in rows[: len(periods)]] == list(periods["Period"])
+    shown_holidays = {r["First day"].text(): r["Name"].text() for r in rows[len(periods) :]}
+    # From memory: Illinois keeps Lincoln's Birthday (12 February) besides the federal days.
+    assert shown_holidays["2025-02-12"] == "Lincoln's Birthday"
+    assert shown_holidays["2025-07-04"] == "Independence Day"
+    save_screen(screen, "files-calendar")
+
+    screen.create_project_at(tmp_path / "window")
+    wait_until_idle(qtbot, screen)
+    assert screen.notice.tone == "done", screen.notice.text.text()
+    assert f"the campus calendar ({len(periods)} periods)" in screen.notice.text.text()
+    by_cli = tmp_path / f"cli{Project.EXTENSION}"
+    argv = ["new", str(by_cli), "--meters", str(meters), "--bills", str(bills)]
+    argv += ["--weather", str(weather), "--calendar", str(calendar)]
+    assert command_line([*argv, "--timezone", SITE_ZONE, "--holidays", "US-IL", "--json"]) == 0
+    with Project.open(tmp_path / f"window{Project.EXTENSION}") as made, Project.open(by_cli) as cli:
+        stored = made.get_setting("calendar")
+        assert stored == cli.get_setting("calendar")
+        assert _sources(made) == _sources(cli)
+        assert made.meter_names() == cli.meter_names()
+        for name in cli.meter_names():
+            assert made.meter_settings(name) == cli.meter_settings(name)
+    kept = CampusCalendar.from_dict(stored)
+    assert (kept.country, kept.subdivision) == ("US", "IL")
+    assert len(kept.periods) == len(periods)
+    assert "Traceback" not in capfd.readouterr().err
+
+
+def test_a_file_the_screen_cannot_classify_says_what_it_looks_like_and_asks(
+    qtbot, screen, tmp_path, capfd
+):
+    # Term dates without the Kind column: dated rows and no figures, so it looks like a campus
+    # calendar, which needs the kind of each period. The sample's fault list is JSON.
+    terms = tmp_path / "terms.csv"
+    terms.write_text("Name,Start,End\nFall 2025,2025-08-25,2025-12-12\n", encoding="utf-8")
+    faults = SAMPLE / "faults.json"
+    screen.set_site_timezone(SITE_ZONE)
+    screen.add_files([terms, faults])
+    wait_until_idle(qtbot, screen)
+    states = [screen.file_table.item(row, 2).text() for row in range(2)]
+    assert states == ["cannot be read as campus calendar", "cannot be read"]
+    screen.file_table.selectRow(0)
+    summary = screen.view.summary.text()
+    assert "looks like campus calendar" in summary and "Kind" in summary
+    assert "What is this file? Choose its kind under 'What it is'" in summary
+    kind = screen.file_table.cellWidget(0, 1)
+    offered = [kind.itemData(i) for i in range(kind.count())]
+    assert offered == [None, "meters", "bills", "weather", "calendar"]
+    screen.file_table.selectRow(1)
+    assert "no table of dates and figures" in screen.view.summary.text()
+
+    kind.set_value("meters")  # the user says what it is; it is read again as that
+    kind.activated.emit(kind.currentIndex())
+    wait_until_idle(qtbot, screen)
+    assert screen.file_table.item(0, 2).text() == "cannot be read as meter readings"
+    screen.file_table.selectRow(0)
+    assert "as you said it is" in screen.view.summary.text()
+    screen.create_project_at(tmp_path / "never")
+    assert screen.notice.tone == "problem" and "terms.csv" in screen.notice.text.text()
+    assert [p.name for p in tmp_path.iterdir()] == ["terms.csv"]  # nothing half-created
+    assert "Traceback" not in capfd.readouterr().err
+    save_screen(screen, "files-unclassified")

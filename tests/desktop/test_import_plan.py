@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
-from desktop_support import SITE_ZONE, write_hourly_meter
+from desktop_support import SAMPLE, SITE_ZONE, write_hourly_meter
 
 from desktop.import_plan import ImportPlan, build_project, project_path, read_jobs
 from engine.errors import InputError
@@ -66,3 +66,30 @@ def test_a_cancelled_build_leaves_the_earlier_project_as_it_was(meter_file, tmp_
     with build_project(target, SITE_ZONE, plan.bundles()) as project:
         assert project.meter_names() == ["Hall"] and project.timezone == SITE_ZONE
         assert project.load_meter("Hall").values.sum() == pytest.approx(48 * 2.5)
+
+
+def test_choosing_the_holidays_reads_only_the_calendars_again(meter_file, tmp_path):
+    calendar = SAMPLE / "campus-calendar.csv"
+    plan = ImportPlan()
+    plan.set_site_timezone(SITE_ZONE)
+    plan.add([meter_file, calendar])
+    plan.record(read_jobs(plan.pending()))
+    assert [f.read_as for f in plan.files] == ["meters", "calendar"]
+    assert plan.files[1].report["public_holidays"] == []
+    plan.set_holidays("GB-SCT")
+    assert [f.state for f in plan.files] == ["read", "waiting"]
+    plan.record(read_jobs(plan.pending()))
+    report = plan.files[1].report
+    assert (report["country"], report["subdivision"]) == ("GB", "SCT")
+    # From memory: Scotland keeps St Andrew's Day (30 November, or the Monday after).
+    assert any("Andrew" in day["name"] for day in report["public_holidays"])
+    assert plan.storing_problem() is None
+    (bundle,) = [b for b in plan.bundles() if b.calendar is not None]
+    assert bundle.options.holidays == "GB-SCT"
+    # A project keeps one campus calendar: a second one is named before anything is stored.
+    second = tmp_path / "calendar-copy.csv"
+    second.write_bytes(calendar.read_bytes())
+    plan.add([second])
+    plan.record(read_jobs(plan.pending()))
+    problem = plan.storing_problem()
+    assert "campus-calendar.csv and calendar-copy.csv" in problem

@@ -33,6 +33,7 @@ from engine.budget import (
     widen,
 )
 from engine.budget.calibration import MAX_SCALE
+from engine.budget.skill import LAST_YEAR, skill
 from engine.errors import InputError
 from tests.engine.test_budget_campus import (
     METERS,
@@ -293,3 +294,50 @@ def test_the_period_p50_stays_near_the_sum_of_the_month_p50s_when_widened(campus
             total = after.total.energy.quantiles
             assert abs(gap(after)) < 0.1 * (total["90"] - total["10"])
             assert abs(gap(after)) < 0.02 * total["50"]
+
+
+def test_skill_is_one_minus_the_ratio_of_mean_absolute_percentage_errors() -> None:
+    # Worked by hand: P50 misses 2 %, 4 % and 6 % (mean 4 %); last year misses 5 %, 5 % and
+    # 10 % (mean 6.67 %); relative skill 1 − 4 / 6.67 = 0.4. The fourth month has no last-year
+    # total and is not scored.
+    pairs = pd.DataFrame(
+        {
+            "actual kWh": [100.0, 200.0, 50.0, 80.0],
+            "P50": [102.0, 192.0, 53.0, 80.0],
+            "last year kWh": [95.0, 210.0, 45.0, np.nan],
+        }
+    )
+    found = skill(pairs, "last year kWh", LAST_YEAR)
+    assert found.months == 3
+    assert found.p50_mape == pytest.approx(4.0)
+    assert found.baseline_mape == pytest.approx(20 / 3)
+    assert found.relative == pytest.approx(0.4)
+    assert "40% better" in found.sentence()
+    assert found.to_json()["relative"] == pytest.approx(0.4)
+    assert skill(pairs.iloc[3:], "last year kWh", LAST_YEAR).to_json()["relative"] is None
+
+
+def test_past_budgets_carry_last_years_total_and_the_last_week_repeated(
+    campus: Campus, past: BudgetBacktest
+) -> None:
+    # The naive budgets recomputed another way: pandas resampling of the readings by local
+    # calendar month (the same month a year before), and the mean of the 7 local days before
+    # the month times the month's days (seasonal naive with a weekly season, from memory).
+    meters = past.pairs[past.pairs["kind"] == "meter"]
+    for name, inputs in campus.inputs.items():
+        energy = inputs.energy.tz_convert(inputs.timezone)
+        by_month = energy.resample("MS").sum(min_count=1)
+        by_day = energy.resample("D").sum(min_count=1)
+        rows = meters[meters["name"] == name]
+        for row in rows.to_dict("records"):
+            month = pd.Timestamp(row["month"]).tz_localize(inputs.timezone)
+            year_before = month - pd.DateOffset(years=1)
+            expected = by_month.get(year_before, np.nan)
+            np.testing.assert_allclose(row["last year kWh"], expected, rtol=1e-9)
+            week = by_day[(by_day.index >= month - pd.Timedelta(days=7)) & (by_day.index < month)]
+            naive = week.mean() * month.days_in_month
+            np.testing.assert_allclose(row["last week kWh"], naive, rtol=1e-9)
+    calibration = past.calibration(next(iter(campus.inputs)))
+    assert calibration.vs_last_year.months == calibration.tried
+    assert calibration.to_json()["skill_vs_last_year"]["baseline"] == LAST_YEAR
+    assert Calibration.from_json(calibration.to_json()) == calibration  # kept with budgets

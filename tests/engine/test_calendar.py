@@ -18,6 +18,8 @@ from engine.calendar import (
     CampusCalendar,
     CampusPeriod,
     OccupancyRule,
+    holiday_countries,
+    holiday_subdivisions,
     label_intervals,
     read_calendar_file,
     shift_to_year,
@@ -299,3 +301,17 @@ def test_missing_columns_and_ambiguous_dates_are_explained(tmp_path: Path) -> No
         read_calendar_file(mixed)
     with pytest.raises(InputError, match="not read"):
         read_calendar_file(_write_csv(tmp_path / "d.json", "{}"))
+
+
+def test_the_holiday_lists_offer_what_a_calendar_accepts():
+    countries = holiday_countries()
+    # ISO 3166-1: US is the United States, GB the United Kingdom (from memory).
+    assert countries["US"] == "United States" and countries["GB"] == "United Kingdom"
+    assert list(countries.values()) == sorted(countries.values())
+    assert set(countries) == set(holidays.list_supported_countries(include_aliases=False))
+    regions = holiday_subdivisions("US")
+    assert regions["IL"] == "Illinois"  # ISO 3166-2:US (from memory)
+    for code in ("US", "GB", "DE"):
+        for region in holiday_subdivisions(code):
+            assert CampusCalendar(code, region).subdivision == region
+    assert holiday_subdivisions("XX") == {}

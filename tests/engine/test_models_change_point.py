@@ -230,3 +230,29 @@ def test_the_billing_shapes_agree_with_a_direct_change_point_fit():
     assert model.change_point_model_.kind == direct.kind
     assert isinstance(model.change_point_model_, ChangePointModel)
     assert model.change_point_model_.intercept_ == pytest.approx(direct.intercept_, rel=1e-9)
+
+
+def test_the_statements_give_each_groups_known_slopes_and_change_points(model):
+    # The library's truth (weekdays 5P: 60 kWh/day/°C below 12 °C, 90 above 20 °C; weekends
+    # 3PH: 40 below 10 °C), read back from the plain-words table within the fit's tolerances.
+    table = model.coefficients_table().set_index("term")
+    assert list(table.columns) == ["value", "unit", "meaning"]
+    assert table.loc["weekdays: heating", "value"] == pytest.approx(WEEKDAY[2], rel=0.05)
+    assert table.loc["weekdays: cooling", "value"] == pytest.approx(WEEKDAY[4], rel=0.05)
+    assert table.loc["weekends and holidays: heating", "value"] == pytest.approx(40.0, rel=0.05)
+    assert "weekends and holidays: cooling" not in table.index  # the 3PH shape has none
+    assert table.loc["weekdays: base load", "value"] == pytest.approx(WEEKDAY[0], rel=0.01)
+    heating = table.loc["weekdays: heating", "meaning"]
+    point = model.change_point_models_["weekday"].change_points_[0]
+    assert f"below {point:.1f} °C" in heating and "kWh per day" in heating
+
+
+def test_a_straight_line_is_stated_at_0_degrees_with_its_slope(library):
+    line = DailyChangePointModel(kind="2P", split_day_groups=False).fit(library[0])
+    fitted = line.change_point_models_["all_days"]
+    table = line.coefficients_table().set_index("term")
+    assert table.loc["all days: use at 0 °C", "value"] == fitted.intercept_
+    slope = fitted.cooling_slope_ - fitted.heating_slope_
+    assert table.loc["all days: temperature", "value"] == pytest.approx(slope)
+    # The library heats more than it cools over the year: the line falls as it warms.
+    assert slope < 0

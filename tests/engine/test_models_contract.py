@@ -281,3 +281,10 @@ def test_scenario_predictions_check_the_shape(cases, fitted):
     future = cases["calendar_regression"].future
     with pytest.raises(ValueError, match="scenarios"):
         predict_scenarios(fitted["calendar_regression"], future, np.zeros(len(future.index)))
+
+
+@pytest.mark.parametrize("name", FAMILIES)
+def test_every_fitted_family_says_what_it_learned_in_words(name, fitted):
+    table = fitted[name].coefficients_table()
+    assert list(table.columns) == ["term", "value", "unit", "meaning"]
+    assert len(table) >= 1 and table["meaning"].str.len().min() > 20

@@ -117,3 +117,20 @@ def test_a_time_of_week_never_seen_is_refused(building):
 def test_temperature_segments_add_up_to_the_temperature(temps, knots):
     segments = temperature_segments(np.array(temps), np.sort(knots))
     np.testing.assert_allclose(segments.sum(axis=1), temps, atol=1e-9)
+
+
+def test_the_statements_give_the_slopes_beyond_the_outer_knots(model):
+    # Read another way: the change of temperature_response over one °C beyond each outer knot.
+    table = model.coefficients_table().set_index("term")
+    low, high = model.knots_[0], model.knots_[-1]
+    for mode, occupied in (("occupied", True), ("unoccupied", False)):
+        colder = model.temperature_response([low - 2.0], occupied) - model.temperature_response(
+            [low - 1.0], occupied
+        )
+        warmer = model.temperature_response([high + 2.0], occupied) - model.temperature_response(
+            [high + 1.0], occupied
+        )
+        assert table.loc[f"{mode}: colder", "value"] == pytest.approx(colder[0], rel=1e-9)
+        assert table.loc[f"{mode}: warmer", "value"] == pytest.approx(warmer[0], rel=1e-9)
+    # The campus heats below its balance point: colder hours use more.
+    assert table.loc["occupied: colder", "value"] > 0

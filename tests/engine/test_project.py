@@ -818,6 +818,32 @@ def test_the_format_2_fixture_still_opens(tmp_path: Path) -> None:
         assert project.find_kept("Brightwater Hall main", "k") == {"family": "seasonal_naive"}
 
 
+def test_the_format_3_fixture_still_opens_and_gains_adopted_budgets(tmp_path: Path) -> None:
+    # Built once by tests/fixtures/projects/build_v3_fixture.py with the format-3 code; the
+    # expected content is that script's input data.
+    path = tmp_path / "v3_small.loadledger"
+    shutil.copyfile(FIXTURES / "v3_small.loadledger", path)
+    expected = json.loads((FIXTURES / "v3_small.expected.json").read_text(encoding="utf-8"))
+    assert int.from_bytes((FIXTURES / "v3_small.loadledger").read_bytes()[60:64], "big") == 3
+    with Project.open(path) as project:
+        assert project.upgrade_note == (
+            f"Upgraded 'v3_small.loadledger' from project format 3 to {FORMAT_VERSION}."
+        )
+        stored = [project.results(kind)[0] for kind in ("model", "budget")]
+        assert [
+            {key: row[key] for key in ("kind", "meter", "label", "body")} for row in stored
+        ] == expected["results"]
+        kept = expected["kept"]
+        assert project.find_kept(kept["meter"], kept["key"]) == kept["body"]
+        assert project.adopted_budget_names() == []  # format 4's table came with the upgrade
+        project.adopt_budget("FY2032", {"months": ["2031-07"]})
+        with pytest.raises(InputError, match="already adopted as 'FY2032'"):
+            project.adopt_budget("FY2032", {"months": ["2031-08"]})
+        assert project.adopted_budget("FY2032")["body"] == {"months": ["2031-07"]}
+        project.adopt_budget("FY2032", {"months": ["2031-08"]}, replace=True)
+        assert project.adopted_budget("FY2032")["body"] == {"months": ["2031-08"]}
+
+
 def test_new_over_an_old_project_that_fails_while_storing_leaves_the_old_one(tmp_path: Path):
     # A store that fails half way (here: a weather file whose raw values lost a row, which
     # the weather table refuses after the meters were stored) must leave the old project as

@@ -10,7 +10,7 @@ import openpyxl
 import pytest
 
 from engine.errors import InputError
-from engine.reading import ReadOptions, describe, read_file, read_meter_file
+from engine.reading import ReadOptions, describe, guess_kind, read_file, read_meter_file
 from tests.fuzz import workbooks
 
 UTC = ReadOptions(timezone="UTC")
@@ -327,3 +327,14 @@ def test_zip_needing_an_unknown_version_is_refused(tmp_path):
     path = tmp_path / "future.xlsx"
     path.write_bytes(bytes(data))
     assert "future.xlsx" in str(_error(path))
+
+
+def test_a_file_that_fails_to_read_can_say_what_it_looked_like(tmp_path):
+    # Two date columns and no numbers: a calendar, though its Kind column is missing.
+    path = tmp_path / "terms.csv"
+    path.write_text("Name,Start,End\nFall,2025-08-25,2025-12-12\n", encoding="utf-8")
+    assert guess_kind(path) == "calendar"
+    with pytest.raises(InputError, match="Kind"):
+        read_file(path)
+    path.write_text("Time,Hall (kWh)\n2025-01-06 00:00,1.0\n2025-01-06 01:00,2.0\n")
+    assert guess_kind(path) == "meters" == describe(read_file(path))["kind"]

@@ -1,0 +1,9 @@
+"""Counts in the window's sentences agree with their nouns."""
+
+from desktop.wording import counted
+
+
+def test_one_is_singular_and_every_other_count_plural():
+    assert counted(1, "estimated value") == "1 estimated value"
+    assert counted(0, "meter") == "0 meters"
+    assert counted(1204, "interval") == "1,204 intervals"
