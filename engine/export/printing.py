@@ -124,7 +124,7 @@ def _keep_blocks_together(
         block = sum(_height(sheet, r) for r in range(start, end + 1))
         filled = _last_filled(sheet, start, end, last_column)
         needed = sum(_height(sheet, r) for r in range(start, filled + 1))  # blank rows may spill
-        if position > 0 and position + needed > page:
+        if position > 0 and position + needed > page >= needed:  # it fits on a page of its own
             sheet.row_breaks.append(Break(id=start - 1))
             position = 0.0
         position += block
