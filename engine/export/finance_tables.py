@@ -412,8 +412,10 @@ def meter_facts(
             facts.append(("readings used", f"{first} to {last}"))
         check = run.calibration.get(meter.name)
         if check is not None:
-            words = check.sentence() + (f"; {check.method}" if check.scale == 1.0 else "")
+            words = check.sentence()  # says how the range was corrected, if it was
             facts.append(("range in backtests", words[:1].upper() + words[1:]))
+            if check.scale == 1.0:
+                facts.append(("range correction", check.method))
         facts.append(("priced by", _pricing(run, meter.utility, meter.total, bill_prices)))
         facts += [("caution", c) for c in run.cautions if meter.name in c]
         rows += [(meter.name, fact, words) for fact, words in facts]
