@@ -284,6 +284,7 @@ def budget_project(
     run.assumptions.update(
         {
             "models": {name: modelled[name].model.label for name in names},
+            "model settings": {name: modelled[name].model.settings() for name in names},
             "model error": f"out-of-sample errors of each meter's model refitted before each of "
             f"the {ERROR_MONTHS} months before the as-of date (month-ahead, actual weather)",
             "calibration": f"the {request.calibration_origins} most recent past month-ahead "

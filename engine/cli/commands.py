@@ -105,7 +105,8 @@ def profile(args: argparse.Namespace) -> int:
         ],
     }
     if args.xlsx:
-        report["workbook"] = str(write_profile_workbook(args.xlsx, profiles).resolve())
+        written = write_profile_workbook(args.xlsx, profiles, project=Path(args.project).stem)
+        report["workbook"] = str(written.resolve())
     _emit(args, report, text.profile_report)
     return 0
 
@@ -188,6 +189,7 @@ def _budget_report(args: argparse.Namespace, project: Project) -> int:
             steps=outcome.steps,
             scorecards=outcome.scorecards,
             data_range=outcome.data_range,
+            project=project.path.stem if args.project else None,
         )
         report["workbook"] = str(written.resolve())
     _emit(args, report, text.budget_report)

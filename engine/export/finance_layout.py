@@ -8,7 +8,6 @@ sentences wrapped inside the width of the tables rather than running off the pag
 
 from __future__ import annotations
 
-import math
 from collections.abc import Iterable
 from typing import Any
 
@@ -18,17 +17,21 @@ from openpyxl.styles import Alignment, Font
 from openpyxl.utils import get_column_letter
 from openpyxl.worksheet.worksheet import Worksheet
 
-from engine.export.sheets import put, write_table
+from engine.export.printing import PageLabels, set_up_printing
+from engine.export.sheets import (
+    CHARACTER_WIDTH,
+    LINE_HEIGHT,
+    fit_header_row,
+    put,
+    text_lines,
+    write_table,
+)
 
 FONT_NAME = "Calibri"
 TITLE_FONT = Font(name=FONT_NAME, bold=True, size=14)
 SECTION_FONT = Font(name=FONT_NAME, bold=True, size=12)
 BOLD = Font(name=FONT_NAME, bold=True)
 NOTE_FONT = Font(name=FONT_NAME, italic=True)
-LINE_HEIGHT = 15.0  # points per line of 11-point text (common practice)
-CHARACTER_WIDTH = 0.9  # column-width units per character of 11-point text (a little generous)
-HEADER_CHARACTER_WIDTH = 1.2  # the same for bold headers
-HEADER_WIDTH = 26.0  # columns widen to fit headers up to this width; longer headers wrap
 
 
 def table(
@@ -39,7 +42,7 @@ def table(
     index: bool = True,
     formats: dict[str, str] | None = None,
 ) -> tuple[int, int]:
-    """:func:`write_table`, keeping wider columns of earlier tables and fitting the header.
+    """:func:`write_table`, keeping wider columns of earlier tables, headers over numbers right.
 
     Returns (last row, last column) like :func:`write_table`.
     """
@@ -49,25 +52,15 @@ def table(
     )
     for key, width in widths.items():
         sheet.column_dimensions[key].width = max(sheet.column_dimensions[key].width, width)
-    _fit_header(sheet, first_row, last_column)
-    return last_row, last_column
-
-
-def _fit_header(sheet: Worksheet, row: int, last_column: int) -> None:
-    """Right-align headers over numbers, widen columns for short headers, fit wrapped ones."""
-    lines = 1
-    for column in range(1, last_column + 1):
-        header = sheet.cell(row, column)
-        below = sheet.cell(row + 1, column).value
+    for column, cells in enumerate(
+        sheet.iter_cols(min_row=first_row + 1, max_row=last_row, max_col=last_column), start=1
+    ):
+        below = next((cell.value for cell in cells if cell.value is not None), None)
         if isinstance(below, int | float) and not isinstance(below, bool):
+            header = sheet.cell(first_row, column)
             header.alignment = Alignment(horizontal="right", vertical="top", wrap_text=True)
-        text = str(header.value)
-        dimension = sheet.column_dimensions[get_column_letter(column)]
-        needed = len(text) * HEADER_CHARACTER_WIDTH + 1
-        dimension.width = max(dimension.width, min(needed, HEADER_WIDTH))
-        lines = max(lines, _lines(text, dimension.width, HEADER_CHARACTER_WIDTH))
-    if lines > 1:
-        sheet.row_dimensions[row].height = LINE_HEIGHT * lines
+    fit_header_row(sheet, first_row, last_column)  # again: earlier tables may have widened it
+    return last_row, last_column
 
 
 def title(sheet: Worksheet, row: int, text: str, font: Font = TITLE_FONT) -> int:
@@ -89,7 +82,8 @@ def facts(
     A pair may carry a third item, the value's number format.
     """
     for label, value, *number_format in pairs:
-        put(sheet, row, 1, label).font = BOLD
+        cell = put(sheet, row, 1, label)
+        cell.font, cell.alignment = BOLD, Alignment(vertical="top")
         cell = put(sheet, row, 2, value)
         cell.alignment = Alignment(horizontal="left")
         if number_format:
@@ -120,9 +114,37 @@ def paragraph(
         sheet.merge_cells(
             start_row=row, start_column=first_column, end_row=row, end_column=last_column
         )
-    lines = _lines(text, _width(sheet, first_column, last_column))
+    lines = text_lines(text, _width(sheet, first_column, last_column))
     sheet.row_dimensions[row].height = LINE_HEIGHT * lines
     return cell
+
+
+def labelled(
+    sheet: Worksheet,
+    row: int,
+    label: str,
+    text: str,
+    *,
+    first_column: int = 2,
+    last_column: int,
+    font: Font | None = BOLD,
+) -> int:
+    """A label in column A and its text wrapped from ``first_column``; return the next row.
+
+    A label wider than column A (a long meter name) wraps too, and the row is as tall as the
+    taller of the two.
+    """
+    cell = put(sheet, row, 1, label)
+    cell.alignment = Alignment(wrap_text=True, vertical="top")
+    if font is not None:
+        cell.font = font
+    paragraph(sheet, row, text, first_column=first_column, last_column=last_column)
+    lines = max(
+        text_lines(label, _width(sheet, 1, 1), CHARACTER_WIDTH),  # a name: as wide as digits
+        text_lines(text, _width(sheet, first_column, last_column)),
+    )
+    sheet.row_dimensions[row].height = LINE_HEIGHT * lines
+    return row + 1
 
 
 def _width(sheet: Worksheet, first_column: int, last_column: int) -> float:
@@ -132,19 +154,16 @@ def _width(sheet: Worksheet, first_column: int, last_column: int) -> float:
     )
 
 
-def _lines(text: str, width: float, character_width: float = CHARACTER_WIDTH) -> int:
-    return max(1, math.ceil(len(text) * character_width / max(width - 1.0, 1.0)))
+def print_on_page_width(sheet: Worksheet, labels: PageLabels | None = None) -> None:
+    """Print one page wide, the frozen header row (else the first row) on every page, charts
+    included (:func:`engine.export.printing.set_up_printing`)."""
+    header = frozen_header(sheet)
+    set_up_printing(sheet, labels or PageLabels(), title_rows=(header, header))
 
 
-def print_on_page_width(sheet: Worksheet) -> None:
-    """Landscape pages as wide as the sheet, a frozen header repeated on every page."""
-    sheet.page_setup.orientation = "landscape"
-    sheet.page_setup.fitToWidth = 1
-    sheet.page_setup.fitToHeight = 0
-    sheet.sheet_properties.pageSetUpPr.fitToPage = True
-    if sheet.freeze_panes:
-        header_row = sheet[sheet.freeze_panes].row - 1
-        sheet.print_title_rows = f"{header_row}:{header_row}"
+def frozen_header(sheet: Worksheet) -> int:
+    """The row above the frozen panes (a table's header), else 1 (a sheet's title)."""
+    return sheet[sheet.freeze_panes].row - 1 if sheet.freeze_panes else 1
 
 
 def money_format(currency: str | None) -> str:

@@ -8,7 +8,7 @@ formulas and the chart are added by :mod:`engine.export.finance_workbook`.
 
 from __future__ import annotations
 
-import json
+import re
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from typing import Any
@@ -41,18 +41,23 @@ QUALITY_LABELS: dict[str, str] = {
 }
 STEPS_COUNT = "cleaning steps applied"
 TOTAL_LABEL = "Total"
-STEP_HEADERS = ["meter", "step", "kind", "what it does", "settings", "note", "added (UTC)"]
-METER_HEADERS = [
-    "meter",
-    "utility",
-    "model",
-    "first reading",
-    "last reading",
-    "backtest months inside range",
-    "backtest months tried",
-    "range scale",
-    "calibration method",
-]
+STEP_HEADERS = ["meter", "step", "what was done", "note", "added (UTC)"]
+#: Our own words for the keys of ``BudgetRun.assumptions``; other keys lose their underscores.
+ASSUMPTION_LABELS: dict[str, str] = {
+    "as_of": "as of (later data ignored)",
+    "history_ignored_from": "readings ignored from",
+    "weather": "weather assumption",
+    "weather_scenarios": "weather scenarios",
+    "model_errors": "model errors",
+    "parameter_uncertainty": "parameter uncertainty",
+    "calibration": "range calibration",
+    "roll_ups": "roll-ups",
+    "campus_energy": "campus energy",
+    "floor": "lowest value",
+    "models": "model",
+}
+LIST_SHOWN = 6  # longer lists are shown by their count, first and last items
+ISO_STAMP = re.compile(r"^\d{4}-\d{2}-\d{2}T\d{2}:\d{2}")
 
 
 @dataclass(frozen=True)
@@ -263,11 +268,22 @@ def scores_frame(
     models = {m.name: m.model for m in run.meters}
     names = _ordered(list(models), cards)
     frame = pd.DataFrame(
-        [{"model": models.get(n)} | cards.get(n, {}) for n in names],
+        [_score_row(models.get(n), cards.get(n, {})) for n in names],
         index=pd.Index(names, name="meter"),
     )
     formats = {name: _score_format(name, frame[name]) for name in frame.columns[1:]}
     return frame, {k: v for k, v in formats.items() if v}
+
+
+def _score_row(model: str | None, card: Mapping[str, Any]) -> dict[str, Any]:
+    """The model's name (a card's own "name" wins over the run's label; its "model" key is
+    the family's code, not for readers), then the scores with yes/no for true/false (a
+    spreadsheet may print them as 1 and 0)."""
+    row = {"model": card.get("name", model)}
+    for key, value in card.items():
+        if key not in ("model", "name"):
+            row[key] = in_words(value) if isinstance(value, bool) else value
+    return row
 
 
 def _score_format(name: str, values: pd.Series) -> str | None:
@@ -284,42 +300,140 @@ def _score_format(name: str, values: pd.Series) -> str | None:
 
 
 def steps_frame(steps: Sequence[dict]) -> pd.DataFrame:
-    """The cleaning steps applied, in the order given, with what each kind does."""
+    """The cleaning steps applied, in the order given: what each did, in words, with its note."""
     rows = [
         {
             "meter": step.get("meter"),
             "step": step.get("id"),
-            "kind": step.get("kind"),
-            "what it does": STEP_KINDS.get(str(step.get("kind")), ""),
-            "settings": json.dumps(step.get("params") or {}, sort_keys=True, default=str),
+            "what was done": _step_words(step),
             "note": step.get("note") or "",
-            "added (UTC)": step.get("created_at"),
+            "added (UTC)": in_words(step.get("created_at")),
         }
         for step in steps
     ]
     return pd.DataFrame(rows, columns=STEP_HEADERS)
 
 
-def meters_frame(run: BudgetRun, data_range: Mapping[str, tuple[str, str]]) -> pd.DataFrame:
-    """Per meter: utility, model, the data range used and how its range was calibrated."""
+def _step_words(step: Mapping[str, Any]) -> str:
+    kind = str(step.get("kind"))
+    what = STEP_KINDS.get(kind, kind.replace("_", " "))
+    settings = step.get("params") or {}
+    return f"{what[:1].upper()}{what[1:]}" + (f": {in_words(settings)}" if settings else "")
+
+
+def in_words(value: Any) -> str:
+    """A setting or assumption as a reader would write it: never JSON.
+
+    Mappings become "key: value; key: value", long lists their count with the first and last
+    items, times stamped in ISO form a plain "yyyy-mm-dd hh:mm" in UTC, yes/no for booleans.
+    """
+    if value is None:
+        return "none"
+    if isinstance(value, bool):
+        return "yes" if value else "no"
+    if isinstance(value, float):
+        return f"{value:.4g}"
+    if isinstance(value, str):
+        return _stamp_words(value) if ISO_STAMP.match(value) else value
+    if isinstance(value, Mapping):
+        return "; ".join(f"{_label(key)}: {in_words(item)}" for key, item in value.items())
+    if isinstance(value, Sequence):
+        items = [in_words(item) for item in value]
+        if len(items) > LIST_SHOWN:
+            return f"{len(items)} ({items[0]}, {items[1]}, … {items[-1]})"
+        return ", ".join(items) or "none"
+    return str(value)
+
+
+def _stamp_words(text: str) -> str:
+    try:
+        stamp = pd.Timestamp(text)
+    except ValueError:
+        return text
+    if stamp.tzinfo is not None:
+        return stamp.tz_convert("UTC").strftime("%Y-%m-%d %H:%M UTC")
+    return stamp.strftime("%Y-%m-%d %H:%M")
+
+
+def _label(key: object) -> str:
+    return ASSUMPTION_LABELS.get(str(key), str(key).replace("_", " "))
+
+
+def run_facts(run: BudgetRun) -> list[tuple[str, str]]:
+    """What the whole budget assumes, as (label, words) rows; per-meter items are left out.
+
+    An assumption given per meter (a mapping keyed by the run's meter names) belongs to
+    :func:`meter_facts`; other mappings give one row per key; a row whose words repeat an
+    earlier row's is dropped (the run states its as-of date and weather twice).
+    """
+    rows = [
+        ("budget months", f"{run.months[0]} to {run.months[-1]} ({len(run.months)} months)"),
+        ("as of (later data ignored)", run.as_of),
+        ("weather assumption", run.weather),
+        ("tariff", run.tariff or "none: energy only, no cost"),
+        ("currency", run.currency or "none"),
+        ("levels", ", ".join(f"P{level}" for level in run.levels)),
+        ("simulated paths", f"{run.paths:,}"),
+    ]
+    meters = {m.name for m in run.meters}
+    for key, value in run.assumptions.items():
+        if _per_meter(value, meters):
+            continue
+        if isinstance(value, Mapping):
+            rows += [(f"{_label(key)} ({_label(k)})", in_words(v)) for k, v in value.items()]
+        else:
+            rows.append((_label(key), in_words(value)))
+    first = {words: index for index, (_, words) in reversed(list(enumerate(rows)))}
+    return [row for index, row in enumerate(rows) if first[row[1]] == index]
+
+
+def meter_facts(
+    run: BudgetRun, data_range: Mapping[str, tuple[str, str]]
+) -> list[tuple[str, str, str]]:
+    """One (meter, fact, words) row per meter and fact: model, its settings, data, range, cost.
+
+    The facts: utility, model and its settings, the readings used, every per-meter assumption
+    of the run, how the range held in backtests, what prices the cost, and the run's cautions
+    that name the meter.
+    """
+    meters = {m.name for m in run.meters}
+    per_meter = {key: value for key, value in run.assumptions.items() if _per_meter(value, meters)}
+    bill_prices = run.assumptions.get("prices from bills") or {}
     rows = []
     for meter in run.meters:
-        first, last = data_range.get(meter.name, (None, None))
+        facts = [("utility", meter.utility.replace("_", " ")), ("model", meter.model)]
+        facts += [
+            (_label(key), in_words(value[meter.name]))
+            for key, value in per_meter.items()
+            if meter.name in value and in_words(value[meter.name]) != meter.model
+        ]
+        if meter.name in data_range:
+            first, last = data_range[meter.name]
+            facts.append(("readings used", f"{first} to {last}"))
         check = run.calibration.get(meter.name)
-        rows.append(
-            {
-                "meter": meter.name,
-                "utility": meter.utility,
-                "model": meter.model,
-                "first reading": first,
-                "last reading": last,
-                "backtest months inside range": check.held if check else None,
-                "backtest months tried": check.tried if check else None,
-                "range scale": check.scale if check else None,
-                "calibration method": check.method if check else None,
-            }
-        )
-    return pd.DataFrame(rows, columns=METER_HEADERS).set_index("meter")
+        if check is not None:
+            words = check.sentence()  # says how the range was corrected, if it was
+            facts.append(("range in backtests", words[:1].upper() + words[1:]))
+            if check.scale == 1.0:
+                facts.append(("range correction", check.method))
+        facts.append(("priced by", _pricing(run, meter.utility, meter.total, bill_prices)))
+        facts += [("caution", c) for c in run.cautions if meter.name in c]
+        rows += [(meter.name, fact, words) for fact, words in facts]
+    return rows
+
+
+def _per_meter(value: Any, meters: set[str]) -> bool:
+    return isinstance(value, Mapping) and bool(value) and set(map(str, value)) <= meters
+
+
+def _pricing(
+    run: BudgetRun, utility: str, total: PeriodTotal, bill_prices: Mapping[str, Any]
+) -> str:
+    if total.cost is None:
+        return "not priced: energy only"
+    if utility in bill_prices:
+        return f"prices from bills: {in_words(bill_prices[utility])}"
+    return f"tariff: {run.tariff}" if run.tariff else "priced"
 
 
 def _ordered(first: Sequence[str], more: Mapping[str, Any]) -> list[str]:

@@ -12,9 +12,7 @@ like a formula stays text.
 
 from __future__ import annotations
 
-import json
 from pathlib import Path
-from typing import Any
 
 import pandas as pd
 from openpyxl import Workbook
@@ -33,9 +31,10 @@ from engine.export.finance_layout import (
     BOLD,
     NOTE_FONT,
     facts,
+    frozen_header,
+    labelled,
     money_format,
     paragraph,
-    print_on_page_width,
     section,
     table,
     title,
@@ -46,21 +45,46 @@ from engine.export.finance_tables import (
     FigureColumns,
     daily_frame,
     figure_columns,
-    meters_frame,
+    meter_facts,
     monthly_frame,
     overview_frame,
     quality_formats,
     quality_frame,
+    run_facts,
     scores_frame,
     steps_frame,
 )
+from engine.export.printing import PageLabels, set_up_printing
 from engine.export.saving import save_workbook
-from engine.export.sheets import DATE_FORMAT, put
+from engine.export.sheets import (
+    DATE_FORMAT,
+    HEADER_FILL,
+    HEADER_FONT,
+    fit_header_row,
+    put,
+    wrap_long_text,
+)
 from engine.progress import Progress
 
 SHEETS = ("Overview", "Monthly", "Daily", "Assumptions", "Data quality", "Model scores")
 LABEL_WIDTH = 26
-TOTAL_NOTE = "P-columns: the period total's own quantiles"
+NAME_WIDTH = 36  # column A widens to the longest meter name up to this; longer names wrap
+#: Assumptions columns B–E (fact or step, the words, a step's note, when it was added):
+#: with column A they fit a landscape page at about 95 %.
+ASSUMPTION_WIDTHS = {"B": 20.0, "C": 56.0, "D": 20.0, "E": 20.0}
+CHART_ROWS = 20  # rows of 15 points under the Overview's 10 cm chart, and one to spare
+CHART_CAPTION = (
+    "Chart: {name}'s month totals, P{middle} with the P{low}–P{high} range, drawn from the "
+    "sheet 'Monthly'."
+)
+DAILY_HEADER_ROW = 2
+PAGE_NOTE = "Budgets are estimates, not bills: read them with the sheet 'Assumptions'."
+DAILY_NOTE = (
+    "Daily detail for screens: one row per meter and day ({rows:,} rows); filter by meter or "
+    "date. On paper this sheet prints this note only: the month totals and their range print "
+    "on the sheet 'Monthly', the period totals on 'Overview'."
+)
+TOTAL_NOTE = "P-columns of the Total row above: the period total's own quantiles"
 
 #: Row of the weather assumption among the Overview's facts (it is wrapped after the table).
 WEATHER_ROW = 5
@@ -87,6 +111,7 @@ def write_finance_workbook(
     steps: list[dict],
     scorecards: dict[str, dict],
     data_range: dict[str, tuple[str, str]],
+    project: str | None = None,
     progress: Progress | None = None,
 ) -> Path:
     """Write the finance workbook of ``run`` to ``path`` (.xlsx) and return the path.
@@ -108,6 +133,9 @@ def write_finance_workbook(
         here falls back to its own ``MeterBudget.scores``.
     data_range
         Per meter, the first and last reading used, as text.
+    project
+        The project's name, printed at the top of every page (None: the workbook's file
+        name).
     progress
         Optional progress reporting and cancellation.
 
@@ -131,11 +159,18 @@ def write_finance_workbook(
     header_row, blocks = _write_monthly(sheets["Monthly"], run, columns)
     _write_overview(sheets["Overview"], run, columns)
     chart = range_chart(sheets["Monthly"], header_row, chart_block(blocks), columns)
-    sheets["Overview"].add_chart(chart, f"A{sheets['Overview'].max_row + 2}")
+    chart_row = sheets["Overview"].max_row + 2
+    sheets["Overview"].add_chart(chart, f"A{chart_row}")
+    caption_row = chart_row + CHART_ROWS  # under the chart: it also ends the chart's block
+    put(sheets["Overview"], caption_row, 1, _caption(chart_block(blocks), columns)).font = NOTE_FONT
     progress_steps.step(progress, 0.2, "Daily detail")
     _write_daily(sheets["Daily"], run)
     progress_steps.step(progress, 0.7, "Assumptions, data quality and scores")
-    _write_assumptions(sheets["Assumptions"], run, steps, data_range)
+    kept = {
+        "Overview": [chart_row],  # the chart prints whole, on the next page if need be
+        "Monthly": [header_row + 1 + block.first for block in blocks],
+        "Assumptions": _write_assumptions(sheets["Assumptions"], run, steps, data_range),
+    }
     table(
         sheets["Data quality"],
         quality_frame([m.name for m in run.meters], quality, steps),
@@ -143,12 +178,22 @@ def write_finance_workbook(
     )
     scores, formats = scores_frame(run, scorecards)
     table(sheets["Model scores"], scores, formats=formats)
-    for sheet in sheets.values():
-        print_on_page_width(sheet)
+    printed = {"Overview": (1, caption_row), "Daily": (1, 1)}
+    _set_up_pages(book, PageLabels(project, PAGE_NOTE), printed, kept)
     progress_steps.step(progress, 0.85, "Saving the workbook")
     save_workbook(book, path, "finance workbook")
     progress_steps.step(progress, 1.0, "Finance workbook written")
     return path
+
+
+def _caption(block: Block, columns: FigureColumns) -> str:
+    levels = columns.levels
+    return CHART_CAPTION.format(
+        name=block.item.name,
+        middle=levels[len(levels) // 2],
+        low=levels[0],
+        high=levels[-1],
+    )
 
 
 def _checked_path(path: Path) -> Path:
@@ -183,7 +228,10 @@ def _write_monthly(
     formats = _figure_formats(columns) | {"month": MONTH_FORMAT}
     table(sheet, frame, first_row=header_row, index=False, formats=formats)
     sums = [list(frame.columns).index(name) + 1 for name in columns.additive]
-    note_column = len(frame.columns) + 1
+    last_column = len(frame.columns)
+    # under the P-columns of each Total row (in the blank row between blocks), not beside it:
+    # a column for a note would widen every printed page
+    note_column = list(frame.columns).index(columns.level_header(low)) + 1
     for block in blocks:
         first = header_row + 1 + block.first
         total = header_row + 1 + block.total_row
@@ -195,11 +243,9 @@ def _write_monthly(
             letter = get_column_letter(column)
             # set directly: our own formula, the one value that put() must not turn into text
             sheet.cell(total, column).value = f"=SUM({letter}{first}:{letter}{total - 1})"
-        for column in range(1, note_column):
+        for column in range(1, last_column + 1):
             sheet.cell(total, column).font = BOLD
-        note = put(sheet, total, note_column, TOTAL_NOTE)
-        note.font, note.alignment = NOTE_FONT, Alignment(indent=1)
-    sheet.column_dimensions[get_column_letter(note_column)].width = len(TOTAL_NOTE) + 4
+        put(sheet, total + 1, note_column, TOTAL_NOTE).font = NOTE_FONT
     title(sheet, 1, "Monthly budget: month totals include the actual to date")
     paragraph(
         sheet,
@@ -208,7 +254,7 @@ def _write_monthly(
         f"The P-columns of a Total row hold the quantiles of the period total over {run.paths:,} "
         f"simulated paths, not sums: quantiles do not add up (a sum of monthly P{high} values "
         f"overstates the P{high} of the period, a sum of P{low} values understates its P{low}).",
-        last_column=note_column - 1,
+        last_column=last_column,
         font=NOTE_FONT,
     )
     return header_row, blocks
@@ -237,17 +283,20 @@ def _write_overview(sheet: Worksheet, run: BudgetRun, columns: FigureColumns) ->
     frame = overview_frame(run, columns)
     row, width = table(sheet, frame, first_row=row, index=False, formats=_figure_formats(columns))
     sheet.freeze_panes = None
-    sheet.column_dimensions["A"].width = max(sheet.column_dimensions["A"].width, LABEL_WIDTH)
+    sheet.column_dimensions["A"].width = _name_width(run, sheet.column_dimensions["A"].width)
     # now that the columns have their widths, wrap the (long) weather assumption across them
     paragraph(sheet, WEATHER_ROW, run.weather, first_column=2, last_column=width)
     row = section(sheet, row + 2, "How well the range held in backtests")
     for meter, check in run.calibration.items():
-        put(sheet, row, 1, meter).alignment = Alignment(vertical="top")
         sentence = check.sentence()
-        paragraph(
-            sheet, row, sentence[:1].upper() + sentence[1:] + ".", first_column=2, last_column=width
+        row = labelled(
+            sheet,
+            row,
+            meter,
+            sentence[:1].upper() + sentence[1:] + ".",
+            last_column=width,
+            font=None,
         )
-        row += 1
     if not run.calibration:
         text = "No backtest was run: the range has not been checked against past months."
         paragraph(sheet, row, text, last_column=width)
@@ -263,54 +312,114 @@ def _write_overview(sheet: Worksheet, run: BudgetRun, columns: FigureColumns) ->
         row += 1
 
 
+def _name_width(run: BudgetRun, width: float) -> float:
+    """Column A's width: at least ``width`` and :data:`LABEL_WIDTH`, the longest meter name
+    up to :data:`NAME_WIDTH` (longer names wrap)."""
+    longest = max(len(meter.name) for meter in run.meters) + 2
+    return max(width, LABEL_WIDTH, min(longest, NAME_WIDTH))
+
+
 def _write_daily(sheet: Worksheet, run: BudgetRun) -> None:
+    """The daily detail under a note; the note is all that prints (see _set_up_pages)."""
     frame = daily_frame(run)
     if frame.empty:
         put(sheet, 1, 1, "This budget run has no daily detail.")
         return
     formats = {"date": DATE_FORMAT} | dict.fromkeys(frame.columns[3:], ENERGY_FORMAT)
-    last_row, last_column = table(sheet, frame, index=False, formats=formats)
-    sheet.auto_filter.ref = f"A1:{get_column_letter(last_column)}{last_row}"
+    last_row, last_column = table(
+        sheet, frame, first_row=DAILY_HEADER_ROW, index=False, formats=formats
+    )
+    sheet.auto_filter.ref = f"A{DAILY_HEADER_ROW}:{get_column_letter(last_column)}{last_row}"
+    text = DAILY_NOTE.format(rows=len(frame))
+    paragraph(sheet, 1, text, last_column=last_column, font=NOTE_FONT)
 
 
 def _write_assumptions(
     sheet: Worksheet, run: BudgetRun, steps: list[dict], data_range: dict[str, tuple[str, str]]
-) -> None:
+) -> list[int]:
+    """One row per fact of the whole budget, then per meter and fact, then the cleaning steps.
+
+    Returns the first rows of the blocks that print best unsplit (each meter's facts).
+
+    The columns are fixed first, so every wrapped sentence is measured against the width it
+    prints at; the words come from :func:`run_facts` and :func:`meter_facts` (never JSON).
+    """
+    whole = run_facts(run)
+    sheet.column_dimensions["A"].width = _name_width(run, max(len(label) for label, _ in whole))
+    for letter, width in ASSUMPTION_WIDTHS.items():
+        sheet.column_dimensions[letter].width = width
+    last = len(ASSUMPTION_WIDTHS) + 1
     title(sheet, 1, "What this budget assumes")
-    row = section(sheet, 3, "Budget run")
-    calibration = sorted({c.method for c in run.calibration.values()})
-    row = facts(
-        sheet,
-        row,
-        [
-            ("first budget month", run.months[0]),
-            ("last budget month", run.months[-1]),
-            ("as of (later data ignored)", run.as_of),
-            ("weather assumption", run.weather),
-            ("tariff", run.tariff or "none"),
-            ("currency", run.currency or "none"),
-            ("levels", ", ".join(f"P{level}" for level in run.levels)),
-            ("simulated paths", run.paths),
-            ("range calibration", "; ".join(calibration) or "none"),
-            *((str(key), _plain(value)) for key, value in run.assumptions.items()),
-        ],
-    )
-    row = section(sheet, row + 1, "Meters: data used and model chosen")
-    row, _ = table(
-        sheet, meters_frame(run, data_range), first_row=row, formats={"range scale": "0.00"}
-    )
-    put(sheet, row + 1, 1, "Backtest scores of each model: sheet 'Model scores'.").font = NOTE_FONT
-    row = section(sheet, row + 3, "Cleaning steps applied")
+    row = section(sheet, 3, "The whole budget")
+    for label, words in whole:
+        row = labelled(sheet, row, label, words, last_column=last)
+    blocks = [row + 1]  # the section's title and header stay with its first meter
+    row = section(sheet, row + 1, "Each meter")
+    _header_cells(sheet, row, ["meter", "fact", "what it assumes"], last_column=last)
+    shown = None
+    for meter, fact, words in meter_facts(run, data_range):
+        row += 1
+        if shown is not None and meter != shown:
+            blocks.append(row)
+        # the meter's name heads its block of facts; the rows below it belong to it
+        name = meter if meter != shown else ""
+        labelled(sheet, row, name, words, first_column=3, last_column=last)
+        put(sheet, row, 2, fact).alignment = Alignment(vertical="top", wrap_text=True)
+        shown = meter
+    put(sheet, row + 2, 1, "Backtest scores of each model: sheet 'Model scores'.").font = NOTE_FONT
+    blocks.append(row + 4)
+    row = section(sheet, row + 4, "Cleaning steps applied")
     if steps:
-        table(sheet, steps_frame(steps), first_row=row, index=False)
+        _steps_table(sheet, steps, row)
     else:
         put(sheet, row, 1, "None: the models used the readings as imported.")
     sheet.freeze_panes = None
-    sheet.column_dimensions["A"].width = max(sheet.column_dimensions["A"].width, LABEL_WIDTH)
+    return blocks
 
 
-def _plain(value: Any) -> Any:
-    """Scalars as they are; anything else as sorted JSON text."""
-    if value is None or isinstance(value, str | int | float | bool):
-        return value
-    return json.dumps(value, sort_keys=True, default=str)
+def _header_cells(sheet: Worksheet, row: int, headers: list[str], *, last_column: int) -> None:
+    """A table header row; the last header spans to ``last_column``."""
+    for column, text in enumerate(headers, start=1):
+        cell = put(sheet, row, column, text)
+        cell.font, cell.fill = HEADER_FONT, HEADER_FILL
+    for column in range(len(headers) + 1, last_column + 1):
+        sheet.cell(row, column).fill = HEADER_FILL
+
+
+def _steps_table(sheet: Worksheet, steps: list[dict], row: int) -> None:
+    """The steps as a table that wraps inside the sheet's columns instead of widening them."""
+    widths = {key: dimension.width for key, dimension in sheet.column_dimensions.items()}
+    last_row, last_column = table(sheet, steps_frame(steps), first_row=row, index=False)
+    for key, width in widths.items():
+        sheet.column_dimensions[key].width = width
+    fit_header_row(sheet, row, last_column)
+    wrap_long_text(sheet, row + 1, last_row, last_column)
+    for cells in sheet.iter_rows(min_row=row, max_row=last_row, min_col=2, max_col=2):
+        cells[0].alignment = Alignment(horizontal="center", vertical="top")  # the step number
+
+
+def _set_up_pages(
+    book: Workbook,
+    labels: PageLabels,
+    printed: dict[str, tuple[int, int]],
+    kept: dict[str, list[int]],
+) -> None:
+    """Page setup of every sheet: one page wide, its header row repeated on each page.
+
+    The header row is the frozen one of a sheet holding one table, else the title; some
+    sheets' (title row, last printed row) are given in ``printed``: the Overview prints down
+    to the bottom of its chart, and the Daily sheet its note only. A finance reader needs the
+    month and period totals on paper, which Monthly and Overview print; a year of days per
+    meter is thousands of rows (82 pages of the sample's fiscal year) that nobody reads on
+    paper but people filter on screen, so the Daily sheet prints the note saying where the
+    totals are. ``kept`` holds the first rows of blocks that print unsplit where they fit.
+    """
+    for sheet in book.worksheets:
+        header, last_row = printed.get(sheet.title, (frozen_header(sheet), None))
+        set_up_printing(
+            sheet,
+            labels,
+            title_rows=(header, header),
+            last_row=last_row,
+            blocks=kept.get(sheet.title, ()),
+        )

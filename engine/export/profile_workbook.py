@@ -1,4 +1,11 @@
-"""The profile tables of one or more meters in a workbook, one sheet per kind of table."""
+"""The profile tables of one or more meters in a workbook, one sheet per kind of table.
+
+Every sheet prints one page wide with its header row on each page (see
+:mod:`engine.export.printing`). The sheets of chart data (typical-day shapes, the duration
+curve, daily energy against temperature, the hour-by-date heat map) run to thousands of rows
+per meter that are read as charts or on a screen, not on paper: they print only a note
+saying so, while the key figures and the monthly table print in full.
+"""
 
 from __future__ import annotations
 
@@ -6,7 +13,10 @@ from pathlib import Path
 
 import pandas as pd
 from openpyxl import Workbook
+from openpyxl.worksheet.worksheet import Worksheet
 
+from engine.export.finance_layout import NOTE_FONT, TITLE_FONT, paragraph
+from engine.export.printing import PageLabels, set_up_printing
 from engine.export.saving import save_workbook
 from engine.export.sheets import put, write_table
 from engine.profile_run import ProjectMeterProfile
@@ -19,27 +29,58 @@ SHEETS = (
     "Daily vs temperature",
     "Hour by date",
 )
+SCREEN_SHEETS = ("Typical days", "Duration curve", "Daily vs temperature", "Hour by date")
+SCREEN_NOTE = (
+    "Chart data for screens: {rows:,} rows. On paper this sheet prints this note only; the "
+    "sheets 'Key figures' and 'Monthly by year' print in full."
+)
+PAPER_TITLE = "{sheet}: one table per meter"
+NOTE_COLUMNS = 8  # the note wraps across at least this many columns
+FIRST_TABLE_ROW = 3  # under the sheet's title or note
+FIGURE_FORMAT = "#,##0.00"  # key figures: energies, ratios and slopes alike
 
 
-def write_profile_workbook(path: str | Path, profiles: list[ProjectMeterProfile]) -> Path:
-    """Write every meter's profile tables to ``path`` (xlsx) and return the path."""
+def write_profile_workbook(
+    path: str | Path, profiles: list[ProjectMeterProfile], project: str | None = None
+) -> Path:
+    """Write every meter's profile tables to ``path`` (xlsx) and return the path.
+
+    ``project`` heads every printed page (None: the workbook's file name).
+    """
     book = Workbook()
     book.remove(book.active)
     sheets = {name: book.create_sheet(name) for name in SHEETS}
-    rows = dict.fromkeys(SHEETS, 1)
+    starts: dict[str, list[int]] = {name: [] for name in SHEETS}  # each meter's title row
+    counts = dict.fromkeys(SHEETS, 0)
     for profile in profiles:
         for name, frame in _tables(profile).items():
             if frame is None or frame.empty:
                 continue
             sheet = sheets[name]
-            put(sheet, rows[name], 1, f"{profile.meter.name} ({profile.meter.utility})")
-            last, _ = write_table(sheet, frame, first_row=rows[name] + 1)
-            rows[name] = last + 3
+            row = sheet.max_row + 3 if starts[name] else FIRST_TABLE_ROW
+            starts[name].append(row)
+            counts[name] += len(frame)
+            put(sheet, row, 1, f"{profile.meter.name} ({profile.meter.utility})")
+            write_table(sheet, frame, first_row=row + 1, formats={"value": FIGURE_FORMAT})
+    labels = PageLabels(project)
     for name, sheet in sheets.items():
-        if rows[name] == 1:
-            put(sheet, 1, 1, "No meter has data for this table.")
         sheet.freeze_panes = None
+        if not starts[name]:
+            put(sheet, 1, 1, "No meter has data for this table.")
+            set_up_printing(sheet, labels, title_rows=(1, 1))
+        elif name in SCREEN_SHEETS:
+            _screen_note(sheet, labels, counts[name])
+        else:
+            put(sheet, 1, 1, PAPER_TITLE.format(sheet=name)).font = TITLE_FONT
+            set_up_printing(sheet, labels, title_rows=(1, 1), blocks=starts[name])
     return save_workbook(book, path, "profile workbook")
+
+
+def _screen_note(sheet: Worksheet, labels: PageLabels, rows: int) -> None:
+    """The note at the top of a sheet of chart data, and a print area of the note alone."""
+    last_column = max(sheet.max_column, NOTE_COLUMNS)
+    paragraph(sheet, 1, SCREEN_NOTE.format(rows=rows), last_column=last_column, font=NOTE_FONT)
+    set_up_printing(sheet, labels, title_rows=(1, 1), last_row=1, last_column=last_column)
 
 
 def _tables(profile: ProjectMeterProfile) -> dict[str, pd.DataFrame | None]:

@@ -12,6 +12,7 @@ import json
 import numpy as np
 import pandas as pd
 import pytest
+from openpyxl import load_workbook
 from python_calamine import CalamineWorkbook
 
 from tests.cli.cli_support import loadledger
@@ -68,3 +69,25 @@ def test_profile_workbook_holds_the_same_figures(project):
     expected = report["meters"][0]["figures"]["total energy"]["value"]
     assert cells["total energy"] == pytest.approx(expected, rel=1e-12)
     assert "Monthly by year" in book.sheet_names
+
+
+def test_profile_workbook_prints_tables_in_full_and_chart_data_as_a_note(project):
+    """Page setup as a spreadsheet stores it (ECMA-376 Part 1, pageSetup, headerFooter)."""
+    path, folder = project
+    report = json.loads(_run("profile", path, "--json", "--xlsx", folder / "r.xlsx"))
+    book = load_workbook(report["workbook"])
+    for sheet in book.worksheets:
+        assert (sheet.page_setup.fitToWidth, sheet.page_setup.fitToHeight) == (1, 0)
+        assert sheet.sheet_properties.pageSetUpPr.fitToPage
+        assert sheet.print_title_rows == "$1:$1"  # the sheet's title or its note
+        assert sheet.oddHeader.left.text == "site"  # the project's name
+        assert sheet.oddHeader.right.text == "Page &P of &N"
+        last_row = int(sheet.print_area.rsplit("$", 1)[1])
+        if sheet.title in ("Key figures", "Monthly by year"):
+            assert last_row >= sheet.max_row > 10
+        elif sheet.max_row == 1:  # daily readings have no typical day within a day
+            assert sheet["A1"].value == "No meter has data for this table."
+        else:  # hundreds of rows of chart data: the note alone prints
+            assert last_row == 1 and "for screens" in sheet["A1"].value
+            assert sheet.max_row > 300
+    assert book["Daily vs temperature"].max_row > 300  # the rule above was put to work

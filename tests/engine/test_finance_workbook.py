@@ -20,7 +20,7 @@ import pandas as pd
 import pytest
 from openpyxl import load_workbook
 from openpyxl.chart import LineChart
-from openpyxl.utils import column_index_from_string
+from openpyxl.utils import column_index_from_string, get_column_letter
 from python_calamine import CalamineWorkbook
 
 from engine.budget.result import (
@@ -130,7 +130,15 @@ def _run(campus, *, priced: bool = True) -> BudgetRun:
         calibration={name: check for name in METERS},
         currency="USD" if priced else None,
         tariff="Marrowby flat rate 2031" if priced else None,
-        assumptions={"fiscal year starts": "July", "drivers": ["temperature", "holidays"]},
+        assumptions={
+            "as_of": AS_OF,  # as the engine's runs state it twice: once is enough on paper
+            "fiscal year starts": "July",
+            "drivers": ["temperature", "holidays"],
+            "model settings": {
+                name: {"balance_point": 15.5, "weekday_terms": True, "cooling_base": None}
+                for name in METERS
+            },
+        },
         cautions=["Kiln Court boilers were re-metered in 2030; earlier data were scaled."],
     )
 
@@ -250,6 +258,22 @@ def _figures(period: PeriodTotal) -> list[float | str]:
     return [period.actual_to_date if begun else "", *energy, *cost]
 
 
+def _meter_facts(grid: Grid) -> dict[str, dict[str, str]]:
+    """The Assumptions sheet's "Each meter" table: meter → fact → words.
+
+    A meter's name heads its block; the rows under it with an empty name belong to it.
+    """
+    header = next(r for r in range(1, 200) if [grid[r, 1], grid[r, 2]] == ["meter", "fact"])
+    out: dict[str, dict[str, str]] = {}
+    name = None
+    for row in range(header + 1, header + 200):
+        if not grid[row, 2]:
+            break
+        name = grid[row, 1] or name
+        out.setdefault(name, {})[grid[row, 2]] = grid[row, 3]
+    return out
+
+
 def _monthly_rows(grid: Grid):
     """Month and Total rows of the monthly sheet, by (scope, name), with their row numbers."""
     header_row, _ = grid.find("scope")
@@ -335,8 +359,8 @@ def test_total_row_quantiles_are_the_period_totals_own(written, campus):
     low, high = columns[0], columns[-1]
     assert line[high - 1] < sum(grid[row, high] for row in month_rows)
     assert line[low - 1] > sum(grid[row, low] for row in month_rows)
-    beside = grid[total_row, header.index("cost P90 (USD)") + 2]
-    assert "quantiles" in beside  # the note cell beside the total row
+    below = grid[total_row + 1, low]
+    assert "quantiles" in below  # the note under the total row's P-columns
     note = " ".join(grid.texts())
     assert "not sums" in note and "quantiles do not add up" in note
 
@@ -423,9 +447,20 @@ def test_numbers_carry_number_formats_and_headers_are_frozen(written):
     assert first[2].number_format == "mmm yyyy"
     assert {c.number_format for c in first[3:8]} == {"#,##0"}
     assert all("USD" in c.number_format and "#,##0" in c.number_format for c in first[8:12])
+    # columns as wide as the numbers as shown ("1,234,567"), not as Python prints the float
+    for column in range(4, 13):
+        values = [
+            row[0].value
+            for row in monthly.iter_rows(min_row=header_row + 1, min_col=column, max_col=column)
+            if isinstance(row[0].value, float)
+        ]
+        prefix = "USD " if column > 8 else ""
+        shown = max(len(f"{prefix}{v:,.0f}") for v in values)
+        width = monthly.column_dimensions[get_column_letter(column)].width
+        assert shown <= width <= max(shown + 4, 16), (column, shown, width)
     daily = book["Daily"]
-    assert daily.freeze_panes == "A2"
-    assert daily["C2"].number_format == "yyyy-mm-dd" and daily["D2"].number_format == "#,##0"
+    assert daily.freeze_panes == "A3"  # under the note and the header
+    assert daily["C3"].number_format == "yyyy-mm-dd" and daily["D3"].number_format == "#,##0"
     quality = book["Data quality"]
     headers = [c.value for c in quality[1]]
     assert quality.cell(2, headers.index("coverage before cleaning") + 1).number_format == ("0.0%")
@@ -434,7 +469,6 @@ def test_numbers_carry_number_formats_and_headers_are_frozen(written):
     headers = [c.value for c in scores[1]]
     assert scores.cell(2, headers.index("interval coverage") + 1).number_format == "0.0%"
     assert scores.cell(2, headers.index("NMBE %") + 1).number_format == "0.0"
-    assert all(book[name].page_setup.orientation == "landscape" for name in book.sheetnames)
 
 
 def test_overview_states_totals_assumptions_and_cautions(written):
@@ -464,7 +498,8 @@ def test_daily_detail_per_local_date_and_meter(written, campus):
     _, path = written
     days, _, paths, _ = campus
     grid = Grid(path, "Daily")
-    assert grid.header(1) == [
+    assert "for screens" in grid[1, 1]
+    assert grid.header(2) == [
         "meter",
         "utility",
         "date",
@@ -473,7 +508,7 @@ def test_daily_detail_per_local_date_and_meter(written, campus):
         "P50 (kWh)",
         "P90 (kWh)",
     ]
-    rows = grid.rows[1:]
+    rows = grid.rows[2:]
     assert len(rows) == len(METERS) * len(days)
     for name in METERS:
         mine = [r for r in rows if r[0] == name]
@@ -487,12 +522,26 @@ def test_assumptions_quality_and_scores(written):
     run, path = written
     assumptions = Grid(path, "Assumptions")
     texts = assumptions.texts()
-    for expected in (run.as_of, run.weather, "P10, P50, P90", "half-widths scaled", "July"):
+    for expected in (run.as_of, run.weather, "P10, P50, P90", "July", "temperature, holidays"):
         assert expected in texts
-    assert '["holidays", "temperature"]' in texts or '["temperature", "holidays"]' in texts
-    row, column = assumptions.find("Tollbridge Hall main")
-    assert assumptions[row, column + 3] == "2028-07-01"
-    assert "fill with a straight line between the readings either side" in texts
+    assert texts.count(run.as_of) == 1
+    facts = _meter_facts(assumptions)
+    for name, (utility, _, _) in METERS.items():
+        mine = facts[name]
+        assert mine["utility"] == utility
+        assert mine["model"] == "time-of-week and temperature"
+        assert mine["readings used"] == "2028-07-01 to 2031-07-11"
+        assert "19 of 24 past months" in mine["range in backtests"]
+        assert "(half-widths scaled)" in mine["range in backtests"]
+        assert mine["priced by"] == "tariff: Marrowby flat rate 2031"
+    # the settings of each model in words: names without underscores, yes/no, none
+    settings = facts["Kiln Court boilers"]["model settings"]
+    assert settings == "balance point: 15.5; weekday terms: yes; cooling base: none"
+    assert facts["Kiln Court boilers"]["caution"] == run.cautions[0]
+    steps = " ".join(texts)
+    assert "Fill with a straight line between the readings either side" in steps
+    assert "start: 2031-03-02 05:00 UTC; end: 2031-03-02 09:00 UTC" in steps
+    assert "Limit readings to a low and/or high value: high: 900" in steps
 
     quality = Grid(path, "Data quality")
     header = quality.header(1)
@@ -514,7 +563,7 @@ def test_assumptions_quality_and_scores(written):
     header = scores.header(1)
     assert header[:2] == ["meter", "model"]
     for line in scores.rows[1:]:
-        card = SCORECARDS[line[0]]
+        card = SCORECARDS[line[0]] | {"meets Guideline 14": "yes"}  # words, not TRUE or 1
         assert {k: line[header.index(k)] for k in card} == pytest.approx(card)
 
 
@@ -588,3 +637,185 @@ def test_an_unpriced_meter_has_no_cost_total(campus, tmp_path):
     assert totals[unpriced.name] is None  # nothing to sum: no "USD 0" for a meter with no tariff
     priced = run.meters[1].name
     assert str(totals[priced]).startswith("=SUM(")
+
+
+PRINTED_LAST_ROWS = {"Daily": 1}  # the daily detail prints its note only
+
+
+def test_every_sheet_prints_one_page_wide_with_titles_area_and_labels(written):
+    """Page setup as a spreadsheet stores it (ECMA-376 Part 1, pageSetup, headerFooter)."""
+    _, path = written
+    book = load_workbook(path)
+    for sheet in book.worksheets:
+        setup = sheet.page_setup
+        assert sheet.sheet_properties.pageSetUpPr.fitToPage, sheet.title
+        assert (setup.fitToWidth, setup.fitToHeight) == (1, 0), sheet.title
+        assert setup.orientation in ("portrait", "landscape")
+        assert re.fullmatch(r"\$(\d+):\$\1", sheet.print_title_rows), sheet.title
+        area = re.fullmatch(r"'?[^!]+'?!\$A\$1:\$([A-Z]+)\$(\d+)", sheet.print_area)
+        assert area, (sheet.title, sheet.print_area)
+        last_row = int(area.group(2))
+        assert last_row == PRINTED_LAST_ROWS.get(sheet.title, last_row)
+        if sheet.title not in PRINTED_LAST_ROWS:  # every row with a value prints
+            assert last_row >= sheet.max_row, sheet.title
+            assert column_index_from_string(area.group(1)) >= sheet.max_column, sheet.title
+        assert "&A" in sheet.oddHeader.center.text
+        assert sheet.oddHeader.left.text == "&F"  # no project name given: the file's name
+        assert sheet.oddHeader.right.text == "Page &P of &N"
+        assert "estimates" in sheet.oddFooter.center.text
+    monthly = book["Monthly"]
+    header_row = next(r for r in range(1, 10) if monthly.cell(r, 1).value == "scope")
+    assert monthly.print_title_rows == f"${header_row}:${header_row}"
+    assert monthly.page_setup.orientation == "landscape"  # 12 columns of figures
+    # the Overview prints its chart, which sits under the last row with a value
+    anchor = book["Overview"]._charts[0].anchor._from.row + 1
+    assert int(book["Overview"].print_area.rsplit("$", 1)[1]) > anchor + 10
+
+
+def test_the_project_name_heads_each_page(campus, tmp_path):
+    run = _run(campus)
+    path = write_finance_workbook(
+        tmp_path / "b.xlsx",
+        run,
+        quality={},
+        steps=[],
+        scorecards={},
+        data_range={},
+        project="Marrowby & Kiln",
+    )
+    for sheet in load_workbook(path).worksheets:
+        assert sheet.oddHeader.left.text == "Marrowby && Kiln"  # & doubled: not a code
+
+
+def test_no_cell_holds_json_and_assumptions_read_at_text_size(written):
+    _, path = written
+    book = load_workbook(path)
+    for sheet in book.worksheets:
+        for row in sheet.iter_rows():
+            for cell in row:
+                if isinstance(cell.value, str):
+                    assert not cell.value.lstrip().startswith(("{", "[")), cell.coordinate
+    assumptions = book["Assumptions"]
+    assert assumptions.page_setup.orientation == "landscape"
+    for row in assumptions.iter_rows():
+        for cell in row:
+            if isinstance(cell.value, str):
+                assert (cell.font.sz or 11) >= 10, cell.coordinate
+                if len(cell.value) > _width(assumptions, cell):
+                    assert cell.alignment.wrap_text, cell.coordinate
+                    assert _height(assumptions, cell) >= 2 * 15, cell.coordinate
+
+
+LONG_NAME = "Tollbridge Hall main incomer, west switchroom, panel LV-3 (revenue grade)"
+
+
+def test_long_meter_names_are_shown_whole(campus, tmp_path):
+    """Each cell holding a long meter name is as wide as the name or wraps it on tall rows.
+
+    A width unit holds about one character of 11-point Calibri (from memory: the unit is the
+    width of the digit 0); 15 points a line is the default row height (common practice).
+    """
+    run = _renamed(_run(campus), "Tollbridge Hall main", LONG_NAME)
+    path = write_finance_workbook(
+        tmp_path / "long.xlsx", run, quality={}, steps=[], scorecards={}, data_range={}
+    )
+    seen = set()
+    for sheet in load_workbook(path).worksheets:
+        for row in sheet.iter_rows():
+            for cell in row:
+                if cell.value != LONG_NAME:
+                    continue
+                seen.add(sheet.title)
+                width = _width(sheet, cell)
+                if width < len(LONG_NAME):
+                    lines = int(np.ceil(len(LONG_NAME) / (width - 1)))
+                    assert cell.alignment.wrap_text, (sheet.title, cell.coordinate)
+                    assert _height(sheet, cell) >= 15 * lines, (sheet.title, cell.coordinate)
+    assert seen == {"Overview", "Monthly", "Daily", "Assumptions", "Data quality", "Model scores"}
+
+
+def _renamed(run: BudgetRun, old: str, new: str) -> BudgetRun:
+    """``run`` with meter ``old`` called ``new`` everywhere it is named."""
+    meters = [dataclasses.replace(m, name=new) if m.name == old else m for m in run.meters]
+    swap = [new if name == old else name for name in run.campus.meters]
+    utilities = [
+        dataclasses.replace(u, meters=[new if n == old else n for n in u.meters])
+        for u in run.utilities
+    ]
+    calibration = {new if k == old else k: v for k, v in run.calibration.items()}
+    return dataclasses.replace(
+        run,
+        meters=meters,
+        utilities=utilities,
+        campus=dataclasses.replace(run.campus, meters=swap),
+        calibration=calibration,
+    )
+
+
+def _width(sheet, cell) -> float:
+    """The width a cell's text has: its merged range's, or its column's and those of the
+    empty cells to its right (where unwrapped text runs on)."""
+    for merged in sheet.merged_cells.ranges:
+        if cell.coordinate in merged:
+            return _columns(sheet, merged.min_col, merged.max_col)
+    if cell.alignment.wrap_text:
+        return _columns(sheet, cell.column, cell.column)
+    last = cell.column
+    while last < sheet.max_column and sheet.cell(cell.row, last + 1).value is None:
+        last += 1
+    return _columns(sheet, cell.column, last)
+
+
+def _columns(sheet, first: int, last: int) -> float:
+    return sum(sheet.column_dimensions[get_column_letter(c)].width for c in range(first, last + 1))
+
+
+def _height(sheet, cell) -> float:
+    return sheet.row_dimensions[cell.row].height or 15.0
+
+
+def test_libreoffice_prints_a_few_pages_each_naming_its_sheet(written, tmp_path):
+    """Optional: skipped without LibreOffice (soffice) and poppler (pdftotext).
+
+    The sheets' own lengths bound the pages: Daily (its note), Data quality and Model scores
+    one page each; the Overview, Monthly's 6 blocks of 3 months and Assumptions' facts of 3
+    meters and 2 steps at most 2 pages each (the Overview's chart goes whole to a second page
+    when the page breaks are planned at the 15-point rows of Excel). Printed in full, the
+    daily detail alone (276 rows) would take 5 pages or more.
+    """
+    soffice, pdftotext = shutil.which("soffice"), shutil.which("pdftotext")
+    if soffice is None or pdftotext is None:
+        pytest.skip("LibreOffice or pdftotext is not installed")
+    _, path = written
+    subprocess.run(
+        [
+            soffice,
+            f"-env:UserInstallation={(tmp_path / 'profile').as_uri()}",
+            "--headless",
+            "--convert-to",
+            "pdf",
+            "--outdir",
+            str(tmp_path),
+            str(path),
+        ],
+        check=True,
+        capture_output=True,
+        timeout=180,
+    )
+    pdf = tmp_path / f"{path.stem}.pdf"
+    text = subprocess.run(
+        [pdftotext, "-layout", str(pdf), "-"], check=True, capture_output=True, text=True
+    ).stdout
+    pages = text.split("\f")[:-1]
+    names = sorted(load_workbook(path).sheetnames, key=len, reverse=True)
+    per_sheet: dict[str, int] = {}
+    for number, page in enumerate(pages, start=1):
+        header = page.strip().splitlines()[0]
+        assert f"Page {number} of {len(pages)}" in header
+        sheet = next(name for name in names if name in header)
+        per_sheet[sheet] = per_sheet.get(sheet, 0) + 1
+        assert "Budgets are estimates" in page
+    assert per_sheet["Daily"] == 1
+    assert per_sheet["Data quality"] == per_sheet["Model scores"] == 1
+    assert max(per_sheet[name] for name in ("Overview", "Monthly", "Assumptions")) <= 2
+    assert len(pages) <= 9
