@@ -34,8 +34,14 @@ NO_BUDGET = (
 )
 
 
-def write_workbook(path: Path, budget: ProjectBudget, progress: Progress | None = None) -> Path:
-    """Write ``budget`` as the finance workbook at ``path``; the path written."""
+def write_workbook(
+    path: Path,
+    budget: ProjectBudget,
+    project: str | None = None,
+    progress: Progress | None = None,
+) -> Path:
+    """Write ``budget`` of the project named ``project`` as the finance workbook at ``path``
+    (the name heads every printed page); the path written."""
     return write_finance_workbook(
         path,
         budget.run,
@@ -43,6 +49,7 @@ def write_workbook(path: Path, budget: ProjectBudget, progress: Progress | None 
         steps=budget.steps,
         scorecards=budget.scorecards,
         data_range=budget.data_range,
+        project=project,
         progress=progress,
     )
 
@@ -130,7 +137,9 @@ class ExportScreen(TaskScreen):
         if self.budget is None:
             self.notice.say(NO_BUDGET, "info")
             return
-        work = partial(write_workbook, path, self.budget)
+        project = self.session.project
+        name = None if project is None else project.path.stem
+        work = partial(write_workbook, path, self.budget, name)
         self.start_task(work, f"writing {path.name}", self._written)
 
     def _written(self, path: Path) -> None:

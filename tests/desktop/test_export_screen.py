@@ -143,4 +143,7 @@ def test_a_name_typed_without_the_extension_gets_xlsx(qtbot, screen, tmp_path, m
     assert screen.notice.tone == "done", screen.notice.text.text()
     written = tmp_path / "march budget.xlsx"
     assert written.exists() and not typed.exists()
-    assert load_workbook(written)["Monthly"].max_row > 1
+    book = load_workbook(written)
+    assert book["Monthly"].max_row > 1
+    # Printed pages are headed with the project's name, as the command line's are.
+    assert book["Monthly"].oddHeader.left.text == Path(screen.session.project.path).stem
