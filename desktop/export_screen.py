@@ -73,6 +73,7 @@ class ExportScreen(TaskScreen):
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__(parent)
         self.budget: ProjectBudget | None = None
+        self.project_name: str | None = None
         self.written: Path | None = None
         self.what = QLabel()
         self.what.setWordWrap(True)
@@ -109,9 +110,10 @@ class ExportScreen(TaskScreen):
         layout.addStretch(1)
         self.set_budget(None)
 
-    def set_budget(self, budget: ProjectBudget | None) -> None:
-        """The budget to write (None: none has been run)."""
+    def set_budget(self, budget: ProjectBudget | None, project: str | None = None) -> None:
+        """The budget to write (None: none has been run), of the project named ``project``."""
         self.budget = budget
+        self.project_name = project
         self.what.setText(NO_BUDGET if budget is None else budget_words(budget))
         self.go_button.setVisible(budget is None)
         self.set_busy(self.task is not None)
@@ -137,9 +139,7 @@ class ExportScreen(TaskScreen):
         if self.budget is None:
             self.notice.say(NO_BUDGET, "info")
             return
-        project = self.session.project
-        name = None if project is None else project.path.stem
-        work = partial(write_workbook, path, self.budget, name)
+        work = partial(write_workbook, path, self.budget, self.project_name)
         self.start_task(work, f"writing {path.name}", self._written)
 
     def _written(self, path: Path) -> None:

@@ -29,6 +29,7 @@ from desktop.patterns_screen import PatternsScreen
 from desktop.preferences import RecentProjects, stored_settings
 from desktop.recent_list import RecentList
 from desktop.session import Session
+from engine.budgeting import ProjectBudget
 from engine.errors import ProjectError
 from engine.project import Project
 
@@ -65,7 +66,7 @@ class MainWindow(QMainWindow):
         self.budget_screen = BudgetScreen(self.session)
         self.export_screen = ExportScreen()
         self.cleaning_screen.log_changed.connect(self.patterns_screen.meter_cleaned)
-        self.budget_screen.budget_changed.connect(self.export_screen.set_budget)
+        self.budget_screen.budget_changed.connect(self._budget_to_export)
         self.budget_screen.budget_changed.connect(self._budget_changed)
         self.export_screen.budget_asked.connect(lambda: self.show_step("Budget"))
         built = {
@@ -217,6 +218,10 @@ class MainWindow(QMainWindow):
             return False
         self.session.open(project)
         return True
+
+    def _budget_to_export(self, budget: ProjectBudget | None) -> None:
+        project = self.session.project
+        self.export_screen.set_budget(budget, None if project is None else project.path.stem)
 
     def _project_changed(self, project: Project | None) -> None:
         self.close_action.setEnabled(project is not None)

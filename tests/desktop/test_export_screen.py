@@ -45,7 +45,7 @@ def budget(campus) -> ProjectBudget:
 @pytest.fixture
 def screen(qtbot, budget):
     widget = show_widget(qtbot, ExportScreen(), (1100, 600))
-    widget.set_budget(budget)
+    widget.set_budget(budget, "orrinvale")
     return widget
 
 
@@ -146,4 +146,4 @@ def test_a_name_typed_without_the_extension_gets_xlsx(qtbot, screen, tmp_path, m
     book = load_workbook(written)
     assert book["Monthly"].max_row > 1
     # Printed pages are headed with the project's name, as the command line's are.
-    assert book["Monthly"].oddHeader.left.text == Path(screen.session.project.path).stem
+    assert book["Monthly"].oddHeader.left.text == "orrinvale"
