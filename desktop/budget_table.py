@@ -39,7 +39,7 @@ def item_title(item: Budgeted) -> str:
         return f"{item.name} (meter)"
     if item.scope == "campus":
         return f"Campus, all utilities added ({counted(item.meters, 'meter')})"
-    return f"{item.name.replace('_', ' ')} (roll-up of {counted(item.meters, 'meter')})"
+    return f"{item.shown_name} (roll-up of {counted(item.meters, 'meter')})"
 
 
 def _bold(cell: QTableWidgetItem) -> None:

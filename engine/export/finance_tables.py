@@ -70,6 +70,11 @@ class Budgeted:
     months: list[PeriodTotal]
     total: PeriodTotal
 
+    @property
+    def shown_name(self) -> str:
+        """The name as readers see it: a utility's key in words ("natural gas")."""
+        return self.name.replace("_", " ") if self.scope == "utility" else self.name
+
 
 @dataclass(frozen=True)
 class FigureColumns:
@@ -192,14 +197,16 @@ def monthly_frame(run: BudgetRun, columns: FigureColumns) -> tuple[pd.DataFrame,
 def _monthly_row(
     item: Budgeted, month: object, period: PeriodTotal, columns: FigureColumns
 ) -> dict[str, Any]:
-    return {"scope": item.scope, "budget for": item.name, "month": month} | columns.figures(period)
+    row = {"scope": item.scope, "budget for": item.shown_name, "month": month}
+    return row | columns.figures(period)
 
 
 def overview_frame(run: BudgetRun, columns: FigureColumns) -> pd.DataFrame:
     """Period totals of the campus and each utility (of each meter when there is no roll-up)."""
     items = [b for b in budgeted(run) if b.scope != "meter"] or budgeted(run)
     rows = [
-        {"scope": b.scope, "budget for": b.name, "meters": b.meters} | columns.figures(b.total)
+        {"scope": b.scope, "budget for": b.shown_name, "meters": b.meters}
+        | columns.figures(b.total)
         for b in items
     ]
     headers = ["scope", "budget for", "meters", columns.actual, *columns.energy, *columns.cost]

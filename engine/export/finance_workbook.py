@@ -189,7 +189,7 @@ def write_finance_workbook(
 def _caption(block: Block, columns: FigureColumns) -> str:
     levels = columns.levels
     return CHART_CAPTION.format(
-        name=block.item.name,
+        name=block.item.shown_name,
         middle=levels[len(levels) // 2],
         low=levels[0],
         high=levels[-1],

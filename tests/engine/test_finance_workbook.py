@@ -819,3 +819,22 @@ def test_libreoffice_prints_a_few_pages_each_naming_its_sheet(written, tmp_path)
     assert per_sheet["Data quality"] == per_sheet["Model scores"] == 1
     assert max(per_sheet[name] for name in ("Overview", "Monthly", "Assumptions")) <= 2
     assert len(pages) <= 9
+
+
+def test_utility_keys_are_written_in_words(campus, tmp_path):
+    run = _run(campus)
+    gas = [
+        dataclasses.replace(u, group="natural_gas") if u.group == "gas" else u
+        for u in run.utilities
+    ]
+    path = tmp_path / "words.xlsx"
+    write_finance_workbook(
+        path,
+        dataclasses.replace(run, utilities=gas),
+        quality=_quality(),
+        steps=STEPS,
+        scorecards=SCORECARDS,
+        data_range=DATA_RANGE,
+    )
+    shown = {cell for row in load_workbook(path)["Overview"].values for cell in row}
+    assert "natural gas" in shown and "natural_gas" not in shown
