@@ -26,6 +26,7 @@ from engine.errors import InputError
 from engine.export.finance_workbook import DESIGN_LOAD_CAUTION
 from engine.progress import Progress
 from engine.project import Project
+from engine.tracking.adopt import adopt_budget
 
 #: Budget periods the screen offers: the value behind each one's words.
 PERIODS: dict[str, str] = {
@@ -136,6 +137,19 @@ def run_budget(
         keep_budget(project, outcome)
         project.set_setting(FORM_SETTING, choices_setting(choices))
     return outcome
+
+
+def adopt_shown(
+    project: Project,
+    name: str,
+    budget: ProjectBudget,
+    choices: BudgetChoices,
+    replace: bool = False,
+    progress: Progress | None = None,
+) -> str:
+    """Adopt ``budget`` (run with ``choices``) under ``name``; the name as kept."""
+    adopt_budget(project, name, budget, request_for(project, choices), replace=replace)
+    return name.strip()
 
 
 def meters_without_model(project: Project) -> list[str]:

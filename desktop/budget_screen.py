@@ -14,8 +14,11 @@ from html import escape
 
 from PySide6.QtCore import Qt, Signal
 from PySide6.QtWidgets import (
+    QComboBox,
     QHBoxLayout,
+    QInputDialog,
     QLabel,
+    QMessageBox,
     QPushButton,
     QSplitter,
     QTextBrowser,
@@ -25,6 +28,8 @@ from PySide6.QtWidgets import (
 
 from desktop.budget_form import BudgetForm
 from desktop.budget_jobs import (
+    BudgetChoices,
+    adopt_shown,
     budget_cautions,
     kept_choices,
     meters_without_model,
@@ -37,8 +42,9 @@ from desktop.palette import TONES
 from desktop.session import Session
 from desktop.task_screen import TaskScreen
 from engine.budgeting import ProjectBudget, last_reading_day, latest_budget
-from engine.errors import ProjectError
+from engine.errors import InputError, ProjectError
 from engine.project import Project
+from engine.tracking.adopt import adopted_as_issued
 
 
 class BudgetScreen(TaskScreen):
@@ -55,6 +61,18 @@ class BudgetScreen(TaskScreen):
         self.budget_button = QPushButton("Budget")
         self.budget_button.setToolTip("Forecast every meter for the period, with its range.")
         self.budget_button.clicked.connect(self.run)
+        self.ran_with: BudgetChoices | None = None  # the choices of the budget run here
+        self.adopt_button = QPushButton("Adopt…")
+        self.adopt_button.setToolTip(
+            "Keep this budget in the project under a name (e.g. FY2027) with everything it "
+            "assumed, to track the year against it; later imports, cleaning and fits never "
+            "change it."
+        )
+        self.adopt_button.setEnabled(False)
+        self.adopt_button.clicked.connect(lambda: self.ask_adopt())
+        self.adopted = QComboBox()
+        self.adopted.setToolTip("Budgets adopted in this project: choose one to see it again.")
+        self.adopted.activated.connect(self._adopted_chosen)
         self.summary = QLabel()
         self.summary.setWordWrap(True)
         self.summary.setStyleSheet("color: #5a5f66;")
@@ -69,7 +87,12 @@ class BudgetScreen(TaskScreen):
     def _lay_out(self) -> None:
         controls = QHBoxLayout()
         controls.addWidget(self.form, 1)
-        controls.addWidget(self.budget_button, 0, Qt.AlignmentFlag.AlignBottom)
+        buttons = QVBoxLayout()
+        buttons.addStretch(1)
+        buttons.addWidget(self.adopted)
+        buttons.addWidget(self.adopt_button)
+        buttons.addWidget(self.budget_button)
+        controls.addLayout(buttons)
         top = QSplitter(Qt.Orientation.Horizontal)
         top.addWidget(self.plot)
         top.addWidget(self.notes)
@@ -88,7 +111,9 @@ class BudgetScreen(TaskScreen):
     # -- project ----------------------------------------------------------------------------
 
     def _project_changed(self, project: Project | None) -> None:
+        self.ran_with = None
         self._keep(None)
+        self._list_adopted(project)
         if project is None:
             self._clear("Open a project to budget its meters.")
         else:
@@ -150,7 +175,7 @@ class BudgetScreen(TaskScreen):
         started = self.start_task(
             partial(run_budget, project, choices),
             "budgeting the meters",
-            partial(self._show, project),
+            partial(self._show, project, choices),
         )
         unfitted = meters_without_model(project) if started else []
         if unfitted:
@@ -164,6 +189,71 @@ class BudgetScreen(TaskScreen):
 
     def set_busy(self, busy: bool) -> None:
         self.budget_button.setEnabled(not busy)
+        self.adopt_button.setEnabled(not busy and self.ran_with is not None)
+        self.adopted.setEnabled(not busy and self.adopted.count() > 1)
+
+    # -- adopted budgets --------------------------------------------------------------------
+
+    def _list_adopted(self, project: Project | None) -> None:
+        self.adopted.clear()
+        names = [] if project is None else project.adopted_budget_names()
+        self.adopted.addItem(f"Adopted budgets ({len(names)})" if names else "None adopted yet")
+        self.adopted.addItems(names)
+        self.adopted.setEnabled(bool(names))
+
+    def ask_adopt(self, name: str | None = None, replace: bool = False) -> None:
+        """Adopt the budget run here under a name the person gives."""
+        project, choices = self.session.project, self.ran_with
+        if project is None or choices is None or self.budget is None:
+            return
+        if name is None:
+            name, given = QInputDialog.getText(
+                self, "Adopt this budget", "Name to track the year by (e.g. FY2027):"
+            )
+            if not given or not name.strip():
+                return
+            if name.strip() in project.adopted_budget_names():
+                answer = QMessageBox.question(
+                    self,
+                    "Replace the adopted budget?",
+                    f"A budget is already adopted as '{name.strip()}'. Replace it with this one?",
+                )
+                if answer != QMessageBox.StandardButton.Yes:
+                    return
+                replace = True
+        self.start_task(
+            partial(adopt_shown, project, name, self.budget, choices, replace),
+            f"adopting the budget as '{name.strip()}'",
+            partial(self._adopted_done, project),
+        )
+
+    def _adopted_done(self, project: Project, name: str) -> None:
+        if self.session.project is not project:
+            return
+        self._list_adopted(project)
+        self.notice.say(
+            f"Adopted as '{name}' in {project.path.name}: track the year against it with "
+            f"loadledger track. Choose it under 'Adopted budgets' to see it again.",
+            "done",
+        )
+
+    def _adopted_chosen(self, position: int) -> None:
+        project = self.session.project
+        if project is None or position < 1:
+            return
+        name = self.adopted.itemText(position)
+        try:
+            budget = adopted_as_issued(project, name)
+        except (InputError, ProjectError) as error:
+            self.notice.say(str(error), "problem")
+            return
+        self.ran_with = None
+        self._display(budget)
+        self.adopt_button.setEnabled(False)
+        self.summary.setText(
+            f"The budget adopted as '{name}', as it was issued (write it again on the Export "
+            f"step): {self.summary.text()}"
+        )
 
     def task_cancelled(self, doing: str) -> None:
         super().task_cancelled(doing)
@@ -182,10 +272,12 @@ class BudgetScreen(TaskScreen):
         self.notes.clear()
         self.plot.show_note(words)
 
-    def _show(self, project: Project, budget: ProjectBudget) -> None:
+    def _show(self, project: Project, choices: BudgetChoices, budget: ProjectBudget) -> None:
         if self.session.project is not project:
             return  # another project was opened meanwhile
+        self.ran_with = choices
         self._display(budget)
+        self.adopt_button.setEnabled(True)
         self.notice.say(
             f"Budget {period_words(budget)} ready; kept in "
             f"{project.path.name}. Write it for finance on the Export step.",

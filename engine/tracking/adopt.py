@@ -19,9 +19,10 @@ import numpy as np
 import engine
 from engine.budget import BudgetWindow, MeterPlan, as_of_cut
 from engine.budget.meter_grid import MeterGrid, native_interval, predictions, simulation_step
+from engine.budget.result import BudgetRun
 from engine.budget.weather_paths import WeatherScenarios, weather_scenarios
 from engine.budgeting import BudgetRequest, ProjectBudget
-from engine.errors import InputError
+from engine.errors import InputError, ProjectError
 from engine.project import Project
 from engine.project.adopted_table import name_taken
 
@@ -62,6 +63,29 @@ def adopt_budget(
     body = adopted_document(outcome, request, project.timezone)
     project.adopt_budget(name, body, replace=replace)
     return body
+
+
+def adopted_as_issued(project: Project, name: str) -> ProjectBudget:
+    """The budget adopted as ``name``, as it was issued, to show and write again.
+
+    The figures, calibration, assumptions and cautions are the adopted ones; an adopted
+    budget keeps no daily figures, data quality or scores, so the workbook says so on those
+    sheets.
+    """
+    found = project.adopted_budget(name)
+    if found is None:
+        raise InputError(
+            f"no budget is adopted as '{name}' in {project.path.name}.",
+            hint="Adopt one with budget --adopt NAME, or choose an adopted name.",
+            file=project.path,
+        )
+    try:
+        run = BudgetRun.from_json(found["body"]["run"])
+    except (KeyError, TypeError, ValueError) as error:
+        raise ProjectError(
+            f"the budget adopted as '{name}' in {project.path.name} cannot be read ({error!r})."
+        ) from error
+    return ProjectBudget(run=run, quality={}, steps=[], scorecards={}, data_range={})
 
 
 def adopted_document(outcome: ProjectBudget, request: BudgetRequest, timezone: str) -> dict:

@@ -273,3 +273,39 @@ def test_utility_keys_read_as_words_and_the_campus_says_it_adds_utilities():
     campus = Budgeted("campus", "campus", 1, [], None)
     assert item_title(gas) == "natural gas (roll-up of 2 meters)"
     assert item_title(campus) == "Campus, all utilities added (1 meter)"
+
+
+def test_a_budget_is_adopted_listed_and_shown_again_as_issued(qtbot, fresh_screen):
+    screen = fresh_screen
+    assert not screen.adopt_button.isEnabled()  # nothing run here yet
+    screen.form.set_as_of(date(2026, 10, 15))
+    screen.form.paths.setValue(PATHS)
+    screen.form.period.set_value("months")
+    screen.form.months.setValue(2)
+    _run(qtbot, screen)
+    issued = screen.budget.run
+    assert screen.adopt_button.isEnabled()
+    screen.ask_adopt("FY test")
+    wait_until_idle(qtbot, screen)
+    assert screen.notice.tone == "done" and "Adopted as 'FY test'" in screen.notice.text.text()
+    assert [screen.adopted.itemText(i) for i in range(1, screen.adopted.count())] == ["FY test"]
+    # A second adoption under the same name is refused in words unless replaced.
+    screen.ask_adopt("FY test")
+    wait_until_idle(qtbot, screen)
+    assert screen.notice.tone == "problem" and "already adopted" in screen.notice.text.text()
+
+    # Shown again from the list: the adopted figures, which the Export step then writes.
+    exported = []
+    screen.budget_changed.connect(exported.append)
+    _run(qtbot, screen)  # another run, so the adopted one is not what is on screen
+    screen._adopted_chosen(1)
+    shown = screen.budget.run
+    assert exported[-1] is screen.budget and "adopted as 'FY test'" in screen.summary.text()
+    p50 = next(h for h in screen.table.headers if h.startswith("P50"))
+    for meter, adopted in zip(issued.meters, shown.meters, strict=True):
+        for month, again in zip(meter.months, adopted.months, strict=True):
+            assert again.energy.quantiles["50"] == month.energy.quantiles["50"]
+            assert screen.table.value(meter.name, month.period, p50) == pytest.approx(
+                month.energy.quantiles["50"]
+            )
+    assert not screen.adopt_button.isEnabled()  # an adopted budget is not adopted again
