@@ -8,13 +8,14 @@ naming it. The run is kept in the project file as the command line keeps it.
 
 from __future__ import annotations
 
-import inspect
 from dataclasses import asdict, dataclass
 from datetime import date
 
 from engine.budget import budget_months
+from engine.budget.periods import DEFAULT_FISCAL_START
 from engine.budget.summary import PEAK_CAUTION
 from engine.budgeting import (
+    DEFAULT_PATHS,
     DEFAULT_WEATHER,
     BudgetRequest,
     ProjectBudget,
@@ -39,11 +40,6 @@ PERIODS: dict[str, str] = {
 WEATHER_FILE = "file"
 #: The project setting holding the Budget screen's last choices (the window's own).
 FORM_SETTING = "window.budget_form"
-#: Simulated paths unless told otherwise, and the month a fiscal year starts in (the engine's).
-DEFAULT_PATHS: int = inspect.signature(BudgetRequest).parameters["paths"].default
-DEFAULT_FISCAL_START: int = (
-    inspect.signature(budget_months).parameters["fiscal_start_month"].default
-)
 
 
 @dataclass(frozen=True)

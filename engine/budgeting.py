@@ -61,6 +61,8 @@ DEFAULT_WEATHER_REASON = (
     "The spread of past years is the default: its ranges carry the weather's own variation, "
     "and in the backtests they held the actual month totals about as often as they promise."
 )
+#: Simulated paths of a budget unless told otherwise.
+DEFAULT_PATHS = 1000
 #: The bills' currency unless told otherwise (bills store plain amounts).
 DEFAULT_CURRENCY = "USD"
 #: Fewest simulated paths that make a range.
@@ -77,7 +79,7 @@ class BudgetRequest:
     as_of: date
     weather: str  # "typical", "past-years" or a file's name
     levels: tuple[int, ...] = (10, 50, 90)
-    paths: int = 1000
+    paths: int = DEFAULT_PATHS
     calibration_origins: int = CALIBRATION_MONTHS
     tariff: Tariff | None = None
     given_weather: pd.Series | None = None  # °C, for a weather file
@@ -110,7 +112,7 @@ def budget_request(
     as_of: date | None = None,
     weather: str = DEFAULT_WEATHER,
     levels: Sequence[int] = (10, 50, 90),
-    paths: int = 1000,
+    paths: int = DEFAULT_PATHS,
     tariff_file: str | Path | None = None,
     currency: str | None = None,
 ) -> BudgetRequest:

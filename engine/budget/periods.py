@@ -37,11 +37,15 @@ def _parse_month(text: str) -> pd.Period:
     return pd.Period(year=int(found.group(1)), month=int(found.group(2)), freq="M")
 
 
+#: The month a fiscal year starts in unless told otherwise (July, common for campuses).
+DEFAULT_FISCAL_START = 7
+
+
 def budget_months(
     start: str | None = None,
     months: int | None = None,
     fiscal_year: int | None = None,
-    fiscal_start_month: int = 7,
+    fiscal_start_month: int = DEFAULT_FISCAL_START,
     quarter: int | None = None,
 ) -> list[str]:
     """The local calendar months a budget covers, as ``"YYYY-MM"`` text in order.

@@ -15,7 +15,7 @@ import traceback
 from collections.abc import Sequence
 
 from engine import __version__
-from engine.budgeting import DEFAULT_WEATHER
+from engine.budgeting import DEFAULT_PATHS, DEFAULT_WEATHER
 from engine.cli import commands
 from engine.crash_report import write_report
 from engine.errors import InputError, ProjectError
@@ -135,7 +135,9 @@ def build_parser() -> argparse.ArgumentParser:
     budget.add_argument(
         "--levels", default="10,50,90", metavar="LIST", help="quantile levels in %% (10,50,90)"
     )
-    budget.add_argument("--paths", type=int, default=1000, metavar="N", help="paths (1000)")
+    budget.add_argument(
+        "--paths", type=int, default=DEFAULT_PATHS, metavar="N", help=f"paths ({DEFAULT_PATHS})"
+    )
     budget.add_argument("--xlsx", metavar="OUT", help="write the finance workbook")
     budget.add_argument("--meters", action="append", default=[], metavar="FILE",
                         help="one-shot: meter files to import, clean and model")  # fmt: skip

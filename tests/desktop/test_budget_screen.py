@@ -260,7 +260,14 @@ def test_the_weather_default_is_the_command_lines_and_says_why(fresh_screen):
     from engine.cli.main import build_parser
 
     command_line = build_parser().parse_args(["budget", "p.loadledger", "--start", "2026-11"])
-    assert fresh_screen.form.choices().weather == command_line.weather == "past-years"
+    choices = fresh_screen.form.choices()
+    assert choices.weather == command_line.weather == "past-years"
+    # The other defaults are the engine's too, written once there.
+    from engine.budget.periods import DEFAULT_FISCAL_START
+    from engine.budgeting import DEFAULT_PATHS
+
+    assert choices.paths == command_line.paths == DEFAULT_PATHS
+    assert choices.fiscal_start_month == DEFAULT_FISCAL_START
     note = fresh_screen.form.weather_note
     assert note.isVisible() and "default" in note.text() and "past years" in note.text()
 
