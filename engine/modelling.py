@@ -203,10 +203,11 @@ def monthly_contributions(model: EnergyModel, inputs: ModelInputs, months: int =
     calendar, heating, cooling, trend); an empty list for the others. Shares are percent of
     the month's predicted energy ("of January's energy, 31 % is heating").
     """
-    components = getattr(model, "components", None)
-    if components is None or len(inputs.index) == 0:
+    if len(inputs.index) == 0:
         return []
-    parts = components(inputs.without_energy())
+    parts = model.components(inputs.without_energy())
+    if parts.columns.empty:
+        return []
     month = parts.index.tz_convert(inputs.timezone).tz_localize(None).to_period("M")
     totals = parts.groupby(month).sum().iloc[-months:]
     predicted = totals.sum(axis=1)

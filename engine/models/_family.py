@@ -13,18 +13,16 @@ from __future__ import annotations
 import copy
 import inspect
 from collections.abc import Sequence
-from typing import TYPE_CHECKING, Any, ClassVar, Self
+from dataclasses import replace
+from typing import Any, ClassVar, Self
 
 import numpy as np
 import pandas as pd
 from sklearn.exceptions import NotFittedError
 
 from engine.errors import ProjectError
+from engine.models.base import ModelInputs, scenario_rows
 from engine.progress import Cancelled
-
-if TYPE_CHECKING:
-    from engine.models.base import ModelInputs
-
 
 #: Columns of a model's statements table (:meth:`ModelFamily.coefficients_table`).
 STATEMENT_COLUMNS: tuple[str, ...] = ("term", "value", "unit", "meaning")
@@ -109,6 +107,23 @@ class ModelFamily:
             except Exception as error:  # a window the family cannot fit is reported, not fatal
                 fitted.append(error)
         return fitted
+
+    def predict_scenarios(self, inputs: ModelInputs, temperatures: np.ndarray) -> np.ndarray:
+        """``predict`` of ``inputs`` under each row of ``temperatures`` (scenarios × intervals;
+        ``inputs.temperature`` is ignored). Families that can share the work between
+        scenarios (the calendar columns, the day shapes) override it with the same results."""
+        rows = scenario_rows(inputs, temperatures)
+        predicted = [
+            self.predict(replace(inputs, temperature=pd.Series(row, index=inputs.index)))
+            for row in rows
+        ]
+        return np.array(predicted, dtype=float).reshape(rows.shape)
+
+    def components(self, inputs: ModelInputs) -> pd.DataFrame:
+        """Each part's contribution to the prediction (kWh per interval), one column per part,
+        adding up to it; no columns for families that do not split their prediction."""
+        self._require_fitted()
+        return pd.DataFrame(index=inputs.index)
 
     def coefficients_table(self) -> pd.DataFrame:
         """The fit in physical units and plain words: one row per statement, columns

@@ -6,10 +6,12 @@ store settings; ``fit`` learns, sets attributes ending in ``_`` and returns ``se
 on an unfitted model raises ``sklearn.exceptions.NotFittedError``. Models save to plain JSON
 with ``to_dict``/``from_dict`` (never pickle) and predict identically after a round trip.
 
-Budgets predict the same window under many weather scenarios: :func:`predict_scenarios` does
-that for any model, through the model's own ``predict_scenarios(inputs, temperatures)`` when
-it has one (weather models build their calendar part once and only the temperature terms per
-scenario), else by one ``predict`` per scenario.
+Budgets predict the same window under many weather scenarios with the model's
+``predict_scenarios(inputs, temperatures)``: one ``predict`` per scenario unless the family
+shares the work (weather models build their calendar part once and only the temperature terms
+per scenario). Every family also states what it learned (``coefficients_table``) and, where it
+splits its prediction into parts, what each part contributes (``components``); the defaults
+live in :class:`engine.models._family.ModelFamily`, so callers never probe for an ability.
 """
 
 from __future__ import annotations
@@ -101,6 +103,14 @@ class EnergyModel(Protocol):
 
     def predict(self, inputs: ModelInputs) -> pd.Series: ...
 
+    def predict_scenarios(self, inputs: ModelInputs, temperatures: np.ndarray) -> np.ndarray:
+        """``predict`` under each row of ``temperatures`` (scenarios × intervals)."""
+        ...
+
+    def components(self, inputs: ModelInputs) -> pd.DataFrame:
+        """Each part's contribution (kWh per interval); no columns when not split."""
+        ...
+
     def coefficients_table(self) -> pd.DataFrame:
         """The fit in plain words: ``term``, ``value``, ``unit``, ``meaning`` per statement."""
         ...
@@ -139,12 +149,4 @@ def predict_scenarios(
     Row ``s`` is ``model.predict`` of ``inputs`` (index and labels; their temperature is
     ignored) with ``temperatures[s]`` as the temperature on ``inputs.index``.
     """
-    rows = scenario_rows(inputs, temperatures)
-    batched = getattr(model, "predict_scenarios", None)
-    if batched is not None:
-        return batched(inputs, rows)
-    predicted = [
-        model.predict(replace(inputs, temperature=pd.Series(row, index=inputs.index)))
-        for row in rows
-    ]
-    return np.array(predicted, dtype=float).reshape(rows.shape)
+    return model.predict_scenarios(inputs, scenario_rows(inputs, temperatures))

@@ -25,7 +25,7 @@ import pandas as pd
 
 from engine.models._family import ModelFamily, Statement, statement_table
 from engine.models._inputs import energy_values, local_clock, prediction
-from engine.models.base import ModelInputs, predict_scenarios, scenario_rows
+from engine.models.base import ModelInputs, scenario_rows
 from engine.models.calendar_regression import CalendarRegressionModel
 
 #: How far back "last year" is: 52 weeks, so a Monday is compared with a Monday.
@@ -112,7 +112,7 @@ class LastYearAdjustedModel(ModelFamily):
         """:meth:`predict` under each row of ``temperatures`` (scenarios × intervals)."""
         self._require_fitted()
         rows = scenario_rows(inputs, temperatures)
-        return predict_scenarios(self.regression_, inputs, rows) + self._carried(inputs)
+        return self.regression_.predict_scenarios(inputs, rows) + self._carried(inputs)
 
     def coefficients_table(self) -> pd.DataFrame:
         """The regression's statements, after one saying what is carried from last year."""
