@@ -14,7 +14,7 @@ from PySide6.QtWidgets import QHBoxLayout, QLabel, QWidget
 from desktop.budget_table import item_title
 from desktop.choices import ChoiceBox
 from desktop.palette import SERIES_CYCLE
-from desktop.pattern_plots import PlotPanel
+from desktop.plot_panel import PlotPanel
 from engine.budget.result import BudgetRun
 from engine.export.finance_tables import Budgeted, budgeted
 

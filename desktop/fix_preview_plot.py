@@ -16,7 +16,7 @@ from PySide6.QtWidgets import QWidget
 from desktop.cleaning_jobs import FixPreview
 from desktop.cleaning_words import finding_name, step_name
 from desktop.palette import FIT_LINE, INK, SERIES_CYCLE
-from desktop.pattern_plots import PlotPanel
+from desktop.plot_panel import PlotPanel
 from desktop.wording import counted
 from engine.cleaning import CleanedSeries
 

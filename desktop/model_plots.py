@@ -15,7 +15,7 @@ from PySide6.QtWidgets import QHBoxLayout, QLabel, QWidget
 from desktop.choices import ChoiceBox
 from desktop.model_jobs import RESIDUAL_GROUPINGS, BacktestTrace
 from desktop.palette import FIT_LINE, SERIES_CYCLE
-from desktop.pattern_plots import PlotPanel
+from desktop.plot_panel import PlotPanel
 
 ACTUAL_COLOUR = SERIES_CYCLE[0]
 PREDICTED_COLOUR = FIT_LINE

@@ -15,7 +15,7 @@ from PySide6.QtWidgets import QFileDialog, QMessageBox
 
 from desktop.chart_export import PIXELS_PER_POINT, PNG_FILTER, SVG_FILTER
 from desktop.main_window import MainWindow
-from desktop.pattern_plots import PlotPanel
+from desktop.plot_panel import PlotPanel
 
 
 @pytest.fixture
