@@ -13,8 +13,8 @@ See :mod:`engine.budget.simulate` for how paths are made, :mod:`engine.budget.su
 they are summed and summarised, and :mod:`engine.budget.calibration` for the range check.
 """
 
-from engine.budget.backtest import BudgetBacktest, PlanFactory, backtest_budget, month_total
 from engine.budget.calibration import calibrate, conformal_scale, rolling_calibration
+from engine.budget.past_budgets import BudgetBacktest, PlanFactory, backtest_budget, month_total
 from engine.budget.periods import BudgetWindow, as_of_cut, as_of_date, budget_months
 from engine.budget.plan import MeterPlan
 from engine.budget.refits import RollingRefits, plans_from_refits, rolling_refits
