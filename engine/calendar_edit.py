@@ -8,10 +8,9 @@ from datetime import timedelta
 from pathlib import Path
 
 from engine.calendar import CampusCalendar, shift_to_year
-from engine.cleaning.project_log import stored_calendar
-from engine.importing import CALENDAR_SETTING
 from engine.project import Project
 from engine.reading import ReadOptions, read_calendar
+from engine.site_calendar import store_calendar, stored_calendar
 
 YEAR_IN_NAME = re.compile(r"\b(19|20)\d{2}\b")
 
@@ -56,4 +55,4 @@ def current(project: Project) -> CampusCalendar:
 
 
 def store(project: Project, calendar: CampusCalendar) -> None:
-    project.set_setting(CALENDAR_SETTING, calendar.to_dict())
+    store_calendar(project, calendar)

@@ -25,9 +25,9 @@ from engine.reading import (
     read_weather_file,
 )
 from engine.reading.zones import validate_timezone
+from engine.site_calendar import store_calendar
 
 #: The project setting holding the campus calendar (``CampusCalendar.to_dict``).
-CALENDAR_SETTING = "calendar"
 
 
 @dataclass
@@ -148,7 +148,7 @@ def store_files(project: Project, files: ImportedFiles, progress: Progress | Non
             step(progress, done / total, f"stored {weather_file.path.name}")
         if files.calendar is not None:
             _source(project, "calendar", files.calendar, files.options)
-            project.set_setting(CALENDAR_SETTING, files.calendar.calendar.to_dict())
+            store_calendar(project, files.calendar.calendar)
 
 
 def _source(project: Project, kind: str, result, options: ReadOptions) -> int:

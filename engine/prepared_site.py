@@ -19,12 +19,13 @@ import pandas as pd
 
 from engine.calendar import CampusCalendar, label_intervals
 from engine.cleaning.cleaned import CleanedSeries
-from engine.cleaning.project_log import cleaned_meter, stored_calendar
+from engine.cleaning.project_log import cleaned_meter
 from engine.cleaning.quality import quality_summary
 from engine.errors import InputError
 from engine.meters import MeterSeries
 from engine.models.base import ModelInputs
 from engine.project import Project
+from engine.site_calendar import stored_calendar
 from engine.weather import fill_hourly
 
 HOUR = pd.Timedelta(hours=1)

@@ -11,13 +11,14 @@ from dataclasses import dataclass, replace
 import pandas as pd
 
 from engine.calendar import CampusCalendar, label_intervals
-from engine.cleaning.project_log import cleaned_meter, stored_calendar
+from engine.cleaning.project_log import cleaned_meter
 from engine.degree_days import BalancePointFit, balance_point
 from engine.errors import InputError
 from engine.meters import MeterSeries
 from engine.profiles import MeterProfiles, profile_meter
 from engine.progress import Progress
 from engine.project import Project
+from engine.site_calendar import stored_calendar
 from engine.weather import daily_stats
 
 #: Fewest working days for a balance point fitted on working days alone.

@@ -8,7 +8,6 @@ from __future__ import annotations
 
 from dataclasses import dataclass, replace
 
-from engine.calendar import CampusCalendar
 from engine.cleaning.cleaned import CleanedSeries
 from engine.cleaning.clock import find_clock_problems
 from engine.cleaning.find import find_all
@@ -17,11 +16,10 @@ from engine.cleaning.quality import quality_summary, recommended_steps
 from engine.cleaning.replay import apply_steps
 from engine.cleaning.settings import CleaningSettings
 from engine.cleaning.steps import CleaningStep
-from engine.errors import InputError
-from engine.importing import CALENDAR_SETTING
 from engine.meters import MeterSeries
 from engine.progress import Progress
 from engine.project import Project
+from engine.site_calendar import stored_calendar
 
 
 @dataclass
@@ -63,21 +61,6 @@ def review_meter(
     if project.meter_settings(name).get("value_kind", "interval") == "interval":
         findings = find_clock_problems(raw[["t", "raw_value"]], meter.timezone, name) + findings
     return MeterReview(meter, cleaned, findings, project.cleaning_steps(name))
-
-
-def stored_calendar(project: Project) -> CampusCalendar | None:
-    """The campus calendar kept in the project's settings, or None when it has none."""
-    stored = project.get_setting(CALENDAR_SETTING)
-    if not stored:
-        return None
-    try:
-        return CampusCalendar.from_dict(stored)
-    except (KeyError, TypeError, ValueError, AttributeError) as error:
-        raise InputError(
-            f"the project's campus calendar cannot be read ({error}).",
-            hint="Import the campus calendar file again.",
-            file=project.path,
-        ) from error
 
 
 def apply_recommended(project: Project, review: MeterReview) -> list[int]:

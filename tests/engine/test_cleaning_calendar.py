@@ -23,10 +23,11 @@ from engine.cleaning import find_all, review_meter
 from engine.cleaning.day_lines import fit_day_lines
 from engine.cleaning.like_days import BREAK, CLOSURE, ORDINARY, SUMMER, CalendarDays
 from engine.errors import InputError
-from engine.importing import CALENDAR_SETTING, create_project, read_project_files
+from engine.importing import create_project, read_project_files
 from engine.meters import MeterSeries
 from engine.project import Project
 from engine.reading import ReadOptions
+from engine.site_calendar import CALENDAR_SETTING
 
 SITE_ZONE = "America/Chicago"
 QUARTER_HOUR = pd.Timedelta(minutes=15)
