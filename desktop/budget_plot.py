@@ -31,7 +31,7 @@ class BudgetRangePanel(PlotPanel):
     """Monthly P50, the P-low–P-high band and the actual to date of the thing picked."""
 
     def __init__(self, parent: QWidget | None = None) -> None:
-        super().__init__("Monthly range", "budget month", "energy (MWh)", parent=parent)
+        super().__init__("Monthly range", "budget month", "energy (kWh)", parent=parent)
         self.pick = ChoiceBox(())
         self.pick.setMinimumContentsLength(28)
         self.pick.activated.connect(self._draw)
@@ -81,14 +81,13 @@ class BudgetRangePanel(PlotPanel):
             return
         low, high = f"{min(run.levels)}", f"{max(run.levels)}"
         x = np.arange(len(item.months), dtype=np.float64)
-        mwh = 1 / 1000.0
         quantile = {
-            level: np.array([m.energy.quantiles[level] for m in item.months]) * mwh
+            level: np.array([m.energy.quantiles[level] for m in item.months])
             for level in (low, "50", high)
         }
         self.ranges.setOpts(x=x, y0=quantile[low], height=quantile[high] - quantile[low])
         self.median.setData(x, quantile["50"])
-        actual = np.array([m.actual_to_date for m in item.months]) * mwh
+        actual = np.array([m.actual_to_date for m in item.months])
         under_way = actual > 0
         self.to_date.setData(x[under_way], actual[under_way])
         ticks = [(float(i), m.period) for i, m in enumerate(item.months)]
@@ -104,10 +103,10 @@ class BudgetRangePanel(PlotPanel):
             key.append(("◆", "metered to date", TO_DATE_COLOUR))
         self.set_key(key)
         self._show_plot(
-            f"Energy per month in MWh: half of the simulated futures lie below P50; P{low} to "
+            f"Energy per month in kWh: half of the simulated futures lie below P50; P{low} to "
             f"P{high} holds {int(high) - int(low)} % of them."
         )
 
     def drawn_median(self) -> np.ndarray:
         """The P50 values drawn, in kWh."""
-        return self.median.getData()[1] * 1000.0
+        return self.median.getData()[1]

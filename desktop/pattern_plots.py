@@ -135,7 +135,7 @@ class MonthlyPanel(PlotPanel):
     """Energy per local calendar month, one bar per year; pale bars are partly covered months."""
 
     def __init__(self, parent: QWidget | None = None) -> None:
-        super().__init__("Monthly totals by year", "month", "energy (MWh)", parent=parent)
+        super().__init__("Monthly totals by year", "month", "energy (kWh)", parent=parent)
         ticks = [(float(month), calendar.month_abbr[month]) for month in range(1, 13)]
         self.plot.getAxis("bottom").setTicks([ticks])
         self.bars: dict[str, pg.BarGraphItem] = {}
@@ -165,7 +165,7 @@ class MonthlyPanel(PlotPanel):
             bars = self._bars_for(year, position)
             bars.setOpts(
                 x=months[present] + (position - (len(years) - 1) / 2) * width,
-                height=kwh[present] / 1000.0,
+                height=kwh[present],
                 width=width * 0.92,
                 brush=full,
                 brushes=[full if c >= 99.5 else pale for c in coverage[present]],

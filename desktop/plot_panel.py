@@ -22,6 +22,15 @@ from desktop.chart_export import ChartActions
 from desktop.palette import INK, PAPER
 
 
+class GroupedAxis(pg.AxisItem):
+    """An axis whose whole numbers print with thousands separators (381,000, not 381000)."""
+
+    def tickStrings(self, values: list[float], scale: float, spacing: float) -> list[str]:
+        if spacing * scale < 1:
+            return super().tickStrings(values, scale, spacing)
+        return [f"{value * scale:,.0f}" for value in values]
+
+
 class PlotPanel(QWidget):
     """A titled plot with a caption, or in its place a note saying why there is no plot."""
 
@@ -35,7 +44,8 @@ class PlotPanel(QWidget):
     ) -> None:
         super().__init__(parent)
         self.title = QLabel(f"<b>{title}</b>")
-        self.plot = pg.PlotWidget(background=PAPER, axisItems=axis_items)
+        axes = {"left": GroupedAxis("left"), **(axis_items or {})}
+        self.plot = pg.PlotWidget(background=PAPER, axisItems=axes)
         self.plot.setMenuEnabled(False)
         item = self.plot.getPlotItem()
         item.hideButtons()

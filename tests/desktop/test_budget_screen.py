@@ -132,13 +132,15 @@ def test_the_table_shows_the_run_the_project_keeps(qtbot, screen, campus):
     costs = [table.value("campus", "total", h) for h in table.headers if h.startswith("cost P")]
     assert len(costs) == 3 and costs == sorted(costs) and costs[0] > 0
 
-    # The plot draws the campus's monthly P50 and its P10–P90 range (in MWh).
+    # The plot draws the campus's monthly P50 and its P10–P90 range in kWh, as the table.
     plot = screen.plot
     assert plot.pick.value() == "Campus, all utilities added (2 meters)" and plot.showing_plot
     medians = [m["quantiles"]["50"] for m in campus_run["months"]]
     np.testing.assert_allclose(plot.drawn_median(), medians, rtol=1e-12)
-    low = np.asarray(plot.ranges.opts["y0"]) * 1000.0
-    high = low + np.asarray(plot.ranges.opts["height"]) * 1000.0
+    low = np.asarray(plot.ranges.opts["y0"])
+    high = low + np.asarray(plot.ranges.opts["height"])
+    assert "kWh" in plot.plot.getAxis("left").labelText
+    assert plot.plot.getAxis("left").tickStrings([380000.0], 1.0, 10000.0) == ["380,000"]
     np.testing.assert_allclose(low, [m["quantiles"]["10"] for m in campus_run["months"]])
     np.testing.assert_allclose(high, [m["quantiles"]["90"] for m in campus_run["months"]])
 

@@ -98,9 +98,9 @@ def test_the_library_meter_is_drawn_as_pandas_works_it_out(library):
     rows = dates.get_indexer(short.get_level_values("date"))
     assert np.isnan(image[rows, short.get_level_values("hour")]).all()
 
-    # Monthly totals of 2024 in MWh, and the load-duration curve's ends.
+    # Monthly totals of 2024 in kWh (as the tables), and the load-duration curve's ends.
     bars = screen.monthly.bars["2024"].opts
-    by_month = readings[readings["year"] == 2024].groupby("month")["kwh"].sum() / 1000.0
+    by_month = readings[readings["year"] == 2024].groupby("month")["kwh"].sum()
     np.testing.assert_allclose(bars["height"], by_month.to_numpy(), rtol=1e-9)
     _, demand = screen.duration.curve.getData()
     assert demand[0] == pytest.approx(readings["kw"].max())
@@ -173,7 +173,7 @@ def test_a_daily_meter_shows_what_it_can_and_says_why_not_the_rest(qtbot, tmp_pa
         assert "No weather in the project" in screen.temperature.note.text()
         assert screen.monthly.showing_plot and screen.duration.showing_plot
         january = screen.monthly.bars["2025"].opts["height"][0]
-        assert january * 1000.0 == pytest.approx(therms[:31].round(2).sum() * KWH_PER_THERM)
+        assert january == pytest.approx(therms[:31].round(2).sum() * KWH_PER_THERM)
         shown = screen.figures.values()
         assert shown["total energy"] == pytest.approx(therms.round(2).sum() * KWH_PER_THERM)
         assert "no weather in the project" in screen.figures.table.item(2, 0).text()
