@@ -30,7 +30,13 @@ from desktop.meter_screen import MeterScreen
 from desktop.quality_panel import QualityPanel
 from desktop.session import Session
 from desktop.workers import Failure, Task
-from engine.cleaning import Finding, MeterReview, apply_recommended, recommended_steps
+from engine.cleaning import (
+    Finding,
+    MeterReview,
+    apply_recommended,
+    apply_recommended_everywhere,
+    recommended_steps,
+)
 from engine.errors import InputError, ProjectError
 from engine.project import Project
 
@@ -54,6 +60,7 @@ class CleaningScreen(MeterScreen):
     def __init__(self, session: Session, parent: QWidget | None = None) -> None:
         super().__init__(session, parent)
         self.review: MeterReview | None = None
+        self._every_meter_changed = False  # the change under way logs fixes on every meter
         self.preview: FixPreview | None = None
         self.review_button = QPushButton("Review again")
         self.review_button.setToolTip("Run every detector on the meter's cleaned readings again.")
@@ -64,6 +71,11 @@ class CleaningScreen(MeterScreen):
             "'for you to decide', such as lasting level changes, are left alone."
         )
         self.apply_all_button.clicked.connect(self.apply_all_recommended)
+        self.apply_everywhere_button = QPushButton("… on every meter")
+        self.apply_everywhere_button.setToolTip(
+            "Review every meter and log each one's recommended fixes, all in one save."
+        )
+        self.apply_everywhere_button.clicked.connect(self.apply_recommended_everywhere)
         self.apply_all_reason = QLabel()
         self.apply_all_reason.setStyleSheet("color: #5a5f66;")
         self.findings = FindingsTable()
@@ -90,6 +102,7 @@ class CleaningScreen(MeterScreen):
         controls.addStretch(1)
         controls.addWidget(self.apply_all_reason)
         controls.addWidget(self.apply_all_button)
+        controls.addWidget(self.apply_everywhere_button)
         fix_row = QHBoxLayout()
         fix_row.addWidget(self.explanation, 1)
         fix_row.addWidget(self.apply_fix_button, 0, Qt.AlignmentFlag.AlignTop)
@@ -146,6 +159,11 @@ class CleaningScreen(MeterScreen):
         change = partial(Project.add_cleaning_step, step=finding.fix.to_dict())
         words = f"Logged: {step_name(finding.fix.kind)} for the {finding_name(finding.kind)}."
         self._change(change, words)
+
+    def apply_recommended_everywhere(self) -> None:
+        """Review every meter and log its recommended fixes, all in one save."""
+        self._every_meter_changed = True
+        self._change(apply_recommended_everywhere, "Logged the recommended fixes of every meter.")
 
     def apply_all_recommended(self) -> None:
         """Log every recommended fix of the review shown, in one save."""
@@ -229,8 +247,12 @@ class CleaningScreen(MeterScreen):
         self.task = None
         self._set_busy(False)
         self._show_log(meter)
-        if changed:
-            self.log_changed.emit(meter)
+        changed_meters = [meter] if changed else []
+        if changed and self._every_meter_changed and self.session.project is not None:
+            changed_meters = self.session.project.meter_names()
+        self._every_meter_changed = False
+        for name in changed_meters:
+            self.log_changed.emit(name)
         if self._wanted is not None:
             self._start(self._wanted)
 

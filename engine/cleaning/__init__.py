@@ -15,7 +15,13 @@ from engine.cleaning.clock import find_clock_problems
 from engine.cleaning.find import find_all
 from engine.cleaning.findings import FINDING_KINDS, SEVERITIES, Finding
 from engine.cleaning.fixes import FIXES
-from engine.cleaning.project_log import MeterReview, apply_recommended, cleaned_meter, review_meter
+from engine.cleaning.project_log import (
+    MeterReview,
+    apply_recommended,
+    apply_recommended_everywhere,
+    cleaned_meter,
+    review_meter,
+)
 from engine.cleaning.quality import RECOMMENDED_KINDS, quality_summary, recommended_steps
 from engine.cleaning.replay import apply_steps
 from engine.cleaning.settings import CleaningSettings
@@ -33,6 +39,7 @@ __all__ = [
     "Finding",
     "MeterReview",
     "apply_recommended",
+    "apply_recommended_everywhere",
     "apply_steps",
     "cleaned_meter",
     "find_all",

@@ -17,7 +17,7 @@ from engine.cleaning.replay import apply_steps
 from engine.cleaning.settings import CleaningSettings
 from engine.cleaning.steps import CleaningStep
 from engine.meters import MeterSeries
-from engine.progress import Progress
+from engine.progress import Progress, step
 from engine.project import Project
 from engine.site_calendar import stored_calendar
 
@@ -69,3 +69,18 @@ def apply_recommended(project: Project, review: MeterReview) -> list[int]:
         return [
             project.add_cleaning_step(step.to_dict()) for step in recommended_steps(review.findings)
         ]
+
+
+def apply_recommended_everywhere(
+    project: Project, names: list[str] | None = None, progress: Progress | None = None
+) -> dict[str, list[int]]:
+    """Review each meter (all of them by default) and log its recommended fixes, every meter
+    in one save; the new step ids by meter."""
+    names = project.meter_names() if names is None else names
+    applied: dict[str, list[int]] = {}
+    with project.transaction():
+        for number, name in enumerate(names):
+            step(progress, number / max(len(names), 1), f"reviewing '{name}'")
+            applied[name] = apply_recommended(project, review_meter(project, name))
+    step(progress, 1.0, "recommended fixes logged")
+    return applied

@@ -10,7 +10,7 @@ from pathlib import Path
 
 from engine import calendar_edit
 from engine.budgeting import budget_project, keep_budget
-from engine.cleaning import apply_recommended, review_meter
+from engine.cleaning import apply_recommended, apply_recommended_everywhere, review_meter
 from engine.cli import text
 from engine.cli.budget_options import parse_as_of, request_from_args
 from engine.cli.progress_line import terminal_progress
@@ -167,8 +167,7 @@ def budget(args: argparse.Namespace) -> int:
         files = read_project_files(args.meters, (), weather, options)
         path = Path(folder) / "one-shot.loadledger"
         with create_project(path, files, timezone=args.timezone) as project:
-            for name in project.meter_names():
-                apply_recommended(project, review_meter(project, name))
+            apply_recommended_everywhere(project)
             return _budget_report(args, project)
 
 

@@ -348,3 +348,19 @@ def test_the_patterns_step_follows_a_fix_logged_on_the_cleaning_step(qtbot, comm
         save_screen(window, "main-window-cleaning")
     finally:
         window.close()
+
+
+def test_every_meters_recommended_fixes_are_logged_in_one_go(qtbot, screen, commons):
+    # The hall's gap with its catch-up and the library's serious spike are both recommended
+    # fixes; one press logs each meter's, and the patterns of both are told to refresh.
+    changed = []
+    screen.log_changed.connect(changed.append)
+    _click(qtbot, screen.apply_everywhere_button)
+    wait_until_idle(qtbot, screen)
+    assert screen.notice.tone == "done", screen.notice.text.text()
+    with Project.open(commons.project) as project:
+        kinds = {
+            name: [s["kind"] for s in project.cleaning_steps(name)] for name in (METER, LIBRARY)
+        }
+    assert kinds[METER] == ["spread"] and kinds[LIBRARY]  # the spike's fix
+    assert sorted(changed) == sorted([METER, LIBRARY])
