@@ -88,9 +88,9 @@ class Tally:
     command: str
     kills: int = 0  # the process was still running when it was killed
     finished: int = 0  # it had already finished (the moment came too late)
-    intact: int = 0  # integrity check passed and Loadledger opened it
-    old: int = 0
-    new: int = 0
+    intact: int = 0  # of all runs: a project file there, whole, and Loadledger opened it
+    old: int = 0  # of all runs: the state before the command (no file, for `new`)
+    new: int = 0  # of all runs: the state after it
     leftovers: list[str] = field(default_factory=list)  # files left beside the project
 
     def line(self) -> str:
@@ -112,25 +112,28 @@ def kill_trials(
     before: Path | None,
     folder: Path,
     *,
-    trials: int,
-    earliest: float,
+    kills: int,
     chance: random.Random,
 ) -> Tally:
-    """Kill ``args(target)`` ``trials`` times, each at a moment drawn uniformly between
-    ``earliest`` seconds (when the command has started) and the end of an uninterrupted run.
+    """Kill ``args(target)`` until it has been killed ``kills`` times (at most 3 × ``kills``
+    runs), each time at a moment drawn uniformly between the command line's start-up time and
+    the end of an uninterrupted run, both measured first (the machine's load changes them).
 
-    Each trial starts from a copy of ``before`` (no file when None) at a fresh ``target`` in
-    ``folder``. The uninterrupted run comes first and gives the old and the new state.
+    Each run starts from a copy of ``before`` (no file when None) at a fresh ``target`` in
+    ``folder``; a run that finishes before its moment is judged too and counted apart.
     """
     tally = Tally(command)
     old, new, seconds = _old_and_new(args, before, folder / "whole.loadledger")
-    for number in range(trials):
+    earliest = min(startup_seconds(), 0.8 * seconds)
+    for number in range(3 * kills):
+        if tally.kills == kills:
+            break
         trial = folder / f"trial-{number}"
         trial.mkdir()
         target = trial / "site.loadledger"
         if before is not None:
             shutil.copyfile(before, target)
-        if killed_after(args(target), chance.uniform(min(earliest, seconds), seconds)):
+        if killed_after(args(target), chance.uniform(earliest, seconds)):
             tally.kills += 1
         else:
             tally.finished += 1

@@ -61,8 +61,8 @@ def _explain(path: Path, error: sqlite3.Error) -> str:
     name = f"'{path.name}'"
     if "locked" in text or "busy" in text:
         return (
-            f"{name} is in use by another Loadledger window or program; "
-            "close it there and try again."
+            f"{name} is in use by another Loadledger window or command that is saving to it "
+            f"(waited {BUSY_TIMEOUT_MS // 1000} s); try again when it has finished."
         )
     if "malformed" in text or "not a database" in text or "corrupt" in text:
         return f"{name} is damaged ({text}); open a backup copy of the project instead."

