@@ -67,18 +67,20 @@ def startup_seconds() -> float:
     return seconds_to_run(["--version"])
 
 
-def killed_after(args: Sequence[object], delay: float) -> bool:
-    """Run the command and SIGKILL it after ``delay`` seconds; whether it was still running."""
+def killed_after(args: Sequence[object], delay: float) -> float | None:
+    """Run the command and SIGKILL it after ``delay`` seconds; None when it was killed, else
+    the seconds it took to finish."""
+    started = time.perf_counter()
     running = subprocess.Popen(
         [*COMMAND, *map(str, args)], stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL
     )
     try:
         running.wait(timeout=delay)
-        return False
+        return time.perf_counter() - started
     except subprocess.TimeoutExpired:
         running.kill()
         running.wait()
-        return True
+        return None
 
 
 @dataclass
@@ -117,7 +119,8 @@ def kill_trials(
 ) -> Tally:
     """Kill ``args(target)`` until it has been killed ``kills`` times (at most 3 × ``kills``
     runs), each time at a moment drawn uniformly between the command line's start-up time and
-    the end of an uninterrupted run, both measured first (the machine's load changes them).
+    the end of an uninterrupted run, both measured first (the machine's load changes them; a
+    run that ends before its moment brings the end forward).
 
     Each run starts from a copy of ``before`` (no file when None) at a fresh ``target`` in
     ``folder``; a run that finishes before its moment is judged too and counted apart.
@@ -133,10 +136,13 @@ def kill_trials(
         target = trial / "site.loadledger"
         if before is not None:
             shutil.copyfile(before, target)
-        if killed_after(args(target), chance.uniform(earliest, seconds)):
+        finished = killed_after(args(target), chance.uniform(earliest, seconds))
+        if finished is None:
             tally.kills += 1
-        else:
+        else:  # the machine got faster: draw the next moments before this run's end
             tally.finished += 1
+            seconds = 0.95 * finished
+            earliest = min(earliest, 0.8 * seconds)
         found = state(target)
         tally.intact += found is not None
         assert found in (old, new), f"{command}: neither old nor new after a kill: {found}"

@@ -16,6 +16,7 @@ from pathlib import Path
 
 from engine.errors import ProjectError
 from engine.project import schema
+from engine.project.columns import DamagedValue
 
 #: The first 16 bytes of every SQLite 3 database (sqlite.org "Database File Format", §1.3).
 SQLITE_MAGIC = b"SQLite format 3\x00"
@@ -49,11 +50,22 @@ def connect(path: Path) -> sqlite3.Connection:
 
 @contextlib.contextmanager
 def reported_as_project_errors(path: Path) -> Iterator[None]:
-    """Turn SQLite failures into a one-line :class:`ProjectError` naming the file and a remedy."""
+    """Turn SQLite failures and stored values that cannot be read back into a one-line
+    :class:`ProjectError` naming the file and a remedy."""
     try:
         yield
     except sqlite3.Error as error:
         raise ProjectError(_explain(path, error)) from error
+    except DamagedValue as error:
+        raise damaged(path, str(error)) from error
+
+
+def damaged(path: Path, what: str) -> ProjectError:
+    """The error for a project whose contents were changed outside Loadledger."""
+    return ProjectError(
+        f"'{path.name}' cannot be used: {what}, so the file was changed outside Loadledger; "
+        "open a backup copy of the project instead."
+    )
 
 
 def _explain(path: Path, error: sqlite3.Error) -> str:
