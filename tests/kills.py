@@ -22,6 +22,7 @@ import time
 from collections import Counter
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
+from functools import cache
 from pathlib import Path
 
 import numpy as np
@@ -62,8 +63,10 @@ def seconds_to_run(args: Sequence[object]) -> float:
     return time.perf_counter() - started
 
 
+@cache
 def startup_seconds() -> float:
-    """How long the command line takes to start and stop doing nothing (``--version``)."""
+    """How long the command line takes to start and stop doing nothing (``--version``),
+    measured once per process."""
     return seconds_to_run(["--version"])
 
 

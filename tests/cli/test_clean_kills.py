@@ -16,7 +16,7 @@ from tests.kills import kill_trials
 
 ROOT = Path(__file__).resolve().parents[2]
 DATA = ROOT / "sample" / "data"
-KILLS = 10
+KILLS = 4  # with the other commands' kills (test_writing_kills.py), 14 in the suite
 
 
 def test_a_killed_clean_leaves_none_or_all_of_its_steps(tmp_path):

@@ -2,7 +2,8 @@
 project left behind is whole (SQLite's integrity check), opens, and holds the state before the
 command or the state after it, never part of a save (see :mod:`tests.kills`).
 
-Each command is killed a few times here; ``tests/benchmarks/kill_long.py`` kills hundreds.
+Each command is killed two or three times here (ten kills in all);
+``tests/benchmarks/kill_long.py`` kills each twenty times or more.
 The site is invented (two meters and a weather station, two years hourly).
 """
 
@@ -15,7 +16,6 @@ import pytest
 from tests.cli.cli_support import loadledger
 from tests.kills import kill_trials, write_small_site
 
-KILLS = 3
 FIT = ("--models", "calendar_regression", "--origins", "2", "--workers", "1")
 BUDGET = ("--start", "2026-01", "--paths", "100", "--workers", "1")
 
@@ -37,21 +37,21 @@ def _new(site: dict, *extra: str):
                            site["weather"], "--timezone", "UTC", *extra)  # fmt: skip
 
 
-def _trials(tmp_path, command: str, args, before, seed: int) -> None:
-    """Kill the command KILLS times; :func:`kill_trials` judges each project it leaves."""
-    tally = kill_trials(command, args, before, tmp_path, kills=KILLS, chance=random.Random(seed))
-    assert tally.kills == KILLS
+def _trials(tmp_path, command: str, args, before, seed: int, kills: int = 3) -> None:
+    """Kill the command ``kills`` times; :func:`kill_trials` judges each project it leaves."""
+    tally = kill_trials(command, args, before, tmp_path, kills=kills, chance=random.Random(seed))
+    assert tally.kills == kills
 
 
 def test_a_killed_new_leaves_no_project_or_a_whole_one(site, tmp_path):
-    _trials(tmp_path, "new", _new(site), None, 1)
+    _trials(tmp_path, "new", _new(site), None, 1, kills=2)
 
 
 def test_a_killed_new_overwrite_leaves_the_old_project_or_the_new_one(site, tmp_path):
     """The project being replaced holds the meters without the weather."""
     old = tmp_path / "meters-only.loadledger"
     loadledger("new", old, "--meters", site["meters"], "--timezone", "UTC")
-    _trials(tmp_path, "new --overwrite", _new(site, "--overwrite"), old, 2)
+    _trials(tmp_path, "new --overwrite", _new(site, "--overwrite"), old, 2, kills=2)
 
 
 def test_a_killed_fit_keeps_no_model_or_every_meter_s(site, tmp_path):
