@@ -18,7 +18,7 @@ stream and checked against these limits:
   holds, spans at most :data:`MAX_SHEET_CELLS` (10 million) cells, and no cell lies beyond
   Excel's last row (1,048,576) or column (XFD); in an OpenDocument file, repeated filled rows
   and cells count as many times as they repeat, against a lower limit,
-  :data:`MAX_OPENDOCUMENT_CELLS` (5 million): the reader expands every repeat.
+  :data:`MAX_OPENDOCUMENT_CELLS` (4 million): the reader expands every repeat.
 
 Legacy ``.xls`` files are read by xlrd, in pure Python, so that damage inside them ends in an
 exception rather than an abort. A sheet over the cell limit is read by a streaming reader
@@ -49,11 +49,10 @@ MAX_MEMBER_BYTES = 256 * 2**20
 MAX_TOTAL_BYTES = 2**30
 MAX_SHEET_CELLS = 10_000_000
 #: The cells an OpenDocument table may span once its repeats are counted. The reader expands
-#: every repeat (about 150 bytes a cell with its Python value), so a few kilobytes repeating
-#: one row a million times would take well over a gigabyte. Written out, an OpenDocument cell
-#: takes 50 bytes or more of XML, so a content.xml within MAX_MEMBER_BYTES never spans this
-#: many without repeats.
-MAX_OPENDOCUMENT_CELLS = 5_000_000
+#: every repeat (150 to 250 bytes a cell with its Python value), so a few kilobytes repeating
+#: one row a million times would take over a gigabyte. Written out, an OpenDocument cell takes
+#: 50 to 100 bytes of XML, so few files within MAX_MEMBER_BYTES span this many without repeats.
+MAX_OPENDOCUMENT_CELLS = 4_000_000
 EXCEL_COLUMNS = 16_384  # XFD, the widest sheet Excel allows
 EXCEL_ROWS = 1_048_576  # the longest
 
