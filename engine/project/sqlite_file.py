@@ -8,8 +8,10 @@ save is killed, SQLite rolls the leftover journal back the next time the file is
 from __future__ import annotations
 
 import contextlib
+import glob
 import os
 import sqlite3
+import time
 import uuid
 from collections.abc import Callable, Iterator
 from pathlib import Path
@@ -21,6 +23,8 @@ from engine.project.columns import DamagedValue
 #: The first 16 bytes of every SQLite 3 database (sqlite.org "Database File Format", §1.3).
 SQLITE_MAGIC = b"SQLite format 3\x00"
 BUSY_TIMEOUT_MS = 5_000
+#: A building file left unchanged this long, and unlocked, is what a killed build left.
+STALE_SECONDS = 60
 
 
 def connect(path: Path) -> sqlite3.Connection:
@@ -179,8 +183,38 @@ def require_free(path: Path, *, overwrite: bool) -> None:
 
 
 def building_path(path: Path) -> Path:
-    """A fresh name beside ``path`` to build its replacement under."""
+    """A fresh name beside ``path`` to build its replacement under, after removing what builds
+    of ``path`` that were killed left there (see :func:`_remove_stale_buildings`)."""
+    _remove_stale_buildings(path)
     return path.with_name(f".{path.stem}.{uuid.uuid4().hex}.building{path.suffix}")
+
+
+def _remove_stale_buildings(path: Path) -> None:
+    """Delete earlier building files of ``path`` that no one is writing.
+
+    A build that was killed leaves its file (and journal) behind under a hidden name. One is
+    stale when it has not changed for :data:`STALE_SECONDS` and no connection holds a write
+    lock on it; a build still running holds the lock while it saves and touches the file
+    when it commits.
+    """
+    pattern = f".{glob.escape(path.stem)}.{'[0-9a-f]' * 32}.building{glob.escape(path.suffix)}"
+    for found in path.parent.glob(pattern):
+        with contextlib.suppress(OSError):
+            if time.time() - found.stat().st_mtime > STALE_SECONDS and not _locked(found):
+                remove_building(found)
+
+
+def _locked(path: Path) -> bool:
+    """Whether ``path`` may be in use: the write lock cannot be had at once (or not at all)."""
+    conn = sqlite3.connect(path, isolation_level=None, timeout=0)
+    try:
+        conn.execute("BEGIN IMMEDIATE")
+        conn.execute("ROLLBACK")
+        return False
+    except sqlite3.Error:
+        return True
+    finally:
+        conn.close()
 
 
 def place_file(building: Path, path: Path, *, overwrite: bool) -> None:
