@@ -174,11 +174,13 @@ def budget(args: argparse.Namespace) -> int:
 def _budget_report(args: argparse.Namespace, project: Project) -> int:
     request = request_from_args(args, project)
     adopt_as = check_name(project, args.adopt, replace=args.replace) if args.adopt else None
-    outcome = budget_project(project, request, **_parallel(args))
-    keep_budget(project, outcome)
+    with project.transaction():  # the meters' modelling, the run and its adoption: one save
+        outcome = budget_project(project, request, **_parallel(args))
+        keep_budget(project, outcome)
+        if adopt_as:
+            adopt_budget(project, adopt_as, outcome, request, replace=args.replace)
     report = outcome.run.to_json()
     if adopt_as:
-        adopt_budget(project, adopt_as, outcome, request, replace=args.replace)
         report["adopted"] = adopt_as
     if args.xlsx:
         written = write_finance_workbook(

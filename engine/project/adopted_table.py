@@ -44,7 +44,8 @@ def find_adopted(conn: sqlite3.Connection, name: str) -> dict | None:
     ).fetchone()
     if row is None:
         return None
-    return {"name": name, "adopted_at": iso_utc(row[0]), "body": from_json(row[1])}
+    body = from_json(row[1], f"adopted budget '{name}'", dict)
+    return {"name": name, "adopted_at": iso_utc(row[0]), "body": body}
 
 
 def adopted_names(conn: sqlite3.Connection) -> list[str]:

@@ -60,7 +60,7 @@ def list_steps(
             "id": id_,
             "kind": kind,
             "meter": meter_name,
-            "params": from_json(step_params),
+            "params": from_json(step_params, f"cleaning step {id_}", dict),
             "note": note,
             "active": bool(active),
             "created_at": iso_utc(created_at),

@@ -101,9 +101,47 @@ def _plain(value: Any) -> Any:
     raise TypeError(f"{type(value).__name__} is not a JSON value")
 
 
-def from_json(text: str) -> Any:
-    """The value stored by :func:`to_json`."""
-    return json.loads(text)
+class DamagedValue(ValueError):
+    """A stored value this version cannot read back: the file was changed outside Loadledger.
+
+    The message names the value; the project layer adds the file and what to do.
+    """
+
+
+def from_json(text: str, what: str, expect: type | None = None) -> Any:
+    """The value stored by :func:`to_json`, refusing what :func:`to_json` never writes.
+
+    ``what`` names the value for the message (e.g. ``"setting 'calendar'"``); ``expect`` is
+    the type the value must have, if any. Non-finite numbers, numbers beyond Python's digit
+    limit and nesting beyond the recursion limit raise :class:`DamagedValue`.
+    """
+    try:
+        value = json.loads(text, parse_float=_finite, parse_constant=_refused_constant)
+    except RecursionError:
+        raise DamagedValue(f"{what} is nested too deeply") from None
+    except (ValueError, TypeError) as error:
+        reason = "a number too long to read" if "digits" in str(error) else str(error)[:80]
+        raise DamagedValue(f"{what} is not valid JSON ({reason})") from None
+    if expect is not None and not isinstance(value, expect):
+        raise DamagedValue(f"{what} holds {_kind(type(value))} where {_kind(expect)} belongs")
+    return value
+
+
+def _kind(kind: type) -> str:
+    """A JSON reader's word for a decoded value's type."""
+    words = {dict: "an object", list: "a list", str: "text", bool: "true or false"}
+    return words.get(kind, "null" if kind is type(None) else "a number")
+
+
+def _finite(text: str) -> float:
+    value = float(text)
+    if not np.isfinite(value):
+        raise ValueError("a number too large to read")
+    return value
+
+
+def _refused_constant(name: str) -> float:
+    raise ValueError(f"{name} is not a number JSON allows")
 
 
 def fetch_columns(cursor: sqlite3.Cursor, dtypes: tuple[str, ...]) -> list[np.ndarray]:

@@ -18,7 +18,7 @@ def find_kept(conn: sqlite3.Connection, meter: str, key: str) -> dict | None:
         "SELECT body FROM kept_models WHERE meter = ? AND key = ? ORDER BY id DESC LIMIT 1",
         (meter, key),
     ).fetchone()
-    return None if row is None else from_json(row[0])
+    return None if row is None else from_json(row[0], f"kept modelling of meter '{meter}'", dict)
 
 
 def put_kept(conn: sqlite3.Connection, meter: str, key: str, body: dict, keep: int) -> None:

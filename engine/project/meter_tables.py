@@ -163,7 +163,7 @@ def load_raw(conn: sqlite3.Connection, name: str) -> pd.DataFrame:
 
 def meter_settings(conn: sqlite3.Connection, name: str) -> dict:
     """The import settings stored with the meter."""
-    return from_json(_meter_row(conn, name)[6])
+    return from_json(_meter_row(conn, name)[6], f"the import settings of meter '{name}'", dict)
 
 
 def remove_meter(conn: sqlite3.Connection, name: str) -> None:

@@ -25,6 +25,7 @@ from engine.project import (
     adopted_table,
     bill_table,
     cleaning_table,
+    contents,
     kept_table,
     meter_tables,
     migrations,
@@ -107,6 +108,7 @@ class Project:
             try:
                 found = sqlite_file.stored_version(conn, path)
                 sqlite_file.require_intact(conn, path)
+                contents.require_readable(conn, path)
                 note = migrations.upgrade(conn, path, found)
                 sqlite_file.require_tables(conn, path)
             except BaseException:

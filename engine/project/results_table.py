@@ -40,7 +40,7 @@ def list_results(conn: sqlite3.Connection, kind: str, meter: str | None = None) 
             "meter": m,
             "label": label,
             "created_at": iso_utc(created),
-            "body": from_json(body),
+            "body": from_json(body, f"{k} result {rid}", dict),
         }
         for rid, k, m, label, created, body in rows
     ]

@@ -16,7 +16,7 @@ SITE_TIMEZONE = "site_timezone"
 def get_setting(conn: sqlite3.Connection, key: str, default: Any = None) -> Any:
     """The stored value of ``key``, or ``default`` when it was never set."""
     row = conn.execute("SELECT value FROM settings WHERE key = ?", (key,)).fetchone()
-    return default if row is None else from_json(row[0])
+    return default if row is None else from_json(row[0], f"setting '{key}'")
 
 
 def set_setting(conn: sqlite3.Connection, key: str, value: Any) -> None:

@@ -69,8 +69,8 @@ def list_sources(conn: sqlite3.Connection) -> list[dict]:
             "file_path": file_path,
             "size_bytes": size,
             "sha256": sha,
-            "settings": from_json(settings),
-            "findings": from_json(findings),
+            "settings": from_json(settings, f"the settings of source file {id_}", dict),
+            "findings": from_json(findings, f"the findings of source file {id_}", list),
             "imported_at": iso_utc(imported_at),
         }
         for id_, kind, name, file_path, size, sha, settings, findings, imported_at in rows

@@ -8,18 +8,23 @@ save is killed, SQLite rolls the leftover journal back the next time the file is
 from __future__ import annotations
 
 import contextlib
+import glob
 import os
 import sqlite3
+import time
 import uuid
 from collections.abc import Callable, Iterator
 from pathlib import Path
 
 from engine.errors import ProjectError
 from engine.project import schema
+from engine.project.columns import DamagedValue
 
 #: The first 16 bytes of every SQLite 3 database (sqlite.org "Database File Format", §1.3).
 SQLITE_MAGIC = b"SQLite format 3\x00"
 BUSY_TIMEOUT_MS = 5_000
+#: A building file left unchanged this long, and unlocked, is what a killed build left.
+STALE_SECONDS = 60
 
 
 def connect(path: Path) -> sqlite3.Connection:
@@ -49,11 +54,22 @@ def connect(path: Path) -> sqlite3.Connection:
 
 @contextlib.contextmanager
 def reported_as_project_errors(path: Path) -> Iterator[None]:
-    """Turn SQLite failures into a one-line :class:`ProjectError` naming the file and a remedy."""
+    """Turn SQLite failures and stored values that cannot be read back into a one-line
+    :class:`ProjectError` naming the file and a remedy."""
     try:
         yield
     except sqlite3.Error as error:
         raise ProjectError(_explain(path, error)) from error
+    except DamagedValue as error:
+        raise damaged(path, str(error)) from error
+
+
+def damaged(path: Path, what: str) -> ProjectError:
+    """The error for a project whose contents were changed outside Loadledger."""
+    return ProjectError(
+        f"'{path.name}' cannot be used: {what}, so the file was changed outside Loadledger; "
+        "open a backup copy of the project instead."
+    )
 
 
 def _explain(path: Path, error: sqlite3.Error) -> str:
@@ -61,8 +77,8 @@ def _explain(path: Path, error: sqlite3.Error) -> str:
     name = f"'{path.name}'"
     if "locked" in text or "busy" in text:
         return (
-            f"{name} is in use by another Loadledger window or program; "
-            "close it there and try again."
+            f"{name} is in use by another Loadledger window or command that is saving to it "
+            f"(waited {BUSY_TIMEOUT_MS // 1000} s); try again when it has finished."
         )
     if "malformed" in text or "not a database" in text or "corrupt" in text:
         return f"{name} is damaged ({text}); open a backup copy of the project instead."
@@ -167,8 +183,38 @@ def require_free(path: Path, *, overwrite: bool) -> None:
 
 
 def building_path(path: Path) -> Path:
-    """A fresh name beside ``path`` to build its replacement under."""
+    """A fresh name beside ``path`` to build its replacement under, after removing what builds
+    of ``path`` that were killed left there (see :func:`_remove_stale_buildings`)."""
+    _remove_stale_buildings(path)
     return path.with_name(f".{path.stem}.{uuid.uuid4().hex}.building{path.suffix}")
+
+
+def _remove_stale_buildings(path: Path) -> None:
+    """Delete earlier building files of ``path`` that no one is writing.
+
+    A build that was killed leaves its file (and journal) behind under a hidden name. One is
+    stale when it has not changed for :data:`STALE_SECONDS` and no connection holds a write
+    lock on it; a build still running holds the lock while it saves and touches the file
+    when it commits.
+    """
+    pattern = f".{glob.escape(path.stem)}.{'[0-9a-f]' * 32}.building{glob.escape(path.suffix)}"
+    for found in path.parent.glob(pattern):
+        with contextlib.suppress(OSError):
+            if time.time() - found.stat().st_mtime > STALE_SECONDS and not _locked(found):
+                remove_building(found)
+
+
+def _locked(path: Path) -> bool:
+    """Whether ``path`` may be in use: the write lock cannot be had at once (or not at all)."""
+    conn = sqlite3.connect(path, isolation_level=None, timeout=0)
+    try:
+        conn.execute("BEGIN IMMEDIATE")
+        conn.execute("ROLLBACK")
+        return False
+    except sqlite3.Error:
+        return True
+    finally:
+        conn.close()
 
 
 def place_file(building: Path, path: Path, *, overwrite: bool) -> None:

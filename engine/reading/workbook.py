@@ -17,7 +17,8 @@ stream and checked against these limits:
 * a sheet's used range, from the ``<dimension>`` it declares and from the cell references it
   holds, spans at most :data:`MAX_SHEET_CELLS` (10 million) cells, and no cell lies beyond
   Excel's last row (1,048,576) or column (XFD); in an OpenDocument file, repeated filled rows
-  and cells count as many times as they repeat.
+  and cells count as many times as they repeat, against a lower limit,
+  :data:`MAX_OPENDOCUMENT_CELLS` (4 million): the reader expands every repeat.
 
 Legacy ``.xls`` files are read by xlrd, in pure Python, so that damage inside them ends in an
 exception rather than an abort. A sheet over the cell limit is read by a streaming reader
@@ -47,6 +48,11 @@ MAX_MEMBERS = 10_000
 MAX_MEMBER_BYTES = 256 * 2**20
 MAX_TOTAL_BYTES = 2**30
 MAX_SHEET_CELLS = 10_000_000
+#: The cells an OpenDocument table may span once its repeats are counted. The reader expands
+#: every repeat (150 to 250 bytes a cell with its Python value), so a few kilobytes repeating
+#: one row a million times would take over a gigabyte. Written out, an OpenDocument cell takes
+#: 50 to 100 bytes of XML, so few files within MAX_MEMBER_BYTES span this many without repeats.
+MAX_OPENDOCUMENT_CELLS = 4_000_000
 EXCEL_COLUMNS = 16_384  # XFD, the widest sheet Excel allows
 EXCEL_ROWS = 1_048_576  # the longest
 
@@ -149,7 +155,8 @@ def _check_counts(xml: bytes, part: str, path: Path) -> None:
 
 
 def _check_opendocument(archive: zipfile.ZipFile, member: zipfile.ZipInfo, path: Path) -> None:
-    """Refuse an OpenDocument table whose repeated rows and cells span too many filled cells.
+    """Refuse an OpenDocument table whose repeated rows and cells span more filled cells than
+    :data:`MAX_OPENDOCUMENT_CELLS`.
 
     Repeated empty rows and cells (how OpenDocument pads a sheet to its edge) do not count:
     the span runs to the last filled cell and row.
@@ -174,8 +181,8 @@ def _check_opendocument(archive: zipfile.ZipFile, member: zipfile.ZipInfo, path:
                 at_row += _repeat(element, f"{table}number-rows-repeated")
                 if filled_to:
                     rows, width = at_row, max(width, filled_to)
-                if rows * width > MAX_SHEET_CELLS:
-                    raise _too_big(path, name, rows, width)
+                if rows * width > MAX_OPENDOCUMENT_CELLS:
+                    raise _too_big(path, name, rows, width, MAX_OPENDOCUMENT_CELLS)
                 element.clear()
 
 
@@ -334,10 +341,12 @@ def _legacy_row(sheet, number: int, datemode: int) -> list[object]:
     return cells
 
 
-def _too_big(path: Path, sheet: str, rows: int, columns: int) -> InputError:
+def _too_big(
+    path: Path, sheet: str, rows: int, columns: int, limit: int = MAX_SHEET_CELLS
+) -> InputError:
     return InputError(
         f"the sheet's filled cells span {rows:,} rows × {columns:,} columns, more than the "
-        f"{MAX_SHEET_CELLS:,} cells the tool reads.",
+        f"{limit:,} cells the tool reads.",
         hint="Delete the unused rows and columns (or far-away cells) and save it again.",
         file=path,
         sheet=sheet,

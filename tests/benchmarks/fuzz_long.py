@@ -8,7 +8,7 @@ repeated rows). One worker process reads them one at a time, as ``loadledger ins
 under an address-space cap; the parent restarts it when it dies (a crash: an abort or a
 segfault) or runs over the time limit. Printed: inputs, outcomes, exit-1 equivalents (any
 exception other than InputError, or a warning), crashes, runs over 30 s, the slowest run, the
-worker's peak resident memory, and the first problem cases.
+worker's peak resident memory with the cases that raised it most, and the first problem cases.
 """
 
 from __future__ import annotations
@@ -50,6 +50,7 @@ class Worker:
     def __init__(self, folder: str, memory_bytes: int) -> None:
         self.folder, self.memory_bytes = folder, memory_bytes
         self.peak_kib = 0
+        self.raised_by: list[tuple[int, str]] = []  # (peak KiB, case) each time it rose
         self._start()
 
     def _start(self) -> None:
@@ -71,7 +72,9 @@ class Worker:
             code = self.process.exitcode
             self._restart()
             return "crash", time.perf_counter() - start, f"worker died (exit code {code})"
-        self.peak_kib = max(self.peak_kib, peak)
+        if peak > self.peak_kib:  # this case took the worker higher than any before it
+            self.peak_kib = peak
+            self.raised_by.append((peak, case.label))
         return result, seconds, detail
 
     def _restart(self) -> None:
@@ -116,6 +119,8 @@ def main() -> None:
     print(f"runs over {TIME_LIMIT:.0f} s        {counts['slow']:,}")
     print(f"slowest run           {slowest[0]:.1f} s ({slowest[1]})")
     print(f"peak memory (worker)  {worker.peak_kib / 1024:,.0f} MiB")
+    for peak, label in sorted(worker.raised_by, reverse=True)[:5]:
+        print(f"  raised to {peak / 1024:,.0f} MiB by {label}")
     print(f"wall time             {elapsed:,.0f} s")
     for line in problems[:50]:
         print("  " + line)
