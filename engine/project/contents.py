@@ -20,7 +20,7 @@ from engine.errors import ProjectError
 from engine.meters import UTILITIES
 from engine.project import schema
 from engine.project.columns import DamagedValue, from_json
-from engine.project.settings_table import SITE_TIMEZONE
+from engine.project.settings_table import CREATED_WITH, SITE_TIMEZONE, WRITTEN_WITH
 from engine.project.sqlite_file import damaged
 
 #: The tables checked here (every format version has them, with the same columns).
@@ -29,7 +29,8 @@ CHECKED_TABLES = frozenset({"settings", "meters", "sources", "cleaning_steps"})
 #: The settings this version writes itself, with the type their value must have.
 SETTING_TYPES: dict[str, type] = {
     SITE_TIMEZONE: str,
-    "created_with": str,
+    CREATED_WITH: str,
+    WRITTEN_WITH: str,
     "created_at": str,
     "calendar": dict,
 }

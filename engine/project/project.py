@@ -84,7 +84,8 @@ class Project:
         def fill(conn: sqlite3.Connection) -> None:
             schema.create_schema(conn)
             settings_table.set_setting(conn, settings_table.SITE_TIMEZONE, timezone)
-            settings_table.set_setting(conn, "created_with", f"Loadledger {engine.__version__}")
+            settings_table.set_setting(conn, settings_table.CREATED_WITH, _this_version())
+            settings_table.set_setting(conn, settings_table.WRITTEN_WITH, _this_version())
             settings_table.set_setting(
                 conn, "created_at", datetime.now(UTC).strftime("%Y-%m-%dT%H:%M:%SZ")
             )
@@ -151,6 +152,7 @@ class Project:
             outer = self._depth == 0
             savepoint = f"nested_{self._depth}"
             conn.execute("BEGIN IMMEDIATE" if outer else f"SAVEPOINT {savepoint}")
+            changes_before = conn.total_changes
             self._depth += 1
             try:
                 yield conn
@@ -167,6 +169,8 @@ class Project:
                 conn.execute(f"RELEASE {savepoint}")
                 return
             try:
+                if conn.total_changes > changes_before:  # a save: say which version made it
+                    settings_table.set_setting(conn, settings_table.WRITTEN_WITH, _this_version())
                 conn.execute("COMMIT")
             except sqlite3.Error:
                 if conn.in_transaction:
@@ -412,6 +416,8 @@ class Project:
                 "path": str(self.path),
                 "format_version": self.format_version,
                 "timezone": settings_table.get_setting(conn, settings_table.SITE_TIMEZONE),
+                "created_with": settings_table.get_setting(conn, settings_table.CREATED_WITH),
+                "written_with": settings_table.get_setting(conn, settings_table.WRITTEN_WITH),
                 "meters": summary.meter_overview(conn),
                 "bills": summary.bill_overview(conn),
                 "weather": summary.weather_overview(conn),
@@ -422,3 +428,7 @@ class Project:
                     for source in source_table.list_sources(conn)
                 ],
             }
+
+
+def _this_version() -> str:
+    return f"Loadledger {engine.__version__}"

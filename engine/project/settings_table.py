@@ -11,6 +11,8 @@ from engine.project.columns import from_json, to_json
 
 #: The key under which the site's IANA time zone is kept.
 SITE_TIMEZONE = "site_timezone"
+#: The version of Loadledger that created the file, and the one that saved to it last.
+CREATED_WITH, WRITTEN_WITH = "created_with", "written_with"
 
 
 def get_setting(conn: sqlite3.Connection, key: str, default: Any = None) -> Any:

@@ -872,3 +872,27 @@ def test_new_over_an_old_project_that_fails_while_storing_leaves_the_old_one(tmp
         f"site{Project.EXTENSION}",
         "station.csv",
     ]
+
+
+def test_the_file_records_the_versions_that_created_it_and_saved_to_it_last(tmp_path):
+    import hashlib
+    import sqlite3
+
+    import engine
+
+    path = tmp_path / "versions.loadledger"
+    with Project.create(path, timezone="UTC") as project:
+        made = project.summary()
+    this = f"Loadledger {engine.__version__}"
+    assert made["created_with"] == made["written_with"] == this
+    with sqlite3.connect(path) as conn:  # as if an older version had saved last
+        conn.execute(
+            "UPDATE settings SET value = ? WHERE key = 'written_with'", ('"Loadledger 0.1"',)
+        )
+    digest = hashlib.sha256(path.read_bytes()).hexdigest()
+    with Project.open(path) as project:  # reading saves nothing, so records nothing
+        assert project.summary()["written_with"] == "Loadledger 0.1"
+    assert hashlib.sha256(path.read_bytes()).hexdigest() == digest
+    with Project.open(path) as project:
+        project.set_setting("note", "a save")
+        assert project.summary()["written_with"] == this
