@@ -33,6 +33,7 @@ from desktop.workers import Failure, Task
 from engine.cleaning import (
     Finding,
     MeterReview,
+    accepted_step,
     apply_recommended,
     apply_recommended_everywhere,
     recommended_steps,
@@ -86,6 +87,12 @@ class CleaningScreen(MeterScreen):
         self.apply_fix_button = QPushButton("Apply this fix")
         self.apply_fix_button.setToolTip("Log this finding's fix as the next step; undo it later.")
         self.apply_fix_button.clicked.connect(self.apply_selected_fix)
+        self.accept_button = QPushButton("Accept as expected")
+        self.accept_button.setToolTip(
+            "Keep the readings as they are (a planned shutdown, a holiday the calendar lacks): "
+            "the log says so, and the finding no longer shows while that step is active."
+        )
+        self.accept_button.clicked.connect(self.accept_selected)
         self.plot = FixPreviewPlot()
         self.quality = QualityPanel()
         self.log = CleaningLogView()
@@ -105,6 +112,7 @@ class CleaningScreen(MeterScreen):
         controls.addWidget(self.apply_everywhere_button)
         fix_row = QHBoxLayout()
         fix_row.addWidget(self.explanation, 1)
+        fix_row.addWidget(self.accept_button, 0, Qt.AlignmentFlag.AlignTop)
         fix_row.addWidget(self.apply_fix_button, 0, Qt.AlignmentFlag.AlignTop)
         preview = QWidget()
         preview_layout = QVBoxLayout(preview)
@@ -159,6 +167,14 @@ class CleaningScreen(MeterScreen):
         change = partial(Project.add_cleaning_step, step=finding.fix.to_dict())
         words = f"Logged: {step_name(finding.fix.kind)} for the {finding_name(finding.kind)}."
         self._change(change, words)
+
+    def accept_selected(self) -> None:
+        """Log that the selected finding is expected: its readings stay as they are."""
+        finding = self.findings.selected()
+        if finding is None:
+            return
+        change = partial(Project.add_cleaning_step, step=accepted_step(finding).to_dict())
+        self._change(change, f"The {finding_name(finding.kind)} is accepted as expected.")
 
     def apply_recommended_everywhere(self) -> None:
         """Review every meter and log its recommended fixes, all in one save."""
@@ -273,6 +289,7 @@ class CleaningScreen(MeterScreen):
         # would break the meter's log.
         previewed = self.preview is not None and self.preview.after is not None
         self.apply_fix_button.setEnabled(idle and previewed)
+        self.accept_button.setEnabled(idle and self.findings.selected() is not None)
 
     def _show_log(self, meter: str) -> None:
         """The meter's log as the project holds it, undone steps included.

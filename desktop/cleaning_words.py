@@ -42,6 +42,7 @@ STEP_NAMES: dict[str, str] = {
     "remove": "remove readings",
     "cap": "cap readings",
     "exclude": "leave out of fitting",
+    "accept": "accepted as expected",
 }
 
 DECIDE = "for you to decide"

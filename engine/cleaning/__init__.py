@@ -17,6 +17,7 @@ from engine.cleaning.findings import FINDING_KINDS, SEVERITIES, Finding
 from engine.cleaning.fixes import FIXES
 from engine.cleaning.project_log import (
     MeterReview,
+    accepted_step,
     apply_recommended,
     apply_recommended_everywhere,
     cleaned_meter,
@@ -38,6 +39,7 @@ __all__ = [
     "CleaningStep",
     "Finding",
     "MeterReview",
+    "accepted_step",
     "apply_recommended",
     "apply_recommended_everywhere",
     "apply_steps",

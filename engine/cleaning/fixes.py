@@ -141,6 +141,13 @@ def exclude(state: CleanedSeries, params: Mapping[str, Any]) -> CleanedSeries:
     return state.replaced(values, estimated, excluded)
 
 
+def accept(state: CleanedSeries, params: Mapping[str, Any]) -> CleanedSeries:
+    """Change nothing: the finding named in ``params`` is expected, and reviews leave it out
+    (:func:`engine.cleaning.project_log.review_meter`). The range must still lie on the grid."""
+    step_range(state.values.index, params)
+    return state
+
+
 #: The fix for each step kind (keys match :data:`engine.cleaning.steps.STEP_KINDS`).
 FIXES: dict[str, Fix] = {
     "interpolate": interpolate,
@@ -149,6 +156,7 @@ FIXES: dict[str, Fix] = {
     "remove": remove,
     "cap": cap,
     "exclude": exclude,
+    "accept": accept,
 }
 
 

@@ -60,7 +60,25 @@ def review_meter(
     raw = project.load_raw(name)
     if project.meter_settings(name).get("value_kind", "interval") == "interval":
         findings = find_clock_problems(raw[["t", "raw_value"]], meter.timezone, name) + findings
-    return MeterReview(meter, cleaned, findings, project.cleaning_steps(name))
+    steps = project.cleaning_steps(name)
+    accepted = {s["params"].get("finding") for s in steps if s["kind"] == "accept"}
+    findings = [finding for finding in findings if finding.id not in accepted]
+    return MeterReview(meter, cleaned, findings, steps)
+
+
+def accepted_step(finding: Finding, note: str = "") -> CleaningStep:
+    """The step that keeps ``finding``'s readings as they are and leaves it out of reviews."""
+    return CleaningStep(
+        "accept",
+        finding.meter,
+        {
+            "finding": finding.id,
+            "finding_kind": finding.kind,
+            "start": finding.start.isoformat(),
+            "end": finding.end.isoformat(),
+        },
+        note or "accepted as expected",
+    )
 
 
 def apply_recommended(project: Project, review: MeterReview) -> list[int]:

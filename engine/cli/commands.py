@@ -10,7 +10,12 @@ from pathlib import Path
 
 from engine import calendar_edit
 from engine.budgeting import budget_project, keep_budget
-from engine.cleaning import apply_recommended, apply_recommended_everywhere, review_meter
+from engine.cleaning import (
+    accepted_step,
+    apply_recommended,
+    apply_recommended_everywhere,
+    review_meter,
+)
 from engine.cli import text
 from engine.cli.budget_options import parse_as_of, request_from_args
 from engine.cli.progress_line import terminal_progress
@@ -68,6 +73,7 @@ def clean(args: argparse.Namespace) -> int:
             project.set_step_active(args.undo, False)
         meters = []
         with project.transaction():  # every meter's fixes in one save
+            _accept(project, names, args.accept)
             reviews = [_reviewed(project, name, args.apply_recommended) for name in names]
         for name, (review, applied) in zip(names, reviews, strict=True):
             meters.append(
@@ -84,6 +90,24 @@ def clean(args: argparse.Namespace) -> int:
         report = {"project": str(project.path), "meters": meters}
     _emit(args, report, text.clean_report)
     return 0
+
+
+def _accept(project: Project, names: list[str], ids: list[str]) -> list[int]:
+    """Log each finding of ``ids`` as accepted (:func:`accepted_step`); an id no meter of
+    ``names`` shows now is refused before anything is saved."""
+    if not ids:
+        return []
+    shown = {f.id: f for name in names for f in review_meter(project, name).findings}
+    unknown = [finding for finding in ids if finding not in shown]
+    if unknown:
+        raise InputError(
+            f"no finding {', '.join(unknown)} is shown now on "
+            f"{'meter ' + names[0] if len(names) == 1 else 'any meter'}.",
+            hint="Take finding ids from loadledger clean --json (an accepted or fixed finding no "
+            "longer shows).",
+            file=project.path,
+        )
+    return [project.add_cleaning_step(accepted_step(shown[f]).to_dict()) for f in ids]
 
 
 def _reviewed(project: Project, name: str, apply: bool) -> tuple:

@@ -70,6 +70,14 @@ def build_parser() -> argparse.ArgumentParser:
     clean.add_argument(
         "--undo", type=int, metavar="STEP", help="undo one logged step by its id (kept in the log)"
     )
+    clean.add_argument(
+        "--accept",
+        action="append",
+        default=[],
+        metavar="FINDING",
+        help="log that a finding (by its id) is expected: its readings stay as they are and it "
+        "no longer shows (repeatable)",
+    )
     _json_option(clean)
     clean.set_defaults(run=commands.clean)
 

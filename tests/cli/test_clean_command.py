@@ -56,3 +56,18 @@ def test_undo_returns_the_series_before_the_step(project):
     assert undone["steps"] == []
     assert undone["quality"]["estimated_intervals"] == 0
     assert undone["quality"]["coverage_after"] < 1.0
+
+
+def test_an_accepted_finding_stays_as_read_and_no_longer_shows(project):
+    path, _ = project
+    before = json.loads(_run("clean", path, "--json"))["meters"][0]
+    catch_up = next(f for f in before["findings"] if f["kind"] == "catch_up")
+    after = json.loads(_run("clean", path, "--accept", catch_up["id"], "--json"))["meters"][0]
+    assert all(f["id"] != catch_up["id"] for f in after["findings"])
+    (step,) = after["steps"]
+    assert step["kind"] == "accept" and step["params"]["finding"] == catch_up["id"]
+    assert after["quality"]["estimated_intervals"] == 0  # the readings are as read
+    # An id that is not shown now is refused in one line and nothing is saved.
+    refused = loadledger("clean", path, "--accept", catch_up["id"], expect=2)
+    assert refused.returncode == 2 and "no finding" in refused.stderr
+    assert len(json.loads(_run("clean", path, "--json"))["meters"][0]["steps"]) == 1

@@ -364,3 +364,30 @@ def test_every_meters_recommended_fixes_are_logged_in_one_go(qtbot, screen, comm
         }
     assert kinds[METER] == ["spread"] and kinds[LIBRARY]  # the spike's fix
     assert sorted(changed) == sorted([METER, LIBRARY])
+
+
+def test_a_finding_accepted_as_expected_stays_accepted_until_undone(qtbot, screen, commons):
+    shift = _finding(screen, "level_shift")
+    assert screen.findings.select(shift.id)
+    assert screen.accept_button.isEnabled()
+    _click(qtbot, screen.accept_button)
+    wait_until_idle(qtbot, screen)
+    assert screen.notice.tone == "done", screen.notice.text.text()
+    assert all(f.id != shift.id for f in screen.findings.findings)  # no longer shown
+    (step,) = _stored_steps(commons.project)
+    assert step["kind"] == "accept" and step["params"]["finding"] == shift.id
+    # The readings are unchanged: nothing estimated, nothing left out.
+    assert screen.quality.value("excluded_share") == 0
+    # Reviewed afresh (a new window), it stays accepted; undone, it is back.
+    again = _open(qtbot, commons.project)
+    try:
+        assert all(f.id != shift.id for f in again.findings.findings)
+    finally:
+        again.session.close()
+    with Project.open(commons.project) as project:
+        project.set_step_active(step["id"], False)
+    undone = _open(qtbot, commons.project)
+    try:
+        assert any(f.id == shift.id for f in undone.findings.findings)
+    finally:
+        undone.session.close()
