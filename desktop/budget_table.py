@@ -20,9 +20,9 @@ from PySide6.QtWidgets import (
 
 from desktop.number_cells import number_cell
 from desktop.understood_view import NUMBER_ROLE
-from desktop.wording import counted
 from engine.budget.result import BudgetRun
 from engine.export.finance_tables import TOTAL_LABEL, Budgeted, budgeted, figure_columns
+from engine.words import counted
 
 HEADING_TINT = "#eef0f2"
 #: Data role on a row's first cell: (budgeted name, period) of the row, None on headings.

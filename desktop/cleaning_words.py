@@ -10,8 +10,8 @@ from collections.abc import Mapping
 
 import pandas as pd
 
-from desktop.wording import counted
 from engine.cleaning import FINDING_KINDS, STEP_KINDS, Finding, MeterReview, recommended_steps
+from engine.words import counted
 
 #: Short names for the kinds of finding (the engine's own descriptions go in tooltips).
 FINDING_NAMES: dict[str, str] = {

@@ -22,10 +22,10 @@ from PySide6.QtWidgets import (
 from desktop.budget_jobs import period_words
 from desktop.file_dialogs import ask_save_path
 from desktop.task_screen import TaskScreen
-from desktop.wording import counted
 from engine.budgeting import ProjectBudget
 from engine.export.finance_workbook import SHEETS, write_finance_workbook
 from engine.progress import Progress
+from engine.words import counted
 
 WORKBOOK_NAME = "finance-budget.xlsx"
 NO_BUDGET = (

@@ -41,11 +41,11 @@ from desktop.reading_form import ReadingForm
 from desktop.session import Session
 from desktop.task_bar import TaskBar
 from desktop.understood_view import KIND_WORDS, UnderstoodView
-from desktop.wording import counted
 from desktop.workers import SHUTDOWN_SECONDS, Failure, Task
 from engine.calendar_edit import current as current_calendar
 from engine.errors import InputError
 from engine.project import Project
+from engine.words import counted
 
 KINDS = (("decide from the contents", None), *((words, kind) for kind, words in KIND_WORDS.items()))
 FILE_FILTER = "Spreadsheets and text files (*.xlsx *.xlsm *.xls *.csv *.txt *.tsv);;All files (*)"

@@ -17,8 +17,8 @@ from desktop.cleaning_jobs import FixPreview
 from desktop.cleaning_words import finding_name, step_name
 from desktop.palette import FIT_LINE, INK, SERIES_CYCLE
 from desktop.plot_panel import PlotPanel
-from desktop.wording import counted
 from engine.cleaning import CleanedSeries
+from engine.words import counted
 
 _EPOCH = pd.Timestamp("1970-01-01", tz="UTC")
 _SECOND = pd.Timedelta(seconds=1)

@@ -12,7 +12,6 @@ from collections.abc import Callable, Iterable, Sequence
 from dataclasses import dataclass, field, replace
 from pathlib import Path
 
-from desktop.wording import counted
 from engine.errors import InputError
 from engine.importing import ImportedFiles, assemble_project, store_files
 from engine.progress import Progress, step
@@ -28,6 +27,7 @@ from engine.reading import (
     read_file,
 )
 from engine.reading.zones import validate_timezone
+from engine.words import counted
 
 ReadResult = MeterFile | BillFile | WeatherFile | CalendarFile
 

@@ -3,15 +3,18 @@
 from __future__ import annotations
 
 from collections.abc import Callable
+from html import escape
 from pathlib import Path
 
 from PySide6.QtCore import Qt
 from PySide6.QtGui import QAction, QKeySequence
 from PySide6.QtWidgets import (
+    QLabel,
     QListWidget,
     QMainWindow,
     QMenu,
     QMessageBox,
+    QPushButton,
     QSplitter,
     QStackedWidget,
     QVBoxLayout,
@@ -30,6 +33,7 @@ from desktop.preferences import RecentProjects, stored_settings
 from desktop.recent_list import RecentList
 from desktop.session import Session
 from engine.budgeting import ProjectBudget
+from engine.checklist import checklist
 from engine.errors import ProjectError
 from engine.project import Project
 
@@ -66,6 +70,7 @@ class MainWindow(QMainWindow):
         self.budget_screen = BudgetScreen(self.session)
         self.export_screen = ExportScreen()
         self.cleaning_screen.log_changed.connect(self.patterns_screen.meter_cleaned)
+        self.cleaning_screen.log_changed.connect(lambda _meter: self.show_guide())
         self.budget_screen.budget_changed.connect(self._budget_to_export)
         self.budget_screen.budget_changed.connect(self._budget_changed)
         self.export_screen.budget_asked.connect(lambda: self.show_step("Budget"))
@@ -88,6 +93,7 @@ class MainWindow(QMainWindow):
         self.steps.setCurrentRow(0)
         splitter = QSplitter(Qt.Orientation.Horizontal)
         splitter.addWidget(self._side_column())
+        self.steps.currentRowChanged.connect(lambda _row: self.show_guide())
         splitter.addWidget(self.screens)
         splitter.setStretchFactor(0, 0)
         splitter.setStretchFactor(1, 1)
@@ -111,8 +117,31 @@ class MainWindow(QMainWindow):
         layout = QVBoxLayout(column)
         layout.setContentsMargins(0, 0, 0, 0)
         layout.addWidget(self.steps, 1)
+        self.guide = QLabel()
+        self.guide.setWordWrap(True)
+        self.guide.setStyleSheet("color: #3d4148; padding: 4px;")
+        self.next_button = QPushButton("Next step ›")
+        self.next_button.clicked.connect(self.next_step)
+        layout.addWidget(self.guide)
+        layout.addWidget(self.next_button)
         layout.addWidget(self.recent_list, 1)
         return column
+
+    def show_guide(self) -> None:
+        """Mark the steps done so far and say what the current step found and what to do."""
+        states = checklist(self.session.project)
+        for row, state in enumerate(states):
+            self.steps.item(row).setText(f"{'✓ ' if state.done else ''}{state.step}")
+        current = states[max(self.steps.currentRow(), 0)]
+        words = f"<b>Next:</b> {escape(current.next, quote=False)}"
+        if current.found:
+            words = f"{escape(current.found, quote=False)}<br>{words}"
+        self.guide.setText(words)
+        self.next_button.setEnabled(self.steps.currentRow() < len(STEP_NAMES) - 1)
+
+    def next_step(self) -> None:
+        """Go on to the step after the current one."""
+        self.steps.setCurrentRow(min(self.steps.currentRow() + 1, len(STEP_NAMES) - 1))
 
     def _build_menus(self) -> None:
         """The Project, Steps and Help menus. Shortcuts are the platform's standard keys, so
@@ -224,6 +253,7 @@ class MainWindow(QMainWindow):
         self.export_screen.set_budget(budget, None if project is None else project.path.stem)
 
     def _project_changed(self, project: Project | None) -> None:
+        self.show_guide()
         self.close_action.setEnabled(project is not None)
         self.setWindowFilePath("" if project is None else str(project.path))
         self.recent_list.setVisible(project is None)
@@ -245,6 +275,7 @@ class MainWindow(QMainWindow):
         Models step is busy)."""
         if budget is not None and self.models_screen.task is None:
             self.models_screen.refresh()
+        self.show_guide()
 
     def _new_from_files(self) -> None:
         self.show_step("Files")

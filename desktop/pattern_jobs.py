@@ -12,12 +12,12 @@ from dataclasses import dataclass, field
 
 import pandas as pd
 
-from desktop.wording import counted
 from engine.profile_run import ProjectMeterProfile, profile_project_meter
 from engine.profiles import TemperatureResponse
 from engine.progress import Progress, step
 from engine.project import Project
 from engine.site_calendar import stored_calendar
+from engine.words import counted
 
 #: Ways to group typical days offered on the screen (the engine's groupings). Grouping by
 #: campus period is left out: the engine groups by period name, one line per term and break.

@@ -23,7 +23,7 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from desktop.wording import counted
+from engine.words import counted
 
 #: Data role holding a cell's number as the engine gave it (the text is rounded for reading).
 NUMBER_ROLE = Qt.ItemDataRole.UserRole

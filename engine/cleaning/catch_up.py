@@ -11,7 +11,8 @@ import numpy as np
 
 from engine.cleaning.findings import Finding
 from engine.cleaning.prepared import PreparedMeter
-from engine.cleaning.wording import count_text, energy_text
+from engine.cleaning.wording import energy_text
+from engine.words import counted
 
 
 def catch_up_after(meter: PreparedMeter, first: int, stop: int, opening: str) -> Finding | None:
@@ -48,8 +49,8 @@ def catch_up_after(meter: PreparedMeter, first: int, stop: int, opening: str) ->
         f"{settings.catch_up_ratio:g}), and the reading is {z:.0f} robust deviations above "
         f"usual (threshold {settings.spike_z:g}): the meter most likely delivered the missed "
         f"energy late. Recommended: share the {energy_text(recorded)} recorded over all "
-        f"{count_text(stop + 1 - first)} following the typical week, which keeps the total the "
-        "meter recorded."
+        f"{counted(stop + 1 - first, 'interval')} following the typical week, which keeps the "
+        "total the meter recorded."
     )
     fix = meter.step(
         "spread",

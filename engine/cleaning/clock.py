@@ -13,8 +13,8 @@ import pandas as pd
 
 from engine.cleaning.findings import Finding
 from engine.cleaning.grid import infer_interval, runs
-from engine.cleaning.wording import count_text
 from engine.errors import InputError
+from engine.words import counted
 
 _HOUR = pd.Timedelta(hours=1)
 
@@ -129,7 +129,7 @@ def _skipped_hour(
     if stamped:
         kind, severity = "dst_nonexistent", "warning"
         explanation = (
-            f"{count_text(stamped, 'reading')} stamped {clock}, a clock time that did not exist in "
+            f"{counted(stamped, 'reading')} stamped {clock}, a clock time that did not exist in "
             f"{timezone} (clocks went forward). The logger probably keeps standard time all year: "
             "import this file with a fixed UTC offset instead of the site's zone."
         )
@@ -165,7 +165,7 @@ def _doubled_hour(
         kind, severity = "dst_single", "warning"
         explanation = (
             f"The clock hour {clock} happened twice in {timezone} (clocks went back), but "
-            f"{count_text(single, 'stamp')} in it appear only once. Either the logger keeps "
+            f"{counted(single, 'stamp')} in it appear only once. Either the logger keeps "
             "standard time all year (then import with a fixed UTC offset) or one of the two "
             "hours was lost (then the import shows a gap there)."
         )
@@ -209,7 +209,7 @@ def _duplicates(
         if stamps == 1
         else f"from {unique[first]:%a %Y-%m-%d %H:%M} to {unique[stop - 1]:%a %Y-%m-%d %H:%M}"
     )
-    where = f"{count_text(stamps, 'time')} {place}"
+    where = f"{counted(stamps, 'time')} {place}"
     if differ[first:stop].any():
         kind, severity = "conflict", "warning"
         explanation = (

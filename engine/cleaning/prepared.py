@@ -16,8 +16,9 @@ from engine.cleaning.grid import to_grid
 from engine.cleaning.like_days import CalendarDays, like_day_pattern
 from engine.cleaning.settings import CleaningSettings
 from engine.cleaning.steps import CleaningStep, range_step
-from engine.cleaning.wording import count_text, duration_text, local_text
+from engine.cleaning.wording import duration_text, local_text
 from engine.errors import InputError
+from engine.words import counted
 
 #: The percentile that stands for "about the highest this meter normally reads".
 HIGH_PERCENTILE = 99.5
@@ -120,7 +121,7 @@ class PreparedMeter:
         """``"for 6 h (24 intervals) from … to …"`` on the site's clock."""
         span = duration_text((stop - first) * self.interval)
         return (
-            f"for {span} ({count_text(stop - first)}) from "
+            f"for {span} ({counted(stop - first, 'interval')}) from "
             f"{local_text(self.index[first], self.timezone)} to "
             f"{local_text(self.end_of(stop), self.timezone)} site time"
         )

@@ -10,7 +10,8 @@ from engine.cleaning.catch_up import catch_up_after
 from engine.cleaning.findings import Finding
 from engine.cleaning.grid import runs
 from engine.cleaning.prepared import PreparedMeter
-from engine.cleaning.wording import count_text, duration_text, energy_text
+from engine.cleaning.wording import duration_text, energy_text
+from engine.words import counted
 
 
 def find_flat_lines(meter: PreparedMeter, claimed: np.ndarray) -> list[Finding]:
@@ -49,7 +50,7 @@ def _flat_line(meter: PreparedMeter, first: int, stop: int, usual: float, limit:
         f"The reading {energy_text(meter.values[first])} repeats {meter.when(first, stop)}. "
         f"For this meter a repeat longer than {limit_span} is implausible "
         f"({settings.flat_multiple:g} times the length {settings.flat_quantile * 100:g}% of its "
-        f"repeats stay within, {count_text(math.ceil(usual))}, but at least "
+        f"repeats stay within, {counted(math.ceil(usual), 'interval')}, but at least "
         f"{duration_text(settings.flat_floor)}): a stuck meter or a logger repeating its last "
         "value. Recommended, after checking: replace the readings by an estimate."
     )

@@ -36,11 +36,6 @@ def energy_text(kwh: float) -> str:
     return f"{kwh:.3g} kWh"
 
 
-def count_text(count: int, noun: str = "interval") -> str:
-    """``"1 interval"``, ``"24 intervals"``."""
-    return f"{count:,} {noun}" if count == 1 else f"{count:,} {noun}s"
-
-
 def local_text(stamp: pd.Timestamp, timezone: str) -> str:
     """A UTC instant on the site's clock, e.g. ``"Mon 2024-03-04 10:15"``."""
     return stamp.tz_convert(timezone).strftime("%a %Y-%m-%d %H:%M")

@@ -64,3 +64,26 @@ def test_new_from_files_goes_to_the_files_step_and_asks_for_files(
     wait_until_idle(qtbot, window.files_screen)
     assert [f.path for f in window.files_screen.plan.files] == [path]
     assert window.files_screen.plan.files[0].state == "read"
+
+
+def test_the_steps_say_what_is_done_and_the_one_thing_to_do_next(window, tmp_path):
+    from desktop_support import FITTED_METERS, fitted_campus
+
+    # No project: the Files step says to add files; nothing is ticked.
+    assert "create a project" in window.guide.text()
+    assert not any(window.steps.item(r).text().startswith("✓") for r in range(6))
+    path = fitted_campus(tmp_path / "campus.loadledger")  # two meters, each with a model
+    assert window.open_project(path)
+    ticked = [
+        window.steps.item(r).text() for r in range(6) if window.steps.item(r).text()[0] == "✓"
+    ]
+    assert ticked == ["✓ Files", "✓ Patterns", "✓ Models"]  # no fix logged, no budget yet
+    window.show_step("Models")
+    assert f"{len(FITTED_METERS)} of {len(FITTED_METERS)} meters have a chosen model" in (
+        window.guide.text()
+    )
+    assert "Budget the next month" in window.guide.text()
+    window.next_button.click()
+    assert STEP_NAMES[window.steps.currentRow()] == "Budget"
+    assert "press 'Budget'" in window.guide.text()
+    save_screen(window, "guided-steps")

@@ -1,6 +1,6 @@
 """Counts in the window's sentences agree with their nouns."""
 
-from desktop.wording import counted
+from engine.words import counted
 
 
 def test_one_is_singular_and_every_other_count_plural():

@@ -1,4 +1,4 @@
-"""Small pieces of wording shared by the screens."""
+"""Small pieces of wording shared by the engine's messages and the window."""
 
 from __future__ import annotations
 
