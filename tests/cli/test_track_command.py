@@ -12,12 +12,10 @@ import shutil
 import sqlite3
 from pathlib import Path
 
-import numpy as np
-import pandas as pd
 import pytest
 from python_calamine import CalamineWorkbook
 
-from tests.cli.cli_support import loadledger, write_hall_and_boiler
+from tests.cli.cli_support import hall_and_boiler_site, loadledger
 
 NAME = "H1 2025"
 MONTH_KEYS = {
@@ -29,16 +27,7 @@ MONTH_KEYS = {
 @pytest.fixture(scope="module")
 def adopted(tmp_path_factory) -> tuple[Path, dict]:
     folder = tmp_path_factory.mktemp("track")
-    rng = np.random.default_rng(8)
-    hours = pd.date_range("2023-01-01", "2025-03-31 23:00", freq="h")
-    day = hours.day_of_year.to_numpy()
-    temps = 11 - 12 * np.cos(2 * np.pi * (day - 20) / 365) + rng.normal(0, 2, len(hours))
-    busy = (hours.day_of_week < 5) & (hours.hour >= 8) & (hours.hour < 18)
-    hall = (50 + 60 * busy + 3 * np.maximum(12 - temps, 0)) * (1 + rng.normal(0, 0.04, len(hours)))
-    boiler = (5 + 9 * np.maximum(14 - temps, 0)) * (1 + rng.normal(0, 0.05, len(hours)))
-    meters, weather = write_hall_and_boiler(folder, hours, hall, boiler, temps)
-    project = folder / "site.loadledger"
-    loadledger("new", project, "--meters", meters, "--weather", weather, "--timezone", "UTC")
+    project = hall_and_boiler_site(folder, "2023-01-01", "2025-03-31 23:00", seed=8)
     for name in ("Hall", "Boiler gas"):
         loadledger("fit", project, "--meter", name, "--models", "daily_change_point",
                    "--origins", "2")  # fmt: skip

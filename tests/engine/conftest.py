@@ -10,13 +10,11 @@ from __future__ import annotations
 import shutil
 from pathlib import Path
 
-import numpy as np
-import pandas as pd
 import pytest
 
 from engine.modelling import fit_meter
 from engine.project import Project
-from tests.cli.cli_support import loadledger, write_hall_and_boiler
+from tests.cli.cli_support import hall_and_boiler_site
 
 METERS = ("Hall", "Boiler gas")
 
@@ -24,18 +22,8 @@ METERS = ("Hall", "Boiler gas")
 @pytest.fixture(scope="session")
 def new_site(tmp_path_factory) -> Path:
     """The site's project as imported: no model chosen yet."""
-    folder = tmp_path_factory.mktemp("kept")
-    rng = np.random.default_rng(11)
-    hours = pd.date_range("2024-01-01", "2025-12-31 23:00", freq="h")
-    day = hours.day_of_year.to_numpy()
-    temps = 11 - 12 * np.cos(2 * np.pi * (day - 20) / 365) + rng.normal(0, 2, len(hours))
-    busy = (hours.day_of_week < 5) & (hours.hour >= 8) & (hours.hour < 18)
-    hall = (50 + 60 * busy + 3 * np.maximum(12 - temps, 0)) * (1 + rng.normal(0, 0.04, len(hours)))
-    boiler = (5 + 9 * np.maximum(14 - temps, 0)) * (1 + rng.normal(0, 0.05, len(hours)))
-    meters, weather = write_hall_and_boiler(folder, hours, hall, boiler, temps)
-    project = folder / "site.loadledger"
-    loadledger("new", project, "--meters", meters, "--weather", weather, "--timezone", "UTC")
-    return project
+    return hall_and_boiler_site(tmp_path_factory.mktemp("kept"), "2024-01-01",
+                                "2025-12-31 23:00", seed=11)  # fmt: skip
 
 
 @pytest.fixture(scope="session")
