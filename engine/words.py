@@ -5,4 +5,4 @@ from __future__ import annotations
 
 def counted(count: int, noun: str) -> str:
     """``count`` and ``noun``, plural unless one: "1 meter", "2 meters", "1,204 values"."""
-    return f"{count:,} {noun}{'s' * (count != 1)}"
+    return f"{count:,} {noun}" if count == 1 else f"{count:,} {noun}s"
