@@ -17,30 +17,20 @@ import argparse
 import re
 import shutil
 import subprocess
+import sys
 import tempfile
 from pathlib import Path
 
 from openpyxl import load_workbook
 
+sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
+
+from tests.pdf_support import page_texts, print_to_pdf
+
 
 def pdf_pages(book: Path, folder: Path) -> tuple[int, Path]:
     """Print ``book`` to a PDF in ``folder`` with LibreOffice; (page count, the PDF)."""
-    subprocess.run(
-        [
-            "soffice",
-            f"-env:UserInstallation={(folder / 'profile').as_uri()}",
-            "--headless",
-            "--convert-to",
-            "pdf",
-            "--outdir",
-            str(folder),
-            str(book),
-        ],
-        check=True,
-        capture_output=True,
-        timeout=300,
-    )
-    pdf = folder / f"{book.stem}.pdf"
+    pdf = print_to_pdf(book, folder)
     info = subprocess.run(["pdfinfo", str(pdf)], check=True, capture_output=True, text=True)
     return int(re.search(r"^Pages:\s+(\d+)", info.stdout, re.MULTILINE).group(1)), pdf
 
@@ -52,12 +42,9 @@ def sheet_pages(book: Path, folder: Path, pdf: Path) -> dict[str, int]:
 
 
 def _pages_by_header(pdf: Path, names: list[str]) -> dict[str, int] | None:
-    text = subprocess.run(
-        ["pdftotext", "-layout", str(pdf), "-"], check=True, capture_output=True, text=True
-    ).stdout
     out = dict.fromkeys(names, 0)
     by_length = sorted(names, key=len, reverse=True)
-    for page in text.split("\f")[:-1]:
+    for page in page_texts(pdf):
         header = next((line for line in page.splitlines() if re.search(r"Page \d+ of", line)), "")
         found = next((name for name in by_length if f" {name} " in f" {header} "), None)
         if found is None:

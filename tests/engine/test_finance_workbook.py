@@ -13,7 +13,6 @@ import dataclasses
 import datetime as dt
 import re
 import shutil
-import subprocess
 
 import numpy as np
 import pandas as pd
@@ -36,6 +35,7 @@ from engine.cleaning.quality import quality_summary
 from engine.errors import InputError
 from engine.export.finance_workbook import write_finance_workbook
 from engine.progress import Cancelled, Progress
+from tests.pdf_support import libreoffice_convert, page_texts, print_to_pdf
 
 LEVELS = [10, 50, 90]
 PATHS = 400
@@ -371,24 +371,8 @@ def test_libreoffice_recalculates_the_same_totals(written, tmp_path):
     if soffice is None:
         pytest.skip("LibreOffice is not installed; the formulas were checked in Python only")
     run, path = written
-    profile = (tmp_path / "profile").as_uri()
-    subprocess.run(
-        [
-            soffice,
-            f"-env:UserInstallation={profile}",
-            "--headless",
-            "--calc",
-            "--convert-to",
-            "xlsx",
-            "--outdir",
-            str(tmp_path / "out"),
-            str(path),
-        ],
-        check=True,
-        capture_output=True,
-        timeout=120,
-    )
-    grid = Grid(tmp_path / "out" / path.name, "Monthly")
+    recalculated = libreoffice_convert(path, tmp_path, "xlsx", out=tmp_path / "out", timeout=120)
+    grid = Grid(recalculated, "Monthly")
     _, blocks = _monthly_rows(grid)
     for scope, name, item in _monthly_blocks(run):
         _, line = blocks[scope, name][-1]
@@ -787,26 +771,7 @@ def test_libreoffice_prints_a_few_pages_each_naming_its_sheet(written, tmp_path)
     if soffice is None or pdftotext is None:
         pytest.skip("LibreOffice or pdftotext is not installed")
     _, path = written
-    subprocess.run(
-        [
-            soffice,
-            f"-env:UserInstallation={(tmp_path / 'profile').as_uri()}",
-            "--headless",
-            "--convert-to",
-            "pdf",
-            "--outdir",
-            str(tmp_path),
-            str(path),
-        ],
-        check=True,
-        capture_output=True,
-        timeout=180,
-    )
-    pdf = tmp_path / f"{path.stem}.pdf"
-    text = subprocess.run(
-        [pdftotext, "-layout", str(pdf), "-"], check=True, capture_output=True, text=True
-    ).stdout
-    pages = text.split("\f")[:-1]
+    pages = page_texts(print_to_pdf(path, tmp_path, timeout=180))
     names = sorted(load_workbook(path).sheetnames, key=len, reverse=True)
     per_sheet: dict[str, int] = {}
     for number, page in enumerate(pages, start=1):
