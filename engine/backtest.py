@@ -565,14 +565,13 @@ def _fits_at(
     """Per origin month, the model fitted on the data before it (or its fit's error): the
     ``given`` fits as they are, the others by one :meth:`fit_before_each` of the family,
     which shares work between the windows where the family can."""
-    months = [str(_local_month(start, inputs.timezone)) for start in starts]
-    missing = [start for start, month in zip(starts, months, strict=True) if month not in given]
+    months = {str(_local_month(start, inputs.timezone)): start for start in starts}
+    missing = {month: start for month, start in months.items() if month not in given}
     started = time.perf_counter()
-    made = prototype.fit_before_each(inputs, missing) if missing else []
+    made = prototype.fit_before_each(inputs, list(missing.values())) if missing else []
     seconds = (time.perf_counter() - started) / max(len(missing), 1)
     fits: dict[str, Fitted | Exception] = dict(given)
-    for start, model in zip(missing, made, strict=True):
-        month = str(_local_month(start, inputs.timezone))
+    for month, model in zip(missing, made, strict=True):
         fits[month] = model if isinstance(model, Exception) else (model, seconds)
     return fits
 

@@ -175,8 +175,9 @@ class FitHistory:
     def _calendar_columns(self, layout: DesignLayout) -> tuple[Design, dict[int, np.ndarray]]:
         """The calendar columns of ``layout`` in search order, and their Gram matrix over the
         first rows in time order for each of :attr:`ends`."""
-        key = replace(layout, heating_base=None, cooling_base=None, trend_origin=None)
-        key = replace(key, trend_knots=())
+        key = replace(
+            layout, heating_base=None, cooling_base=None, trend_origin=None, trend_knots=()
+        )
         if key not in self._calendar:
             design = calendar_design(self.features, key)
             partial = [end for end in self.ends.values() if end < len(self.times)]
