@@ -61,7 +61,6 @@ class CleaningScreen(MeterScreen):
     def __init__(self, session: Session, parent: QWidget | None = None) -> None:
         super().__init__(session, parent)
         self.review: MeterReview | None = None
-        self._every_meter_changed = False  # the change under way logs fixes on every meter
         self.preview: FixPreview | None = None
         self.review_button = QPushButton("Review again")
         self.review_button.setToolTip("Run every detector on the meter's cleaned readings again.")
@@ -178,8 +177,11 @@ class CleaningScreen(MeterScreen):
 
     def apply_recommended_everywhere(self) -> None:
         """Review every meter and log its recommended fixes, all in one save."""
-        self._every_meter_changed = True
-        self._change(apply_recommended_everywhere, "Logged the recommended fixes of every meter.")
+        self._change(
+            apply_recommended_everywhere,
+            "Logged the recommended fixes of every meter.",
+            every_meter=True,
+        )
 
     def apply_all_recommended(self) -> None:
         """Log every recommended fix of the review shown, in one save."""
@@ -211,18 +213,27 @@ class CleaningScreen(MeterScreen):
         ids = [int(stored["id"]) for stored in self.log.steps]
         return ids.index(step_id) + 1 if step_id in ids else 0
 
-    def _change(self, change: Change, done: str) -> None:
+    def _change(self, change: Change, done: str, every_meter: bool = False) -> None:
+        """Make ``change`` on a worker, then review the meter shown; the logs it touches are
+        the shown meter's, or every meter's."""
         name = self.meter.currentText()
-        if self.session.project is None or not name:
+        project = self.session.project
+        if project is None or not name:
             return
         if self.task is not None:
             self.notice.say(f"Wait until {self.task.doing} is done.", "info")
             return
-        self._start(name, change, done)
+        self._start(name, change, done, tuple(project.meter_names()) if every_meter else (name,))
 
     # -- work -------------------------------------------------------------------------------
 
-    def _start(self, meter: str, change: Change | None = None, done: str = "") -> None:
+    def _start(
+        self,
+        meter: str,
+        change: Change | None = None,
+        done: str = "",
+        touched: tuple[str, ...] = (),
+    ) -> None:
         self._wanted = None
         self.notice.clear()
         doing = f"reviewing '{meter}'" if change is None else f"changing the cleaning of '{meter}'"
@@ -230,7 +241,7 @@ class CleaningScreen(MeterScreen):
         task.succeeded.connect(partial(self._reviewed, done))
         task.failed.connect(self._failed)
         task.cancelled.connect(partial(self._cancelled, meter))
-        task.ended.connect(partial(self._ended, meter, change is not None))
+        task.ended.connect(partial(self._ended, meter, touched))
         self.task = task
         self.task_bar.follow(task)
         self._set_busy(True)
@@ -259,15 +270,11 @@ class CleaningScreen(MeterScreen):
                 f"Stopped reviewing '{meter}'. Press 'Review again' to see its findings.", "info"
             )
 
-    def _ended(self, meter: str, changed: bool) -> None:
+    def _ended(self, meter: str, touched: tuple[str, ...]) -> None:
         self.task = None
         self._set_busy(False)
         self._show_log(meter)
-        changed_meters = [meter] if changed else []
-        if changed and self._every_meter_changed and self.session.project is not None:
-            changed_meters = self.session.project.meter_names()
-        self._every_meter_changed = False
-        for name in changed_meters:
+        for name in touched:
             self.log_changed.emit(name)
         if self._wanted is not None:
             self._start(self._wanted)
