@@ -188,6 +188,7 @@ class BudgetScreen(TaskScreen):
             )
 
     def set_busy(self, busy: bool) -> None:
+        """Buttons for the state: a budget run here can be adopted, an adopted one shown."""
         self.budget_button.setEnabled(not busy)
         self.adopt_button.setEnabled(not busy and self.ran_with is not None)
         self.adopted.setEnabled(not busy and self.adopted.count() > 1)
@@ -249,7 +250,7 @@ class BudgetScreen(TaskScreen):
             return
         self.ran_with = None
         self._display(budget)
-        self.adopt_button.setEnabled(False)
+        self.set_busy(self.task is not None)
         self.summary.setText(
             f"The budget adopted as '{name}', as it was issued (write it again on the Export "
             f"step): {self.summary.text()}"
@@ -275,9 +276,8 @@ class BudgetScreen(TaskScreen):
     def _show(self, project: Project, choices: BudgetChoices, budget: ProjectBudget) -> None:
         if self.session.project is not project:
             return  # another project was opened meanwhile
-        self.ran_with = choices
+        self.ran_with = choices  # adopting is offered once the task has ended (set_busy)
         self._display(budget)
-        self.adopt_button.setEnabled(True)
         self.notice.say(
             f"Budget {period_words(budget)} ready; kept in "
             f"{project.path.name}. Write it for finance on the Export step.",
