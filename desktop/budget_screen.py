@@ -71,6 +71,7 @@ class BudgetScreen(TaskScreen):
         self.adopt_button.setEnabled(False)
         self.adopt_button.clicked.connect(lambda: self.ask_adopt())
         self.adopted = QComboBox()
+        self.adopted.setSizeAdjustPolicy(QComboBox.SizeAdjustPolicy.AdjustToContents)
         self.adopted.setToolTip("Budgets adopted in this project: choose one to see it again.")
         self.adopted.activated.connect(self._adopted_chosen)
         self.summary = QLabel()
