@@ -135,14 +135,7 @@ def chosen_model(project: Project, name: str) -> tuple[EnergyModel, dict]:
 
     Returns the model and the stored recommendation.
     """
-    stored = project.results("model", name)
-    if not stored:
-        raise InputError(
-            f"meter '{name}' has no fitted model yet.",
-            hint=f"Run: loadledger fit {project.path.name} --meter '{name}'.",
-            file=project.path,
-        )
-    body = stored[-1]["body"]
+    body = _last_choice(project, name)
     try:
         model = model_from_dict(body["model"])
     except RefitNeeded:
@@ -152,6 +145,18 @@ def chosen_model(project: Project, name: str) -> tuple[EnergyModel, dict]:
     return model, body["choice"]
 
 
+def _last_choice(project: Project, name: str) -> dict:
+    """The meter's last stored model result (``model`` and ``choice``)."""
+    stored = project.results("model", name)
+    if not stored:
+        raise InputError(
+            f"meter '{name}' has no fitted model yet.",
+            hint=f"Run: loadledger fit {project.path.name} --meter '{name}'.",
+            file=project.path,
+        )
+    return stored[-1]["body"]
+
+
 def use_ranked_model(project: Project, name: str, model: str) -> tuple[EnergyModel, dict]:
     """Keep another model of the meter's last ranking as its choice, fitted on all the history
     with the settings its backtest ran (tuned orders included); no new backtest is run.
@@ -159,7 +164,7 @@ def use_ranked_model(project: Project, name: str, model: str) -> tuple[EnergyMod
     The stored recommendation keeps its ranking and scores; ``chosen`` becomes ``model`` and
     the first reason says it was chosen over the recommendation. Returns the model and choice.
     """
-    _, choice = chosen_model(project, name)
+    choice = _last_choice(project, name)["choice"]  # the model itself is not needed
     ranked = {row["model"]: row for row in choice["ranking"]}
     if model not in ranked:
         raise InputError(
