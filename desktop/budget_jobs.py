@@ -150,7 +150,8 @@ def adopt_shown(
 
 def meters_without_model(project: Project) -> list[str]:
     """Meters the budget would first have to fit a model for (with the wizard's defaults)."""
-    return [name for name in project.meter_names() if not project.results("model", name)]
+    models = project.result_counts("model")
+    return [name for name in project.meter_names() if not models.get(name)]
 
 
 def period_words(budget: ProjectBudget) -> str:

@@ -40,8 +40,9 @@ def checklist(project: Project | None) -> list[StepState]:
         ]
     meters = project.meter_names()
     steps = project.cleaning_steps()
-    modelled = [name for name in meters if project.results("model", name)]
-    budgets = project.results("budget")
+    models = project.result_counts("model")
+    modelled = [name for name in meters if models.get(name)]
+    budgets = sum(project.result_counts("budget").values())
     missing = len(meters) - len(modelled)
     return [
         StepState(
@@ -76,7 +77,7 @@ def checklist(project: Project | None) -> list[StepState]:
         StepState(
             "Budget",
             bool(budgets),
-            f"{counted(len(budgets), 'budget')} kept in the project.",
+            f"{counted(budgets, 'budget')} kept in the project.",
             "Choose the period and press 'Budget'." if not budgets else "Write it for finance.",
         ),
         StepState("Export", False, "", "Write the finance workbook."),

@@ -368,6 +368,12 @@ class Project:
         with self._reading() as conn:
             return results_table.list_results(conn, kind, meter)
 
+    def result_counts(self, kind: str) -> dict[str | None, int]:
+        """How many results of ``kind`` each meter has, without reading them (None: results
+        of no single meter, such as budgets)."""
+        with self._reading() as conn:
+            return results_table.count_results(conn, kind)
+
     def remove_result(self, result_id: int) -> None:
         with self._writing() as conn:
             results_table.remove_result(conn, result_id)

@@ -46,5 +46,13 @@ def list_results(conn: sqlite3.Connection, kind: str, meter: str | None = None) 
     ]
 
 
+def count_results(conn: sqlite3.Connection, kind: str) -> dict[str | None, int]:
+    """How many results of ``kind`` each meter has (None: results of no single meter)."""
+    rows = conn.execute(
+        "SELECT meter, COUNT(*) FROM results WHERE kind = ? GROUP BY meter", (kind,)
+    ).fetchall()
+    return {meter: int(count) for meter, count in rows}
+
+
 def remove_result(conn: sqlite3.Connection, result_id: int) -> None:
     conn.execute("DELETE FROM results WHERE id = ?", (result_id,))

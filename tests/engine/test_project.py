@@ -795,6 +795,12 @@ def test_results_are_kept_as_json_documents(project: Project) -> None:
     assert project.results("model") == []
     with pytest.raises(ValueError, match="result kind"):
         project.add_result("picture", None, "", {})
+    # Counted without reading the documents: per meter, None for results of no single meter.
+    project.add_result("model", "Hall", "again", {"family": "x"})
+    project.add_result("model", "Hall", "and again", {"family": "x"})
+    assert project.result_counts("model") == {"Hall": 2}
+    assert project.result_counts("budget") == {None: 1}
+    assert project.result_counts("backtest") == {}
 
 
 def test_the_format_2_fixture_still_opens(tmp_path: Path) -> None:
