@@ -116,19 +116,19 @@ def stored_report(
     project: Project, meter: str, progress: Progress | None = None
 ) -> ModelReport | None:
     """The meter's last chosen model and backtest as stored; None when it has no model yet."""
-    stored = project.results("model", meter)
-    if not stored:
+    stored = project.last_result("model", meter)
+    if stored is None:
         return None
     step(progress, 0.1, f"reading the model of '{meter}'")
     model, choice = chosen_model(project, meter)
     backtest = None
-    backtests = project.results("backtest", meter)
-    if backtests:
+    last_backtest = project.last_result("backtest", meter)
+    if last_backtest is not None:
         try:
-            backtest = BacktestResult.from_dict(backtests[-1]["body"])
+            backtest = BacktestResult.from_dict(last_backtest["body"])
         except ProjectError:
             backtest = None
-    kept = f"Fitted {stored[-1]['created_at'][:16].replace('T', ' ')} UTC, kept in the project"
+    kept = f"Fitted {stored['created_at'][:16].replace('T', ' ')} UTC, kept in the project"
     step(progress, 1.0, "model read")
     return _report(meter, choice, backtest, model, kept)
 

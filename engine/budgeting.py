@@ -182,10 +182,10 @@ def latest_budget(project: Project) -> ProjectBudget | None:
     A budget kept before the detail was kept comes back without daily figures, data quality
     or scorecards (the workbook then says so on those sheets).
     """
-    kept = project.results("budget")
-    if not kept:
+    kept = project.last_result("budget")
+    if kept is None:
         return None
-    body = max(kept, key=lambda result: result["id"])["body"]
+    body = kept["body"]
     try:
         detail = body.get("detail", {})
         daily = {name: _daily_frame(table) for name, table in detail.get("daily", {}).items()}
@@ -346,8 +346,8 @@ def _meter_models(
     jobs, keys = [], {}
     weather = None if no_weather or hourly is None else TypicalYears(hourly, site.timezone)
     for name in histories:
-        stored = project.results("model", name) if not no_weather else []
-        choice = stored[-1]["body"] if stored else None
+        stored = project.last_result("model", name) if not no_weather else None
+        choice = stored["body"] if stored else None
         job = MeterJob(
             name,
             histories[name],

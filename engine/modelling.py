@@ -147,14 +147,14 @@ def chosen_model(project: Project, name: str) -> tuple[EnergyModel, dict]:
 
 def _last_choice(project: Project, name: str) -> dict:
     """The meter's last stored model result (``model`` and ``choice``)."""
-    stored = project.results("model", name)
-    if not stored:
+    stored = project.last_result("model", name)
+    if stored is None:
         raise InputError(
             f"meter '{name}' has no fitted model yet.",
             hint=f"Run: loadledger fit {project.path.name} --meter '{name}'.",
             file=project.path,
         )
-    return stored[-1]["body"]
+    return stored["body"]
 
 
 def use_ranked_model(project: Project, name: str, model: str) -> tuple[EnergyModel, dict]:
@@ -173,8 +173,8 @@ def use_ranked_model(project: Project, name: str, model: str) -> tuple[EnergyMod
             hint="Choose a model from the ranking, or fit again with that family ticked.",
             file=project.path,
         )
-    backtests = project.results("backtest", name)
-    info = BacktestResult.from_dict(backtests[-1]["body"]).models.get(model) if backtests else None
+    backtest = project.last_result("backtest", name)
+    info = BacktestResult.from_dict(backtest["body"]).models.get(model) if backtest else None
     if info is None:
         raise InputError(
             f"the backtest of meter '{name}' that ranked '{model}' is not kept.",

@@ -368,6 +368,13 @@ class Project:
         with self._reading() as conn:
             return results_table.list_results(conn, kind, meter)
 
+    def last_result(self, kind: str, meter: str | None = None) -> dict | None:
+        """The newest result of ``kind`` (for ``meter`` when given), or None; the older
+        documents are not read."""
+        with self._reading() as conn:
+            found = results_table.list_results(conn, kind, meter, last_only=True)
+        return found[0] if found else None
+
     def result_counts(self, kind: str) -> dict[str | None, int]:
         """How many results of ``kind`` each meter has, without reading them (None: results
         of no single meter, such as budgets)."""

@@ -25,14 +25,18 @@ def add_result(
     return int(cursor.lastrowid)
 
 
-def list_results(conn: sqlite3.Connection, kind: str, meter: str | None = None) -> list[dict]:
-    """Results of ``kind`` (for ``meter`` when given), oldest first, bodies included."""
+def list_results(
+    conn: sqlite3.Connection, kind: str, meter: str | None = None, last_only: bool = False
+) -> list[dict]:
+    """Results of ``kind`` (for ``meter`` when given), oldest first, bodies included; only
+    the newest when ``last_only`` (so the older documents are not read)."""
     query = "SELECT id, kind, meter, label, created_at, body FROM results WHERE kind = ?"
     args: tuple = (kind,)
     if meter is not None:
         query += " AND meter = ?"
         args += (meter,)
-    rows = conn.execute(query + " ORDER BY id", args).fetchall()
+    order = " ORDER BY id DESC LIMIT 1" if last_only else " ORDER BY id"
+    rows = conn.execute(query + order, args).fetchall()
     return [
         {
             "id": rid,

@@ -801,6 +801,8 @@ def test_results_are_kept_as_json_documents(project: Project) -> None:
     assert project.result_counts("model") == {"Hall": 2}
     assert project.result_counts("budget") == {None: 1}
     assert project.result_counts("backtest") == {}
+    assert project.last_result("model", "Hall")["label"] == "and again"
+    assert project.last_result("backtest") is None
 
 
 def test_the_format_2_fixture_still_opens(tmp_path: Path) -> None:
