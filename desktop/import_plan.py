@@ -26,8 +26,8 @@ from engine.reading import (
     guess_kind,
     read_file,
 )
-from engine.reading.zones import validate_timezone
 from engine.words import counted
+from engine.zone_names import require_zone
 
 ReadResult = MeterFile | BillFile | WeatherFile | CalendarFile
 
@@ -146,7 +146,7 @@ class ImportPlan:
     def set_site_timezone(self, name: str | None) -> None:
         """The project's time zone; files that follow it are read again."""
         if name is not None:
-            validate_timezone(name)
+            require_zone(name)
         if name == self.site_timezone:
             return
         self.site_timezone = name

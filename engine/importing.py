@@ -24,10 +24,8 @@ from engine.reading import (
     read_meter_file,
     read_weather_file,
 )
-from engine.reading.zones import validate_timezone
 from engine.site_calendar import store_calendar
-
-#: The project setting holding the campus calendar (``CampusCalendar.to_dict``).
+from engine.zone_names import require_zone
 
 
 @dataclass
@@ -60,7 +58,7 @@ def read_project_files(
             "a project needs the site's time zone.",
             hint="Give it with --timezone, e.g. --timezone America/Chicago.",
         )
-    validate_timezone(options.timezone)
+    require_zone(options.timezone)
     jobs = [(read_meter_file, m) for m in meters]
     jobs += [(read_bill_file, b) for b in bills]
     jobs += [(read_weather_file, w) for w in weather]

@@ -22,12 +22,12 @@ import datetime as dt
 import re
 from dataclasses import dataclass, field
 from typing import Literal
-from zoneinfo import ZoneInfo, ZoneInfoNotFoundError
 
 import numpy as np
 import pandas as pd
 
 from engine.errors import InputError
+from engine.zone_names import require_zone
 
 Convention = Literal["start", "end"]
 
@@ -408,7 +408,7 @@ def localize(stamps: pd.DatetimeIndex, timezone: str) -> Localized:
         The fall-back hour is placed by order of appearance (first daylight, then standard
         time); times in the spring-forward gap are reported and left NaT, never shifted.
     """
-    _check_zone(timezone)
+    require_zone(timezone)
     stamps = pd.DatetimeIndex(stamps)
     nowhere = np.array([], dtype=np.int64)
     if stamps.tz is not None:
@@ -922,16 +922,6 @@ def _describe_forms(read: _Read) -> str:
 
 def _order_name(dayfirst: bool) -> str:
     return "day-first" if dayfirst else "month-first"
-
-
-def _check_zone(timezone: str) -> None:
-    try:
-        ZoneInfo(timezone)
-    except (ZoneInfoNotFoundError, ValueError, TypeError) as error:
-        raise InputError(
-            f"unknown time zone {timezone!r}",
-            hint="Use an IANA zone name such as 'America/Chicago', 'Europe/Berlin' or 'UTC'.",
-        ) from error
 
 
 def _clock_text(span: pd.Timedelta) -> str:

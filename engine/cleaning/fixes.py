@@ -8,7 +8,6 @@ from __future__ import annotations
 
 from collections.abc import Callable, Mapping
 from typing import Any
-from zoneinfo import ZoneInfo, ZoneInfoNotFoundError
 
 import numpy as np
 import pandas as pd
@@ -17,6 +16,7 @@ from engine.cleaning.cleaned import CleanedSeries
 from engine.cleaning.pattern import week_places, weekly_pattern
 from engine.cleaning.steps import step_range
 from engine.errors import InputError
+from engine.zone_names import require_zone
 
 Fix = Callable[[CleanedSeries, Mapping[str, Any]], CleanedSeries]
 
@@ -224,12 +224,4 @@ def _weeks(params: Mapping[str, Any]) -> int:
 
 
 def _timezone(params: Mapping[str, Any]) -> str:
-    name = params.get("timezone")
-    try:
-        ZoneInfo(str(name))
-    except (ZoneInfoNotFoundError, ValueError) as error:
-        raise InputError(
-            f"the step's site time zone {name!r} is not a known IANA zone name.",
-            hint="Give the site's zone, such as 'Europe/Berlin' or 'America/Chicago'.",
-        ) from error
-    return str(name)
+    return require_zone(params.get("timezone"), "the step's site time zone")

@@ -37,6 +37,7 @@ from engine.project import (
     summary,
     weather_table,
 )
+from engine.zone_names import require_zone
 
 
 class Project:
@@ -79,7 +80,7 @@ class Project:
                 hint=f"Name it '{path.stem}{cls.EXTENSION}'.",
                 file=path,
             )
-        settings_table.require_timezone(timezone)
+        require_zone(timezone, "the site's time zone")
 
         def fill(conn: sqlite3.Connection) -> None:
             schema.create_schema(conn)

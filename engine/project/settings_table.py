@@ -4,10 +4,9 @@ from __future__ import annotations
 
 import sqlite3
 from typing import Any
-from zoneinfo import ZoneInfo, ZoneInfoNotFoundError
 
-from engine.errors import InputError
 from engine.project.columns import from_json, to_json
+from engine.zone_names import require_zone
 
 #: The key under which the site's IANA time zone is kept.
 SITE_TIMEZONE = "site_timezone"
@@ -26,20 +25,9 @@ def set_setting(conn: sqlite3.Connection, key: str, value: Any) -> None:
     if not isinstance(key, str) or not key:
         raise ValueError("a setting needs a non-empty text key")
     if key == SITE_TIMEZONE:
-        require_timezone(value)
+        require_zone(value, "the site's time zone")
     conn.execute(
         "INSERT INTO settings (key, value) VALUES (?, ?) "
         "ON CONFLICT (key) DO UPDATE SET value = excluded.value",
         (key, to_json(value, f"setting '{key}'")),
     )
-
-
-def require_timezone(name: Any) -> None:
-    """Refuse anything that is not an IANA time zone name known to this computer."""
-    try:
-        ZoneInfo(name)
-    except (ZoneInfoNotFoundError, ValueError, TypeError) as error:
-        raise InputError(
-            f"'{name}' is not a known time zone.",
-            hint="Use an IANA zone name such as 'America/Denver' or 'Europe/Oslo'.",
-        ) from error

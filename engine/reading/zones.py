@@ -2,15 +2,14 @@
 
 from __future__ import annotations
 
-import zoneinfo
 from dataclasses import dataclass, field
 
 import pandas as pd
 
 from engine import timestamps
-from engine.errors import InputError
 from engine.meters import Finding
 from engine.reading.stamps import ParsedTable
+from engine.zone_names import require_zone
 
 
 @dataclass
@@ -33,22 +32,10 @@ class SiteTime:
         return localized.utc, localized_findings(localized)
 
 
-def validate_timezone(name: str) -> str:
-    """``name`` if it is an IANA zone, else an InputError saying what to give."""
-    try:
-        zoneinfo.ZoneInfo(name)
-    except (zoneinfo.ZoneInfoNotFoundError, ValueError):
-        raise InputError(
-            f"unknown time zone '{name}'.",
-            hint="Give an IANA zone name such as America/Chicago, Europe/Berlin or UTC.",
-        ) from None
-    return name
-
-
 def resolve_site_time(parsed: ParsedTable, timezone: str | None) -> SiteTime:
     """Decide the clock from the stamps and the user's setting; never guess silently."""
     if timezone is not None:
-        validate_timezone(timezone)
+        require_zone(timezone)
     if parsed.has_offsets:
         zone = timezone or "UTC"
         note = "stamps carry UTC offsets" + (
