@@ -27,9 +27,10 @@ from engine.budget.result import (
     Spread,
 )
 from engine.budget.run import simulate_budget
+from engine.budget.scenarios import WeatherScenarios
 from engine.budget.simulate import MeterPaths, PathTotals, simulate_paths
 from engine.budget.summary import summarise, widen
-from engine.budget.weather_paths import WEATHER_KINDS, WeatherAssumption, WeatherScenarios
+from engine.budget.weather_paths import WEATHER_KINDS, WeatherAssumption
 
 __all__ = [
     "WEATHER_KINDS",

@@ -16,7 +16,7 @@ import pandas as pd
 
 from engine.budget.periods import BudgetWindow
 from engine.budget.plan import MeterPlan
-from engine.budget.weather_paths import WeatherScenarios
+from engine.budget.scenarios import WeatherScenarios
 from engine.calendar import label_intervals
 from engine.errors import InputError
 from engine.models.base import ModelInputs, predict_scenarios

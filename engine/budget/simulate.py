@@ -48,7 +48,8 @@ from engine.budget.residuals import (
     model_errors,
     shared_pool,
 )
-from engine.budget.weather_paths import WeatherAssumption, WeatherScenarios, weather_scenarios
+from engine.budget.scenarios import WeatherScenarios
+from engine.budget.weather_paths import WeatherAssumption, weather_scenarios
 from engine.errors import InputError
 from engine.progress import Progress, step
 from engine.tariffs import COST_PARTS, cost_paths

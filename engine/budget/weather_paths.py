@@ -47,7 +47,10 @@ import numpy as np
 import pandas as pd
 
 from engine.bootstrap import stationary_block_length
+from engine.budget.meter_grid import HOUR, MeterGrid
 from engine.budget.periods import BudgetWindow
+from engine.budget.residuals import error_table
+from engine.budget.scenarios import WeatherScenarios
 from engine.errors import InputError
 from engine.weather import fill_hourly, typical_year
 
@@ -131,24 +134,6 @@ class WeatherAssumption:
     @classmethod
     def none(cls) -> WeatherAssumption:
         return cls("none")
-
-
-@dataclass(frozen=True, eq=False)
-class WeatherScenarios:
-    """Hourly °C per scenario on the window's hours (``hourly`` is None without weather).
-
-    ``drawn_days`` (past years only) holds, per scenario and budget day, the past local day
-    whose departures the day took (``datetime64[D]``).
-    """
-
-    names: tuple[str, ...]
-    hourly: np.ndarray | None
-    description: str
-    drawn_days: np.ndarray | None = None
-
-    @property
-    def count(self) -> int:
-        return len(self.names)
 
 
 def _before(temperatures: pd.Series, cut: pd.Timestamp) -> pd.Series:
@@ -248,10 +233,6 @@ def _departure_scenarios(
     count: int,
 ) -> WeatherScenarios:
     """Typical weather plus departures of past days drawn in blocks (see the module notes)."""
-    # Imported here: these modules need this one's scenarios in turn.
-    from engine.budget.meter_grid import HOUR, MeterGrid
-    from engine.budget.residuals import error_table
-
     history = _before(assumption.temperatures, cut)
     if assumption.years is not None:
         earliest = window.start - pd.DateOffset(years=assumption.years) - pd.Timedelta(days=1)

@@ -17,7 +17,7 @@ import pandas as pd
 from engine.budget import BudgetWindow, MeterPlan
 from engine.budget.meter_grid import MeterGrid, predictions, simulation_step
 from engine.budget.periods import local_midnight
-from engine.budget.weather_paths import WeatherScenarios
+from engine.budget.scenarios import WeatherScenarios
 from engine.calendar import CampusCalendar
 from engine.errors import InputError
 from engine.meters import MeterSeries
