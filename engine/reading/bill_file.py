@@ -13,9 +13,10 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from engine import timestamps, units
+from engine import units
 from engine.errors import InputError
 from engine.meters import Finding
+from engine.reading import stamp_cells
 from engine.reading import vocabulary as vocab
 from engine.reading.columns import ColumnFacts, is_numeric_column, is_stamp_column, to_numbers
 from engine.reading.options import ReadOptions
@@ -75,7 +76,7 @@ def _read(path: Path, options: ReadOptions, chosen: ChosenTable) -> BillFile:
         f"{start.header}' and '{end.header}"
     )
     try:
-        parsed = timestamps.parse_stamps(both, dayfirst=options.dayfirst)
+        parsed = stamp_cells.parse_stamps(both, dayfirst=options.dayfirst)
     except InputError as error:
         position = error.place.row
         n = len(data)

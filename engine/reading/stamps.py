@@ -7,9 +7,9 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
-from engine import timestamps
 from engine.errors import InputError
 from engine.meters import Finding
+from engine.reading import stamp_cells
 from engine.reading.columns import ColumnFacts, is_clock_column, is_stamp_column
 from engine.reading.table import Table
 
@@ -65,7 +65,7 @@ def parse_table_stamps(table: Table, columns: StampColumns, dayfirst: bool | Non
     if columns.clock is not None:
         second = data[columns.clock].rename(table.headers[columns.clock])
     try:
-        parsed = timestamps.parse_stamps(
+        parsed = stamp_cells.parse_stamps(
             data[columns.date].rename(header), dayfirst=dayfirst, second=second
         )
     except InputError as error:

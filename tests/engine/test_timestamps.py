@@ -25,12 +25,11 @@ from hypothesis import strategies as st
 from openpyxl.utils.datetime import from_excel
 
 from engine.errors import InputError
+from engine.reading.stamp_cells import from_excel_serial, parse_stamps
 from engine.timestamps import (
     detect_interval,
-    from_excel_serial,
     guess_stamp_convention,
     localize,
-    parse_stamps,
     to_interval_starts,
 )
 
