@@ -9,10 +9,9 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from engine.calendar import read_calendar_file
 from engine.errors import InputError
 from engine.reading.bill_file import BillFile, looks_like_bills, read_bill_file
-from engine.reading.calendar_file import CalendarFile
+from engine.reading.calendar_file import CalendarFile, read_calendar_file
 from engine.reading.columns import is_numeric_column, is_stamp_column
 from engine.reading.meter_file import MeterFile, MeterRead, read_meter_file
 from engine.reading.options import ReadOptions

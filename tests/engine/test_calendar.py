@@ -21,10 +21,10 @@ from engine.calendar import (
     holiday_countries,
     holiday_subdivisions,
     label_intervals,
-    read_calendar_file,
     shift_to_year,
 )
 from engine.errors import InputError
+from engine.reading.calendar_file import read_calendar_file
 
 
 def _hours(first: str, last: str, timezone: str, freq: str = "h") -> pd.DatetimeIndex:
