@@ -9,6 +9,7 @@ Structured values are JSON text.
 from __future__ import annotations
 
 import json
+import math
 import sqlite3
 import time
 from datetime import UTC, datetime, timedelta
@@ -93,6 +94,17 @@ def to_json(value: Any, what: str) -> str:
         return json.dumps(value, allow_nan=False, ensure_ascii=False, default=_plain)
     except (TypeError, ValueError) as error:
         raise ValueError(f"{what} cannot be stored as JSON: {error}") from error
+
+
+def json_records(frame: pd.DataFrame) -> list[dict[str, Any]]:
+    """Rows as plain dicts, NaN as None, for the project file."""
+    return [
+        {
+            key: None if isinstance(value, float) and math.isnan(value) else value
+            for key, value in row.items()
+        }
+        for row in frame.to_dict(orient="records")
+    ]
 
 
 def _plain(value: Any) -> Any:

@@ -19,7 +19,8 @@ from engine.backtest import ACTUAL_WEATHER, NO_WEATHER, BacktestResult, run_back
 from engine.calendar import CampusCalendar, CampusPeriod, label_intervals
 from engine.models._family import ModelFamily
 from engine.models.base import ModelInputs
-from engine.selection import MIN_HISTORY_MONTHS, recommend_model, residual_pattern
+from engine.residual_patterns import residual_pattern
+from engine.selection import MIN_HISTORY_MONTHS, recommend_model
 
 ZONE = "America/Denver"
 
