@@ -42,6 +42,7 @@ import pandas as pd
 from engine.errors import InputError, ProjectError
 from engine.models.base import EnergyModel, ModelInputs
 from engine.progress import Cancelled, Progress, step
+from engine.project.columns import frame_from_columns, frame_to_columns
 from engine.scoring import (
     Scorecard,
     cv_rmse,
@@ -158,34 +159,6 @@ def _named(models: Mapping[str, EnergyModel] | Sequence[EnergyModel]) -> dict[st
     if not named:
         raise ValueError("a backtest needs at least one model")
     return named
-
-
-def _table_to_json(frame: pd.DataFrame) -> dict[str, list[Any]]:
-    """Column lists with NaN as null and timestamps as ISO 8601 text."""
-    columns: dict[str, list[Any]] = {}
-    for name in frame.columns:
-        column = frame[name]
-        if isinstance(column.dtype, pd.DatetimeTZDtype):
-            columns[name] = [stamp.isoformat() for stamp in column]
-        else:
-            columns[name] = [
-                None if isinstance(value, float) and math.isnan(value) else value
-                for value in column.tolist()
-            ]
-    return columns
-
-
-def _table_from_json(columns: dict[str, list[Any]], stamps: tuple[str, ...] = ()) -> pd.DataFrame:
-    """Undo :func:`_table_to_json`; a column of nulls only is read back as NaN numbers."""
-    frame = pd.DataFrame(
-        {
-            name: [math.nan] * len(values) if all(v is None for v in values) else values
-            for name, values in columns.items()
-        }
-    )
-    for name in stamps:
-        frame[name] = pd.to_datetime(frame[name], utc=True)
-    return frame
 
 
 @dataclass(frozen=True)
@@ -314,13 +287,13 @@ class BacktestResult:
                 }
                 for name, i in self.models.items()
             },
-            "fits": _table_to_json(self.fits),
-            "scores": _table_to_json(self.scores),
-            "months": _table_to_json(self.months),
-            "failures": _table_to_json(self.failures),
+            "fits": frame_to_columns(self.fits),
+            "scores": frame_to_columns(self.scores),
+            "months": frame_to_columns(self.months),
+            "failures": frame_to_columns(self.failures),
             "scorecards": [card.to_dict() for card in self.scorecards],
             "forecasts": (
-                _table_to_json(self.forecasts)
+                frame_to_columns(self.forecasts)
                 if include_forecasts and self.forecasts is not None
                 else None
             ),
@@ -334,7 +307,7 @@ class BacktestResult:
                 f"reads layout {FORMAT_VERSION}. Run the backtest again."
             )
         forecasts = data.get("forecasts")
-        fits = _table_from_json(data["fits"])
+        fits = frame_from_columns(data["fits"])
         fits["fitted"] = fits["fitted"].astype(bool)
         return cls(
             timezone=data["timezone"],
@@ -346,11 +319,11 @@ class BacktestResult:
             history_start=pd.Timestamp(data["history_start"]),
             models={name: ModelInfo(**info) for name, info in data["models"].items()},
             fits=fits,
-            scores=_table_from_json(data["scores"]),
-            months=_table_from_json(data["months"]),
-            failures=_table_from_json(data["failures"]),
+            scores=frame_from_columns(data["scores"]),
+            months=frame_from_columns(data["months"]),
+            failures=frame_from_columns(data["failures"]),
             scorecards=tuple(Scorecard.from_dict(card) for card in data["scorecards"]),
-            forecasts=None if forecasts is None else _table_from_json(forecasts, ("start",)),
+            forecasts=None if forecasts is None else frame_from_columns(forecasts, ("start",)),
         )
 
 

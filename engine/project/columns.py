@@ -107,6 +107,34 @@ def json_records(frame: pd.DataFrame) -> list[dict[str, Any]]:
     ]
 
 
+def frame_to_columns(frame: pd.DataFrame) -> dict[str, list[Any]]:
+    """A table as JSON-ready column lists: NaN as null, time stamps as ISO 8601 text."""
+    columns: dict[str, list[Any]] = {}
+    for name in frame.columns:
+        column = frame[name]
+        if isinstance(column.dtype, pd.DatetimeTZDtype):
+            columns[name] = [stamp.isoformat() for stamp in column]
+        else:
+            columns[name] = [
+                None if isinstance(value, float) and math.isnan(value) else value
+                for value in column.tolist()
+            ]
+    return columns
+
+
+def frame_from_columns(columns: dict[str, list[Any]], stamps: tuple[str, ...] = ()) -> pd.DataFrame:
+    """Undo :func:`frame_to_columns`; a column of nulls only is read back as NaN numbers."""
+    frame = pd.DataFrame(
+        {
+            name: [math.nan] * len(values) if all(v is None for v in values) else values
+            for name, values in columns.items()
+        }
+    )
+    for name in stamps:
+        frame[name] = pd.to_datetime(frame[name], utc=True)
+    return frame
+
+
 def _plain(value: Any) -> Any:
     if isinstance(value, np.generic):
         return value.item()
