@@ -27,6 +27,15 @@ RANGE_WIDTH = 0.5
 LABEL_EVERY = 3
 
 
+def month_ticks(months: list[str]) -> list[list[tuple[float, str]]]:
+    """Month labels for a bottom axis at 0, 1, 2, ...: those always written, then those
+    written where they fit (pyqtgraph writes the first level always and the next only where it
+    leaves room, so a fiscal year on a laptop screen shows every third month, not a smudge)."""
+    ticks = [(float(i), month) for i, month in enumerate(months)]
+    always = ticks[::LABEL_EVERY]
+    return [always, [tick for tick in ticks if tick not in always]]
+
+
 class BudgetRangePanel(PlotPanel):
     """Monthly P50, the P-low–P-high band and the actual to date of the thing picked."""
 
@@ -90,11 +99,7 @@ class BudgetRangePanel(PlotPanel):
         actual = np.array([m.actual_to_date for m in item.months])
         under_way = actual > 0
         self.to_date.setData(x[under_way], actual[under_way])
-        ticks = [(float(i), m.period) for i, m in enumerate(item.months)]
-        # pyqtgraph writes the first level always and the next only where it leaves room, so
-        # a fiscal year on a laptop screen shows every third month instead of a smudge.
-        always = ticks[::LABEL_EVERY]
-        self.month_labels = [always, [tick for tick in ticks if tick not in always]]
+        self.month_labels = month_ticks([m.period for m in item.months])
         self.plot.getAxis("bottom").setTicks(self.month_labels)
         self.plot.setXRange(-0.5, len(x) - 0.5, padding=0.02)
         self.plot.enableAutoRange(axis="y")
