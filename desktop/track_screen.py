@@ -307,10 +307,15 @@ def _year_end_html(report: dict, end: YearEnd) -> str:
         parts.append("<p>No outlook was made (the cautions below say why).</p>")
     else:
         change = end.change
+        side = f"{abs(change):,.0f} kWh{_share(change, end.adopted['50'])} " + (
+            "above the adopted P50" if change >= 0 else "below the adopted P50"
+        )
         parts.append(
-            f"<p>Actual to date {end.actual_to_date:,.0f} kWh plus a fresh forecast of the rest:"
-            f" the outlook's P50 is {abs(change):,.0f} kWh{_share(change, end.adopted['50'])} "
-            f"{'above' if change >= 0 else 'below'} the adopted P50.</p>"
+            f"<p>Every month is complete: the year came in at {end.actual_to_date:,.0f} kWh, "
+            f"{side}.</p>"
+            if end.over
+            else f"<p>Actual to date {end.actual_to_date:,.0f} kWh plus a fresh forecast of the "
+            f"rest: the outlook's P50 is {side}.</p>"
         )
     return "".join(parts)
 

@@ -115,7 +115,8 @@ class YearEnd:
 
     ``adopted`` and ``outlook`` hold the P-levels (keys "10", "50", ...) of energy in kWh,
     ``*_cost`` the same in money where the budget was priced; ``outlook`` is None when the
-    outlook could not be made (the report's cautions say why).
+    outlook could not be made (the report's cautions say why). ``over``: every month is
+    complete, so the outlook is the actual.
     """
 
     adopted: dict[str, float]
@@ -123,6 +124,7 @@ class YearEnd:
     actual_to_date: float | None
     adopted_cost: dict[str, float] | None
     outlook_cost: dict[str, float] | None
+    over: bool
 
     @property
     def change(self) -> float | None:
@@ -139,6 +141,7 @@ def year_end(item: Tracked) -> YearEnd:
         actual_to_date=outlook["actual_to_date"] if outlook else None,
         adopted_cost=_cost_levels(adopted),
         outlook_cost=_cost_levels(outlook) if outlook else None,
+        over=all(month["complete"] for month in item.months),
     )
 
 

@@ -102,10 +102,13 @@ class TrackingPanel(PlotPanel):
         self.plot.setXRange(-0.5, len(x) - 0.5, padding=0.02)
         self.plot.enableAutoRange(axis="y")
         self.set_key(self._key(low, high, under_way.any(), outside.any()))
-        self._show_plot(
+        caption = (
             f"Energy per month in kWh. The bar is the range adopted for the month (P{low} to "
-            f"P{high}), the dot its P50; a month under way shows its actual and P50 to date."
+            f"P{high}), the dot its P50"
         )
+        if under_way.any():
+            caption += "; the month under way shows its actual and P50 to date"
+        self._show_plot(caption + ".")
 
     def _draw_outlook(self, item: Tracked, ahead: np.ndarray) -> None:
         """The outlook's P50 of the months not yet complete (the month under way whole)."""

@@ -41,6 +41,8 @@ def _table() -> QTableWidget:
     table.verticalHeader().hide()
     table.setWordWrap(False)
     table.horizontalHeader().setSectionResizeMode(QHeaderView.ResizeMode.ResizeToContents)
+    # rows one line high, so a fiscal year's twelve months fit a laptop screen
+    table.verticalHeader().setDefaultSectionSize(table.fontMetrics().height() + 8)
     return table
 
 
