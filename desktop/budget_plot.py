@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import numpy as np
 import pyqtgraph as pg
+from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QHBoxLayout, QLabel, QWidget
 
 from desktop.budget_table import item_title
@@ -25,6 +26,32 @@ RANGE_ALPHA = "55"
 RANGE_WIDTH = 0.5
 #: Every this many months a label is always written; those between only where they fit.
 LABEL_EVERY = 3
+
+
+def range_bars() -> pg.BarGraphItem:
+    """Floating bars, one per month, from its lowest to its highest P-level (set with
+    ``setOpts(x=, y0=, height=)``)."""
+    return pg.BarGraphItem(
+        x=[],
+        y0=[],
+        height=[],
+        width=RANGE_WIDTH,
+        brush=pg.mkBrush(MEDIAN_COLOUR + RANGE_ALPHA),
+        pen=pg.mkPen(MEDIAN_COLOUR, width=1),
+    )
+
+
+def marked_line(
+    colour: str, symbol: str, size: int, style: Qt.PenStyle = Qt.PenStyle.SolidLine
+) -> pg.PlotDataItem:
+    """A line through the months with a filled ``symbol`` at each."""
+    return pg.PlotDataItem(
+        pen=pg.mkPen(colour, width=2, style=style),
+        symbol=symbol,
+        symbolSize=size,
+        symbolBrush=colour,
+        symbolPen=None,
+    )
 
 
 def month_ticks(months: list[str]) -> list[list[tuple[float, str]]]:
@@ -49,21 +76,8 @@ class BudgetRangePanel(PlotPanel):
         row.addWidget(self.pick)
         row.addStretch(1)
         self.layout().insertLayout(1, row)
-        self.ranges = pg.BarGraphItem(
-            x=[],
-            y0=[],
-            height=[],
-            width=RANGE_WIDTH,
-            brush=pg.mkBrush(MEDIAN_COLOUR + RANGE_ALPHA),
-            pen=pg.mkPen(MEDIAN_COLOUR, width=1),
-        )
-        self.median = pg.PlotDataItem(
-            pen=pg.mkPen(MEDIAN_COLOUR, width=2),
-            symbol="o",
-            symbolSize=8,
-            symbolBrush=MEDIAN_COLOUR,
-            symbolPen=None,
-        )
+        self.ranges = range_bars()
+        self.median = marked_line(MEDIAN_COLOUR, "o", 8)
         self.to_date = pg.ScatterPlotItem(
             symbol="d", size=11, brush=pg.mkBrush(TO_DATE_COLOUR), pen=None
         )

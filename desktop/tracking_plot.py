@@ -13,7 +13,7 @@ import pyqtgraph as pg
 from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QWidget
 
-from desktop.budget_plot import MEDIAN_COLOUR, RANGE_ALPHA, RANGE_WIDTH, month_ticks
+from desktop.budget_plot import MEDIAN_COLOUR, marked_line, month_ticks, range_bars
 from desktop.palette import FIT_LINE, SERIES_CYCLE
 from desktop.plot_panel import PlotPanel
 from desktop.tracking_jobs import Tracked
@@ -24,6 +24,13 @@ OUTLOOK_COLOUR = SERIES_CYCLE[2]
 OUTSIDE_COLOUR = FIT_LINE
 
 
+def _hollow(symbol: str, size: int, colour: str, width: int = 2) -> pg.ScatterPlotItem:
+    """Marks drawn as outlines only."""
+    return pg.ScatterPlotItem(
+        symbol=symbol, size=size, brush=None, pen=pg.mkPen(colour, width=width)
+    )
+
+
 class TrackingPanel(PlotPanel):
     """Adopted P50 and range, the actuals, and the outlook of the months still to come."""
 
@@ -31,44 +38,13 @@ class TrackingPanel(PlotPanel):
         super().__init__(
             "Actual against the adopted range", "budget month", "energy (kWh)", parent=parent
         )
-        self.ranges = pg.BarGraphItem(
-            x=[],
-            y0=[],
-            height=[],
-            width=RANGE_WIDTH,
-            brush=pg.mkBrush(MEDIAN_COLOUR + RANGE_ALPHA),
-            pen=pg.mkPen(MEDIAN_COLOUR, width=1),
-        )
-        self.median = pg.PlotDataItem(
-            pen=pg.mkPen(MEDIAN_COLOUR, width=2),
-            symbol="o",
-            symbolSize=7,
-            symbolBrush=MEDIAN_COLOUR,
-            symbolPen=None,
-        )
-        self.actual = pg.PlotDataItem(
-            pen=pg.mkPen(ACTUAL_COLOUR, width=2),
-            symbol="s",
-            symbolSize=9,
-            symbolBrush=ACTUAL_COLOUR,
-            symbolPen=None,
-        )
-        self.to_date = pg.ScatterPlotItem(
-            symbol="s", size=10, brush=None, pen=pg.mkPen(ACTUAL_COLOUR, width=2)
-        )
-        self.budget_to_date = pg.ScatterPlotItem(
-            symbol="_", size=26, brush=None, pen=pg.mkPen(MEDIAN_COLOUR, width=3)
-        )
-        self.outside = pg.ScatterPlotItem(
-            symbol="o", size=20, brush=None, pen=pg.mkPen(OUTSIDE_COLOUR, width=2)
-        )
-        self.outlook = pg.PlotDataItem(
-            pen=pg.mkPen(OUTLOOK_COLOUR, width=2, style=Qt.PenStyle.DashLine),
-            symbol="t",
-            symbolSize=8,
-            symbolBrush=OUTLOOK_COLOUR,
-            symbolPen=None,
-        )
+        self.ranges = range_bars()
+        self.median = marked_line(MEDIAN_COLOUR, "o", 7)
+        self.actual = marked_line(ACTUAL_COLOUR, "s", 9)
+        self.to_date = _hollow("s", 10, ACTUAL_COLOUR)
+        self.budget_to_date = _hollow("_", 26, MEDIAN_COLOUR, width=3)
+        self.outside = _hollow("o", 20, OUTSIDE_COLOUR)
+        self.outlook = marked_line(OUTLOOK_COLOUR, "t", 8, Qt.PenStyle.DashLine)
         for item in (self.ranges, self.median, self.outlook, self.actual, self.budget_to_date):
             self.plot.addItem(item)
         self.plot.addItem(self.to_date)
