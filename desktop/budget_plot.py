@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import numpy as np
 import pyqtgraph as pg
+from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QHBoxLayout, QLabel, QWidget
 
 from desktop.budget_table import item_title
@@ -27,6 +28,41 @@ RANGE_WIDTH = 0.5
 LABEL_EVERY = 3
 
 
+def range_bars() -> pg.BarGraphItem:
+    """Floating bars, one per month, from its lowest to its highest P-level (set with
+    ``setOpts(x=, y0=, height=)``)."""
+    return pg.BarGraphItem(
+        x=[],
+        y0=[],
+        height=[],
+        width=RANGE_WIDTH,
+        brush=pg.mkBrush(MEDIAN_COLOUR + RANGE_ALPHA),
+        pen=pg.mkPen(MEDIAN_COLOUR, width=1),
+    )
+
+
+def marked_line(
+    colour: str, symbol: str, size: int, style: Qt.PenStyle = Qt.PenStyle.SolidLine
+) -> pg.PlotDataItem:
+    """A line through the months with a filled ``symbol`` at each."""
+    return pg.PlotDataItem(
+        pen=pg.mkPen(colour, width=2, style=style),
+        symbol=symbol,
+        symbolSize=size,
+        symbolBrush=colour,
+        symbolPen=None,
+    )
+
+
+def month_ticks(months: list[str]) -> list[list[tuple[float, str]]]:
+    """Month labels for a bottom axis at 0, 1, 2, ...: those always written, then those
+    written where they fit (pyqtgraph writes the first level always and the next only where it
+    leaves room, so a fiscal year on a laptop screen shows every third month, not a smudge)."""
+    ticks = [(float(i), month) for i, month in enumerate(months)]
+    always = ticks[::LABEL_EVERY]
+    return [always, [tick for tick in ticks if tick not in always]]
+
+
 class BudgetRangePanel(PlotPanel):
     """Monthly P50, the P-low–P-high band and the actual to date of the thing picked."""
 
@@ -40,21 +76,8 @@ class BudgetRangePanel(PlotPanel):
         row.addWidget(self.pick)
         row.addStretch(1)
         self.layout().insertLayout(1, row)
-        self.ranges = pg.BarGraphItem(
-            x=[],
-            y0=[],
-            height=[],
-            width=RANGE_WIDTH,
-            brush=pg.mkBrush(MEDIAN_COLOUR + RANGE_ALPHA),
-            pen=pg.mkPen(MEDIAN_COLOUR, width=1),
-        )
-        self.median = pg.PlotDataItem(
-            pen=pg.mkPen(MEDIAN_COLOUR, width=2),
-            symbol="o",
-            symbolSize=8,
-            symbolBrush=MEDIAN_COLOUR,
-            symbolPen=None,
-        )
+        self.ranges = range_bars()
+        self.median = marked_line(MEDIAN_COLOUR, "o", 8)
         self.to_date = pg.ScatterPlotItem(
             symbol="d", size=11, brush=pg.mkBrush(TO_DATE_COLOUR), pen=None
         )
@@ -90,11 +113,7 @@ class BudgetRangePanel(PlotPanel):
         actual = np.array([m.actual_to_date for m in item.months])
         under_way = actual > 0
         self.to_date.setData(x[under_way], actual[under_way])
-        ticks = [(float(i), m.period) for i, m in enumerate(item.months)]
-        # pyqtgraph writes the first level always and the next only where it leaves room, so
-        # a fiscal year on a laptop screen shows every third month instead of a smudge.
-        always = ticks[::LABEL_EVERY]
-        self.month_labels = [always, [tick for tick in ticks if tick not in always]]
+        self.month_labels = month_ticks([m.period for m in item.months])
         self.plot.getAxis("bottom").setTicks(self.month_labels)
         self.plot.setXRange(-0.5, len(x) - 0.5, padding=0.02)
         self.plot.enableAutoRange(axis="y")

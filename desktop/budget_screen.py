@@ -51,6 +51,8 @@ class BudgetScreen(TaskScreen):
     """Budget the open project's meters and show the run."""
 
     budget_changed = Signal(object)
+    #: A budget was adopted (its name): the Track step lists it.
+    adopted_budget = Signal(str)
 
     def __init__(self, session: Session, parent: QWidget | None = None) -> None:
         super().__init__(parent)
@@ -234,10 +236,11 @@ class BudgetScreen(TaskScreen):
             return
         self._list_adopted(project)
         self.notice.say(
-            f"Adopted as '{name}' in {project.path.name}: track the year against it with "
-            f"loadledger track. Choose it under 'Adopted budgets' to see it again.",
+            f"Adopted as '{name}' in {project.path.name}: track the year against it on the "
+            f"Track step. Choose it under 'Adopted budgets' to see it again.",
             "done",
         )
+        self.adopted_budget.emit(name)
 
     def _adopted_chosen(self, position: int) -> None:
         project = self.session.project

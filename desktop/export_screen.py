@@ -20,7 +20,7 @@ from PySide6.QtWidgets import (
 )
 
 from desktop.budget_jobs import period_words
-from desktop.file_dialogs import ask_save_path
+from desktop.file_dialogs import ask_workbook_path
 from desktop.task_screen import TaskScreen
 from engine.budgeting import ProjectBudget
 from engine.export.finance_workbook import SHEETS, write_finance_workbook
@@ -124,14 +124,8 @@ class ExportScreen(TaskScreen):
 
     def ask_path(self) -> None:
         """Ask where to write the workbook, then write it."""
-        answer = ask_save_path(
-            self, "workbooks", "Write finance workbook", "Excel workbooks (*.xlsx)", WORKBOOK_NAME
-        )
-        if answer is not None:
-            path = answer[0]
-            # A name typed without the extension gets it, as a save dialog's filter promises.
-            if path.suffix.lower() != ".xlsx":
-                path = path.with_name(path.name + ".xlsx")
+        path = ask_workbook_path(self, "Write finance workbook", WORKBOOK_NAME)
+        if path is not None:
             self.write_to(path)
 
     def write_to(self, path: Path) -> None:

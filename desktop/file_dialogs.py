@@ -32,3 +32,13 @@ def ask_save_path(
         return None
     remember_folder(settings, purpose, chosen)
     return Path(chosen), picked
+
+
+def ask_workbook_path(parent: QWidget, title: str, name: str) -> Path | None:
+    """Ask where to write an Excel workbook, suggesting ``name``; a name typed without the
+    extension gets ".xlsx", as the dialog's filter promises. None when the person cancels."""
+    answer = ask_save_path(parent, "workbooks", title, "Excel workbooks (*.xlsx)", name)
+    if answer is None:
+        return None
+    path = answer[0]
+    return path if path.suffix.lower() == ".xlsx" else path.with_name(path.name + ".xlsx")

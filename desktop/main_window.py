@@ -32,6 +32,7 @@ from desktop.patterns_screen import PatternsScreen
 from desktop.preferences import RecentProjects, stored_settings
 from desktop.recent_list import RecentList
 from desktop.session import Session
+from desktop.track_screen import TrackScreen
 from engine.budgeting import ProjectBudget
 from engine.checklist import checklist
 from engine.errors import ProjectError
@@ -44,6 +45,7 @@ STEPS = (
     ("Models", "Fit explainable models and compare their backtests."),
     ("Budget", "Monthly totals with P10/P50/P90 and cost."),
     ("Export", "Write the workbook for finance."),
+    ("Track", "An adopted budget against the actuals, month by month, and the year-end."),
 )
 STEP_NAMES = tuple(name for name, _ in STEPS)
 APP_NAME = "Loadledger"
@@ -69,11 +71,15 @@ class MainWindow(QMainWindow):
         self.models_screen = ModelsScreen(self.session)
         self.budget_screen = BudgetScreen(self.session)
         self.export_screen = ExportScreen()
+        self.track_screen = TrackScreen(self.session)
         self.cleaning_screen.log_changed.connect(self.patterns_screen.meter_cleaned)
         self.cleaning_screen.log_changed.connect(lambda _meter: self.show_guide())
         self.budget_screen.budget_changed.connect(self._budget_to_export)
         self.budget_screen.budget_changed.connect(self._budget_changed)
         self.export_screen.budget_asked.connect(lambda: self.show_step("Budget"))
+        self.track_screen.budget_asked.connect(lambda: self.show_step("Budget"))
+        self.budget_screen.adopted_budget.connect(lambda _name: self.track_screen.list_adopted())
+        self.budget_screen.adopted_budget.connect(lambda _name: self.show_guide())
         built = {
             "Files": self.files_screen,
             "Cleaning": self.cleaning_screen,
@@ -81,6 +87,7 @@ class MainWindow(QMainWindow):
             "Models": self.models_screen,
             "Budget": self.budget_screen,
             "Export": self.export_screen,
+            "Track": self.track_screen,
         }
         self.steps = QListWidget()
         self.steps.addItems(list(STEP_NAMES))
@@ -295,6 +302,7 @@ class MainWindow(QMainWindow):
             self.models_screen,
             self.budget_screen,
             self.export_screen,
+            self.track_screen,
         )
 
     def _restore_layout(self) -> None:

@@ -24,7 +24,7 @@ class StepState:
 
 
 def checklist(project: Project | None) -> list[StepState]:
-    """The state of each step (Files, Cleaning, Patterns, Models, Budget, Export)."""
+    """The state of each step (Files, Cleaning, Patterns, Models, Budget, Export, Track)."""
     if project is None:
         return [
             StepState(
@@ -35,7 +35,7 @@ def checklist(project: Project | None) -> list[StepState]:
             ),
             *(
                 StepState(step, False, "", "Open or create a project first.")
-                for step in ("Cleaning", "Patterns", "Models", "Budget", "Export")
+                for step in ("Cleaning", "Patterns", "Models", "Budget", "Export", "Track")
             ),
         ]
     meters = project.meter_names()
@@ -43,6 +43,7 @@ def checklist(project: Project | None) -> list[StepState]:
     models = project.result_counts("model")
     modelled = [name for name in meters if models.get(name)]
     budgets = sum(project.result_counts("budget").values())
+    adopted = project.adopted_budget_names()
     missing = len(meters) - len(modelled)
     return [
         StepState(
@@ -78,7 +79,27 @@ def checklist(project: Project | None) -> list[StepState]:
             "Budget",
             bool(budgets),
             f"{counted(budgets, 'budget')} kept in the project.",
-            "Choose the period and press 'Budget'." if not budgets else "Write it for finance.",
+            "Choose the period and press 'Budget'."
+            if not budgets
+            else "Write it for finance; adopt it ('Adopt…') to track the year against it.",
         ),
         StepState("Export", False, "", "Write the finance workbook."),
+        _track_state(adopted),
     ]
+
+
+def _track_state(adopted: list[str]) -> StepState:
+    """Tracking needs an adopted budget; it keeps nothing, so the step is never ticked."""
+    if not adopted:
+        return StepState(
+            "Track",
+            False,
+            "No budget adopted yet: nothing to track.",
+            "Adopt a budget on the Budget step ('Adopt…'), then track it here.",
+        )
+    return StepState(
+        "Track",
+        False,
+        f"{counted(len(adopted), 'adopted budget')}: {', '.join(adopted)}.",
+        "Choose the budget and the readings' date, then press 'Track'.",
+    )
