@@ -553,14 +553,17 @@ def _reading_cautions(
     status: list[str],
     window: BudgetWindow,
 ) -> list[str]:
-    """A caution per counted month whose readings are short of its intervals."""
+    """A caution per counted month whose readings are short of its intervals.
+
+    Only days short of their intervals count: a day holding more readings than intervals
+    (a repeated stamp) does not make up for another day's gap.
+    """
     month_of_day = window.month_of_day()
-    short = readings["readings"].to_numpy() < expected.to_numpy()
+    shortfall = np.clip(expected.to_numpy() - readings["readings"].to_numpy(), 0, None)
     cautions = []
     for number, state in enumerate(status):
-        inside = month_of_day == number
-        if state == COMPLETE and short[inside].any():
-            missing = int((expected.to_numpy() - readings["readings"].to_numpy())[inside].sum())
+        missing = int(shortfall[month_of_day == number].sum())
+        if state == COMPLETE and missing > 0:
             cautions.append(
                 f"Meter '{name}' misses {missing} reading(s) in {window.months[number]}: its "
                 "actual there is the sum of the readings it has, so it is low by what the "

@@ -25,6 +25,7 @@ import openpyxl
 import pandas as pd
 import pytest
 
+from engine.budget.periods import BudgetWindow
 from engine.budgeting import budget_project, budget_request
 from engine.errors import InputError
 from engine.export.tracking_workbook import write_tracking_workbook
@@ -33,7 +34,8 @@ from engine.modelling import fit_meter
 from engine.project import Project
 from engine.reading import ReadOptions
 from engine.tracking import adopt_budget, track_budget
-from engine.tracking.track import COMPLETE, NOT_BEGUN, UNDER_WAY
+from engine.tracking.actuals import expected_readings
+from engine.tracking.track import COMPLETE, NOT_BEGUN, UNDER_WAY, _reading_cautions
 from tests.cli.cli_support import write_hall_and_boiler
 
 RATE_CARD = Path(__file__).parents[2] / "sample/tariffs/orrinvale-main-electric.ratecard.toml"
@@ -306,3 +308,15 @@ def test_months_the_budget_already_knew_show_no_variance_and_no_weather_effect(c
             assert month["weather_kwh"] == 0.0
             assert month["usage_kwh"] == month["variance_kwh"]
         assert tracked["weather_kwh"] < 0  # the warm January
+
+
+def test_a_day_with_extra_readings_does_not_hide_another_days_gap() -> None:
+    """A repeated stamp on one day must not cancel the count of readings missing on another."""
+    window = BudgetWindow.of(["2026-01", "2026-02"], "America/Chicago")
+    expected = expected_readings(window, pd.Timedelta(hours=1))
+    readings = pd.DataFrame({"readings": expected.to_numpy().copy()}, index=window.days)
+    readings.iloc[3, 0] -= 5  # 5 hours missing on 4 January
+    readings.iloc[4, 0] += 30  # 30 extra readings on 5 January
+    cautions = _reading_cautions("Hall", readings, expected, [COMPLETE, COMPLETE], window)
+    assert len(cautions) == 1
+    assert "misses 5 reading(s) in 2026-01" in cautions[0]
