@@ -15,6 +15,7 @@ import numpy as np
 import pandas as pd
 
 from engine.backtest import BacktestResult, backtest_origins
+from engine.errors import InputError
 from engine.models import MODEL_FAMILIES
 from engine.prepared_site import ReadyMeter
 from engine.selection import EXPLAINABLE_MARGIN
@@ -98,8 +99,9 @@ class ReadingsBrief:
             )
         every = _interval_words(self.meter_interval)
         if self.left_out:
+            days = self.excluded * self.meter_interval / _DAY
             lines.append(
-                f"The cleaning log leaves {counted(self.excluded, every)} out: "
+                f"The cleaning log leaves {counted(self.excluded, every)} ({days:,.1f} days) out: "
                 + "; ".join(part.words() for part in self.left_out)
                 + "."
             )
@@ -127,7 +129,10 @@ def readings_brief(ready: ReadyMeter) -> ReadingsBrief:
     inputs = ready.inputs
     usable = inputs.energy.notna().to_numpy() if inputs.energy is not None else None
     if usable is None or not usable.any():
-        raise ValueError(f"meter '{ready.name}' has no usable readings")
+        raise InputError(
+            f"meter '{ready.name}' has no readings left to learn from.",
+            hint="Undo the cleaning steps that remove or exclude all of its readings.",
+        )
     positions = np.flatnonzero(usable)
     local = inputs.index.tz_convert(inputs.timezone)
     first, last = local[positions[0]], local[positions[-1]]
@@ -215,14 +220,15 @@ def family_notes(
 
 
 def ranking_sentence(choice: dict, backtest: BacktestResult | None = None) -> str:
-    """The recommendation in one sentence, with the numbers the ranking holds.
+    """The wizard's recommendation in one sentence, with the numbers the ranking holds.
 
     "Calendar regression: month totals within 3.1 % on 12 past months, best of 5; the
     benchmark 'seasonal naive benchmark' was 7.9 %." ``choice`` is a stored
-    ``ModelChoice.to_dict()``; ``backtest`` gives the number of months scored.
+    ``ModelChoice.to_dict()`` (after a choice by hand, the sentence is still about the
+    recommended model); ``backtest`` gives the number of months scored.
     """
     ranking = pd.DataFrame(choice["ranking"])
-    chosen = choice["chosen"]
+    chosen = recommended(choice)
     if chosen is None or ranking.empty:
         return "No model could be scored, so none is recommended."
     scored = ranking[ranking["month-total MAPE %"].notna()]

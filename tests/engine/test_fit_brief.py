@@ -67,7 +67,7 @@ def test_the_readings_brief_counts_what_the_models_learn_from(cleaned_site):
     assert brief.weather == pytest.approx(known, abs=1e-12)
     words = " ".join(brief.lines())
     assert f"{len(usable):,} hourly readings on 724 days" in words
-    assert "2025-02-03 to 2025-02-09: left out of fitting (plant closed)" in words
+    assert "leaves 168 hours (7.0 days) out: 2025-02-03 to 2025-02-09: left out of fitting" in words
     assert "2025-03-01 06:00 to 2025-03-01 17:59: readings removed" in words
     assert f"{100 * known:.1f} %" in words
     # The backtest forecasts the last whole months, each from the readings before it.
@@ -123,6 +123,7 @@ def test_the_ranking_sentence_carries_the_rankings_numbers(new_site, tmp_path):
         _, by_hand = use_ranked_model(project, "Hall", other)
         assert recommended(by_hand) == first and by_hand["chosen"] == other
         assert by_hand["diagnostics"] is None
+        assert ranking_sentence(by_hand, outcome.backtest) == sentence  # still the wizard's
         assert re.match(r".* was chosen by hand over the recommended ", by_hand["reasons"][0])
         _, again = use_ranked_model(project, "Hall", first)
         assert again == choice and recommended(again) == first
