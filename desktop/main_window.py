@@ -74,6 +74,8 @@ class MainWindow(QMainWindow):
         self.budget_screen.budget_changed.connect(self._budget_to_export)
         self.budget_screen.budget_changed.connect(self._budget_changed)
         self.export_screen.budget_asked.connect(lambda: self.show_step("Budget"))
+        self.models_screen.accepted.connect(lambda _meter: self.show_step("Budget"))
+        self.models_screen.model_kept.connect(lambda _meter: self.show_guide())
         built = {
             "Files": self.files_screen,
             "Cleaning": self.cleaning_screen,
