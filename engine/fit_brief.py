@@ -232,14 +232,17 @@ def ranking_sentence(choice: dict, backtest: BacktestResult | None = None) -> st
     if chosen is None or ranking.empty:
         return "No model could be scored, so none is recommended."
     scored = ranking[ranking["month-total MAPE %"].notna()]
+    stopped = scored["model"].map(lambda m: bool(backtest and backtest.stopped(m)))
     row = ranking.set_index("model").loc[chosen]
     months = _months_scored(backtest, chosen, choice["condition"])
     over = f" on {counted(months, 'past month')}" if months else ""
     place = "best" if int(row["rank"]) == 1 else f"{_ordinal(int(row['rank']))}"
     sentence = (
         f"{_capital(row['name'])}: month totals within {row['month-total MAPE %']:.1f} %"
-        f"{over} ({choice['condition']}), {place} of {len(scored)}"
+        f"{over} ({choice['condition']}), {place} of {int((~stopped).sum())}"
     )
+    if stopped.any():
+        sentence += f"; {counted(int(stopped.sum()), 'model')} stopped early, unable to win"
     benchmark = _benchmark_row(scored, chosen)
     if benchmark is not None:
         sentence += (

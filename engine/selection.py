@@ -41,6 +41,7 @@ from engine.backtest import (
     BacktestResult,
 )
 from engine.scoring import GUIDELINE14_LIMITS, Scorecard, total_by
+from engine.words import counted
 
 #: Months of history the first backtest origin needs for annual effects (see module notes).
 MIN_HISTORY_MONTHS = 12
@@ -351,7 +352,7 @@ def _ranking_table(result: BacktestResult, condition: str) -> pd.DataFrame:
             meets = actual_card.meets_guideline14 if actual_card is not None else False
             reason = _sentence(
                 f"{info.label}: month totals off by {mape:.1f} % on average over "
-                f"{card.months} months ({condition}); {resolution} CV(RMSE) {cv:.1f} %, "
+                f"{counted(card.months, 'month')} ({condition}); {resolution} CV(RMSE) {cv:.1f} %, "
                 f"NMBE {bias:+.1f} %" + (f"; {failure}" if failure else "") + "."
             )
         rows.append(
