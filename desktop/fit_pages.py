@@ -263,12 +263,7 @@ class RankingPage(QWidget):
         if report.residuals:
             self.residuals.show_residuals(report.residuals, report.residual_condition)
         else:
-            self.residuals.show_note(
-                "No residual diagnostics: they describe the recommended model, and a model "
-                "chosen by hand has none until it is fitted and compared again."
-                if report.chosen is not None
-                else "No residual diagnostics: no model was chosen."
-            )
+            self.residuals.show_note("No residual diagnostics: no model was recommended.")
 
 
 class ChoicePage(QWidget):

@@ -64,8 +64,9 @@ class ModelReport:
 
     ``ranking`` is the engine's ranking table; ``coefficients`` the chosen model's statements
     in physical units, or how it forecasts (None, with ``coefficients_note``, without a model);
-    ``residuals`` maps each of :data:`RESIDUAL_GROUPINGS` to residual % by group (the
-    engine's words on the largest systematic miss are among the ``reasons``).
+    ``residuals`` maps each of :data:`RESIDUAL_GROUPINGS` to the recommended model's
+    residual % by group (the engine's words on its largest systematic miss are among the
+    ``reasons``).
     ``kept`` says when and where the model was stored; ``backtest`` is the engine's backtest
     (per-interval forecasts only when just fitted: the project keeps month totals).
     ``recommended`` is the wizard's own choice (``chosen`` differs after a choice by hand)
@@ -192,11 +193,12 @@ def _report(
     )
     if chosen is None:
         return report
-    diagnostics = choice.get("diagnostics") or {}
+    # The residual diagnostics are the recommended model's (kept aside after a hand choice).
+    diagnostics = (choice.get("recommendation") or choice).get("diagnostics") or {}
     report.residual_condition = diagnostics.get("weather") or choice["condition"]
     _add_coefficients(report, model)
     _add_trace(report, backtest)
-    _add_residuals(report, choice.get("diagnostics"))
+    _add_residuals(report, diagnostics)
     return report
 
 

@@ -150,6 +150,7 @@ def test_a_first_fit_walks_through_five_pages_to_the_budget(
     assert screen.report.chosen == other and screen.page() == CHOICE
     assert "chosen by hand over the recommended" in screen.choice_page.words.text()
     assert sentence in screen.why.toPlainText()  # the ranking still names the recommendation
+    assert screen.residuals.showing_plot  # and shows where the recommended model misses
     _check_statements(screen, path)
     _select(screen, recommended)
     screen.use_button.click()
