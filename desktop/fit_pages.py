@@ -42,6 +42,13 @@ PAGES = (
     ("Choice", "Your choice, and what the model says"),
 )
 _QUIET = "color: #5a5f66;"
+#: What the walk-through does next, said once on its first page.
+AHEAD = (
+    "<p><b>What happens next.</b> On page 2 you choose the kinds of model to compare. Page 3 "
+    "tests each one on past months it did not see, as if you had budgeted then. Page 4 ranks "
+    "them in plain words and names the one recommended; page 5 keeps it (or the one you "
+    "prefer) for the Budget step and says what it learned, in physical units.</p>"
+)
 
 
 def _browser() -> QTextBrowser:
@@ -111,7 +118,7 @@ class ReadingsPage(QWidget):
         )
 
     def show_brief(self, brief: ReadingsBrief) -> None:
-        self.text.setHtml(_bullets(brief.lines()))
+        self.text.setHtml(_bullets(brief.lines()) + AHEAD)
 
     def show_words(self, words: str) -> None:
         self.text.setHtml(f"<p>{escape(words)}</p>")
