@@ -64,6 +64,30 @@ def _quiet_label(words: str = "") -> QLabel:
     return label
 
 
+def _stacked(owner: QWidget | None, grow: int, *parts: QWidget | QHBoxLayout) -> QWidget:
+    """``parts`` one above the other in ``owner`` (a new widget when None), edge to edge;
+    part number ``grow`` takes the spare height."""
+    widget = owner if owner is not None else QWidget()
+    column = QVBoxLayout(widget)
+    column.setContentsMargins(0, 0, 0, 0)
+    for number, part in enumerate(parts):
+        if isinstance(part, QHBoxLayout):
+            column.addLayout(part, int(number == grow))
+        else:
+            column.addWidget(part, int(number == grow))
+    return widget
+
+
+def _split(orientation: Qt.Orientation, sizes: Sequence[int], *parts: QWidget) -> QSplitter:
+    """``parts`` side by side (or one above the other) at ``sizes``; none can be hidden."""
+    split = QSplitter(orientation)
+    for part in parts:
+        split.addWidget(part)
+    split.setChildrenCollapsible(False)
+    split.setSizes(list(sizes))
+    return split
+
+
 def _bullets(items: Sequence[str]) -> str:
     return "<ul>" + "".join(f"<li>{escape(item)}</li>" for item in items) + "</ul>"
 
@@ -107,15 +131,11 @@ class ReadingsPage(QWidget):
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__(parent)
         self.text = _browser()
-        layout = QVBoxLayout(self)
-        layout.setContentsMargins(0, 0, 0, 0)
-        layout.addWidget(self.text, 1)
-        layout.addWidget(
-            _quiet_label(
-                "Readings left out here were set on the Cleaning step; change them there. "
-                "Press Next to choose the models to compare."
-            )
+        where = _quiet_label(
+            "Readings left out here were set on the Cleaning step; change them there. "
+            "Press Next to choose the models to compare."
         )
+        _stacked(self, 0, self.text, where)
 
     def show_brief(self, brief: ReadingsBrief) -> None:
         self.text.setHtml(_bullets(brief.lines()) + AHEAD)
@@ -150,11 +170,7 @@ class FamiliesPage(QWidget):
         run.addWidget(self.origins)
         run.addWidget(self.months, 1)
         run.addWidget(self.fit_button)
-        layout = QVBoxLayout(self)
-        layout.setContentsMargins(0, 0, 0, 0)
-        layout.addWidget(self.families)
-        layout.addWidget(self.notes, 1)
-        layout.addLayout(run)
+        _stacked(self, 1, self.families, self.notes, run)
 
     def set_readings(self, readings: ReadingsBrief | None) -> None:
         self.readings = readings
@@ -199,19 +215,8 @@ class BacktestPage(QWidget):
         self.log = QListWidget()
         self.log.setToolTip("Each model family refitted before each backtest month, in order.")
         self.plot = BacktestPanel()
-        left = QWidget()
-        column = QVBoxLayout(left)
-        column.setContentsMargins(0, 0, 0, 0)
-        column.addWidget(self.state)
-        column.addWidget(self.log, 1)
-        split = QSplitter(Qt.Orientation.Horizontal)
-        split.addWidget(left)
-        split.addWidget(self.plot)
-        split.setChildrenCollapsible(False)
-        split.setSizes([380, 700])
-        layout = QVBoxLayout(self)
-        layout.setContentsMargins(0, 0, 0, 0)
-        layout.addWidget(split, 1)
+        left = _stacked(None, 1, self.state, self.log)
+        _stacked(self, 0, _split(Qt.Orientation.Horizontal, (380, 700), left, self.plot))
 
     def start(self, families: int, origins: int) -> None:
         """A new backtest begins: clear the log and say what it does."""
@@ -256,14 +261,7 @@ class RankingPage(QWidget):
         super().__init__(parent)
         self.why = _browser()
         self.residuals = ResidualPanel()
-        split = QSplitter(Qt.Orientation.Horizontal)
-        split.addWidget(self.why)
-        split.addWidget(self.residuals)
-        split.setChildrenCollapsible(False)
-        split.setSizes([600, 480])
-        layout = QVBoxLayout(self)
-        layout.setContentsMargins(0, 0, 0, 0)
-        layout.addWidget(split, 1)
+        _stacked(self, 0, _split(Qt.Orientation.Horizontal, (600, 480), self.why, self.residuals))
 
     def show_report(self, report: ModelReport) -> None:
         self.why.setHtml(ranking_html(report))
@@ -291,24 +289,13 @@ class ChoicePage(QWidget):
         self.accept_button = QPushButton("Accept and go on to the Budget ›")
         self.accept_button.setToolTip("Keep the model in use; the Budget step budgets with it.")
         self.coefficients = CoefficientsTable()
-        top = QWidget()
-        column = QVBoxLayout(top)
-        column.setContentsMargins(0, 0, 0, 0)
-        column.addWidget(self.ranking, 1)
         buttons = QHBoxLayout()
         buttons.addWidget(self.use_button)
         buttons.addStretch(1)
         buttons.addWidget(self.accept_button)
-        column.addLayout(buttons)
-        split = QSplitter(Qt.Orientation.Vertical)
-        split.addWidget(top)
-        split.addWidget(self.coefficients)
-        split.setChildrenCollapsible(False)
-        split.setSizes([250, 260])
-        layout = QVBoxLayout(self)
-        layout.setContentsMargins(0, 0, 0, 0)
-        layout.addWidget(self.words)
-        layout.addWidget(split, 1)
+        top = _stacked(None, 0, self.ranking, buttons)
+        choose = _split(Qt.Orientation.Vertical, (250, 260), top, self.coefficients)
+        _stacked(self, 1, self.words, choose)
 
     def show_report(self, report: ModelReport) -> None:
         self.words.setText(choice_html(report))

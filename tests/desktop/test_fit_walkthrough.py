@@ -14,7 +14,7 @@ from pathlib import Path
 
 import pandas as pd
 import pytest
-from desktop_support import save_screen, short_sample_project, wait_until_idle
+from desktop_support import LAPTOP, save_screen, short_sample_project, wait_until_idle
 
 from desktop.fit_pages import PAGES
 from desktop.main_window import STEP_NAMES, MainWindow
@@ -28,7 +28,6 @@ from engine.models import MODEL_FAMILIES
 from engine.prepared_site import prepare_site
 from engine.project import Project
 
-LAPTOP = (1280, 720)
 FAMILIES_TRIED = ("calendar_regression", "seasonal_naive")
 ORIGINS = 3
 SHUT = ("2025-12-24 06:00", "2026-01-02 06:00")  # UTC: the winter shutdown, left out
@@ -45,13 +44,8 @@ def library(tmp_path_factory) -> Path:
 
 
 @pytest.fixture
-def window(qtbot):
-    widget = MainWindow()
-    qtbot.addWidget(widget)
-    widget.resize(*LAPTOP)
-    widget.show()
-    yield widget
-    widget.close()
+def window(laptop_window):
+    return laptop_window
 
 
 def _look(qtbot, window: MainWindow, name: str) -> None:

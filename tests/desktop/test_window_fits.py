@@ -11,6 +11,7 @@ from pathlib import Path
 import pytest
 from desktop_support import (
     FITTED_METERS,
+    LAPTOP,
     RATE_CARD,
     SAMPLE,
     fitted_campus,
@@ -21,19 +22,12 @@ from desktop.main_window import STEP_NAMES, MainWindow
 from desktop.models_screen import FAMILIES
 from engine.project import Project
 
-#: A common laptop screen (HD, 16:9), in pixels.
-LAPTOP = (1280, 720)
 SHOTS = Path("/tmp/shots-defects")
 
 
 @pytest.fixture
-def window(qtbot):
-    widget = MainWindow()
-    qtbot.addWidget(widget)
-    widget.resize(*LAPTOP)
-    widget.show()
-    yield widget
-    widget.close()
+def window(laptop_window):
+    return laptop_window
 
 
 def _fill_every_step(qtbot, window: MainWindow, project: Path) -> None:
