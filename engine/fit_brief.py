@@ -205,7 +205,9 @@ def family_notes(
         family = MODEL_FAMILIES[name]
         how = family().how_it_forecasts()
         if family.explainable:
-            why = "Explainable: it can be recommended, and its effects are stated in units."
+            why = (
+                "Explainable: it can be recommended, and its effects are stated in physical units."
+            )
         elif family.benchmark:
             why = "A benchmark: the plainest forecast, which any model worth using must beat."
         else:
