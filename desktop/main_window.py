@@ -80,6 +80,8 @@ class MainWindow(QMainWindow):
         self.track_screen.budget_asked.connect(lambda: self.show_step("Budget"))
         self.budget_screen.adopted_budget.connect(lambda _name: self.track_screen.list_adopted())
         self.budget_screen.adopted_budget.connect(lambda _name: self.show_guide())
+        self.models_screen.accepted.connect(lambda _meter: self.show_step("Budget"))
+        self.models_screen.model_kept.connect(lambda _meter: self.show_guide())
         built = {
             "Files": self.files_screen,
             "Cleaning": self.cleaning_screen,

@@ -16,8 +16,10 @@ import pandas as pd
 
 from engine.backtest import BacktestResult
 from engine.errors import ProjectError
+from engine.fit_brief import ReadingsBrief, ranking_sentence, readings_brief, recommended
 from engine.modelling import chosen_model, fit_meter, use_ranked_model
 from engine.models import MODEL_FAMILIES, EnergyModel
+from engine.prepared_site import prepare_site
 from engine.progress import Progress, step
 from engine.project import Project
 from engine.wizard import DEFAULT_FAMILIES, DEFAULT_ORIGINS, default_families
@@ -62,15 +64,21 @@ class ModelReport:
 
     ``ranking`` is the engine's ranking table; ``coefficients`` the chosen model's statements
     in physical units, or how it forecasts (None, with ``coefficients_note``, without a model);
-    ``residuals`` maps each of :data:`RESIDUAL_GROUPINGS` to residual % by group (the
-    engine's words on the largest systematic miss are among the ``reasons``).
+    ``residuals`` maps each of :data:`RESIDUAL_GROUPINGS` to the recommended model's
+    residual % by group (the engine's words on its largest systematic miss are among the
+    ``reasons``).
     ``kept`` says when and where the model was stored; ``backtest`` is the engine's backtest
     (per-interval forecasts only when just fitted: the project keeps month totals).
+    ``recommended`` is the wizard's own choice (``chosen`` differs after a choice by hand)
+    and ``summary`` says it in one sentence with its numbers.
     """
 
     meter: str
     chosen: str | None
     chosen_label: str
+    recommended: str | None
+    recommended_label: str
+    summary: str
     condition: str
     ranking: pd.DataFrame
     reasons: tuple[str, ...]
@@ -83,6 +91,14 @@ class ModelReport:
     residual_condition: str = ""
     kept: str = ""
     backtest: BacktestResult | None = None
+
+
+@dataclass(frozen=True)
+class MeterView:
+    """What the fit walk-through shows of a meter on opening: its readings, its kept model."""
+
+    readings: ReadingsBrief
+    report: ModelReport | None
 
 
 def ticked_families(interval_minutes: float | None) -> tuple[str, ...]:
@@ -110,6 +126,14 @@ def fit_report(
     )
     kept = f"Kept in {project.path.name}" if outcome.result_id is not None else ""
     return _report(request.meter, outcome.choice.to_dict(), outcome.backtest, outcome.model, kept)
+
+
+def meter_view(project: Project, meter: str, progress: Progress | None = None) -> MeterView:
+    """The meter's readings brief and its stored model (:func:`stored_report`)."""
+    step(progress, 0.0, f"reading the cleaned readings of '{meter}'")
+    readings = readings_brief(prepare_site(project, [meter]).meter(meter))
+    part = progress.part(0.5, 1.0) if progress is not None else None
+    return MeterView(readings, stored_report(project, meter, part))
 
 
 def stored_report(
@@ -152,10 +176,14 @@ def _report(
     ranking = pd.DataFrame(choice["ranking"])
     chosen = choice["chosen"]
     labels = dict(zip(ranking.get("model", []), ranking.get("name", []), strict=True))
+    wizard = recommended(choice)
     report = ModelReport(
         meter=meter,
         chosen=chosen,
         chosen_label=labels.get(chosen, chosen or ""),
+        recommended=wizard,
+        recommended_label=labels.get(wizard, wizard or ""),
+        summary=ranking_sentence(choice, backtest),
         condition=choice["condition"],
         ranking=ranking,
         reasons=tuple(choice["reasons"]),
@@ -165,11 +193,12 @@ def _report(
     )
     if chosen is None:
         return report
-    diagnostics = choice.get("diagnostics") or {}
+    # The residual diagnostics are the recommended model's (kept aside after a hand choice).
+    diagnostics = (choice.get("recommendation") or choice).get("diagnostics") or {}
     report.residual_condition = diagnostics.get("weather") or choice["condition"]
     _add_coefficients(report, model)
     _add_trace(report, backtest)
-    _add_residuals(report, choice.get("diagnostics"))
+    _add_residuals(report, diagnostics)
     return report
 
 

@@ -1,5 +1,6 @@
-"""The Models screen (the fit wizard): pick a meter and model families, backtest and compare
-them on a worker, and see why the engine recommends one.
+"""The Models step (the fit wizard): for the chosen meter, a walk through five pages — the
+readings it learns from, the families it compares, the backtest as it runs, the ranking in
+words, and the choice with what the chosen model says — with Back and Next.
 
 A meter that already has a chosen model shows it on opening, read from the project file
 without refitting; "Fit and compare" runs the wizard again and keeps its choice.
@@ -7,145 +8,158 @@ without refitting; "Fit and compare" runs the wizard again and keeps its choice.
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Callable
 from functools import partial
 from html import escape
 
-from PySide6.QtCore import Qt
+from PySide6.QtCore import Signal
 from PySide6.QtWidgets import (
-    QCheckBox,
     QHBoxLayout,
     QLabel,
     QPushButton,
-    QSpinBox,
-    QSplitter,
-    QTextBrowser,
+    QStackedWidget,
     QVBoxLayout,
     QWidget,
 )
 
-from desktop.flow_layout import FlowLayout
+from desktop.fit_pages import (
+    PAGES,
+    BacktestPage,
+    ChoicePage,
+    FamiliesPage,
+    RankingPage,
+    ReadingsPage,
+)
 from desktop.meter_screen import MeterScreen
 from desktop.model_jobs import (
-    DEFAULT_ORIGINS,
     FitRequest,
+    MeterView,
     ModelReport,
-    family_choices,
     fit_report,
-    stored_report,
+    meter_view,
     ticked_families,
     use_model_report,
 )
-from desktop.model_plots import BacktestPanel, ResidualPanel
-from desktop.model_tables import CoefficientsTable, RankingTable
-from desktop.palette import TONES
 from desktop.session import Session
 from desktop.workers import Failure, Task, Work
 
-
-class FamilyPicker(QWidget):
-    """One check box per model family, as many to a row as fit; less explainable families
-    say so."""
-
-    def __init__(self, parent: QWidget | None = None) -> None:
-        super().__init__(parent)
-        self.boxes: dict[str, QCheckBox] = {}
-        flow = FlowLayout(self)
-        flow.setContentsMargins(0, 0, 0, 0)
-        for name, label, explainable in family_choices():
-            box = QCheckBox(label if explainable else f"{label} · less explainable")
-            box.setToolTip(
-                "Explainable: its effects can be stated in plain words."
-                if explainable
-                else "A benchmark or flexible model: chosen only when clearly more accurate."
-            )
-            self.boxes[name] = box
-            flow.addWidget(box)
-
-    def tick(self, names: Sequence[str]) -> None:
-        for name, box in self.boxes.items():
-            box.setChecked(name in names)
-
-    def ticked(self) -> tuple[str, ...]:
-        return tuple(name for name, box in self.boxes.items() if box.isChecked())
+READINGS, FAMILIES, BACKTEST, RANKING, CHOICE = range(len(PAGES))
 
 
 class ModelsScreen(MeterScreen):
-    """Pick a meter; show its stored model, or fit and compare the ticked families."""
+    """Pick a meter; walk from its readings to a chosen model, page by page."""
 
     NO_PROJECT = "Open a project to fit models to its meters."
+    #: The person accepted the model in use of this meter and wants to go on to the budget.
+    accepted = Signal(str)
+    #: A model of this meter was kept in the project (fitted, or another one chosen).
+    model_kept = Signal(str)
 
     def __init__(self, session: Session, parent: QWidget | None = None) -> None:
         super().__init__(session, parent)
         self.report: ModelReport | None = None
-        self.families = FamilyPicker()
-        self.origins = QSpinBox()
-        self.origins.setRange(1, 36)
-        self.origins.setValue(DEFAULT_ORIGINS)
-        self.origins.setSuffix(" months")
-        self.origins.setToolTip(
-            "How many past months the models forecast in the backtest, each refitted on the "
-            "data before it."
-        )
-        self.fit_button = QPushButton("Fit and compare")
-        self.fit_button.setToolTip("Backtest the ticked models, rank them and keep the best.")
+        self._fitting = False  # a backtest runs (its page can be shown before any report)
+        self.readings_page = ReadingsPage()
+        self.families_page = FamiliesPage()
+        self.backtest_page = BacktestPage()
+        self.ranking_page = RankingPage()
+        self.choice_page = ChoicePage()
+        # The widgets a person (and a test) works with, by their plain names.
+        self.families = self.families_page.families
+        self.origins = self.families_page.origins
+        self.fit_button = self.families_page.fit_button
+        self.backtest = self.backtest_page.plot
+        self.why = self.ranking_page.why
+        self.residuals = self.ranking_page.residuals
+        self.ranking = self.choice_page.ranking
+        self.coefficients = self.choice_page.coefficients
+        self.use_button = self.choice_page.use_button
         self.fit_button.clicked.connect(self.fit)
-        self.use_button = QPushButton("Use selected model")
-        self.use_button.setToolTip(
-            "Keep the model selected in the ranking instead of the recommended one: it is "
-            "fitted on all the history with the settings its backtest ran; nothing is "
-            "backtested again."
-        )
-        self.use_button.setEnabled(False)
         self.use_button.clicked.connect(self.use_selected)
+        self.choice_page.accept_button.clicked.connect(self.accept)
+        self.ranking.table.itemSelectionChanged.connect(self._selection_changed)
+        self.pages = QStackedWidget()
+        for page in (
+            self.readings_page,
+            self.families_page,
+            self.backtest_page,
+            self.ranking_page,
+            self.choice_page,
+        ):
+            self.pages.addWidget(page)
         self.kept = QLabel()
         self.kept.setStyleSheet("color: #5a5f66;")
-        self.ranking = RankingTable()
-        self.ranking.table.itemSelectionChanged.connect(self._selection_changed)
-        self.why = QTextBrowser()
-        self.why.setOpenLinks(False)
-        self.coefficients = CoefficientsTable()
-        self.backtest = BacktestPanel()
-        self.residuals = ResidualPanel()
+        self.path = QLabel()
+        self.path.setToolTip("Where you are in the walk-through; Back and Next move along it.")
+        self.title = QLabel()
+        self.back_button = QPushButton("‹ Back")
+        self.back_button.clicked.connect(lambda: self.go_to(self.page() - 1))
+        self.next_button = QPushButton("Next ›")
+        self.next_button.clicked.connect(lambda: self.go_to(self.page() + 1))
         self._lay_out()
         self.follow_session()
+        self.go_to(READINGS)
 
     def _lay_out(self) -> None:
-        controls = QHBoxLayout()
-        controls.addWidget(QLabel("Meter"))
-        controls.addWidget(self.meter)
-        controls.addSpacing(12)
-        controls.addWidget(QLabel("Backtest over"))
-        controls.addWidget(self.origins)
-        controls.addSpacing(12)
-        controls.addWidget(self.fit_button)
-        controls.addWidget(self.use_button)
-        controls.addSpacing(12)
-        controls.addWidget(self.kept, 1)
-        left = QSplitter(Qt.Orientation.Vertical)
-        left.addWidget(self.ranking)
-        left.addWidget(self.why)
-        left.addWidget(self.coefficients)
-        left.setSizes([190, 190, 340])
-        right = QSplitter(Qt.Orientation.Vertical)
-        right.addWidget(self.backtest)
-        right.addWidget(self.residuals)
-        work = QSplitter(Qt.Orientation.Horizontal)
-        work.addWidget(left)
-        work.addWidget(right)
-        work.setChildrenCollapsible(False)
-        work.setSizes([560, 480])
+        top = QHBoxLayout()
+        top.addWidget(QLabel("Meter"))
+        top.addWidget(self.meter)
+        top.addSpacing(12)
+        top.addWidget(self.path, 1)
+        top.addWidget(self.kept)
+        heading = QHBoxLayout()
+        heading.addWidget(self.title, 1)
+        heading.addWidget(self.back_button)
+        heading.addWidget(self.next_button)
         layout = QVBoxLayout(self)
-        layout.addLayout(controls)
-        layout.addWidget(self.families)
+        layout.addLayout(top)
+        layout.addLayout(heading)
         layout.addWidget(self.notice)
         layout.addWidget(self.task_bar)
-        layout.addWidget(work, 1)
+        layout.addWidget(self.pages, 1)
 
-    # -- choices ----------------------------------------------------------------------------
+    # -- moving through the pages -------------------------------------------------------------
+
+    def page(self) -> int:
+        """The page on show (0 to 4)."""
+        return self.pages.currentIndex()
+
+    def reachable(self) -> int:
+        """The last page there is something to show on."""
+        if self.session.project is None or not self.meter.currentText():
+            return READINGS
+        if self.report is None:
+            return BACKTEST if self._fitting else FAMILIES
+        return CHOICE if self.report.chosen is not None else RANKING
+
+    def go_to(self, page: int) -> None:
+        """Show ``page`` (kept within the pages there is something to show on)."""
+        page = max(READINGS, min(page, self.reachable()))
+        if page != self.page() and self.notice.tone == "done":
+            self.notice.clear()  # it said what the last page did
+        self.pages.setCurrentIndex(page)
+        self._show_where()
+
+    def _show_where(self) -> None:
+        page = self.page()
+        steps = [
+            f"<b>{number} {short}</b>" if number - 1 == page else f"{number} {short}"
+            for number, (short, _) in enumerate(PAGES, start=1)
+        ]
+        self.path.setText(" › ".join(steps))
+        self.title.setText(f"<b>{page + 1} of {len(PAGES)} · {escape(PAGES[page][1])}</b>")
+        self.back_button.setEnabled(page > READINGS)
+        self.next_button.setEnabled(page < self.reachable())
+        self.next_button.setToolTip(
+            "Press 'Fit and compare' to run the backtest first."
+            if page == FAMILIES and self.report is None
+            else ""
+        )
+
+    # -- choices ------------------------------------------------------------------------------
 
     def refresh(self) -> None:
-        """Show the chosen meter's stored model (if any), with its default families ticked."""
+        """Show the chosen meter's readings and stored model (if any), default families ticked."""
         name = self.meter.currentText()
         project = self.session.project
         if project is None or not name:
@@ -153,7 +167,7 @@ class ModelsScreen(MeterScreen):
             return
         meters = {m["name"]: m for m in project.summary()["meters"]}
         self.families.tick(ticked_families(meters.get(name, {}).get("interval_minutes")))
-        self._run(partial(stored_report, project, name), f"reading the model of '{name}'")
+        self._run(partial(meter_view, project, name), f"reading '{name}'", self._show_view)
 
     def fit(self) -> None:
         """Backtest and compare the ticked families on the chosen meter; keep the best."""
@@ -167,7 +181,16 @@ class ModelsScreen(MeterScreen):
             return
         request = FitRequest(name, families, self.origins.value())
         work = partial(fit_report, project, request)
-        self._run(work, f"fitting and comparing models of '{name}'", announce="Recommended")
+        self.backtest_page.start(len(families), request.origins)
+        self._fitting = True
+        self._run(
+            work,
+            f"fitting and comparing models of '{name}'",
+            self._show,
+            announce="Recommended",
+            log=True,
+        )
+        self.go_to(BACKTEST)
 
     def use_selected(self) -> None:
         """Keep the model selected in the ranking as the meter's choice."""
@@ -176,7 +199,12 @@ class ModelsScreen(MeterScreen):
         if project is None or not name or model is None:
             return
         work = partial(use_model_report, project, name, model)
-        self._run(work, f"keeping another model for '{name}'", announce="Now used")
+        self._run(work, f"keeping another model for '{name}'", self._show, announce="Now used")
+
+    def accept(self) -> None:
+        """Keep the model in use and go on (the main window shows the Budget step)."""
+        if self.report is not None and self.report.chosen is not None:
+            self.accepted.emit(self.report.meter)
 
     def _selection_changed(self) -> None:
         selected = self.ranking.selected()
@@ -185,23 +213,37 @@ class ModelsScreen(MeterScreen):
             self.task is None and selected is not None and selected != chosen
         )
 
-    # -- work -------------------------------------------------------------------------------
+    # -- work ---------------------------------------------------------------------------------
 
-    def _run(self, work: Work, doing: str, announce: str | None = None) -> None:
-        """Run ``work``; ``announce`` (e.g. "Recommended") words the notice of a kept model."""
+    def _run(
+        self,
+        work: Work,
+        doing: str,
+        done: Callable,
+        announce: str | None = None,
+        log: bool = False,
+    ) -> None:
+        """Run ``work`` and hand its result to ``done``; ``announce`` (e.g. "Recommended")
+        words the notice of a kept model; with ``log`` its steps go to the backtest page."""
+        wanted = (work, doing, done, announce, log)
         if self.task is not None:
-            self._wanted = (work, doing, announce)
+            self._wanted = wanted
             self.task.cancel()
             return
-        self._start(work, doing, announce)
+        self._start(*wanted)
 
-    def _start(self, work: Work, doing: str, announce: str | None) -> None:
+    def _start(
+        self, work: Work, doing: str, done: Callable, announce: str | None, log: bool
+    ) -> None:
         self._wanted = None
+        self._fitting = log
         self.notice.clear()
         task = Task(work, doing)
-        task.succeeded.connect(self._show)
+        task.succeeded.connect(done)
         if announce is not None:
             task.succeeded.connect(partial(self._fitted, announce))
+        if log:
+            task.progressed.connect(self.backtest_page.progressed)
         task.failed.connect(self._failed)
         task.cancelled.connect(partial(self._cancelled, doing))
         task.ended.connect(self._ended)
@@ -213,55 +255,62 @@ class ModelsScreen(MeterScreen):
 
     def _ended(self) -> None:
         self.task = None
+        self._fitting = False
         self.fit_button.setEnabled(True)
         if self._wanted is not None:
             self._start(*self._wanted)
+        self.go_to(self.page())
 
     def _failed(self, failure: Failure) -> None:
         if self._wanted is None:
             self.notice.show_failure(failure)
+            self.backtest_page.stopped(failure.message)
 
     def _cancelled(self, doing: str) -> None:
         if self._wanted is None:
-            self.notice.say(f"Stopped {doing}; nothing was kept.", "info")
+            words = f"Stopped {doing}; nothing was kept."
+            self.notice.say(words, "info")
+            self.backtest_page.stopped(words)
 
-    # -- showing ----------------------------------------------------------------------------
+    # -- showing ------------------------------------------------------------------------------
 
     def _show_empty(self, words: str) -> None:
+        self.readings_page.show_words(words)
+        self.families_page.set_readings(None)
+        self._show_no_model(words)
+        self.go_to(READINGS)
+
+    def _show_no_model(self, words: str) -> None:
         self.report = None
         self.kept.clear()
-        self.ranking.show_note(words)
-        self.why.clear()
-        self.coefficients.show_note("")
+        self.why.setHtml(f"<p>{escape(words)}</p>")
+        self.choice_page.show_note(words)
         self.backtest.show_note(words)
         self.residuals.show_note(words)
 
+    def _show_view(self, view: MeterView) -> None:
+        if self._wanted is not None or self.session.project is None:
+            return  # the meter changed meanwhile; its view follows
+        self.readings_page.show_brief(view.readings)
+        self.families_page.set_readings(view.readings)
+        self._show(view.report)
+
     def _show(self, report: ModelReport | None) -> None:
         if self._wanted is not None or self.session.project is None:
-            return  # the meter changed meanwhile; its report follows
+            return
         if report is None:
-            name = self.meter.currentText()
-            self._show_empty(
-                f"'{name}' has no fitted model yet: tick the models to compare and press "
-                "'Fit and compare'."
+            self._show_no_model(
+                f"'{self.meter.currentText()}' has no fitted model yet: tick the models to "
+                "compare on page 2 and press 'Fit and compare'."
             )
+            self.go_to(self.page())
             return
         self.report = report
         self.kept.setText(report.kept)
-        self.ranking.show_ranking(report.ranking, report.chosen, report.condition)
-        self.why.setHtml(_why_html(report))
-        if report.coefficients is not None:
-            self.coefficients.show_statements(report.coefficients)
-        else:
-            self.coefficients.show_note(report.coefficients_note or "No model was chosen.")
-        if report.trace is not None:
-            self.backtest.show_trace(report.trace)
-        else:
-            self.backtest.show_note(report.trace_note or "No model was chosen.")
-        if report.residuals:
-            self.residuals.show_residuals(report.residuals, report.residual_condition)
-        else:
-            self.residuals.show_note("No residual diagnostics: no model was chosen.")
+        self.backtest_page.show_report(report)
+        self.ranking_page.show_report(report)
+        self.choice_page.show_report(report)
+        self.go_to(self.page())
 
     def _fitted(self, verb: str, report: ModelReport) -> None:
         if self._wanted is not None:
@@ -269,19 +318,8 @@ class ModelsScreen(MeterScreen):
         if report.chosen is None:
             self.notice.say("No model could be scored, so none was kept.", "problem")
             return
+        self.model_kept.emit(report.meter)
+        onwards = " Press Next to read the ranking." if self.page() == BACKTEST else ""
         self.notice.say(
-            f"{verb} for '{report.meter}': {report.chosen_label}. {report.kept}.", "done"
+            f"{verb} for '{report.meter}': {report.chosen_label}. {report.kept}.{onwards}", "done"
         )
-
-
-def _why_html(report: ModelReport) -> str:
-    """The engine's reasons, the largest systematic miss and the warnings, as a short page."""
-    problem = TONES["problem"][1]
-    parts = ["<b>Why this model</b><ul>"]
-    parts += [f"<li>{escape(reason)}</li>" for reason in report.reasons]
-    parts.append("</ul>")
-    if report.warnings:
-        parts.append(f"<b style='color:{problem}'>Before relying on it</b><ul>")
-        parts += [f"<li>{escape(warning)}</li>" for warning in report.warnings]
-        parts.append("</ul>")
-    return "".join(parts)

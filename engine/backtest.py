@@ -57,6 +57,7 @@ from engine.scoring import (
     total_by,
 )
 from engine.weather import TypicalWeather, TypicalYears
+from engine.words import counted
 
 ACTUAL_WEATHER = "actual weather"
 TYPICAL_WEATHER = "typical weather"
@@ -664,7 +665,7 @@ def _stopped_text(misses: list[float], bar: float) -> str:
         else "no month of it could be scored yet"
     )
     return (
-        f"stopped after {len(misses)} origins: {so_far}, and it could not come below "
+        f"stopped after {counted(len(misses), 'origin')}: {so_far}, and it could not come below "
         f"{max(bar, 0.0):.1f} % (the best explainable model's month-total MAPE less the margin)"
     )
 

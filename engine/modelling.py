@@ -162,7 +162,8 @@ def use_ranked_model(project: Project, name: str, model: str) -> tuple[EnergyMod
     with the settings its backtest ran (tuned orders included); no new backtest is run.
 
     The stored recommendation keeps its ranking and scores; ``chosen`` becomes ``model`` and
-    the first reason says it was chosen over the recommendation. Returns the model and choice.
+    the first reason says it was chosen over the recommendation (choosing the recommended
+    model again restores the wizard's choice). Returns the model and choice.
     """
     choice = _last_choice(project, name)["choice"]  # the model itself is not needed
     ranked = {row["model"]: row for row in choice["ranking"]}
@@ -182,23 +183,36 @@ def use_ranked_model(project: Project, name: str, model: str) -> tuple[EnergyMod
             file=project.path,
         )
     fitted = MODEL_FAMILIES[info.family](**info.settings).fit(meter_inputs(project, name))
-    recommended = ranked.get(choice["chosen"], {}).get("name", choice["chosen"])
-    reason = (
-        f"{ranked[model]['name']} was chosen by hand over the recommended {recommended}; "
-        "the ranking and scores are the backtest's."
-    )
-    # The residual diagnostics were the recommended model's: they do not describe this one.
-    chosen = {
-        **choice,
-        "chosen": model,
-        "reasons": [reason, *choice["reasons"]],
-        "diagnostics": None,
-    }
+    chosen = _hand_choice(choice, model, ranked)
     with project.transaction():
         project.add_result(
             "model", name, fitted.label, {"model": fitted.to_dict(), "choice": chosen}
         )
     return fitted, chosen
+
+
+def _hand_choice(choice: dict, model: str, ranked: dict[str, dict]) -> dict:
+    """The stored choice with ``model`` in use. The wizard's own recommendation (its model,
+    reasons and residual diagnostics) is kept under ``recommendation``, so choosing the
+    recommended model again gives the wizard's choice back as it was."""
+    wizard = choice.get("recommendation") or {
+        key: choice[key] for key in ("chosen", "reasons", "diagnostics")
+    }
+    if model == wizard["chosen"]:
+        return {key: value for key, value in choice.items() if key != "recommendation"} | wizard
+    recommended = ranked.get(wizard["chosen"], {}).get("name", wizard["chosen"])
+    reason = (
+        f"{ranked[model]['name']} was chosen by hand over the recommended {recommended}; "
+        "the ranking and scores are the backtest's."
+    )
+    # The residual diagnostics were the recommended model's: they do not describe this one.
+    return {
+        **choice,
+        "chosen": model,
+        "reasons": [reason, *wizard["reasons"]],
+        "diagnostics": None,
+        "recommendation": wizard,
+    }
 
 
 def monthly_contributions(model: EnergyModel, inputs: ModelInputs, months: int = 12) -> list[dict]:

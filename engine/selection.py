@@ -41,6 +41,7 @@ from engine.backtest import (
 from engine.project.columns import json_records
 from engine.residual_patterns import ResidualPattern, residual_pattern
 from engine.scoring import GUIDELINE14_LIMITS, Scorecard
+from engine.words import counted
 
 #: Months of history the first backtest origin needs for annual effects (see module notes).
 MIN_HISTORY_MONTHS = 12
@@ -138,7 +139,7 @@ def _ranking_table(result: BacktestResult, condition: str) -> pd.DataFrame:
             meets = actual_card.meets_guideline14 if actual_card is not None else False
             reason = _sentence(
                 f"{info.label}: month totals off by {mape:.1f} % on average over "
-                f"{card.months} months ({condition}); {resolution} CV(RMSE) {cv:.1f} %, "
+                f"{counted(card.months, 'month')} ({condition}); {resolution} CV(RMSE) {cv:.1f} %, "
                 f"NMBE {bias:+.1f} %" + (f"; {failure}" if failure else "") + "."
             )
         rows.append(

@@ -69,6 +69,8 @@ class ModelFamily:
     family: ClassVar[str]
     label: ClassVar[str]
     explainable: ClassVar[bool]
+    #: True for the plainest forecasts, kept as the yardstick every model should beat.
+    benchmark: ClassVar[bool] = False
     #: Version of the stored ``fitted`` layout; bump it when the layout changes.
     storage_version: ClassVar[int] = 1
 

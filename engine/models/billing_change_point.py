@@ -171,6 +171,12 @@ class BillingPeriodChangePointModel(ModelFamily):
     label = "billing-period change-point regression"
     explainable = True
 
+    def how_it_forecasts(self) -> str:
+        return (
+            "fits each billing period's energy per day against its mean temperature with "
+            "heating and cooling change points (ASHRAE RP-1050 shapes)"
+        )
+
     def __init__(self, kind: str | None = None) -> None:
         self.kind = kind
 

@@ -107,6 +107,12 @@ class CalendarRegressionModel(ModelFamily):
     label = "calendar regression"
     explainable = True
 
+    def how_it_forecasts(self) -> str:
+        return (
+            "adds up a base load, daily, weekly and annual cycles, weekends, holidays and campus "
+            "periods, and heating and cooling per degree-hour of outdoor temperature"
+        )
+
     def __init__(
         self,
         daily_order: int = 6,

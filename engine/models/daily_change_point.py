@@ -77,6 +77,13 @@ class DailyChangePointModel(DayTotalsModel):
     label = "daily change-point regression"
     explainable = True
 
+    def how_it_forecasts(self) -> str:
+        return (
+            "fits each day's energy against its mean temperature with heating and cooling "
+            "change points (ASHRAE RP-1050 shapes), weekdays apart from other days, and "
+            "spreads the day over its hours by the meter's typical day"
+        )
+
     def __init__(
         self, kind: str | None = None, *, split_day_groups: bool = True, min_group_days: int = 21
     ) -> None:

@@ -57,6 +57,12 @@ class LastYearAdjustedModel(ModelFamily):
     label = "same day last year, weather-adjusted"
     explainable = True
 
+    def how_it_forecasts(self) -> str:
+        return (
+            "takes the same weekday 52 weeks earlier and adjusts it by the calendar regression "
+            "for the difference in weather and calendar between the two days"
+        )
+
     def __init__(self, weight: float = 1.0) -> None:
         self.weight = weight
 

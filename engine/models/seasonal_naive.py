@@ -45,6 +45,7 @@ class SeasonalNaiveModel(ModelFamily):
     family = "seasonal_naive"
     label = "seasonal naive benchmark"
     explainable = False
+    benchmark = True
 
     def __init__(self, lag: str = "week") -> None:
         self.lag = lag

@@ -117,6 +117,12 @@ class TimeOfWeekTemperatureModel(ModelFamily):
     label = "time-of-week-and-temperature regression"
     explainable = True
 
+    def how_it_forecasts(self) -> str:
+        return (
+            "gives each hour of the week its own level and adds a bent line of outdoor "
+            "temperature, separately for occupied and unoccupied times"
+        )
+
     def __init__(
         self,
         knots: int = 6,

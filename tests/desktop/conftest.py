@@ -6,7 +6,7 @@ import dataclasses
 from pathlib import Path
 
 import pytest
-from desktop_support import SAMPLE, SITE_ZONE
+from desktop_support import LAPTOP, SAMPLE, SITE_ZONE
 from PySide6.QtCore import QSettings
 
 from engine.importing import ImportedFiles, store_files
@@ -33,3 +33,16 @@ def own_settings(tmp_path_factory) -> Path:
     folder = tmp_path_factory.mktemp("settings")
     QSettings.setPath(QSettings.Format.IniFormat, QSettings.Scope.UserScope, str(folder))
     return folder
+
+
+@pytest.fixture
+def laptop_window(qtbot):
+    """The main window shown at the size of a laptop screen (:data:`LAPTOP`)."""
+    from desktop.main_window import MainWindow  # only the tests that ask pay for the import
+
+    widget = MainWindow()
+    qtbot.addWidget(widget)
+    widget.resize(*LAPTOP)
+    widget.show()
+    yield widget
+    widget.close()

@@ -21,6 +21,8 @@ RATE_CARD = ROOT / "sample" / "tariffs" / "orrinvale-main-electric.ratecard.toml
 #: The meters of :func:`fitted_campus`.
 FITTED_METERS = ("Library", "Science Labs")
 TASK_TIMEOUT_MS = 120_000  # generous: a loaded 2-core machine runs a budget slowly
+#: A common laptop screen (HD, 16:9), in pixels: the whole window must work at this size.
+LAPTOP = (1280, 720)
 
 
 def save_screen(widget, name: str, min_bytes: int = 10_000) -> Path:

@@ -11,6 +11,7 @@ from pathlib import Path
 import pytest
 from desktop_support import (
     FITTED_METERS,
+    LAPTOP,
     RATE_CARD,
     SAMPLE,
     fitted_campus,
@@ -18,21 +19,15 @@ from desktop_support import (
 )
 
 from desktop.main_window import STEP_NAMES, MainWindow
+from desktop.models_screen import FAMILIES
 from engine.project import Project
 
-#: A common laptop screen (HD, 16:9), in pixels.
-LAPTOP = (1280, 720)
 SHOTS = Path("/tmp/shots-defects")
 
 
 @pytest.fixture
-def window(qtbot):
-    widget = MainWindow()
-    qtbot.addWidget(widget)
-    widget.resize(*LAPTOP)
-    widget.show()
-    yield widget
-    widget.close()
+def window(laptop_window):
+    return laptop_window
 
 
 def _fill_every_step(qtbot, window: MainWindow, project: Path) -> None:
@@ -72,6 +67,8 @@ def test_every_step_fits_a_laptop_screen(qtbot, window, tmp_path):
     assert sorted(always + where_room) == [(float(i), m) for i, m in enumerate(run.months)]
     # The model families wrap onto rows inside the picker: each box whole, none on another.
     window.show_step("Models")
+    window.models_screen.go_to(FAMILIES)  # the walk-through's page with the picker
+    qtbot.wait(50)
     picker = window.models_screen.families
     boxes = [box.geometry() for box in picker.boxes.values()]
     assert all(picker.rect().contains(box) for box in boxes)

@@ -9,6 +9,7 @@ import numpy as np
 import pytest
 
 from engine.backtest import STOPPED, Race, run_backtest
+from engine.fit_brief import ranking_sentence
 from engine.models import MODEL_FAMILIES
 from engine.selection import EXPLAINABLE_MARGIN, recommend_model
 from tests.engine.test_budget_campus import make_campus
@@ -50,6 +51,11 @@ def test_a_raced_family_stops_and_the_recommendation_is_unchanged(meter):
     # A stopped family ranks after every model that ran all origins.
     ranking = chosen_raced.ranking.set_index("model")
     assert ranking.loc["daily_ets", "rank"] > ranking.loc["seasonal_naive", "rank"]
+    # In one sentence: the best of the models that ran every month; the stopped ones apart.
+    sentence = ranking_sentence(chosen_raced.to_dict(), raced)
+    naive = ranking.loc["seasonal_naive", "month-total MAPE %"]
+    assert ", best of 2; 2 models stopped early, unable to win; the benchmark " in sentence
+    assert sentence.endswith(f"'seasonal naive benchmark' was {naive:.1f} %.")
 
 
 def test_with_no_explainable_model_to_beat_a_raced_family_runs_every_origin(meter):
