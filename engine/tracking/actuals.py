@@ -79,14 +79,16 @@ def happened_prediction(
     return np.add.reduceat(predicted, grid.day_starts)
 
 
-def tariff_cost(raw: MeterSeries, window: BudgetWindow, month: int, tariff: Tariff) -> float | None:
-    """The month's metered energy priced by ``tariff``; None when a reading is missing or the
-    readings' interval does not suit the tariff."""
+def tariff_cost(
+    raw: MeterSeries, window: BudgetWindow, month: int, tariff: Tariff
+) -> float | InputError:
+    """The month's metered energy priced by ``tariff``, or the reason it cannot be (a reading
+    is missing, or the readings' interval does not suit the tariff)."""
     days = window.days[window.month_of_day() == month]
     start = local_midnight(days[0].date(), window.timezone)
     end = local_midnight(days[-1].date() + timedelta(days=1), window.timezone)
     values = raw.values[(raw.values.index >= start) & (raw.values.index < end)]
     try:
         return float(cost(values, raw.timezone, tariff, raw.interval)["total"].sum())
-    except InputError:
-        return None
+    except InputError as error:
+        return error

@@ -256,7 +256,7 @@ def _track_meter(
         happened,
         readings["kwh"].to_numpy(dtype=np.float64),
     )
-    costs = _actual_costs(ready, adopted, scene, days)
+    costs = _actual_costs(ready, adopted, scene, days, cautions)
     records = _months(budget["months"], scene, days, costs)
     return _group_report(budget, records, "name"), days, cautions
 
@@ -427,17 +427,25 @@ def _roll_up_costs(records: list[dict], members: list[list[dict]]) -> None:
 
 
 def _actual_costs(
-    ready: ReadyMeter, adopted: dict, scene: _Scene, days: _Days
+    ready: ReadyMeter, adopted: dict, scene: _Scene, days: _Days, cautions: list[str]
 ) -> list[float | None]:
     """What each complete month's metered energy cost: the adopted rate card on the readings,
-    or the price per kWh the project's bills now give (the adopted one without bills)."""
+    or the price per kWh the project's bills now give (the adopted one without bills). A
+    complete month the rate card cannot price gets None and a caution saying why."""
     month_of_day = scene.window.month_of_day()
     out: list[float | None] = []
     for number, state in enumerate(scene.status):
         if state != COMPLETE or adopted["priced_by"] is None:
             out.append(None)
         elif adopted["priced_by"] == "tariff" and scene.tariff is not None:
-            out.append(tariff_cost(ready.raw, scene.window, number, scene.tariff))
+            priced = tariff_cost(ready.raw, scene.window, number, scene.tariff)
+            if isinstance(priced, InputError):
+                cautions.append(
+                    f"The actual cost of meter '{ready.name}' in {scene.window.months[number]} "
+                    f"is unknown, so its cost variance is left blank: {priced.message}"
+                )
+                priced = None
+            out.append(priced)
         else:
             current = scene.prices.get(ready.utility)
             rate = current.rate if current is not None else adopted["rate"]
@@ -542,6 +550,13 @@ def _attach_outlook(
                 "quantiles": {str(level): actual for level in levels},
                 "actual_to_date": actual,
             }
+            costs = [record.get("actual_cost") for record in report["months"]]
+            if costs and all(cost is not None for cost in costs):
+                spent = float(sum(costs))
+                report["outlook"]["cost"] = {
+                    "mean": spent,
+                    "quantiles": {str(level): spent for level in levels},
+                }
         else:
             report["outlook"] = None
 

@@ -35,7 +35,13 @@ from engine.project import Project
 from engine.reading import ReadOptions
 from engine.tracking import adopt_budget, track_budget
 from engine.tracking.actuals import expected_readings
-from engine.tracking.track import COMPLETE, NOT_BEGUN, UNDER_WAY, _reading_cautions
+from engine.tracking.track import (
+    COMPLETE,
+    NOT_BEGUN,
+    UNDER_WAY,
+    _attach_outlook,
+    _reading_cautions,
+)
 from tests.cli.cli_support import write_hall_and_boiler
 
 RATE_CARD = Path(__file__).parents[2] / "sample/tariffs/orrinvale-main-electric.ratecard.toml"
@@ -320,3 +326,36 @@ def test_a_day_with_extra_readings_does_not_hide_another_days_gap() -> None:
     cautions = _reading_cautions("Hall", readings, expected, [COMPLETE, COMPLETE], window)
     assert len(cautions) == 1
     assert "misses 5 reading(s) in 2026-01" in cautions[0]
+
+
+def test_a_finished_year_lands_on_its_actual_energy_and_says_which_cost_is_unknown(
+    campus, tmp_path
+):
+    """Once every month is over, the outlook is what was metered; the rate card cannot price
+    November (the file lacks the repeated hour of the fall-back night), so the year's cost is
+    left out and a caution names the month and the missing hour."""
+    path = Path(shutil.copyfile(campus["path"], tmp_path / "year-end.loadledger"))
+    with Project.open(path) as project:
+        report = track_budget(project, BUDGET, as_of=date(2026, 1, 1), workers=1)
+    hall = _meter(report, "Hall")
+    assert all(month["status"] == COMPLETE for month in hall["months"])
+    actual = sum(month["actual"] for month in hall["months"])
+    assert hall["outlook"]["mean"] == pytest.approx(actual, rel=1e-12)
+    assert "cost" not in hall["outlook"]
+    unknown = [c for c in report["cautions"] if "cost of meter 'Hall' in 2025-11 is unknown" in c]
+    assert len(unknown) == 1 and "2025-11-02 01:00" in unknown[0]
+
+
+def test_a_finished_year_with_every_month_priced_lands_on_its_actual_cost() -> None:
+    """The outlook of a finished, fully priced year is the sum of its months' actual costs."""
+    months = [
+        {"actual": 100.0, "actual_cost": 12.5},
+        {"actual": 80.0, "actual_cost": 10.25},
+    ]
+    meter = {"name": "Hall", "months": months}
+    _attach_outlook([meter], {}, None, {"levels": [10, 50, 90]}, over=True)
+    assert meter["outlook"]["mean"] == 180.0
+    assert meter["outlook"]["cost"] == {
+        "mean": 22.75,
+        "quantiles": {"10": 22.75, "50": 22.75, "90": 22.75},
+    }
