@@ -71,11 +71,13 @@ def test_the_steps_say_what_is_done_and_the_one_thing_to_do_next(window, tmp_pat
 
     # No project: the Files step says to add files; nothing is ticked.
     assert "create a project" in window.guide.text()
-    assert not any(window.steps.item(r).text().startswith("✓") for r in range(6))
+    assert not any(window.steps.item(r).text().startswith("✓") for r in range(window.steps.count()))
     path = fitted_campus(tmp_path / "campus.loadledger")  # two meters, each with a model
     assert window.open_project(path)
     ticked = [
-        window.steps.item(r).text() for r in range(6) if window.steps.item(r).text()[0] == "✓"
+        window.steps.item(r).text()
+        for r in range(window.steps.count())
+        if window.steps.item(r).text()[0] == "✓"
     ]
     assert ticked == ["✓ Files", "✓ Patterns", "✓ Models"]  # no fix logged, no budget yet
     window.show_step("Models")
