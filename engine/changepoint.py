@@ -76,6 +76,14 @@ class _SortedPoints:
         self.sum_v = float(np.sum(wv))
         #: Weighted sum of squares of energy about its mean: the SSE with no hinge.
         self.spread = float(np.sum(wv * v)) - self.sum_v**2 / self.weight
+        self._quantiles: dict[tuple[float, ...], tuple[float, ...]] = {}
+
+    def quantiles(self, levels: tuple[float, ...]) -> tuple[float, ...]:
+        """Quantiles of the temperatures, worked out once for all the shapes that ask."""
+        if levels not in self._quantiles:
+            found = np.quantile(self.ordered, levels)
+            self._quantiles[levels] = tuple(float(value) for value in found)
+        return self._quantiles[levels]
 
     def hinge_sums(self, points: np.ndarray, side: str) -> tuple[np.ndarray, ...]:
         """``Σw·h``, ``Σw·h²`` and ``Σw·h·v`` (``v`` the centred energy) of the hinge at each
@@ -232,11 +240,12 @@ class ChangePointModel:
         self._score(x, y, w)
         return self
 
-    def _search_bounds(self, ordered: np.ndarray) -> tuple[float, float]:
-        """Where change points are searched, from the temperatures in ascending order."""
-        low_q, high_q = self.search_quantiles
-        low = max(float(np.quantile(ordered, low_q)), ordered[MIN_POINTS_BEYOND])
-        high = min(float(np.quantile(ordered, high_q)), ordered[-1 - MIN_POINTS_BEYOND])
+    def _search_bounds(self, points: _SortedPoints) -> tuple[float, float]:
+        """Where change points are searched (see ``search_quantiles``)."""
+        ordered = points.ordered
+        low_q, high_q = points.quantiles(tuple(self.search_quantiles))
+        low = max(low_q, ordered[MIN_POINTS_BEYOND])
+        high = min(high_q, ordered[-1 - MIN_POINTS_BEYOND])
         if not low < high:
             raise InputError(
                 f"the temperatures are too few or too alike to place a change point "
@@ -249,7 +258,7 @@ class ChangePointModel:
         """Change point(s) minimising the weighted SSE: grid search, then zoomed grids."""
         if self.kind == "2P":
             return ()
-        low, high = self._search_bounds(points.ordered)
+        low, high = self._search_bounds(points)
         heat = cool = np.linspace(low, high, self.grid_size)
         for _ in range(self.zoom_passes + 1):
             if self.kind == "5P":
