@@ -44,7 +44,7 @@ from engine.models._inputs import (
     step_of,
     temperature_values,
 )
-from engine.models.base import ModelInputs, fresh, scenario_rows
+from engine.models.base import ModelInputs, scenario_rows
 
 #: Name of the single fit when day groups are not split.
 ALL_DAYS = "all_days"
@@ -101,17 +101,11 @@ class DailyChangePointModel(DayTotalsModel):
     ) -> list[DailyChangePointModel | Exception]:
         """:meth:`fit` on the inputs before each cut, gathering the days once for all of them
         (see :class:`~engine.models._day_totals.DayHistory`); the same results."""
-        try:
-            history = DayHistory(inputs, temperature_values(inputs), cuts)
-        except InputError as error:
-            return [error] * len(cuts)
-        fitted: list[DailyChangePointModel | Exception] = []
-        for cut in cuts:
-            try:
-                fitted.append(fresh(self)._fit_days(history, cut))
-            except InputError as error:
-                fitted.append(error)
-        return fitted
+        return self._fits_sharing(
+            lambda: DayHistory(inputs, temperature_values(inputs), cuts),
+            lambda model, history, cut: model._fit_days(history, cut),
+            cuts,
+        )
 
     def _fit_days(self, history: DayHistory, cut: pd.Timestamp | None) -> DailyChangePointModel:
         """Fit on the days of ``history`` before ``cut``."""

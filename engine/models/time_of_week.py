@@ -58,7 +58,7 @@ from engine.models._time_of_week_fitting import (
     slot_of_week,
     temperature_segments,
 )
-from engine.models.base import ModelInputs, fresh, scenario_rows
+from engine.models.base import ModelInputs, scenario_rows
 
 #: How occupancy is decided: from the inputs' labels when given ("auto"), always from the
 #: labels, or always from the data.
@@ -127,17 +127,11 @@ class TimeOfWeekTemperatureModel(ModelFamily):
         """:meth:`fit` on the inputs before each cut, finding slots, labels and usable rows
         once (see :mod:`engine.models._time_of_week_fitting`); the same results."""
         self._check_settings()
-        try:
-            history = WeekHistory(self, inputs)
-        except InputError as error:
-            return [error] * len(cuts)
-        fitted: list[TimeOfWeekTemperatureModel | Exception] = []
-        for cut in cuts:
-            try:
-                fitted.append(fresh(self)._take(history.solve(cut)))
-            except InputError as error:
-                fitted.append(error)
-        return fitted
+        return self._fits_sharing(
+            lambda: WeekHistory(self, inputs),
+            lambda model, history, cut: model._take(history.solve(cut)),
+            cuts,
+        )
 
     def _check_settings(self) -> None:
         if self.occupancy not in OCCUPANCY_SOURCES:
