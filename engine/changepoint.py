@@ -12,9 +12,14 @@ energy per day and ``(·)⁺ = max(·, 0)``:
 
 ``h`` is reported as a positive "energy per degree below the change point" and ``k`` as energy
 per degree above it. Change points are found by a grid search over the middle of the
-temperature range, zoomed in around the best candidate a few times; at each candidate the
-intercept and slopes come from weighted least squares, solved for all candidates at once
-through their stacked normal equations. The final fit is re-solved directly for accuracy.
+temperature range, zoomed in around the best candidate a few times. Each candidate is scored
+by the weighted SSE of its least-squares fit, worked out from running sums rather than by a
+fit: with the periods sorted by temperature once, the sums a hinge needs at any change point
+(of the weights, ``w·x``, ``w·x²``, ``w·y`` and ``w·x·y`` on its side of the point) are two
+look-ups, and heating and cooling hinges never overlap, so each candidate's normal equations
+are a few numbers solved in closed form. The sorting and sums are shared by every shape
+:func:`fit_kinds` tries. The chosen fit is re-solved directly (least squares on its design)
+for accuracy.
 """
 
 from __future__ import annotations
@@ -38,90 +43,106 @@ _FORMAT = "change-point"
 _FORMAT_VERSION = 1
 
 
-def _hinges(x: np.ndarray, points: np.ndarray, side: str) -> np.ndarray:
-    """``(c − x)⁺`` (heating side) or ``(x − c)⁺`` (cooling side) for every candidate ``c``."""
-    if side == "heating":
-        return np.maximum(points[:, None] - x[None, :], 0.0)
-    return np.maximum(x[None, :] - points[:, None], 0.0)
-
-
 #: Normal equations whose Gram determinant is below this share of its diagonal's product are
-#: (nearly) singular: they get the least-norm solution instead of a direct solve.
+#: (nearly) singular, e.g. a hinge that is zero at every temperature: such a candidate is
+#: scored by the best of its hinges alone.
 _NEARLY_SINGULAR = 1e-10
 
 
-def _stacked_sse(gram: np.ndarray, rhs: np.ndarray, total: float) -> np.ndarray:
-    """Weighted SSE of the least-squares solution of each stacked normal-equation system.
+class _SortedPoints:
+    """The fit's points in ascending temperature, with running weighted sums from each end.
 
-    Regular systems are solved directly (LU); only nearly singular ones, e.g. a hinge that is
-    zero at every temperature, take the pseudo-inverse's least-norm solution.
+    A hinge ``(c − x)⁺`` is nonzero only on the points below ``c`` (``(x − c)⁺`` above it),
+    so its sums ``Σw·h``, ``Σw·h²`` and ``Σw·h·y`` at any candidate ``c`` follow from the
+    sums of ``w``, ``w·x``, ``w·x²``, ``w·y`` and ``w·x·y`` over the points on that side: one
+    look-up per candidate instead of a pass over the points. Temperatures are taken from
+    their weighted mean and energy from its weighted mean, so the sums lose few digits.
     """
-    diagonal = np.prod(np.diagonal(gram, axis1=-2, axis2=-1), axis=-1)
-    regular = np.linalg.det(gram) > _NEARLY_SINGULAR * diagonal
-    coefficients = np.empty_like(rhs)
-    coefficients[regular] = np.linalg.solve(gram[regular], rhs[regular][..., None])[..., 0]
-    if not regular.all():
-        irregular = ~regular
-        coefficients[irregular] = np.einsum(
-            "...ij,...j->...i", np.linalg.pinv(gram[irregular]), rhs[irregular]
-        )
-    return total - np.einsum("...i,...i->...", coefficients, rhs)
+
+    def __init__(self, x: np.ndarray, y: np.ndarray, w: np.ndarray) -> None:
+        self.x, self.y, self.w = x, y, w
+        order = np.argsort(x, kind="stable")
+        self.ordered = x[order]
+        weights = w[order]
+        self.weight = float(np.sum(weights))
+        self.centre = float(np.sum(weights * self.ordered) / self.weight)
+        u = self.ordered - self.centre
+        v = y[order] - float(np.sum(w * y) / self.weight)
+        wv = weights * v
+        columns = np.column_stack([weights, weights * u, weights * u * u, wv, wv * u])
+        zeros = np.zeros((1, columns.shape[1]))
+        self._below = np.concatenate([zeros, np.cumsum(columns, axis=0)])
+        self._above = np.concatenate([np.cumsum(columns[::-1], axis=0)[::-1], zeros])
+        self.sum_v = float(np.sum(wv))
+        #: Weighted sum of squares of energy about its mean: the SSE with no hinge.
+        self.spread = float(np.sum(wv * v)) - self.sum_v**2 / self.weight
+        self._quantiles: dict[tuple[float, ...], tuple[float, ...]] = {}
+
+    def quantiles(self, levels: tuple[float, ...]) -> tuple[float, ...]:
+        """Quantiles of the temperatures, worked out once for all the shapes that ask."""
+        if levels not in self._quantiles:
+            found = np.quantile(self.ordered, levels)
+            self._quantiles[levels] = tuple(float(value) for value in found)
+        return self._quantiles[levels]
+
+    def hinge_sums(self, points: np.ndarray, side: str) -> tuple[np.ndarray, ...]:
+        """``Σw·h``, ``Σw·h²`` and ``Σw·h·v`` (``v`` the centred energy) of the hinge at each
+        of ``points`` on the heating (below) or cooling (above) side."""
+        t = np.asarray(points, dtype=float) - self.centre
+        if side == "heating":
+            count = np.searchsorted(self.ordered, points, side="left")
+            n, su, suu, sv, suv = self._below[count].T
+            return t * n - su, t * t * n - 2 * t * su + suu, t * sv - suv
+        count = np.searchsorted(self.ordered, points, side="right")
+        n, su, suu, sv, suv = self._above[count].T
+        return su - t * n, suu - 2 * t * su + t * t * n, suv - t * sv
+
+
+def _explained(
+    points: _SortedPoints, heat: tuple[np.ndarray, ...] | None, cool: tuple[np.ndarray, ...] | None
+) -> np.ndarray:
+    """The drop in weighted SSE from the intercept-only fit when the hinges join it.
+
+    With an intercept, each hinge enters centred: ``a = Σw·h² − (Σw·h)²/Σw`` and
+    ``r = Σw·h·v − Σw·h·Σw·v/Σw``. Heating and cooling hinges never overlap (``c_h ≤ c_c``),
+    so the centred cross product is ``−Σw·h_h·Σw·h_c/Σw``, and the two-hinge drop is the
+    2×2 solve written out. The arrays broadcast: equal shapes for 4P, a grid for 5P.
+    """
+    centred = []
+    for sums in (heat, cool):
+        if sums is not None:
+            s, ss, sv = sums
+            centred.append(
+                (s, ss, ss - s * s / points.weight, sv - s * points.sum_v / points.weight)
+            )
+    with np.errstate(divide="ignore", invalid="ignore"):
+        alone = [np.where(a > _NEARLY_SINGULAR * ss, r * r / a, 0.0) for _, ss, a, r in centred]
+        if len(centred) == 1:
+            return alone[0]
+        (s1, ss1, a1, r1), (s2, ss2, a2, r2) = centred
+        b = -s1 * s2 / points.weight
+        det = a1 * a2 - b * b
+        both = (a2 * r1 * r1 - 2 * b * r1 * r2 + a1 * r2 * r2) / det
+        return np.where(det > _NEARLY_SINGULAR * ss1 * ss2, both, np.maximum(*alone))
 
 
 def _candidate_sse(
-    x: np.ndarray,
-    y: np.ndarray,
-    w: np.ndarray,
-    kind: str,
-    heat: np.ndarray | None,
-    cool: np.ndarray | None,
+    points: _SortedPoints, kind: str, heat: np.ndarray | None, cool: np.ndarray | None
 ) -> np.ndarray:
-    """Weighted SSE for every candidate change point (or, for 5P, every pair of them).
+    """Weighted SSE of the least-squares fit at every candidate change point (or, for 5P,
+    every pair of them), from running sums.
 
-    The caller centres ``y`` on its weighted mean, so the SSE does not lose digits to cancellation.
     Returns shape ``(len(heat),)`` or ``(len(cool),)``, or ``(len(heat), len(cool))`` for 5P,
     with ``inf`` where a 5P pair has its heating point above its cooling point.
     """
-    wy = w * y
-    total = float(np.sum(wy * y))
-    sum_w = float(np.sum(w))
-    sum_wy = float(np.sum(wy))
-    blocks = []
-    if heat is not None:
-        blocks.append(_hinges(x, heat, "heating"))
-    if cool is not None:
-        blocks.append(_hinges(x, cool, "cooling"))
-
+    heat_sums = None if heat is None else points.hinge_sums(heat, "heating")
+    cool_sums = None if cool is None else points.hinge_sums(cool, "cooling")
     if kind == "5P":
-        hh, hc = blocks
-        s_h, s_c = hh @ w, hc @ w
-        shape = (len(hh), len(hc))
-        gram = np.empty((*shape, 3, 3))
-        gram[..., 0, 0] = sum_w
-        gram[..., 0, 1] = gram[..., 1, 0] = s_h[:, None]
-        gram[..., 0, 2] = gram[..., 2, 0] = s_c[None, :]
-        gram[..., 1, 1] = ((hh * hh) @ w)[:, None]
-        gram[..., 2, 2] = ((hc * hc) @ w)[None, :]
-        gram[..., 1, 2] = gram[..., 2, 1] = (hh * w) @ hc.T
-        rhs = np.empty((*shape, 3))
-        rhs[..., 0] = sum_wy
-        rhs[..., 1] = (hh @ wy)[:, None]
-        rhs[..., 2] = (hc @ wy)[None, :]
-        sse = _stacked_sse(gram, rhs, total)
+        heat_sums = tuple(s[:, None] for s in heat_sums)
+        cool_sums = tuple(s[None, :] for s in cool_sums)
+        sse = points.spread - _explained(points, heat_sums, cool_sums)
         return np.where(heat[:, None] <= cool[None, :], sse, np.inf)
-
-    size = blocks[0].shape[0]
-    p = 1 + len(blocks)
-    gram = np.empty((size, p, p))
-    rhs = np.empty((size, p))
-    gram[:, 0, 0] = sum_w
-    rhs[:, 0] = sum_wy
-    for i, block in enumerate(blocks, start=1):
-        gram[:, 0, i] = gram[:, i, 0] = block @ w
-        rhs[:, i] = block @ wy
-        for j, other in enumerate(blocks[i - 1 :], start=i):
-            gram[:, i, j] = gram[:, j, i] = np.sum(block * other * w, axis=1)
-    return _stacked_sse(gram, rhs, total)
+    return points.spread - _explained(points, heat_sums, cool_sums)
 
 
 def _zoom(grid: np.ndarray, best: int, low: float, high: float, size: int) -> np.ndarray:
@@ -197,51 +218,58 @@ class ChangePointModel:
         weights: ArrayLike | None = None,
     ) -> ChangePointModel:
         """Fit the model; ``temps`` in °C, ``energy`` per day, ``weights`` e.g. days per period."""
+        self._check_kind()
+        x, y, w = _checked_inputs(temps, energy, weights)
+        _require_periods(len(x), PARAMETER_COUNT[self.kind])
+        return self._fit_points(_SortedPoints(x, y, w))
+
+    def _check_kind(self) -> None:
         if self.kind not in KINDS:
             raise InputError(
                 f"unknown change-point model {self.kind!r}.", hint=f"Choose one of {KINDS}."
             )
-        x, y, w = _checked_inputs(temps, energy, weights, PARAMETER_COUNT[self.kind])
-        y_mean = float(np.sum(w * y) / np.sum(w))
-        points = self._search(x, y - y_mean, w)
-        design = _design(x, self.kind, points)
+
+    def _fit_points(self, points: _SortedPoints) -> ChangePointModel:
+        """Search the change points on the sorted sums, then solve and score directly."""
+        x, y, w = points.x, points.y, points.w
+        change_points = self._search(points)
+        design = _design(x, self.kind, change_points)
         root_w = np.sqrt(w)
         coefficients = np.linalg.lstsq(design * root_w[:, None], y * root_w, rcond=None)[0]
-        self._store(points, coefficients)
+        self._store(change_points, coefficients)
         self._score(x, y, w)
         return self
 
-    def _search_bounds(self, x: np.ndarray) -> tuple[float, float]:
-        ordered = np.sort(x)
-        low_q, high_q = self.search_quantiles
-        low = max(float(np.quantile(x, low_q)), ordered[MIN_POINTS_BEYOND])
-        high = min(float(np.quantile(x, high_q)), ordered[-1 - MIN_POINTS_BEYOND])
+    def _search_bounds(self, points: _SortedPoints) -> tuple[float, float]:
+        """Where change points are searched (see ``search_quantiles``)."""
+        ordered = points.ordered
+        low_q, high_q = points.quantiles(tuple(self.search_quantiles))
+        low = max(low_q, ordered[MIN_POINTS_BEYOND])
+        high = min(high_q, ordered[-1 - MIN_POINTS_BEYOND])
         if not low < high:
             raise InputError(
                 f"the temperatures are too few or too alike to place a change point "
-                f"({len(x)} periods from {ordered[0]:.1f} to {ordered[-1]:.1f} °C).",
+                f"({len(ordered)} periods from {ordered[0]:.1f} to {ordered[-1]:.1f} °C).",
                 hint="Use more periods spanning a wider range of weather, or the 2P model.",
             )
         return low, high
 
-    def _search(self, x: np.ndarray, y: np.ndarray, w: np.ndarray) -> tuple[float, ...]:
+    def _search(self, points: _SortedPoints) -> tuple[float, ...]:
         """Change point(s) minimising the weighted SSE: grid search, then zoomed grids."""
         if self.kind == "2P":
             return ()
-        low, high = self._search_bounds(x)
+        low, high = self._search_bounds(points)
         heat = cool = np.linspace(low, high, self.grid_size)
         for _ in range(self.zoom_passes + 1):
             if self.kind == "5P":
-                sse = _candidate_sse(x, y, w, self.kind, heat, cool)
+                sse = _candidate_sse(points, self.kind, heat, cool)
                 i, j = np.unravel_index(np.argmin(sse), sse.shape)
                 best = (float(heat[i]), float(cool[j]))
                 heat = _zoom(heat, i, low, high, self.grid_size)
                 cool = _zoom(cool, j, low, high, self.grid_size)
             else:
                 sse = _candidate_sse(
-                    x,
-                    y,
-                    w,
+                    points,
                     self.kind,
                     heat if self.kind != "3PC" else None,
                     cool if self.kind != "3PH" else None,
@@ -397,7 +425,6 @@ def _checked_inputs(
     temps: ArrayLike,
     energy: ArrayLike,
     weights: ArrayLike | None,
-    parameters: int,
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     x = np.asarray(temps, dtype=float).ravel()
     y = np.asarray(energy, dtype=float).ravel()
@@ -418,12 +445,15 @@ def _checked_inputs(
             "weights must be positive (e.g. the number of days in each period).",
             hint="Drop periods of zero length.",
         )
-    if len(x) <= parameters:
+    return x, y, w
+
+
+def _require_periods(periods: int, parameters: int) -> None:
+    if periods <= parameters:
         raise InputError(
-            f"{len(x)} periods are too few to fit {parameters} parameters.",
+            f"{periods} periods are too few to fit {parameters} parameters.",
             hint="Use more periods (e.g. daily data) or a simpler model.",
         )
-    return x, y, w
 
 
 def _json_number(value: float) -> float | None:
@@ -447,10 +477,16 @@ def fit_kinds(
     """
     if not kinds:
         raise InputError("no change-point shapes were chosen.", hint=f"Choose from {KINDS}.")
+    x, y, w = _checked_inputs(temps, energy, weights)
+    points = None  # sorted and summed once, for every shape
     models, first_problem = [], None
     for kind in kinds:
+        model = ChangePointModel(kind)
         try:
-            models.append(ChangePointModel(kind).fit(temps, energy, weights))
+            model._check_kind()
+            _require_periods(len(x), PARAMETER_COUNT[kind])
+            points = _SortedPoints(x, y, w) if points is None else points
+            models.append(model._fit_points(points))
         except InputError as problem:
             first_problem = first_problem or problem
     if not models:

@@ -12,7 +12,7 @@ from __future__ import annotations
 
 import copy
 import inspect
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from dataclasses import replace
 from typing import Any, ClassVar, Self
 
@@ -20,7 +20,7 @@ import numpy as np
 import pandas as pd
 from sklearn.exceptions import NotFittedError
 
-from engine.errors import ProjectError
+from engine.errors import InputError, ProjectError
 from engine.models.base import ModelInputs, scenario_rows
 from engine.progress import Cancelled
 
@@ -107,6 +107,28 @@ class ModelFamily:
             except Cancelled:
                 raise
             except Exception as error:  # a window the family cannot fit is reported, not fatal
+                fitted.append(error)
+        return fitted
+
+    def _fits_sharing(
+        self,
+        history: Callable[[], Any],
+        fit_window: Callable[[Self, Any, pd.Timestamp], Self],
+        cuts: Sequence[pd.Timestamp],
+    ) -> list[Self | Exception]:
+        """What an override of :meth:`fit_before_each` returns: ``fit_window(model, shared,
+        cut)`` for a fresh copy of this model at each cut, ``shared`` built once by
+        ``history``; a window that cannot be fitted gets its error (every window gets the
+        history's, when that cannot be built)."""
+        try:
+            shared = history()
+        except InputError as error:
+            return [error] * len(cuts)
+        fitted: list[Self | Exception] = []
+        for cut in cuts:
+            try:
+                fitted.append(fit_window(type(self)(**self.settings()), shared, cut))
+            except InputError as error:
                 fitted.append(error)
         return fitted
 

@@ -34,11 +34,7 @@ def step_of(inputs: ModelInputs) -> pd.Timedelta:
             "the model inputs need time stamps with a time zone.",
             hint="Build the inputs from stored meter data (UTC interval starts).",
         )
-    if len(index) < 2:
-        raise InputError(
-            f"the model inputs hold {len(index)} interval(s); at least two are needed.",
-            hint="Choose a longer span of readings.",
-        )
+    require_intervals(len(index))
     if not (index.is_monotonic_increasing and index.is_unique):
         raise InputError(
             "the model inputs' time stamps are out of order or repeated.",
@@ -66,6 +62,15 @@ def step_of(inputs: ModelInputs) -> pd.Timedelta:
             hint="Align the readings to a regular interval in the cleaning step.",
         )
     return spacing
+
+
+def require_intervals(count: int) -> None:
+    """Raise when the inputs (or a window of them) hold fewer than two intervals."""
+    if count < 2:
+        raise InputError(
+            f"the model inputs hold {count} interval(s); at least two are needed.",
+            hint="Choose a longer span of readings.",
+        )
 
 
 def require_interval_data(step: pd.Timedelta, what: str) -> None:
@@ -101,13 +106,17 @@ def energy_values(inputs: ModelInputs, minimum: int = 2) -> np.ndarray:
             hint="Give the readings of the fit window.",
         )
     energy = _aligned(inputs.energy, inputs.index)
-    known = int(np.isfinite(energy).sum())
+    require_known_energy(int(np.isfinite(energy).sum()), minimum)
+    return energy
+
+
+def require_known_energy(known: int, minimum: int) -> None:
+    """Raise when fewer than ``minimum`` intervals (of the inputs or a window) have energy."""
     if known < minimum:
         raise InputError(
             f"only {known} intervals have energy readings; this model needs at least {minimum}.",
             hint="Choose a longer fit window or fill the gaps in the cleaning step.",
         )
-    return energy
 
 
 def temperature_values(inputs: ModelInputs) -> np.ndarray | None:

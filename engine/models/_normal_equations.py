@@ -7,7 +7,8 @@ over the data for that column instead of a new ``XᵀX``.
 
 Rows can carry weights: with 0/1 weights one matrix of a whole history serves the fit of any
 window of it, and the block of ``XᵀX`` of columns that every window shares can be summed month
-by block once (:func:`prefix_grams`) instead of once per window.
+by block once (:func:`prefix_grams`) instead of once per window; :func:`prefix_bincounts`
+does the same for sums per key (a day shape's slots).
 """
 
 from __future__ import annotations
@@ -122,3 +123,20 @@ def prefix_grams(matrix: np.ndarray, ends: Sequence[int]) -> dict[int, np.ndarra
         total = total + block.T @ block
         grams[end], start = total, end
     return grams
+
+
+def prefix_bincounts(
+    keys: np.ndarray, weights: np.ndarray, size: int, ends: Sequence[int]
+) -> dict[int, np.ndarray]:
+    """Sums of ``weights`` per key over the first ``end`` rows, for each of ``ends``.
+
+    Like :func:`prefix_grams`, the rows between two consecutive ends are counted once and
+    the blocks added up.
+    """
+    sums: dict[int, np.ndarray] = {}
+    total = np.zeros(size)
+    start = 0
+    for end in sorted(set(ends)):
+        total = total + np.bincount(keys[start:end], weights=weights[start:end], minlength=size)
+        sums[end], start = total, end
+    return sums

@@ -41,20 +41,23 @@ class DayShapes:
         """Free shares: each group's slots less one, since a row adds up to 1."""
         return int(self.shares.shape[0] * (self.shares.shape[1] - 1))
 
+    @staticmethod
+    def slot_keys(
+        local: pd.DatetimeIndex, step: pd.Timedelta, view: DailyView
+    ) -> tuple[np.ndarray, np.ndarray]:
+        """Each interval's (day group, slot of the day) as one key, and whether its day is
+        whole (``view.energy`` must be set): the intervals :meth:`from_sums` learns from."""
+        slots = max(int(DAY // step), 1)
+        key = view.group[view.position] * slots + slot_of_day(local, step)
+        return key, np.isfinite(view.energy)[view.position]
+
     @classmethod
-    def learn(
-        cls, local: pd.DatetimeIndex, step: pd.Timedelta, view: DailyView, energy: np.ndarray
-    ) -> DayShapes:
-        """Shares from the whole days of ``view`` (its ``energy`` must be set)."""
+    def from_sums(cls, step: pd.Timedelta, by_key: np.ndarray) -> DayShapes:
+        """Shares from the energy of whole days summed per :meth:`slot_keys` key."""
         slots = max(int(DAY // step), 1)
         if slots == 1:
             return cls(step, np.ones((len(DAY_GROUPS), 1)))
-        whole_day = np.isfinite(view.energy)
-        in_whole_day = whole_day[view.position]
-        key = view.group[view.position] * slots + slot_of_day(local, step)
-        by_slot = np.bincount(
-            key[in_whole_day], weights=energy[in_whole_day], minlength=len(DAY_GROUPS) * slots
-        ).reshape(len(DAY_GROUPS), slots)
+        by_slot = np.array(by_key, dtype=float).reshape(len(DAY_GROUPS), slots)
         totals = by_slot.sum(axis=1)
         learned = totals > 0
         if not learned.any():

@@ -34,7 +34,6 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from engine.errors import InputError
 from engine.models._calendar_design import (
     COMPONENTS,
     Design,
@@ -61,7 +60,7 @@ from engine.models._inputs import (
     require_temperature,
     step_of,
 )
-from engine.models.base import ModelInputs, fresh, scenario_rows
+from engine.models.base import ModelInputs, scenario_rows
 
 #: Which weather terms to include: found from the data ("auto"), fixed, or none.
 WEATHER_TERMS: tuple[str, ...] = ("auto", "heating", "cooling", "both", "none")
@@ -163,17 +162,11 @@ class CalendarRegressionModel(ModelFamily):
         """:meth:`fit` on the inputs before each cut, sharing the work that does not depend
         on the cut (see :mod:`engine.models._calendar_fitting`); the same results."""
         self._check_settings()
-        try:
-            history = FitHistory(self, inputs, cuts)
-        except InputError as error:
-            return [error] * len(cuts)
-        fitted: list[CalendarRegressionModel | Exception] = []
-        for cut in cuts:
-            try:
-                fitted.append(fresh(self)._take(history.solve(cut)))
-            except InputError as error:
-                fitted.append(error)
-        return fitted
+        return self._fits_sharing(
+            lambda: FitHistory(self, inputs, cuts),
+            lambda model, history, cut: model._take(history.solve(cut)),
+            cuts,
+        )
 
     def _check_settings(self) -> None:
         if self.weather_terms not in WEATHER_TERMS:

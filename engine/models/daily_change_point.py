@@ -7,10 +7,18 @@ day totals; for hourly (or shorter) inputs it spreads each predicted day over it
 the meter's typical share of the day in each interval for that day group, learned from whole
 days in the fit window (:class:`engine.models._shapes.DayShapes`). Without temperature it
 predicts each day group's mean daily energy.
+
+Backtests and budgets fit the model before many monthly cuts of one history: the days are
+gathered once (:class:`~engine.models._day_totals.DayHistory`) and each window is the
+history's first days, so a window only does what depends on its own days: the groups'
+change-point fits, whose search scores every candidate from running sums over the
+temperature-sorted days (:mod:`engine.changepoint`), and its day shapes from sums per slot
+added up between the cuts. The results equal fits from scratch (a test checks).
 """
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import replace
 from typing import Any
 
@@ -19,7 +27,7 @@ import pandas as pd
 
 from engine.changepoint import PARAMETER_COUNT, ChangePointModel, select_best
 from engine.errors import InputError
-from engine.models._day_totals import DayTotalsModel
+from engine.models._day_totals import DayHistory, DayTotalsModel
 from engine.models._days import (
     DAY_GROUPS,
     DailyView,
@@ -93,15 +101,30 @@ class DailyChangePointModel(DayTotalsModel):
 
     def fit(self, inputs: ModelInputs) -> DailyChangePointModel:
         """Fit the day groups' change-point models and the day shapes."""
-        temperature = temperature_values(inputs)
-        view = self._fit_view(inputs, temperature)
+        return self._fit_days(DayHistory(inputs, temperature_values(inputs)), None)
+
+    def fit_before_each(
+        self, inputs: ModelInputs, cuts: Sequence[pd.Timestamp]
+    ) -> list[DailyChangePointModel | Exception]:
+        """:meth:`fit` on the inputs before each cut, gathering the days once for all of them
+        (see :class:`~engine.models._day_totals.DayHistory`); the same results."""
+        return self._fits_sharing(
+            lambda: DayHistory(inputs, temperature_values(inputs), cuts),
+            lambda model, history, cut: model._fit_days(history, cut),
+            cuts,
+        )
+
+    def _fit_days(self, history: DayHistory, cut: pd.Timestamp | None) -> DailyChangePointModel:
+        """Fit on the days of ``history`` before ``cut``."""
+        view = self._take_days(history, cut)
+        with_temperature = history.uses_temperature
         usable = np.isfinite(view.energy)
-        if temperature is not None:
+        if with_temperature:
             usable &= np.isfinite(view.temperature)
         if usable.sum() < self.min_group_days:
             raise InputError(
                 f"only {int(usable.sum())} whole days have energy"
-                + (" and temperature" if temperature is not None else "")
+                + (" and temperature" if with_temperature else "")
                 + f"; daily change-point regression needs at least {self.min_group_days}.",
                 hint="Choose a longer fit window or fill gaps in the readings and weather.",
             )
@@ -109,9 +132,9 @@ class DailyChangePointModel(DayTotalsModel):
         means: dict[str, float] = {}
         for name, chosen in self._group_masks(view, usable).items():
             means[name] = float(view.energy[chosen].mean())
-            if temperature is not None:
+            if with_temperature:
                 models[name] = self._fit_one(view.temperature[chosen], view.energy[chosen])
-        self.uses_temperature_ = temperature is not None
+        self.uses_temperature_ = with_temperature
         self.change_point_models_ = models
         self.mean_daily_energy_ = means
         per_group = [PARAMETER_COUNT[model.kind] for model in models.values()] or [1] * len(means)

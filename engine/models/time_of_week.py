@@ -17,11 +17,16 @@ function of outdoor temperature, fitted separately for occupied and unoccupied i
   modes get the segments, since campus heating and cooling run around the clock.
 
 Both modes are solved together by least squares with the slot coefficients swept out
-(group means), so the fit is a small dense solve whatever the length of the history.
+(group means), so the fit is a small dense solve whatever the length of the history. Its
+normal equations are built from counts and sums per slot and temperature bin rather than
+from a design matrix, and fits before many cuts of one history find the slots, labels and
+usable rows once; each window then only places its own knots, decides its occupancy (data
+rule) and sums its rows (:mod:`engine.models._time_of_week_fitting`).
 """
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from typing import Any
 
 import numpy as np
@@ -38,49 +43,26 @@ from engine.models._family import (
     timedelta_seconds,
 )
 from engine.models._inputs import (
-    energy_values,
     labels_of,
     local_clock,
     prediction,
-    require_interval_data,
     require_same_step,
     require_temperature,
     step_of,
-    temperature_values,
+)
+from engine.models._time_of_week_fitting import (
+    OCCUPIED,
+    UNOCCUPIED,
+    WeekFit,
+    WeekHistory,
+    slot_of_week,
+    temperature_segments,
 )
 from engine.models.base import ModelInputs, scenario_rows
 
-WEEK = pd.Timedelta(weeks=1)
 #: How occupancy is decided: from the inputs' labels when given ("auto"), always from the
 #: labels, or always from the data.
 OCCUPANCY_SOURCES: tuple[str, ...] = ("auto", "labels", "data")
-_UNOCCUPIED, _OCCUPIED = 0, 1
-
-
-def slot_of_week(local: pd.DatetimeIndex, step: pd.Timedelta) -> np.ndarray:
-    """Time-of-week slot of each local interval start (0 = Monday 00:00)."""
-    since_monday = (local - local.normalize()) + pd.to_timedelta(local.day_of_week, unit="D")
-    return np.asarray(since_monday // step, dtype=np.int64)
-
-
-def temperature_segments(temps: np.ndarray, knots: np.ndarray) -> np.ndarray:
-    """The piecewise-linear temperature components (one column more than knots); rows add to T."""
-    lower = np.concatenate(([-np.inf], knots))
-    upper = np.concatenate((knots, [np.inf]))
-    segments = np.clip(np.asarray(temps, dtype=float)[:, None], lower, upper)
-    segments[:, 1:] -= knots
-    return segments
-
-
-def _group_means(groups: np.ndarray, values: np.ndarray, size: int) -> np.ndarray:
-    """Mean of ``values`` (rows) per group; NaN for empty groups."""
-    count = np.bincount(groups, minlength=size).astype(float)
-    columns = values.reshape(len(groups), -1)
-    sums = np.column_stack(
-        [np.bincount(groups, weights=column, minlength=size) for column in columns.T]
-    )
-    with np.errstate(invalid="ignore", divide="ignore"):
-        return (sums / count[:, None]).reshape((size, *values.shape[1:]))
 
 
 class TimeOfWeekTemperatureModel(ModelFamily):
@@ -142,84 +124,36 @@ class TimeOfWeekTemperatureModel(ModelFamily):
 
     def fit(self, inputs: ModelInputs) -> TimeOfWeekTemperatureModel:
         """Fit slot coefficients and temperature slopes for both occupancy modes."""
+        self._check_settings()
+        return self._take(WeekHistory(self, inputs).solve(None))
+
+    def fit_before_each(
+        self, inputs: ModelInputs, cuts: Sequence[pd.Timestamp]
+    ) -> list[TimeOfWeekTemperatureModel | Exception]:
+        """:meth:`fit` on the inputs before each cut, finding slots, labels and usable rows
+        once (see :mod:`engine.models._time_of_week_fitting`); the same results."""
+        self._check_settings()
+        return self._fits_sharing(
+            lambda: WeekHistory(self, inputs),
+            lambda model, history, cut: model._take(history.solve(cut)),
+            cuts,
+        )
+
+    def _check_settings(self) -> None:
         if self.occupancy not in OCCUPANCY_SOURCES:
             raise ValueError(f"occupancy must be one of {OCCUPANCY_SOURCES}")
-        step = step_of(inputs)
-        require_interval_data(step, self.label)
-        slots = int(WEEK // step)
-        energy = energy_values(inputs, minimum=slots)
-        temperature = temperature_values(inputs)
-        slot = slot_of_week(local_clock(inputs), step)
-        usable = np.isfinite(energy)
-        if temperature is not None:
-            usable &= np.isfinite(temperature)
-        seen = np.bincount(slot[usable], minlength=slots) > 0
-        if not seen.all():
-            raise InputError(
-                f"{int((~seen).sum())} of the {slots} times of the week have no readings"
-                + (" with temperatures" if temperature is not None else "")
-                + "; time-of-week regression needs each at least once.",
-                hint="Fit on at least a few whole weeks of readings.",
-            )
-        y, slot = energy[usable], slot[usable]
-        temps = None if temperature is None else temperature[usable]
-        self.knots_ = self._knots(temps)
-        segments = None if temps is None else temperature_segments(temps, self.knots_)
 
-        source = self.occupancy
-        if source == "auto":
-            source = "labels" if inputs.labels is not None else "data"
-        if source == "labels":
-            self.occupied_slots_ = None
-            mode = labels_of(inputs)["occupied"].to_numpy(dtype=bool)[usable].astype(np.int64)
-        else:
-            self.occupied_slots_ = self._occupied_by_residuals(y, slot, temps, slots)
-            mode = self.occupied_slots_[slot].astype(np.int64)
-
-        groups = mode * slots + slot
-        columns = 0 if segments is None else segments.shape[1]
-        design = np.zeros((len(y), 2 * columns))
-        rank = 0
-        if segments is not None:
-            design[:, :columns] = segments * (mode == _UNOCCUPIED)[:, None]
-            design[:, columns:] = segments * (mode == _OCCUPIED)[:, None]
-            swept_design = design - _group_means(groups, design, 2 * slots)[groups]
-            swept_y = y - _group_means(groups, y, 2 * slots)[groups]
-            beta, _, rank, _ = np.linalg.lstsq(swept_design, swept_y, rcond=None)
-        else:
-            beta = np.zeros(0)
-        offsets = _group_means(groups, y - design @ beta, 2 * slots)
-        self.interval_ = step
-        self.uses_temperature_ = temperature is not None
-        self.occupancy_source_ = source
-        self.slot_coefficients_ = offsets.reshape(2, slots)
-        self.temperature_coefficients_ = beta.reshape(2, columns)
-        self.n_parameters_ = int(np.isfinite(offsets).sum() + rank)
+    def _take(self, fit: WeekFit) -> TimeOfWeekTemperatureModel:
+        """Set the fitted attributes from what a fit learned."""
+        self.interval_ = fit.interval
+        self.uses_temperature_ = fit.uses_temperature
+        self.occupancy_source_ = fit.occupancy_source
+        self.knots_ = fit.knots
+        self.occupied_slots_ = fit.occupied_slots
+        self.slot_coefficients_ = fit.slot_coefficients
+        self.temperature_coefficients_ = fit.temperature_coefficients
+        self.n_parameters_ = fit.n_parameters
         return self
-
-    def _knots(self, temps: np.ndarray | None) -> np.ndarray:
-        if temps is None:
-            return np.zeros(0)
-        low, high = np.quantile(temps, self.knot_quantiles)
-        if not high > low:
-            raise InputError(
-                f"the fit window's temperatures hardly vary ({low:.1f} to {high:.1f} °C), "
-                "so no temperature knots can be placed.",
-                hint="Fit on a longer window with a range of weather, or without temperature.",
-            )
-        return np.linspace(low, high, self.knots)
-
-    def _occupied_by_residuals(
-        self, y: np.ndarray, slot: np.ndarray, temps: np.ndarray | None, slots: int
-    ) -> np.ndarray:
-        """The data rule: slots whose residual from a plain temperature line is mostly positive."""
-        if temps is None:
-            residual = y - y.mean()
-        else:
-            line = np.column_stack([np.ones_like(temps), temps])
-            residual = y - line @ np.linalg.lstsq(line, y, rcond=None)[0]
-        positive = np.bincount(slot, weights=residual > 0, minlength=slots)
-        return positive / np.bincount(slot, minlength=slots) > self.occupied_share
 
     def coefficients_table(self) -> pd.DataFrame:
         """The fit in physical units and plain words, per occupancy mode: the average load at
@@ -229,7 +163,7 @@ class TimeOfWeekTemperatureModel(ModelFamily):
         self._require_fitted()
         hours = self.interval_ / pd.Timedelta(hours=1)
         rows: list[Statement] = []
-        for mode, words in ((_OCCUPIED, "occupied"), (_UNOCCUPIED, "unoccupied")):
+        for mode, words in ((OCCUPIED, "occupied"), (UNOCCUPIED, "unoccupied")):
             slots = self.slot_coefficients_[mode]
             if not np.isfinite(slots).any():
                 continue
@@ -261,7 +195,7 @@ class TimeOfWeekTemperatureModel(ModelFamily):
                 f"the {self.label} was fitted without temperature.",
                 hint="Fit it with outdoor temperatures to see a temperature response.",
             )
-        mode = _OCCUPIED if occupied else _UNOCCUPIED
+        mode = OCCUPIED if occupied else UNOCCUPIED
         segments = temperature_segments(np.atleast_1d(temps), self.knots_)
         return segments @ self.temperature_coefficients_[mode]
 

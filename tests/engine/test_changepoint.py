@@ -20,6 +20,9 @@ from engine.changepoint import (
     KINDS,
     PARAMETER_COUNT,
     ChangePointModel,
+    _candidate_sse,
+    _checked_inputs,
+    _SortedPoints,
     best_of,
     fit_kinds,
     select_best,
@@ -286,3 +289,40 @@ def test_bad_input_is_named(temps, energy, weights, message):
 def test_unknown_kind_is_named():
     with pytest.raises(InputError, match="unknown change-point model"):
         ChangePointModel("6P").fit([1.0, 2.0, 3.0], [1.0, 2.0, 3.0])
+
+
+@pytest.mark.parametrize("kind", ["3PH", "3PC", "4P", "5P"])
+@pytest.mark.parametrize("weighted", [False, True], ids=["plain", "weighted"])
+def test_candidate_errors_from_running_sums_equal_least_squares_at_each_candidate(kind, weighted):
+    # Outside check: numpy.linalg.lstsq on the explicit design [1, hinges] at every candidate
+    # (weighted by √w). The running sums must give the same weighted SSE to 1e-8 relative,
+    # including candidates with no temperature beyond them (an all-zero hinge) and 5P pairs.
+    temps, energy = _daily_data("5P", n=250, noise=25.0, seed=13)
+    temps[:20] = -12.0  # a floor of equal readings: the lowest candidates have empty hinges
+    w = np.random.default_rng(1).uniform(25.0, 35.0, len(temps)) if weighted else None
+    x, y, weights = _checked_inputs(temps, energy, w)
+    points = _SortedPoints(x, y, weights)
+    grid = np.concatenate([[-12.0, -13.0], np.linspace(-5.0, 28.0, 12), [40.0]])
+    heat = grid if kind != "3PC" else None
+    cool = grid if kind != "3PH" else None
+    sse = _candidate_sse(points, kind, heat, cool)
+
+    def lstsq_sse(heat_point, cool_point):
+        columns = [np.ones_like(x)]
+        if heat_point is not None:
+            columns.append(np.maximum(heat_point - x, 0.0))
+        if cool_point is not None:
+            columns.append(np.maximum(x - cool_point, 0.0))
+        root = np.sqrt(weights)[:, None]
+        design, target = np.column_stack(columns) * root, y * root[:, 0]
+        residual = target - design @ np.linalg.lstsq(design, target, rcond=None)[0]
+        return float(residual @ residual)
+
+    if kind == "5P":
+        expected = np.array([[lstsq_sse(h, c) if h <= c else np.inf for c in grid] for h in grid])
+    else:
+        expected = np.array([lstsq_sse(None if heat is None else c, None if cool is None else c)
+                             for c in grid])  # fmt: skip
+    finite = np.isfinite(expected)
+    assert np.array_equal(finite, np.isfinite(sse))
+    np.testing.assert_allclose(sse[finite], expected[finite], rtol=1e-8)

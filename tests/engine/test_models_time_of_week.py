@@ -134,3 +134,36 @@ def test_the_statements_give_the_slopes_beyond_the_outer_knots(model):
         assert table.loc[f"{mode}: warmer", "value"] == pytest.approx(warmer[0], rel=1e-9)
     # The campus heats below its balance point: colder hours use more.
     assert table.loc["occupied: colder", "value"] > 0
+
+
+@pytest.mark.parametrize("labelled", [True, False], ids=["labels", "data rule"])
+def test_the_fit_is_ordinary_least_squares_on_the_explicit_design(building, labelled):
+    # Outside check: numpy.linalg.lstsq on the design the model stands for, one indicator
+    # column per (occupancy mode, time-of-week slot) and the temperature segments times each
+    # mode's indicator. The fit builds its normal equations from binned sums instead; both
+    # must give the same slopes and slot levels to 1e-8, and the design's rank as parameters.
+    inputs = building.inputs.window(end=pd.Timestamp("2022-03-01", tz=ZONE))
+    if not labelled:
+        inputs = replace(inputs, labels=None)
+    model = TimeOfWeekTemperatureModel().fit(inputs)
+    local = inputs.index.tz_convert(ZONE).tz_localize(None)
+    slot = np.asarray(local.day_of_week * 24 + local.hour)
+    if labelled:
+        mode = inputs.labels["occupied"].to_numpy(dtype=int)
+    else:
+        mode = model.occupied_slots_[slot].astype(int)
+    groups = mode * 168 + slot
+    present = np.unique(groups)
+    indicators = (groups[:, None] == present[None, :]).astype(float)
+    segments = temperature_segments(inputs.temperature.to_numpy(), model.knots_)
+    slopes = np.hstack([segments * (mode == m)[:, None] for m in (0, 1)])
+    design = np.hstack([indicators, slopes])
+    solution = np.linalg.lstsq(design, inputs.energy.to_numpy(), rcond=None)[0]
+    levels, expected_slopes = solution[: len(present)], solution[len(present) :]
+    np.testing.assert_allclose(
+        model.temperature_coefficients_.ravel(), expected_slopes, rtol=1e-8, atol=1e-10
+    )
+    fitted_levels = model.slot_coefficients_.ravel()[present]
+    np.testing.assert_allclose(fitted_levels, levels, rtol=1e-8)
+    assert np.isnan(np.delete(model.slot_coefficients_.ravel(), present)).all()
+    assert model.n_parameters_ == np.linalg.matrix_rank(design)
