@@ -69,7 +69,8 @@ def checklist(project: Project | None) -> list[StepState]:
         StepState(
             "Models",
             bool(meters) and missing == 0,
-            f"{len(modelled)} of {counted(len(meters), 'meter')} have a chosen model.",
+            f"{len(modelled)} of {counted(len(meters), 'meter')} "
+            f"{'has' if len(modelled) == 1 else 'have'} a chosen model.",
             f"Fit and compare the {counted(missing, 'meter')} without one (or let the budget "
             "fit the default models)."
             if missing
