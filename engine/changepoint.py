@@ -299,6 +299,20 @@ class ChangePointModel:
             + self.cooling_slope_ * np.maximum(x - cool_point, 0.0)
         )
 
+    def weather_terms(self, temps: ArrayLike) -> np.ndarray:
+        """The fitted shape's temperature columns at ``temps``, one row per temperature.
+
+        ``(c − x)⁺`` for heating and ``(x − c)⁺`` for cooling at the fitted change points, and
+        for 2P ``x`` (``−x`` when the fitted slope falls), so that a positive coefficient on
+        every column means more energy. Other data can be regressed on them with the shape
+        this model found.
+        """
+        if not self.is_fitted:
+            raise NotFittedError("this change-point model is not fitted yet; call fit first.")
+        x = np.asarray(temps, dtype=float).ravel()
+        columns = _design(x, self.kind, self.change_points_)[:, 1:]
+        return -columns if self.kind == "2P" and self.heating_slope_ > 0 else columns
+
     @property
     def plausible(self) -> bool:
         """Whether the fitted slopes make physical sense for the shape.

@@ -8,6 +8,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass, replace
 
+import pandas as pd
+
 from engine.cleaning.cleaned import CleanedSeries
 from engine.cleaning.clock import find_clock_problems
 from engine.cleaning.find import find_all
@@ -20,6 +22,7 @@ from engine.meters import MeterSeries
 from engine.progress import Progress, step
 from engine.project import Project
 from engine.site_calendar import stored_calendar
+from engine.weather import fill_hourly
 
 
 @dataclass
@@ -52,11 +55,18 @@ def review_meter(
     """Replay the log, then run every detector on the result (what is still to be done).
 
     The detectors get the project's campus calendar when it has one, so holidays, breaks and
-    closures are compared with days of their own kind.
+    closures are compared with days of their own kind, and its weather when it has some, so a
+    weather-driven meter is judged against the temperature.
     """
     meter, cleaned = cleaned_meter(project, name)
     current = replace(meter, values=cleaned.values.dropna())
-    findings = find_all(current, settings, progress, calendar=stored_calendar(project))
+    findings = find_all(
+        current,
+        settings,
+        progress,
+        calendar=stored_calendar(project),
+        temperatures=site_temperatures(project),
+    )
     raw = project.load_raw(name)
     if project.meter_settings(name).get("value_kind", "interval") == "interval":
         findings = find_clock_problems(raw[["t", "raw_value"]], meter.timezone, name) + findings
@@ -64,6 +74,13 @@ def review_meter(
     accepted = {s["params"].get("finding") for s in steps if s["kind"] == "accept"}
     findings = [finding for finding in findings if finding.id not in accepted]
     return MeterReview(meter, cleaned, findings, steps)
+
+
+def site_temperatures(project: Project) -> pd.Series | None:
+    """The project's outdoor temperatures on the hour (°C, short gaps filled), or None."""
+    if not project.weather_stations():
+        return None
+    return fill_hourly(project.load_weather()).hourly
 
 
 def accepted_step(finding: Finding, note: str = "") -> CleaningStep:
