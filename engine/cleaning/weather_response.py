@@ -19,11 +19,11 @@ a meter is therefore first tested:
   held at zero.
 * **The expectation.** The typical week is taken of the readings with the weather's effect
   removed, and the effect at each interval's own temperature is added back:
-  ``expected = typical week of (reading − effect) + effect``. Intervals without a temperature
-  keep the plain typical week.
-
-The robust spread stays the larger of the plain and the weather-adjusted one, so no reading is
-judged more strictly than without the weather; the weather only moves what it is compared with.
+  ``expected = typical week of (reading − effect) + effect``. The robust spread is that of the
+  readings with the effect removed, grown in proportion where the weather lifts the
+  expectation above their typical value (metered noise grows with the load: a hot afternoon
+  scatters more in kWh than a mild one). Intervals without a temperature keep the plain
+  typical week and spread.
 """
 
 from __future__ import annotations
@@ -135,12 +135,13 @@ def judged_with_weather(
     slopes = _hourly_slopes(values, terms, hour, _week_apart(like), plain.spread, limit)
     effect = np.einsum("ij,ij->i", terms, slopes[hour])
     response = WeatherResponse(model, share, temperature, effect, slopes)
-    # The typical week of the readings less the weather's effect, plus the effect at each
-    # interval's own temperature; the plain spread where it is wider.
     adjusted = like.pattern(values - effect)
-    known = np.isfinite(effect) & np.isfinite(adjusted.typical)
-    typical = np.where(known, adjusted.typical + effect, plain.typical)
-    spread = np.where(known, np.fmax(adjusted.spread, plain.spread), plain.spread)
+    expected = adjusted.typical + effect
+    with np.errstate(invalid="ignore", divide="ignore"):
+        growth = np.fmax(1.0, expected / adjusted.typical)
+    known = np.isfinite(expected) & np.isfinite(growth)
+    typical = np.where(known, expected, plain.typical)
+    spread = np.where(known, adjusted.spread * growth, plain.spread)
     return Pattern(typical=typical, spread=spread), response
 
 
