@@ -453,18 +453,21 @@ def fit_kinds(
     energy: ArrayLike,
     weights: ArrayLike | None = None,
     kinds: tuple[str, ...] = KINDS,
+    grid_size: int = 40,
 ) -> list[ChangePointModel]:
     """Fit each shape in ``kinds``, skipping shapes the data cannot support.
 
     A shape is skipped when it has too many parameters for the number of periods or its change
-    point cannot be placed; if every shape is skipped the first reason is raised.
+    point cannot be placed; if every shape is skipped the first reason is raised. ``grid_size``
+    is each shape's :class:`ChangePointModel` setting.
     """
     if not kinds:
         raise InputError("no change-point shapes were chosen.", hint=f"Choose from {KINDS}.")
     models, first_problem = [], None
     for kind in kinds:
         try:
-            models.append(ChangePointModel(kind).fit(temps, energy, weights))
+            model = ChangePointModel(kind, grid_size=grid_size)
+            models.append(model.fit(temps, energy, weights))
         except InputError as problem:
             first_problem = first_problem or problem
     if not models:
@@ -487,6 +490,7 @@ def select_best(
     energy: ArrayLike,
     weights: ArrayLike | None = None,
     kinds: tuple[str, ...] = KINDS,
+    grid_size: int = 40,
 ) -> ChangePointModel:
     """Fit every shape in ``kinds`` and return :func:`best_of` them."""
-    return best_of(fit_kinds(temps, energy, weights, kinds))
+    return best_of(fit_kinds(temps, energy, weights, kinds, grid_size))
