@@ -25,11 +25,14 @@ import pandas as pd
 import pytest
 
 from engine.changepoint import ChangePointModel
-from engine.cleaning import find_all
+from engine.cleaning import find_all, review_meter
 from engine.cleaning.prepared import PreparedMeter
 from engine.cleaning.settings import CleaningSettings
 from engine.cleaning.weather_response import interval_temperatures
+from engine.importing import create_project, read_project_files
 from engine.meters import MeterSeries
+from engine.project import Project
+from engine.reading import ReadOptions
 
 ZONE = "America/Chicago"
 HOUR = pd.Timedelta(hours=1)
@@ -193,6 +196,29 @@ def test_a_meter_the_weather_does_not_drive_is_judged_as_before(weather):
     )
     assert prepared.weather is None
     assert find_all(meter, temperatures=weather) == find_all(meter)
+
+
+def test_a_project_review_uses_its_weather_station(tmp_path, weather):
+    # The hall and its weather written as files and imported as a person would; a second
+    # station leaves no one weather for the meters, which are then judged without it.
+    meter_csv, weather_csv = tmp_path / "kestrel.csv", tmp_path / "station.csv"
+    stamps = INDEX.strftime("%Y-%m-%dT%H:%M:%S+00:00")
+    values = np.round(kestrel_load(weather), 3)
+    pd.DataFrame({"Timestamp": stamps, "Kestrel Hall (kWh)": values}).to_csv(meter_csv, index=False)
+    temps = np.round(weather.to_numpy(), 2)
+    pd.DataFrame({"Time": stamps, "Dry bulb (°C)": temps}).to_csv(weather_csv, index=False)
+    options = ReadOptions(timezone=ZONE, stamps="start")
+    files = read_project_files([meter_csv], weather=[weather_csv], options=options)
+    path = tmp_path / f"kestrel{Project.EXTENSION}"
+    with create_project(path, files, timezone=ZONE) as project:
+        (name,) = project.meter_names()
+        assert review_meter(project, name).findings == []
+        stored = project.load_weather()
+        source = project.add_source("weather", weather_csv, {}, [])
+        project.add_weather("Second station", stored, stored, source_id=source)
+        review = review_meter(project, name)
+    assert review.findings == find_all(review.meter)
+    assert "spike" in kinds(review.findings)
 
 
 def test_interval_temperatures_match_pandas_interpolation_and_daily_means(weather):
