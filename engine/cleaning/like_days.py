@@ -24,6 +24,7 @@ spikes, which the detectors, having no temperatures, cannot tell from faults.)
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import cached_property
 
 import numpy as np
 import pandas as pd
@@ -66,43 +67,40 @@ class CalendarDays:
 class LikeDays:
     """A meter's grid placed on the local week (and day), compared like with like.
 
-    Built once per meter with :meth:`on`, it gives the typical value and robust spread of any
-    series on the grid (:meth:`pattern`): the readings, or the readings less the weather's
-    effect, each from days of its own class.
+    It gives the typical value and robust spread of any series on the grid (:meth:`pattern`):
+    the readings, or the readings less the weather's effect, each from days of its own class.
+    The grid is placed once, on first use.
+
+    Parameters
+    ----------
+    index : pandas.DatetimeIndex
+        The grid's UTC interval starts.
+    timezone : str
+        The site's zone, which places intervals on the local week.
+    interval : pandas.Timedelta
+        The meter's interval.
+    weeks : int
+        Weeks in the rolling window (``CleaningSettings.pattern_weeks``).
+    days : CalendarDays or None
+        The grid's calendar labels; ``None`` (no calendar) compares every day with all days by
+        hour of the week.
     """
 
-    by_week: WeekPlaces
-    by_day: WeekPlaces | None
+    index: pd.DatetimeIndex
+    timezone: str
+    interval: pd.Timedelta
     weeks: int
     days: CalendarDays | None
 
-    @classmethod
-    def on(
-        cls,
-        index: pd.DatetimeIndex,
-        timezone: str,
-        interval: pd.Timedelta,
-        weeks: int,
-        days: CalendarDays | None,
-    ) -> LikeDays:
-        """Place the grid.
+    @cached_property
+    def by_week(self) -> WeekPlaces:
+        """Each interval's place on the local week (:func:`week_places`)."""
+        return week_places(self.index, self.timezone, self.interval)
 
-        Parameters
-        ----------
-        index : pandas.DatetimeIndex
-            The grid's UTC interval starts.
-        timezone : str
-            The site's zone, which places intervals on the local week.
-        interval : pandas.Timedelta
-            The meter's interval.
-        weeks : int
-            Weeks in the rolling window (``CleaningSettings.pattern_weeks``).
-        days : CalendarDays or None
-            The grid's calendar labels; ``None`` (no calendar) compares every day with all days
-            by hour of the week.
-        """
-        by_day = day_places(index, timezone, interval) if days is not None else None
-        return cls(week_places(index, timezone, interval), by_day, weeks, days)
+    @cached_property
+    def by_day(self) -> WeekPlaces:
+        """Each interval's place by local hour of the day (:func:`day_places`)."""
+        return day_places(self.index, self.timezone, self.interval)
 
     def pattern(self, values: np.ndarray) -> Pattern:
         """Typical value and robust spread of each interval from days of its own class.

@@ -89,7 +89,7 @@ class PreparedMeter:
         labels = None
         if calendar is not None:
             labels = CalendarDays.label(grid.index, timezone, calendar)
-        like = LikeDays.on(grid.index, timezone, interval, settings.pattern_weeks, labels)
+        like = LikeDays(grid.index, timezone, interval, settings.pattern_weeks, labels)
         pattern = like.pattern(values)
         wall = grid.index.tz_convert(timezone).tz_localize(None).as_unit("ns").asi8
         positive = values[values > 0]

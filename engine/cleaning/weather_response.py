@@ -11,19 +11,22 @@ a meter is therefore first tested:
   weather-driven when that fit explains at least :data:`MIN_SHARE` of the daily variance (R²).
 * **Its response per interval.** The fitted shape's temperature terms (``(T − c)⁺`` for cooling,
   ``(c − T)⁺`` for heating, at the fitted change points) are evaluated at each interval's
-  temperature. A reading's distance from its typical week is regressed, per local hour of the
-  day, on the distance of its terms from *their* typical week over the same nearby weeks: so
-  the slopes come from weather that differs within a few weeks, not from the seasons, which
-  the typical week already follows. One pass leaves out readings the first fit leaves far off
-  (faults do not teach the slope); slopes that would make hotter (colder) weather use less are
-  held at zero.
+  temperature. The change in a reading from the same hour a week earlier (on a day of the same
+  kind) is regressed, per local hour of the day, on the change in its terms: the schedule and
+  nearly the season are the same a week apart, so the slopes come from the weather that
+  differs, not from the seasons. One pass leaves out pairs the first fit leaves far off
+  (faults do not teach the slope); a slope that would make hotter (colder) weather use less is
+  set to zero.
 * **The expectation.** The typical week is taken of the readings with the weather's effect
   removed, and the effect at each interval's own temperature is added back:
-  ``expected = typical week of (reading − effect) + effect``. The robust spread is that of the
-  readings with the effect removed, grown in proportion where the weather lifts the
-  expectation above their typical value (metered noise grows with the load: a hot afternoon
-  scatters more in kWh than a mild one). Intervals without a temperature keep the plain
-  typical week and spread.
+  ``expected = typical week of (reading − effect) + effect``.
+* **The spread.** The robust spread of the readings with the effect removed, grown in
+  proportion where the weather lifts the expectation above what the hour usually uses
+  (metered noise grows with the load: a hot afternoon scatters more in kWh than a mild one),
+  and never below the spread of the readings' relative departures from their expectation,
+  pooled over every day of nearby weeks at that hour and scaled to the expectation: a slot's
+  own spread rests on a few readings (nine at hourly readings), which now and then are close
+  together by chance. Intervals without a temperature keep the plain typical week and spread.
 """
 
 from __future__ import annotations
@@ -36,7 +39,7 @@ import pandas as pd
 from engine.changepoint import ChangePointModel, select_best
 from engine.cleaning.days import WholeDays
 from engine.cleaning.like_days import LikeDays
-from engine.cleaning.pattern import HOURS_PER_DAY, Pattern
+from engine.cleaning.pattern import HOURS_PER_DAY, Pattern, weekly_pattern
 from engine.errors import InputError
 
 #: Share of the daily variance (R², weekday effects removed) a change-point fit on the day's
@@ -54,8 +57,9 @@ _NS_PER_HOUR = 3_600 * 10**9
 class WeatherResponse:
     """A weather-driven meter's response to outdoor temperature, per interval of its grid.
 
-    ``model`` is the daily change-point fit that made the meter weather-driven (its shape,
-    change points and R² in ``model.r2_``); ``temperature`` is each interval's °C (NaN where the
+    ``model`` is the daily change-point fit that made the meter weather-driven (its shape and
+    change points) and ``share`` the share of the daily variance it explains (its R²);
+    ``temperature`` is each interval's °C (NaN where the
     weather has none) and ``effect`` the energy the weather adds there, relative to the
     change-point state (NaN where there is no temperature). ``slopes`` holds the energy per
     interval per °C of each temperature term, per local hour of the day.
@@ -140,12 +144,23 @@ def judged_with_weather(
     response = WeatherResponse(model, share, temperature, effect, slopes)
     adjusted = like.pattern(values - effect)
     expected = adjusted.typical + effect
-    with np.errstate(invalid="ignore", divide="ignore"):
-        growth = np.fmax(1.0, expected / adjusted.typical)
-    known = np.isfinite(expected) & np.isfinite(growth)
+    spread = _spread(values, expected, plain, adjusted, like)
+    known = np.isfinite(expected) & np.isfinite(spread)
     typical = np.where(known, expected, plain.typical)
-    spread = np.where(known, adjusted.spread * growth, plain.spread)
+    spread = np.where(known, spread, plain.spread)
     return Pattern(typical=typical, spread=spread), response
+
+
+def _spread(
+    values: np.ndarray, expected: np.ndarray, plain: Pattern, adjusted: Pattern, like: LikeDays
+) -> np.ndarray:
+    """The robust spread around ``expected`` (see the module's notes): the adjusted readings'
+    own, grown with the weather's lift, and at least the pooled relative spread."""
+    with np.errstate(invalid="ignore", divide="ignore"):
+        growth = np.fmax(1.0, expected / np.fmax(plain.typical, adjusted.typical))
+        relative = np.where(expected > 0, (values - expected) / expected, np.nan)
+    pooled = weekly_pattern(relative, like.by_day, like.weeks).spread * expected
+    return np.fmax(adjusted.spread * growth, pooled)
 
 
 def _daily_fit(
