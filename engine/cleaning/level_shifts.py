@@ -26,6 +26,7 @@ from scipy.signal import find_peaks
 
 from engine.cleaning.findings import Finding
 from engine.cleaning.prepared import PreparedMeter
+from engine.cleaning.weather_response import WeatherResponse
 from engine.cleaning.wording import energy_text, local_text, ratio_text
 
 #: Offsets (days) at which a recurring change is looked for: 52 weeks, so weekdays line up, give
@@ -37,12 +38,13 @@ YEAR_SLACK_DAYS = 14
 def find_level_shifts(meter: PreparedMeter, claimed: np.ndarray) -> list[Finding]:
     """Lasting step changes in daily energy; ``claimed`` is left alone (shifts overlap others).
 
-    For a weather-driven meter a shift must show on daily energy normalised to the average
-    weather both ways (:meth:`WeatherResponse.normalised`): with the weather's effect taken out
-    as an amount and in proportion. A step in the load the weather does not drive shows both
-    ways; what one way leaves behind when the meter's response to the weather itself changed
-    (more or less energy per degree, as after a multiplier change) shows only one way, in the
-    season the weather matters most.
+    For a weather-driven meter whose weather covers the record (:meth:`WeatherResponse.covers`;
+    otherwise daily energy as it is) a shift must show on daily energy normalised to the
+    average weather both ways (:meth:`WeatherResponse.normalised`): with the weather's effect
+    taken out as an amount and in proportion. A step in the load the weather does not drive
+    shows both ways; what one way leaves behind when the meter's response to the weather itself
+    changed (more or less energy per degree, as after a multiplier change) shows only one way,
+    in the season the weather matters most.
     """
     settings = meter.settings
     window = max(2, round(settings.level_window / pd.Timedelta(days=1)))
@@ -52,25 +54,26 @@ def find_level_shifts(meter: PreparedMeter, claimed: np.ndarray) -> list[Finding
     if daily.size < 2 * window:
         return []
     threshold = math.log(settings.level_ratio)
-    if meter.weather is not None:
+    weather = meter.weather if meter.weather is not None and meter.weather.covers(days) else None
+    if weather is not None:
         confirmed = _shifts(
-            meter.weather.normalised(days, daily, proportional=True),
+            weather.normalised(days, daily, proportional=True),
             window,
             persist,
             threshold,
             days.first_weekday,
         ).days
-        daily = meter.weather.normalised(days, daily)
+        daily = weather.normalised(days, daily)
     levels = _shifts(daily, window, persist, threshold, days.first_weekday)
     shifts = levels.days
-    if meter.weather is not None:
+    if weather is not None:
         shifts = [d for d in shifts if any(abs(d - c) <= window for c in confirmed)]
     found = []
     for number, day in enumerate(shifts):
         first = int(days.first[day])
         stop = int(days.first[shifts[number + 1]]) if number + 1 < len(shifts) else len(meter)
-        before, after = levels.before[day], levels.lasting[day]
-        found.append(_shift(meter, first, stop, before, after, window, persist))
+        levels_of_day = (levels.before[day], levels.lasting[day])
+        found.append(_shift(meter, first, stop, levels_of_day, window, persist, weather))
     return found
 
 
@@ -148,12 +151,15 @@ def _shift(
     meter: PreparedMeter,
     first: int,
     stop: int,
-    level_before: float,
-    level_after: float,
+    levels: tuple[float, float],
     window: int,
     persist: int,
+    weather: WeatherResponse | None,
 ) -> Finding:
+    """The finding of a shift from ``levels`` (median daily energy before, after), measured on
+    daily energy normalised to the average weather when ``weather`` is given."""
     settings = meter.settings
+    level_before, level_after = levels
     ratio = level_after / level_before
     unit = (
         " A change close to a factor of 1,000 usually means the unit changed (Wh and kWh, or kWh "
@@ -162,7 +168,7 @@ def _shift(
         else ""
     )
     explanation = (
-        f"{_daily_words(meter)} changed from a typical {energy_text(level_before)} a day in the "
+        f"{_daily_words(weather)} changed from a typical {energy_text(level_before)} a day in the "
         f"{window} days before {local_text(meter.index[first], meter.timezone)} site time to "
         f"{energy_text(level_after)} a day after it ({ratio_text(ratio)}), and the new level "
         f"held over the following {persist} days (or as many as there are readings). Changes of "
@@ -190,14 +196,14 @@ def _shift(
         threshold_ratio=settings.level_ratio,
         window_days=window,
         persist_days=persist,
-        weather_normalised=float(meter.weather is not None),
+        weather_normalised=float(weather is not None),
     )
 
 
-def _daily_words(meter: PreparedMeter) -> str:
-    """What the shift was measured on: daily energy, normalised to the average weather for a
-    weather-driven meter."""
-    if meter.weather is None:
+def _daily_words(weather: WeatherResponse | None) -> str:
+    """What the shift was measured on: daily energy, normalised to the average weather when
+    ``weather`` is given."""
+    if weather is None:
         return "Daily energy"
     return (
         "Judged against the weather, daily energy (normalised to the average weather by the "

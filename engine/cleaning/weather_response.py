@@ -37,7 +37,7 @@ import numpy as np
 import pandas as pd
 
 from engine.changepoint import ChangePointModel, select_best
-from engine.cleaning.days import WholeDays
+from engine.cleaning.days import DAY_COVERAGE, WholeDays
 from engine.cleaning.like_days import LikeDays
 from engine.cleaning.pattern import HOURS_PER_DAY, Pattern, weekly_pattern
 from engine.errors import InputError
@@ -70,6 +70,12 @@ class WeatherResponse:
     temperature: np.ndarray
     effect: np.ndarray
     slopes: np.ndarray
+
+    def covers(self, days: WholeDays) -> bool:
+        """Whether the weather is known on at least :data:`DAY_COVERAGE` of the counted days, so
+        that daily energy can be normalised to it over the record."""
+        effect = days.total(self.effect)[days.counted]
+        return effect.size > 0 and np.isfinite(effect).mean() >= DAY_COVERAGE
 
     def normalised(
         self, days: WholeDays, energy: np.ndarray, *, proportional: bool = False

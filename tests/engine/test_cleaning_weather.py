@@ -170,6 +170,16 @@ def test_injected_spikes_and_a_base_load_step_are_found(weather):
     assert set(kinds(findings)) == {"spike", "level_shift"}
 
 
+def test_weather_for_part_of_the_record_leaves_level_shifts_to_daily_energy(weather):
+    # Normalised daily energy would be unknown before the weather starts, hiding shifts there.
+    partial = weather[weather.index >= pd.Timestamp("2024-06-01", tz="UTC")]  # after the step
+    findings = find_all(meter_of(kestrel_load(weather, base_step=True)), temperatures=partial)
+    (shift,) = [f for f in findings if f.kind == "level_shift"]
+    assert shift.start == BASE_STEP.tz_convert("UTC")
+    assert shift.measures["weather_normalised"] == 0.0
+    assert shift.explanation.startswith("Daily energy changed")
+
+
 def test_a_hot_afternoon_spike_says_what_it_was_judged_against(weather):
     values = kestrel_load(weather)
     middle = midpoint_temperatures(weather)
