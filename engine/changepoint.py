@@ -327,6 +327,20 @@ class ChangePointModel:
             + self.cooling_slope_ * np.maximum(x - cool_point, 0.0)
         )
 
+    def weather_terms(self, temps: ArrayLike) -> np.ndarray:
+        """The fitted shape's temperature columns at ``temps``, one row per temperature.
+
+        ``(c − x)⁺`` for heating and ``(x − c)⁺`` for cooling at the fitted change points, and
+        for 2P ``x`` (``−x`` when the fitted slope falls), so that a positive coefficient on
+        every column means more energy. Other data can be regressed on them with the shape
+        this model found.
+        """
+        if not self.is_fitted:
+            raise NotFittedError("this change-point model is not fitted yet; call fit first.")
+        x = np.asarray(temps, dtype=float).ravel()
+        columns = _design(x, self.kind, self.change_points_)[:, 1:]
+        return -columns if self.kind == "2P" and self.heating_slope_ > 0 else columns
+
     @property
     def plausible(self) -> bool:
         """Whether the fitted slopes make physical sense for the shape.
@@ -469,11 +483,13 @@ def fit_kinds(
     energy: ArrayLike,
     weights: ArrayLike | None = None,
     kinds: tuple[str, ...] = KINDS,
+    grid_size: int = 40,
 ) -> list[ChangePointModel]:
     """Fit each shape in ``kinds``, skipping shapes the data cannot support.
 
     A shape is skipped when it has too many parameters for the number of periods or its change
-    point cannot be placed; if every shape is skipped the first reason is raised.
+    point cannot be placed; if every shape is skipped the first reason is raised. ``grid_size``
+    is each shape's :class:`ChangePointModel` setting.
     """
     if not kinds:
         raise InputError("no change-point shapes were chosen.", hint=f"Choose from {KINDS}.")
@@ -481,7 +497,7 @@ def fit_kinds(
     points = None  # sorted and summed once, for every shape
     models, first_problem = [], None
     for kind in kinds:
-        model = ChangePointModel(kind)
+        model = ChangePointModel(kind, grid_size=grid_size)
         try:
             model._check_kind()
             _require_periods(len(x), PARAMETER_COUNT[kind])
@@ -509,6 +525,7 @@ def select_best(
     energy: ArrayLike,
     weights: ArrayLike | None = None,
     kinds: tuple[str, ...] = KINDS,
+    grid_size: int = 40,
 ) -> ChangePointModel:
     """Fit every shape in ``kinds`` and return :func:`best_of` them."""
-    return best_of(fit_kinds(temps, energy, weights, kinds))
+    return best_of(fit_kinds(temps, energy, weights, kinds, grid_size))

@@ -2,7 +2,7 @@
 
 Typical use::
 
-    findings = find_all(meter, calendar=campus_calendar)   # the calendar is optional
+    findings = find_all(meter, calendar=campus_calendar, temperatures=hourly_c)  # both optional
     steps = recommended_steps(findings)
     cleaned = apply_steps(meter.values, steps, interval=meter.interval)
     summary = quality_summary(meter.values, cleaned)
@@ -17,6 +17,7 @@ from engine.cleaning.findings import FINDING_KINDS, SEVERITIES, Finding
 from engine.cleaning.fixes import FIXES
 from engine.cleaning.project_log import (
     MeterReview,
+    SiteDrivers,
     accepted_step,
     apply_recommended,
     apply_recommended_everywhere,
@@ -39,6 +40,7 @@ __all__ = [
     "CleaningStep",
     "Finding",
     "MeterReview",
+    "SiteDrivers",
     "accepted_step",
     "apply_recommended",
     "apply_recommended_everywhere",

@@ -90,7 +90,7 @@ def _day_change(
         )
     explanation = (
         f"Readings ran {side} typical all day {when} (site time): "
-        f"{energy_text(used)} where {energy_text(usual)} is typical "
+        f"{energy_text(used)} where {energy_text(usual)} is {_typical_for(meter, first)} "
         f"({ratio_text(used / usual)}). {beyond:,} readings were more than "
         f"{settings.spike_z:g} robust deviations {side} typical, yet each stays close to the "
         "typical daily shape fitted to its own day's level, so they are not reported one by "
@@ -109,3 +109,8 @@ def _day_change(
         readings_beyond=beyond,
         threshold_z=settings.spike_z,
     )
+
+
+def _typical_for(meter: PreparedMeter, at: int) -> str:
+    """ "typical", or for a weather-driven meter "expected for the day's weather"."""
+    return "expected for the day's weather" if meter.judged_by_weather(at) else "typical"

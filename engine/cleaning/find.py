@@ -40,6 +40,7 @@ def find_all(
     progress: Progress | None = None,
     *,
     calendar: CampusCalendar | None = None,
+    temperatures: pd.Series | None = None,
 ) -> list[Finding]:
     """Every problem the detectors find in a meter's readings, in time order.
 
@@ -58,6 +59,12 @@ def find_all(
         summer session, break or closure; see :mod:`engine.cleaning.like_days`), and a
         holiday, break or closure day that changed as a whole is not reported. Without it, such
         a day shows as one "low_day" finding (see :mod:`engine.cleaning.day_level`).
+    temperatures : pandas.Series, optional
+        The site's hourly outdoor temperatures (°C, UTC index on the hour). With them a meter
+        whose daily energy follows the weather is judged against it: a reading against its
+        typical week plus its response to that interval's temperature, a level shift on daily
+        energy normalised to the average weather (see
+        :mod:`engine.cleaning.weather_response`). Other meters are judged as without them.
 
     Returns
     -------
@@ -78,7 +85,13 @@ def find_all(
         readings = readings[~readings.index.duplicated(keep="first")]
     step(progress, 0.0, f"Preparing {meter.name}")
     prepared = PreparedMeter.build(
-        meter.name, readings.sort_index(), meter.interval, meter.timezone, settings, calendar
+        meter.name,
+        readings.sort_index(),
+        meter.interval,
+        meter.timezone,
+        settings,
+        calendar,
+        temperatures,
     )
     claimed = np.zeros(len(prepared), dtype=bool)
     for number, (label, detect) in enumerate(DETECTORS):

@@ -25,8 +25,10 @@ FINDING_KINDS: dict[str, str] = {
     "dst_single": "the hour clocks repeat appears only once",
     "flat_line": "the same reading repeated for longer than plausible",
     "zero_run": "readings at or near zero when the meter is normally busy",
-    "spike": "a reading far above typical for its hour of the week and for its own day",
-    "dip": "a reading far below typical for its hour of the week and for its own day",
+    "spike": "a reading far above typical for its hour of the week (and its weather, for a "
+    "weather-driven meter) and for its own day",
+    "dip": "a reading far below typical for its hour of the week (and its weather, for a "
+    "weather-driven meter) and for its own day",
     "negative": "negative consumption",
     "register_reset": "a large negative reading: a register reset or rollover",
     "level_shift": "a lasting step change in daily energy",
@@ -41,9 +43,10 @@ class Finding:
 
     ``start``/``end`` are UTC and bound ``[start, end)``: from the first affected interval's start
     to the last one's end. ``energy_kwh`` is what the meter recorded in that range (missing
-    readings count as nothing) and ``expected_kwh`` what its typical week expects there (NaN when
-    unknown). ``measures`` holds the numbers and thresholds behind the finding. ``id`` is derived
-    from meter, kind and range, so the same problem keeps its id from one run to the next.
+    readings count as nothing) and ``expected_kwh`` what its typical week expects there, with
+    the weather for a weather-driven meter (NaN when unknown). ``measures`` holds the numbers
+    and thresholds behind the finding. ``id`` is derived from meter, kind and range, so the
+    same problem keeps its id from one run to the next.
     """
 
     meter: str

@@ -3,9 +3,12 @@
 Daily energy is compared by its median over ``level_window`` before and after each day; days
 where the ratio peaks beyond ``level_ratio`` are candidates, kept unless a change of the same
 sign and at least half the size (in logs) shows a year before or after (then it is a season or
-a calendar break, not a shift; a shift on top of a smaller seasonal change still shows). With a
-campus calendar, holidays, breaks and closures are left out of the daily series, so that term
-days are compared with term days. Medians make the peak a plateau, so the day of change is then
+a calendar break, not a shift; a shift on top of a smaller seasonal change still shows). Only
+whole days count (:mod:`engine.cleaning.days`); with a campus calendar, holidays, breaks and
+closures are left out, so that term days are compared with term days. For a weather-driven
+meter (:mod:`engine.cleaning.weather_response`) the daily energy is first normalised to the
+average weather, so a warm summer or a cold winter is not a shift while a step in the load the
+weather does not explain still is. Medians make the peak a plateau, so the day of change is then
 placed by CUSUM on log daily energy (weekday effects removed) around the candidate: the split
 where the cumulative departure from the mean is largest, the single change-point estimate that
 binary segmentation repeats. The change is reported when the new level still holds over
@@ -15,6 +18,7 @@ binary segmentation repeats. The change is reported when the new level still hol
 from __future__ import annotations
 
 import math
+from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
@@ -22,10 +26,9 @@ from scipy.signal import find_peaks
 
 from engine.cleaning.findings import Finding
 from engine.cleaning.prepared import PreparedMeter
+from engine.cleaning.weather_response import WeatherResponse
 from engine.cleaning.wording import energy_text, local_text, ratio_text
 
-#: A local day counts when at least this share of its intervals has a reading.
-DAY_COVERAGE = 0.9
 #: Offsets (days) at which a recurring change is looked for: 52 weeks, so weekdays line up, give
 #: or take two weeks for a calendar that moves.
 YEAR_DAYS = 364
@@ -33,13 +36,61 @@ YEAR_SLACK_DAYS = 14
 
 
 def find_level_shifts(meter: PreparedMeter, claimed: np.ndarray) -> list[Finding]:
-    """Lasting step changes in daily energy; ``claimed`` is left alone (shifts overlap others)."""
+    """Lasting step changes in daily energy; ``claimed`` is left alone (shifts overlap others).
+
+    For a weather-driven meter whose weather covers the record (:meth:`WeatherResponse.covers`;
+    otherwise daily energy as it is) a shift must show on daily energy normalised to the
+    average weather both ways (:meth:`WeatherResponse.normalised`): with the weather's effect
+    taken out as an amount and in proportion. A step in the load the weather does not drive
+    shows both ways; what one way leaves behind when the meter's response to the weather itself
+    changed (more or less energy per degree, as after a multiplier change) shows only one way,
+    in the season the weather matters most.
+    """
     settings = meter.settings
-    daily, day_first, first_weekday = _daily_energy(meter)
     window = max(2, round(settings.level_window / pd.Timedelta(days=1)))
     persist = max(window, round(settings.level_persist / pd.Timedelta(days=1)))
+    days = meter.days
+    daily = days.energy(meter.values)
     if daily.size < 2 * window:
         return []
+    threshold = math.log(settings.level_ratio)
+    weather = meter.weather if meter.weather is not None and meter.weather.covers(days) else None
+    if weather is not None:
+        confirmed = _shifts(
+            weather.normalised(days, daily, proportional=True),
+            window,
+            persist,
+            threshold,
+            days.first_weekday,
+        ).days
+        daily = weather.normalised(days, daily)
+    levels = _shifts(daily, window, persist, threshold, days.first_weekday)
+    shifts = levels.days
+    if weather is not None:
+        shifts = [d for d in shifts if any(abs(d - c) <= window for c in confirmed)]
+    found = []
+    for number, day in enumerate(shifts):
+        first = int(days.first[day])
+        stop = int(days.first[shifts[number + 1]]) if number + 1 < len(shifts) else len(meter)
+        levels_of_day = (levels.before[day], levels.lasting[day])
+        found.append(_shift(meter, first, stop, levels_of_day, window, persist, weather))
+    return found
+
+
+@dataclass(frozen=True)
+class _Shifts:
+    """The first days of the lasting shifts found, and per day the median daily energy of the
+    window before it and of the ``persist`` days from it."""
+
+    days: list[int]
+    before: np.ndarray
+    lasting: np.ndarray
+
+
+def _shifts(
+    daily: np.ndarray, window: int, persist: int, threshold: float, first_weekday: int
+) -> _Shifts:
+    """Days where the median level of ``daily`` changes by ``threshold`` (in logs) and holds."""
     series = pd.Series(daily)
     reverse = series[::-1].reset_index(drop=True)
     before = series.rolling(window, min_periods=window // 2).median().shift(1).to_numpy()
@@ -48,48 +99,17 @@ def find_level_shifts(meter: PreparedMeter, claimed: np.ndarray) -> list[Finding
     with np.errstate(divide="ignore", invalid="ignore"):
         change = np.log(after / before)
         held = np.log(lasting / before)
-    threshold = math.log(settings.level_ratio)
     peaks, _ = find_peaks(
         np.nan_to_num(np.abs(change), posinf=0.0), height=threshold, distance=window
     )
-    shifts = []
+    shifts: list[int] = []
     for peak in peaks:
         if _recurs(change, peak):
             continue
         day = _change_day(daily, peak, window, first_weekday)
         if np.sign(change[peak]) * held[day] >= threshold and day not in shifts:
             shifts.append(day)
-    shifts.sort()
-    found = []
-    for number, day in enumerate(shifts):
-        first = int(day_first[day])
-        stop = int(day_first[shifts[number + 1]]) if number + 1 < len(shifts) else len(meter)
-        found.append(_shift(meter, first, stop, before[day], lasting[day], window, persist))
-    return found
-
-
-def _daily_energy(meter: PreparedMeter) -> tuple[np.ndarray, np.ndarray, int]:
-    """Daily energy, each day's first grid position, and the first day's weekday (Monday = 0).
-
-    Days are local calendar days; a day short of readings (or a partial first or last day) is
-    NaN, and a day with a few missing intervals is scaled up to its full count. Days the campus
-    calendar makes quiet are NaN too.
-    """
-    # 1970-01-01 was a Thursday.
-    first_weekday = int((meter.local_day[0] + 3) % 7)
-    day = meter.local_day - meter.local_day[0]
-    days = int(day[-1]) + 1
-    present = np.isfinite(meter.values)
-    slots = np.bincount(day, minlength=days)
-    readings = np.bincount(day, weights=present, minlength=days)
-    energy = np.bincount(day, weights=np.where(present, meter.values, 0.0), minlength=days)
-    whole_day = slots * meter.interval >= pd.Timedelta(hours=23)
-    counted = whole_day & (readings >= DAY_COVERAGE * slots)
-    if meter.calendar_days is not None:
-        counted &= np.bincount(day, weights=meter.calendar_days.quiet, minlength=days) == 0
-    with np.errstate(invalid="ignore", divide="ignore"):
-        daily = np.where(counted, energy * slots / readings, np.nan)
-    return daily, np.searchsorted(day, np.arange(days)), first_weekday
+    return _Shifts(sorted(shifts), before, lasting)
 
 
 def _change_day(daily: np.ndarray, peak: int, window: int, first_weekday: int) -> int:
@@ -131,12 +151,15 @@ def _shift(
     meter: PreparedMeter,
     first: int,
     stop: int,
-    level_before: float,
-    level_after: float,
+    levels: tuple[float, float],
     window: int,
     persist: int,
+    weather: WeatherResponse | None,
 ) -> Finding:
+    """The finding of a shift from ``levels`` (median daily energy before, after), measured on
+    daily energy normalised to the average weather when ``weather`` is given."""
     settings = meter.settings
+    level_before, level_after = levels
     ratio = level_after / level_before
     unit = (
         " A change close to a factor of 1,000 usually means the unit changed (Wh and kWh, or kWh "
@@ -145,7 +168,7 @@ def _shift(
         else ""
     )
     explanation = (
-        f"Daily energy changed from a typical {energy_text(level_before)} a day in the "
+        f"{_daily_words(weather)} changed from a typical {energy_text(level_before)} a day in the "
         f"{window} days before {local_text(meter.index[first], meter.timezone)} site time to "
         f"{energy_text(level_after)} a day after it ({ratio_text(ratio)}), and the new level "
         f"held over the following {persist} days (or as many as there are readings). Changes of "
@@ -173,4 +196,16 @@ def _shift(
         threshold_ratio=settings.level_ratio,
         window_days=window,
         persist_days=persist,
+        weather_normalised=float(weather is not None),
+    )
+
+
+def _daily_words(weather: WeatherResponse | None) -> str:
+    """What the shift was measured on: daily energy, normalised to the average weather when
+    ``weather`` is given."""
+    if weather is None:
+        return "Daily energy"
+    return (
+        "Judged against the weather, daily energy (normalised to the average weather by the "
+        "meter's own temperature response, so a warm or cold spell is not a shift)"
     )

@@ -24,12 +24,13 @@ spikes, which the detectors, having no temperatures, cannot tell from faults.)
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import cached_property
 
 import numpy as np
 import pandas as pd
 
 from engine.calendar import CampusCalendar, label_intervals
-from engine.cleaning.pattern import Pattern, day_places, week_places, weekly_pattern
+from engine.cleaning.pattern import Pattern, WeekPlaces, day_places, week_places, weekly_pattern
 
 DAY_CLASSES: tuple[str, ...] = ("ordinary", "summer", "break", "closure")
 ORDINARY, SUMMER, BREAK, CLOSURE = range(len(DAY_CLASSES))
@@ -62,20 +63,16 @@ class CalendarDays:
         return self.holiday | (self.day_class == BREAK) | (self.day_class == CLOSURE)
 
 
-def like_day_pattern(
-    values: np.ndarray,
-    index: pd.DatetimeIndex,
-    timezone: str,
-    interval: pd.Timedelta,
-    weeks: int,
-    days: CalendarDays | None,
-) -> Pattern:
-    """Typical value and robust spread of each interval from days of its own class.
+@dataclass(frozen=True)
+class LikeDays:
+    """A meter's grid placed on the local week (and day), compared like with like.
+
+    It gives the typical value and robust spread of any series on the grid (:meth:`pattern`):
+    the readings, or the readings less the weather's effect, each from days of its own class.
+    The grid is placed once, on first use.
 
     Parameters
     ----------
-    values : numpy.ndarray
-        Readings on the meter's grid, NaN where missing.
     index : pandas.DatetimeIndex
         The grid's UTC interval starts.
     timezone : str
@@ -85,22 +82,46 @@ def like_day_pattern(
     weeks : int
         Weeks in the rolling window (``CleaningSettings.pattern_weeks``).
     days : CalendarDays or None
-        The grid's calendar labels; ``None`` (no calendar) compares every day with all days
-        by hour of the week.
+        The grid's calendar labels; ``None`` (no calendar) compares every day with all days by
+        hour of the week.
     """
-    by_week = week_places(index, timezone, interval)
-    every_day = weekly_pattern(values, by_week, weeks)
-    if days is None:
-        return every_day
-    typical, spread = every_day.typical.copy(), every_day.spread.copy()
-    by_day = day_places(index, timezone, interval)
-    places = {ORDINARY: by_week, SUMMER: by_week, BREAK: by_day, CLOSURE: by_day}
-    for day_class, where in places.items():
-        members = days.day_class == day_class
-        if not members.any():
-            continue
-        own = weekly_pattern(np.where(members & ~days.holiday, values, np.nan), where, weeks)
-        known = members & np.isfinite(own.typical)
-        typical[known] = own.typical[known]
-        spread[known] = np.fmax(own.spread[known], every_day.spread[known])
-    return Pattern(typical=typical, spread=spread)
+
+    index: pd.DatetimeIndex
+    timezone: str
+    interval: pd.Timedelta
+    weeks: int
+    days: CalendarDays | None
+
+    @cached_property
+    def by_week(self) -> WeekPlaces:
+        """Each interval's place on the local week (:func:`week_places`)."""
+        return week_places(self.index, self.timezone, self.interval)
+
+    @cached_property
+    def by_day(self) -> WeekPlaces:
+        """Each interval's place by local hour of the day (:func:`day_places`)."""
+        return day_places(self.index, self.timezone, self.interval)
+
+    def pattern(self, values: np.ndarray) -> Pattern:
+        """Typical value and robust spread of each interval from days of its own class.
+
+        ``values`` are on the grid, NaN where missing.
+        """
+        every_day = weekly_pattern(values, self.by_week, self.weeks)
+        days = self.days
+        if days is None:
+            return every_day
+        typical, spread = every_day.typical.copy(), every_day.spread.copy()
+        places = {ORDINARY: self.by_week, SUMMER: self.by_week, BREAK: self.by_day}
+        places[CLOSURE] = self.by_day
+        for day_class, where in places.items():
+            members = days.day_class == day_class
+            if not members.any():
+                continue
+            own = weekly_pattern(
+                np.where(members & ~days.holiday, values, np.nan), where, self.weeks
+            )
+            known = members & np.isfinite(own.typical)
+            typical[known] = own.typical[known]
+            spread[known] = np.fmax(own.spread[known], every_day.spread[known])
+        return Pattern(typical=typical, spread=spread)

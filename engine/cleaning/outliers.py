@@ -21,7 +21,9 @@ def find_spikes_and_dips(meter: PreparedMeter, claimed: np.ndarray) -> list[Find
     :mod:`engine.cleaning.day_lines`); readings only the typical week finds unusual belong to a
     day that changed as a whole and are summed up in one low-day or high-day finding. A spike is
     serious when it also exceeds ``implausible_factor`` times the meter's 99.5th-percentile
-    reading.
+    reading. For a weather-driven meter the typical value includes its response to that
+    interval's temperature (:mod:`engine.cleaning.weather_response`), so a hot afternoon is
+    compared with what such an afternoon uses.
     """
     settings = meter.settings
     limit = settings.spike_z
@@ -54,12 +56,12 @@ def _spike(meter: PreparedMeter, first: int, stop: int, z: np.ndarray) -> Findin
     )
     advice = "Recommended: cap at" if implausible else "If this was not real use, cap at"
     explanation = (
-        f"{_readings(meter, first, stop, 'up to')} where about "
-        f"{energy_text(meter.typical[peak_at])} is typical {meter.like_days}: "
-        f"{z[peak_at]:.0f} robust deviations above typical (threshold {settings.spike_z:g}, "
+        f"{_readings(meter, first, stop, 'up to')} {meter.expectation(peak_at)}: "
+        f"{z[peak_at]:.0f} robust deviations above that (threshold {settings.spike_z:g}, "
         f"over {settings.pattern_weeks} nearby weeks), and beyond that threshold from its own "
         f"day's level too.{beyond} {advice} "
-        f"{energy_text(limit)}, the highest value the meter's typical week makes plausible."
+        f"{energy_text(limit)}, the highest value {_plausible_by(meter, peak_at)} makes "
+        "plausible."
     )
     fix = meter.step("cap", first, stop, "cap a spike", high=limit)
     return meter.finding(
@@ -73,6 +75,7 @@ def _spike(meter: PreparedMeter, first: int, stop: int, z: np.ndarray) -> Findin
         threshold_z=settings.spike_z,
         limit_kwh=limit,
         high_kwh=meter.high,
+        **_weather_measures(meter, peak_at),
     )
 
 
@@ -82,13 +85,12 @@ def _dip(meter: PreparedMeter, first: int, stop: int, z: np.ndarray) -> Finding:
     limit = float(np.min(meter.typical[first:stop] - settings.spike_z * meter.spread[first:stop]))
     limit = max(limit, 0.0)
     explanation = (
-        f"{_readings(meter, first, stop, 'down to')} where about "
-        f"{energy_text(meter.typical[low_at])} is typical {meter.like_days}: "
-        f"{-z[low_at]:.0f} robust deviations below typical (threshold {settings.spike_z:g}, "
+        f"{_readings(meter, first, stop, 'down to')} {meter.expectation(low_at)}: "
+        f"{-z[low_at]:.0f} robust deviations below that (threshold {settings.spike_z:g}, "
         f"over {settings.pattern_weeks} nearby weeks), and beyond that threshold from its own "
         "day's level too. A partial outage, a lost phase or a logger fault. If confirmed, raise "
-        f"the readings to {energy_text(limit)}, the lowest value the meter's typical week makes "
-        "plausible."
+        f"the readings to {energy_text(limit)}, the lowest value "
+        f"{_plausible_by(meter, low_at)} makes plausible."
     )
     fix = meter.step("cap", first, stop, "raise a dip", low=limit)
     return meter.finding(
@@ -101,7 +103,24 @@ def _dip(meter: PreparedMeter, first: int, stop: int, z: np.ndarray) -> Finding:
         z=z[low_at],
         threshold_z=settings.spike_z,
         limit_kwh=limit,
+        **_weather_measures(meter, low_at),
     )
+
+
+def _plausible_by(meter: PreparedMeter, at: int) -> str:
+    if meter.judged_by_weather(at):
+        return "the meter's typical week and its response to the weather"
+    return "the meter's typical week"
+
+
+def _weather_measures(meter: PreparedMeter, at: int) -> dict[str, float]:
+    """The temperature a reading was judged at and the energy the weather added there."""
+    if not meter.judged_by_weather(at):
+        return {}
+    return {
+        "temperature_c": meter.weather.temperature[at],
+        "weather_kwh": meter.weather.effect[at],
+    }
 
 
 def _readings(meter: PreparedMeter, first: int, stop: int, bound: str) -> str:

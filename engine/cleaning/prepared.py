@@ -10,13 +10,20 @@ import pandas as pd
 
 from engine.calendar import CampusCalendar
 from engine.cleaning.day_lines import DayLines, fit_day_lines
+from engine.cleaning.days import WholeDays
 from engine.cleaning.findings import Finding
 from engine.cleaning.fixes import typical_near
 from engine.cleaning.grid import to_grid
-from engine.cleaning.like_days import CalendarDays, like_day_pattern
+from engine.cleaning.like_days import CalendarDays, LikeDays
+from engine.cleaning.pattern import Pattern
 from engine.cleaning.settings import CleaningSettings
 from engine.cleaning.steps import CleaningStep, range_step
-from engine.cleaning.wording import duration_text, local_text
+from engine.cleaning.weather_response import (
+    WeatherResponse,
+    interval_temperatures,
+    judged_with_weather,
+)
+from engine.cleaning.wording import duration_text, energy_text, local_text
 from engine.errors import InputError
 from engine.words import counted
 
@@ -30,13 +37,16 @@ class PreparedMeter:
     """Everything the detectors share about one meter.
 
     ``values`` runs from the first to the last reading present, NaN where missing. ``typical``
-    and ``spread`` come from :func:`engine.cleaning.like_days.like_day_pattern` (days of the same
-    campus-calendar class when a calendar is given); the spread is never below
+    and ``spread`` come from :meth:`engine.cleaning.like_days.LikeDays.pattern` (days of the same
+    campus-calendar class when a calendar is given) and, for a weather-driven meter, include its
+    response to the temperature (``weather``, see :mod:`engine.cleaning.weather_response`;
+    ``None`` for other meters and without temperatures); the spread is never below
     ``spread_floor_share`` of ``level`` (the median positive reading). ``high`` is the meter's
     99.5th-percentile reading. ``local_day`` numbers each interval's local calendar day (days
-    since 1970-01-01 on the site's clock); ``day_lines`` fits each local day as a whole to its
-    typical values (:mod:`engine.cleaning.day_lines`); ``calendar_days`` holds the campus
-    calendar's labels of the grid, or ``None`` without a calendar.
+    since 1970-01-01 on the site's clock) and ``days`` the whole local days that count for
+    daily comparisons (:mod:`engine.cleaning.days`); ``day_lines`` fits each local day as a
+    whole to its typical values (:mod:`engine.cleaning.day_lines`); ``calendar_days`` holds the
+    campus calendar's labels of the grid, or ``None`` without a calendar.
     """
 
     name: str
@@ -50,8 +60,10 @@ class PreparedMeter:
     high: float
     settings: CleaningSettings
     local_day: np.ndarray
+    days: WholeDays
     day_lines: DayLines
     calendar_days: CalendarDays | None = None
+    weather: WeatherResponse | None = None
 
     @classmethod
     def build(
@@ -62,7 +74,10 @@ class PreparedMeter:
         timezone: str,
         settings: CleaningSettings,
         calendar: CampusCalendar | None = None,
+        temperatures: pd.Series | None = None,
     ) -> PreparedMeter:
+        """Put the readings on their grid and learn the typical week (with the weather when
+        ``temperatures``, hourly °C on a UTC index, are given and the meter depends on them)."""
         grid = to_grid(readings, interval, name, timezone)
         present = np.flatnonzero(np.isfinite(grid.to_numpy()))
         if present.size == 0:
@@ -71,30 +86,41 @@ class PreparedMeter:
             )
         grid = grid.iloc[present[0] : present[-1] + 1]
         values = grid.to_numpy(dtype="float64")
-        days = CalendarDays.label(grid.index, timezone, calendar) if calendar is not None else None
-        pattern = like_day_pattern(
-            values, grid.index, timezone, interval, settings.pattern_weeks, days
-        )
+        labels = None
+        if calendar is not None:
+            labels = CalendarDays.label(grid.index, timezone, calendar)
+        like = LikeDays(grid.index, timezone, interval, settings.pattern_weeks, labels)
+        pattern = like.pattern(values)
         wall = grid.index.tz_convert(timezone).tz_localize(None).as_unit("ns").asi8
         positive = values[values > 0]
         level = float(np.median(positive)) if positive.size else 0.0
         floor = max(settings.spread_floor_share * level, np.finfo(float).tiny)
-        spread = np.maximum(pattern.spread, floor)
+        pattern = Pattern(pattern.typical, np.maximum(pattern.spread, floor))
         local_day = wall // _NS_PER_DAY
+        days = WholeDays.of(values, local_day, interval, None if labels is None else labels.quiet)
+        weather = None
+        if temperatures is not None and interval <= pd.Timedelta(days=1):
+            temperature = interval_temperatures(temperatures, grid.index, interval)
+            pattern, weather = judged_with_weather(
+                values, like, pattern, days, temperature, settings.spike_z
+            )
+        typical, spread = pattern.typical, np.maximum(pattern.spread, floor)
         return cls(
             name=name,
             timezone=timezone,
             interval=interval,
             index=grid.index,
             values=values,
-            typical=pattern.typical,
+            typical=typical,
             spread=spread,
             level=level,
             high=float(np.nanpercentile(values, HIGH_PERCENTILE)),
             settings=settings,
             local_day=local_day,
-            day_lines=fit_day_lines(local_day, values, pattern.typical, spread),
-            calendar_days=days,
+            days=days,
+            day_lines=fit_day_lines(local_day, values, typical, spread),
+            calendar_days=labels,
+            weather=weather,
         )
 
     def __len__(self) -> int:
@@ -106,6 +132,23 @@ class PreparedMeter:
         if self.calendar_days is None:
             return "for that hour of the week"
         return "for that hour on days of the same kind in the campus calendar"
+
+    def expectation(self, at: int) -> str:
+        """What the reading at grid position ``at`` was judged against, in words: "where about
+        46.8 kWh is typical for that hour of the week", or for a weather-driven meter "where,
+        judged against the weather, about 420 kWh is expected at 31 °C for that hour of the
+        week"."""
+        typical = energy_text(self.typical[at])
+        if not self.judged_by_weather(at):
+            return f"where about {typical} is typical {self.like_days}"
+        return (
+            f"where, judged against the weather, about {typical} is expected at "
+            f"{self.weather.temperature[at]:.0f} °C {self.like_days}"
+        )
+
+    def judged_by_weather(self, at: int) -> bool:
+        """Whether the expectation at grid position ``at`` includes the weather."""
+        return self.weather is not None and bool(np.isfinite(self.weather.effect[at]))
 
     @property
     def usual(self) -> np.ndarray:

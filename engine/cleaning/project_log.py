@@ -8,6 +8,9 @@ from __future__ import annotations
 
 from dataclasses import dataclass, replace
 
+import pandas as pd
+
+from engine.calendar import CampusCalendar
 from engine.cleaning.cleaned import CleanedSeries
 from engine.cleaning.clock import find_clock_problems
 from engine.cleaning.find import find_all
@@ -20,6 +23,7 @@ from engine.meters import MeterSeries
 from engine.progress import Progress, step
 from engine.project import Project
 from engine.site_calendar import stored_calendar
+from engine.weather import fill_hourly
 
 
 @dataclass
@@ -43,20 +47,54 @@ def cleaned_meter(project: Project, name: str) -> tuple[MeterSeries, CleanedSeri
     return meter, cleaned
 
 
+@dataclass(frozen=True)
+class SiteDrivers:
+    """What every meter of a project is judged with: the campus calendar and the weather
+    (hourly °C, short gaps filled), each None when the project has none. Read once for a run
+    over many meters."""
+
+    calendar: CampusCalendar | None
+    temperatures: pd.Series | None
+
+    @classmethod
+    def of(cls, project: Project) -> SiteDrivers:
+        """The project's stored calendar and its weather station's temperatures.
+
+        A project with several stations has no one weather for its meters; they are then
+        judged without it.
+        """
+        stations = project.weather_stations()
+        temperatures = None
+        if len(stations) == 1:
+            temperatures = fill_hourly(project.load_weather(stations[0])).hourly
+        return cls(stored_calendar(project), temperatures)
+
+
 def review_meter(
     project: Project,
     name: str,
     settings: CleaningSettings | None = None,
     progress: Progress | None = None,
+    *,
+    drivers: SiteDrivers | None = None,
 ) -> MeterReview:
     """Replay the log, then run every detector on the result (what is still to be done).
 
     The detectors get the project's campus calendar when it has one, so holidays, breaks and
-    closures are compared with days of their own kind.
+    closures are compared with days of their own kind, and its weather when it has some, so a
+    weather-driven meter is judged against the temperature (``drivers``: as read once for
+    many meters; read here when not given).
     """
+    drivers = drivers if drivers is not None else SiteDrivers.of(project)
     meter, cleaned = cleaned_meter(project, name)
     current = replace(meter, values=cleaned.values.dropna())
-    findings = find_all(current, settings, progress, calendar=stored_calendar(project))
+    findings = find_all(
+        current,
+        settings,
+        progress,
+        calendar=drivers.calendar,
+        temperatures=drivers.temperatures,
+    )
     raw = project.load_raw(name)
     if project.meter_settings(name).get("value_kind", "interval") == "interval":
         findings = find_clock_problems(raw[["t", "raw_value"]], meter.timezone, name) + findings
@@ -95,10 +133,12 @@ def apply_recommended_everywhere(
     """Review each meter (all of them by default) and log its recommended fixes, every meter
     in one save; the new step ids by meter."""
     names = project.meter_names() if names is None else names
+    drivers = SiteDrivers.of(project)
     applied: dict[str, list[int]] = {}
     with project.transaction():
         for number, name in enumerate(names):
             step(progress, number / max(len(names), 1), f"reviewing '{name}'")
-            applied[name] = apply_recommended(project, review_meter(project, name))
+            review = review_meter(project, name, drivers=drivers)
+            applied[name] = apply_recommended(project, review)
     step(progress, 1.0, "recommended fixes logged")
     return applied

@@ -11,6 +11,7 @@ from pathlib import Path
 from engine import calendar_edit
 from engine.budgeting import budget_project, keep_budget
 from engine.cleaning import (
+    SiteDrivers,
     accepted_step,
     apply_recommended,
     apply_recommended_everywhere,
@@ -72,9 +73,10 @@ def clean(args: argparse.Namespace) -> int:
         if args.undo is not None:
             project.set_step_active(args.undo, False)
         meters = []
+        drivers = SiteDrivers.of(project)
         with project.transaction():  # every meter's fixes in one save
-            _accept(project, names, args.accept)
-            reviews = [_reviewed(project, name, args.apply_recommended) for name in names]
+            _accept(project, names, args.accept, drivers)
+            reviews = [_reviewed(project, name, args.apply_recommended, drivers) for name in names]
         for name, (review, applied) in zip(names, reviews, strict=True):
             meters.append(
                 {
@@ -92,12 +94,13 @@ def clean(args: argparse.Namespace) -> int:
     return 0
 
 
-def _accept(project: Project, names: list[str], ids: list[str]) -> list[int]:
+def _accept(project: Project, names: list[str], ids: list[str], drivers: SiteDrivers) -> list[int]:
     """Log each finding of ``ids`` as accepted (:func:`accepted_step`); an id no meter of
     ``names`` shows now is refused before anything is saved."""
     if not ids:
         return []
-    shown = {f.id: f for name in names for f in review_meter(project, name).findings}
+    reviews = [review_meter(project, name, drivers=drivers) for name in names]
+    shown = {f.id: f for review in reviews for f in review.findings}
     unknown = [finding for finding in ids if finding not in shown]
     if unknown:
         raise InputError(
@@ -110,11 +113,12 @@ def _accept(project: Project, names: list[str], ids: list[str]) -> list[int]:
     return [project.add_cleaning_step(accepted_step(shown[f]).to_dict()) for f in ids]
 
 
-def _reviewed(project: Project, name: str, apply: bool) -> tuple:
+def _reviewed(project: Project, name: str, apply: bool, drivers: SiteDrivers) -> tuple:
     """The meter's review after logging its recommended fixes when ``apply``, and their ids."""
-    review = review_meter(project, name)
+    review = review_meter(project, name, drivers=drivers)
     applied = apply_recommended(project, review) if apply else []
-    return (review_meter(project, name) if applied else review), applied
+    again = review_meter(project, name, drivers=drivers) if applied else review
+    return again, applied
 
 
 def profile(args: argparse.Namespace) -> int:

@@ -7,32 +7,45 @@ sample/data/faults.json lists every fault laid into the workbook (meter, kind, [
 
 A finding matches a fault when it is on the fault's meter, of a kind in the fault's family
 (:data:`FAULT_FAMILIES`) and overlaps the fault's range. Scores, measured over 3.34 years per
-meter with the calendar (warnings matching no fault, per meter-year):
+meter with the calendar and the weather station (sample/data/weather-station.csv; warnings
+matching no fault, per meter-year):
 
-    Library 0, Science Labs 0, Residence Hall 2.7, Athletics Center 0.3, Administration 6.6
+    Library 0, Science Labs 0, Residence Hall 0, Athletics Center 0.3, Administration 0
 
-All of them are spikes, nearly all on warm days (evenings and weekends of the air-conditioned
-office and residence hall rise far above their typical hour, and the detectors have no
-temperatures); none is serious. Before the calendar and the day-level test the same count was
-30, 7, 44, 33 and 39, the Library's nearly all dips on holidays, breaks and closures, and the
-Administration meter's multiplier change was missed.
+The one is a spike of 38.5 kWh where 30.2 kWh is typical; none is serious. The Science Labs,
+the Residence Hall and the Administration are weather-driven (a change-point fit on the day's
+temperature explains 33 %, 84 % and 41 % of their daily energy) and judged against the
+weather. Without the weather the same count was 0, 0, 2.7, 0.3 and 6.6, all spikes on warm
+days (evenings and weekends of the air-conditioned office and residence hall far above their
+typical hour); before the calendar and the day-level test it was 30, 7, 44, 33 and 39, the
+Library's nearly all dips on holidays, breaks and closures, and the Administration meter's
+multiplier change was missed.
+
+The two chilled-water plant meters and the weather are also read into a project, as the issue
+that asked for the weather found them: see
+:func:`test_the_west_chilled_water_meter_is_judged_against_the_weather`.
 """
 
 from __future__ import annotations
 
 import json
+from dataclasses import replace
 from pathlib import Path
 
 import numpy as np
 import pandas as pd
 import pytest
 
-from engine.cleaning import find_all
+from engine.cleaning import find_all, review_meter
 from engine.cleaning.like_days import CalendarDays
-from engine.reading import ReadOptions, read_calendar, read_meter_file
+from engine.importing import create_project, read_project_files
+from engine.project import Project
+from engine.reading import ReadOptions, read_calendar, read_meter_file, read_weather_file
+from engine.weather import fill_hourly
 
 DATA = Path(__file__).resolve().parents[2] / "sample" / "data"
 SITE_ZONE = "America/Chicago"  # sample/README.md: the site's clock
+WEST = "PLANT-CHW-W"  # the west chilled-water loop (Library and Athletics Center)
 #: The finding kinds that count as finding each kind of fault in faults.json.
 FAULT_FAMILIES: dict[str, set[str]] = {
     "comms_gap_with_catch_up": {"catch_up"},  # the blank cells and the late reading, as one
@@ -43,8 +56,8 @@ FAULT_FAMILIES: dict[str, set[str]] = {
     "missing_rows": {"gap"},
 }
 #: Bars (warnings and serious findings that match no fault, per meter-year).
-WARNINGS_PER_METER_YEAR = 8.0  # for every meter
-WARNINGS_PER_METER_YEAR_ALL = 3.0  # over the five meters together
+WARNINGS_PER_METER_YEAR = 1.0  # for every meter
+WARNINGS_PER_METER_YEAR_ALL = 0.5  # over the five meters together
 QUIET_DAY_WARNINGS_PER_METER_YEAR_ALL = 0.5  # on holidays, breaks and closures
 
 
@@ -59,9 +72,19 @@ def sample():
 
 
 @pytest.fixture(scope="module")
-def findings(sample):
+def temperatures() -> pd.Series:
+    """The sample's weather station, hourly °C with short gaps filled (as a project has it)."""
+    station = read_weather_file(DATA / "weather-station.csv", ReadOptions(timezone=SITE_ZONE))
+    return fill_hourly(station.temps_c).hourly
+
+
+@pytest.fixture(scope="module")
+def findings(sample, temperatures):
     meters, calendar, _ = sample
-    return {column: find_all(meter, calendar=calendar) for column, meter in meters.items()}
+    return {
+        column: find_all(meter, calendar=calendar, temperatures=temperatures)
+        for column, meter in meters.items()
+    }
 
 
 def fault_range(fault: dict) -> tuple[pd.Timestamp, pd.Timestamp]:
@@ -140,6 +163,9 @@ def test_few_false_alarms_and_no_serious_ones(sample, findings):
     for column, meter in meters.items():
         extra = unmatched(findings, faults, column)
         assert [f for f in extra if f.severity == "serious"] == [], column
+        # The multiplier change halves the Administration's response to the weather too: on
+        # daily energy less the old response, next summer would look like a second shift.
+        assert [f for f in extra if f.kind == "level_shift"] == [], column
         rates[column] = len(extra) / meter_years(meter)
     assert max(rates.values()) <= WARNINGS_PER_METER_YEAR, rates
     assert np.mean(list(rates.values())) <= WARNINGS_PER_METER_YEAR_ALL, rates
@@ -173,3 +199,53 @@ def test_without_the_calendar_quiet_days_become_low_days_not_dips(sample):
             (library.values.index >= finding.start) & (library.values.index < finding.end)
         ]
         assert CalendarDays.label(inside, SITE_ZONE, calendar).quiet.all(), finding.explanation
+
+
+def test_the_west_chilled_water_meter_is_judged_against_the_weather(tmp_path, sample):
+    # The plant file and the weather station in a project without the campus calendar,
+    # reviewed as the window does. Measured: without the weather the review held 131 findings
+    # (49 spikes and 3 dips on hot and cool days, 57 high days, 21 low days, and the injected
+    # duplicate hour); judged against the weather, 10: the duplicate and 9 low days (info), every
+    # one on a holiday, break or closure the calendar would explain. With the calendar, 74
+    # against 1 (the duplicate). Bars: the duplicate is still found, no warning is left, at most
+    # a tenth as many findings remain, and they are whole days, at most two of them on term days.
+    _, calendar, _ = sample
+    files = read_project_files(
+        [DATA / "chilled-water-plant.csv"],
+        weather=[DATA / "weather-station.csv"],
+        options=ReadOptions(timezone=SITE_ZONE),
+    )
+    faults = json.loads((DATA / "faults.json").read_text(encoding="utf-8"))
+    (duplicated,) = [f for f in faults if f["file"] == "chilled-water-plant.csv"]
+    # The clock check names the stamps as the file writes them (interval ends here).
+    stamps = {pd.Timestamp(stamp) for stamp in duplicated["stamps_in_file"]}
+    path = tmp_path / f"plant{Project.EXTENSION}"
+    with create_project(path, files, timezone=SITE_ZONE) as project:
+        review = review_meter(project, WEST)
+    blind = find_all(replace(review.meter, values=review.cleaned.values.dropna()))
+    found = review.findings
+    assert {f.start for f in found if f.kind == "duplicate"} == stamps
+    assert [f for f in found if f.severity != "info"] == []
+    assert len(found) <= 0.1 * (len(blind) + 1)
+    day_level = [f for f in found if f.kind != "duplicate"]
+    assert {f.kind for f in day_level} <= {"low_day", "high_day"}
+    on_term_days = [
+        f
+        for f in day_level
+        if not CalendarDays.label(
+            pd.date_range(f.start, f.end, freq="h", inclusive="left"), SITE_ZONE, calendar
+        ).quiet.all()
+    ]
+    assert len(on_term_days) <= 2, [f.explanation for f in on_term_days]
+
+
+def test_with_the_calendar_the_chilled_water_meters_raise_nothing(sample, temperatures):
+    # Both plant loops with the calendar: 62 and 73 findings without the weather, none with it
+    # (measured; the duplicate hour is the import's to report, see the test above).
+    _, calendar, _ = sample
+    plant = read_meter_file(DATA / "chilled-water-plant.csv", ReadOptions(timezone=SITE_ZONE))
+    for read in plant.meters:
+        judged = find_all(read.meter, calendar=calendar, temperatures=temperatures)
+        assert [f for f in judged if f.severity != "info"] == [], read.meter.name
+        assert len(judged) <= 2, [f.explanation for f in judged]  # day-level notes at most
+        assert len(find_all(read.meter, calendar=calendar)) >= 30  # the weather-blind count
