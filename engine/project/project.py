@@ -280,6 +280,16 @@ class Project:
         with self._reading() as conn:
             return meter_tables.meter_settings(conn, name)
 
+    def meter_descriptions(self) -> list[tuple[str, str, str]]:
+        """(name, utility, unit found) of every meter, in the order added; no readings read."""
+        with self._reading() as conn:
+            return meter_tables.meter_descriptions(conn)
+
+    def set_meter_utility(self, name: str, utility: str) -> None:
+        """File meter ``name`` under ``utility`` (one of ``engine.meters.UTILITIES``)."""
+        with self._writing() as conn:
+            meter_tables.set_utility(conn, name, utility)
+
     def remove_meter(self, name: str) -> None:
         """Delete a meter with its readings, raw readings and cleaning steps."""
         with self._writing() as conn:
