@@ -1,0 +1,76 @@
+"""`loadledger meter`: display names, utilities and units read in, kept in the project."""
+
+from __future__ import annotations
+
+import json
+
+import pandas as pd
+import pytest
+
+from tests.cli.cli_support import loadledger
+
+
+def _run(*args):
+    return json.loads(loadledger(*args, "--json").stdout)
+
+
+@pytest.fixture(scope="module")
+def project(tmp_path_factory):
+    folder = tmp_path_factory.mktemp("meter")
+    stamps = pd.date_range("2025-01-01", periods=24 * 20, freq="h")
+    meters = folder / "m.csv"
+    meters.write_text(
+        "Timestamp,Hall (kWh),GM-2 (kWh)\n"
+        + "".join(f"{t:%Y-%m-%d %H:%M},1,{29.3072 * (1 + t.hour % 3):.4f}\n" for t in stamps)
+    )
+    weather = folder / "w.csv"
+    weather.write_text("Timestamp,Dry bulb (°F)\n" + "".join(
+        f"{t:%Y-%m-%d %H:%M},{50 + t.hour}\n" for t in stamps))  # fmt: skip
+    target = folder / "p.loadledger"
+    loadledger("new", target, "--meters", meters, "--weather", weather, "--timezone", "UTC")
+    return target
+
+
+def test_a_meter_gets_a_display_name_a_utility_and_a_unit(project):
+    report = _run("meter", project, "GM-2", "--display-name", "Gas main", "--utility",
+                  "natural_gas", "--read-unit", "therms")  # fmt: skip
+    assert report["changed"]
+    assert report["meters"] == [
+        {"name": "GM-2", "display_name": "Gas main", "utility": "natural_gas", "read_unit": "therm"}
+    ]
+    assert report["temperature_unit"] == "°F"  # the weather file was read in °F
+    listed = _run("meter", project)
+    assert [m["name"] for m in listed["meters"]] == ["Hall", "GM-2"]
+    assert not listed["changed"]
+    info = _run("info", project)
+    gas = next(m for m in info["meters"] if m["name"] == "GM-2")  # JSON keys stay raw
+    assert (gas["display_name"], gas["utility"]) == ("Gas main", "natural_gas")
+    words = loadledger("info", project).stdout
+    assert "Gas main" in words and "GM-2" not in words
+
+
+def test_the_temperature_unit_can_be_changed(project):
+    assert _run("meter", project, "--temperature-unit", "C")["temperature_unit"] == "°C"
+    assert _run("meter", project, "--temperature-unit", "F")["temperature_unit"] == "°F"
+
+
+@pytest.mark.parametrize(
+    ("args", "words"),
+    [
+        (("Gym", "--display-name", "Gym"), "no meter 'Gym'"),
+        (("Hall", "--read-unit", "parsecs"), "not a unit energy can be shown in"),
+        (("Hall", "--utility", "water"), "not a utility"),
+        (("--display-name", "Hall"), "say which meter"),
+    ],
+)
+def test_bad_changes_are_one_line_and_change_nothing(project, args, words):
+    before = _run("meter", project)
+    done = loadledger("meter", project, *args, expect=2)
+    assert words in done.stderr and len(done.stderr.strip().splitlines()) == 1
+    assert _run("meter", project) == before
+
+
+def test_two_meters_cannot_be_shown_under_one_name(project):
+    _run("meter", project, "GM-2", "--display-name", "Gas main")
+    done = loadledger("meter", project, "Hall", "--display-name", "gas MAIN", expect=2)
+    assert "already shown as 'Gas main'" in done.stderr
