@@ -38,6 +38,7 @@ from desktop.pattern_plots import (
 from desktop.session import Session
 from desktop.understood_view import NUMBER_ROLE
 from desktop.workers import Failure, Task
+from engine.profiles import TemperatureResponse
 
 GROUPING_WORDS = {"day_type": "day type", "season": "season"}
 FIGURE_HEADERS = ("Figure", "Value", "Unit", "How it is worked out")
@@ -244,7 +245,7 @@ class PatternsScreen(MeterScreen):
             (self.heat, patterns.heat_map, "heat_map", self.heat.show_matrix),
             (self.monthly, patterns.monthly, "monthly", self.monthly.show_table),
             (self.duration, patterns.duration, "duration", self.duration.show_table),
-            (self.temperature, patterns.temperature, "temperature", self.temperature.show_response),
+            (self.temperature, patterns.temperature, "temperature", self._draw_temperature),
         )
         for panel, found, name, draw in drawn:
             if found is None:
@@ -252,6 +253,9 @@ class PatternsScreen(MeterScreen):
             else:
                 draw(found)
         self.figures.show_figures(patterns.figures, patterns.weather, notes.get("weather", ""))
+
+    def _draw_temperature(self, response: TemperatureResponse) -> None:
+        self.temperature.show_response(response, self.patterns.temperature_unit)
 
     def _draw_typical_days(self) -> None:
         patterns = self.patterns
