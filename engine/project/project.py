@@ -366,6 +366,17 @@ class Project:
         with self._writing() as conn:
             cleaning_table.remove_step(conn, step_id)
 
+    def stored_steps(self) -> dict[int, tuple]:
+        """Every cleaning step exactly as stored, by id (for taking a change back)."""
+        with self._reading() as conn:
+            return cleaning_table.stored_rows(conn)
+
+    def put_stored_steps(self, rows: dict[int, tuple | None]) -> None:
+        """Make the steps of ``rows`` as :meth:`stored_steps` gave them (None: absent), in one
+        save."""
+        with self._writing() as conn:
+            cleaning_table.put_rows(conn, rows)
+
     # -- results of analyses --------------------------------------------------------------
 
     def add_result(self, kind: str, meter: str | None, label: str, body: dict) -> int:
@@ -394,6 +405,21 @@ class Project:
     def remove_result(self, result_id: int) -> None:
         with self._writing() as conn:
             results_table.remove_result(conn, result_id)
+
+    def stored_result(self, result_id: int) -> tuple:
+        """A result exactly as stored (id, kind, meter, label, created_at, JSON text)."""
+        with self._reading() as conn:
+            return results_table.stored_row(conn, result_id)
+
+    def take_result(self, result_id: int) -> tuple:
+        """Remove a result and give it back as stored, for :meth:`put_back_result`."""
+        with self._writing() as conn:
+            return results_table.take_result(conn, result_id)
+
+    def put_back_result(self, row: tuple) -> None:
+        """Store a result taken with :meth:`take_result` again, under its own id."""
+        with self._writing() as conn:
+            results_table.put_back_result(conn, row)
 
     # -- budget modelling kept between runs ---------------------------------------------
 
