@@ -34,11 +34,11 @@ from desktop.model_jobs import (
     fit_report,
     stored_report,
     ticked_families,
-    use_model_report,
 )
 from desktop.model_plots import BacktestPanel, ResidualPanel
 from desktop.model_tables import CoefficientsTable, RankingTable
 from desktop.palette import TONES
+from desktop.project_changes import MODEL, use_model_remembered
 from desktop.session import Session
 from desktop.workers import Failure, Task, Work
 
@@ -74,6 +74,7 @@ class ModelsScreen(MeterScreen):
     """Pick a meter; show its stored model, or fit and compare the ticked families."""
 
     NO_PROJECT = "Open a project to fit models to its meters."
+    FOLLOWS = (MODEL,)
 
     def __init__(self, session: Session, parent: QWidget | None = None) -> None:
         super().__init__(session, parent)
@@ -175,7 +176,9 @@ class ModelsScreen(MeterScreen):
         project = self.session.project
         if project is None or not name or model is None:
             return
-        work = partial(use_model_report, project, name, model)
+        words = f"use model '{model}' for {self.meter.shown()}"
+        remember = self.undo.made_on_worker  # Edit ▸ Undo takes the choice back
+        work = partial(use_model_remembered, remember, project, name, model, words)
         self._run(work, f"keeping another model for '{name}'", announce="Now used")
 
     def _selection_changed(self) -> None:

@@ -35,6 +35,7 @@ from desktop.pattern_plots import (
     TemperaturePanel,
     TypicalDayPanel,
 )
+from desktop.project_changes import CALENDAR, TEMPERATURE
 from desktop.session import Session
 from desktop.understood_view import NUMBER_ROLE
 from desktop.workers import Failure, Task
@@ -129,6 +130,7 @@ class PatternsScreen(MeterScreen):
     """Pick a meter; the profiles of its cleaned readings are computed on a worker and drawn."""
 
     NO_PROJECT = "Open a project to see its meters' patterns."
+    FOLLOWS = (CALENDAR, TEMPERATURE)
 
     def __init__(self, session: Session, parent: QWidget | None = None) -> None:
         super().__init__(session, parent)
