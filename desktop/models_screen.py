@@ -176,7 +176,7 @@ class ModelsScreen(MeterScreen):
         project = self.session.project
         if project is None or not name or model is None:
             return
-        words = f"use model '{model}' for {self.meter.shown()}"
+        words = f"use model '{self.ranking.row_of(model)['Model']}' for {self.meter.shown()}"
         remember = self.undo.made_on_worker  # Edit ▸ Undo takes the choice back
         work = partial(use_model_remembered, remember, project, name, model, words)
         self._run(work, f"keeping another model for '{name}'", announce="Now used")

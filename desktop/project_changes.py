@@ -37,9 +37,10 @@ CLEANING, LABELS, TEMPERATURE, CALENDAR, MODEL = (
 
 @dataclass(frozen=True)
 class Reversible:
-    """A change in words ("apply fix 'fill gap' on Library"), the engine calls that make it
-    and take it back, its kind and the meters it touched."""
+    """A change to ``project`` in words ("apply fix 'fill gap' on Library"), the engine calls
+    that make it and take it back, its kind and the meters it touched."""
 
+    project: Project
     words: str
     do: Callable[[], object]
     undo: Callable[[], object]
@@ -50,6 +51,7 @@ class Reversible:
 def cleaning_change(project: Project, logged: LogChange, words: str) -> Reversible:
     """A change already made to the cleaning log (see :func:`logged_change`)."""
     return Reversible(
+        project,
         words,
         partial(make_again, project, logged),
         partial(take_back, project, logged),
@@ -81,6 +83,7 @@ def label_change(
     else:
         words = f"show {before.shown} in {after.read_unit}"
     return Reversible(
+        project,
         words,
         partial(store_label, project, after),
         partial(store_label, project, before),
@@ -95,6 +98,7 @@ def temperature_change(project: Project, unit: str) -> Reversible | None:
     if unit == before:
         return None
     return Reversible(
+        project,
         f"show temperatures in {unit}",
         partial(set_temperature_unit, project, unit),
         partial(set_temperature_unit, project, before),
@@ -111,6 +115,7 @@ def calendar_change(
     if after == before:
         return None
     return Reversible(
+        project,
         words,
         partial(calendar_edit.store, project, after),
         partial(calendar_edit.store, project, before),
@@ -133,6 +138,7 @@ def use_model_remembered(
     if kept is not None:
         remember(
             Reversible(
+                project,
                 words,
                 partial(keep_choice_again, project, kept),
                 partial(take_back_choice, project, kept),

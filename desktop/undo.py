@@ -46,6 +46,7 @@ class ProjectUndo(QObject):
 
     def __init__(self, session: Session) -> None:
         super().__init__()
+        self.session = session
         self.stack = QUndoStack(self)
         self._made_elsewhere.connect(self.made)
         session.subscribe(lambda _project: self.stack.clear())
@@ -55,8 +56,10 @@ class ProjectUndo(QObject):
         self.stack.push(_Command(change, self, made=False))
 
     def made(self, change: Reversible) -> None:
-        """Remember ``change``, which was made already (it is not made again)."""
-        self.stack.push(_Command(change, self, made=True))
+        """Remember ``change``, which was made already (it is not made again); a change to a
+        project no longer open is not remembered."""
+        if change.project is self.session.project:
+            self.stack.push(_Command(change, self, made=True))
 
     def made_on_worker(self, change: Reversible) -> None:
         """:meth:`made`, callable from a worker thread (the stack is the window thread's)."""

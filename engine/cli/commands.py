@@ -212,8 +212,9 @@ def _budget_report(args: argparse.Namespace, project: Project) -> int:
         if adopt_as:
             adopt_budget(project, adopt_as, outcome, request, replace=args.replace)
     labels = meter_labels(project)
-    report = outcome.run.to_json()
-    report["meters"] = [_in_read_unit(meter, labels) for meter in report["meters"]]
+    report = outcome.run.to_json()  # as kept in the project: the JSON stays the run's own
+    if not args.json:  # the text names meters as the project does, in the units read in
+        report["meters"] = [with_display_units(meter, labels) for meter in report["meters"]]
     if adopt_as:
         report["adopted"] = adopt_as
     if args.xlsx:
@@ -255,7 +256,7 @@ def _named(project: Project, meters: list[dict]) -> list[dict]:
     return [meter | {"display_name": shown_name(labels, meter["name"])} for meter in meters]
 
 
-def _in_read_unit(meter: dict, labels: Labels) -> dict:
+def with_display_units(meter: dict, labels: Labels) -> dict:
     """A budgeted meter with its display name and, when it was read in another unit than kWh,
     its period total's mean and quantiles in that unit."""
     label = labels.get(meter["name"])

@@ -7,6 +7,9 @@ import json
 import pandas as pd
 import pytest
 
+from engine.cli.commands import with_display_units
+from engine.cli.text import budget_report
+from engine.meter_labels import MeterLabel
 from tests.cli.cli_support import loadledger
 
 
@@ -74,3 +77,18 @@ def test_two_meters_cannot_be_shown_under_one_name(project):
     _run("meter", project, "GM-2", "--display-name", "Gas main")
     done = loadledger("meter", project, "Hall", "--display-name", "gas MAIN", expect=2)
     assert "already shown as 'Gas main'" in done.stderr
+
+
+def test_budget_text_names_meters_as_shown_and_in_the_unit_read_in():
+    # one invented gas meter budgeted at 2,930.72 kWh at P50: 100 therms (NIST SP 811 (2008),
+    # B.8: therm (EC) = 1.055 06 E+08 J, kWh = 3.6 E+06 J)
+    total = {"mean": 2930.72, "quantiles": {"10": 2600.0, "50": 2930.72, "90": 3300.0}}
+    label = MeterLabel("GM-2", "natural_gas", "therm", "Gas main")
+    meter = with_display_units({"name": "GM-2", "total": total}, {"GM-2": label})
+    assert meter["in_read_unit"]["quantiles"]["50"] == pytest.approx(100.0, rel=1e-5)
+    report = {"levels": [10, 50, 90], "months": ["2027-01"], "as_of": "2026-12-31",
+              "weather": "typical", "paths": 10, "meters": [meter], "utilities": [],
+              "calibration": {"GM-2": {"summary": "held 9 of 11"}}, "cautions": []}  # fmt: skip
+    words = budget_report(report)
+    assert "Gas main" in words and "GM-2" not in words
+    assert "(P50 100 therm)" in words

@@ -102,6 +102,8 @@ def test_cleaning_steps_are_undone_and_redone(qtbot, window):
         assert project.cleaning_steps(LIBRARY, active_only=False) == []
     assert fixable.id in {f.id for f in screen.findings.findings}  # the screen looked again
     assert screen.log.steps == []
+    assert window.undo.stack.redoText().startswith("apply fix '")
+    save_screen(window, "cleaning-after-undo")
     _undo(qtbot, window, redo=True)
     with _stored(window) as project:
         assert project.cleaning_steps(LIBRARY, active_only=False) == [step]  # same id, time
@@ -150,6 +152,8 @@ def test_meter_names_and_units_are_undone_and_redone(qtbot, window):
 
 
 def test_the_temperature_unit_and_calendar_edits_are_undone(qtbot, window):
+    window.show_step("Patterns")
+    save_screen(window, "patterns-fahrenheit")
     window.show_meters()
     dialog = window.meters_dialog
     assert dialog.temperature.value() == "°F"  # the sample's weather came in °F
@@ -190,7 +194,8 @@ def test_a_model_kept_by_hand_is_undone_and_redone(qtbot, window):
     screen.use_button.click()
     _settle(qtbot, window)
     qtbot.waitUntil(lambda: window.undo.stack.canUndo())
-    assert window.undo.stack.undoText() == f"use model '{other}' for Library"
+    title = screen.ranking.row_of(other)["Model"]  # the family's name in words
+    assert window.undo.stack.undoText() == f"use model '{title}' for Library"
     assert screen.report.chosen == other
     _undo(qtbot, window)
     with _stored(window) as project:
