@@ -136,8 +136,11 @@ def profile(args: argparse.Namespace) -> int:
             for p in profiles
         ]
         report = {"project": str(Path(args.project).resolve()), "meters": _named(project, meters)}
+        labels = meter_labels(project)
     if args.xlsx:
-        written = write_profile_workbook(args.xlsx, profiles, project=Path(args.project).stem)
+        written = write_profile_workbook(
+            args.xlsx, profiles, project=Path(args.project).stem, names=labels
+        )
         report["workbook"] = str(written.resolve())
     _emit(args, report, text.profile_report)
     return 0

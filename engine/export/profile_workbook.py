@@ -19,6 +19,7 @@ from engine.export.finance_layout import NOTE_FONT, TITLE_FONT, paragraph
 from engine.export.printing import PageLabels, set_up_printing
 from engine.export.saving import save_workbook
 from engine.export.sheets import put, write_table
+from engine.meter_labels import Labels, shown_name
 from engine.profile_run import ProjectMeterProfile
 
 SHEETS = (
@@ -41,11 +42,15 @@ FIGURE_FORMAT = "#,##0.00"  # key figures: energies, ratios and slopes alike
 
 
 def write_profile_workbook(
-    path: str | Path, profiles: list[ProjectMeterProfile], project: str | None = None
+    path: str | Path,
+    profiles: list[ProjectMeterProfile],
+    project: str | None = None,
+    names: Labels | None = None,
 ) -> Path:
     """Write every meter's profile tables to ``path`` (xlsx) and return the path.
 
-    ``project`` heads every printed page (None: the workbook's file name).
+    ``project`` heads every printed page (None: the workbook's file name); meters are headed by
+    their display names from ``names`` (:mod:`engine.meter_labels`; None: raw names).
     """
     book = Workbook()
     book.remove(book.active)
@@ -60,7 +65,8 @@ def write_profile_workbook(
             row = sheet.max_row + 3 if starts[name] else FIRST_TABLE_ROW
             starts[name].append(row)
             counts[name] += len(frame)
-            put(sheet, row, 1, f"{profile.meter.name} ({profile.meter.utility})")
+            shown = shown_name(names, profile.meter.name)
+            put(sheet, row, 1, f"{shown} ({profile.meter.utility.replace('_', ' ')})")
             write_table(sheet, frame, first_row=row + 1, formats={"value": FIGURE_FORMAT})
     labels = PageLabels(project)
     for name, sheet in sheets.items():

@@ -6,6 +6,7 @@ import json
 
 import pandas as pd
 import pytest
+from openpyxl import load_workbook
 
 from engine.cli.commands import with_display_units
 from engine.cli.text import budget_report
@@ -50,6 +51,11 @@ def test_a_meter_gets_a_display_name_a_utility_and_a_unit(project):
     assert (gas["display_name"], gas["utility"]) == ("Gas main", "natural_gas")
     words = loadledger("info", project).stdout
     assert "Gas main" in words and "GM-2" not in words
+    book = project.parent / "profiles.xlsx"
+    profiled = _run("profile", project, "--xlsx", book)
+    assert [m["display_name"] for m in profiled["meters"]] == ["Hall", "Gas main"]
+    headings = {c for row in load_workbook(book)["Key figures"].values for c in row if c}
+    assert "Gas main (natural gas)" in headings and "GM-2 (natural_gas)" not in headings
 
 
 def test_the_temperature_unit_can_be_changed(project):
