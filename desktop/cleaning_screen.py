@@ -261,7 +261,8 @@ class CleaningScreen(MeterScreen):
     ) -> None:
         self._wanted = None
         self.notice.clear()
-        doing = f"reviewing '{meter}'" if change is None else f"changing the cleaning of '{meter}'"
+        shown = self.meter.shown_as(meter)
+        doing = f"reviewing '{shown}'" if change is None else f"changing the cleaning of '{shown}'"
         project = self.session.project
         task = Task(partial(review_after, project, meter, change), doing)
         task.succeeded.connect(partial(self._reviewed, project, done, command))
@@ -300,9 +301,10 @@ class CleaningScreen(MeterScreen):
 
     def _cancelled(self, meter: str) -> None:
         if self._wanted is None:
-            self._clear_review(f"Stopped reviewing '{meter}'.")
+            shown = self.meter.shown_as(meter)
+            self._clear_review(f"Stopped reviewing '{shown}'.")
             self.notice.say(
-                f"Stopped reviewing '{meter}'. Press 'Review again' to see its findings.", "info"
+                f"Stopped reviewing '{shown}'. Press 'Review again' to see its findings.", "info"
             )
 
     def _ended(self, meter: str, touched: tuple[str, ...]) -> None:

@@ -35,6 +35,11 @@ class MeterBox(QComboBox):
         """The chosen meter as the person knows it: its display name."""
         return self.itemText(self.currentIndex())
 
+    def shown_as(self, name: str) -> str:
+        """How meter ``name`` (raw) is listed: its display name, else ``name``."""
+        position = self.findData(name)
+        return self.itemText(position) if position >= 0 else name
+
     def currentText(self) -> str:
         """The raw name of the meter chosen ("" when none)."""
         name = self.currentData()

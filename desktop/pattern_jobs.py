@@ -12,7 +12,7 @@ from dataclasses import dataclass, field
 
 import pandas as pd
 
-from engine.meter_labels import temperature_unit
+from engine.meter_labels import meter_labels, shown_name, temperature_unit
 from engine.profile_run import ProjectMeterProfile, profile_project_meter
 from engine.profiles import TemperatureResponse
 from engine.progress import Progress, step
@@ -91,7 +91,8 @@ def compute_patterns(
         patterns.heat_map = profiles.heat_map
     else:
         words = (
-            f"The readings of '{request.meter}' are {_interval_words(found.meter.interval)} "
+            f"The readings of '{shown_name(meter_labels(project), request.meter)}' are "
+            f"{_interval_words(found.meter.interval)} "
             "apart: typical days and the hour-by-date map need interval data of an hour or less."
         )
         patterns.notes.update(typical_days=words, heat_map=words)
