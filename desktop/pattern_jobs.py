@@ -12,13 +12,12 @@ from dataclasses import dataclass, field
 
 import pandas as pd
 
-from engine.meter_labels import meter_labels, shown_name, temperature_unit
+from engine.meter_labels import in_temperature_unit, meter_labels, shown_name, temperature_unit
 from engine.profile_run import ProjectMeterProfile, profile_project_meter
 from engine.profiles import TemperatureResponse
 from engine.progress import Progress, step
 from engine.project import Project
 from engine.site_calendar import stored_calendar
-from engine.units import from_celsius, per_degree_in
 from engine.words import counted
 
 #: Ways to group typical days offered on the screen (the engine's groupings). Grouping by
@@ -117,21 +116,12 @@ def weather_rows(found: ProjectMeterProfile, shown: str = "°C") -> tuple[pd.Dat
     kind = KIND_WORDS.get(response["kind"], response["kind"])
     how = f"{kind} degree-day fit of daily energy; {found.balance_note}"
     rows = [
-        (name, *_in_unit(response[key] * factor, unit, shown), how)
+        (name, *in_temperature_unit(response[key] * factor, unit, shown), how)
         for key, name, unit, factor in WEATHER_ROWS
         if response.get(key) is not None
     ]
     table = pd.DataFrame(rows, columns=["figure", *FIGURE_COLUMNS]).set_index("figure")
     return table, ""
-
-
-def _in_unit(value: float, unit: str, shown: str) -> tuple[float, str]:
-    """A figure and its unit with temperatures (°C) and amounts per °C-day in ``shown``."""
-    if unit == "°C":
-        return float(from_celsius(value, shown)), shown
-    if "°C-day" in unit:
-        return float(per_degree_in(value, shown)), unit.replace("°C", shown)
-    return value, unit
 
 
 def _basis(project: Project, meter: str) -> str:

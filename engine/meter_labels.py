@@ -213,3 +213,13 @@ def checked_temperature_unit(text: str) -> str:
 def set_temperature_unit(project: Project, text: str) -> None:
     """Show the project's temperatures in °F or °C from now on (the engine keeps °C)."""
     project.set_setting(TEMPERATURE_SETTING, checked_temperature_unit(text))
+
+
+def in_temperature_unit(value: float, unit: str, shown: str) -> tuple[float, str]:
+    """A figure in ``unit`` with temperatures (°C) and amounts per °C ("kWh per °C-day",
+    "kWh per day per °C") expressed in ``shown`` (°C or °F) instead; other figures as given."""
+    if unit == "°C":
+        return float(units.from_celsius(value, shown)), shown
+    if "°C" in unit:
+        return float(units.per_degree_in(value, shown)), unit.replace("°C", shown)
+    return value, unit

@@ -136,11 +136,12 @@ def profile(args: argparse.Namespace) -> int:
             for p in profiles
         ]
         report = {"project": str(Path(args.project).resolve()), "meters": _named(project, meters)}
-        labels = meter_labels(project)
+        labels, shown = meter_labels(project), temperature_unit(project)
     if args.xlsx:
         written = write_profile_workbook(
-            args.xlsx, profiles, project=Path(args.project).stem, names=labels
-        )
+            args.xlsx, profiles, project=Path(args.project).stem, names=labels,
+            temperature_unit=shown,
+        )  # fmt: skip
         report["workbook"] = str(written.resolve())
     _emit(args, report, text.profile_report)
     return 0

@@ -8,13 +8,16 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from openpyxl import load_workbook
 
 from engine import units
 from engine.errors import InputError
+from engine.export.profile_workbook import write_profile_workbook
 from engine.importing import ImportedFiles, store_files
 from engine.meter_labels import (
     MeterLabel,
     checked_temperature_unit,
+    in_temperature_unit,
     meter_label,
     meter_labels,
     relabelled,
@@ -23,6 +26,7 @@ from engine.meter_labels import (
     store_label,
     temperature_unit,
 )
+from engine.profile_run import profile_project_meter
 from engine.project import Project
 from engine.reading import ReadOptions, read_file
 
@@ -147,3 +151,20 @@ def test_weather_read_in_fahrenheit_makes_the_project_show_fahrenheit(tmp_path):
         second = dataclasses.replace(weather, station="second station")
         store_files(project, ImportedFiles([], [], [second], options))
         assert temperature_unit(project) == "°C"  # a later import keeps the person's choice
+
+
+def test_the_profile_workbook_gives_the_weather_response_in_fahrenheit(site, tmp_path):
+    profile = profile_project_meter(site, "Hall")
+    response = profile.key_figures()["weather response"]
+    path = write_profile_workbook(tmp_path / "p.xlsx", [profile], temperature_unit="°F")
+    rows = {row[0]: row[1] for row in load_workbook(path)["Key figures"].values if row[0]}
+    # NIST SP 811 (2008), B.8: t/°F = 1.8 t/°C + 32; a °F interval is 5/9 K
+    celsius = response["heating balance point °C"]
+    assert rows["heating balance point °F"] == pytest.approx(1.8 * celsius + 32)
+    per_c = response["heating slope kWh per °C-day"]
+    assert rows["heating slope kWh per °F-day"] == pytest.approx(per_c / 1.8)
+    assert rows["weather-independent kWh per day"] == pytest.approx(
+        response["weather-independent kWh per day"]
+    )
+    assert not any("°C" in str(name) for name in rows)
+    assert in_temperature_unit(5.0, "kWh", "°F") == (5.0, "kWh")
