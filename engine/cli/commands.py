@@ -241,6 +241,7 @@ def track(args: argparse.Namespace) -> int:
     as_of = parse_as_of(args.as_of) if args.as_of else None
     with Project.open(args.project) as project:
         report = track_budget(project, args.budget, as_of=as_of, **_parallel(args))
+        report["meters"] = _named(project, report["meters"])
     if args.xlsx:
         report["workbook"] = str(write_tracking_workbook(args.xlsx, report).resolve())
     _emit(args, report, text.track_report)

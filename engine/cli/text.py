@@ -255,7 +255,7 @@ def track_report(report: dict) -> str:
     if report.get("campus"):
         groups.append(report["campus"])
     for group in groups:
-        label = group.get("name") or group.get("group")
+        label = group.get("display_name") or group.get("name") or group.get("group")
         lines.append(f"  {label} ({group.get('utility', 'roll-up')}, kWh)")
         lines.append(
             f"    {'month':<8} {'status':<10} {'budget P50':>12} {'actual':>12} {'variance':>12}"
