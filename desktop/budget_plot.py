@@ -18,6 +18,7 @@ from desktop.palette import SERIES_CYCLE
 from desktop.plot_panel import PlotPanel
 from engine.budget.result import BudgetRun
 from engine.export.finance_tables import Budgeted, budgeted
+from engine.meter_labels import Labels
 
 MEDIAN_COLOUR = SERIES_CYCLE[0]
 TO_DATE_COLOUR = SERIES_CYCLE[1]
@@ -88,13 +89,20 @@ class BudgetRangePanel(PlotPanel):
         #: The month labels asked of the axis: those always written, then those that may be.
         self.month_labels: list[list[tuple[float, str]]] = [[], []]
 
-    def show_run(self, run: BudgetRun) -> None:
-        """Offer every budgeted thing of ``run`` (the campus first) and draw the first."""
+    def show_run(self, run: BudgetRun, labels: Labels | None = None) -> None:
+        """Offer every budgeted thing of ``run`` (the campus first; meters named by
+        ``labels``) and draw the one picked before, else the first."""
+        picked = self.items.get(self.pick.value())
         self.run = run
-        self.items = {item_title(item): item for item in budgeted(run)}
+        self.items = {item_title(item): item for item in budgeted(run, labels)}
         self.pick.clear()
         for title in self.items:
             self.pick.addItem(title, title)
+        if picked is not None:
+            same = (
+                t for t, i in self.items.items() if (i.scope, i.name) == (picked.scope, picked.name)
+            )
+            self.pick.set_value(next(same, None))
         self._draw()
 
     def _draw(self) -> None:

@@ -39,10 +39,13 @@ from desktop.budget_jobs import (
 from desktop.budget_plot import BudgetRangePanel
 from desktop.budget_table import BudgetTable
 from desktop.palette import TONES
+from desktop.project_changes import LABELS, Reversible
 from desktop.session import Session
 from desktop.task_screen import TaskScreen
+from desktop.undo import undo_for
 from engine.budgeting import ProjectBudget, last_reading_day, latest_budget
 from engine.errors import InputError, ProjectError
+from engine.meter_labels import Labels, meter_labels, shown_name
 from engine.project import Project
 from engine.tracking.adopt import adopted_as_issued
 
@@ -85,6 +88,7 @@ class BudgetScreen(TaskScreen):
         self.table = BudgetTable()
         self._lay_out()
         session.subscribe(self._project_changed)
+        undo_for(session).changed.connect(self._undone_or_redone)
         self._project_changed(session.project)
 
     def _lay_out(self) -> None:
@@ -290,14 +294,24 @@ class BudgetScreen(TaskScreen):
 
     def _display(self, budget: ProjectBudget) -> None:
         self._keep(budget)
-        run = budget.run
-        self.summary.setText(_summary_words(budget))
-        self.table.show_run(run)
-        self.plot.show_run(run)
-        self.notes.setHtml(_notes_html(budget))
+        self._show_run(budget)
+
+    def _show_run(self, budget: ProjectBudget) -> None:
+        """The budget's words, range and table, meters named as the project names them."""
+        project = self.session.project
+        labels = None if project is None else meter_labels(project)
+        self.summary.setText(_summary_words(budget, labels))
+        self.table.show_run(budget.run, labels)
+        self.plot.show_run(budget.run, labels)
+        self.notes.setHtml(_notes_html(budget, labels))
+
+    def _undone_or_redone(self, change: Reversible) -> None:
+        """Meters named or shown afresh after a change of names or units."""
+        if change.kind == LABELS and self.budget is not None:
+            self._show_run(self.budget)
 
 
-def _summary_words(budget: ProjectBudget) -> str:
+def _summary_words(budget: ProjectBudget, labels: Labels | None) -> str:
     run = budget.run
     parts = [
         f"Readings up to {run.as_of}",
@@ -307,17 +321,21 @@ def _summary_words(budget: ProjectBudget) -> str:
     ]
     models = run.assumptions.get("models", {})
     if models:
-        parts.append("models: " + ", ".join(f"{name} {label}" for name, label in models.items()))
+        parts.append(
+            "models: "
+            + ", ".join(f"{shown_name(labels, name)} {label}" for name, label in models.items())
+        )
     return " · ".join(parts) + "."
 
 
-def _notes_html(budget: ProjectBudget) -> str:
+def _notes_html(budget: ProjectBudget, labels: Labels | None) -> str:
     """How well the range held in past months, per meter, then the cautions."""
     problem = TONES["problem"][1]
     parts = ["<b>How well such ranges held</b><ul>"]
     for meter, calibration in budget.run.calibration.items():
         sentence = calibration.sentence()
-        parts.append(f"<li><i>{escape(meter)}</i>: {escape(sentence)}.</li>")
+        name = shown_name(labels, meter)
+        parts.append(f"<li><i>{escape(name)}</i>: {escape(sentence)}.</li>")
     parts.append(f"</ul><b style='color:{problem}'>Before you use these numbers</b><ul>")
     parts += [f"<li>{escape(caution)}</li>" for caution in budget_cautions(budget)]
     parts.append("</ul>")

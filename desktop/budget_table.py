@@ -21,7 +21,14 @@ from PySide6.QtWidgets import (
 from desktop.number_cells import number_cell
 from desktop.understood_view import NUMBER_ROLE
 from engine.budget.result import BudgetRun
-from engine.export.finance_tables import TOTAL_LABEL, Budgeted, budgeted, figure_columns
+from engine.export.finance_tables import (
+    READ_UNIT_HEADER,
+    TOTAL_LABEL,
+    Budgeted,
+    budgeted,
+    figure_columns,
+)
+from engine.meter_labels import Labels
 from engine.words import counted
 
 HEADING_TINT = "#eef0f2"
@@ -36,7 +43,8 @@ def item_title(item: Budgeted) -> str:
     water), and says so.
     """
     if item.scope == "meter":
-        return f"{item.name} (meter)"
+        read_in = f", read in {item.read_unit}" if item.read_unit else ""
+        return f"{item.shown_name} (meter{read_in})"
     if item.scope == "campus":
         return f"Campus, all utilities added ({counted(item.meters, 'meter')})"
     return f"{item.shown_name} (roll-up of {counted(item.meters, 'meter')})"
@@ -71,11 +79,12 @@ class BudgetTable(QWidget):
         self.table.setColumnCount(0)
         self.headers = []
 
-    def show_run(self, run: BudgetRun) -> None:
-        """Lay out every budgeted thing of ``run`` with the workbook's figure headers."""
-        columns = figure_columns(run)
-        self.headers = ["month", columns.actual, *columns.energy, *columns.cost]
-        items = budgeted(run)
+    def show_run(self, run: BudgetRun, labels: Labels | None = None) -> None:
+        """Lay out every budgeted thing of ``run`` with the workbook's figure headers, meters
+        named and shown in the units they were read in by ``labels``."""
+        columns = figure_columns(run, labels)
+        self.headers = ["month", *columns.shown]
+        items = budgeted(run, labels)
         rows = sum(len(item.months) + 2 for item in items)
         self.table.clear()
         self.table.clearSpans()  # clear() keeps the heading spans of the run shown before
@@ -91,8 +100,12 @@ class BudgetTable(QWidget):
                 first = QTableWidgetItem(label)
                 first.setData(ROW_ROLE, (item.name, period.period))
                 cells = [first]
+                figures = columns.figures(period, item.read_unit)
                 for header in self.headers[1:]:
-                    cells.append(number_cell(columns.figures(period).get(header), 0))
+                    cells.append(number_cell(figures.get(header), 0))
+                if item.read_unit is not None:  # the unit beside the number: units differ
+                    read_in = cells[self.headers.index(READ_UNIT_HEADER)]
+                    read_in.setText(f"{read_in.text()} {item.read_unit}")
                 for column, cell in enumerate(cells):
                     if period.period == "total":
                         _bold(cell)

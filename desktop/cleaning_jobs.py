@@ -14,6 +14,7 @@ import pandas as pd
 
 from engine.cleaning import CleanedSeries, CleaningStep, Finding, MeterReview, apply_steps
 from engine.cleaning import review_meter as engine_review
+from engine.cleaning.log_changes import LogChange, logged_change
 from engine.progress import Progress, step
 from engine.project import Project
 
@@ -28,13 +29,15 @@ CONTEXT_INTERVALS = (24, 120)
 
 def review_after(
     project: Project, meter: str, change: Change | None = None, progress: Progress | None = None
-) -> MeterReview:
-    """Make ``change`` (saved at once by the engine), then review ``meter`` afresh."""
+) -> tuple[MeterReview, LogChange | None]:
+    """Make ``change`` (saved at once by the engine), then review ``meter`` afresh; the review
+    and what the change did to the log (to undo it), None without a change."""
+    done = None
     if change is not None:
         step(progress, 0.0, "saving the change in the project")
-        change(project)
+        done = logged_change(project, change)
     step(progress, 0.0, f"reviewing meter '{meter}'")
-    return engine_review(project, meter, progress=progress)
+    return engine_review(project, meter, progress=progress), done
 
 
 @dataclass(frozen=True)

@@ -27,6 +27,7 @@ from desktop.cleaning_words import finding_name, nothing_recommended, step_name
 from desktop.findings_table import FindingsTable
 from desktop.fix_preview_plot import FixPreviewPlot
 from desktop.meter_screen import MeterScreen
+from desktop.project_changes import CALENDAR, CLEANING, Reversible, cleaning_change
 from desktop.quality_panel import QualityPanel
 from desktop.session import Session
 from desktop.workers import Failure, Task
@@ -38,6 +39,7 @@ from engine.cleaning import (
     apply_recommended_everywhere,
     recommended_steps,
 )
+from engine.cleaning.log_changes import LogChange
 from engine.errors import InputError, ProjectError
 from engine.project import Project
 
@@ -57,6 +59,7 @@ class CleaningScreen(MeterScreen):
     log_changed = Signal(str)
 
     NO_PROJECT = "Open a project to review its meters' readings."
+    FOLLOWS = (CLEANING, CALENDAR)
 
     def __init__(self, session: Session, parent: QWidget | None = None) -> None:
         super().__init__(session, parent)
@@ -156,6 +159,12 @@ class CleaningScreen(MeterScreen):
             return
         self._start(name)
 
+    def _undone_or_redone(self, change: Reversible) -> None:
+        super()._undone_or_redone(change)
+        if change.kind == CLEANING:
+            for name in change.meters:
+                self.log_changed.emit(name)
+
     # -- changes ----------------------------------------------------------------------------
 
     def apply_selected_fix(self) -> None:
@@ -165,7 +174,7 @@ class CleaningScreen(MeterScreen):
             return
         change = partial(Project.add_cleaning_step, step=finding.fix.to_dict())
         words = f"Logged: {step_name(finding.fix.kind)} for the {finding_name(finding.kind)}."
-        self._change(change, words)
+        self._change(change, words, f"apply fix '{step_name(finding.fix.kind)}' on {{meter}}")
 
     def accept_selected(self) -> None:
         """Log that the selected finding is expected: its readings stay as they are."""
@@ -173,13 +182,19 @@ class CleaningScreen(MeterScreen):
         if finding is None:
             return
         change = partial(Project.add_cleaning_step, step=accepted_step(finding).to_dict())
-        self._change(change, f"The {finding_name(finding.kind)} is accepted as expected.")
+        what = finding_name(finding.kind)
+        self._change(
+            change,
+            f"The {what} is accepted as expected.",
+            f"accept the {what} on {{meter}} as expected",
+        )
 
     def apply_recommended_everywhere(self) -> None:
         """Review every meter and log its recommended fixes, all in one save."""
         self._change(
             apply_recommended_everywhere,
             "Logged the recommended fixes of every meter.",
+            "apply the recommended fixes of every meter",
             every_meter=True,
         )
 
@@ -190,32 +205,39 @@ class CleaningScreen(MeterScreen):
             return
         count = len(recommended_steps(review.findings))
         change = partial(apply_recommended, review=review)
-        self._change(change, f"Logged {count} recommended fix{'es' * (count != 1)}.")
+        fixes = f"{count} recommended fix{'es' * (count != 1)}"
+        self._change(change, f"Logged {fixes}.", f"apply {fixes} on {{meter}}")
 
     def _switch_step(self, step_id: int, active: bool) -> None:
         change = partial(Project.set_step_active, step_id=step_id, active=active)
-        self._change(change, f"Step {self._number(step_id)} {'redone' if active else 'undone'}.")
+        number = self._number(step_id)
+        self._change(
+            change,
+            f"Step {number} {'redone' if active else 'undone'}.",
+            f"switch step {number} of {{meter}} {'on' if active else 'off'}",
+        )
 
     def _remove_step(self, step_id: int) -> None:
         number = self._number(step_id)
         answer = QMessageBox.question(
             self,
             "Remove a cleaning step",
-            f"Remove step {number} from the project's log for good? Undo keeps a step and "
-            "switches it off instead.",
+            f"Remove step {number} from the project's log? Edit ▸ Undo puts it back; the "
+            "step's own undo button keeps it and switches it off instead.",
         )
         if answer != QMessageBox.StandardButton.Yes:
             return
         change = partial(Project.remove_cleaning_step, step_id=step_id)
-        self._change(change, f"Step {number} removed.")
+        self._change(change, f"Step {number} removed.", f"remove step {number} from {{meter}}")
 
     def _number(self, step_id: int) -> int:
         ids = [int(stored["id"]) for stored in self.log.steps]
         return ids.index(step_id) + 1 if step_id in ids else 0
 
-    def _change(self, change: Change, done: str, every_meter: bool = False) -> None:
+    def _change(self, change: Change, done: str, command: str, every_meter: bool = False) -> None:
         """Make ``change`` on a worker, then review the meter shown; the logs it touches are
-        the shown meter's, or every meter's."""
+        the shown meter's, or every meter's. ``command`` words it for Edit ▸ Undo, with
+        ``{meter}`` for the meter's name as shown."""
         name = self.meter.currentText()
         project = self.session.project
         if project is None or not name:
@@ -223,7 +245,9 @@ class CleaningScreen(MeterScreen):
         if self.task is not None:
             self.notice.say(f"Wait until {self.task.doing} is done.", "info")
             return
-        self._start(name, change, done, tuple(project.meter_names()) if every_meter else (name,))
+        touched = tuple(project.meter_names()) if every_meter else (name,)
+        words = command.format(meter=self.meter.shown())
+        self._start(name, change, done, touched, words)
 
     # -- work -------------------------------------------------------------------------------
 
@@ -233,12 +257,15 @@ class CleaningScreen(MeterScreen):
         change: Change | None = None,
         done: str = "",
         touched: tuple[str, ...] = (),
+        command: str = "",
     ) -> None:
         self._wanted = None
         self.notice.clear()
-        doing = f"reviewing '{meter}'" if change is None else f"changing the cleaning of '{meter}'"
-        task = Task(partial(review_after, self.session.project, meter, change), doing)
-        task.succeeded.connect(partial(self._reviewed, done))
+        shown = self.meter.shown_as(meter)
+        doing = f"reviewing '{shown}'" if change is None else f"changing the cleaning of '{shown}'"
+        project = self.session.project
+        task = Task(partial(review_after, project, meter, change), doing)
+        task.succeeded.connect(partial(self._reviewed, project, done, command))
         task.failed.connect(self._failed)
         task.cancelled.connect(partial(self._cancelled, meter))
         task.ended.connect(partial(self._ended, meter, touched))
@@ -247,7 +274,16 @@ class CleaningScreen(MeterScreen):
         self._set_busy(True)
         task.start()
 
-    def _reviewed(self, done: str, review: MeterReview) -> None:
+    def _reviewed(
+        self,
+        project: Project,
+        done: str,
+        command: str,
+        result: tuple[MeterReview, LogChange | None],
+    ) -> None:
+        review, logged = result
+        if logged and self.session.project is project:
+            self.undo.made(cleaning_change(project, logged, command))
         if self._wanted is not None or self.session.project is None:
             return  # another meter was chosen meanwhile; its review follows
         self.review = review
@@ -265,9 +301,10 @@ class CleaningScreen(MeterScreen):
 
     def _cancelled(self, meter: str) -> None:
         if self._wanted is None:
-            self._clear_review(f"Stopped reviewing '{meter}'.")
+            shown = self.meter.shown_as(meter)
+            self._clear_review(f"Stopped reviewing '{shown}'.")
             self.notice.say(
-                f"Stopped reviewing '{meter}'. Press 'Review again' to see its findings.", "info"
+                f"Stopped reviewing '{shown}'. Press 'Review again' to see its findings.", "info"
             )
 
     def _ended(self, meter: str, touched: tuple[str, ...]) -> None:

@@ -6,6 +6,7 @@ the path and opens its folder on request.
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from functools import partial
 from pathlib import Path
 
@@ -24,6 +25,7 @@ from desktop.file_dialogs import ask_workbook_path
 from desktop.task_screen import TaskScreen
 from engine.budgeting import ProjectBudget
 from engine.export.finance_workbook import SHEETS, write_finance_workbook
+from engine.meter_labels import Labels
 from engine.progress import Progress
 from engine.words import counted
 
@@ -38,10 +40,12 @@ def write_workbook(
     path: Path,
     budget: ProjectBudget,
     project: str | None = None,
+    labels: Labels | None = None,
     progress: Progress | None = None,
 ) -> Path:
     """Write ``budget`` of the project named ``project`` as the finance workbook at ``path``
-    (the name heads every printed page); the path written."""
+    (the name heads every printed page; meters named and shown by ``labels``); the path
+    written."""
     return write_finance_workbook(
         path,
         budget.run,
@@ -50,6 +54,7 @@ def write_workbook(
         scorecards=budget.scorecards,
         data_range=budget.data_range,
         project=project,
+        labels=labels,
         progress=progress,
     )
 
@@ -74,6 +79,9 @@ class ExportScreen(TaskScreen):
         super().__init__(parent)
         self.budget: ProjectBudget | None = None
         self.project_name: str | None = None
+        #: The open project's meter names and units when the workbook is written (set by the
+        #: window; None: raw names, kWh only).
+        self.labels_of: Callable[[], Labels | None] = lambda: None
         self.written: Path | None = None
         self.what = QLabel()
         self.what.setWordWrap(True)
@@ -133,7 +141,7 @@ class ExportScreen(TaskScreen):
         if self.budget is None:
             self.notice.say(NO_BUDGET, "info")
             return
-        work = partial(write_workbook, path, self.budget, self.project_name)
+        work = partial(write_workbook, path, self.budget, self.project_name, self.labels_of())
         self.start_task(work, f"writing {path.name}", self._written)
 
     def _written(self, path: Path) -> None:

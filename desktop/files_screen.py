@@ -322,10 +322,10 @@ class FilesScreen(QWidget):
         if project is not None and self.plan.site_timezone is None:
             self.set_site_timezone(project.timezone)
         if project is not None and self.plan.holidays is None:
-            self._show_project_holidays(project)
+            self.show_project_holidays(project)
         self._update_store_buttons()
 
-    def _show_project_holidays(self, project: Project) -> None:
+    def show_project_holidays(self, project: Project) -> None:
         """Start from the public holidays the open project's calendar already takes."""
         try:
             calendar = current_calendar(project)

@@ -27,15 +27,19 @@ from desktop.export_screen import ExportScreen
 from desktop.file_dialogs import ask_open_path
 from desktop.files_screen import FilesScreen
 from desktop.help_pages import ReadingDialog, about_text, help_text
+from desktop.meters_dialog import MetersDialog
 from desktop.models_screen import ModelsScreen
 from desktop.patterns_screen import PatternsScreen
 from desktop.preferences import RecentProjects, stored_settings
+from desktop.project_changes import CALENDAR, Reversible
 from desktop.recent_list import RecentList
 from desktop.session import Session
 from desktop.track_screen import TrackScreen
+from desktop.undo import undo_for
 from engine.budgeting import ProjectBudget
 from engine.checklist import checklist
 from engine.errors import ProjectError
+from engine.meter_labels import meter_labels
 from engine.project import Project
 
 STEPS = (
@@ -72,6 +76,11 @@ class MainWindow(QMainWindow):
         self.budget_screen = BudgetScreen(self.session)
         self.export_screen = ExportScreen()
         self.track_screen = TrackScreen(self.session)
+        self.export_screen.labels_of = lambda: self.project and meter_labels(self.project)
+        self.undo = undo_for(self.session)
+        self.undo.changed.connect(self._undone_or_redone)
+        self.undo.problem.connect(lambda words: QMessageBox.warning(self, "Undo", words))
+        self.meters_dialog: MetersDialog | None = None
         self.cleaning_screen.log_changed.connect(self.patterns_screen.meter_cleaned)
         self.cleaning_screen.log_changed.connect(lambda _meter: self.show_guide())
         self.budget_screen.budget_changed.connect(self._budget_to_export)
@@ -162,8 +171,17 @@ class MainWindow(QMainWindow):
         project.addMenu(self.recent_menu)
         self.close_action = self._add(project, "&Close project", self.close_project, keys.Close)
         project.addSeparator()
+        self.meters_action = self._add(project, "&Meters, units and calendar…", self.show_meters)
+        project.addSeparator()
         # Windows (and Qt's generic platform) bind no key to Quit: Ctrl+Q there, common practice
         self._add(project, "&Quit", self.close, keys.Quit, fallback="Ctrl+Q")
+        edit = self.menuBar().addMenu("&Edit")
+        for action, key in (
+            (self.undo.stack.createUndoAction(self, "&Undo"), keys.Undo),
+            (self.undo.stack.createRedoAction(self, "&Redo"), keys.Redo),
+        ):
+            action.setShortcuts(QKeySequence.keyBindings(key))
+            edit.addAction(action)
         steps = self.menuBar().addMenu("&Steps")
         for number, name in enumerate(STEP_NAMES, start=1):
             go = self._add(steps, f"&{number} {name}", lambda _=False, n=name: self.show_step(n))
@@ -257,6 +275,20 @@ class MainWindow(QMainWindow):
         self.session.open(project)
         return True
 
+    def show_meters(self) -> None:
+        """Show the open project's meter names, units and calendar (changes can be undone)."""
+        if self.meters_dialog is None:
+            self.meters_dialog = MetersDialog(self.session, self)
+        self.meters_dialog.show()
+        self.meters_dialog.raise_()
+
+    def _undone_or_redone(self, change: Reversible) -> None:
+        """The screens that are not about one meter follow an undo or redo; the step marks
+        and the status line too."""
+        if change.kind == CALENDAR and self.project is not None:
+            self.files_screen.show_project_holidays(self.project)
+        self.show_guide()
+
     def _budget_to_export(self, budget: ProjectBudget | None) -> None:
         project = self.session.project
         self.export_screen.set_budget(budget, None if project is None else project.path.stem)
@@ -264,6 +296,7 @@ class MainWindow(QMainWindow):
     def _project_changed(self, project: Project | None) -> None:
         self.show_guide()
         self.close_action.setEnabled(project is not None)
+        self.meters_action.setEnabled(project is not None)
         self.setWindowFilePath("" if project is None else str(project.path))
         self.recent_list.setVisible(project is None)
         if project is None:

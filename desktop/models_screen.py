@@ -38,8 +38,8 @@ from desktop.model_jobs import (
     fit_report,
     meter_view,
     ticked_families,
-    use_model_report,
 )
+from desktop.project_changes import MODEL, use_model_remembered
 from desktop.session import Session
 from desktop.workers import Failure, Task, Work
 
@@ -54,6 +54,7 @@ class ModelsScreen(MeterScreen):
     accepted = Signal(str)
     #: A model of this meter was kept in the project (fitted, or another one chosen).
     model_kept = Signal(str)
+    FOLLOWS = (MODEL,)
 
     def __init__(self, session: Session, parent: QWidget | None = None) -> None:
         super().__init__(session, parent)
@@ -198,7 +199,9 @@ class ModelsScreen(MeterScreen):
         project = self.session.project
         if project is None or not name or model is None:
             return
-        work = partial(use_model_report, project, name, model)
+        words = f"use model '{self.ranking.row_of(model)['Model']}' for {self.meter.shown()}"
+        remember = self.undo.made_on_worker  # Edit ▸ Undo takes the choice back
+        work = partial(use_model_remembered, remember, project, name, model, words)
         self._run(work, f"keeping another model for '{name}'", self._show, announce="Now used")
 
     def accept(self) -> None:

@@ -12,6 +12,7 @@ from dataclasses import dataclass, field
 
 import pandas as pd
 
+from engine.meter_labels import in_temperature_unit, meter_labels, shown_name, temperature_unit
 from engine.profile_run import ProjectMeterProfile, profile_project_meter
 from engine.profiles import TemperatureResponse
 from engine.progress import Progress, step
@@ -24,7 +25,8 @@ from engine.words import counted
 DAY_GROUPINGS = ("day_type", "season")
 
 #: The weather response as the screen lists it: the engine's key, the figure's name, its unit
-#: and the factor from the engine's number to the one shown.
+#: and the factor from the engine's number to the one shown. Temperatures and amounts per
+#: degree-day are converted to the project's temperature unit apart (see weather_rows).
 WEATHER_ROWS: tuple[tuple[str, str, str, float], ...] = (
     ("heating balance point °C", "heating balance point", "°C", 1.0),
     ("heating slope kWh per °C-day", "heating slope", "kWh per °C-day", 1.0),
@@ -64,6 +66,7 @@ class MeterPatterns:
     weather: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(columns=FIGURE_COLUMNS))
     basis: str = ""
     notes: dict[str, str] = field(default_factory=dict)
+    temperature_unit: str = "°C"  # the unit temperatures are shown in (the engine's are °C)
 
 
 def compute_patterns(
@@ -80,13 +83,15 @@ def compute_patterns(
         figures=profiles.figures,
         temperature=profiles.temperature,
         basis=_basis(project, request.meter),
+        temperature_unit=temperature_unit(project),
     )
     if profiles.typical_days:
         patterns.typical_days = profiles.typical_days
         patterns.heat_map = profiles.heat_map
     else:
         words = (
-            f"The readings of '{request.meter}' are {_interval_words(found.meter.interval)} "
+            f"The readings of '{shown_name(meter_labels(project), request.meter)}' are "
+            f"{_interval_words(found.meter.interval)} "
             "apart: typical days and the hour-by-date map need interval data of an hour or less."
         )
         patterns.notes.update(typical_days=words, heat_map=words)
@@ -95,22 +100,23 @@ def compute_patterns(
             "No weather in the project: import a weather station file to see how this meter "
             "follows the outdoor temperature."
         )
-    patterns.weather, note = weather_rows(found)
+    patterns.weather, note = weather_rows(found, patterns.temperature_unit)
     if note:
         patterns.notes["weather"] = note
     step(progress, 1.0, "profiles ready")
     return patterns
 
 
-def weather_rows(found: ProjectMeterProfile) -> tuple[pd.DataFrame, str]:
-    """The degree-day weather response as figure rows, or no rows and the engine's reason."""
+def weather_rows(found: ProjectMeterProfile, shown: str = "°C") -> tuple[pd.DataFrame, str]:
+    """The degree-day weather response as figure rows (temperatures in ``shown``, °C or °F),
+    or no rows and the engine's reason."""
     response = found.key_figures()["weather response"]
     if "note" in response:
         return pd.DataFrame(columns=FIGURE_COLUMNS), str(response["note"])
     kind = KIND_WORDS.get(response["kind"], response["kind"])
     how = f"{kind} degree-day fit of daily energy; {found.balance_note}"
     rows = [
-        (name, response[key] * factor, unit, how)
+        (name, *in_temperature_unit(response[key] * factor, unit, shown), how)
         for key, name, unit, factor in WEATHER_ROWS
         if response.get(key) is not None
     ]

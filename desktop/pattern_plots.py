@@ -20,6 +20,7 @@ from PySide6.QtWidgets import (
 from desktop.palette import FIT_LINE, INK, SERIES_CYCLE, heat_colour_map, series_colour
 from desktop.plot_panel import PlotPanel
 from engine.profiles import TemperatureResponse, quantile_column
+from engine.units import from_celsius, per_degree_in
 
 _EPOCH = pd.Timestamp("1970-01-01")
 _SECOND = pd.Timedelta(seconds=1)
@@ -225,8 +226,10 @@ class TemperaturePanel(PlotPanel):
             self.points[day_type] = points
         return self.points[day_type]
 
-    def show_response(self, response: TemperatureResponse) -> None:
-        """Draw :func:`engine.profiles.energy_vs_temperature`'s points and line."""
+    def show_response(self, response: TemperatureResponse, unit: str = "°C") -> None:
+        """Draw :func:`engine.profiles.energy_vs_temperature`'s points and line, temperatures
+        in ``unit`` (°C or °F)."""
+        self.plot.getAxis("bottom").setLabel(f"daily mean outdoor temperature ({unit})", color=INK)
         daily = response.daily
         day_types = list(dict.fromkeys(daily["day type"]))
         key = []
@@ -234,7 +237,7 @@ class TemperaturePanel(PlotPanel):
             rows = daily[daily["day type"] == day_type]
             points = self._points_for(day_type, position)
             points.setData(
-                rows["mean temperature °C"].to_numpy(dtype=np.float64),
+                from_celsius(rows["mean temperature °C"].to_numpy(dtype=np.float64), unit),
                 rows["energy kWh"].to_numpy(dtype=np.float64),
             )
             key.append(("●", day_type, series_colour(day_type, position)))
@@ -242,21 +245,22 @@ class TemperaturePanel(PlotPanel):
             points.setVisible(day_type in day_types)
         line = response.line
         self.line.setData(
-            line["temperature °C"].to_numpy(dtype=np.float64),
+            from_celsius(line["temperature °C"].to_numpy(dtype=np.float64), unit),
             line["fitted kWh"].to_numpy(dtype=np.float64),
         )
         self.set_key([*key, ("━", "fitted", FIT_LINE)])
         self.plot.enableAutoRange()
-        self._show_plot(_model_words(response))
+        self._show_plot(_model_words(response, unit))
 
 
-def _model_words(response: TemperatureResponse) -> str:
+def _model_words(response: TemperatureResponse, unit: str) -> str:
     model = response.model
     parts = [f"{model.kind} change-point fit, {model.n_points_} days"]
     if model.change_points_:
-        parts.append("change point " + ", ".join(f"{c:.1f} °C" for c in model.change_points_))
+        points = (from_celsius(c, unit) for c in model.change_points_)
+        parts.append("change point " + ", ".join(f"{c:.1f} {unit}" for c in points))
     for side, slope in (("heating", model.heating_slope_), ("cooling", model.cooling_slope_)):
         if slope > 0:
-            parts.append(f"{side} {slope:,.1f} kWh/day per °C")
+            parts.append(f"{side} {per_degree_in(slope, unit):,.1f} kWh/day per {unit}")
     parts.append(f"R² {model.r2_:.2f}, CV(RMSE) {model.cv_rmse_:.1f} %")
     return "; ".join(parts) + "."

@@ -35,9 +35,11 @@ from desktop.pattern_plots import (
     TemperaturePanel,
     TypicalDayPanel,
 )
+from desktop.project_changes import CALENDAR, TEMPERATURE
 from desktop.session import Session
 from desktop.understood_view import NUMBER_ROLE
 from desktop.workers import Failure, Task
+from engine.profiles import TemperatureResponse
 
 GROUPING_WORDS = {"day_type": "day type", "season": "season"}
 FIGURE_HEADERS = ("Figure", "Value", "Unit", "How it is worked out")
@@ -128,6 +130,7 @@ class PatternsScreen(MeterScreen):
     """Pick a meter; the profiles of its cleaned readings are computed on a worker and drawn."""
 
     NO_PROJECT = "Open a project to see its meters' patterns."
+    FOLLOWS = (CALENDAR, TEMPERATURE)
 
     def __init__(self, session: Session, parent: QWidget | None = None) -> None:
         super().__init__(session, parent)
@@ -244,7 +247,7 @@ class PatternsScreen(MeterScreen):
             (self.heat, patterns.heat_map, "heat_map", self.heat.show_matrix),
             (self.monthly, patterns.monthly, "monthly", self.monthly.show_table),
             (self.duration, patterns.duration, "duration", self.duration.show_table),
-            (self.temperature, patterns.temperature, "temperature", self.temperature.show_response),
+            (self.temperature, patterns.temperature, "temperature", self._draw_temperature),
         )
         for panel, found, name, draw in drawn:
             if found is None:
@@ -252,6 +255,9 @@ class PatternsScreen(MeterScreen):
             else:
                 draw(found)
         self.figures.show_figures(patterns.figures, patterns.weather, notes.get("weather", ""))
+
+    def _draw_temperature(self, response: TemperatureResponse) -> None:
+        self.temperature.show_response(response, self.patterns.temperature_unit)
 
     def _draw_typical_days(self) -> None:
         patterns = self.patterns

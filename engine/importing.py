@@ -10,6 +10,7 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from engine.errors import InputError
+from engine.meter_labels import TEMPERATURE_SETTING
 from engine.progress import Progress, step
 from engine.project import Project, sqlite_file
 from engine.reading import (
@@ -147,6 +148,15 @@ def store_files(project: Project, files: ImportedFiles, progress: Progress | Non
         if files.calendar is not None:
             _source(project, "calendar", files.calendar, files.options)
             store_calendar(project, files.calendar.calendar)
+        _keep_temperature_unit(project, files.weather)
+
+
+def _keep_temperature_unit(project: Project, weather: list[WeatherFile]) -> None:
+    """Show temperatures in °F from now on when the site's weather came in °F (unless the
+    project already has a choice, which a later file does not overturn)."""
+    if weather and project.get_setting(TEMPERATURE_SETTING) is None:
+        fahrenheit = any(w.unit_found == "°F" for w in weather)
+        project.set_setting(TEMPERATURE_SETTING, "°F" if fahrenheit else "°C")
 
 
 def _source(project: Project, kind: str, result, options: ReadOptions) -> int:

@@ -215,6 +215,39 @@ def _hand_choice(choice: dict, model: str, ranked: dict[str, dict]) -> dict:
     }
 
 
+@dataclass(frozen=True)
+class ChoiceChange:
+    """A model result kept by hand (:func:`use_ranked_model`), as stored, so the choice can be
+    taken back (the meter's previous model is its choice again) and kept again."""
+
+    meter: str
+    stored: tuple  # the result as stored (``results_table.ROW_COLUMNS``)
+
+
+def newest_model_id(project: Project, name: str) -> int | None:
+    """The id of the meter's newest model result (its current choice), or None."""
+    newest = project.last_result("model", name)
+    return None if newest is None else int(newest["id"])
+
+
+def choice_since(project: Project, name: str, before: int | None) -> ChoiceChange | None:
+    """The model kept for ``name`` since the result ``before`` was its newest, or None."""
+    now = newest_model_id(project, name)
+    if now is None or now == before:
+        return None
+    return ChoiceChange(name, project.stored_result(now))
+
+
+def take_back_choice(project: Project, change: ChoiceChange) -> None:
+    """Undo a kept choice: the meter's model before it is its choice again."""
+    project.take_result(change.stored[0])
+
+
+def keep_choice_again(project: Project, change: ChoiceChange) -> None:
+    """Redo a kept choice taken back with :func:`take_back_choice`."""
+    project.put_back_result(change.stored)
+
+
 def monthly_contributions(model: EnergyModel, inputs: ModelInputs, months: int = 12) -> list[dict]:
     """Each component's share of the model's energy in each of the last ``months`` local months.
 

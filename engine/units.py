@@ -402,3 +402,28 @@ def convert_temperature(values: Values, unit: Unit | str) -> Values:
     if unit.name == "°C":
         return _apply(values, lambda data: data.copy())
     raise ValueError(f"{unit.name} is not a temperature unit")
+
+
+def from_celsius(values: Values, unit: Unit | str) -> Values:
+    """Convert temperatures in °C to ``unit`` (°F or °C), for showing them as a site reads them.
+
+    The inverse of :func:`convert_temperature`; NIST SP 811 (2008), B.8:
+    t/°F = 1.8 · (t/°C) + 32.
+    """
+    unit = _resolve(unit)
+    if unit.name == "°F":
+        return _apply(values, lambda data: data * 1.8 + 32.0)
+    if unit.name == "°C":
+        return _apply(values, lambda data: data.copy())
+    raise ValueError(f"{unit.name} is not a temperature unit")
+
+
+def per_degree_in(values: Values, unit: Unit | str) -> Values:
+    """Convert an amount per °C of temperature difference (a slope, kWh per °C-day) to one per
+    degree of ``unit``: a Fahrenheit degree is 1/1.8 of a kelvin (NIST SP 811 (2008), B.8:
+    °F interval = 5.555 556 E-01 K), so a slope per °F is the slope per °C divided by 1.8."""
+    unit = _resolve(unit)
+    if unit.kind != "temperature":
+        raise ValueError(f"{unit.name} is not a temperature unit")
+    size = 1.0 / 1.8 if unit.name == "°F" else 1.0
+    return _apply(values, lambda data: data * size)

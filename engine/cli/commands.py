@@ -25,6 +25,16 @@ from engine.export.finance_workbook import write_finance_workbook
 from engine.export.profile_workbook import write_profile_workbook
 from engine.export.tracking_workbook import write_tracking_workbook
 from engine.importing import create_project, read_project_files
+from engine.meter_labels import (
+    Labels,
+    meter_label,
+    meter_labels,
+    relabelled,
+    set_temperature_unit,
+    shown_name,
+    store_label,
+    temperature_unit,
+)
 from engine.modelling import fit_meters, monthly_contributions
 from engine.profile_run import profile_project_meter
 from engine.project import Project
@@ -62,7 +72,7 @@ def new(args: argparse.Namespace) -> int:
     )
     with project:
         report = {"project": str(project.path), "files": files.reports(),
-                  "summary": project.summary()}  # fmt: skip
+                  "summary": _summary(project)}  # fmt: skip
     _emit(args, report, text.new_report)
     return 0
 
@@ -89,7 +99,7 @@ def clean(args: argparse.Namespace) -> int:
                     "quality": review.quality(),
                 }
             )
-        report = {"project": str(project.path), "meters": meters}
+        report = {"project": str(project.path), "meters": _named(project, meters)}
     _emit(args, report, text.clean_report)
     return 0
 
@@ -125,15 +135,17 @@ def profile(args: argparse.Namespace) -> int:
     with Project.open(args.project) as project:
         profiles = [profile_project_meter(project, name)
                     for name in _meters(project, args.meter)]  # fmt: skip
-    report = {
-        "project": str(Path(args.project).resolve()),
-        "meters": [
+        meters = [
             {"name": p.meter.name, "utility": p.meter.utility, "figures": p.key_figures()}
             for p in profiles
-        ],
-    }
+        ]
+        report = {"project": str(Path(args.project).resolve()), "meters": _named(project, meters)}
+        labels, shown = meter_labels(project), temperature_unit(project)
     if args.xlsx:
-        written = write_profile_workbook(args.xlsx, profiles, project=Path(args.project).stem)
+        written = write_profile_workbook(
+            args.xlsx, profiles, project=Path(args.project).stem, names=labels,
+            temperature_unit=shown,
+        )  # fmt: skip
         report["workbook"] = str(written.resolve())
     _emit(args, report, text.profile_report)
     return 0
@@ -168,7 +180,7 @@ def fit(args: argparse.Namespace) -> int:
                     "stored_as": outcome.result_id,
                 }
             )
-        report = {"project": str(project.path), "meters": meters}
+        report = {"project": str(project.path), "meters": _named(project, meters)}
     _emit(args, report, text.fit_report)
     return 0
 
@@ -207,7 +219,10 @@ def _budget_report(args: argparse.Namespace, project: Project) -> int:
         keep_budget(project, outcome)
         if adopt_as:
             adopt_budget(project, adopt_as, outcome, request, replace=args.replace)
-    report = outcome.run.to_json()
+    labels = meter_labels(project)
+    report = outcome.run.to_json()  # as kept in the project: the JSON stays the run's own
+    if not args.json:  # the text names meters as the project does, in the units read in
+        report["meters"] = [with_display_units(meter, labels) for meter in report["meters"]]
     if adopt_as:
         report["adopted"] = adopt_as
     if args.xlsx:
@@ -219,6 +234,7 @@ def _budget_report(args: argparse.Namespace, project: Project) -> int:
             scorecards=outcome.scorecards,
             data_range=outcome.data_range,
             project=project.path.stem if args.project else None,
+            labels=labels,
         )
         report["workbook"] = str(written.resolve())
     _emit(args, report, text.budget_report)
@@ -229,10 +245,41 @@ def track(args: argparse.Namespace) -> int:
     as_of = parse_as_of(args.as_of) if args.as_of else None
     with Project.open(args.project) as project:
         report = track_budget(project, args.budget, as_of=as_of, **_parallel(args))
+        report["meters"] = _named(project, report["meters"])
     if args.xlsx:
         report["workbook"] = str(write_tracking_workbook(args.xlsx, report).resolve())
     _emit(args, report, text.track_report)
     return 0
+
+
+def _summary(project: Project) -> dict:
+    """What the project holds, its meters with their display names, and the temperature unit."""
+    report = project.summary()
+    report["meters"] = _named(project, report["meters"])
+    return report | {"temperature_unit": temperature_unit(project)}
+
+
+def _named(project: Project, meters: list[dict]) -> list[dict]:
+    """Each meter's report with its display name added (``name`` stays the raw name)."""
+    labels = meter_labels(project)
+    return [meter | {"display_name": shown_name(labels, meter["name"])} for meter in meters]
+
+
+def with_display_units(meter: dict, labels: Labels) -> dict:
+    """A budgeted meter with its display name and, when it was read in another unit than kWh,
+    its period total's mean and quantiles in that unit."""
+    label = labels.get(meter["name"])
+    if label is None:
+        return meter
+    added: dict = {"display_name": label.shown}
+    if label.other_unit is not None:
+        total = meter["total"]
+        added["in_read_unit"] = {
+            "unit": label.read_unit,
+            "mean": label.in_read_unit(total["mean"]),
+            "quantiles": {k: label.in_read_unit(v) for k, v in total["quantiles"].items()},
+        }
+    return meter | added
 
 
 def _parallel(args: argparse.Namespace) -> dict:
@@ -290,9 +337,41 @@ def calendar(args: argparse.Namespace) -> int:
     return 0
 
 
+def meter(args: argparse.Namespace) -> int:
+    changes = {
+        "display_name": args.display_name,
+        "utility": args.utility,
+        "read_unit": args.read_unit,
+    }
+    asked = {key: value for key, value in changes.items() if value is not None}
+    if asked and args.name is None:
+        raise InputError(
+            "say which meter to change.",
+            hint="e.g. loadledger meter campus.loadledger 'Gas main' --read-unit therm",
+        )
+    with Project.open(args.project) as project:
+        if args.name is not None:
+            meter_label(project, args.name)  # an unknown meter is refused before any change
+        with project.transaction():
+            if asked:
+                store_label(project, relabelled(project, args.name, **asked))
+            if args.temperature_unit:
+                set_temperature_unit(project, args.temperature_unit)
+        labels = meter_labels(project)
+        shown = [labels[args.name]] if args.name is not None else list(labels.values())
+        report = {
+            "project": str(project.path),
+            "changed": bool(asked or args.temperature_unit),
+            "temperature_unit": temperature_unit(project),
+            "meters": [label.as_dict() for label in shown],
+        }
+    _emit(args, report, text.meter_report)
+    return 0
+
+
 def info(args: argparse.Namespace) -> int:
     with Project.open(args.project) as project:
-        report = project.summary()
+        report = _summary(project)
         report["adopted_budgets"] = project.adopted_budget_names()
     _emit(args, report, text.project_report)
     return 0

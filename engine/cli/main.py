@@ -195,6 +195,35 @@ def build_parser() -> argparse.ArgumentParser:
     _json_option(calendar)
     calendar.set_defaults(run=commands.calendar)
 
+    meter = sub.add_parser(
+        "meter",
+        help="show or change how meters are named and the units figures are shown in",
+        description="The raw column name stays each meter's key (and JSON's); the display name "
+        "is what the window, the workbooks and this text output show.",
+    )
+    meter.add_argument("project")
+    meter.add_argument("name", nargs="?", help="the meter to change (its raw column name)")
+    meter.add_argument(
+        "--display-name", metavar="TEXT", help="name shown for the meter ('' for its raw name)"
+    )
+    meter.add_argument(
+        "--utility",
+        help="utility the meter is filed under: electricity, natural_gas, chilled_water, steam "
+        "or hot_water (roll-ups and bill prices follow it)",
+    )
+    meter.add_argument(
+        "--read-unit",
+        metavar="UNIT",
+        help="unit the meter was read in, shown beside kWh (e.g. therm, ccf, ton-hour, MMBtu)",
+    )
+    meter.add_argument(
+        "--temperature-unit",
+        choices=("F", "C"),
+        help="show the site's temperatures in °F or °C (every meter; stored in °C)",
+    )
+    _json_option(meter)
+    meter.set_defaults(run=commands.meter)
+
     info = sub.add_parser("info", help="summarise a project file")
     info.add_argument("project")
     _json_option(info)

@@ -76,7 +76,7 @@ def project_report(summary: dict) -> str:
     ]
     for meter in summary.get("meters", []):
         lines.append(
-            f"  {meter['name']:<28} {meter['utility']:<14} {_num(meter['interval_minutes']):>5} min"
+            f"  {_shown(meter):<28} {meter['utility']:<14} {_num(meter['interval_minutes']):>5} min"
             f"  {meter['first']} .. {meter['last']}  {meter['count']} readings  "
             f"{_num(meter['total_kwh'])} kWh"
         )
@@ -86,6 +86,11 @@ def project_report(summary: dict) -> str:
     if summary.get("adopted_budgets"):
         lines.append(f"  adopted budgets: {', '.join(summary['adopted_budgets'])}")
     return "\n".join(lines) + "\n"
+
+
+def _shown(meter: dict) -> str:
+    """A meter as readers know it: its display name, else its raw name."""
+    return meter.get("display_name") or meter["name"]
 
 
 def _local(iso_utc: str, timezone: str) -> str:
@@ -106,7 +111,7 @@ def clean_report(report: dict) -> str:
     for meter in report["meters"]:
         quality = meter["quality"]
         lines.append(
-            f"  meter '{meter['name']}': {len(meter['findings'])} finding(s); coverage "
+            f"  meter '{_shown(meter)}': {len(meter['findings'])} finding(s); coverage "
             f"{quality['coverage_before']:.2%} -> {quality['coverage_after']:.2%}, estimated "
             f"{quality['estimated_share']:.2%} ({_num(quality['estimated_kwh'])} kWh)"
         )
@@ -134,7 +139,7 @@ def profile_report(report: dict) -> str:
     """What ``profile`` prints: each meter's key figures and weather response."""
     lines = [f"project {report['project']}"]
     for meter in report["meters"]:
-        lines.append(f"  meter '{meter['name']}' ({meter['utility']})")
+        lines.append(f"  meter '{_shown(meter)}' ({meter['utility']})")
         for name, entry in meter["figures"].items():
             if name == "weather response":
                 parts = [f"{k} {_num(v)}" for k, v in entry.items() if v is not None]
@@ -150,7 +155,7 @@ def fit_report(report: dict) -> str:
     """What ``fit`` prints: the scorecard per meter, the recommendation and why."""
     lines = [f"project {report['project']}"]
     for meter in report["meters"]:
-        lines.append(f"  meter '{meter['name']}': recommended {meter['recommended'] or 'none'}")
+        lines.append(f"  meter '{_shown(meter)}': recommended {meter['recommended'] or 'none'}")
         lines.append(
             f"    {'model':<44} {'month MAPE %':>12} {'CV(RMSE) %':>10} {'NMBE %':>7}  G14"
         )
@@ -184,18 +189,35 @@ def budget_report(report: dict) -> str:
         groups.append(report["campus"])
     for group in groups:
         total = group["total"]
-        label = group.get("name") or group.get("group")
+        label = group.get("display_name") or group.get("name") or group.get("group")
         spread = " / ".join(f"P{level} {_num(total['quantiles'][level])}" for level in levels)
         line = f"  {label:<28} {spread} kWh"
+        if "in_read_unit" in group:
+            read, middle = group["in_read_unit"], levels[len(levels) // 2]
+            line += f" (P{middle} {_num(read['quantiles'][middle])} {read['unit']})"
         if "cost" in total:
             cost = total["cost"]["quantiles"]
             line += f"; cost P50 {currency} {_num(cost['50'])}"
         lines.append(line)
+    shown = {m["name"]: m.get("display_name", m["name"]) for m in report["meters"]}
     for name, calibration in report["calibration"].items():
-        lines.append(f"  {name}: {calibration['summary']}")
+        lines.append(f"  {shown.get(name, name)}: {calibration['summary']}")
     lines += [f"  note: {caution}" for caution in report["cautions"]]
     if "workbook" in report:
         lines.append(f"wrote {report['workbook']}")
+    return "\n".join(lines) + "\n"
+
+
+def meter_report(report: dict) -> str:
+    """What ``meter`` prints: each meter's raw name, how it is shown, its utility and unit."""
+    lines = [f"temperatures shown in {report['temperature_unit']}"]
+    for meter in report["meters"]:
+        shown = meter["display_name"]
+        named = f"shown as '{shown}'" if shown != meter["name"] else "shown under its own name"
+        lines.append(
+            f"  {meter['name']}: {named}; {meter['utility'].replace('_', ' ')}; "
+            f"read in {meter['read_unit']}"
+        )
     return "\n".join(lines) + "\n"
 
 
@@ -233,7 +255,7 @@ def track_report(report: dict) -> str:
     if report.get("campus"):
         groups.append(report["campus"])
     for group in groups:
-        label = group.get("name") or group.get("group")
+        label = group.get("display_name") or group.get("name") or group.get("group")
         lines.append(f"  {label} ({group.get('utility', 'roll-up')}, kWh)")
         lines.append(
             f"    {'month':<8} {'status':<10} {'budget P50':>12} {'actual':>12} {'variance':>12}"

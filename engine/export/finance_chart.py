@@ -38,7 +38,7 @@ def range_chart(
     levels = columns.levels
     low, middle, high = levels[0], levels[len(levels) // 2], levels[-1]
     chart = LineChart()
-    chart.title = f"{block.item.name}: monthly P{middle} with P{low}–P{high} range"
+    chart.title = f"{block.item.shown_name}: monthly P{middle} with P{low}–P{high} range"
     chart.y_axis.title = f"energy ({columns.unit})"
     chart.y_axis.number_format = ENERGY_FORMAT
     chart.y_axis.scaling.min = axis_floor(

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import re
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Any
 
 import pandas as pd
@@ -19,6 +19,8 @@ from engine.budget.result import BudgetRun, PeriodTotal
 from engine.cleaning.steps import STEP_KINDS
 from engine.errors import InputError
 from engine.export.sheets import SHARE_FORMAT
+from engine.meter_labels import Labels, shown_name
+from engine.units import from_kwh
 
 ENERGY_FORMAT = "#,##0"
 COUNT_FORMAT = "#,##0"
@@ -40,6 +42,7 @@ QUALITY_LABELS: dict[str, str] = {
     "energy_removed_kwh": "energy removed (kWh)",
 }
 STEPS_COUNT = "cleaning steps applied"
+READ_UNIT_HEADER = "mean in the unit read"
 TOTAL_LABEL = "Total"
 STEP_HEADERS = ["meter", "step", "what was done", "note", "added (UTC)"]
 #: Our own words for the keys of ``BudgetRun.assumptions``; other keys lose their underscores.
@@ -69,10 +72,16 @@ class Budgeted:
     meters: int
     months: list[PeriodTotal]
     total: PeriodTotal
+    shown: str = ""  # a meter's display name ("": its name)
+    #: The unit its meters were read in, when not kWh and shared by all of them (therm, ccf,
+    #: ton-hour): the budget is shown in it too, beside kWh.
+    read_unit: str | None = None
 
     @property
     def shown_name(self) -> str:
-        """The name as readers see it: a utility's key in words ("natural gas")."""
+        """The name as readers see it: a meter's display name, a utility's key in words."""
+        if self.shown:
+            return self.shown
         return self.name.replace("_", " ") if self.scope == "utility" else self.name
 
 
@@ -88,6 +97,15 @@ class FigureColumns:
     #: by the as-of date have no actual to date (blank, not 0).
     as_of_month: str = "9999-12"
     first_month: str = "0000-01"
+    #: Each meter's display name and unit read in (by raw name); none: raw names, kWh only.
+    labels: Labels = field(default_factory=dict, compare=False)
+    #: Whether some budgeted thing is shown in the unit it was read in (a column of its own).
+    with_read_unit: bool = False
+
+    @property
+    def read_unit(self) -> list[str]:
+        """The column of the mean in the unit read in (the unit is in each cell's format)."""
+        return [READ_UNIT_HEADER] if self.with_read_unit else []
 
     @property
     def actual(self) -> str:
@@ -105,20 +123,29 @@ class FigureColumns:
         return [f"cost mean{code}"] + [f"cost P{level}{code}" for level in self.levels]
 
     @property
+    def shown(self) -> list[str]:
+        """Every figure header in the order tables show them."""
+        return [self.actual, *self.energy, *self.read_unit, *self.cost]
+
+    @property
     def additive(self) -> list[str]:
         """Columns whose total is the sum of the months (means add up; quantiles do not)."""
-        return [self.actual, self.energy[0], *self.cost[:1]]
+        return [self.actual, self.energy[0], *self.read_unit, *self.cost[:1]]
 
     def level_header(self, level: int) -> str:
         return self.energy[1 + self.levels.index(level)]
 
-    def figures(self, total: PeriodTotal) -> dict[str, float | None]:
-        """The actual to date, energy and (when shown) cost figures of one period."""
+    def figures(self, total: PeriodTotal, read_unit: str | None = None) -> dict[str, float | None]:
+        """The actual to date, energy, (when shown) the mean in ``read_unit`` and cost figures
+        of one period."""
         month = self.first_month if total.period == "total" else total.period
         begun = month <= self.as_of_month
         out: dict[str, float | None] = {self.actual: total.actual_to_date if begun else None}
         energy = [total.energy.mean] + [total.energy.quantiles[str(v)] for v in self.levels]
         out.update(zip(self.energy, energy, strict=True))
+        if self.with_read_unit:
+            mean = None if read_unit is None else from_kwh(total.energy.mean, read_unit)
+            out[READ_UNIT_HEADER] = mean
         if self.with_cost:
             cost = total.cost
             values = (
@@ -130,19 +157,36 @@ class FigureColumns:
         return out
 
 
-def budgeted(run: BudgetRun) -> list[Budgeted]:
-    """The campus roll-up, then each utility roll-up, then each meter, as in the run."""
+def budgeted(run: BudgetRun, labels: Labels | None = None) -> list[Budgeted]:
+    """The campus roll-up, then each utility roll-up, then each meter, as in the run; meters
+    under their display names and with their units read in from ``labels``."""
+    labels = labels or {}
+
+    def read_unit(meters: Sequence[str]) -> str | None:
+        found = {labels[m].other_unit if m in labels else None for m in meters}
+        return found.pop() if len(found) == 1 else None
+
     out = []
     if run.campus is not None:
         c = run.campus
         out.append(Budgeted("campus", c.group, len(c.meters), c.months, c.total))
-    out += [Budgeted("utility", u.group, len(u.meters), u.months, u.total) for u in run.utilities]
-    out += [Budgeted("meter", m.name, 1, m.months, m.total) for m in run.meters]
+    out += [
+        Budgeted("utility", u.group, len(u.meters), u.months, u.total, "", read_unit(u.meters))
+        for u in run.utilities
+    ]
+    out += [
+        Budgeted("meter", m.name, 1, m.months, m.total, shown_name(labels, m.name),
+                 read_unit([m.name]))
+        for m in run.meters
+    ]  # fmt: skip
     return out
 
 
-def figure_columns(run: BudgetRun) -> FigureColumns:
-    """The figure headers of ``run``; every roll-up and meter must share one energy unit."""
+def figure_columns(run: BudgetRun, labels: Labels | None = None) -> FigureColumns:
+    """The figure headers of ``run``; every roll-up and meter must share one energy unit.
+
+    With ``labels``, meters are named by their display names, and a column shows the mean in
+    the unit read in wherever that is not kWh."""
     units = {m.unit for m in run.meters} | {u.unit for u in run.utilities}
     if run.campus is not None:
         units.add(run.campus.unit)
@@ -151,7 +195,8 @@ def figure_columns(run: BudgetRun) -> FigureColumns:
             f"the budget run mixes energy units ({', '.join(sorted(units))}).",
             hint="Budget every meter in kWh (the importer converts units) and run it again.",
         )
-    with_cost = any(p.cost is not None for b in budgeted(run) for p in [*b.months, b.total])
+    items = budgeted(run, labels)
+    with_cost = any(p.cost is not None for b in items for p in [*b.months, b.total])
     return FigureColumns(
         unit=units.pop() if units else "kWh",
         levels=tuple(sorted(run.levels)),
@@ -159,6 +204,8 @@ def figure_columns(run: BudgetRun) -> FigureColumns:
         with_cost=with_cost,
         as_of_month=run.as_of[:7],
         first_month=run.months[0],
+        labels=dict(labels or {}),
+        with_read_unit=any(b.read_unit for b in items),
     )
 
 
@@ -183,14 +230,14 @@ def monthly_frame(run: BudgetRun, columns: FigureColumns) -> tuple[pd.DataFrame,
     """
     rows: list[dict[str, Any]] = []
     blocks: list[Block] = []
-    for item in budgeted(run):
+    for item in budgeted(run, columns.labels):
         if rows:
             rows.append({})
         blocks.append(Block(item, len(rows), len(item.months)))
         for month in item.months:
             rows.append(_monthly_row(item, pd.Timestamp(f"{month.period}-01"), month, columns))
         rows.append(_monthly_row(item, TOTAL_LABEL, item.total, columns))
-    headers = ["scope", "budget for", "month", columns.actual, *columns.energy, *columns.cost]
+    headers = ["scope", "budget for", "month", *columns.shown]
     return pd.DataFrame(rows, columns=headers), blocks
 
 
@@ -198,23 +245,25 @@ def _monthly_row(
     item: Budgeted, month: object, period: PeriodTotal, columns: FigureColumns
 ) -> dict[str, Any]:
     row = {"scope": item.scope, "budget for": item.shown_name, "month": month}
-    return row | columns.figures(period)
+    return row | columns.figures(period, item.read_unit)
 
 
 def overview_frame(run: BudgetRun, columns: FigureColumns) -> pd.DataFrame:
     """Period totals of the campus and each utility (of each meter when there is no roll-up)."""
-    items = [b for b in budgeted(run) if b.scope != "meter"] or budgeted(run)
+    every = budgeted(run, columns.labels)
+    items = [b for b in every if b.scope != "meter"] or every
     rows = [
         {"scope": b.scope, "budget for": b.shown_name, "meters": b.meters}
-        | columns.figures(b.total)
+        | columns.figures(b.total, b.read_unit)
         for b in items
     ]
-    headers = ["scope", "budget for", "meters", columns.actual, *columns.energy, *columns.cost]
+    headers = ["scope", "budget for", "meters", *columns.shown]
     return pd.DataFrame(rows, columns=headers)
 
 
-def daily_frame(run: BudgetRun) -> pd.DataFrame:
-    """Daily detail, one row per local date and meter: mean and the run's quantiles."""
+def daily_frame(run: BudgetRun, labels: Labels | None = None) -> pd.DataFrame:
+    """Daily detail, one row per local date and meter (by display name): mean and the run's
+    quantiles."""
     figures = ["mean", *(f"P{level}" for level in run.levels)]
     parts = []
     for meter in run.meters:
@@ -227,7 +276,7 @@ def daily_frame(run: BudgetRun) -> pd.DataFrame:
         part = daily[figures].set_axis([f"{n} ({meter.unit})" for n in figures], axis=1)
         part.insert(0, "date", pd.to_datetime(daily.index).tz_localize(None).normalize())
         part.insert(0, "utility", meter.utility)
-        part.insert(0, "meter", meter.name)
+        part.insert(0, "meter", shown_name(labels, meter.name))
         parts.append(part.reset_index(drop=True))
     return pd.concat(parts, ignore_index=True) if parts else pd.DataFrame()
 
@@ -395,9 +444,10 @@ def run_facts(run: BudgetRun) -> list[tuple[str, str]]:
 
 
 def meter_facts(
-    run: BudgetRun, data_range: Mapping[str, tuple[str, str]]
+    run: BudgetRun, data_range: Mapping[str, tuple[str, str]], labels: Labels | None = None
 ) -> list[tuple[str, str, str]]:
-    """One (meter, fact, words) row per meter and fact: model, its settings, data, range, cost.
+    """One (meter, fact, words) row per meter (by display name) and fact: model, its settings,
+    data, range, cost.
 
     The facts: utility, model and its settings, the readings used, every per-meter assumption
     of the run, how the range held in backtests, what prices the cost, and the run's cautions
@@ -425,7 +475,9 @@ def meter_facts(
                 facts.append(("range correction", check.method))
         facts.append(("priced by", _pricing(run, meter.utility, meter.total, bill_prices)))
         facts += [("caution", c) for c in run.cautions if meter.name in c]
-        rows += [(meter.name, fact, words) for fact, words in facts]
+        if labels and meter.name in labels and labels[meter.name].display_name:
+            facts.insert(0, ("column in the meter file", meter.name))
+        rows += [(shown_name(labels, meter.name), fact, words) for fact, words in facts]
     return rows
 
 

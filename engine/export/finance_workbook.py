@@ -41,8 +41,10 @@ from engine.export.finance_layout import (
 )
 from engine.export.finance_tables import (
     ENERGY_FORMAT,
+    READ_UNIT_HEADER,
     Block,
     FigureColumns,
+    budgeted,
     daily_frame,
     figure_columns,
     meter_facts,
@@ -64,6 +66,7 @@ from engine.export.sheets import (
     put,
     wrap_long_text,
 )
+from engine.meter_labels import Labels, shown_name
 from engine.progress import Progress
 
 SHEETS = ("Overview", "Monthly", "Daily", "Assumptions", "Data quality", "Model scores")
@@ -112,6 +115,7 @@ def write_finance_workbook(
     scorecards: dict[str, dict],
     data_range: dict[str, tuple[str, str]],
     project: str | None = None,
+    labels: Labels | None = None,
     progress: Progress | None = None,
 ) -> Path:
     """Write the finance workbook of ``run`` to ``path`` (.xlsx) and return the path.
@@ -136,6 +140,10 @@ def write_finance_workbook(
     project
         The project's name, printed at the top of every page (None: the workbook's file
         name).
+    labels
+        Each meter's display name and unit read in (:mod:`engine.meter_labels`), by raw name:
+        meters are named by their display names, and budgets of meters read in another unit
+        than kWh are shown in it too. None: raw names, kWh only.
     progress
         Optional progress reporting and cancellation.
 
@@ -151,7 +159,7 @@ def write_finance_workbook(
             hint="Run the budget with at least one meter first.",
             file=path,
         )
-    columns = figure_columns(run)
+    columns = figure_columns(run, labels)
     book = Workbook()
     book.remove(book.active)
     sheets = {name: book.create_sheet(name) for name in SHEETS}
@@ -164,20 +172,21 @@ def write_finance_workbook(
     caption_row = chart_row + CHART_ROWS  # under the chart: it also ends the chart's block
     put(sheets["Overview"], caption_row, 1, _caption(chart_block(blocks), columns)).font = NOTE_FONT
     progress_steps.step(progress, 0.2, "Daily detail")
-    _write_daily(sheets["Daily"], run)
+    _write_daily(sheets["Daily"], run, labels)
     progress_steps.step(progress, 0.7, "Assumptions, data quality and scores")
     kept = {
         "Overview": [chart_row],  # the chart prints whole, on the next page if need be
         "Monthly": [header_row + 1 + block.first for block in blocks],
-        "Assumptions": _write_assumptions(sheets["Assumptions"], run, steps, data_range),
+        "Assumptions": _write_assumptions(sheets["Assumptions"], run, steps, data_range, labels),
     }
+    names = {m.name: shown_name(labels, m.name) for m in run.meters}
     table(
         sheets["Data quality"],
-        quality_frame([m.name for m in run.meters], quality, steps),
+        quality_frame(list(names), quality, steps).rename(index=names),
         formats=quality_formats(quality),
     )
     scores, formats = scores_frame(run, scorecards)
-    table(sheets["Model scores"], scores, formats=formats)
+    table(sheets["Model scores"], scores.rename(index=names), formats=formats)
     printed = {"Overview": (1, caption_row), "Daily": (1, 1)}
     _set_up_pages(book, PageLabels(project, PAGE_NOTE), printed, kept)
     progress_steps.step(progress, 0.85, "Saving the workbook")
@@ -218,6 +227,19 @@ def _figure_formats(columns: FigureColumns) -> dict[str, str]:
     )
 
 
+def _read_unit_formats(
+    sheet: Worksheet, header_row: int, headers: list[str], items: list[tuple[int, str | None]]
+) -> None:
+    """Each figure in the unit read in carries its unit in its number format ("1,234 therm"),
+    since the column holds therms beside ton-hours; ``items`` are (frame row, unit) pairs."""
+    if READ_UNIT_HEADER not in headers:
+        return
+    column = headers.index(READ_UNIT_HEADER) + 1
+    for row, unit in items:
+        if unit is not None:
+            sheet.cell(header_row + 1 + row, column).number_format = f'{ENERGY_FORMAT} "{unit}"'
+
+
 def _write_monthly(
     sheet: Worksheet, run: BudgetRun, columns: FigureColumns
 ) -> tuple[int, list[Block]]:
@@ -227,6 +249,10 @@ def _write_monthly(
     frame, blocks = monthly_frame(run, columns)
     formats = _figure_formats(columns) | {"month": MONTH_FORMAT}
     table(sheet, frame, first_row=header_row, index=False, formats=formats)
+    _read_unit_formats(sheet, header_row, list(frame.columns), [
+        (row, block.item.read_unit)
+        for block in blocks for row in range(block.first, block.total_row + 1)
+    ])  # fmt: skip
     sums = [list(frame.columns).index(name) + 1 for name in columns.additive]
     last_column = len(frame.columns)
     # under the P-columns of each Total row (in the blank row between blocks), not beside it:
@@ -281,9 +307,18 @@ def _write_overview(sheet: Worksheet, run: BudgetRun, columns: FigureColumns) ->
     )
     row = section(sheet, row + 1, "Period totals")
     frame = overview_frame(run, columns)
+    first = row
     row, width = table(sheet, frame, first_row=row, index=False, formats=_figure_formats(columns))
+    items = [b for b in budgeted(run, columns.labels) if b.scope != "meter"] or budgeted(
+        run, columns.labels
+    )
+    _read_unit_formats(
+        sheet, first, list(frame.columns), [(n, b.read_unit) for n, b in enumerate(items)]
+    )
     sheet.freeze_panes = None
-    sheet.column_dimensions["A"].width = _name_width(run, sheet.column_dimensions["A"].width)
+    sheet.column_dimensions["A"].width = _name_width(
+        run, sheet.column_dimensions["A"].width, columns.labels
+    )
     # now that the columns have their widths, wrap the (long) weather assumption across them
     paragraph(sheet, WEATHER_ROW, run.weather, first_column=2, last_column=width)
     row = section(sheet, row + 2, "How well the range held in backtests")
@@ -292,7 +327,7 @@ def _write_overview(sheet: Worksheet, run: BudgetRun, columns: FigureColumns) ->
         row = labelled(
             sheet,
             row,
-            meter,
+            shown_name(columns.labels, meter),
             sentence[:1].upper() + sentence[1:] + ".",
             last_column=width,
             font=None,
@@ -312,16 +347,16 @@ def _write_overview(sheet: Worksheet, run: BudgetRun, columns: FigureColumns) ->
         row += 1
 
 
-def _name_width(run: BudgetRun, width: float) -> float:
+def _name_width(run: BudgetRun, width: float, labels: Labels | None) -> float:
     """Column A's width: at least ``width`` and :data:`LABEL_WIDTH`, the longest meter name
-    up to :data:`NAME_WIDTH` (longer names wrap)."""
-    longest = max(len(meter.name) for meter in run.meters) + 2
+    as shown up to :data:`NAME_WIDTH` (longer names wrap)."""
+    longest = max(len(shown_name(labels, meter.name)) for meter in run.meters) + 2
     return max(width, LABEL_WIDTH, min(longest, NAME_WIDTH))
 
 
-def _write_daily(sheet: Worksheet, run: BudgetRun) -> None:
+def _write_daily(sheet: Worksheet, run: BudgetRun, labels: Labels | None) -> None:
     """The daily detail under a note; the note is all that prints (see _set_up_pages)."""
-    frame = daily_frame(run)
+    frame = daily_frame(run, labels)
     if frame.empty:
         put(sheet, 1, 1, "This budget run has no daily detail.")
         return
@@ -335,7 +370,11 @@ def _write_daily(sheet: Worksheet, run: BudgetRun) -> None:
 
 
 def _write_assumptions(
-    sheet: Worksheet, run: BudgetRun, steps: list[dict], data_range: dict[str, tuple[str, str]]
+    sheet: Worksheet,
+    run: BudgetRun,
+    steps: list[dict],
+    data_range: dict[str, tuple[str, str]],
+    labels: Labels | None,
 ) -> list[int]:
     """One row per fact of the whole budget, then per meter and fact, then the cleaning steps.
 
@@ -345,7 +384,9 @@ def _write_assumptions(
     prints at; the words come from :func:`run_facts` and :func:`meter_facts` (never JSON).
     """
     whole = run_facts(run)
-    sheet.column_dimensions["A"].width = _name_width(run, max(len(label) for label, _ in whole))
+    sheet.column_dimensions["A"].width = _name_width(
+        run, max(len(label) for label, _ in whole), labels
+    )
     for letter, width in ASSUMPTION_WIDTHS.items():
         sheet.column_dimensions[letter].width = width
     last = len(ASSUMPTION_WIDTHS) + 1
@@ -357,7 +398,7 @@ def _write_assumptions(
     row = section(sheet, row + 1, "Each meter")
     _header_cells(sheet, row, ["meter", "fact", "what it assumes"], last_column=last)
     shown = None
-    for meter, fact, words in meter_facts(run, data_range):
+    for meter, fact, words in meter_facts(run, data_range, labels):
         row += 1
         if shown is not None and meter != shown:
             blocks.append(row)

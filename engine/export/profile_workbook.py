@@ -19,6 +19,7 @@ from engine.export.finance_layout import NOTE_FONT, TITLE_FONT, paragraph
 from engine.export.printing import PageLabels, set_up_printing
 from engine.export.saving import save_workbook
 from engine.export.sheets import put, write_table
+from engine.meter_labels import Labels, in_temperature_unit, shown_name
 from engine.profile_run import ProjectMeterProfile
 
 SHEETS = (
@@ -41,11 +42,17 @@ FIGURE_FORMAT = "#,##0.00"  # key figures: energies, ratios and slopes alike
 
 
 def write_profile_workbook(
-    path: str | Path, profiles: list[ProjectMeterProfile], project: str | None = None
+    path: str | Path,
+    profiles: list[ProjectMeterProfile],
+    project: str | None = None,
+    names: Labels | None = None,
+    temperature_unit: str = "°C",
 ) -> Path:
     """Write every meter's profile tables to ``path`` (xlsx) and return the path.
 
-    ``project`` heads every printed page (None: the workbook's file name).
+    ``project`` heads every printed page (None: the workbook's file name); meters are headed by
+    their display names from ``names`` (:mod:`engine.meter_labels`; None: raw names); the
+    weather response's temperatures are in ``temperature_unit`` (°C or °F).
     """
     book = Workbook()
     book.remove(book.active)
@@ -53,14 +60,15 @@ def write_profile_workbook(
     starts: dict[str, list[int]] = {name: [] for name in SHEETS}  # each meter's title row
     counts = dict.fromkeys(SHEETS, 0)
     for profile in profiles:
-        for name, frame in _tables(profile).items():
+        for name, frame in _tables(profile, temperature_unit).items():
             if frame is None or frame.empty:
                 continue
             sheet = sheets[name]
             row = sheet.max_row + 3 if starts[name] else FIRST_TABLE_ROW
             starts[name].append(row)
             counts[name] += len(frame)
-            put(sheet, row, 1, f"{profile.meter.name} ({profile.meter.utility})")
+            shown = shown_name(names, profile.meter.name)
+            put(sheet, row, 1, f"{shown} ({profile.meter.utility.replace('_', ' ')})")
             write_table(sheet, frame, first_row=row + 1, formats={"value": FIGURE_FORMAT})
     labels = PageLabels(project)
     for name, sheet in sheets.items():
@@ -83,7 +91,7 @@ def _screen_note(sheet: Worksheet, labels: PageLabels, rows: int) -> None:
     set_up_printing(sheet, labels, title_rows=(1, 1), last_row=1, last_column=last_column)
 
 
-def _tables(profile: ProjectMeterProfile) -> dict[str, pd.DataFrame | None]:
+def _tables(profile: ProjectMeterProfile, shown: str) -> dict[str, pd.DataFrame | None]:
     profiles = profile.profiles
     figures = pd.DataFrame(
         [
@@ -101,12 +109,12 @@ def _tables(profile: ProjectMeterProfile) -> dict[str, pd.DataFrame | None]:
     weather_rows = pd.DataFrame(
         [
             {
-                "figure": k,
-                "value": _value(v),
+                "figure": figure,
+                "value": _value(value),
                 "unit": "",
                 "how": "balance-point fit on working days",
             }
-            for k, v in weather.items()
+            for figure, value in (_in_unit(k, v, shown) for k, v in weather.items())
         ]
     ).set_index("figure")
     typical = [frame.assign(grouping=name) for name, frame in profiles.typical_days.items()]
@@ -119,6 +127,18 @@ def _tables(profile: ProjectMeterProfile) -> dict[str, pd.DataFrame | None]:
         "Daily vs temperature": response,
         "Hour by date": profiles.heat_map,
     }
+
+
+def _in_unit(figure: str, value: object, shown: str) -> tuple[str, object]:
+    """A weather-response figure named with its unit ("heating balance point °C", "heating
+    slope kWh per °C-day") and its value, temperatures in ``shown``."""
+    name, found, per = figure.partition(" kWh per ")
+    unit = f"kWh per {per}" if found else ("°C" if figure.endswith(" °C") else "")
+    if not unit:
+        return figure, value
+    number = value if isinstance(value, int | float) else 0.0  # None: no such term
+    converted, unit = in_temperature_unit(number, unit, shown)
+    return f"{name.removesuffix(' °C')} {unit}", converted if value is number else value
 
 
 def _value(value):

@@ -69,7 +69,7 @@ def _yes_no(flag: bool | None) -> str | None:
 def _block(sheet: Worksheet, row: int, group: dict, report: dict) -> tuple[int, int, int]:
     """Write one meter's or roll-up's block at ``row``; returns (next row, header row, rows)."""
     levels = [str(level) for level in report["levels"]]
-    label = group.get("name") or group.get("group")
+    label = group.get("display_name") or group.get("name") or group.get("group")
     kind = group.get("utility") or "roll-up of " + ", ".join(group.get("meters", []))
     row = section(sheet, row, f"{label} ({kind})")
     frame = month_frame(group, levels, report.get("currency"))
@@ -106,7 +106,7 @@ def _chart(sheet: Worksheet, header: int, count: int, group: dict, levels: list[
     """Actual against the adopted range, drawn from the block's table cells."""
     headers = [cell.value for cell in sheet[header]]
     chart = LineChart()
-    label = group.get("name") or group.get("group")
+    label = group.get("display_name") or group.get("name") or group.get("group")
     chart.title = f"{label}: actual against the adopted P{levels[0]}–P{levels[-1]} range"
     chart.y_axis.title = "energy (kWh)"
     chart.y_axis.number_format = ENERGY_FORMAT

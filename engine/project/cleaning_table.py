@@ -108,3 +108,28 @@ def _require_step(conn: sqlite3.Connection, step_id: int) -> str | None:
     if row is None:
         raise KeyError(f"no cleaning step with id {step_id}")
     return row[0]
+
+
+#: The columns of a stored step, in the order :func:`stored_rows` gives and :func:`put_rows` takes.
+ROW_COLUMNS = ("id", "meter", "position", "kind", "params", "note", "created_at", "active")
+
+
+def stored_rows(conn: sqlite3.Connection) -> dict[int, tuple]:
+    """Every step as stored (active or not), by id: the values of :data:`ROW_COLUMNS`."""
+    rows = conn.execute(f"SELECT {', '.join(ROW_COLUMNS)} FROM cleaning_steps").fetchall()
+    return {int(row[0]): tuple(row) for row in rows}
+
+
+def put_rows(conn: sqlite3.Connection, rows: dict[int, tuple | None]) -> None:
+    """Make each step of ``rows`` as given (same id, place and time), or absent for None: how
+    a change to the log is taken back or made again."""
+    for step_id, row in rows.items():
+        conn.execute("DELETE FROM cleaning_steps WHERE id = ?", (step_id,))
+        if row is not None:
+            if len(row) != len(ROW_COLUMNS) or row[0] != step_id:
+                raise ValueError(f"a stored step is {ROW_COLUMNS}, got {row!r}")
+            conn.execute(
+                f"INSERT INTO cleaning_steps ({', '.join(ROW_COLUMNS)}) "
+                f"VALUES ({', '.join('?' * len(ROW_COLUMNS))})",
+                row,
+            )

@@ -13,7 +13,7 @@ import numpy as np
 import pandas as pd
 
 from engine.errors import InputError
-from engine.meters import MeterSeries
+from engine.meters import UTILITIES, MeterSeries
 from engine.progress import Progress
 from engine.project.bulk import insert_columns
 from engine.project.columns import (
@@ -117,6 +117,19 @@ def _raw_columns(raw: pd.DataFrame, what: str) -> tuple[np.ndarray, np.ndarray, 
 def meter_names(conn: sqlite3.Connection) -> list[str]:
     """Meter names in the order they were added."""
     return [name for (name,) in conn.execute("SELECT name FROM meters ORDER BY id").fetchall()]
+
+
+def meter_descriptions(conn: sqlite3.Connection) -> list[tuple[str, str, str]]:
+    """(name, utility, unit found) of every meter in the order added, without its readings."""
+    return conn.execute("SELECT name, utility, unit_found FROM meters ORDER BY id").fetchall()
+
+
+def set_utility(conn: sqlite3.Connection, name: str, utility: str) -> None:
+    """File the meter under ``utility`` (roll-ups and prices follow); readings stay as stored."""
+    if utility not in UTILITIES:
+        raise ValueError(f"unknown utility {utility!r}; expected one of {UTILITIES}")
+    _meter_row(conn, name)
+    conn.execute("UPDATE meters SET utility = ? WHERE name = ?", (utility, name))
 
 
 def _meter_row(conn: sqlite3.Connection, name: str) -> tuple:

@@ -281,6 +281,16 @@ class Project:
         with self._reading() as conn:
             return meter_tables.meter_settings(conn, name)
 
+    def meter_descriptions(self) -> list[tuple[str, str, str]]:
+        """(name, utility, unit found) of every meter, in the order added; no readings read."""
+        with self._reading() as conn:
+            return meter_tables.meter_descriptions(conn)
+
+    def set_meter_utility(self, name: str, utility: str) -> None:
+        """File meter ``name`` under ``utility`` (one of ``engine.meters.UTILITIES``)."""
+        with self._writing() as conn:
+            meter_tables.set_utility(conn, name, utility)
+
     def remove_meter(self, name: str) -> None:
         """Delete a meter with its readings, raw readings and cleaning steps."""
         with self._writing() as conn:
@@ -357,6 +367,17 @@ class Project:
         with self._writing() as conn:
             cleaning_table.remove_step(conn, step_id)
 
+    def stored_steps(self) -> dict[int, tuple]:
+        """Every cleaning step exactly as stored, by id (for taking a change back)."""
+        with self._reading() as conn:
+            return cleaning_table.stored_rows(conn)
+
+    def put_stored_steps(self, rows: dict[int, tuple | None]) -> None:
+        """Make the steps of ``rows`` as :meth:`stored_steps` gave them (None: absent), in one
+        save."""
+        with self._writing() as conn:
+            cleaning_table.put_rows(conn, rows)
+
     # -- results of analyses --------------------------------------------------------------
 
     def add_result(self, kind: str, meter: str | None, label: str, body: dict) -> int:
@@ -385,6 +406,21 @@ class Project:
     def remove_result(self, result_id: int) -> None:
         with self._writing() as conn:
             results_table.remove_result(conn, result_id)
+
+    def stored_result(self, result_id: int) -> tuple:
+        """A result exactly as stored (id, kind, meter, label, created_at, JSON text)."""
+        with self._reading() as conn:
+            return results_table.stored_row(conn, result_id)
+
+    def take_result(self, result_id: int) -> tuple:
+        """Remove a result and give it back as stored, for :meth:`put_back_result`."""
+        with self._writing() as conn:
+            return results_table.take_result(conn, result_id)
+
+    def put_back_result(self, row: tuple) -> None:
+        """Store a result taken with :meth:`take_result` again, under its own id."""
+        with self._writing() as conn:
+            results_table.put_back_result(conn, row)
 
     # -- budget modelling kept between runs ---------------------------------------------
 

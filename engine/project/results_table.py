@@ -60,3 +60,34 @@ def count_results(conn: sqlite3.Connection, kind: str) -> dict[str | None, int]:
 
 def remove_result(conn: sqlite3.Connection, result_id: int) -> None:
     conn.execute("DELETE FROM results WHERE id = ?", (result_id,))
+
+
+#: The columns of a stored result, in the order :func:`take_result` gives them.
+ROW_COLUMNS = ("id", "kind", "meter", "label", "created_at", "body")
+
+
+def stored_row(conn: sqlite3.Connection, result_id: int) -> tuple:
+    """A result exactly as stored (:data:`ROW_COLUMNS`), body as JSON text."""
+    row = conn.execute(
+        f"SELECT {', '.join(ROW_COLUMNS)} FROM results WHERE id = ?", (result_id,)
+    ).fetchone()
+    if row is None:
+        raise KeyError(f"no result with id {result_id}")
+    return tuple(row)
+
+
+def take_result(conn: sqlite3.Connection, result_id: int) -> tuple:
+    """Remove a result and give it back as stored (:data:`ROW_COLUMNS`), to put back later."""
+    row = stored_row(conn, result_id)
+    conn.execute("DELETE FROM results WHERE id = ?", (result_id,))
+    return row
+
+
+def put_back_result(conn: sqlite3.Connection, row: tuple) -> None:
+    """Store a result taken with :func:`take_result` again, under its own id."""
+    if len(row) != len(ROW_COLUMNS) or row[1] not in RESULT_KINDS:
+        raise ValueError(f"a stored result is {ROW_COLUMNS}, got {row!r}")
+    conn.execute(
+        f"INSERT INTO results ({', '.join(ROW_COLUMNS)}) VALUES ({', '.join('?' * len(row))})",
+        row,
+    )

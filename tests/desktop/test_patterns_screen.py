@@ -22,6 +22,7 @@ from desktop.pattern_jobs import PatternRequest
 from desktop.patterns_screen import PatternsScreen
 from desktop.session import Session
 from engine.importing import ImportedFiles, store_files
+from engine.profile_run import profile_project_meter
 from engine.project import Project
 from engine.reading import ReadOptions, read_calendar, read_file
 
@@ -118,7 +119,8 @@ def test_the_library_meter_is_drawn_as_pandas_works_it_out(library):
     drawn = sum(len(points.getData()[0]) for points in screen.temperature.points.values())
     assert drawn == len(daily) > 1000
     line_x, _ = screen.temperature.line.getData()
-    assert line_x.min() == pytest.approx(daily["mean temperature °C"].min())
+    # drawn in °F, as the sample's weather came (NIST SP 811 (2008), B.8: t/°F = 1.8 t/°C + 32)
+    assert line_x.min() == pytest.approx(1.8 * daily["mean temperature °C"].min() + 32)
     assert "change-point fit" in screen.temperature.caption.text()
     save_screen(screen, "patterns")
 
@@ -230,3 +232,20 @@ def test_the_weather_response_is_the_degree_day_regression_statsmodels_fits(qtbo
         save_screen(screen, "patterns-weather-response")
     finally:
         screen.session.close()
+
+
+def test_a_site_whose_weather_came_in_fahrenheit_sees_fahrenheit(library):
+    # The sample station reads "Dry Bulb (°F)": the project shows °F; the engine keeps °C.
+    project = library.session.project
+    assert library.patterns.temperature_unit == "°F"
+    response = profile_project_meter(project, "Library").key_figures()["weather response"]
+    shown = library.figures.values()
+    # NIST SP 811 (2008), B.8: t/°F = 1.8 t/°C + 32, and a °F interval is 5/9 of a kelvin
+    for side in ("heating", "cooling"):
+        if response.get(f"{side} balance point °C") is not None:
+            celsius = response[f"{side} balance point °C"]
+            assert shown[f"{side} balance point"] == pytest.approx(1.8 * celsius + 32)
+            per_c = response[f"{side} slope kWh per °C-day"]
+            assert shown[f"{side} slope"] == pytest.approx(per_c / 1.8)
+    assert library.temperature.plot.getAxis("bottom").labelText.endswith("(°F)")
+    assert "°C" not in library.temperature.caption.text()

@@ -34,6 +34,7 @@ from engine.cleaning.cleaned import CleanedSeries
 from engine.cleaning.quality import quality_summary
 from engine.errors import InputError
 from engine.export.finance_workbook import write_finance_workbook
+from engine.meter_labels import MeterLabel
 from engine.progress import Cancelled, Progress
 from tests.pdf_support import libreoffice_convert, page_texts, print_to_pdf
 
@@ -803,3 +804,39 @@ def test_utility_keys_are_written_in_words(campus, tmp_path):
     )
     shown = {cell for row in load_workbook(path)["Overview"].values for cell in row}
     assert "natural gas" in shown and "natural_gas" not in shown
+
+
+def test_display_names_and_the_unit_read_in_are_shown_beside_kwh(campus, tmp_path):
+    run = _run(campus)
+    labels = {
+        "Kiln Court boilers": MeterLabel("Kiln Court boilers", "gas", "therm", "Boiler house"),
+        "Tollbridge Hall main": MeterLabel("Tollbridge Hall main", "electricity"),
+    }
+    path = tmp_path / "labelled.xlsx"
+    write_finance_workbook(
+        path, run, quality=_quality(), steps=STEPS, scorecards=SCORECARDS,
+        data_range=DATA_RANGE, labels=labels,
+    )  # fmt: skip
+    grid = Grid(path, "Monthly")
+    header_row, blocks = _monthly_rows(grid)
+    header = grid.header(header_row)
+    assert header[8] == "mean in the unit read"
+    assert ("meter", "Boiler house") in blocks and ("meter", "Kiln Court boilers") not in blocks
+    boiler = next(m for m in run.meters if m.name == "Kiln Court boilers")
+    # NIST SP 811 (2008), B.8: therm (EC) = 1.055 06 E+08 J, kWh = 3.6 E+06 J
+    kwh_per_therm = 1.05506e8 / 3.6e6
+    for (_, line), month in zip(blocks["meter", "Boiler house"], boiler.months, strict=False):
+        assert line[8] == pytest.approx(month.energy.mean / kwh_per_therm)
+    gas = next(u for u in run.utilities if u.group == "gas")  # its one meter reads therms
+    assert blocks["utility", "gas"][0][1][8] == pytest.approx(
+        gas.months[0].energy.mean / kwh_per_therm
+    )
+    for scope_name in (("utility", "electricity"), ("meter", "Tollbridge Hall main")):
+        assert all(line[8] == "" for _, line in blocks[scope_name][:-1])  # kWh only
+    sheet = load_workbook(path)["Monthly"]
+    first_row = blocks["meter", "Boiler house"][0][0]
+    assert sheet.cell(first_row, 9).number_format.endswith('"therm"')
+    facts = _meter_facts(Grid(path, "Assumptions"))
+    assert facts["Boiler house"]["column in the meter file"] == "Kiln Court boilers"
+    daily = {row[0] for row in load_workbook(path)["Daily"].values}
+    assert "Boiler house" in daily and "Kiln Court boilers" not in daily
