@@ -9,8 +9,12 @@ from dataclasses import dataclass, field
 from datetime import date
 from pathlib import Path
 
+import numpy as np
 import pandas as pd
 
+from engine.accounts.budget import Accounts, account_totals, calibrations, describe, plan_accounts
+from engine.accounts.membership import meter_accounts, metered_by
+from engine.accounts.paths import bill_only_totals
 from engine.bill_prices import BillPrice, bill_prices
 from engine.budget import (
     BudgetRun,
@@ -19,7 +23,8 @@ from engine.budget import (
     as_of_cut,
     backtest_budget,
     plans_from_refits,
-    simulate_budget,
+    simulate_paths,
+    summarise,
 )
 from engine.budget.refits import CALIBRATION_MONTHS, ERROR_MONTHS
 from engine.budget.summary import check_levels
@@ -215,11 +220,15 @@ def _daily_frame(table: dict) -> pd.DataFrame:
 
 
 def last_reading_day(project: Project) -> date:
-    """The latest local day holding a reading of any meter: the default as-of date."""
+    """The latest local day holding a reading of any meter: the default as-of date (for a
+    project of bill accounts only, the last day of the newest bill)."""
     lasts = [pd.Timestamp(meter["last"]) for meter in project.summary()["meters"]]
-    if not lasts:
+    if lasts:
+        return max(lasts).tz_convert(project.timezone).date()
+    bills = project.load_bills()
+    if bills.empty:
         raise InputError("the project has no meters.", hint="Import meter files first.")
-    return max(lasts).tz_convert(project.timezone).date()
+    return pd.Timestamp(bills["period_end"].max()).date()
 
 
 def budget_project(
@@ -250,38 +259,54 @@ def budget_project(
     cut = as_of_cut(request.as_of, project.timezone)
     hourly = site.hourly_before(cut)
     weather, no_weather = _weather(request, hourly, project.timezone)
+    accounts = Accounts() if meters else _accounts(project, request, hourly, weather, names)
     histories = {name: site.meter(name).history(cut, weather=not no_weather) for name in names}
-    modelled, scorecards, failures = _meter_models(
-        project, site, histories, cut, request, no_weather, hourly,
-        workers=workers, scheduler=scheduler, progress=_share(progress, 0.05, 0.7),
-    )  # fmt: skip
+    modelled, scorecards, failures = {}, {}, []
+    if names:
+        modelled, scorecards, failures = _meter_models(
+            project, site, histories, cut, request, no_weather, hourly,
+            workers=workers, scheduler=scheduler, progress=_share(progress, 0.05, 0.7),
+        )  # fmt: skip
     names = [name for name in names if name in modelled]
     prices = bill_prices(project)
     plans = [_plan(site.meter(name), modelled[name], histories[name], site, request, prices)
              for name in names]  # fmt: skip
-    refits = {name: modelled[name].refits for name in names}
-    past = backtest_budget(
-        plans_from_refits(plans, refits),
-        histories,
-        request.calibration_origins,
-        weather=weather,
+    if not plans and not accounts.plans:
+        reason = accounts.failures[0].reason if accounts.failures else "it has no meters"
+        raise InputError(f"the project has nothing to budget: {reason}.",
+                         hint="Import meter readings or at least a year of bills.")  # fmt: skip
+    past_pairs, past_calibrations = None, {}
+    if plans:
+        past = backtest_budget(
+            plans_from_refits(plans, {name: modelled[name].refits for name in names}),
+            histories,
+            request.calibration_origins,
+            weather=weather,
+            levels=request.levels,
+            paths=min(request.paths, 300),
+            error_days=ERROR_DAYS,
+            rng=request.rng,
+            progress=_share(progress, 0.7, 0.9),
+        )
+        past_pairs, past_calibrations = past.pairs, past.calibrations()
+        totals = simulate_paths(
+            plans,
+            request.months,
+            request.as_of,
+            weather,
+            paths=request.paths,
+            error_days=ERROR_DAYS,
+            rng=request.rng,
+            progress=_share(progress, 0.9, 1.0),
+        )
+    else:
+        totals = bill_only_totals(request.months, request.as_of, weather, project.timezone,
+                                  request.paths, np.random.default_rng(request.rng))  # fmt: skip
+    totals.meters += account_totals(accounts, totals, request.rng)
+    run = summarise(
+        totals,
         levels=request.levels,
-        paths=min(request.paths, 300),
-        error_days=ERROR_DAYS,
-        rng=request.rng,
-        progress=_share(progress, 0.7, 0.9),
-    )
-    run = simulate_budget(
-        plans,
-        request.months,
-        request.as_of,
-        weather,
-        levels=request.levels,
-        paths=request.paths,
-        calibration=past.calibrations(),
-        error_days=ERROR_DAYS,
-        rng=request.rng,
-        progress=_share(progress, 0.9, 1.0),
+        calibration={**past_calibrations, **calibrations(accounts)},
     )
     run.assumptions.update(
         {
@@ -293,6 +318,7 @@ def budget_project(
             "budgets, each from the model and errors known before its month",
         }
     )
+    describe(run, accounts)
     if no_weather:
         run.cautions.append(no_weather)
     run.cautions += [
@@ -311,11 +337,37 @@ def budget_project(
         quality={name: site.meter(name).quality() for name in names},
         steps=[s for name in names for s in site.meter(name).steps],
         scorecards=scorecards,
-        data_range={name: _range(histories[name]) for name in names},
-        past_budgets=past.pairs,
+        data_range={name: _range(histories[name]) for name in names}
+        | {plan.name: _bill_range(plan.bills) for plan in accounts.plans},
+        past_budgets=past_pairs,
         plans=plans,
         weather=weather,
         calendar=site.calendar,
+    )
+
+
+def _accounts(
+    project: Project,
+    request: BudgetRequest,
+    hourly: pd.Series | None,
+    weather: WeatherAssumption,
+    names: list[str],
+) -> Accounts:
+    """The project's bill accounts made ready (their checks and models come before the meters'
+    slower work, so a bad bill file stops the budget at once)."""
+    bills = project.load_bills()
+    if bills.empty:
+        return Accounts()
+    return plan_accounts(
+        bills,
+        request.as_of,
+        hourly,
+        project.timezone,
+        with_weather=weather.kind != "none",
+        levels=request.levels,
+        currency=request.currency,
+        metered_by=metered_by(meter_accounts(project), names),
+        taken=names,
     )
 
 
@@ -464,6 +516,10 @@ def _weather(
     if request.weather == "past-years":
         return WeatherAssumption.past_years(temps), ""
     return WeatherAssumption.typical(temps), ""
+
+
+def _bill_range(bills: pd.DataFrame) -> tuple[str, str]:
+    return (f"{bills['period_start'].iloc[0]:%Y-%m-%d}", f"{bills['period_end'].iloc[-1]:%Y-%m-%d}")
 
 
 def _range(history: ModelInputs) -> tuple[str, str]:
