@@ -269,7 +269,9 @@ def budget_project(
         )  # fmt: skip
     names = [name for name in names if name in modelled]
     prices = bill_prices(project)
-    plans = [_plan(site.meter(name), modelled[name], histories[name], site, request, prices)
+    own = accounts.meter_rates()
+    plans = [_plan(site.meter(name), modelled[name], histories[name], site, request,
+                   _price(site.meter(name).utility, request, prices, own.get(name)))
              for name in names]  # fmt: skip
     if not plans and not accounts.plans:
         reason = accounts.failures[0].reason if accounts.failures else "it has no meters"
@@ -318,14 +320,15 @@ def budget_project(
             "budgets, each from the model and errors known before its month",
         }
     )
-    describe(run, accounts)
+    own_price = set(own) & {plan.name for plan in plans if plan.rate is not None}
+    describe(run, accounts, own_price)
     if no_weather:
         run.cautions.append(no_weather)
     run.cautions += [
         f"Meter '{failure.name}' is left out of this budget: {failure.reason}"
         for failure in failures
     ]
-    priced_by_bills = {plan.utility for plan in plans if plan.rate is not None}
+    priced_by_bills = {p.utility for p in plans if p.rate is not None and p.name not in own_price}
     if priced_by_bills:
         run.assumptions["prices from bills"] = {
             utility: prices[utility].sentence(request.currency)
@@ -462,7 +465,7 @@ def _plan(
     history: ModelInputs,
     site: PreparedSite,
     request: BudgetRequest,
-    prices: dict[str, BillPrice],
+    price: dict,
 ) -> MeterPlan:
     """The meter's budget plan: its model fitted on the history, its refits' errors, price."""
     return MeterPlan(
@@ -472,15 +475,19 @@ def _plan(
         history,
         calendar=site.calendar,
         residuals=made.refits.errors,
-        **_price(ready.utility, request, prices),
+        **price,
     )
 
 
-def _price(utility: str, request: BudgetRequest, prices: dict[str, BillPrice]) -> dict:
-    """How a meter of ``utility`` is costed: the rate card (electricity), else its utility's
-    bills, else not at all."""
+def _price(
+    utility: str, request: BudgetRequest, prices: dict[str, BillPrice], account: float | None
+) -> dict:
+    """How a meter of ``utility`` is costed: the rate card (electricity), else the bills of the
+    account it belongs to, else its utility's bills, else not at all."""
     if utility == "electricity" and request.tariff is not None:
         return {"tariff": request.tariff}
+    if account is not None:
+        return {"rate": account, "currency": request.currency}
     if utility in prices:
         return {"rate": prices[utility].rate, "currency": request.currency}
     return {}

@@ -10,7 +10,7 @@ caution; overlapping billing periods are refused, since the bills themselves are
 
 from __future__ import annotations
 
-from collections.abc import Mapping, Sequence
+from collections.abc import Collection, Mapping, Sequence
 from dataclasses import dataclass, field
 from datetime import date
 
@@ -56,6 +56,16 @@ class Accounts:
     plans: list[AccountPlan] = field(default_factory=list)
     cautions: list[str] = field(default_factory=list)
     failures: list[AccountFailure] = field(default_factory=list)
+
+    def meter_rates(self) -> dict[str, float]:
+        """The price per kWh of the account each meter belongs to, where its bills give one
+        (such a meter without a rate card is costed at it)."""
+        return {
+            meter: plan.rate
+            for plan in self.plans
+            if plan.rate is not None
+            for meter in plan.metered_by
+        }
 
 
 def daily_means(hourly: pd.Series | None, timezone: str) -> pd.Series | None:
@@ -195,8 +205,9 @@ def calibrations(accounts: Accounts) -> dict[str, Calibration]:
     return {plan.name: plan.calibration for plan in accounts.plans if plan.calibration}
 
 
-def describe(run: BudgetRun, accounts: Accounts) -> None:
-    """What the run says about its accounts: assumptions, cautions, accounts left out."""
+def describe(run: BudgetRun, accounts: Accounts, priced: Collection[str] = ()) -> None:
+    """What the run says about its accounts: assumptions, cautions, accounts left out;
+    ``priced`` are the meters costed at the price of the account they belong to."""
     if not accounts.plans and not accounts.failures:
         return
     errors = run.assumptions.setdefault("model_errors", {})
@@ -229,6 +240,12 @@ def describe(run: BudgetRun, accounts: Accounts) -> None:
         },
         "measured by meters": {
             plan.name: list(plan.metered_by) for plan in accounts.plans if plan.metered_by
+        },
+        "meters priced by their account": {
+            meter: f"{plan.rate:.4f} {plan.currency} per kWh, the price of account '{plan.name}'"
+            for plan in accounts.plans
+            for meter in plan.metered_by
+            if meter in priced
         },
     }
     run.cautions += accounts.cautions
