@@ -15,6 +15,7 @@ import pandas as pd
 from engine.accounts.budget import Accounts, account_totals, calibrations, describe, plan_accounts
 from engine.accounts.membership import meter_accounts, metered_by
 from engine.accounts.paths import bill_only_totals
+from engine.accounts.plan import AccountPlan
 from engine.bill_prices import BillPrice, bill_prices
 from engine.budget import (
     BudgetRun,
@@ -108,6 +109,7 @@ class ProjectBudget:
     plans: list[MeterPlan] = field(default_factory=list)
     weather: WeatherAssumption | None = None
     calendar: CampusCalendar | None = None
+    accounts: list[AccountPlan] = field(default_factory=list)  # the bill accounts budgeted
 
 
 def budget_request(
@@ -239,6 +241,7 @@ def budget_project(
     workers: int | None = None,
     scheduler: str | None = None,
     progress: Progress | None = None,
+    with_accounts: bool | None = None,
 ) -> ProjectBudget:
     """Budget the project's meters, each with its recommended model, from the as-of date.
 
@@ -252,14 +255,18 @@ def budget_project(
     assumption or tariff reuses it; meters are modelled side by side (``workers`` local
     processes, by default one per core when the site is large enough to repay them, or the
     Dask scheduler at ``scheduler``).
+
+    The project's bill accounts (:mod:`engine.accounts`) are budgeted beside the meters
+    unless ``with_accounts`` is False (by default they are when no ``meters`` are named).
     """
     step(progress, 0.0, "preparing the meters")
+    with_accounts = not meters if with_accounts is None else with_accounts
     site = prepare_site(project, meters or None)
     names = list(site.meters)
     cut = as_of_cut(request.as_of, project.timezone)
     hourly = site.hourly_before(cut)
     weather, no_weather = _weather(request, hourly, project.timezone)
-    accounts = Accounts() if meters else _accounts(project, request, hourly, weather, names)
+    accounts = _accounts(project, request, hourly, weather, names) if with_accounts else Accounts()
     histories = {name: site.meter(name).history(cut, weather=not no_weather) for name in names}
     modelled, scorecards, failures = {}, {}, []
     if names:
@@ -346,6 +353,7 @@ def budget_project(
         plans=plans,
         weather=weather,
         calendar=site.calendar,
+        accounts=accounts.plans,
     )
 
 

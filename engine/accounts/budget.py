@@ -108,6 +108,7 @@ def plan_accounts(
         except _LeftOut as why:
             found.failures.append(AccountFailure(str(name), str(why)))
             continue
+        plan.account = plan.name
         if plan.name in taken:
             plan.name = f"{plan.name} (bills)"
         plan.metered_by = tuple(metered_by.get(str(name), ()))

@@ -81,6 +81,18 @@ class AccountModel:
         coefficients, *_ = np.linalg.lstsq(design * root, per_day * root[:, 0], rcond=None)
         return cls(cycle=coefficients)
 
+    def to_dict(self) -> dict:
+        """Plain JSON: the change-point model's, or the annual cycle's coefficients."""
+        if self.change_point is not None:
+            return {"change_point": self.change_point.to_dict()}
+        return {"cycle": [float(c) for c in self.cycle]}
+
+    @classmethod
+    def from_dict(cls, data: dict) -> AccountModel:
+        if "change_point" in data:
+            return cls(change_point=ChangePointModel.from_dict(data["change_point"]))
+        return cls(cycle=np.asarray(data["cycle"], dtype=float))
+
     def daily(
         self, days: pd.DatetimeIndex, temperature: np.ndarray | None, period_of_day: np.ndarray
     ) -> np.ndarray:

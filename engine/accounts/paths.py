@@ -18,12 +18,13 @@ summary widens them by the account's calibration and sums them into roll-ups pat
 from __future__ import annotations
 
 from collections.abc import Sequence
+from dataclasses import dataclass
 from datetime import date
 
 import numpy as np
 import pandas as pd
 
-from engine.accounts.model import bill_days
+from engine.accounts.model import AccountModel, bill_days
 from engine.accounts.plan import AccountPlan
 from engine.accounts.split import cycle_periods
 from engine.budget.meter_grid import HOUR, MeterGrid
@@ -66,50 +67,76 @@ def daily_scenarios(window: BudgetWindow, weather: WeatherScenarios) -> np.ndarr
     return np.add.reduceat(weather.hourly, grid.day_starts, axis=1) / counts
 
 
-def _known_days(plan: AccountPlan, days: pd.DatetimeIndex) -> tuple[np.ndarray, np.ndarray]:
-    """Energy of each window day a known bill covers (NaN elsewhere), and the end of the
-    newest bill before each day (``datetime64[D]``), from which forecast periods run."""
-    bills = plan.bills
+def shared_bills(
+    model: AccountModel,
+    bills: pd.DataFrame,
+    daily_temperature: pd.Series | None,
+    days: pd.DatetimeIndex,
+    column: str = "quantity_kwh",
+) -> np.ndarray:
+    """Each of ``days``' part of the bills' ``column`` (kWh, or cost), shared among each bill's
+    days as the model shares its energy under the measured weather; NaN on days no bill
+    covers (or whose bill lacks the figure)."""
     covered, owner = bill_days(bills)
     temperature = None
-    if plan.model.uses_temperature:
-        measured = plan.daily_temperature.reindex(covered).to_numpy(dtype=float)
+    if model.uses_temperature:
+        measured = daily_temperature.reindex(covered).to_numpy(dtype=float)
         means = pd.Series(measured).groupby(owner).transform("mean").to_numpy()
         temperature = np.where(np.isfinite(measured), measured, means)[np.newaxis, :]
-    shape = np.maximum(plan.model.daily(covered, temperature, owner)[0], np.finfo(float).tiny)
+    shape = np.maximum(model.daily(covered, temperature, owner)[0], np.finfo(float).tiny)
     by_bill = np.bincount(owner, weights=shape)
-    actual = bills["quantity_kwh"].to_numpy(dtype=float)
-    energy = shape * (actual / by_bill)[owner]
-    per_day = pd.Series(energy, index=covered).reindex(days).to_numpy()
-    ends = bills["period_end"].to_numpy().astype("datetime64[D]")
+    amount = pd.to_numeric(bills[column], errors="coerce").to_numpy(dtype=float)
+    per_day = pd.Series(shape * (amount / by_bill)[owner], index=covered)
+    return per_day.reindex(days).to_numpy()
+
+
+@dataclass(frozen=True)
+class Layout:
+    """An account's budget days: the known bills' energy (NaN on days to forecast), which days
+    are forecast, and their forecast billing period (0, 1, … along the cycle)."""
+
+    known: np.ndarray
+    forecast: np.ndarray  # positions of the days to forecast
+    period: np.ndarray  # per forecast day
+
+
+def layout(plan: AccountPlan, days: pd.DatetimeIndex) -> Layout:
+    """Where the account's known bills end and its forecast billing periods run."""
+    known = shared_bills(plan.model, plan.bills, plan.daily_temperature, days)
+    ends = plan.bills["period_end"].to_numpy().astype("datetime64[D]")
     day = days.to_numpy().astype("datetime64[D]")
     before = np.searchsorted(ends, day, side="left") - 1
     until = np.where(before >= 0, ends[np.maximum(before, 0)], day[0] - np.timedelta64(1, "D"))
-    return per_day, until
+    forecast = np.flatnonzero(np.isnan(known))
+    periods = cycle_periods(days[forecast], until[forecast], plan.cycle_days)
+    return Layout(known, forecast, np.unique(periods, return_inverse=True)[1])
+
+
+def expected_days(
+    plan: AccountPlan, where: Layout, window: BudgetWindow, temperature: np.ndarray | None
+) -> np.ndarray:
+    """The model's energy on the forecast days under each scenario's daily °C
+    ``(scenarios, days)`` (None without weather): ``(scenarios, forecast days)``."""
+    if plan.model.uses_temperature:
+        temperature = temperature[:, where.forecast]
+    return plan.model.daily(window.days[where.forecast], temperature, where.period)
 
 
 def account_paths(plan: AccountPlan, totals: PathTotals, rng: np.random.Generator) -> MeterPaths:
     """The account's per-path days, months and cost on the run's window and scenarios."""
     window = totals.window
-    days = window.days
-    known, until = _known_days(plan, days)
-    forecast = np.flatnonzero(np.isnan(known))
+    where = layout(plan, window.days)
     paths = totals.paths
-    energy = np.broadcast_to(np.nan_to_num(known), (paths, len(days))).copy()
-    if forecast.size:
-        periods = cycle_periods(days[forecast], until[forecast], plan.cycle_days)
-        _, period = np.unique(periods, return_inverse=True)
-        temperature = None
-        if plan.model.uses_temperature:
-            temperature = _forecast_temperature(plan, window, totals.weather, totals.as_of)
-            temperature = temperature[:, forecast]
-        expected = plan.model.daily(days[forecast], temperature, period)
+    energy = np.broadcast_to(np.nan_to_num(where.known), (paths, len(window.days))).copy()
+    if where.forecast.size:
+        temperature = scenario_temperature(plan, window, totals.weather, totals.as_of)
+        expected = expected_days(plan, where, window, temperature)
         rows = totals.scenario_of_path if len(expected) > 1 else np.zeros(paths, np.int64)
-        drawn = rng.choice(plan.errors, size=(paths, period.max() + 1))
-        energy[:, forecast] = np.maximum(expected[rows] * (1.0 + drawn[:, period]), 0.0)
+        drawn = rng.choice(plan.errors, size=(paths, where.period.max() + 1))
+        energy[:, where.forecast] = np.maximum(expected[rows] * (1.0 + drawn[:, where.period]), 0)
     starts = month_starts(window)
     months = np.add.reduceat(energy, starts, axis=1)
-    actual = np.add.reduceat(np.nan_to_num(known), starts)
+    actual = np.add.reduceat(np.nan_to_num(where.known), starts)
     return MeterPaths(
         plan=plan,
         days=energy,
@@ -117,14 +144,17 @@ def account_paths(plan: AccountPlan, totals: PathTotals, rng: np.random.Generato
         cost=months * plan.rate if plan.rate is not None else None,
         actual_to_date=actual,
         errors_source=plan.errors_source,
-        day_floor=np.zeros(len(days)),
+        day_floor=np.zeros(len(window.days)),
     )
 
 
-def _forecast_temperature(
+def scenario_temperature(
     plan: AccountPlan, window: BudgetWindow, weather: WeatherScenarios, as_of: date
-) -> np.ndarray:
-    """Scenario °C per window day; days up to the as-of date take the measured mean."""
+) -> np.ndarray | None:
+    """Scenario °C per window day; days up to the as-of date take the measured mean (None for
+    a calendar-only account)."""
+    if not plan.model.uses_temperature:
+        return None
     scenarios = daily_scenarios(window, weather)
     measured = plan.daily_temperature.reindex(window.days).to_numpy(dtype=float)
     past = (window.days <= pd.Timestamp(as_of)) & np.isfinite(measured)

@@ -57,6 +57,7 @@ class AccountPlan:
     rate: float | None = None
     currency: str | None = None
     metered_by: tuple[str, ...] = ()
+    account: str = ""  # the bills' account in the project ("" : the same as ``name``)
     cautions: list[str] = field(default_factory=list)
     scores: dict = field(default_factory=dict)
 
