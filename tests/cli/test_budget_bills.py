@@ -15,6 +15,7 @@ import json
 import numpy as np
 import pandas as pd
 import pytest
+from python_calamine import CalamineWorkbook
 
 from engine.project import Project
 from tests.cli.cli_support import loadledger, write_hall_and_boiler
@@ -82,7 +83,8 @@ def one_shot(site):
         "budget", "--meters", site["meters"], "--weather-file", site["weather"],
         "--bills", site["paths"]["annex"], "--bills", site["paths"]["boiler-bills"],
         "--bills", site["paths"]["kiosk"], "--meter-account", "Boiler gas=boiler-bills",
-        "--timezone", "UTC", "--start", "2025-10", "--months", "3", "--paths", "300", "--json",
+        "--timezone", "UTC", "--start", "2025-10", "--months", "3", "--paths", "300",
+        "--xlsx", site["folder"] / "budget.xlsx", "--json",
     )  # fmt: skip
     return json.loads(done.stdout)
 
@@ -130,6 +132,22 @@ def test_a_weather_driven_account_lands_near_its_invented_truth(site, one_shot):
     p50 = {month["month"]: month["quantiles"]["50"] for month in annex["months"]}
     assert p50 == pytest.approx(truth.to_dict(), rel=0.08)
     assert p50["2025-12"] > p50["2025-11"] > p50["2025-10"]  # colder months use more
+
+
+def test_the_finance_workbook_says_where_accounts_come_from(one_shot):
+    book = CalamineWorkbook.from_path(one_shot["workbook"])
+    facts, meter = {}, None
+    for row in book.get_sheet_by_name("Assumptions").to_python():
+        meter = row[0] or meter  # a meter's name heads its block of facts
+        if len(row) > 2 and row[1]:
+            facts[(meter, row[1])] = row[2]
+    assert facts[("annex", "source")].startswith("bills")
+    assert facts[("annex", "priced by")].startswith("its own bills")
+    assert "bills used" in {fact for _, fact in facts}
+    assert facts[("boiler-bills", "counted in totals")].startswith("no: measured by Boiler gas")
+    assert facts[("Boiler gas", "priced by")].startswith("its account's bills")
+    monthly = book.get_sheet_by_name("Monthly").to_python()
+    assert any("annex" in str(cell) for row in monthly for cell in row)
 
 
 def test_an_account_without_a_complete_year_is_left_out_with_a_caution(one_shot):
