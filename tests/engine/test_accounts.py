@@ -20,6 +20,7 @@ from engine.accounts.split import cycle_periods, month_split
 from engine.budget import WeatherAssumption
 from engine.errors import InputError
 from engine.models import BillingInputs, BillingPeriodChangePointModel
+from tests.bill_support import billing_periods
 
 
 def _weather(first: str, last: str, seed: int) -> pd.Series:
@@ -32,13 +33,8 @@ def _weather(first: str, last: str, seed: int) -> pd.Series:
 
 def _bills(daily_kwh: pd.Series, first: str, seed: int, last: str | None = None) -> pd.DataFrame:
     """Consecutive billing periods of 27–35 days from ``first`` with the days' kWh."""
-    rng = np.random.default_rng(seed)
-    start, end = pd.Timestamp(first), pd.Timestamp(last or daily_kwh.index[-1])
-    rows = []
-    while (stop := start + pd.Timedelta(days=int(rng.integers(27, 36)) - 1)) <= end:
-        rows.append((start, stop, float(daily_kwh[start:stop].sum())))
-        start = stop + pd.Timedelta(days=1)
-    return pd.DataFrame(rows, columns=["period_start", "period_end", "quantity_kwh"])
+    periods = billing_periods(daily_kwh, first, last or str(daily_kwh.index[-1]), seed)
+    return periods.rename(columns={"amount": "quantity_kwh"})
 
 
 def _heating_account(temps: pd.Series, seed: int = 4) -> pd.Series:

