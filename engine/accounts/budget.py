@@ -21,13 +21,14 @@ from engine.accounts.model import AccountModel
 from engine.accounts.paths import account_paths
 from engine.accounts.plan import (
     AccountPlan,
+    TooFewBills,
     account_calibration,
     backtest_bills,
     checked_bills,
     weather_covers,
 )
 from engine.budget.result import BudgetRun, Calibration
-from engine.budget.simulate import PathTotals
+from engine.budget.simulate import MeterPaths, PathTotals
 from engine.errors import InputError
 from engine.tariffs import effective_rate
 from engine.units import find_unit
@@ -136,9 +137,7 @@ def _plan(
         )
     try:
         bills, cautions = checked_bills(name, bills)
-    except InputError as error:
-        if "complete year" not in error.problem:
-            raise
+    except TooFewBills as error:
         raise _LeftOut(error.problem) from error
     used = temps if weather_covers(bills, temps) else None
     if used is None:
@@ -194,7 +193,7 @@ def _price(bills: pd.DataFrame, currency: str) -> dict:
         return {}
 
 
-def account_totals(accounts: Accounts, totals: PathTotals, rng_seed: int) -> list:
+def account_totals(accounts: Accounts, totals: PathTotals, rng_seed: int) -> list[MeterPaths]:
     """The accounts' paths on the run's window and weather scenarios (one generator each)."""
     return [
         account_paths(plan, totals, np.random.default_rng([rng_seed, number]))

@@ -37,6 +37,10 @@ MIN_ERRORS = 6
 COVERAGE = 0.9
 
 
+class TooFewBills(InputError):
+    """An account whose bills do not cover a complete year: a budget can go on without it."""
+
+
 @dataclass
 class AccountPlan:
     """One bill account in a budget run; reads like a :class:`engine.budget.MeterPlan` to the
@@ -74,8 +78,8 @@ class AccountPlan:
 def checked_bills(account: str, bills: pd.DataFrame) -> tuple[pd.DataFrame, list[str]]:
     """The account's bills in order; overlaps are refused, gaps are named in a caution.
 
-    Raises :class:`InputError` when two billing periods overlap, a bill has no usable
-    quantity, or the bills do not cover a complete year.
+    Raises :class:`InputError` when two billing periods overlap or a bill has no usable
+    quantity, and :class:`TooFewBills` when the bills do not cover a complete year.
     """
     bills = bills.sort_values("period_start", kind="stable").reset_index(drop=True)
     start, end = bills["period_start"], bills["period_end"]
@@ -99,7 +103,7 @@ def checked_bills(account: str, bills: pd.DataFrame) -> tuple[pd.DataFrame, list
         )
     days = (end - start).dt.days + 1
     if len(bills) < MIN_BILLS or days.sum() < YEAR:
-        raise InputError(
+        raise TooFewBills(
             f"account '{account}' has {len(bills)} bill(s) covering {days.sum()} days before the "
             f"as-of date; a budget needs at least a complete year ({MIN_BILLS} bills, {YEAR} "
             "days).",

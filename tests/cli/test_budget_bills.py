@@ -178,6 +178,20 @@ def test_overlapping_bills_stop_the_budget_with_exit_2(site):
     assert "Traceback" not in done.stderr
 
 
+def test_a_project_with_overlapping_bills_is_refused_and_left_as_it_was(site):
+    bills = site["bills"]["annex"].copy()
+    bills.loc[12, "Period start"] = bills.loc[11, "Period start"]
+    path = site["folder"] / "annex-twice.csv"
+    bills.to_csv(path, index=False)
+    project = site["folder"] / "overlapping.loadledger"
+    loadledger("new", project, "--meters", site["meters"], "--weather", site["weather"],
+               "--bills", path, "--timezone", "UTC")  # fmt: skip
+    before = project.read_bytes()
+    done = loadledger("budget", project, "--start", "2025-10", "--paths", "200", expect=2)
+    assert "account 'annex-twice'" in done.stderr and "overlaps" in done.stderr
+    assert project.read_bytes() == before
+
+
 def test_a_lone_account_without_a_complete_year_is_exit_2(site):
     done = loadledger("budget", "--bills", site["paths"]["kiosk"], "--timezone", "UTC",
                       "--start", "2025-10", "--paths", "200", expect=2)  # fmt: skip
