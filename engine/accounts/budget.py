@@ -129,16 +129,16 @@ def _plan(
     levels: Sequence[int],
     currency: str,
 ) -> tuple[AccountPlan, list[str]]:
-    utility = account_utility(bills) if len(bills) else None
-    if utility is None and len(bills):
-        raise _LeftOut(
-            f"its unit ({bills['unit_found'].iloc[0]}) serves several utilities, so it "
-            "cannot join a utility's roll-up"
-        )
     try:
         bills, cautions = checked_bills(name, bills)
     except TooFewBills as error:
         raise _LeftOut(error.problem) from error
+    utility = account_utility(bills)
+    if utility is None:
+        raise _LeftOut(
+            f"its unit ({bills['unit_found'].iloc[0]}) serves several utilities, so it "
+            "cannot join a utility's roll-up"
+        )
     used = temps if weather_covers(bills, temps) else None
     if used is None:
         why = (
@@ -162,7 +162,7 @@ def _plan(
     days = (bills["period_end"] - bills["period_start"]).dt.days + 1
     plan = AccountPlan(
         name=name,
-        utility=str(account_utility(bills)),
+        utility=utility,
         model=model,
         bills=bills,
         daily_temperature=used,

@@ -62,8 +62,7 @@ class AccountPlan:
     currency: str | None = None
     metered_by: tuple[str, ...] = ()
     account: str = ""  # the bills' account in the project ("" : the same as ``name``)
-    cautions: list[str] = field(default_factory=list)
-    scores: dict = field(default_factory=dict)
+    scores: dict = field(default_factory=dict)  # none yet: the summary passes them through
 
     @property
     def in_roll_ups(self) -> bool:
