@@ -22,6 +22,7 @@ from engine.accounts.paths import account_paths
 from engine.accounts.plan import (
     AccountPlan,
     TooFewBills,
+    a_complete_year,
     account_calibration,
     backtest_bills,
     checked_bills,
@@ -139,21 +140,16 @@ def _plan(
             f"its unit ({bills['unit_found'].iloc[0]}) serves several utilities, so it "
             "cannot join a utility's roll-up"
         )
-    used = temps if weather_covers(bills, temps) else None
-    if used is None:
-        why = (
-            "the budget has no weather" if temps is None else "the weather does not cover its bills"
-        )
-        cautions.append(NO_WEATHER.format(name=name, why=why))
-    model = AccountModel.fit(bills, used)
-    errors, pairs = backtest_bills(bills, used, levels)
+    used, fitted = _weather_fit(name, bills, temps, cautions)
+    model = AccountModel.fit(fitted, used)
+    errors, pairs = backtest_bills(fitted, used, levels)
     source = (
         f"out-of-sample errors (actual ÷ predicted − 1) of {len(errors)} past bills, each "
         "predicted by the model refitted on the bills before it; one drawn per forecast "
         "billing period"
     )
     if len(errors) == 0:
-        errors = _fit_errors(model, bills, used)
+        errors = _fit_errors(model, fitted, used)
         source = "the fit's own errors on its bills (too few bills for a backtest)"
         cautions.append(
             f"Account '{name}' has too few bills to test its model on bills it did not see: "
@@ -173,6 +169,25 @@ def _plan(
         **_price(bills, currency),
     )
     return plan, cautions
+
+
+def _weather_fit(
+    name: str, bills: pd.DataFrame, temps: pd.Series | None, cautions: list[str]
+) -> tuple[pd.Series | None, pd.DataFrame]:
+    """The temperatures the account's model uses (None: calendar only) and the bills it is
+    fitted on: every bill, or those the weather covers when they make a complete year."""
+    covered = weather_covers(bills, temps)
+    if covered.all():
+        return temps, bills
+    if temps is not None and a_complete_year(bills[covered]):
+        cautions.append(
+            f"Account '{name}': {int((~covered).sum())} of its bills have no weather for most "
+            "of their days and are left out of its model."
+        )
+        return temps, bills[covered].reset_index(drop=True)
+    why = "the budget has no weather" if temps is None else "the weather does not cover its bills"
+    cautions.append(NO_WEATHER.format(name=name, why=why))
+    return None, bills
 
 
 def _fit_errors(model: AccountModel, bills: pd.DataFrame, temps: pd.Series | None) -> np.ndarray:

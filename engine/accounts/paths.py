@@ -83,7 +83,8 @@ def shared_bills(
         measured = daily_temperature.reindex(covered).to_numpy(dtype=float)
         means = pd.Series(measured).groupby(owner).transform("mean").to_numpy()
         temperature = np.where(np.isfinite(measured), measured, means)[np.newaxis, :]
-    shape = np.maximum(model.daily(covered, temperature, owner)[0], np.finfo(float).tiny)
+    # a bill without any temperature (or a model giving nothing) is shared by days
+    shape = np.fmax(model.daily(covered, temperature, owner)[0], np.finfo(float).tiny)
     by_bill = np.bincount(owner, weights=shape)
     amount = pd.to_numeric(bills[column], errors="coerce").to_numpy(dtype=float)
     per_day = pd.Series(shape * (amount / by_bill)[owner], index=covered)
@@ -158,4 +159,6 @@ def scenario_temperature(
     scenarios = daily_scenarios(window, weather)
     measured = plan.daily_temperature.reindex(window.days).to_numpy(dtype=float)
     past = (window.days <= pd.Timestamp(as_of)) & np.isfinite(measured)
-    return np.where(past[np.newaxis, :], measured[np.newaxis, :], scenarios)
+    chosen = pd.DataFrame(np.where(past[np.newaxis, :], measured[np.newaxis, :], scenarios).T)
+    # a day left without a temperature (before the as-of date, unmeasured) takes its neighbours'
+    return chosen.interpolate(limit_direction="both").to_numpy().T

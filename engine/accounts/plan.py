@@ -22,7 +22,7 @@ from typing import ClassVar
 import numpy as np
 import pandas as pd
 
-from engine.accounts.model import MIN_BILLS, YEAR, AccountModel
+from engine.accounts.model import MIN_BILLS, YEAR, AccountModel, bill_days
 from engine.budget.calibration import calibrate
 from engine.budget.result import Calibration
 from engine.errors import InputError
@@ -101,7 +101,7 @@ def checked_bills(account: str, bills: pd.DataFrame) -> tuple[pd.DataFrame, list
             hint="Enter the billed energy, or leave the bill out of the file.",
         )
     days = (end - start).dt.days + 1
-    if len(bills) < MIN_BILLS or days.sum() < YEAR:
+    if not a_complete_year(bills):
         raise TooFewBills(
             f"account '{account}' has {len(bills)} bill(s) covering {days.sum()} days before the "
             f"as-of date; a budget needs at least a complete year ({MIN_BILLS} bills, {YEAR} "
@@ -120,16 +120,19 @@ def checked_bills(account: str, bills: pd.DataFrame) -> tuple[pd.DataFrame, list
     return bills, cautions
 
 
-def weather_covers(bills: pd.DataFrame, daily_temperature: pd.Series | None) -> bool:
-    """Whether every bill has a daily mean temperature on most of its days."""
+def weather_covers(bills: pd.DataFrame, daily_temperature: pd.Series | None) -> np.ndarray:
+    """Per bill, whether it has a daily mean temperature on most of its days."""
     if daily_temperature is None:
-        return False
-    known = daily_temperature.dropna().index
-    for first, last in zip(bills["period_start"], bills["period_end"], strict=True):
-        days = pd.date_range(first, last, freq="D")
-        if days.isin(known).sum() < COVERAGE * len(days):
-            return False
-    return True
+        return np.zeros(len(bills), dtype=bool)
+    days, owner = bill_days(bills)
+    known = np.bincount(owner, weights=days.isin(daily_temperature.dropna().index))
+    return known >= COVERAGE * np.bincount(owner)
+
+
+def a_complete_year(bills: pd.DataFrame) -> bool:
+    """Whether the bills are enough to model: :data:`MIN_BILLS` covering :data:`YEAR` days."""
+    days = (bills["period_end"] - bills["period_start"]).dt.days + 1
+    return len(bills) >= MIN_BILLS and days.sum() >= YEAR
 
 
 def backtest_bills(

@@ -44,6 +44,12 @@ def _heating_account(temps: pd.Series, seed: int = 4) -> pd.Series:
     return use * (1 + rng.normal(0, 0.04, len(temps)))
 
 
+def _hourly(daily: pd.Series) -> pd.Series:
+    """Each day's mean °C repeated over its 24 UTC hours."""
+    hours = pd.date_range(daily.index[0], periods=24 * len(daily), freq="h", tz="UTC")
+    return pd.Series(np.repeat(daily.to_numpy(), 24), index=hours)
+
+
 # -- the split of a billing period into months -----------------------------------------------
 
 
@@ -212,11 +218,7 @@ def test_budget_days_of_known_bills_add_up_to_the_bills_and_the_rest_is_forecast
     use = _heating_account(temps, seed=12)
     bills = _stored(_bills(use, "2021-01-01", seed=13, last="2025-01-20"))
     as_of = pd.Timestamp("2025-01-31").date()
-    hourly = pd.Series(
-        np.repeat(temps.to_numpy(), 24),
-        index=pd.date_range("2021-01-01", periods=24 * len(temps), freq="h", tz="UTC"),
-    )
-    hourly = hourly[hourly.index < "2025-02-01"]
+    hourly = _hourly(temps[:"2025-01-31"])
     found = plan_accounts(
         bills, as_of, hourly, "UTC",
         with_weather=True, levels=(10, 50, 90), currency="USD", metered_by={},
@@ -242,3 +244,23 @@ def test_budget_days_of_known_bills_add_up_to_the_bills_and_the_rest_is_forecast
     assert np.ptp(february) > 0
     truth = use["2025-02-01":"2025-02-28"].sum()
     assert np.median(february) == pytest.approx(truth, rel=0.1)
+
+
+def test_bills_older_than_the_weather_are_left_out_of_the_weather_model():
+    temps = _weather("2021-01-01", "2024-12-31", seed=15)
+    bills = _stored(_bills(_heating_account(temps), "2021-01-01", seed=16))
+    found = plan_accounts(
+        bills, pd.Timestamp("2024-12-31").date(), _hourly(temps["2022-07-01":]), "UTC",
+        with_weather=True, levels=(10, 50, 90), currency="USD", metered_by={},
+    )  # fmt: skip
+    (plan,) = found.plans
+    assert plan.model.uses_temperature
+    (caution,) = found.cautions
+    assert "have no weather for most of their days and are left out of its model" in caution
+    # with no weather at all it falls back to the calendar and says so
+    found = plan_accounts(
+        bills, pd.Timestamp("2024-12-31").date(), None, "UTC",
+        with_weather=True, levels=(10, 50, 90), currency="USD", metered_by={},
+    )  # fmt: skip
+    assert not found.plans[0].model.uses_temperature
+    assert "calendar alone" in found.cautions[0]
