@@ -17,6 +17,7 @@ import pandas as pd
 import pytest
 from python_calamine import CalamineWorkbook
 
+from engine.cli.text import budget_report
 from engine.project import Project
 from tests.bill_support import (
     billing_periods,
@@ -161,6 +162,13 @@ def test_an_account_without_a_complete_year_is_left_out_with_a_caution(one_shot)
     assert "kiosk" not in {meter["name"] for meter in one_shot["meters"]}
     assert any("Account 'kiosk' is left out" in c and "complete year" in c
                for c in one_shot["cautions"])  # fmt: skip
+
+
+def test_the_text_report_marks_accounts_and_those_left_out_of_the_totals(one_shot):
+    lines = budget_report(one_shot).splitlines()
+    assert any(line.strip().startswith("annex (bills) ") for line in lines)
+    assert any(line.strip().startswith("boiler-bills (bills, not in totals)") for line in lines)
+    assert any(line.strip().startswith("Hall ") for line in lines)
 
 
 def test_the_design_load_caution_is_carried(one_shot):
