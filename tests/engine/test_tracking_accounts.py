@@ -13,8 +13,10 @@ from datetime import date
 import numpy as np
 import pandas as pd
 import pytest
+from python_calamine import CalamineWorkbook
 
 from engine.budgeting import budget_project, budget_request
+from engine.export.tracking_workbook import write_tracking_workbook
 from engine.importing import create_project, read_project_files
 from engine.reading import ReadOptions
 from engine.tracking import adopt_budget, track_budget
@@ -98,3 +100,10 @@ def test_a_month_not_yet_fully_billed_is_compared_to_date(tracked):
     assert outlook["mean"] > billed
     # the same bills; only the share of the bill straddling 1 July follows the fresh model
     assert outlook["actual_to_date"] == pytest.approx(billed, rel=1e-3)
+
+
+def test_the_tracking_workbook_holds_the_account(tracked, tmp_path):
+    report, _ = tracked
+    written = write_tracking_workbook(tmp_path / "tracking.xlsx", report)
+    rows = CalamineWorkbook.from_path(str(written)).get_sheet_by_name("Tracking").to_python()
+    assert any("annex" in str(cell) for row in rows for cell in row)
