@@ -8,6 +8,7 @@ so its heating weather effect must be negative; the variance identity must hold 
 
 from __future__ import annotations
 
+import shutil
 from datetime import date
 
 import numpy as np
@@ -17,7 +18,8 @@ from python_calamine import CalamineWorkbook
 
 from engine.budgeting import budget_project, budget_request
 from engine.export.tracking_workbook import write_tracking_workbook
-from engine.importing import create_project, read_project_files
+from engine.importing import create_project, read_project_files, store_files
+from engine.project import Project
 from engine.reading import ReadOptions
 from engine.tracking import adopt_budget, track_budget
 from tests.bill_support import billing_periods
@@ -107,3 +109,46 @@ def test_the_tracking_workbook_holds_the_account(tracked, tmp_path):
     written = write_tracking_workbook(tmp_path / "tracking.xlsx", report)
     rows = CalamineWorkbook.from_path(str(written)).get_sheet_by_name("Tracking").to_python()
     assert any("annex" in str(cell) for row in rows for cell in row)
+
+
+@pytest.fixture(scope="module")
+def mixed(fitted_site, tmp_path_factory):
+    """The fitted two-meter site plus an unmetered annex billed in kWh (electricity, beside
+    the Hall meter), its last bill ending before the tracking's as-of date."""
+    folder = tmp_path_factory.mktemp("mixed")
+    path = folder / "site.loadledger"
+    shutil.copyfile(fitted_site, path)
+    days = pd.date_range("2024-01-01", "2025-12-31", freq="D")
+    use = pd.Series(400 + 30 * np.cos(2 * np.pi * days.day_of_year / 365.25), index=days)
+    periods = billing_periods(use, "2024-01-01", "2025-12-24", seed=6)
+    bills = folder / "annex.csv"
+    periods.rename(columns={"period_start": "Period start", "period_end": "Period end",
+                            "amount": "Billed kWh"}).to_csv(bills, index=False)  # fmt: skip
+    months = [f"2025-{m:02d}" for m in range(7, 13)]
+    with Project.open(path) as project:
+        store_files(project, read_project_files([], [bills], [], ReadOptions(timezone="UTC")))
+        request = budget_request(project, months, as_of=date(2025, 6, 30), paths=200)
+        adopt_budget(project, "FY", budget_project(project, request), request)
+        report = track_budget(project, "FY", as_of=date(2025, 12, 31))
+    return report, periods["period_end"].max()
+
+
+def test_a_roll_up_with_an_account_counts_only_the_billed_days(mixed):
+    report, last_bill_end = mixed
+    by_name = {meter["name"]: meter for meter in report["meters"]}
+    assert by_name["annex"]["source"] == "bills" and by_name["Hall"]["source"] == "readings"
+    electricity = next(u for u in report["utilities"] if u["group"] == "electricity")
+    assert sorted(electricity["meters"]) == ["Hall", "annex"]
+    for number, record in enumerate(electricity["months"]):
+        hall, annex = by_name["Hall"]["months"][number], by_name["annex"]["months"][number]
+        if annex["complete"]:  # every day billed: the roll-up is the two actuals
+            assert record["complete"]
+            assert record["actual"] == pytest.approx(hall["actual"] + annex["actual"], rel=1e-9)
+    december = electricity["months"][-1]
+    assert by_name["Hall"]["months"][-1]["complete"]  # the meter read all of December
+    # but the annex's last bill ends mid-December: the roll-up counts only the billed days
+    assert last_bill_end.month == 12 and last_bill_end.day < 31
+    assert december["status"] == "under way"
+    assert december["actual"] < (
+        by_name["Hall"]["months"][-1]["actual"] + by_name["annex"]["months"][-1]["actual"]
+    )
