@@ -24,8 +24,6 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from engine.degree_days import mean_temperature_degree_days
-
 
 def period_starts(period_of_day: np.ndarray) -> np.ndarray:
     """Positions where a new period begins in a day-by-day array of period numbers."""
@@ -55,36 +53,6 @@ def share_by_degree_days(
             per_dd = np.where(total > 0, part / total, 0.0)
         shares = shares + per_dd[:, runs] * dd
     return shares
-
-
-def month_split(
-    first_day: str | pd.Timestamp,
-    last_day: str | pd.Timestamp,
-    total_kwh: float,
-    daily_temperature: pd.Series,
-    *,
-    base_per_day: float,
-    heating_point: float | None = None,
-    cooling_point: float | None = None,
-) -> pd.Series:
-    """One period's ``total_kwh`` split into calendar months (kWh per ``"YYYY-MM"``).
-
-    The base part is ``base_per_day`` × days, shared by days; the rest is weather-driven and
-    shared by heating degree-days at ``heating_point`` or cooling degree-days at
-    ``cooling_point`` (°C, the day's mean temperature in ``daily_temperature``, indexed by
-    local date); with neither point, or no degree-days in the period, the rest goes by days.
-    """
-    days = pd.date_range(pd.Timestamp(first_day), pd.Timestamp(last_day), freq="D")
-    temps = daily_temperature.reindex(days).to_numpy(dtype=float)
-    dd = np.zeros(len(days))
-    if heating_point is not None:
-        dd = dd + mean_temperature_degree_days(temps, heating_point, "heating")
-    if cooling_point is not None:
-        dd = dd + mean_temperature_degree_days(temps, cooling_point, "cooling")
-    rest = total_kwh - base_per_day * len(days)
-    weights = dd / dd.sum() if dd.sum() > 0 else np.full(len(days), 1.0 / len(days))
-    per_day = pd.Series(base_per_day + rest * weights, index=days)
-    return per_day.groupby(days.strftime("%Y-%m")).sum()
 
 
 def cycle_periods(days: pd.DatetimeIndex, billed_until: np.ndarray, cycle_days: int) -> np.ndarray:

@@ -16,8 +16,9 @@ from engine.accounts.budget import plan_accounts
 from engine.accounts.model import AccountModel, bill_days
 from engine.accounts.paths import account_paths, bill_only_totals
 from engine.accounts.plan import backtest_bills, checked_bills
-from engine.accounts.split import cycle_periods, month_split
+from engine.accounts.split import cycle_periods
 from engine.budget import WeatherAssumption
+from engine.changepoint import ChangePointModel
 from engine.errors import InputError
 from engine.models import BillingInputs, BillingPeriodChangePointModel
 from tests.bill_support import billing_periods
@@ -53,52 +54,50 @@ def _hourly(daily: pd.Series) -> pd.Series:
 # -- the split of a billing period into months -----------------------------------------------
 
 
+def _by_month(days: pd.DatetimeIndex, kwh: np.ndarray) -> dict[str, float]:
+    return pd.Series(kwh, index=days).groupby(days.strftime("%Y-%m")).sum().to_dict()
+
+
 def test_a_billing_period_splits_into_months_by_degree_days_as_worked_by_hand():
     """Worked by hand (degree-day apportioning; mean-temperature degree-days, CIBSE TM41).
 
-    Period 20 Jan – 18 Feb 2025: 12 days in January at 2 °C, 18 in February at 8 °C; billed
-    2,000 kWh; base 10 kWh a day; heating change point 15 °C.
+    Period 20 Jan – 18 Feb 2025: 12 days in January at 2 °C, 18 in February at 8 °C; a 3PH
+    model with base 10 kWh a day, change point 15 °C and heating slope 1,700 / 282 kWh per
+    °C·day, so the period (mean 5.6 °C) is 30 × (10 + 9.4 × 1,700 / 282) = 2,000 kWh.
       base: 30 days × 10 = 300 kWh → January 12 × 10 = 120, February 18 × 10 = 180
       weather-driven: 2,000 − 300 = 1,700 kWh over the degree-days
         January 12 × (15 − 2) = 156 °C·d, February 18 × (15 − 8) = 126 °C·d, total 282
         January 1,700 × 156 / 282 = 940.43 kWh, February 1,700 × 126 / 282 = 759.57 kWh
       months: January 120 + 940.43 = 1,060.43 kWh; February 180 + 759.57 = 939.57 kWh
     """
+    model = ChangePointModel("3PH")
+    model.change_points_, model.intercept_ = (15.0,), 10.0
+    model.heating_slope_, model.cooling_slope_ = 1700 / 282, 0.0
     days = pd.date_range("2025-01-20", "2025-02-18", freq="D")
-    temps = pd.Series(np.where(days.month == 1, 2.0, 8.0), index=days)
-    split = month_split(
-        "2025-01-20", "2025-02-18", 2000.0, temps, base_per_day=10.0, heating_point=15.0
+    temps = np.where(days.month == 1, 2.0, 8.0)[np.newaxis, :]
+    daily = AccountModel(change_point=model).daily(days, temps, np.zeros(len(days), int))[0]
+    assert _by_month(days, daily) == pytest.approx(
+        {"2025-01": 1060.4255, "2025-02": 939.5745}, abs=1e-3
     )
-    assert split["2025-01"] == pytest.approx(1060.4255, abs=1e-3)
-    assert split["2025-02"] == pytest.approx(939.5745, abs=1e-3)
-    assert split.sum() == pytest.approx(2000.0, rel=1e-12)
-    # Without a change point (or weather) the period goes by days: 12/30 and 18/30 of it.
-    by_days = month_split("2025-01-20", "2025-02-18", 2000.0, temps, base_per_day=0.0)
-    assert by_days.to_dict() == pytest.approx({"2025-01": 800.0, "2025-02": 1200.0})
+    # A calendar-only model shares by its own daily values: a flat one, 12/30 and 18/30.
+    flat = AccountModel(cycle=np.array([2000 / 30, 0.0, 0.0]))
+    daily = flat.daily(days, None, np.zeros(len(days), int))[0]
+    assert _by_month(days, daily) == pytest.approx({"2025-01": 800.0, "2025-02": 1200.0})
 
 
-def test_the_account_model_shares_a_period_as_the_worked_split_does():
-    """The model's daily shares of a period equal :func:`month_split` of its own prediction."""
+def test_a_period_s_days_add_up_to_the_billing_family_s_prediction():
+    """The days of a period add up to what the billing-period change-point family predicts for
+    it: the change-point model at the period's mean temperature, times its days."""
     temps = _weather("2022-01-01", "2024-12-31", seed=2)
     bills = _bills(_heating_account(temps), "2022-01-04", seed=3)
-    family = BillingPeriodChangePointModel("3PH").fit(BillingInputs(bills, temps))
+    family = BillingPeriodChangePointModel().fit(BillingInputs(bills, temps))
     model = AccountModel(change_point=family.change_point_model_)
-    cp = model.change_point
     days = pd.date_range("2024-11-17", "2024-12-16", freq="D")
     daily = model.daily(days, temps[days].to_numpy()[None, :], np.zeros(len(days), int))[0]
-    by_month = pd.Series(daily, index=days).groupby(days.strftime("%Y-%m")).sum()
-    expected = month_split(
-        days[0],
-        days[-1],
-        daily.sum(),
-        temps,
-        base_per_day=cp.intercept_,
-        heating_point=cp.change_points_[0],
-    )
-    assert by_month.to_dict() == pytest.approx(expected.to_dict(), rel=1e-10)
-    # the period's total is the change-point prediction at the period's mean temperature
-    mean = temps[days].mean()
-    assert daily.sum() == pytest.approx(len(days) * cp.predict([mean])[0], rel=1e-10)
+    period = pd.DataFrame({"period_start": [days[0]], "period_end": [days[-1]]})
+    predicted = family.predict(BillingInputs(period, temps))
+    assert daily.sum() == pytest.approx(predicted.iloc[0], rel=1e-10)
+    assert (daily > 0).all()
 
 
 def test_forecast_periods_follow_the_billing_cycle_from_the_last_bill():
