@@ -54,6 +54,11 @@ def inspect(args: argparse.Namespace) -> int:
 
 
 def new(args: argparse.Namespace) -> int:
+    if not args.meters and not args.bills:
+        raise InputError(
+            "a project needs meter readings or bills.",
+            hint="Give --meters FILE, --bills FILE, or both.",
+        )
     options = reading_options(args)
     files = read_project_files(args.meters, args.bills, args.weather, options, args.calendar)
     project = accounts_command.create_with_accounts(

@@ -46,7 +46,7 @@ def build_parser() -> argparse.ArgumentParser:
 
     new = sub.add_parser("new", help="create a project file from meter, bill and weather files")
     new.add_argument("project", help="the project file to create (.loadledger)")
-    new.add_argument("--meters", action="append", default=[], metavar="FILE", required=True,
+    new.add_argument("--meters", action="append", default=[], metavar="FILE",
                      help="a meter export (repeat for several files)")  # fmt: skip
     new.add_argument("--bills", action="append", default=[], metavar="FILE",
                      help="a utility bill file (repeatable)")  # fmt: skip

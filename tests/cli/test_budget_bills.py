@@ -258,3 +258,18 @@ def test_the_uci_household_budgeted_from_bills_alone_against_its_metered_months(
     high = np.array([month["quantiles"]["90"] for month in account["months"]])
     assert ((low <= actual) & (actual <= high)).sum() >= 3
     assert any("calendar alone" in caution for caution in report["cautions"])
+
+
+def test_a_project_of_bills_alone_is_created_and_budgeted(site):
+    project = site["folder"] / "bills-only.loadledger"
+    done = loadledger("new", project, "--timezone", "UTC", expect=2)
+    assert "needs meter readings or bills" in done.stderr
+    loadledger("new", project, "--bills", site["paths"]["annex"], "--weather", site["weather"],
+               "--timezone", "UTC")  # fmt: skip
+    report = json.loads(
+        loadledger("budget", project, "--start", "2025-10", "--paths", "200", "--json").stdout
+    )
+    assert report["as_of"] == site["bills"]["annex"]["Period end"].iloc[-1]  # the newest bill
+    (annex,) = report["meters"]
+    assert (annex["name"], annex["source"]) == ("annex", "bills")
+    assert report["utilities"][0]["meters"] == ["annex"]
