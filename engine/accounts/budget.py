@@ -150,6 +150,7 @@ def _plan(
     )
     if len(errors) == 0:
         errors = _fit_errors(model, fitted, used)
+        errors = errors[np.isfinite(errors)] if np.isfinite(errors).any() else np.zeros(1)
         source = "the fit's own errors on its bills (too few bills for a backtest)"
         cautions.append(
             f"Account '{name}' has too few bills to test its model on bills it did not see: "

@@ -153,6 +153,8 @@ def backtest_bills(
         bill = bills.iloc[position]
         actual = float(bill["quantity_kwh"])
         predicted = refit.period_total(bill["period_start"], bill["period_end"], temps)
+        if not predicted > 0:  # no relative error of a bill predicted at nothing
+            continue
         known = np.asarray(errors)
         errors.append(actual / predicted - 1.0)
         if len(origins) - number > CALIBRATION_BILLS or len(known) < MIN_ERRORS:
