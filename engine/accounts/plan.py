@@ -16,7 +16,7 @@ are.
 from __future__ import annotations
 
 from collections.abc import Sequence
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, field
 from typing import ClassVar
 
 import numpy as np
@@ -197,5 +197,4 @@ def account_calibration(pairs: pd.DataFrame, levels: Sequence[int]) -> Calibrati
     """The range check of the past bill-ahead budgets (None when there were none)."""
     if pairs.empty:
         return None
-    checked = calibrate(pairs, level_low=min(levels), level_high=max(levels))
-    return replace(checked, periods="bills")
+    return calibrate(pairs, level_low=min(levels), level_high=max(levels), periods="bills")
