@@ -275,6 +275,7 @@ def budget_project(
             workers=workers, scheduler=scheduler, progress=_share(progress, 0.05, 0.7),
         )  # fmt: skip
     names = [name for name in names if name in modelled]
+    accounts.measured_by_only(names)  # a meter left out cannot stand in for its account
     prices = bill_prices(project)
     own = accounts.meter_rates()
     plans = [_plan(site.meter(name), modelled[name], histories[name], site, request,
@@ -317,16 +318,18 @@ def budget_project(
         levels=request.levels,
         calibration={**past_calibrations, **calibrations(accounts)},
     )
-    run.assumptions.update(
-        {
-            "models": {name: modelled[name].model.label for name in names},
-            "model settings": {name: modelled[name].model.settings() for name in names},
-            "model error": f"out-of-sample errors of each meter's model refitted before each of "
-            f"the {ERROR_MONTHS} months before the as-of date (month-ahead, actual weather)",
-            "calibration": f"the {request.calibration_origins} most recent past month-ahead "
-            "budgets, each from the model and errors known before its month",
-        }
-    )
+    if plans:
+        run.assumptions.update(
+            {
+                "models": {name: modelled[name].model.label for name in names},
+                "model settings": {name: modelled[name].model.settings() for name in names},
+                "model error": "out-of-sample errors of each meter's model refitted before "
+                f"each of the {ERROR_MONTHS} months before the as-of date (month-ahead, actual "
+                "weather)",
+                "calibration": f"the {request.calibration_origins} most recent past month-ahead "
+                "budgets, each from the model and errors known before its month",
+            }
+        )
     own_price = set(own) & {plan.name for plan in plans if plan.rate is not None}
     describe(run, accounts, own_price)
     if no_weather:

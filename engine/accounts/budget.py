@@ -59,6 +59,12 @@ class Accounts:
     cautions: list[str] = field(default_factory=list)
     failures: list[AccountFailure] = field(default_factory=list)
 
+    def measured_by_only(self, meters: Collection[str]) -> None:
+        """Keep only ``meters`` (those budgeted) as measuring their accounts: an account whose
+        meters are all left out counts in the totals again."""
+        for plan in self.plans:
+            plan.metered_by = tuple(meter for meter in plan.metered_by if meter in meters)
+
     def meter_rates(self) -> dict[str, float]:
         """The price per kWh of the account each meter belongs to, where its bills give one
         (such a meter without a rate card is costed at it)."""
