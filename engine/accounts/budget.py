@@ -17,7 +17,7 @@ from datetime import date
 import numpy as np
 import pandas as pd
 
-from engine.accounts.model import AccountModel
+from engine.accounts.model import AccountModel, period_days
 from engine.accounts.paths import account_paths
 from engine.accounts.plan import (
     AccountPlan,
@@ -162,7 +162,6 @@ def _plan(
             f"Account '{name}' has too few bills to test its model on bills it did not see: "
             "its range comes from the fit's own errors and is likely too narrow."
         )
-    days = (bills["period_end"] - bills["period_start"]).dt.days + 1
     plan = AccountPlan(
         name=name,
         utility=utility,
@@ -171,7 +170,7 @@ def _plan(
         daily_temperature=used,
         errors=errors,
         errors_source=source,
-        cycle_days=int(np.median(days.iloc[-12:])),
+        cycle_days=int(np.median(period_days(bills).iloc[-12:])),
         calibration=account_calibration(pairs, levels),
         **_price(bills, currency),
     )

@@ -39,6 +39,11 @@ def _cycle(days: pd.DatetimeIndex) -> np.ndarray:
     return np.column_stack([np.ones(len(days)), np.cos(angle), np.sin(angle)])
 
 
+def period_days(bills: pd.DataFrame) -> pd.Series:
+    """Days in each billing period (both ends inclusive)."""
+    return (bills["period_end"] - bills["period_start"]).dt.days + 1
+
+
 def bill_days(bills: pd.DataFrame) -> tuple[pd.DatetimeIndex, np.ndarray]:
     """Every day the bills cover, and which bill (row position) each day belongs to."""
     start = pd.to_datetime(bills["period_start"]).to_numpy().astype("datetime64[D]")

@@ -22,7 +22,7 @@ from typing import ClassVar
 import numpy as np
 import pandas as pd
 
-from engine.accounts.model import MIN_BILLS, YEAR, AccountModel, bill_days
+from engine.accounts.model import MIN_BILLS, YEAR, AccountModel, bill_days, period_days
 from engine.budget.calibration import calibrate
 from engine.budget.result import Calibration
 from engine.errors import InputError
@@ -100,7 +100,7 @@ def checked_bills(account: str, bills: pd.DataFrame) -> tuple[pd.DataFrame, list
             "has no usable quantity.",
             hint="Enter the billed energy, or leave the bill out of the file.",
         )
-    days = (end - start).dt.days + 1
+    days = period_days(bills)
     if not a_complete_year(bills):
         raise TooFewBills(
             f"account '{account}' has {len(bills)} bill(s) covering {days.sum()} days before the "
@@ -131,7 +131,7 @@ def weather_covers(bills: pd.DataFrame, daily_temperature: pd.Series | None) -> 
 
 def a_complete_year(bills: pd.DataFrame) -> bool:
     """Whether the bills are enough to model: :data:`MIN_BILLS` covering :data:`YEAR` days."""
-    days = (bills["period_end"] - bills["period_start"]).dt.days + 1
+    days = period_days(bills)
     return len(bills) >= MIN_BILLS and days.sum() >= YEAR
 
 
@@ -143,7 +143,7 @@ def backtest_bills(
     Returns the errors (``actual ÷ predicted − 1``, oldest first) and the past budgets as
     :func:`engine.budget.calibrate` reads them (``actual kWh``, ``mean kWh``, ``P{level}``).
     """
-    days = (bills["period_end"] - bills["period_start"]).dt.days + 1
+    days = period_days(bills)
     covered = np.cumsum(days.to_numpy())
     origins = [i for i in range(MIN_BILLS, len(bills)) if covered[i - 1] >= YEAR]
     origins = origins[-ERROR_BILLS:]
