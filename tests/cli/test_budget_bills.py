@@ -260,11 +260,14 @@ def test_the_uci_household_budgeted_from_bills_alone_against_its_metered_months(
     assert any("calendar alone" in caution for caution in report["cautions"])
 
 
-def test_a_project_of_bills_alone_is_created_and_budgeted(site):
+def test_a_project_of_bills_alone_with_a_missing_bill_is_budgeted_with_a_caution(site):
     project = site["folder"] / "bills-only.loadledger"
     done = loadledger("new", project, "--timezone", "UTC", expect=2)
     assert "needs meter readings or bills" in done.stderr
-    loadledger("new", project, "--bills", site["paths"]["annex"], "--weather", site["weather"],
+    (site["folder"] / "gappy").mkdir()
+    gappy = site["folder"] / "gappy" / "annex.csv"
+    site["bills"]["annex"].drop(index=15).to_csv(gappy, index=False)  # a bill is missing
+    loadledger("new", project, "--bills", gappy, "--weather", site["weather"],
                "--timezone", "UTC")  # fmt: skip
     report = json.loads(
         loadledger("budget", project, "--start", "2025-10", "--paths", "200", "--json").stdout
@@ -273,3 +276,8 @@ def test_a_project_of_bills_alone_is_created_and_budgeted(site):
     (annex,) = report["meters"]
     assert (annex["name"], annex["source"]) == ("annex", "bills")
     assert report["utilities"][0]["meters"] == ["annex"]
+    before = site["bills"]["annex"].loc[14]  # the bill before the missing one
+    assert any(
+        "1 gap(s) between billing periods" in c and f"after {before['Period end']}" in c
+        for c in report["cautions"]
+    )
