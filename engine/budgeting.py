@@ -9,8 +9,13 @@ from dataclasses import dataclass, field
 from datetime import date
 from pathlib import Path
 
+import numpy as np
 import pandas as pd
 
+from engine.accounts.budget import Accounts, account_totals, calibrations, describe, plan_accounts
+from engine.accounts.membership import meter_accounts, metered_by
+from engine.accounts.paths import bill_only_totals
+from engine.accounts.plan import AccountPlan
 from engine.bill_prices import BillPrice, bill_prices
 from engine.budget import (
     BudgetRun,
@@ -19,7 +24,8 @@ from engine.budget import (
     as_of_cut,
     backtest_budget,
     plans_from_refits,
-    simulate_budget,
+    simulate_paths,
+    summarise,
 )
 from engine.budget.refits import CALIBRATION_MONTHS, ERROR_MONTHS
 from engine.budget.summary import check_levels
@@ -103,6 +109,7 @@ class ProjectBudget:
     plans: list[MeterPlan] = field(default_factory=list)
     weather: WeatherAssumption | None = None
     calendar: CampusCalendar | None = None
+    accounts: list[AccountPlan] = field(default_factory=list)  # the bill accounts budgeted
 
 
 def budget_request(
@@ -215,11 +222,15 @@ def _daily_frame(table: dict) -> pd.DataFrame:
 
 
 def last_reading_day(project: Project) -> date:
-    """The latest local day holding a reading of any meter: the default as-of date."""
+    """The latest local day holding a reading of any meter: the default as-of date (for a
+    project of bill accounts only, the last day of the newest bill)."""
     lasts = [pd.Timestamp(meter["last"]) for meter in project.summary()["meters"]]
-    if not lasts:
+    if lasts:
+        return max(lasts).tz_convert(project.timezone).date()
+    bills = project.load_bills()
+    if bills.empty:
         raise InputError("the project has no meters.", hint="Import meter files first.")
-    return max(lasts).tz_convert(project.timezone).date()
+    return pd.Timestamp(bills["period_end"].max()).date()
 
 
 def budget_project(
@@ -230,6 +241,7 @@ def budget_project(
     workers: int | None = None,
     scheduler: str | None = None,
     progress: Progress | None = None,
+    with_accounts: bool | None = None,
 ) -> ProjectBudget:
     """Budget the project's meters, each with its recommended model, from the as-of date.
 
@@ -243,63 +255,90 @@ def budget_project(
     assumption or tariff reuses it; meters are modelled side by side (``workers`` local
     processes, by default one per core when the site is large enough to repay them, or the
     Dask scheduler at ``scheduler``).
+
+    The project's bill accounts (:mod:`engine.accounts`) are budgeted beside the meters
+    unless ``with_accounts`` is False (by default they are when no ``meters`` are named).
     """
     step(progress, 0.0, "preparing the meters")
+    with_accounts = not meters if with_accounts is None else with_accounts
     site = prepare_site(project, meters or None)
     names = list(site.meters)
     cut = as_of_cut(request.as_of, project.timezone)
     hourly = site.hourly_before(cut)
     weather, no_weather = _weather(request, hourly, project.timezone)
+    accounts = _accounts(project, request, hourly, weather, names) if with_accounts else Accounts()
     histories = {name: site.meter(name).history(cut, weather=not no_weather) for name in names}
-    modelled, scorecards, failures = _meter_models(
-        project, site, histories, cut, request, no_weather, hourly,
-        workers=workers, scheduler=scheduler, progress=_share(progress, 0.05, 0.7),
-    )  # fmt: skip
+    modelled, scorecards, failures = {}, {}, []
+    if names:
+        modelled, scorecards, failures = _meter_models(
+            project, site, histories, cut, request, no_weather, hourly,
+            workers=workers, scheduler=scheduler, progress=_share(progress, 0.05, 0.7),
+        )  # fmt: skip
     names = [name for name in names if name in modelled]
+    accounts.measured_by_only(names)  # a meter left out cannot stand in for its account
     prices = bill_prices(project)
-    plans = [_plan(site.meter(name), modelled[name], histories[name], site, request, prices)
+    own = accounts.meter_rates()
+    plans = [_plan(site.meter(name), modelled[name], histories[name], site, request,
+                   _price(site.meter(name).utility, request, prices, own.get(name)))
              for name in names]  # fmt: skip
-    refits = {name: modelled[name].refits for name in names}
-    past = backtest_budget(
-        plans_from_refits(plans, refits),
-        histories,
-        request.calibration_origins,
-        weather=weather,
+    if not plans and not accounts.plans:
+        reason = accounts.failures[0].reason if accounts.failures else "it has no meters"
+        raise InputError(f"the project has nothing to budget: {reason}.",
+                         hint="Import meter readings or at least a year of bills.")  # fmt: skip
+    past_pairs, past_calibrations = None, {}
+    if plans:
+        past = backtest_budget(
+            plans_from_refits(plans, {name: modelled[name].refits for name in names}),
+            histories,
+            request.calibration_origins,
+            weather=weather,
+            levels=request.levels,
+            paths=min(request.paths, 300),
+            error_days=ERROR_DAYS,
+            rng=request.rng,
+            progress=_share(progress, 0.7, 0.9),
+        )
+        past_pairs, past_calibrations = past.pairs, past.calibrations()
+        totals = simulate_paths(
+            plans,
+            request.months,
+            request.as_of,
+            weather,
+            paths=request.paths,
+            error_days=ERROR_DAYS,
+            rng=request.rng,
+            progress=_share(progress, 0.9, 1.0),
+        )
+    else:
+        totals = bill_only_totals(request.months, request.as_of, weather, project.timezone,
+                                  request.paths, np.random.default_rng(request.rng))  # fmt: skip
+    totals.meters += account_totals(accounts, totals, request.rng)
+    run = summarise(
+        totals,
         levels=request.levels,
-        paths=min(request.paths, 300),
-        error_days=ERROR_DAYS,
-        rng=request.rng,
-        progress=_share(progress, 0.7, 0.9),
+        calibration={**past_calibrations, **calibrations(accounts)},
     )
-    run = simulate_budget(
-        plans,
-        request.months,
-        request.as_of,
-        weather,
-        levels=request.levels,
-        paths=request.paths,
-        calibration=past.calibrations(),
-        error_days=ERROR_DAYS,
-        rng=request.rng,
-        progress=_share(progress, 0.9, 1.0),
-    )
-    run.assumptions.update(
-        {
-            "models": {name: modelled[name].model.label for name in names},
-            "model settings": {name: modelled[name].model.settings() for name in names},
-            "model error": f"out-of-sample errors of each meter's model refitted before each of "
-            f"the {ERROR_MONTHS} months before the as-of date (month-ahead, actual weather)",
-            "calibration": f"the {request.calibration_origins} most recent past month-ahead "
-            "budgets, each from the model and errors known before its month",
-        }
-    )
+    if plans:
+        run.assumptions.update(
+            {
+                "models": {name: modelled[name].model.label for name in names},
+                "model settings": {name: modelled[name].model.settings() for name in names},
+                "model error": "out-of-sample errors of each meter's model refitted before "
+                f"each of the {ERROR_MONTHS} months before the as-of date (month-ahead, actual "
+                "weather)",
+                "calibration": f"the {request.calibration_origins} most recent past month-ahead "
+                "budgets, each from the model and errors known before its month",
+            }
+        )
+    own_price = set(own) & {plan.name for plan in plans if plan.rate is not None}
+    describe(run, accounts, own_price)
     if no_weather:
         run.cautions.append(no_weather)
     run.cautions += [
         f"Meter '{failure.name}' is left out of this budget: {failure.reason}"
         for failure in failures
     ]
-    priced_by_bills = {plan.utility for plan in plans if plan.rate is not None}
+    priced_by_bills = {p.utility for p in plans if p.rate is not None and p.name not in own_price}
     if priced_by_bills:
         run.assumptions["prices from bills"] = {
             utility: prices[utility].sentence(request.currency)
@@ -311,11 +350,38 @@ def budget_project(
         quality={name: site.meter(name).quality() for name in names},
         steps=[s for name in names for s in site.meter(name).steps],
         scorecards=scorecards,
-        data_range={name: _range(histories[name]) for name in names},
-        past_budgets=past.pairs,
+        data_range={name: _range(histories[name]) for name in names}
+        | {plan.name: _bill_range(plan.bills) for plan in accounts.plans},
+        past_budgets=past_pairs,
         plans=plans,
         weather=weather,
         calendar=site.calendar,
+        accounts=accounts.plans,
+    )
+
+
+def _accounts(
+    project: Project,
+    request: BudgetRequest,
+    hourly: pd.Series | None,
+    weather: WeatherAssumption,
+    names: list[str],
+) -> Accounts:
+    """The project's bill accounts made ready (their checks and models come before the meters'
+    slower work, so a bad bill file stops the budget at once)."""
+    bills = project.load_bills()
+    if bills.empty:
+        return Accounts()
+    return plan_accounts(
+        bills,
+        request.as_of,
+        hourly,
+        project.timezone,
+        with_weather=weather.kind != "none",
+        levels=request.levels,
+        currency=request.currency,
+        metered_by=metered_by(meter_accounts(project), names),
+        taken=names,
     )
 
 
@@ -410,7 +476,7 @@ def _plan(
     history: ModelInputs,
     site: PreparedSite,
     request: BudgetRequest,
-    prices: dict[str, BillPrice],
+    price: dict,
 ) -> MeterPlan:
     """The meter's budget plan: its model fitted on the history, its refits' errors, price."""
     return MeterPlan(
@@ -420,15 +486,19 @@ def _plan(
         history,
         calendar=site.calendar,
         residuals=made.refits.errors,
-        **_price(ready.utility, request, prices),
+        **price,
     )
 
 
-def _price(utility: str, request: BudgetRequest, prices: dict[str, BillPrice]) -> dict:
-    """How a meter of ``utility`` is costed: the rate card (electricity), else its utility's
-    bills, else not at all."""
+def _price(
+    utility: str, request: BudgetRequest, prices: dict[str, BillPrice], account: float | None
+) -> dict:
+    """How a meter of ``utility`` is costed: the rate card (electricity), else the bills of the
+    account it belongs to, else its utility's bills, else not at all."""
     if utility == "electricity" and request.tariff is not None:
         return {"tariff": request.tariff}
+    if account is not None:
+        return {"rate": account, "currency": request.currency}
     if utility in prices:
         return {"rate": prices[utility].rate, "currency": request.currency}
     return {}
@@ -464,6 +534,10 @@ def _weather(
     if request.weather == "past-years":
         return WeatherAssumption.past_years(temps), ""
     return WeatherAssumption.typical(temps), ""
+
+
+def _bill_range(bills: pd.DataFrame) -> tuple[str, str]:
+    return (f"{bills['period_start'].iloc[0]:%Y-%m-%d}", f"{bills['period_end'].iloc[-1]:%Y-%m-%d}")
 
 
 def _range(history: ModelInputs) -> tuple[str, str]:

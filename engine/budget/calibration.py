@@ -87,6 +87,7 @@ def calibrate(
     level_high: int = 90,
     tolerance: float | None = None,
     min_months: int = MIN_MONTHS,
+    periods: str = "months",
 ) -> Calibration:
     """The coverage of past month-total ranges and, when it is off, a scale that corrects it.
 
@@ -102,6 +103,8 @@ def calibrate(
         by default decided by the binomial tail probability instead (see the module notes).
     min_months : int, default 12
         Fewer past months are reported but not corrected.
+    periods : {"months", "bills"}, default "months"
+        What the past budgets covered, for the words (bill accounts check past bills).
 
     Returns
     -------
@@ -126,10 +129,12 @@ def calibrate(
     nominal = f"{level_high - level_low} %"
 
     def unchanged(reason: str) -> Calibration:
-        return Calibration(level_low, level_high, held, tried, 1.0, f"not corrected: {reason}")
+        return Calibration(
+            level_low, level_high, held, tried, 1.0, f"not corrected: {reason}", periods=periods
+        )
 
     if tried < min_months:
-        return unchanged(f"{tried} past months are fewer than the {min_months} needed")
+        return unchanged(f"{tried} past {periods} are fewer than the {min_months} needed")
     if tolerance is None:
         few = binom.cdf(held, tried, coverage)  # this many held, or fewer
         many = binom.sf(held - 1, tried, coverage)  # this many held, or more
@@ -145,12 +150,12 @@ def calibrate(
         return unchanged(f"{held} of {tried} held, but the ranges have no width to scale")
     method = (
         f"conformal-style scaling of the half-widths around the mean by the {nominal} quantile "
-        f"of the misses of the {tried} most recent past months"
+        f"of the misses of the {tried} most recent past {periods}"
     )
     if scale > MAX_SCALE:
-        method += f", capped at {MAX_SCALE:g} (the past months asked for {scale:.1f})"
+        method += f", capped at {MAX_SCALE:g} (the past {periods} asked for {scale:.1f})"
         scale = MAX_SCALE
-    return Calibration(level_low, level_high, held, tried, scale, method)
+    return Calibration(level_low, level_high, held, tried, scale, method, periods=periods)
 
 
 def rolling_calibration(

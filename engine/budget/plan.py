@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Any
+from typing import Any, ClassVar
 
 import numpy as np
 import pandas as pd
@@ -43,6 +43,12 @@ class MeterPlan:
     scores : dict
         The model's backtest scorecard, passed through to the result.
     """
+
+    #: Where the meter's figures come from (bill accounts say "bills", see engine.accounts).
+    source: ClassVar[str] = "readings"
+    #: Meters always count in roll-ups; a bill account its meters measure does not.
+    in_roll_ups: ClassVar[bool] = True
+    metered_by: ClassVar[tuple[str, ...]] = ()
 
     name: str
     utility: str

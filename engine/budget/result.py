@@ -78,16 +78,22 @@ class MeterBudget:
     daily: pd.DataFrame  # index local date; columns "mean", "P10", "P50", "P90" ... (kWh)
     unit: str = "kWh"
     scores: dict[str, Any] = field(default_factory=dict)  # the model's backtest scorecard
+    source: str = "readings"  # or "bills": an account known only through its bills
+    metered_by: list[str] = field(default_factory=list)  # an account's meters (they count)
 
     def to_json(self) -> dict[str, Any]:
-        return {
+        out = {
             "name": self.name,
             "utility": self.utility,
             "unit": self.unit,
             "model": self.model,
+            "source": self.source,
             "months": [m.to_json() for m in self.months],
             "total": self.total.to_json(),
         }
+        if self.source == "bills":
+            out["metered_by"] = list(self.metered_by)
+        return out
 
     @classmethod
     def from_json(
@@ -107,6 +113,8 @@ class MeterBudget:
             daily=pd.DataFrame() if daily is None else daily,
             unit=data["unit"],
             scores=dict(scores or {}),
+            source=data.get("source", "readings"),
+            metered_by=list(data.get("metered_by", [])),
         )
 
 
@@ -201,6 +209,8 @@ class Calibration:
     #: The P50's skill against the same month last year, and against a seasonal naive budget.
     vs_last_year: Skill | None = None
     vs_seasonal_naive: Skill | None = None
+    #: What the past budgets covered: "months" (meters) or "bills" (bill accounts).
+    periods: str = "months"
 
     @property
     def coverage(self) -> float:
@@ -208,9 +218,10 @@ class Calibration:
 
     def sentence(self) -> str:
         nominal = self.level_high - self.level_low
+        each = "month" if self.periods == "months" else "bill"
         text = (
-            f"the {nominal} % range held the actual month total in {self.held} of "
-            f"{self.tried} past months"
+            f"the {nominal} % range held the actual {each} total in {self.held} of "
+            f"{self.tried} past {self.periods}"
         )
         if self.scale != 1.0:
             text += (
@@ -232,6 +243,7 @@ class Calibration:
             "summary": self.sentence(),
             "skill_vs_last_year": _skill_json(self.vs_last_year),
             "skill_vs_seasonal_naive": _skill_json(self.vs_seasonal_naive),
+            "periods": self.periods,
         }
 
     @classmethod
@@ -246,6 +258,7 @@ class Calibration:
             data["method"],
             _skill_from_json(data.get("skill_vs_last_year")),
             _skill_from_json(data.get("skill_vs_seasonal_naive")),
+            data.get("periods", "months"),
         )
 
 

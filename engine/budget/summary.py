@@ -72,8 +72,10 @@ def check_levels(levels: Sequence[int]) -> tuple[int, ...]:
 def roll_up_groups(plans: Sequence[MeterPlan]) -> list[tuple[str, str, list[str]]]:
     """``(kind, name, meter names)`` of a run's roll-ups: each utility, then the campus.
 
-    The campus is every meter and is only formed from two meters on.
+    The campus is every meter and is only formed from two meters on. A bill account that
+    meters measure is left out: its meters count instead.
     """
+    plans = [plan for plan in plans if plan.in_roll_ups]
     by_utility: dict[str, list[str]] = {}
     for plan in plans:
         by_utility.setdefault(plan.utility, []).append(plan.name)
@@ -280,6 +282,8 @@ def summarise(
                 total=total,
                 daily=_daily_table(member.days, totals.window.days, levels),
                 scores=dict(plan.scores),
+                source=plan.source,
+                metered_by=list(plan.metered_by),
             )
         )
     by_name = {member.meter.plan.name: member for member in adjusted}

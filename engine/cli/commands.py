@@ -17,14 +17,14 @@ from engine.cleaning import (
     apply_recommended_everywhere,
     review_meter,
 )
-from engine.cli import text
+from engine.cli import accounts_command, text
 from engine.cli.budget_options import parse_as_of, request_from_args
 from engine.cli.progress_line import terminal_progress
 from engine.errors import InputError
 from engine.export.finance_workbook import write_finance_workbook
 from engine.export.profile_workbook import write_profile_workbook
 from engine.export.tracking_workbook import write_tracking_workbook
-from engine.importing import create_project, read_project_files
+from engine.importing import read_project_files
 from engine.meter_labels import (
     Labels,
     meter_label,
@@ -65,10 +65,15 @@ def inspect(args: argparse.Namespace) -> int:
 
 
 def new(args: argparse.Namespace) -> int:
+    if not args.meters and not args.bills:
+        raise InputError(
+            "a project needs meter readings or bills.",
+            hint="Give --meters FILE, --bills FILE, or both.",
+        )
     options = reading_options(args)
     files = read_project_files(args.meters, args.bills, args.weather, options, args.calendar)
-    project = create_project(
-        args.project, files, timezone=options.timezone, overwrite=args.overwrite
+    project = accounts_command.create_with_accounts(
+        args.project, files, args, overwrite=args.overwrite
     )
     with project:
         report = {"project": str(project.path), "files": files.reports(),
@@ -186,15 +191,20 @@ def fit(args: argparse.Namespace) -> int:
 
 
 def budget(args: argparse.Namespace) -> int:
-    if bool(args.project) == bool(args.meters):
+    if bool(args.project) == bool(args.meters or args.bills):
         raise InputError(
-            "give either a project file or --meters files for a one-shot budget.",
+            "give either a project file or --meters/--bills files for a one-shot budget.",
             hint="e.g. loadledger budget campus.loadledger --start 2027-01",
         )
     if args.adopt and not args.project:
         raise InputError(
             "a one-shot budget cannot be adopted: it keeps no project file.",
             hint="Create a project with loadledger new, then budget it with --adopt.",
+        )
+    if args.project and (args.bills or args.meter_account):
+        raise InputError(
+            "--bills and --meter-account go with a one-shot budget; a project keeps its own.",
+            hint="Say which account a meter belongs to with loadledger accounts PROJECT.",
         )
     if args.replace and not args.adopt:
         raise InputError("--replace goes with --adopt NAME.", hint="e.g. --adopt FY2026 --replace")
@@ -204,9 +214,9 @@ def budget(args: argparse.Namespace) -> int:
     with tempfile.TemporaryDirectory(prefix="loadledger-") as folder:
         options = ReadOptions(timezone=args.timezone)
         weather = [args.weather_file] if args.weather_file else []
-        files = read_project_files(args.meters, (), weather, options)
+        files = read_project_files(args.meters, args.bills, weather, options)
         path = Path(folder) / "one-shot.loadledger"
-        with create_project(path, files, timezone=args.timezone) as project:
+        with accounts_command.create_with_accounts(path, files, args) as project:
             apply_recommended_everywhere(project)
             return _budget_report(args, project)
 
@@ -367,6 +377,10 @@ def meter(args: argparse.Namespace) -> int:
         }
     _emit(args, report, text.meter_report)
     return 0
+
+
+def accounts(args: argparse.Namespace) -> int:
+    return accounts_command.accounts(args, _emit)
 
 
 def info(args: argparse.Namespace) -> int:

@@ -16,7 +16,7 @@ from collections.abc import Sequence
 
 from engine import __version__
 from engine.budgeting import DEFAULT_PATHS, DEFAULT_WEATHER
-from engine.cli import commands
+from engine.cli import accounts_command, commands
 from engine.crash_report import write_report
 from engine.errors import InputError, ProjectError
 from engine.wizard import DEFAULT_ORIGINS
@@ -46,7 +46,7 @@ def build_parser() -> argparse.ArgumentParser:
 
     new = sub.add_parser("new", help="create a project file from meter, bill and weather files")
     new.add_argument("project", help="the project file to create (.loadledger)")
-    new.add_argument("--meters", action="append", default=[], metavar="FILE", required=True,
+    new.add_argument("--meters", action="append", default=[], metavar="FILE",
                      help="a meter export (repeat for several files)")  # fmt: skip
     new.add_argument("--bills", action="append", default=[], metavar="FILE",
                      help="a utility bill file (repeatable)")  # fmt: skip
@@ -55,6 +55,7 @@ def build_parser() -> argparse.ArgumentParser:
     new.add_argument("--calendar", metavar="FILE",
                      help="the campus calendar: named periods with first and last day")  # fmt: skip
     new.add_argument("--overwrite", action="store_true", help="replace an existing project file")
+    accounts_command.add_option(new)
     _reading_options(new)
     _json_option(new)
     new.set_defaults(run=commands.new)
@@ -152,6 +153,9 @@ def build_parser() -> argparse.ArgumentParser:
     budget.add_argument("--weather-file", metavar="FILE",
                         help="one-shot: the weather-station history")  # fmt: skip
     budget.add_argument("--timezone", metavar="TZ", help="one-shot: the site's time zone")
+    budget.add_argument("--bills", action="append", default=[], metavar="FILE",
+                        help="one-shot: a bill account's bills (repeatable)")  # fmt: skip
+    accounts_command.add_option(budget)
     budget.add_argument(
         "--adopt",
         metavar="NAME",
@@ -223,6 +227,21 @@ def build_parser() -> argparse.ArgumentParser:
     )
     _json_option(meter)
     meter.set_defaults(run=commands.meter)
+
+    accounts = sub.add_parser(
+        "accounts", help="list the bill accounts and say which account each meter belongs to"
+    )
+    accounts.add_argument("project")
+    accounts_command.add_option(accounts)
+    accounts.add_argument(
+        "--forget",
+        action="append",
+        default=[],
+        metavar="METER",
+        help="the meter no longer belongs to an account (repeatable)",
+    )
+    _json_option(accounts)
+    accounts.set_defaults(run=commands.accounts)
 
     info = sub.add_parser("info", help="summarise a project file")
     info.add_argument("project")

@@ -190,6 +190,8 @@ def budget_report(report: dict) -> str:
     for group in groups:
         total = group["total"]
         label = group.get("display_name") or group.get("name") or group.get("group")
+        if group.get("source") == "bills":
+            label += " (bills)" if not group["metered_by"] else " (bills, not in totals)"
         spread = " / ".join(f"P{level} {_num(total['quantiles'][level])}" for level in levels)
         line = f"  {label:<28} {spread} kWh"
         if "in_read_unit" in group:

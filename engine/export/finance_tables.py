@@ -15,7 +15,7 @@ from typing import Any
 
 import pandas as pd
 
-from engine.budget.result import BudgetRun, PeriodTotal
+from engine.budget.result import BudgetRun, MeterBudget, PeriodTotal
 from engine.cleaning.steps import STEP_KINDS
 from engine.errors import InputError
 from engine.export.sheets import SHARE_FORMAT
@@ -459,6 +459,7 @@ def meter_facts(
     rows = []
     for meter in run.meters:
         facts = [("utility", meter.utility.replace("_", " ")), ("model", meter.model)]
+        facts += _account_facts(meter)
         facts += [
             (_label(key), in_words(value[meter.name]))
             for key, value in per_meter.items()
@@ -466,14 +467,15 @@ def meter_facts(
         ]
         if meter.name in data_range:
             first, last = data_range[meter.name]
-            facts.append(("readings used", f"{first} to {last}"))
+            used = "bills used" if meter.source == "bills" else "readings used"
+            facts.append((used, f"{first} to {last}"))
         check = run.calibration.get(meter.name)
         if check is not None:
             words = check.sentence()  # says how the range was corrected, if it was
             facts.append(("range in backtests", words[:1].upper() + words[1:]))
             if check.scale == 1.0:
                 facts.append(("range correction", check.method))
-        facts.append(("priced by", _pricing(run, meter.utility, meter.total, bill_prices)))
+        facts.append(("priced by", _pricing(run, meter, bill_prices)))
         facts += [("caution", c) for c in run.cautions if meter.name in c]
         if labels and meter.name in labels and labels[meter.name].display_name:
             facts.insert(0, ("column in the meter file", meter.name))
@@ -485,13 +487,31 @@ def _per_meter(value: Any, meters: set[str]) -> bool:
     return isinstance(value, Mapping) and bool(value) and set(map(str, value)) <= meters
 
 
-def _pricing(
-    run: BudgetRun, utility: str, total: PeriodTotal, bill_prices: Mapping[str, Any]
-) -> str:
-    if total.cost is None:
+def _account_facts(meter: MeterBudget) -> list[tuple[str, str]]:
+    """Where a bill account's figures come from, and whether the totals count it."""
+    if meter.source != "bills":
+        return []
+    facts = [("source", "bills: an account known only through its billing periods")]
+    if meter.metered_by:
+        facts.append(
+            (
+                "counted in totals",
+                f"no: measured by {', '.join(meter.metered_by)}, which count instead",
+            )
+        )
+    return facts
+
+
+def _pricing(run: BudgetRun, meter: MeterBudget, bill_prices: Mapping[str, Any]) -> str:
+    if meter.total.cost is None:
         return "not priced: energy only"
-    if utility in bill_prices:
-        return f"prices from bills: {in_words(bill_prices[utility])}"
+    accounts = run.assumptions.get("bill accounts") or {}
+    if meter.source == "bills" and meter.name in accounts.get("prices", {}):
+        return f"its own bills: {accounts['prices'][meter.name]}"
+    if meter.name in accounts.get("meters priced by their account", {}):
+        return f"its account's bills: {accounts['meters priced by their account'][meter.name]}"
+    if meter.utility in bill_prices:
+        return f"prices from bills: {in_words(bill_prices[meter.utility])}"
     return f"tariff: {run.tariff}" if run.tariff else "priced"
 
 

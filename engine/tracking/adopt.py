@@ -6,7 +6,8 @@ issued (the run's JSON: months, ranges, cost, calibration, assumptions, cautions
 (as-of date, months, weather assumption, levels, paths, seed), the rate card, the campus
 calendar, and per meter the fitted model as JSON with its interval, whether it used the
 outdoor temperature, its price, and per budget day the budget's mean and the model's
-prediction under the assumed weather (the mean over the weather scenarios the budget drew).
+prediction under the assumed weather (the mean over the weather scenarios the budget drew);
+per bill account (``accounts``) the same, with its forecast billing period on each day.
 Later imports, cleaning and refits change other tables only.
 """
 
@@ -17,6 +18,8 @@ from typing import Any
 import numpy as np
 
 import engine
+from engine.accounts.paths import expected_days, layout, scenario_temperature
+from engine.accounts.plan import AccountPlan
 from engine.budget import BudgetWindow, MeterPlan, as_of_cut
 from engine.budget.meter_grid import MeterGrid, native_interval, predictions, simulation_step
 from engine.budget.result import BudgetRun
@@ -115,6 +118,10 @@ def adopted_document(outcome: ProjectBudget, request: BudgetRequest, timezone: s
         "meters": {
             plan.name: _meter_document(plan, outcome, window, scenarios) for plan in outcome.plans
         },
+        "accounts": {
+            plan.name: _account_document(plan, outcome, window, scenarios, request)
+            for plan in outcome.accounts
+        },
     }
 
 
@@ -147,6 +154,42 @@ def _meter_document(
         "currency": plan.price_currency,
         "priced_by": "tariff" if plan.tariff else ("bills" if plan.rate is not None else None),
         "days": [f"{day:%Y-%m-%d}" for day in window.days],
+        "daily_mean_kwh": _plain(daily_mean),
+        "assumed_weather_kwh": _plain(assumed),
+    }
+
+
+def _account_document(
+    plan: AccountPlan,
+    outcome: ProjectBudget,
+    window: BudgetWindow,
+    scenarios: WeatherScenarios,
+    request: BudgetRequest,
+) -> dict[str, Any]:
+    """A bill account's part: its model, price, forecast billing periods, and per budget day
+    the budget's mean and the model under the assumed weather (known bills' own energy on the
+    days they covered)."""
+    budget = next(meter for meter in outcome.run.meters if meter.name == plan.name)
+    where = layout(plan, window.days)
+    assumed = np.nan_to_num(where.known)
+    period = np.full(len(window.days), -1)
+    if where.forecast.size:
+        temperature = scenario_temperature(plan, window, scenarios, request.as_of)
+        assumed[where.forecast] = expected_days(plan, where, window, temperature).mean(axis=0)
+        period[where.forecast] = where.period
+    daily_mean = budget.daily["mean"].reindex(window.days).to_numpy(dtype=np.float64)
+    return {
+        "source": "bills",
+        "account": plan.account or plan.name,
+        "utility": plan.utility,
+        "model": plan.model.to_dict(),
+        "model_label": plan.model.label,
+        "uses_temperature": plan.model.uses_temperature,
+        "rate": plan.rate,
+        "currency": plan.price_currency,
+        "priced_by": "bills" if plan.rate is not None else None,
+        "days": [f"{day:%Y-%m-%d}" for day in window.days],
+        "forecast_period": [int(p) for p in period],
         "daily_mean_kwh": _plain(daily_mean),
         "assumed_weather_kwh": _plain(assumed),
     }

@@ -38,13 +38,14 @@ the actuals to date plus the forecast of the rest, beside the adopted total.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from datetime import date
 from typing import Any
 
 import numpy as np
 import pandas as pd
 
+from engine.accounts.budget import daily_means
 from engine.bill_prices import BillPrice, bill_prices
 from engine.budget import BudgetRun, BudgetWindow, as_of_cut
 from engine.budget.summary import PEAK_CAUTION
@@ -57,7 +58,7 @@ from engine.budgeting import (
 )
 from engine.calendar import CampusCalendar
 from engine.errors import InputError
-from engine.prepared_site import ReadyMeter, prepare_site
+from engine.prepared_site import PreparedSite, ReadyMeter, prepare_site
 from engine.progress import Progress, step
 from engine.project import Project
 from engine.tariffs import Tariff, tariff_from_dict
@@ -69,6 +70,7 @@ from engine.tracking.actuals import (
     tariff_cost,
 )
 from engine.tracking.adopt import LAYOUT
+from engine.tracking.bill_actuals import BilledDays, billed_days
 
 COMPLETE, UNDER_WAY, NOT_BEGUN = "complete", "under way", "not begun"
 IDENTITY = (
@@ -181,12 +183,29 @@ def track_budget(
         meters.append(report)
         days_of[budget["name"]], records_of[budget["name"]] = days, report["months"]
         cautions += meter_cautions
+    covered_of = {}
+    for budget in (m for m in run["meters"] if m["name"] in doc.get("accounts", {})):
+        tracked = _track_account(project, budget, doc["accounts"][budget["name"]], site, scene)
+        if tracked is None:
+            cautions.append(
+                f"The bills of account '{budget['name']}' are no longer in the project; it is "
+                "left out of the tracking."
+            )
+            continue
+        report, days, covered, account_cautions = tracked
+        meters.append(report)
+        days_of[budget["name"]], records_of[budget["name"]] = days, report["months"]
+        covered_of[budget["name"]] = covered
+        cautions += account_cautions
     cautions += _weather_gap_cautions(meters)
-    groups = _roll_ups(run, days_of, records_of, scene)
-    outlook, outlook_cautions = _outlook(
-        project, doc, name, as_of, names, status, workers, scheduler, progress
+    groups = _roll_ups(run, days_of, records_of, scene, covered_of)
+    over = all(state == COMPLETE for state in status) and all(
+        record["complete"] for report in meters for record in report["months"]
     )
-    _attach_outlook(meters, groups, outlook, run, all(state == COMPLETE for state in status))
+    outlook, outlook_cautions = _outlook(
+        project, doc, name, as_of, names, over, workers, scheduler, progress
+    )
+    _attach_outlook(meters, groups, outlook, run, over)
     step(progress, 1.0, "tracking ready")
     return {
         "budget": name,
@@ -210,8 +229,9 @@ def track_budget(
 def _meters_present(project: Project, name: str, run: dict) -> tuple[list[str], list[str]]:
     """The adopted budget's meters still in the project, and the tracking's first cautions."""
     present = set(project.meter_names())
-    names = [meter["name"] for meter in run["meters"] if meter["name"] in present]
-    if not names:
+    metered = [meter for meter in run["meters"] if meter.get("source", "readings") == "readings"]
+    names = [meter["name"] for meter in metered if meter["name"] in present]
+    if not names and len(metered) == len(run["meters"]):
         raise InputError(
             f"none of the meters of the budget '{name}' is in the project any more.",
             hint="Import the meters again, or adopt a new budget.",
@@ -220,7 +240,7 @@ def _meters_present(project: Project, name: str, run: dict) -> tuple[list[str], 
     gone = [
         f"Meter '{meter['name']}' of the adopted budget is no longer in the project; it is "
         "left out of the tracking."
-        for meter in run["meters"]
+        for meter in metered
         if meter["name"] not in present
     ]
     return names, [PEAK_CAUTION, *gone]
@@ -262,19 +282,106 @@ def _track_meter(
 
 
 def _roll_ups(
-    run: dict, days_of: dict[str, _Days], records_of: dict[str, list[dict]], scene: _Scene
+    run: dict,
+    days_of: dict[str, _Days],
+    records_of: dict[str, list[dict]],
+    scene: _Scene,
+    covered_of: dict[str, np.ndarray],
 ) -> dict[str, dict]:
-    """Each utility's and the campus's tracking, from their meters' days and cost effects."""
+    """Each utility's and the campus's tracking, from their meters' days and cost effects.
+
+    A roll-up with bill accounts counts only the days every account's bills cover."""
     groups = {}
     for group in [*run["utilities"], *([run["campus"]] if run["campus"] else [])]:
         members = [member for member in group["meters"] if member in days_of]
         if not members:
             continue
         days = sum((days_of[m] for m in members[1:]), days_of[members[0]])
-        records = _months(group["months"], scene, days, None)
+        counted = scene.counted.copy()
+        for member in members:
+            counted &= covered_of.get(member, counted)
+        records = _months(group["months"], _counting(scene, counted), days, None)
         _roll_up_costs(records, [records_of[m] for m in members])
         groups[group["group"]] = _group_report(group, records, "group")
     return groups
+
+
+def _counting(scene: _Scene, counted: np.ndarray) -> _Scene:
+    """The scene with only ``counted`` days known: a month is complete when all of its days
+    are, under way when some are."""
+    if np.array_equal(counted, scene.counted):
+        return scene
+    month = scene.window.month_of_day()
+    status = []
+    for number in range(len(scene.window.months)):
+        inside = counted[month == number]
+        status.append(COMPLETE if inside.all() else UNDER_WAY if inside.any() else NOT_BEGUN)
+    return replace(scene, counted=counted, status=status)
+
+
+def _track_account(
+    project: Project, budget: dict, adopted: dict, site: PreparedSite, scene: _Scene
+) -> tuple[dict, _Days, np.ndarray, list[str]] | None:
+    """A bill account's tracking: its report, days, the days its bills cover, its cautions
+    (None when its bills are gone from the project)."""
+    name = budget["name"]
+    try:
+        bills = project.load_bills(adopted["account"])
+    except KeyError:
+        return None
+    window = scene.window
+    as_of = pd.Timestamp(scene.cut.tz_convert(window.timezone).date()) - pd.Timedelta(days=1)
+    temperature = daily_means(site.hourly_before(scene.cut), window.timezone)
+    billed = billed_days(adopted, bills, temperature, window, as_of)
+    covered = billed.covered & scene.counted
+    account_scene = _counting(scene, covered)
+    assumed = np.asarray(adopted["assumed_weather_kwh"], dtype=np.float64)
+    cautions = []
+    if billed.happened is None:
+        cautions.append(
+            f"The weather effect of account '{name}' is unknown: its adopted model uses the "
+            "outdoor temperature and the project has no weather for the months."
+        )
+    elif not adopted["uses_temperature"]:
+        cautions.append(
+            f"The adopted model of account '{name}' ({budget['model']}) does not respond to "
+            "the outdoor temperature: its weather effect is zero and the variance shows as usage."
+        )
+    happened = None if billed.happened is None else np.where(scene.known, assumed, billed.happened)
+    late = [m for m, s, a in zip(window.months, account_scene.status, scene.status, strict=True)
+            if s != a]  # fmt: skip
+    if late:
+        cautions.append(
+            f"Account '{name}' has no bill yet for every day of {', '.join(late)}: those months "
+            "are compared to date, up to its newest bill."
+        )
+    days = _Days(
+        np.nan_to_num(np.asarray(adopted["daily_mean_kwh"], dtype=np.float64)),
+        assumed,
+        happened,
+        np.where(covered, billed.kwh, 0.0),
+    )
+    costs = _bill_costs(adopted, billed, account_scene, days)
+    records = _months(budget["months"], account_scene, days, costs)
+    return _group_report(budget, records, "name"), days, covered, cautions
+
+
+def _bill_costs(
+    adopted: dict, billed: BilledDays, scene: _Scene, days: _Days
+) -> list[float | None]:
+    """Each complete month's cost from the bills' own charges (their share of each bill), or
+    its kWh at the adopted price where a bill shows no cost."""
+    month_of_day = scene.window.month_of_day()
+    out: list[float | None] = []
+    for number, state in enumerate(scene.status):
+        inside = month_of_day == number
+        if state != COMPLETE or adopted["priced_by"] is None:
+            out.append(None)
+        elif np.isfinite(billed.cost[inside]).all():
+            out.append(float(billed.cost[inside].sum()))
+        else:
+            out.append(float(days.actual[inside].sum()) * adopted["rate"])
+    return out
 
 
 def _blind(happened: np.ndarray, assumed: np.ndarray) -> bool:
@@ -456,7 +563,11 @@ def _actual_costs(
 def _group_report(group: dict, records: list[dict], key: str) -> dict:
     out = {key: group[key], "unit": group.get("unit", "kWh")}
     if key == "name":
-        out.update(utility=group["utility"], model=group["model"])
+        out.update(
+            utility=group["utility"],
+            model=group["model"],
+            source=group.get("source", "readings"),
+        )
     else:
         out["meters"] = list(group["meters"])
     out["months"] = records
@@ -473,13 +584,14 @@ def _outlook(
     name: str,
     as_of: date,
     names: list[str],
-    status: list[str],
+    over: bool,
     workers: int | None,
     scheduler: str | None,
     progress: Progress | None,
 ) -> tuple[BudgetRun | None, list[str]]:
-    """A fresh budget of the adopted months from ``as_of`` (None once every month is over)."""
-    if all(state == COMPLETE for state in status):
+    """A fresh budget of the adopted months from ``as_of`` (None once every month is over:
+    complete, and every account billed for all its days)."""
+    if over:
         return None, []
     request = doc["request"]
     weather = request["weather"]
@@ -504,8 +616,9 @@ def _outlook(
     part = progress.part(0.1, 1.0) if progress is not None else None
     try:
         run = budget_project(
-            project, fresh, meters=names, workers=workers, scheduler=scheduler, progress=part
-        ).run
+            project, fresh, meters=names, workers=workers, scheduler=scheduler, progress=part,
+            with_accounts=True,
+        ).run  # fmt: skip
     except InputError as error:  # the tracking stands without it; say why it is missing
         return None, [*cautions, f"The year-end outlook could not be made: {error.message}"]
     return run, cautions + run.cautions
@@ -630,6 +743,12 @@ def _assumptions(doc: dict) -> dict[str, Any]:
         "plus the forecast of the rest, same simulation and calibration as budgets)",
         "actual cost": "the adopted rate card applied to the readings; meters priced from bills "
         "at the price per kWh the project's bills now give",
+        "bill accounts": "an account's actual is its bills that ended by the as-of date, each "
+        "shared among its days by the adopted model under the weather that happened (base by "
+        "days, heating and cooling by degree-days), and its actual cost those bills' own "
+        "charges shared the same way; a month is complete for it when bills cover all its "
+        "days, else compared to date; roll-ups with accounts count only the days their bills "
+        "cover",
     }
 
 

@@ -29,6 +29,8 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parents[2]
 DATA = ROOT / "sample" / "data"
 RATE_CARD = ROOT / "sample" / "tariffs" / "orrinvale-main-electric.ratecard.toml"
+#: The five building meters the main electric account's bills cover (the meters count).
+ELECTRIC = ("Library", "Science Labs", "Residence Hall", "Athletics Center", "Administration")
 BUDGET = ("--start", "2026-07", "--fiscal-year", "2027", "--as-of", "2026-06-30",
           "--tariff", str(RATE_CARD), "--json")  # fmt: skip
 
@@ -56,6 +58,7 @@ def main() -> None:
             "--meters", DATA / "gas-boilerhouse-daily.csv",
             "--meters", DATA / "chilled-water-plant.csv",
             "--bills", DATA / "electric-bills.csv",
+            *[arg for meter in ELECTRIC for arg in ("--meter-account", f"{meter}=electric-bills")],
             "--weather", DATA / "weather-station.csv",
             "--calendar", DATA / "campus-calendar.csv", "--holidays", "US-IL",
         )  # fmt: skip

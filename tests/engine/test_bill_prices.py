@@ -74,7 +74,8 @@ def test_a_meter_without_a_rate_card_is_costed_at_its_bills_price(project) -> No
         request = budget_request(opened, ["2026-01", "2026-02"], paths=200, currency="cad")
         run = budget_project(opened, request).run
     assert run.currency == "CAD"
-    (meter,) = run.meters
+    meter, account = run.meters  # the bills are an account too, costed at its own price
+    assert (meter.source, account.source) == ("readings", "bills")
     for month in [*meter.months, meter.total]:
         # cost is linear in energy path by path, so its mean is the energy's mean times the rate
         assert month.cost.mean == pytest.approx(month.energy.mean * price.rate, rel=1e-9)
