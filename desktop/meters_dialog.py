@@ -29,6 +29,7 @@ from desktop.holiday_picker import HolidayPicker
 from desktop.notice import Notice
 from desktop.project_changes import (
     Reversible,
+    account_change,
     calendar_change,
     label_change,
     temperature_change,
@@ -36,18 +37,23 @@ from desktop.project_changes import (
 from desktop.session import Session
 from desktop.undo import undo_for
 from engine import calendar_edit
+from engine.accounts.membership import account_names, meter_accounts
 from engine.errors import InputError
 from engine.meter_labels import READ_UNITS, TEMPERATURE_UNITS, meter_labels, temperature_unit
 from engine.meters import UTILITIES
 from engine.project import Project
 
-HEADERS = ("Column in the meter file", "Shown as", "Utility", "Read in")
-NAME, SHOWN, UTILITY, READ_IN = range(len(HEADERS))
+HEADERS = ("Column in the meter file", "Shown as", "Utility", "Read in", "Part of bill account")
+NAME, SHOWN, UTILITY, READ_IN, ACCOUNT = range(len(HEADERS))
+#: The account box's entry for a meter that belongs to no bill account.
+NO_ACCOUNT = "none"
 EXPLANATION = (
     "Figures are always worked out in kWh and °C under each meter's column name; these "
     "settings only change how meters are named and which units are shown beside kWh "
     "(gas volumes at 1,036 Btu per cubic foot). The utility decides the roll-up a meter "
-    "joins and the bill prices that cost it. Edit ▸ Undo takes any change back."
+    "joins and the bill prices that cost it. A meter that is part of a bill account measures "
+    "part of the same supply: budgets then count the meter, not the account's bills as well. "
+    "Edit ▸ Undo takes any change back."
 )
 
 
@@ -138,6 +144,8 @@ class MetersDialog(QDialog):
             self.periods.clear()
             return
         labels = list(meter_labels(project).values())
+        accounts, belongs = account_names(project), meter_accounts(project)
+        self.table.setColumnHidden(ACCOUNT, not accounts)
         self.table.setRowCount(len(labels))
         for row, label in enumerate(labels):
             name = QTableWidgetItem(label.name)
@@ -153,6 +161,11 @@ class MetersDialog(QDialog):
             unit.set_value(label.read_unit)
             unit.activated.connect(partial(self._unit_chosen, label.name, unit))
             self.table.setCellWidget(row, READ_IN, unit)
+            if accounts:
+                account = ChoiceBox([(NO_ACCOUNT, None), *((a, a) for a in accounts)])
+                account.set_value(belongs.get(label.name))
+                account.activated.connect(partial(self._account_chosen, label.name, account))
+                self.table.setCellWidget(row, ACCOUNT, account)
         self.temperature.set_value(temperature_unit(project))
         calendar = calendar_edit.current(project)
         self.holidays.choose(calendar.country, calendar.subdivision)
@@ -192,6 +205,9 @@ class MetersDialog(QDialog):
 
     def _unit_chosen(self, name: str, box: ChoiceBox, _position: int) -> None:
         self._push(lambda project: label_change(project, name, read_unit=box.value()))
+
+    def _account_chosen(self, name: str, box: ChoiceBox, _position: int) -> None:
+        self._push(lambda project: account_change(project, name, box.value()))
 
     def _temperature_chosen(self, _position: int) -> None:
         unit = self.temperature.value()

@@ -12,6 +12,7 @@ from functools import partial
 
 from desktop.model_jobs import ModelReport, use_model_report
 from engine import calendar_edit
+from engine.accounts.membership import meter_accounts, set_meter_accounts
 from engine.calendar import CampusCalendar
 from engine.cleaning.log_changes import LogChange, make_again, take_back
 from engine.meter_labels import (
@@ -26,12 +27,13 @@ from engine.progress import Progress
 from engine.project import Project
 
 #: Kinds of change, for the screens to know whether to look again after an undo or a redo.
-CLEANING, LABELS, TEMPERATURE, CALENDAR, MODEL = (
+CLEANING, LABELS, TEMPERATURE, CALENDAR, MODEL, ACCOUNTS = (
     "cleaning",
     "labels",
     "temperature",
     "calendar",
     "model",
+    "accounts",
 )
 
 
@@ -90,6 +92,34 @@ def label_change(
         LABELS,
         (name,),
     )
+
+
+def account_change(project: Project, meter: str, account: str | None) -> Reversible | None:
+    """Say that ``meter`` belongs to bill ``account`` (None: to no account), so the budget's
+    totals count the meter and not the account's bills as well; None when nothing changes."""
+    before = meter_accounts(project).get(meter)
+    if account == before:
+        return None
+    words = (
+        f"count {meter} under bill account '{account}'"
+        if account
+        else f"take {meter} out of bill account '{before}'"
+    )
+    return Reversible(
+        project,
+        words,
+        partial(_belong, project, meter, account),
+        partial(_belong, project, meter, before),
+        ACCOUNTS,
+        (meter,),
+    )
+
+
+def _belong(project: Project, meter: str, account: str | None) -> None:
+    if account:
+        set_meter_accounts(project, {meter: account})
+    else:
+        set_meter_accounts(project, {}, clear=[meter])
 
 
 def temperature_change(project: Project, unit: str) -> Reversible | None:

@@ -12,18 +12,28 @@ from datetime import date
 from pathlib import Path
 
 import pytest
-from desktop_support import FITTED_METERS, fitted_campus, save_screen, wait_until_idle
+from desktop_support import (
+    FITTED_METERS,
+    SAMPLE,
+    SITE_ZONE,
+    fitted_campus,
+    save_screen,
+    wait_until_idle,
+)
 from PySide6.QtGui import QKeySequence
 
 from desktop.main_window import MainWindow
-from desktop.meters_dialog import READ_IN, SHOWN
+from desktop.meters_dialog import ACCOUNT, READ_IN, SHOWN
 from desktop.model_tables import MODEL_ROLE
 from engine import calendar_edit
+from engine.accounts.membership import account_names, meter_accounts
 from engine.budget.result import BudgetRun
 from engine.export.finance_tables import READ_UNIT_HEADER
+from engine.importing import ImportedFiles, store_files
 from engine.meter_labels import meter_label, temperature_unit
 from engine.modelling import chosen_model, fit_meter
 from engine.project import Project
+from engine.reading import ReadOptions, read_file
 
 LIBRARY, LABS = FITTED_METERS
 
@@ -245,3 +255,31 @@ def test_the_budget_shows_display_names_and_the_unit_read_in(qtbot, window):
     _undo(qtbot, window)  # the unit
     assert READ_UNIT_HEADER not in table.headers
     assert "Main library (meter)" in table.titles()
+
+
+def test_a_meter_joins_a_bill_account_and_the_change_is_undone(qtbot, window):
+    """With the sample's electric bills added, a meter is counted under their account (so the
+    budget's totals do not count that supply twice); Undo and Redo take it back and forth."""
+    options = ReadOptions(timezone=SITE_ZONE)
+    bills = read_file(SAMPLE / "electric-bills.csv", options)
+    with _stored(window) as project:
+        store_files(project, ImportedFiles([], [bills], [], options))
+        (account,) = account_names(project)
+    window.show_meters()
+    dialog = window.meters_dialog
+    assert not dialog.table.isColumnHidden(ACCOUNT)
+    box = dialog.table.cellWidget(0, ACCOUNT)
+    assert box.value() is None
+    box.set_value(account)
+    box.activated.emit(box.currentIndex())
+    qtbot.waitUntil(lambda: dialog.table.cellWidget(0, ACCOUNT).value() == account)
+    with _stored(window) as project:
+        assert meter_accounts(project) == {LIBRARY: account}
+    assert window.undo.stack.undoText() == f"count {LIBRARY} under bill account '{account}'"
+    _undo(qtbot, window)
+    with _stored(window) as project:
+        assert meter_accounts(project) == {}
+    qtbot.waitUntil(lambda: dialog.table.cellWidget(0, ACCOUNT).value() is None)
+    _undo(qtbot, window, redo=True)
+    with _stored(window) as project:
+        assert meter_accounts(project) == {LIBRARY: account}
