@@ -108,13 +108,13 @@ def compute_patterns(
 
 
 def weather_rows(found: ProjectMeterProfile, shown: str = "°C") -> tuple[pd.DataFrame, str]:
-    """The degree-day weather response as figure rows (temperatures in ``shown``, °C or °F),
-    or no rows and the engine's reason."""
+    """The weather response as figure rows (temperatures in ``shown``, °C or °F), or no
+    rows and the engine's reason; the same fit the plot draws."""
     response = found.key_figures()["weather response"]
     if "note" in response:
         return pd.DataFrame(columns=FIGURE_COLUMNS), str(response["note"])
     kind = KIND_WORDS.get(response["kind"], response["kind"])
-    how = f"{kind} degree-day fit of daily energy; {found.balance_note}"
+    how = f"{kind} change-point fit of daily energy on {response['fitted on']}"
     rows = [
         (name, *in_temperature_unit(response[key] * factor, unit, shown), how)
         for key, name, unit, factor in WEATHER_ROWS

@@ -255,7 +255,7 @@ class TemperaturePanel(PlotPanel):
 
 def _model_words(response: TemperatureResponse, unit: str) -> str:
     model = response.model
-    parts = [f"{model.kind} change-point fit, {model.n_points_} days"]
+    parts = [f"{model.kind} change-point fit on {response.basis or f'{model.n_points_} days'}"]
     if model.change_points_:
         points = (from_celsius(c, unit) for c in model.change_points_)
         parts.append("change point " + ", ".join(f"{c:.1f} {unit}" for c in points))

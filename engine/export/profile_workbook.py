@@ -112,7 +112,7 @@ def _tables(profile: ProjectMeterProfile, shown: str) -> dict[str, pd.DataFrame 
                 "figure": figure,
                 "value": _value(value),
                 "unit": "",
-                "how": "balance-point fit on working days",
+                "how": f"change-point fit of daily energy on {weather.get('fitted on', '')}",
             }
             for figure, value in (_in_unit(k, v, shown) for k, v in weather.items())
         ]

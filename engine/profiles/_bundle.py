@@ -39,14 +39,16 @@ def profile_meter(
     *,
     hemisphere: str = "north",
     progress: Progress | None = None,
+    weather_fit_days: pd.DatetimeIndex | None = None,
 ) -> MeterProfiles:
     """Compute every profile of ``meter`` with default settings.
 
     Typical days are hourly, grouped by day type, campus period and season; the heat map is
-    in kWh. See the individual functions for the settings.
+    in kWh; the weather response is fitted on ``weather_fit_days`` when given. See the
+    individual functions for the settings.
     """
     if meter.interval > INTRADAY:
-        return _coarse_profiles(meter, temperatures, labels, progress)
+        return _coarse_profiles(meter, temperatures, labels, progress, weather_fit_days)
     typical_days = {}
     for done, grouping in enumerate(BUNDLED_GROUPINGS):
         step(progress, 0.5 * done / len(BUNDLED_GROUPINGS), f"typical days by {grouping}")
@@ -62,7 +64,7 @@ def profile_meter(
     response = None
     if temperatures is not None:
         step(progress, 0.9, "energy against temperature")
-        response = energy_vs_temperature(meter, temperatures, labels)
+        response = energy_vs_temperature(meter, temperatures, labels, fit_days=weather_fit_days)
     step(progress, 1.0, "profiles ready")
     return MeterProfiles(typical_days, matrix, monthly, duration, figures, response)
 
@@ -72,6 +74,7 @@ def _coarse_profiles(
     temperatures: pd.Series | None,
     labels: pd.DataFrame | None,
     progress: Progress | None,
+    weather_fit_days: pd.DatetimeIndex | None,
 ) -> MeterProfiles:
     """Daily or coarser readings: monthly totals, duration and weather response only."""
     step(progress, 0.3, "monthly totals")
@@ -81,7 +84,7 @@ def _coarse_profiles(
     response = None
     if temperatures is not None:
         step(progress, 0.8, "energy against temperature")
-        response = energy_vs_temperature(meter, temperatures, labels)
+        response = energy_vs_temperature(meter, temperatures, labels, fit_days=weather_fit_days)
     step(progress, 1.0, "profiles ready")
     figures = pd.DataFrame(
         {

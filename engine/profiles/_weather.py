@@ -13,19 +13,24 @@ from engine.errors import InputError
 from engine.meters import MeterSeries
 from engine.profiles._readings import complete_days, local_readings
 
+#: Fewest chosen days for a fit on them alone (see :func:`energy_vs_temperature`).
+MIN_FIT_DAYS = 60
+
 
 @dataclass(frozen=True)
 class TemperatureResponse:
     """Daily points, the fitted change-point model, and its line ready to draw.
 
     ``daily`` is indexed by ``local date`` with ``day type``, ``mean temperature °C``,
-    ``energy kWh`` and ``fitted kWh``; ``line`` holds the model's corners (ends of the
-    temperature range and each change point) as ``temperature °C`` and ``fitted kWh``.
+    ``energy kWh``, ``fitted kWh`` and ``in fit`` (whether the day was fitted on); ``line``
+    holds the model's corners (ends of the temperature range and each change point) as
+    ``temperature °C`` and ``fitted kWh``. ``basis`` says in words which days were fitted.
     """
 
     daily: pd.DataFrame
     line: pd.DataFrame
     model: ChangePointModel
+    basis: str = ""
 
 
 def daily_mean_temperature(
@@ -70,6 +75,7 @@ def energy_vs_temperature(
     *,
     kind: str = "best",
     day_types: Sequence[str] | None = None,
+    fit_days: pd.DatetimeIndex | None = None,
 ) -> TemperatureResponse:
     """Daily energy against daily mean temperature with a change-point fit.
 
@@ -86,6 +92,10 @@ def energy_vs_temperature(
         :func:`engine.changepoint.select_best` choose.
     day_types : sequence of str, optional
         Fit only days of these types (e.g. ``["weekday"]``); all days by default.
+    fit_days : pandas.DatetimeIndex, optional
+        Local dates (naive midnights) the line is fitted on, e.g. ordinary working days so
+        that breaks and weekends do not hide the weather; every day is still returned. With
+        fewer than :data:`MIN_FIT_DAYS` of them holding data, every day is fitted.
     """
     if kind != "best" and kind not in KINDS:
         raise InputError(
@@ -102,15 +112,38 @@ def energy_vs_temperature(
             hint="Import weather covering the meter's dates (and check the day types chosen).",
         )
     x, y = joined["temp"].to_numpy(), joined["kWh"].to_numpy()
-    model = select_best(x, y) if kind == "best" else ChangePointModel(kind).fit(x, y)
+    used, basis = _fitted_days(pd.DatetimeIndex(joined.index), fit_days)
+    fitted_x, fitted_y = x[used], y[used]
+    model = (
+        select_best(fitted_x, fitted_y)
+        if kind == "best"
+        else ChangePointModel(kind).fit(fitted_x, fitted_y)
+    )
     daily = pd.DataFrame(
         {
             "day type": joined["day_type"].astype(str).to_numpy(),
             "mean temperature °C": x,
             "energy kWh": y,
             "fitted kWh": model.predict(x),
+            "in fit": used,
         },
         index=pd.DatetimeIndex(joined.index, name="local date"),
     )
     line = change_point_line(model, float(x.min()), float(x.max()))
-    return TemperatureResponse(daily=daily, line=line, model=model)
+    return TemperatureResponse(daily=daily, line=line, model=model, basis=basis)
+
+
+def _fitted_days(
+    days: pd.DatetimeIndex, fit_days: pd.DatetimeIndex | None
+) -> tuple[np.ndarray, str]:
+    """Which of ``days`` the line is fitted on, and that in words."""
+    if fit_days is not None:
+        chosen = days.isin(fit_days)
+        if chosen.sum() >= MIN_FIT_DAYS:
+            return chosen, (
+                f"{chosen.sum():,} ordinary working days (weekdays in term or outside campus "
+                f"periods, not holidays) of {len(days):,}"
+            )
+        every = f"all {len(days):,} days (fewer than {MIN_FIT_DAYS} ordinary working days)"
+        return np.ones(len(days), dtype=bool), every
+    return np.ones(len(days), dtype=bool), f"all {len(days):,} days"

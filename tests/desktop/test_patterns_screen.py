@@ -184,7 +184,9 @@ def test_a_daily_meter_shows_what_it_can_and_says_why_not_the_rest(qtbot, tmp_pa
         screen.session.close()
 
 
-def test_the_weather_response_is_the_degree_day_regression_statsmodels_fits(qtbot, tmp_path):
+def test_the_weather_response_is_the_degree_day_regression_statsmodels_fits_and_the_plot_draws_it(
+    qtbot, tmp_path
+):
     # Invented: Ocotillo Hall on the Saguaro Flats campus (no daylight-saving time), heated
     # below a 15 °C balance point at 45 kWh per °C-day over a 600 kWh/day base, read hourly.
     zone, days = "America/Phoenix", 150
@@ -222,13 +224,22 @@ def test_the_weather_response_is_the_degree_day_regression_statsmodels_fits(qtbo
         for position, side in enumerate(terms, start=1):
             assert shown[f"{side} slope"] == pytest.approx(fit.params[position], rel=1e-6)
         assert shown["R²"] == pytest.approx(fit.rsquared, abs=1e-9)
-        # ASHRAE Guideline 14 CV(RMSE): RMSE with n - p degrees of freedom over the mean, in %.
-        rmse = np.sqrt(fit.ssr / (len(energy) - len(fit.params)))
+        # ASHRAE Guideline 14 CV(RMSE): RMSE with n - p degrees of freedom over the mean, in %,
+        # p counting each balance point as a parameter (a "3P" model has three: ASHRAE RP-1050's
+        # naming of change-point models, from memory).
+        rmse = np.sqrt(fit.ssr / (len(energy) - len(fit.params) - len(terms)))
         assert shown["CV(RMSE)"] == pytest.approx(100.0 * rmse / energy.mean(), rel=1e-6)
         # And the ground truth the data were made from.
         assert shown["heating balance point"] == pytest.approx(15.0, abs=0.25)
         assert shown["heating slope"] == pytest.approx(45.0, rel=0.02)
         assert shown["weather-independent use"] == pytest.approx(600.0, rel=0.02)
+        # One fit, one set of numbers: the plot draws and states the fit the table lists.
+        caption = screen.temperature.caption.text()
+        assert f"on {weekday.sum():,} ordinary working days" in caption
+        assert f"heating {shown['heating slope']:,.1f} kWh/day per °C" in caption
+        line = screen.temperature.line.getData()
+        corner = np.flatnonzero(np.isclose(line[0], shown["heating balance point"]))
+        assert line[1][corner] == pytest.approx(shown["weather-independent use"])
         save_screen(screen, "patterns-weather-response")
     finally:
         screen.session.close()
