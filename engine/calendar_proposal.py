@@ -575,16 +575,20 @@ def proposed_periods(
     period, and the latest copied forward by whole weeks each year up to ``until``."""
     proposed: list[ProposedPeriod] = []
     for piece, seen, covering in _found(ratio, width):
-        proposed += _piece_periods(piece, seen, covering, southern, until)
+        proposed += _piece_periods(
+            piece, seen, covering, southern, after=ratio.index[-1].date(), until=until
+        )
     return _named_apart(sorted(proposed, key=lambda p: p.period.first_day))
 
 
 def _named_apart(proposed: list[ProposedPeriod]) -> list[ProposedPeriod]:
-    """Periods sharing a name ("Summer break 2025" in May and in August) get their month."""
+    """Periods sharing a name ("Summer break 2025" in May and in August) get their first day."""
     names = pd.Series([p.period.name for p in proposed])
     shared = names.duplicated(keep=False).to_numpy()
     return [
-        replace(p, period=replace(p.period, name=f"{p.period.name} ({p.period.first_day:%b})"))
+        replace(
+            p, period=replace(p.period, name=f"{p.period.name} ({_day_words(p.period.first_day)})")
+        )
         if twin
         else p
         for p, twin in zip(proposed, shared, strict=True)
@@ -605,8 +609,16 @@ def _covering(seasons: _Seasons, piece: _Piece) -> int:
 
 
 def _piece_periods(
-    piece: _Piece, seen: list[_Seen], covering: int, southern: bool, until: date | None
+    piece: _Piece,
+    seen: list[_Seen],
+    covering: int,
+    southern: bool,
+    *,
+    after: date,
+    until: date | None,
 ) -> list[ProposedPeriod]:
+    """The piece's periods: each year it showed, then copies of the latest by whole weeks,
+    one a year, from the first that starts after the readings (``after``) up to ``until``."""
     latest = seen[-1]
     season = _season(latest.first, latest.last, southern)
     level = float(np.median([one.level for one in seen]))
@@ -620,12 +632,14 @@ def _piece_periods(
     while until is not None:
         weeks = round(step * _YEAR_DAYS / 7)
         start, end = latest.first + timedelta(weeks=weeks), latest.last + timedelta(weeks=weeks)
+        step += 1
+        if start <= after:  # a year the readings hold, where the period did not show
+            continue
         if start > until:
             break
         words = f"copied forward by {weeks} weeks from {_span_short(latest.first, latest.last)}"
         period = _period(kind, season, piece.high, start, end)
         periods.append(ProposedPeriod(period, f"{words}; {evidence}", level, projected=True))
-        step += 1
     return periods
 
 
@@ -664,6 +678,10 @@ def _seen_in_words(seen: list[_Seen], level: float, covering: int) -> str:
         f"{latest.first:%b} {latest.first.day} – {latest.last:%b} {latest.last.day} runs at "
         f"{level:.0%} of a term weekday in {years} ({each})"
     ).replace("%", " %")
+
+
+def _day_words(day: date) -> str:
+    return f"{day:%b} {day.day}"
 
 
 def _span(period: CampusPeriod) -> str:
