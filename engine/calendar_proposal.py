@@ -1,22 +1,29 @@
 """A campus calendar proposed from the readings, for sites that never entered one.
 
-Each meter's daily totals on weekdays (Monday to Friday) are divided by what a *term weekday*
-of that meter would use on that day: a least-squares level per weekday with a slow trend and,
-where the site has weather, heating and cooling hinges on the daily mean temperature (without
-weather, two yearly harmonics stand in for the seasons). The level is fitted again and again on
-the days that look ordinary (trimmed at 2.5 robust standard deviations), so breaks and holidays
-do not pull it down. The site's *ratio* of a day is the sum of its meters' use over the sum of
-their term-weekday levels: 1 on an ordinary term weekday, 0.35 on a day at 35 % of one.
+Each meter's complete daily totals are divided by what an *ordinary term weekday* of that
+meter would use on that day: a trimmed least-squares fit (days more than 2.5 robust standard
+deviations from the fit are left out, again and again until the set settles) of a level per
+day of the week, a slow trend and, where the site has weather, heating and cooling degree-days
+integrated from the hours (CIBSE TM41) at the balance points that fit best (slopes never
+negative), the weather response first learnt on the weekends; without weather, two yearly
+harmonics stand in for the seasons. The low periods found are then fitted as levels of their
+own on their weekdays and the fit is made again (:data:`REFITS`), so that a summer session in
+the hottest weeks does not pass for a smaller cooling slope. The meters' ratios are averaged on
+weekdays with matched-filter weights (a meter's depth over its noise squared): 1 is an
+ordinary term weekday (the half-sample mode), 0.35 a day at 35 % of one.
 
 From that ratio the proposal takes
 
-* **recurring periods**: runs of at least :data:`MIN_RUN` weekdays below (or above) the
-  ordinary band, split where their level changes, that come back on about the same dates
-  (:data:`DATE_TOLERANCE` days) in at least two years; each seen year keeps its own dates, and
-  the latest is copied forward by whole weeks over the next years so that budgets have them;
+* **recurring periods**: weekdays outside the ordinary band are laid out by position in the
+  year; positions where most years' weekdays nearby (±3 days) are outside on the same side,
+  in at least two years, make the typical year's stretches, split where their typical level
+  changes. Each year's own dates are then read around each stretch (runs of at least
+  :data:`MIN_RUN` weekdays, within :data:`DATE_TOLERANCE` days of it, split where that year's
+  level changes most), and the latest is copied forward by whole weeks for the years after
+  the readings, so that budgets have them;
 * **public holidays**: the country the site's time zone lies in (the IANA tz database's
   ``zone.tab``, which the ``tzdata`` package ships), kept when at least half of its public
-  holidays on ordinary weekdays ran low.
+  holidays on ordinary weekdays outside the periods ran low.
 
 Each proposal carries its evidence in words. :meth:`CalendarProposal.calendar` gives the
 :class:`~engine.calendar.CampusCalendar` a user would have entered, so accepting it stores it
@@ -40,8 +47,12 @@ from engine.prepared_site import PreparedSite
 
 #: Fewest weekdays in a row that make a period (a single low day is a holiday's business).
 MIN_RUN = 3
-#: Fewest weekdays on each side of a split of a period into two levels.
-MIN_PART = 5
+#: Fewest days on each side of a split of a typical stretch into two levels, and fewest days
+#: in a typical stretch.
+MIN_PART_DAYS = 7
+MIN_STRETCH_DAYS = 5
+#: Days either side of a position of the year whose weekdays, in every year, judge it.
+_NEARBY = 3
 #: How far apart (days) the first and last days of a period may lie in different years and
 #: still be the same period (academic calendars move by weekdays, so by up to a week or two).
 DATE_TOLERANCE = 14
@@ -54,14 +65,18 @@ HOLIDAY_SHARE = 0.5
 #: How far past the readings recurring periods are copied forward, in days.
 HORIZON_DAYS = 760
 #: How many times the ordinary use is fitted again with the periods found so far as their own
-#: levels (each time the weather response is freer of them, and the periods clearer).
-REFITS = 3
+#: levels (once frees the weather response of them; more passes were seen to wander on the
+#: invented sites, so once it is).
+REFITS = 1
 #: Below this share of a term weekday a low period is a closure (nobody in).
 CLOSURE_LEVEL = 0.2
 #: Heating and cooling balance points tried for the term-weekday level, °C.
 _HEATING_BASES = tuple(float(base) for base in range(4, 19, 2))
 _COOLING_BASES = tuple(float(base) for base in range(10, 25, 2))
 _TRIM_SIGMAS = 2.5
+#: The heating and cooling degree-day columns of :func:`_design` (after 7 day levels and the
+#: trend).
+_SLOPES = (8, 9)
 #: The normal distribution's 10th percentile in standard deviations below the mean.
 _TENTH_QUANTILE_SD = 1.2816
 _MAD_TO_SD = 1.4826
@@ -218,11 +233,7 @@ def meter_ratios(
     return pd.DataFrame(ratios)
 
 
-def term_ratio(
-    daily: pd.DataFrame,
-    degrees: pd.DataFrame | None = None,
-    marks: pd.DataFrame | None = None,
-) -> pd.Series:
+def site_ratio(ratios: pd.DataFrame) -> pd.Series:
     """The site's use on each weekday as a share of an ordinary term weekday's.
 
     The meters' ratios (:func:`meter_ratios`) are averaged with weights that favour the meters
@@ -231,7 +242,6 @@ def term_ratio(
     weights that best bring out a common dip in independent noise (a matched filter). A
     boiler house that ignores the term thus adds little noise to the lecture buildings' breaks.
     """
-    ratios = meter_ratios(daily, degrees, marks)
     if ratios.empty:
         return pd.Series(dtype=float)
     weights: dict[str, float] = {}
@@ -252,32 +262,70 @@ def term_ratio(
 def term_level(
     values: pd.Series, degrees: pd.DataFrame | None = None, marks: pd.DataFrame | None = None
 ) -> pd.Series:
-    """A meter's ordinary (term weekday) use on each of its days: a trimmed least-squares fit
-    of a level per day of the week, a trend and the day's heating and cooling degree-days at
-    the balance points that fit best (without weather, yearly harmonics).
+    """A meter's ordinary (term weekday) use on each of its days.
 
-    ``marks`` are 0/1 columns of periods already found: fitted as their own levels, so that a
-    summer session in the hottest weeks cannot pass for a smaller cooling slope, and left out
-    of the ordinary use returned.
+    Trimmed least-squares fits (:func:`_trimmed_fit`) of a level per day of the week, a trend
+    and the day's heating and cooling degree-days at the balance points that fit best (without
+    weather, yearly harmonics). Before any period is known (``marks`` None) the weather
+    response is learnt on the weekends, which most campuses keep alike in and out of term, and
+    the weekdays get their levels with it, scaled by one factor (offices heat and cool more
+    when occupied): so a summer break in the hottest weeks cannot pass for a smaller cooling
+    slope. ``marks`` are 0/1 columns of the periods found since, fitted on all days as their
+    own levels and left out of the ordinary use returned.
     """
     weather = _weather_on(values.index, degrees)
-    extra = None if marks is None else marks.reindex(values.index).fillna(0.0).to_numpy(float)
+    weekend = values.index.day_of_week.to_numpy() >= 5
+    if weather is not None and marks is None and weekend.sum() >= 52:
+        fitted = _weekend_weather(values, weather, weekend)
+    else:
+        extra = None if marks is None else marks.reindex(values.index).fillna(0.0)
+        fitted = _joint(values, weather, None if extra is None else extra.to_numpy(float))
+    return pd.Series(np.maximum(fitted, 1e-9 * np.abs(values.to_numpy()).mean()),
+                     index=values.index, name=values.name)  # fmt: skip
+
+
+def _best_balance(fit) -> tuple[float, float]:
+    """The heating balance point first (cooling in the middle of its range), then the cooling
+    one, each the one whose ``fit(pair)`` leaves the smallest spread."""
+    heating = min(_HEATING_BASES, key=lambda base: fit((base, _COOLING_BASES[3]))[0])
+    return heating, min(_COOLING_BASES, key=lambda base: fit((heating, base))[0])
+
+
+def _joint(values: pd.Series, weather: pd.DataFrame | None, extra: np.ndarray | None):
+    """One fit of all days, with ``extra`` columns fitted and left out of what it returns."""
     y = values.to_numpy(float)
 
     def fit(pair: tuple[float, float] | None) -> tuple[float, np.ndarray]:
         design = _design(values.index, weather, pair)
         full = design if extra is None else np.column_stack([design, extra])
-        _, spread, coef = _trimmed_fit(full, y)
+        _, spread, coef = _trimmed_fit(full, y, slopes=() if weather is None else _SLOPES)
         return spread, design @ coef[: design.shape[1]]
 
-    if weather is None:
-        fitted = fit(None)[1]
-    else:  # heating balance first (cooling in the middle of its range), then cooling
-        heating = min(_HEATING_BASES, key=lambda base: fit((base, _COOLING_BASES[3]))[0])
-        cooling = min(_COOLING_BASES, key=lambda base: fit((heating, base))[0])
-        fitted = fit((heating, cooling))[1]
-    return pd.Series(np.maximum(fitted, 1e-9 * np.abs(y).mean()), index=values.index,
-                     name=values.name)  # fmt: skip
+    return fit(None if weather is None else _best_balance(fit))[1]
+
+
+def _weekend_weather(values: pd.Series, weather: pd.DataFrame, weekend: np.ndarray):
+    """Weather response from the weekends, then weekday levels and trend with it, scaled."""
+    y = values.to_numpy(float)
+
+    def fit(pair: tuple[float, float]) -> tuple[float, np.ndarray, np.ndarray]:
+        design = _design(values.index, weather, pair)
+        _, spread, coef = _trimmed_fit(design[weekend], y[weekend], slopes=_SLOPES)
+        return spread, design, coef
+
+    _, design, coef = fit(_best_balance(fit))
+    fitted = design @ coef
+    response = design[:, -2:] @ coef[-2:]
+    rows = ~weekend
+    levels = np.column_stack([design[rows, :5], design[rows, 7]])
+    # first with the weekends' response as it is, to find the ordinary weekdays; then those
+    # learn how much more (or less) the weekdays respond
+    plain = levels @ _trimmed_fit(levels, y[rows] - response[rows])[2] + response[rows]
+    ratio = y[rows] / np.where(plain > 0, plain, np.nan)
+    ordinary = np.abs(ratio - 1.0) <= _TRIM_SIGMAS * _robust_sd(ratio - 1.0)
+    scaled = np.column_stack([levels, response[rows]])
+    fitted[rows] = _trimmed_fit(scaled, y[rows], keep=ordinary, slopes=(scaled.shape[1] - 1,))[0]
+    return fitted
 
 
 def _weather_on(days: pd.DatetimeIndex, degrees: pd.DataFrame | None) -> pd.DataFrame | None:
@@ -305,14 +353,22 @@ def _design(
     return np.column_stack([weekday, years, season])
 
 
-def _trimmed_fit(design: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, float, np.ndarray]:
+def _trimmed_fit(
+    design: np.ndarray,
+    y: np.ndarray,
+    keep: np.ndarray | None = None,
+    slopes: tuple[int, ...] = (),
+) -> tuple[np.ndarray, float, np.ndarray]:
     """Least squares on the days whose ratio to the fit stays within :data:`_TRIM_SIGMAS`
-    robust standard deviations, refitted until that set settles. Returns the fit on every
-    day, the kept days' spread and the coefficients."""
-    keep = np.ones(len(y), dtype=bool)
+    robust standard deviations, refitted until that set settles (from ``keep``, default every
+    day). The columns ``slopes`` (degree-days) may not take a negative coefficient: a building
+    does not use less the colder or the hotter it gets, and a heating hinge minus a cooling one
+    would otherwise pass for a ramp. Returns the fit on every day, the kept days' spread and
+    the coefficients."""
+    keep = np.ones(len(y), dtype=bool) if keep is None else keep
     spread = np.inf
     for _ in range(12):
-        coef = _solve(design[keep], y[keep])
+        coef = _solve(design[keep], y[keep], slopes)
         fitted = design @ coef
         ratio = y / np.where(fitted > 0, fitted, np.nan)
         spread = _robust_sd(ratio[keep] - 1.0)
@@ -323,11 +379,22 @@ def _trimmed_fit(design: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, float, 
     return fitted, spread, coef
 
 
-def _solve(design: np.ndarray, y: np.ndarray) -> np.ndarray:
-    """Least-squares coefficients by the normal equations (a dozen columns); a tiny ridge keeps
-    a column without data (weekday levels in a weekend fit) solvable."""
-    gram = design.T @ design + 1e-9 * np.eye(design.shape[1])
-    return np.linalg.solve(gram, design.T @ y)
+def _solve(design: np.ndarray, y: np.ndarray, slopes: tuple[int, ...] = ()) -> np.ndarray:
+    """Least-squares coefficients by the normal equations (a dozen columns; a tiny ridge keeps
+    a column without data solvable), solved again without any of the ``slopes`` columns that
+    came out negative (their coefficient is then 0)."""
+    used = np.ones(design.shape[1], dtype=bool)
+    coef = np.zeros(design.shape[1])
+    for _ in range(len(slopes) + 1):
+        part = design[:, used]
+        gram = part.T @ part + 1e-9 * np.eye(part.shape[1])
+        coef[:] = 0.0
+        coef[used] = np.linalg.solve(gram, part.T @ y)
+        negative = [column for column in slopes if used[column] and coef[column] < 0]
+        if not negative:
+            break
+        used[negative] = False
+    return np.where(used, coef, 0.0)
 
 
 def _robust_sd(values: np.ndarray) -> float:
@@ -337,22 +404,30 @@ def _robust_sd(values: np.ndarray) -> float:
 
 
 def ordinary_band(ratio: pd.Series) -> tuple[float, float]:
-    """The ordinary weekday's ratio and how far from it an ordinary weekday may lie.
+    """The ordinary weekday's ratio and how far from it (as a share) an ordinary weekday may
+    lie.
 
-    Ordinary weekdays are the largest group of alike days: the median and robust spread are
-    taken again on the days within :data:`BAND_SIGMAS` of the last, until that set settles, so
-    the breaks (a third of the weekdays at many campuses) do not widen the band.
+    Ordinary weekdays are the largest group of alike days, but breaks can be a third of the
+    weekdays and more: their centre is the half-sample mode (Bickel & Frühwirth 2006), and
+    their spread is read above it only, where breaks do not reach (1.4826 × the median
+    distance of the days above the mode, the normal distribution's standard deviation).
     """
-    values = ratio.to_numpy()
-    keep = np.ones(len(values), dtype=bool)
-    for _ in range(20):
-        centre = float(np.median(values[keep]))
-        spread = _robust_sd(values[keep] - centre)
-        settled = np.abs(values - centre) <= BAND_SIGMAS * spread
-        if np.array_equal(settled, keep):
-            break
-        keep = settled
+    values = np.sort(ratio.to_numpy()[np.isfinite(ratio.to_numpy())])
+    centre = _half_sample_mode(values)
+    above = values[values >= centre] - centre
+    spread = _MAD_TO_SD * float(np.median(above)) if len(above) else 0.0
     return centre, max(BAND_SIGMAS * spread / centre, MIN_DEPARTURE)
+
+
+def _half_sample_mode(values: np.ndarray) -> float:
+    """The half-sample mode of sorted values: the shortest half of them, again and again,
+    until three or fewer are left; their mean."""
+    while len(values) > 3:
+        half = (len(values) + 1) // 2
+        widths = values[half - 1 :] - values[: len(values) - half + 1]
+        start = int(np.argmin(widths))
+        values = values[start : start + half]
+    return float(values.mean())
 
 
 # --- periods --------------------------------------------------------------------------------
@@ -406,8 +481,8 @@ def _typical(seasons: _Seasons, high: bool) -> np.ndarray:
     """Positions where most years' weekdays nearby (±3 days) lie outside the band on the same
     side, and at least two years do so."""
     known = ~np.isnan(seasons.flags)
-    hits = _window_sum(known & (seasons.flags == (1.0 if high else -1.0)), 3)
-    count = _window_sum(known, 3)
+    hits = _window_sum(known & (seasons.flags == (1.0 if high else -1.0)), _NEARBY)
+    count = _window_sum(known, _NEARBY)
     share = hits.sum(axis=0) / np.maximum(count.sum(axis=0), 1)
     return (share >= 0.5) & ((hits > 0).sum(axis=0) >= 2)
 
@@ -428,7 +503,7 @@ def _pieces(seasons: _Seasons, width: float) -> list[list[_Piece]]:
         typical = _typical(seasons, high)
         edges = np.flatnonzero(np.diff(np.r_[0, typical.astype(int), 0]))
         for first, stop in zip(edges[::2], edges[1::2], strict=True):
-            if stop - first >= 5:
+            if stop - first >= MIN_STRETCH_DAYS:
                 level = _typical_level(seasons, first, stop)
                 stretches.append(_split(level, first, width, high))
     return stretches
@@ -438,7 +513,7 @@ def _typical_level(seasons: _Seasons, first: int, stop: int) -> np.ndarray:
     """The median ratio of all years' weekdays within ±3 days of each position."""
     levels = []
     for position in range(first, stop):
-        nearby = seasons.ratio[:, max(position - 3, 0) : position + 4]
+        nearby = seasons.ratio[:, max(position - _NEARBY, 0) : position + _NEARBY + 1]
         known = nearby[~np.isnan(nearby)]
         levels.append(np.median(known) if len(known) else 1.0)
     return np.asarray(levels)
@@ -449,7 +524,7 @@ def _split(level: np.ndarray, first: int, width: float, high: bool) -> list[_Pie
     more differ by more than the ordinary band (a closure inside a break, a summer session
     between two breaks), recursively."""
     best, where = 0.0, None
-    for cut in range(7, len(level) - 6):
+    for cut in range(MIN_PART_DAYS, len(level) - MIN_PART_DAYS + 1):
         left, right = level[:cut].mean(), level[cut:].mean()
         gain = cut * (len(level) - cut) * (left - right) ** 2
         if abs(left - right) > width and gain > best:
@@ -552,18 +627,37 @@ def _found(ratio: pd.Series, width: float) -> list[tuple[_Piece, list[_Seen], in
                     for row, spans in enumerate(dates) if spans[index] is not None]  # fmt: skip
             seen = [one for one in seen if (one.level > 1 + width) == piece.high]
             if len(seen) >= 2:
+                seen[-1] = _under_way(seen, ratio.index[-1].date())
                 found.append((piece, seen, _covering(seasons, piece)))
     return found
 
 
+def _under_way(seen: list[_Seen], last_reading: date) -> _Seen:
+    """The latest showing of a period, run as long as the one before when the readings end
+    inside it (a break under way on the as-of date goes on into the budget months)."""
+    latest, before = seen[-1], seen[-2]
+    if latest.last < last_reading - timedelta(days=2):
+        return latest
+    usual = latest.first + (before.last - before.first)
+    return replace(latest, last=max(latest.last, usual))
+
+
 def period_marks(ratio: pd.Series, width: float, days: pd.DatetimeIndex) -> pd.DataFrame | None:
-    """0/1 columns on ``days``, one per recurring piece, 1 inside the years' dates of it
-    (weekends included); None when nothing recurs."""
+    """0/1 columns on ``days``, one per recurring low piece, 1 on the weekdays inside the
+    years' dates of it; None when nothing recurs. Weekends stay unmarked: they keep tying the
+    weather response down inside the periods, so a meter that ignores the term (a boiler house)
+    is not left to extrapolate its summer from the heating season. Busy pieces stay unmarked
+    too: before the refit they are most often the other face of a low one (a summer session
+    taken for a smaller cooling slope makes the warm term days look busy)."""
+    weekday = days.day_of_week < 5
     columns = {}
-    for number, (_piece, seen, _covering) in enumerate(_found(ratio, width)):
+    for number, (piece, seen, _covering) in enumerate(_found(ratio, width)):
+        if piece.high:
+            continue
         inside = np.zeros(len(days))
         for one in seen:
-            inside[(days >= pd.Timestamp(one.first)) & (days <= pd.Timestamp(one.last))] = 1.0
+            within = (days >= pd.Timestamp(one.first)) & (days <= pd.Timestamp(one.last))
+            inside[within & weekday] = 1.0
         columns[number] = inside
     return pd.DataFrame(columns, index=days) if columns else None
 
@@ -766,7 +860,7 @@ def propose_calendar(
     last day.
     """
     degrees = None if hourly is None or hourly.dropna().empty else degree_days(hourly, timezone)
-    ratio = term_ratio(daily, degrees)
+    ratio = site_ratio(meter_ratios(daily, degrees))
     if len(ratio) < 2 * 5 * 52:
         return CalendarProposal(notes=(
             "Fewer than two years of complete weekdays: a calendar cannot be told from the "
@@ -776,7 +870,7 @@ def propose_calendar(
         marks = period_marks(ratio, width, daily.index)
         if marks is None:
             break
-        ratio = term_ratio(daily, degrees, marks)
+        ratio = site_ratio(meter_ratios(daily, degrees, marks))
         width = ordinary_band(ratio)[1]
     country, southern = zone_country(timezone)
     until = ratio.index[-1].date() + timedelta(days=horizon_days)
