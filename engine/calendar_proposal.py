@@ -68,6 +68,11 @@ HORIZON_DAYS = 760
 #: levels (once frees the weather response of them; more passes were seen to wander on the
 #: invented sites, so once it is).
 REFITS = 1
+#: The largest share of the weight one meter may carry in the site's ratio.
+MAX_WEIGHT = 0.3
+#: How far (as a share of a term weekday) a meter's ratio may lie from the site's weighted
+#: median on a day and still count towards the day's mean.
+AGREEMENT = 0.2
 #: Below this share of a term weekday a low period is a closure (nobody in).
 CLOSURE_LEVEL = 0.2
 #: Heating and cooling balance points tried for the term-weekday level, °C.
@@ -236,27 +241,38 @@ def meter_ratios(
 def site_ratio(ratios: pd.DataFrame) -> pd.Series:
     """The site's use on each weekday as a share of an ordinary term weekday's.
 
-    The meters' ratios (:func:`meter_ratios`) are averaged with weights that favour the meters
-    where the calendar shows: each meter's depth (how far its lowest tenth of weekdays lies
-    below ordinary, beyond what its noise gives) over the square of its ordinary spread, the
-    weights that best bring out a common dip in independent noise (a matched filter). A
-    boiler house that ignores the term thus adds little noise to the lecture buildings' breaks.
+    The meters' ratios (:func:`meter_ratios`) are averaged, each day over the meters within
+    :data:`AGREEMENT` of their weighted median, with weights that favour the meters where the
+    calendar shows: each meter's depth (how far its lowest
+    tenth of weekdays lies below ordinary, beyond what its noise gives) over the square of its
+    ordinary spread (a matched filter), no meter above :data:`MAX_WEIGHT` of the whole. A
+    boiler house that ignores the term thus adds nothing to the lecture buildings' breaks, and
+    one meter whose readings halve for months (a fault, a building closed) cannot pass its
+    drop off as the campus's.
     """
     if ratios.empty:
         return pd.Series(dtype=float)
-    weights: dict[str, float] = {}
-    for name, ratio in ratios.items():
-        known = ratio.dropna()
-        spread = ordinary_band(known)[1] / BAND_SIGMAS
-        depth = 1.0 - float(np.quantile(known, 0.1)) - _TENTH_QUANTILE_SD * spread
-        weights[name] = max(depth, 0.0) / spread**2
-    weight = pd.Series(weights)
-    if not (weight > 0).any():
-        weight[:] = 1.0
-    present = ratios.notna().mul(weight, axis=1).sum(axis=1)
-    combined = ratios.fillna(0.0).mul(weight, axis=1).sum(axis=1) / present
-    combined = combined[present > 0]
-    return combined / ordinary_band(combined)[0]
+    weights = np.array([_calendar_weight(ratios[name].dropna()) for name in ratios.columns])
+    weights = weights if weights.sum() > 0 else np.ones(len(weights))
+    weights = np.minimum(weights / weights.sum(), MAX_WEIGHT)
+    values = ratios.to_numpy(float)
+    order = np.argsort(values, axis=1)  # NaN last
+    ranked = np.take_along_axis(values, order, axis=1)
+    mass = np.where(np.isnan(ranked), 0.0, weights[order]).cumsum(axis=1)
+    known = mass[:, -1] > 0
+    median = ranked[np.arange(len(ranked)), np.argmax(mass >= mass[:, -1:] / 2, axis=1)]
+    # the weighted mean of the meters that agree with the median (a tighter figure than it)
+    agree = np.abs(values - median[:, None]) <= AGREEMENT
+    share = np.where(agree, weights, 0.0)
+    mean = np.where(agree, values, 0.0) @ weights / np.maximum(share.sum(axis=1), 1e-12)
+    combined = pd.Series(np.where(share.sum(axis=1) > 0, mean, median), index=ratios.index)
+    return combined[known] / ordinary_band(combined[known])[0]
+
+
+def _calendar_weight(ratio: pd.Series) -> float:
+    spread = ordinary_band(ratio)[1] / BAND_SIGMAS
+    depth = 1.0 - float(np.quantile(ratio, 0.1)) - _TENTH_QUANTILE_SD * spread
+    return max(depth, 0.0) / spread**2
 
 
 def term_level(
