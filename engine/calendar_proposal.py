@@ -649,12 +649,14 @@ def _found(ratio: pd.Series, width: float) -> list[tuple[_Piece, list[_Seen], in
 
 
 def _under_way(seen: list[_Seen], last_reading: date) -> _Seen:
-    """The latest showing of a period, run as long as the one before when the readings end
-    inside it (a break under way on the as-of date goes on into the budget months)."""
+    """The latest showing of a period, when the readings end inside it, run to where the one
+    before ended, whole weeks a year later (a break under way on the as-of date goes on into
+    the budget months, on the weekday it ended on before)."""
     latest, before = seen[-1], seen[-2]
     if latest.last < last_reading - timedelta(days=2):
         return latest
-    usual = latest.first + (before.last - before.first)
+    years = max(round((latest.first - before.first).days / _YEAR_DAYS), 1)
+    usual = before.last + timedelta(weeks=round(years * _YEAR_DAYS / 7))
     return replace(latest, last=max(latest.last, usual))
 
 
