@@ -70,9 +70,10 @@ HORIZON_DAYS = 760
 REFITS = 1
 #: The largest share of the weight one meter may carry in the site's ratio.
 MAX_WEIGHT = 0.3
-#: How far (as a share of a term weekday) a meter's ratio may lie from the site's weighted
-#: median on a day and still count towards the day's mean.
+#: How far (as a share of a term weekday) a meter's ratio may stray from the meters' median,
+#: over :data:`ASTRAY_WEEKDAYS` weekdays, and still count towards the site's ratio.
 AGREEMENT = 0.2
+ASTRAY_WEEKDAYS = 40
 #: Below this share of a term weekday a low period is a closure (nobody in).
 CLOSURE_LEVEL = 0.2
 #: Heating and cooling balance points tried for the term-weekday level, °C.
@@ -241,32 +242,33 @@ def meter_ratios(
 def site_ratio(ratios: pd.DataFrame) -> pd.Series:
     """The site's use on each weekday as a share of an ordinary term weekday's.
 
-    The meters' ratios (:func:`meter_ratios`) are averaged, each day over the meters within
-    :data:`AGREEMENT` of their weighted median, with weights that favour the meters where the
-    calendar shows: each meter's depth (how far its lowest
-    tenth of weekdays lies below ordinary, beyond what its noise gives) over the square of its
-    ordinary spread (a matched filter), no meter above :data:`MAX_WEIGHT` of the whole. A
-    boiler house that ignores the term thus adds nothing to the lecture buildings' breaks, and
-    one meter whose readings halve for months (a fault, a building closed) cannot pass its
-    drop off as the campus's.
+    The meters' ratios (:func:`meter_ratios`) are averaged with weights that favour the meters
+    where the calendar shows: each meter's depth (how far its lowest tenth of weekdays lies
+    below ordinary, beyond what its noise gives) over the square of its ordinary spread (a
+    matched filter), no meter above :data:`MAX_WEIGHT` of the whole. A boiler house that
+    ignores the term thus adds nothing to the lecture buildings' breaks. A meter is left out
+    where it strays from the meters' median for weeks on end (:func:`_astray`): one whose
+    readings halve for months (a fault, a building closed) is not taken for a campus break.
     """
     if ratios.empty:
         return pd.Series(dtype=float)
+    ratios = ratios.where(~_astray(ratios))
     weights = np.array([_calendar_weight(ratios[name].dropna()) for name in ratios.columns])
     weights = weights if weights.sum() > 0 else np.ones(len(weights))
     weights = np.minimum(weights / weights.sum(), MAX_WEIGHT)
-    values = ratios.to_numpy(float)
-    order = np.argsort(values, axis=1)  # NaN last
-    ranked = np.take_along_axis(values, order, axis=1)
-    mass = np.where(np.isnan(ranked), 0.0, weights[order]).cumsum(axis=1)
-    known = mass[:, -1] > 0
-    median = ranked[np.arange(len(ranked)), np.argmax(mass >= mass[:, -1:] / 2, axis=1)]
-    # the weighted mean of the meters that agree with the median (a tighter figure than it)
-    agree = np.abs(values - median[:, None]) <= AGREEMENT
-    share = np.where(agree, weights, 0.0)
-    mean = np.where(agree, values, 0.0) @ weights / np.maximum(share.sum(axis=1), 1e-12)
-    combined = pd.Series(np.where(share.sum(axis=1) > 0, mean, median), index=ratios.index)
-    return combined[known] / ordinary_band(combined[known])[0]
+    present = ratios.notna().to_numpy() * weights
+    combined = np.nan_to_num(ratios.to_numpy(float)) @ weights / np.maximum(present.sum(1), 1e-12)
+    combined = pd.Series(combined, index=ratios.index)[present.sum(axis=1) > 0]
+    return combined / ordinary_band(combined)[0]
+
+
+def _astray(ratios: pd.DataFrame) -> pd.DataFrame:
+    """Where a meter's ratio, in the median over :data:`ASTRAY_WEEKDAYS` weekdays around each,
+    lies more than :data:`AGREEMENT` from the meters' median: a stretch of its own, not a
+    holiday (one day) nor a break (every meter dips, by more or less)."""
+    departure = ratios.sub(ratios.median(axis=1), axis=0)
+    rolling = departure.rolling(ASTRAY_WEEKDAYS, center=True, min_periods=ASTRAY_WEEKDAYS // 4)
+    return rolling.median().abs() > AGREEMENT
 
 
 def _calendar_weight(ratio: pd.Series) -> float:
