@@ -70,9 +70,11 @@ HORIZON_DAYS = 760
 REFITS = 1
 #: The largest share of the weight one meter may carry in the site's ratio.
 MAX_WEIGHT = 0.3
-#: How far (as a share of a term weekday) a meter's ratio may stray from the meters' median,
-#: over :data:`ASTRAY_WEEKDAYS` weekdays, and still count towards the site's ratio.
-AGREEMENT = 0.2
+#: How far (as a share of a term weekday) a meter's ratio may stray from the median of the
+#: meters that follow the calendar, over :data:`ASTRAY_WEEKDAYS` weekdays, and still count
+#: towards the site's ratio (meters dip by different amounts in a break: 0.2 took a lecture
+#: building out of the sample's summer; the sample's faulty meter strays by 0.5).
+AGREEMENT = 0.3
 ASTRAY_WEEKDAYS = 40
 #: Below this share of a term weekday a low period is a closure (nobody in).
 CLOSURE_LEVEL = 0.2
@@ -252,21 +254,29 @@ def site_ratio(ratios: pd.DataFrame) -> pd.Series:
     """
     if ratios.empty:
         return pd.Series(dtype=float)
-    ratios = ratios.where(~_astray(ratios))
-    weights = np.array([_calendar_weight(ratios[name].dropna()) for name in ratios.columns])
-    weights = weights if weights.sum() > 0 else np.ones(len(weights))
-    weights = np.minimum(weights / weights.sum(), MAX_WEIGHT)
+    ratios = ratios.where(~_astray(ratios, _weights(ratios) > 0))
+    weights = _weights(ratios)
     present = ratios.notna().to_numpy() * weights
     combined = np.nan_to_num(ratios.to_numpy(float)) @ weights / np.maximum(present.sum(1), 1e-12)
     combined = pd.Series(combined, index=ratios.index)[present.sum(axis=1) > 0]
     return combined / ordinary_band(combined)[0]
 
 
-def _astray(ratios: pd.DataFrame) -> pd.DataFrame:
+def _weights(ratios: pd.DataFrame) -> np.ndarray:
+    """Each meter's share of the site's ratio (:func:`_calendar_weight`, capped)."""
+    weights = np.array([_calendar_weight(ratios[name].dropna()) for name in ratios.columns])
+    weights = weights if weights.sum() > 0 else np.ones(len(weights))
+    return np.minimum(weights / weights.sum(), MAX_WEIGHT)
+
+
+def _astray(ratios: pd.DataFrame, responsive: np.ndarray) -> pd.DataFrame:
     """Where a meter's ratio, in the median over :data:`ASTRAY_WEEKDAYS` weekdays around each,
-    lies more than :data:`AGREEMENT` from the meters' median: a stretch of its own, not a
-    holiday (one day) nor a break (every meter dips, by more or less)."""
-    departure = ratios.sub(ratios.median(axis=1), axis=0)
+    lies more than :data:`AGREEMENT` from the median of the meters that follow the calendar: a
+    stretch of its own, not a holiday (one day) nor a break (those meters dip together). With
+    fewer than three such meters none can be told astray."""
+    if responsive.sum() < 3:
+        return pd.DataFrame(False, index=ratios.index, columns=ratios.columns)
+    departure = ratios.sub(ratios.loc[:, responsive].median(axis=1), axis=0)
     rolling = departure.rolling(ASTRAY_WEEKDAYS, center=True, min_periods=ASTRAY_WEEKDAYS // 4)
     return rolling.median().abs() > AGREEMENT
 
