@@ -25,6 +25,7 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from desktop.calendar_proposal_dialog import CalendarProposalDialog
 from desktop.choices import ChoiceBox, ZoneBox
 from desktop.holiday_picker import HolidayPicker
 from desktop.import_plan import (
@@ -42,7 +43,9 @@ from desktop.session import Session
 from desktop.task_bar import TaskBar
 from desktop.understood_view import KIND_WORDS, UnderstoodView
 from desktop.workers import SHUTDOWN_SECONDS, Failure, Task
+from engine import calendar_edit
 from engine.calendar_edit import current as current_calendar
+from engine.calendar_proposal import CalendarProposal
 from engine.errors import InputError
 from engine.project import Project
 from engine.words import counted
@@ -51,6 +54,7 @@ KINDS = (("decide from the contents", None), *((words, kind) for kind, words in 
 FILE_FILTER = "Spreadsheets and text files (*.xlsx *.xlsm *.xls *.csv *.txt *.tsv);;All files (*)"
 PROBLEM_INK = QColor("#9b3b16")
 READING = "reading files"
+PROPOSING = "finding a campus calendar in the readings"
 
 
 def _state_words(planned: PlannedFile, reading: bool) -> str:
@@ -93,6 +97,14 @@ class FilesScreen(QWidget):
             "models); the command line's --holidays."
         )
         self.holidays.chosen.connect(self._holidays_chosen)
+        self.propose_button = QPushButton("Propose from the readings…")
+        self.propose_button.setToolTip(
+            "For a project without a campus calendar: the breaks, sessions and public holidays "
+            "its readings show, each with its evidence, to keep or edit "
+            "(the command line's calendar --propose)."
+        )
+        self.propose_button.clicked.connect(self.propose_calendar)
+        self.proposal_dialog: CalendarProposalDialog | None = None
         self.file_table = QTableWidget(0, 3)
         self.file_table.setHorizontalHeaderLabels(("File", "What it is", "State"))
         self.file_table.verticalHeader().hide()
@@ -132,6 +144,7 @@ class FilesScreen(QWidget):
         calendar = QHBoxLayout()
         calendar.addWidget(QLabel("Public holidays of the campus calendar"))
         calendar.addWidget(self.holidays)
+        calendar.addWidget(self.propose_button)
         calendar.addStretch(1)
         details = QSplitter(Qt.Orientation.Horizontal)
         details.addWidget(self.form)
@@ -266,6 +279,41 @@ class FilesScreen(QWidget):
     def closeEvent(self, event) -> None:
         self.shutdown()
         super().closeEvent(event)
+
+    # -- a calendar from the readings -------------------------------------------------------
+
+    def propose_calendar(self) -> None:
+        """Find a campus calendar in the open project's readings on a worker, then offer it."""
+        project = self.session.project
+        if project is None or self.task is not None:
+            return
+        task = Task(lambda _progress: calendar_edit.proposal(project), PROPOSING)
+        task.succeeded.connect(self._offer)
+        self._run(task)
+
+    def _offer(self, proposal: CalendarProposal) -> None:
+        project = self.session.project
+        if project is None:
+            return
+        dialog = CalendarProposalDialog(proposal, current_calendar(project), self)
+        dialog.accepted.connect(lambda: self._keep_calendar(dialog))
+        self.proposal_dialog = dialog
+        dialog.open()
+
+    def _keep_calendar(self, dialog: CalendarProposalDialog) -> None:
+        project = self.session.project
+        if project is None:
+            return
+        calendar = dialog.calendar()
+        with project.transaction():
+            calendar_edit.store(project, calendar)
+        holidays = f"{calendar.country} public holidays" if calendar.country else "no holidays"
+        self.notice.say(
+            f"Campus calendar stored: {counted(len(calendar.periods), 'period')}, {holidays}.",
+            "done",
+        )
+        self.session.open(project)  # the other steps label their days again
+        self.holidays.choose(calendar.country, calendar.subdivision)
 
     # -- storing ----------------------------------------------------------------------------
 
@@ -420,4 +468,5 @@ class FilesScreen(QWidget):
         )
         self.create_button.setEnabled(not busy and for_new is None)
         self.add_to_project_button.setEnabled(not busy and for_open is None)
+        self.propose_button.setEnabled(not busy and project is not None)
         self.store_hint.setText("" if busy else (for_new or ""))

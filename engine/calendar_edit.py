@@ -1,13 +1,18 @@
-"""Changing a project's campus calendar: replace its periods, set its holidays, copy a year on."""
+"""Changing a project's campus calendar: replace its periods, set its holidays, copy a year on,
+or take what the readings propose."""
 
 from __future__ import annotations
 
 import re
 from dataclasses import replace
-from datetime import timedelta
+from datetime import date, timedelta
 from pathlib import Path
 
+from engine.budget.periods import as_of_cut
+from engine.budgeting import last_reading_day
 from engine.calendar import CampusCalendar, shift_to_year
+from engine.calendar_proposal import CalendarProposal, propose_for_site
+from engine.prepared_site import prepare_site
 from engine.project import Project
 from engine.reading import ReadOptions, read_calendar
 from engine.site_calendar import store_calendar, stored_calendar
@@ -56,3 +61,53 @@ def current(project: Project) -> CampusCalendar:
 
 def store(project: Project, calendar: CampusCalendar) -> None:
     store_calendar(project, calendar)
+
+
+def proposal(project: Project, as_of: date | None = None) -> CalendarProposal:
+    """What the project's readings (up to the local day ``as_of``; default all) propose."""
+    cut = None if as_of is None else as_of_cut(as_of, project.timezone)
+    return propose_for_site(prepare_site(project), cut)
+
+
+def settle_one_shot(
+    project: Project,
+    *,
+    file: str | Path | None = None,
+    holidays: str | None = None,
+    as_of: date | None = None,
+    options: ReadOptions | None = None,
+) -> dict[str, str]:
+    """Store the campus calendar a one-shot budget uses and say, in words, where it came from.
+
+    The periods of ``file`` and the public holidays of ``holidays`` ("US-IL", "none") are taken
+    as given; what neither gives is proposed from the readings up to ``as_of`` (so that a
+    budget made as of a past day knows nothing the later readings show).
+    """
+    given = CampusCalendar()
+    if file is not None:
+        given = with_file(given, file, options or ReadOptions())
+    if holidays is not None:
+        given = with_holidays(given, holidays)
+    said = {
+        "periods": f"{len(given.periods)} from {Path(file).name}" if file is not None else "",
+        "public holidays": f"given: {holidays}" if holidays is not None else "",
+    }
+    if file is not None and holidays is not None:
+        store(project, given)
+        return {"source": "given (--calendar and --holidays)", **said}
+    found = proposal(project, as_of or last_reading_day(project))
+    chosen = found.calendar()
+    calendar = CampusCalendar(
+        given.country if holidays is not None else chosen.country,
+        given.subdivision if holidays is not None else chosen.subdivision,
+        given.periods if file is not None else chosen.periods,
+    )
+    store(project, calendar)
+    words = found.summary()
+    return {
+        "source": words["source"]
+        if not (file or holidays)
+        else "partly given, the rest proposed from the readings",
+        "public holidays": said["public holidays"] or words["public holidays"],
+        "periods": said["periods"] or words["periods"],
+    }

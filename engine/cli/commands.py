@@ -10,6 +10,7 @@ from pathlib import Path
 
 from engine import calendar_edit
 from engine.budgeting import budget_project, keep_budget
+from engine.calendar_proposal import with_proposal
 from engine.cleaning import (
     SiteDrivers,
     accepted_step,
@@ -208,6 +209,11 @@ def budget(args: argparse.Namespace) -> int:
         )
     if args.replace and not args.adopt:
         raise InputError("--replace goes with --adopt NAME.", hint="e.g. --adopt FY2026 --replace")
+    if args.project and (args.calendar or args.holidays):
+        raise InputError(
+            "--calendar and --holidays are for a one-shot budget; a project keeps its calendar.",
+            hint=f"Change it with loadledger calendar {args.project} --file FILE --holidays CC.",
+        )
     if args.project:
         with Project.open(args.project) as project:
             return _budget_report(args, project)
@@ -218,14 +224,25 @@ def budget(args: argparse.Namespace) -> int:
         path = Path(folder) / "one-shot.loadledger"
         with accounts_command.create_with_accounts(path, files, args) as project:
             apply_recommended_everywhere(project)
-            return _budget_report(args, project)
+            calendar_words = calendar_edit.settle_one_shot(
+                project,
+                file=args.calendar,
+                holidays=args.holidays,
+                as_of=parse_as_of(args.as_of) if args.as_of else None,
+                options=options,
+            )
+            return _budget_report(args, project, calendar_words)
 
 
-def _budget_report(args: argparse.Namespace, project: Project) -> int:
+def _budget_report(
+    args: argparse.Namespace, project: Project, calendar_words: dict | None = None
+) -> int:
     request = request_from_args(args, project)
     adopt_as = check_name(project, args.adopt, replace=args.replace) if args.adopt else None
     with project.transaction():  # the meters' modelling, the run and its adoption: one save
         outcome = budget_project(project, request, **_parallel(args))
+        if calendar_words:
+            outcome.run.assumptions["calendar"] = calendar_words
         keep_budget(project, outcome)
         if adopt_as:
             adopt_budget(project, adopt_as, outcome, request, replace=args.replace)
@@ -330,8 +347,13 @@ def _meters(project: Project, only: str | None) -> list[str]:
 
 
 def calendar(args: argparse.Namespace) -> int:
+    if args.accept and not args.propose:
+        raise InputError("--accept goes with --propose.", hint="e.g. --propose --accept")
     with Project.open(args.project) as project:
         changed = current = calendar_edit.current(project)
+        proposed = calendar_edit.proposal(project) if args.propose else None
+        if args.accept:
+            changed = with_proposal(changed, proposed)
         if args.file:
             options = ReadOptions(dayfirst=args.dayfirst)
             changed = calendar_edit.with_file(changed, args.file, options)
@@ -343,6 +365,8 @@ def calendar(args: argparse.Namespace) -> int:
             calendar_edit.store(project, changed)
         report = {"project": str(project.path), "changed": changed != current,
                   **describe_calendar(changed)}  # fmt: skip
+        if proposed is not None:
+            report["proposal"] = proposed.to_dict()
     _emit(args, report, text.calendar_report)
     return 0
 

@@ -156,6 +156,12 @@ def build_parser() -> argparse.ArgumentParser:
     budget.add_argument("--bills", action="append", default=[], metavar="FILE",
                         help="one-shot: a bill account's bills (repeatable)")  # fmt: skip
     accounts_command.add_option(budget)
+    budget.add_argument("--calendar", metavar="FILE",
+                        help="one-shot: the campus calendar (default: proposed from the "
+                        "readings, as the assumptions say)")  # fmt: skip
+    budget.add_argument("--holidays", metavar="CC[-SUB]",
+                        help="one-shot: public holidays, e.g. US-IL or none (default: the "
+                        "time zone's country where the readings confirm its holidays)")  # fmt: skip
     budget.add_argument(
         "--adopt",
         metavar="NAME",
@@ -194,6 +200,17 @@ def build_parser() -> argparse.ArgumentParser:
         "--copy-forward",
         action="store_true",
         help="add the last year's periods again a year later, on the same weekdays",
+    )
+    calendar.add_argument(
+        "--propose",
+        action="store_true",
+        help="show the periods and public holidays the readings suggest, with their evidence",
+    )
+    calendar.add_argument(
+        "--accept",
+        action="store_true",
+        help="with --propose: keep the proposal where the calendar has no periods or no "
+        "public holidays (what it has stays)",
     )
     _date_order_options(calendar)
     _json_option(calendar)

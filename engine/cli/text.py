@@ -204,6 +204,10 @@ def budget_report(report: dict) -> str:
     shown = {m["name"]: m.get("display_name", m["name"]) for m in report["meters"]}
     for name, calibration in report["calibration"].items():
         lines.append(f"  {shown.get(name, name)}: {calibration['summary']}")
+    calendar = report["assumptions"].get("calendar")
+    if calendar:
+        lines.append(f"  calendar: {calendar['source']}")
+        lines += [f"    {part}: {calendar[part]}" for part in ("public holidays", "periods")]
     lines += [f"  note: {caution}" for caution in report["cautions"]]
     if "workbook" in report:
         lines.append(f"wrote {report['workbook']}")
@@ -238,10 +242,31 @@ def _calendar_lines(report: dict) -> list[str]:
 
 
 def calendar_report(report: dict) -> str:
-    """What ``calendar`` prints: the stored calendar, and whether this run changed it."""
+    """What ``calendar`` prints: the stored calendar, whether this run changed it, and what
+    the readings propose when asked."""
     state = "changed and saved" if report["changed"] else "unchanged"
-    return "\n".join([f"project {report['project']}: campus calendar {state}",
-                      *_calendar_lines(report)]) + "\n"  # fmt: skip
+    lines = [f"project {report['project']}: campus calendar {state}", *_calendar_lines(report)]
+    if "proposal" in report:
+        lines += _proposal_lines(report["proposal"])
+    return "\n".join(lines) + "\n"
+
+
+def _proposal_lines(proposal: dict) -> list[str]:
+    found = proposal["holidays"]
+    lines = ["proposed from the readings:"]
+    if found:
+        where = found["country"] + (f"-{found['subdivision']}" if found["subdivision"] else "")
+        lines.append(f"  public holidays {where}: {found['evidence']}")
+    lines += [f"  note: {note}" for note in proposal["notes"]]
+    for period in proposal["periods"]:
+        ahead = " (copied forward)" if period["projected"] else ""
+        lines.append(
+            f"    {period['first_day']} .. {period['last_day']}  {period['kind']:<8} "
+            f"{period['name']}{ahead}"
+        )
+    evidence = dict.fromkeys(p["evidence"].split("; ")[-1] for p in proposal["periods"])
+    lines += [f"  evidence: {words}" for words in evidence]
+    return lines
 
 
 def track_report(report: dict) -> str:
@@ -274,6 +299,10 @@ def track_report(report: dict) -> str:
                 f"{_num(month['usage_kwh']):>12}  {inside}"
             )
         lines.append(_outlook_line(group, levels, report.get("currency") or ""))
+    calendar = report["assumptions"].get("calendar")
+    if calendar:
+        lines.append(f"  calendar: {calendar['source']}")
+        lines += [f"    {part}: {calendar[part]}" for part in ("public holidays", "periods")]
     lines += [f"  note: {caution}" for caution in report["cautions"]]
     if "workbook" in report:
         lines.append(f"wrote {report['workbook']}")

@@ -190,7 +190,15 @@ def read_calendar_file(
     table = table.fillna("")
     cells = table[[columns[role] for role in _HEADER_WORDS]].astype(object)
     cells.columns = list(_HEADER_WORDS)
-    cells = cells[cells.apply(lambda row: any(str(v).strip() for v in row), axis=1)]
+    filled = cells.map(lambda value: bool(str(value).strip())).any(axis=1)
+    cells = cells[filled]
+    if cells.empty:
+        raise InputError(
+            "the calendar lists no periods.",
+            hint="Add one row per period under the headers, or leave the calendar out.",
+            file=path,
+            sheet=sheet,
+        )
     date_texts = [
         str(value).strip()
         for value in pd.concat([cells["first_day"], cells["last_day"]])

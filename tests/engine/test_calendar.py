@@ -303,6 +303,14 @@ def test_missing_columns_and_ambiguous_dates_are_explained(tmp_path: Path) -> No
         read_calendar_file(_write_csv(tmp_path / "d.json", "{}"))
 
 
+@pytest.mark.parametrize("rows", ["", ",,,\n,,,\n"], ids=["headers only", "blank rows"])
+def test_a_calendar_without_periods_is_explained(tmp_path: Path, rows: str) -> None:
+    empty = _write_csv(tmp_path / "e.csv", "Period,First Day,Last Day,Kind\n" + rows)
+    with pytest.raises(InputError, match="lists no periods") as error:
+        read_calendar_file(empty)
+    assert error.value.place.file == str(empty)
+
+
 def test_the_holiday_lists_offer_what_a_calendar_accepts():
     countries = holiday_countries()
     # ISO 3166-1: US is the United States, GB the United Kingdom (from memory).
