@@ -12,7 +12,7 @@ from __future__ import annotations
 from functools import partial
 from html import escape
 
-from PySide6.QtCore import Qt, Signal
+from PySide6.QtCore import Signal
 from PySide6.QtWidgets import (
     QComboBox,
     QHBoxLayout,
@@ -20,7 +20,6 @@ from PySide6.QtWidgets import (
     QLabel,
     QMessageBox,
     QPushButton,
-    QSplitter,
     QTextBrowser,
     QVBoxLayout,
     QWidget,
@@ -43,6 +42,7 @@ from desktop.project_changes import LABELS, Reversible
 from desktop.session import Session
 from desktop.task_screen import TaskScreen
 from desktop.undo import undo_for
+from desktop.work_area import chart_notes_over_table
 from engine.budgeting import ProjectBudget, last_reading_day, latest_budget
 from engine.errors import InputError, ProjectError
 from engine.meter_labels import Labels, meter_labels, shown_name
@@ -100,14 +100,7 @@ class BudgetScreen(TaskScreen):
         buttons.addWidget(self.adopt_button)
         buttons.addWidget(self.budget_button)
         controls.addLayout(buttons)
-        top = QSplitter(Qt.Orientation.Horizontal)
-        top.addWidget(self.plot)
-        top.addWidget(self.notes)
-        top.setSizes([620, 420])
-        work = QSplitter(Qt.Orientation.Vertical)
-        work.addWidget(top)
-        work.addWidget(self.table)
-        work.setSizes([380, 320])
+        work = chart_notes_over_table(self.plot, self.notes, self.table, [620, 420], [380, 320])
         layout = QVBoxLayout(self)
         layout.addLayout(controls)
         layout.addWidget(self.notice)

@@ -17,14 +17,13 @@ from functools import partial
 from html import escape
 from pathlib import Path
 
-from PySide6.QtCore import QDate, Qt, Signal
+from PySide6.QtCore import QDate, Signal
 from PySide6.QtWidgets import (
     QComboBox,
     QDateEdit,
     QHBoxLayout,
     QLabel,
     QPushButton,
-    QSplitter,
     QTextBrowser,
     QVBoxLayout,
     QWidget,
@@ -50,6 +49,7 @@ from desktop.tracking_jobs import (
 )
 from desktop.tracking_plot import TrackingPanel
 from desktop.tracking_table import TrackingTable
+from desktop.work_area import chart_notes_over_table
 from engine.export.finance_tables import Budgeted
 from engine.project import Project
 
@@ -126,14 +126,7 @@ class TrackScreen(TaskScreen):
         showing.addWidget(QLabel("Show"))
         showing.addWidget(self.pick)
         showing.addWidget(self.summary, 1)
-        top = QSplitter(Qt.Orientation.Horizontal)
-        top.addWidget(self.plot)
-        top.addWidget(self.notes)
-        top.setSizes([600, 400])
-        work = QSplitter(Qt.Orientation.Vertical)
-        work.addWidget(top)
-        work.addWidget(self.table)
-        work.setSizes([330, 300])
+        work = chart_notes_over_table(self.plot, self.notes, self.table, [600, 400], [330, 300])
         layout = QVBoxLayout(self)
         layout.addLayout(controls)
         layout.addWidget(self.notice)

@@ -204,7 +204,7 @@ def budget_report(report: dict) -> str:
     shown = {m["name"]: m.get("display_name", m["name"]) for m in report["meters"]}
     for name, calibration in report["calibration"].items():
         lines.append(f"  {shown.get(name, name)}: {calibration['summary']}")
-    calendar = report["assumptions"].get("calendar")
+    calendar = report.get("assumptions", {}).get("calendar")
     if calendar:
         lines.append(f"  calendar: {calendar['source']}")
         lines += [f"    {part}: {calendar[part]}" for part in ("public holidays", "periods")]
@@ -299,7 +299,7 @@ def track_report(report: dict) -> str:
                 f"{_num(month['usage_kwh']):>12}  {inside}"
             )
         lines.append(_outlook_line(group, levels, report.get("currency") or ""))
-    calendar = report["assumptions"].get("calendar")
+    calendar = report.get("assumptions", {}).get("calendar")
     if calendar:
         lines.append(f"  calendar: {calendar['source']}")
         lines += [f"    {part}: {calendar[part]}" for part in ("public holidays", "periods")]
