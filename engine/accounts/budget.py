@@ -274,9 +274,38 @@ def describe(run: BudgetRun, accounts: Accounts, priced: Collection[str] = ()) -
         f"Account '{failure.name}' is left out of this budget: {failure.reason}."
         for failure in accounts.failures
     ]
+    run.cautions += _maybe_counted_twice(run, accounts)
     counted_twice = [plan.name for plan in accounts.plans if plan.metered_by]
     if counted_twice:
         run.cautions.append(
             f"Account(s) {', '.join(counted_twice)} are measured by meters: they are listed "
             "but left out of the utility and campus totals, where their meters count."
         )
+
+
+def _maybe_counted_twice(run: BudgetRun, accounts: Accounts) -> list[str]:
+    """A caution per account counted in the totals beside meters of its utility that belong
+    to no account: if they measure part of its supply, the totals count it twice. Which
+    meters an account covers is the user's to say; it is never guessed."""
+    members = {meter for plan in accounts.plans for meter in plan.metered_by}
+    cautions = []
+    for plan in accounts.plans:
+        if plan.metered_by:
+            continue
+        beside = [
+            meter.name
+            for meter in run.meters
+            if meter.source == "readings"
+            and meter.utility == plan.utility
+            and meter.name not in members
+        ]
+        if beside:
+            cautions.append(
+                f"Account '{plan.name}' ({plan.utility.replace('_', ' ')}) is counted in the "
+                f"totals beside {'the meter' if len(beside) == 1 else 'the meters'} "
+                f"{', '.join(beside)} of the same utility. If one of them measures part of the "
+                "account's supply, say so (loadledger accounts "
+                "PROJECT --meter-account METER=ACCOUNT, or the window's Project ▸ Meters, "
+                "units and calendar), or that supply is counted twice."
+            )
+    return cautions

@@ -281,3 +281,25 @@ def test_a_project_of_bills_alone_with_a_missing_bill_is_budgeted_with_a_caution
         "1 gap(s) between billing periods" in c and f"after {before['Period end']}" in c
         for c in report["cautions"]
     )
+
+
+def test_accounts_beside_meters_of_their_utility_that_belong_to_no_account_are_cautioned(
+    site, one_shot
+):
+    """Without --meter-account nothing says which meter is part of which account: each
+    account is counted beside the meter of its utility, and the budget says so rather than
+    guess."""
+    assert not [c for c in one_shot["cautions"] if "counted twice" in c]  # the meter is placed
+    done = loadledger(
+        "budget", "--meters", site["meters"], "--weather-file", site["weather"],
+        "--bills", site["paths"]["annex"], "--bills", site["paths"]["boiler-bills"],
+        "--timezone", "UTC", "--start", "2025-10", "--months", "1", "--paths", "100", "--json",
+    )  # fmt: skip
+    cautions = json.loads(done.stdout)["cautions"]
+    for account, utility, meter in (
+        ("annex", "natural gas", "Boiler gas"),
+        ("boiler-bills", "electricity", "Hall"),  # billed in kWh: filed under electricity
+    ):
+        (said,) = [c for c in cautions if c.startswith(f"Account '{account}' ({utility})")]
+        assert f"beside the meter {meter} of the same utility" in said
+        assert "counted twice" in said
