@@ -16,7 +16,9 @@ years of hourly readings and hourly weather, generated here:
 2. next-month budget from the freshly cleaned project with no stored models, as the window
    runs it (in a process with the engine imported, so its worker processes import little;
    target ≤ 20 s), and the same through the command line;
-3. the same budget again with typical weather instead of past years' (target ≤ 3 s);
+3. the same budget again with typical weather instead of past years', through the command line
+   and as the window runs it, in a process that has imported the engine (target ≤ 3 s: the
+   window imports the budget code when it opens, which ``--version`` does not);
 4. the fiscal-year budget (July–June) with the stored models (target ≤ 5 s);
 5. ``fit --meter Library``: one meter, 3 years of 15-minute readings, default families,
    12 origins (target ≤ 5 s);
@@ -50,7 +52,7 @@ RATE_CARD = ROOT / "sample" / "tariffs" / "orrinvale-main-electric.ratecard.toml
 PYTHON = sys.executable
 TARGETS = {
     "budget, no stored models, in the window": 20.0,
-    "budget again, typical weather": 3.0,
+    "budget again, typical weather, in the window": 3.0,
     "fiscal-year budget": 5.0,
     "fit one 15-minute meter": 5.0,
     "one-shot, 3 meters x 4 years": 15.0,
@@ -59,7 +61,6 @@ TARGETS = {
 #: Steps whose target is for the window, which has started and imported once: they are held
 #: to it after the command line's own start-up (``--version``) is taken off.
 WINDOW_STEPS = (
-    "budget again, typical weather",
     "fiscal-year budget",
     "fit one 15-minute meter",
 )
@@ -88,17 +89,19 @@ import sys, time
 from engine.budgeting import budget_project, budget_request
 from engine.project import Project
 with Project.open(sys.argv[1]) as project:
-    request = budget_request(project, ["2026-11"])
+    weather = {"weather": sys.argv[2]} if len(sys.argv) > 2 else {}
+    request = budget_request(project, ["2026-11"], **weather)
     started = time.perf_counter()
     budget_project(project, request)
     print(time.perf_counter() - started)
 """
 
 
-def window_budget(engine: Path, project: Path) -> tuple[float, float, str]:
-    """Seconds of the first budget inside one process, as the window's worker thread runs it."""
+def window_budget(engine: Path, project: Path, *weather: str) -> tuple[float, float, str]:
+    """Seconds of a next-month budget inside one process, as the window's worker thread runs
+    it (the engine imported already); ``weather`` names the assumption (default: the tool's)."""
     done = subprocess.run(
-        [PYTHON, "-c", WINDOW_BUDGET, str(project)],
+        [PYTHON, "-c", WINDOW_BUDGET, str(project), *weather],
         cwd=engine,
         capture_output=True,
         text=True,
@@ -173,6 +176,9 @@ def measure(engine: Path, folder: Path) -> dict[str, tuple[float, float, str]]:
     figures["budget, no stored models"] = budget("--start", "2026-11", "--months", "1")
     figures["budget again, typical weather"] = budget(
         "--start", "2026-11", "--months", "1", "--weather", "typical"
+    )
+    figures["budget again, typical weather, in the window"] = window_budget(
+        engine, project, "typical"
     )
     figures["fiscal-year budget"] = budget("--start", "2026-07", "--fiscal-year", "2027")
     shutil.copyfile(clean_copy, project)
