@@ -17,6 +17,7 @@ import pandas as pd
 from engine.backtest import BacktestResult
 from engine.errors import ProjectError
 from engine.fit_brief import ReadingsBrief, ranking_sentence, readings_brief, recommended
+from engine.meter_labels import temperature_unit
 from engine.modelling import chosen_model, fit_meter, use_ranked_model
 from engine.models import MODEL_FAMILIES, EnergyModel
 from engine.prepared_site import prepare_site
@@ -125,7 +126,9 @@ def fit_report(
         progress=progress,
     )
     kept = f"Kept in {project.path.name}" if outcome.result_id is not None else ""
-    return _report(request.meter, outcome.choice.to_dict(), outcome.backtest, outcome.model, kept)
+    choice = outcome.choice.to_dict()
+    shown = temperature_unit(project)
+    return _report(request.meter, choice, outcome.backtest, outcome.model, kept, shown)
 
 
 def meter_view(project: Project, meter: str, progress: Progress | None = None) -> MeterView:
@@ -154,7 +157,7 @@ def stored_report(
             backtest = None
     kept = f"Fitted {stored['created_at'][:16].replace('T', ' ')} UTC, kept in the project"
     step(progress, 1.0, "model read")
-    return _report(meter, choice, backtest, model, kept)
+    return _report(meter, choice, backtest, model, kept, temperature_unit(project))
 
 
 def use_model_report(
@@ -172,7 +175,10 @@ def _report(
     backtest: BacktestResult | None,
     model: EnergyModel | None,
     kept: str,
+    temperature: str = "°C",
 ) -> ModelReport:
+    """The report of a meter's choice; the model's statements with temperatures in
+    ``temperature`` (the project's °C or °F)."""
     ranking = pd.DataFrame(choice["ranking"])
     chosen = choice["chosen"]
     labels = dict(zip(ranking.get("model", []), ranking.get("name", []), strict=True))
@@ -196,17 +202,17 @@ def _report(
     # The residual diagnostics are the recommended model's (kept aside after a hand choice).
     diagnostics = (choice.get("recommendation") or choice).get("diagnostics") or {}
     report.residual_condition = diagnostics.get("weather") or choice["condition"]
-    _add_coefficients(report, model)
+    _add_coefficients(report, model, temperature)
     _add_trace(report, backtest)
     _add_residuals(report, diagnostics)
     return report
 
 
-def _add_coefficients(report: ModelReport, model: EnergyModel | None) -> None:
+def _add_coefficients(report: ModelReport, model: EnergyModel | None, temperature: str) -> None:
     if model is None:
         report.coefficients_note = "No fitted model is stored: fit again to see what it says."
         return
-    report.coefficients = model.coefficients_table()
+    report.coefficients = model.coefficients_table(temperature)
 
 
 def _add_trace(report: ModelReport, backtest: BacktestResult | None) -> None:

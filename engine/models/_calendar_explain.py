@@ -19,7 +19,7 @@ from engine.models._calendar_design import (
     DesignLayout,
     fourier_columns,
 )
-from engine.models._family import Statement, statement_table
+from engine.models._family import Degrees, Statement, statement_table
 
 #: Local hours counted as daytime when stating day-type effects in percent.
 DAYTIME_HOURS: tuple[int, int] = (8, 18)
@@ -65,22 +65,20 @@ def _base(terms: FittedTerms) -> list[Statement]:
     ]
 
 
-def _weather(terms: FittedTerms) -> list[Statement]:
+def _weather(terms: FittedTerms, degrees: Degrees) -> list[Statement]:
     rows: list[Statement] = []
     for term, side in (("heating", "below"), ("cooling", "above")):
         base = getattr(terms.layout, f"{term}_base")
         if base is None:
             continue
-        slope = terms.coefficient(f"{term} degree-hours")
+        slope = degrees.per_degree(terms.coefficient(f"{term} degree-hours"))
+        per = f"kWh per {degrees.unit}-hour"
+        where = f"{side} {degrees.text(base)}"
+        rows.append((term, slope, per, f"{term} adds {slope:.2f} {per} {where}"))
         rows.append(
-            (
-                term,
-                slope,
-                "kWh per °C-hour",
-                f"{term} adds {slope:.2f} kWh per °C-hour {side} {base:.1f} °C",
-            )
-        )
-        rows.append((f"{term} balance point", base, "°C", f"{term} starts {side} {base:.1f} °C"))
+            (f"{term} balance point", degrees.temperature(base), degrees.unit,
+             f"{term} starts {where}")
+        )  # fmt: skip
     return rows
 
 
@@ -167,7 +165,13 @@ def _cycles(terms: FittedTerms) -> list[Statement]:
     return rows
 
 
-def statements(terms: FittedTerms) -> pd.DataFrame:
-    """The statements table (see the module docstring)."""
-    rows = [*_base(terms), *_weather(terms), *_calendar(terms), *_trend(terms), *_cycles(terms)]
+def statements(terms: FittedTerms, degrees: Degrees) -> pd.DataFrame:
+    """The statements table (see the module docstring), temperatures as ``degrees`` says."""
+    rows = [
+        *_base(terms),
+        *_weather(terms, degrees),
+        *_calendar(terms),
+        *_trend(terms),
+        *_cycles(terms),
+    ]
     return statement_table(rows)

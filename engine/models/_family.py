@@ -23,11 +23,30 @@ from sklearn.exceptions import NotFittedError
 from engine.errors import InputError, ProjectError
 from engine.models.base import ModelInputs, scenario_rows
 from engine.progress import Cancelled
+from engine.units import from_celsius, per_degree_in
 
 #: Columns of a model's statements table (:meth:`ModelFamily.coefficients_table`).
 STATEMENT_COLUMNS: tuple[str, ...] = ("term", "value", "unit", "meaning")
 #: One statement: a term, its value in a unit (NaN when it has none) and a sentence.
 Statement = tuple[str, float, str, str]
+
+
+class Degrees:
+    """Temperatures and amounts per degree in the unit a site reads them in (°C or °F), for
+    stating a fit; the models themselves work in °C (conversions: NIST SP 811 (2008), B.8)."""
+
+    def __init__(self, unit: str = "°C") -> None:
+        self.unit = unit
+
+    def temperature(self, celsius: float) -> float:
+        return float(from_celsius(celsius, self.unit))
+
+    def per_degree(self, per_celsius: float) -> float:
+        return float(per_degree_in(per_celsius, self.unit))
+
+    def text(self, celsius: float, digits: int = 1) -> str:
+        """``celsius`` as words in the unit, e.g. "59.0 °F" (``digits`` after the point)."""
+        return f"{self.temperature(celsius):.{digits}f} {self.unit}"
 
 
 def statement_table(rows: list[Statement]) -> pd.DataFrame:
@@ -149,9 +168,10 @@ class ModelFamily:
         self._require_fitted()
         return pd.DataFrame(index=inputs.index)
 
-    def coefficients_table(self) -> pd.DataFrame:
+    def coefficients_table(self, temperature_unit: str = "°C") -> pd.DataFrame:
         """The fit in physical units and plain words: one row per statement, columns
-        ``term``, ``value``, ``unit`` and ``meaning``.
+        ``term``, ``value``, ``unit`` and ``meaning``; temperatures and amounts per degree in
+        ``temperature_unit`` (°C or °F, as the site reads them; the models work in °C).
 
         Families with effects to state (a base load, a heating slope) override it; the others
         say in one statement how they forecast (:meth:`how_it_forecasts`).

@@ -111,8 +111,9 @@ class EnergyModel(Protocol):
         """Each part's contribution (kWh per interval); no columns when not split."""
         ...
 
-    def coefficients_table(self) -> pd.DataFrame:
-        """The fit in plain words: ``term``, ``value``, ``unit``, ``meaning`` per statement."""
+    def coefficients_table(self, temperature_unit: str = "°C") -> pd.DataFrame:
+        """The fit in plain words: ``term``, ``value``, ``unit``, ``meaning`` per statement,
+        temperatures in ``temperature_unit`` (°C or °F)."""
         ...
 
     def settings(self) -> dict[str, Any]:

@@ -47,6 +47,7 @@ from engine.models._calendar_design import (
 from engine.models._calendar_explain import FittedTerms, statements
 from engine.models._calendar_fitting import FitHistory, Solution
 from engine.models._family import (
+    Degrees,
     ModelFamily,
     float_array,
     float_list,
@@ -275,7 +276,7 @@ class CalendarRegressionModel(ModelFamily):
             return None
         return terms.coefficient("cooling degree-hours")
 
-    def coefficients_table(self) -> pd.DataFrame:
+    def coefficients_table(self, temperature_unit: str = "°C") -> pd.DataFrame:
         """The fit in physical units and plain words.
 
         Returns
@@ -286,7 +287,7 @@ class CalendarRegressionModel(ModelFamily):
             daytime use (08:00–18:00) by -37 %", "trend: +1.5 % per year at the end of the fit
             window"); see :mod:`engine.models._calendar_explain`.
         """
-        return statements(self._terms())
+        return statements(self._terms(), Degrees(temperature_unit))
 
     # -- storage -----------------------------------------------------------------------------
 

@@ -35,7 +35,7 @@ from engine.models._days import (
     day_group_codes,
     day_mean_temperatures,
 )
-from engine.models._family import Statement, statement_table
+from engine.models._family import Degrees, Statement, statement_table
 from engine.models._inputs import (
     labels_of,
     local_clock,
@@ -141,12 +141,14 @@ class DailyChangePointModel(DayTotalsModel):
         self.n_parameters_ = int(sum(per_group) + self.day_shapes_.n_parameters)
         return self
 
-    def coefficients_table(self) -> pd.DataFrame:
+    def coefficients_table(self, temperature_unit: str = "°C") -> pd.DataFrame:
         """The fit in physical units and plain words, per day group: the base load, and the
         heating and cooling slopes with their change points (or the mean day without
         temperature), e.g. "weekdays: heating adds 41.2 kWh per day for each °C the day's
         mean is below 12.5 °C"."""
         self._require_fitted()
+        degrees = Degrees(temperature_unit)
+        per = f"kWh per day per {degrees.unit}"
         rows: list[Statement] = []
         for name, mean in self.mean_daily_energy_.items():
             group = _GROUP_WORDS[name]
@@ -156,12 +158,14 @@ class DailyChangePointModel(DayTotalsModel):
                              f"{group} use {mean:,.0f} kWh per day on average"))  # fmt: skip
                 continue
             if model.kind == "2P":  # a straight line: no change point, level at 0 °C
-                slope = model.cooling_slope_ - model.heating_slope_
+                slope = degrees.per_degree(model.cooling_slope_ - model.heating_slope_)
+                zero = degrees.text(0.0, digits=0)
                 rows += [
-                    (f"{group}: use at 0 °C", model.intercept_, "kWh per day",
-                     f"{group} use {model.intercept_:,.0f} kWh per day at a daily mean of 0 °C"),
-                    (f"{group}: temperature", slope, "kWh per day per °C",
-                     f"on {group}, each °C warmer changes use by {slope:+,.1f} kWh per day"),
+                    (f"{group}: use at {zero}", model.intercept_, "kWh per day",
+                     f"{group} use {model.intercept_:,.0f} kWh per day at a daily mean of {zero}"),
+                    (f"{group}: temperature", slope, per,
+                     f"on {group}, each {degrees.unit} warmer changes use by {slope:+,.1f} kWh "
+                     "per day"),
                 ]  # fmt: skip
                 continue
             rows.append(
@@ -178,13 +182,14 @@ class DailyChangePointModel(DayTotalsModel):
                 ("cooling", model.cooling_slope_, model.change_points_[-1:], "above"),
             ):
                 if slope and point:
+                    shown = degrees.per_degree(slope)
                     rows.append(
                         (
                             f"{group}: {term}",
-                            slope,
-                            "kWh per day per °C",
-                            f"on {group}, {term} adds {slope:,.1f} kWh per day for each °C the "
-                            f"day's mean is {side} {point[0]:.1f} °C",
+                            shown,
+                            per,
+                            f"on {group}, {term} adds {shown:,.1f} kWh per day for each "
+                            f"{degrees.unit} the day's mean is {side} {degrees.text(point[0])}",
                         )
                     )
         return statement_table(rows)

@@ -120,7 +120,7 @@ class LastYearAdjustedModel(ModelFamily):
         rows = scenario_rows(inputs, temperatures)
         return self.regression_.predict_scenarios(inputs, rows) + self._carried(inputs)
 
-    def coefficients_table(self) -> pd.DataFrame:
+    def coefficients_table(self, temperature_unit: str = "°C") -> pd.DataFrame:
         """The regression's statements, after one saying what is carried from last year."""
         self._require_fitted()
         mean = float(self.departures_.mean()) if len(self.departures_) else 0.0
@@ -134,7 +134,7 @@ class LastYearAdjustedModel(ModelFamily):
             "kWh per hour",
         )
         return pd.concat(
-            [statement_table([carried]), self.regression_.coefficients_table()],
+            [statement_table([carried]), self.regression_.coefficients_table(temperature_unit)],
             ignore_index=True,
         )
 

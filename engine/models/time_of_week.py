@@ -34,6 +34,7 @@ import pandas as pd
 
 from engine.errors import InputError
 from engine.models._family import (
+    Degrees,
     ModelFamily,
     Statement,
     float_array,
@@ -155,32 +156,34 @@ class TimeOfWeekTemperatureModel(ModelFamily):
         self.n_parameters_ = fit.n_parameters
         return self
 
-    def coefficients_table(self) -> pd.DataFrame:
+    def coefficients_table(self, temperature_unit: str = "°C") -> pd.DataFrame:
         """The fit in physical units and plain words, per occupancy mode: the average load at
         0 °C over the times of the week, and the slope below the lowest and above the highest
         temperature knot (kWh per hour per °C), e.g. "occupied: below 2.1 °C each °C colder
         adds 3.4 kWh per hour"."""
         self._require_fitted()
         hours = self.interval_ / pd.Timedelta(hours=1)
+        degrees = Degrees(temperature_unit)
+        per = f"kWh per hour per {degrees.unit}"
         rows: list[Statement] = []
         for mode, words in ((OCCUPIED, "occupied"), (UNOCCUPIED, "unoccupied")):
             slots = self.slot_coefficients_[mode]
             if not np.isfinite(slots).any():
                 continue
             level = float(np.nanmean(slots)) / hours
-            rows.append((f"{words}: load at 0 °C", level, "kWh per hour",
+            rows.append((f"{words}: load at {degrees.text(0.0, digits=0)}", level, "kWh per hour",
                          f"{words} times of the week use {level:,.1f} kWh per hour on average "
                          "before the temperature's effect"))  # fmt: skip
             if not self.uses_temperature_:
                 continue
             slopes = self.temperature_coefficients_[mode] / hours
-            cold, warm = -slopes[0], slopes[-1]
-            rows.append((f"{words}: colder", cold, "kWh per hour per °C",
-                         f"{words}, below {self.knots_[0]:.1f} °C each °C colder changes use by "
-                         f"{cold:+,.2f} kWh per hour"))  # fmt: skip
-            rows.append((f"{words}: warmer", warm, "kWh per hour per °C",
-                         f"{words}, above {self.knots_[-1]:.1f} °C each °C warmer changes use by "
-                         f"{warm:+,.2f} kWh per hour"))  # fmt: skip
+            cold, warm = degrees.per_degree(-slopes[0]), degrees.per_degree(slopes[-1])
+            rows.append((f"{words}: colder", cold, per,
+                         f"{words}, below {degrees.text(self.knots_[0])} each {degrees.unit} "
+                         f"colder changes use by {cold:+,.2f} kWh per hour"))  # fmt: skip
+            rows.append((f"{words}: warmer", warm, per,
+                         f"{words}, above {degrees.text(self.knots_[-1])} each {degrees.unit} "
+                         f"warmer changes use by {warm:+,.2f} kWh per hour"))  # fmt: skip
         return statement_table(rows)
 
     def temperature_response(self, temps: Any, occupied: bool = True) -> np.ndarray:

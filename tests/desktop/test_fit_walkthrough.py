@@ -23,6 +23,7 @@ from desktop.models_screen import BACKTEST, CHOICE, FAMILIES, RANKING, READINGS
 from engine.backtest import BacktestResult
 from engine.cleaning.steps import range_step
 from engine.fit_brief import family_notes, ranking_sentence, readings_brief
+from engine.meter_labels import temperature_unit
 from engine.modelling import chosen_model, fit_meter
 from engine.models import MODEL_FAMILIES
 from engine.prepared_site import prepare_site
@@ -176,8 +177,12 @@ def _check_statements(screen, path: Path) -> None:
     """What the chosen model says is the kept model's own statements, in physical units."""
     with Project.open(path) as project:
         model, _ = chosen_model(project, "Library")
-    expected = model.coefficients_table()
+        shown = temperature_unit(project)
+    expected = model.coefficients_table(shown)
     table = screen.coefficients.table
+    if shown == "°F":  # the sample's weather came in °F: no statement is left in °C
+        assert not any("°C" in table.item(r, c).text() for r in range(table.rowCount())
+                       for c in (0, 2, 3))  # fmt: skip
     assert table.rowCount() == len(expected)
     assert [table.item(r, 0).text() for r in range(table.rowCount())] == list(expected["term"])
     assert [table.item(r, 2).text() for r in range(table.rowCount())] == list(expected["unit"])

@@ -284,6 +284,24 @@ def test_scenario_predictions_check_the_shape(cases, fitted):
 
 
 @pytest.mark.parametrize("name", FAMILIES)
+def test_every_family_states_its_fit_in_fahrenheit_for_a_site_that_reads_fahrenheit(name, fitted):
+    """The same statements, temperatures and amounts per degree converted (NIST SP 811 (2008),
+    B.8: t/°F = 1.8 t/°C + 32; a °F interval is 5/9 of a kelvin), and no °C left in words."""
+    celsius = fitted[name].coefficients_table()
+    fahrenheit = fitted[name].coefficients_table("°F")
+    assert len(fahrenheit) == len(celsius)
+    for (_, c), (_, f) in zip(celsius.iterrows(), fahrenheit.iterrows(), strict=True):
+        assert f["unit"] == c["unit"].replace("°C", "°F")
+        if c["unit"] == "°C":
+            assert f["value"] == pytest.approx(1.8 * c["value"] + 32)
+        elif "°C" in c["unit"]:
+            assert f["value"] == pytest.approx(c["value"] / 1.8)
+        elif not np.isnan(c["value"]):
+            assert f["value"] == pytest.approx(c["value"])
+        assert "°C" not in f["term"] + f["meaning"]
+
+
+@pytest.mark.parametrize("name", FAMILIES)
 def test_every_fitted_family_says_what_it_learned_in_words(name, fitted):
     table = fitted[name].coefficients_table()
     assert list(table.columns) == ["term", "value", "unit", "meaning"]
