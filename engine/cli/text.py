@@ -204,14 +204,7 @@ def budget_report(report: dict) -> str:
     shown = {m["name"]: m.get("display_name", m["name"]) for m in report["meters"]}
     for name, calibration in report["calibration"].items():
         lines.append(f"  {shown.get(name, name)}: {calibration['summary']}")
-    calendar = report.get("assumptions", {}).get("calendar")
-    if calendar:
-        lines.append(f"  calendar: {calendar['source']}")
-        lines += [f"    {part}: {calendar[part]}" for part in ("public holidays", "periods")]
-    lines += [f"  note: {caution}" for caution in report["cautions"]]
-    if "workbook" in report:
-        lines.append(f"wrote {report['workbook']}")
-    return "\n".join(lines) + "\n"
+    return _with_closing_lines(lines, report)
 
 
 def meter_report(report: dict) -> str:
@@ -299,14 +292,7 @@ def track_report(report: dict) -> str:
                 f"{_num(month['usage_kwh']):>12}  {inside}"
             )
         lines.append(_outlook_line(group, levels, report.get("currency") or ""))
-    calendar = report.get("assumptions", {}).get("calendar")
-    if calendar:
-        lines.append(f"  calendar: {calendar['source']}")
-        lines += [f"    {part}: {calendar[part]}" for part in ("public holidays", "periods")]
-    lines += [f"  note: {caution}" for caution in report["cautions"]]
-    if "workbook" in report:
-        lines.append(f"wrote {report['workbook']}")
-    return "\n".join(lines) + "\n"
+    return _with_closing_lines(lines, report)
 
 
 def _outlook_line(group: dict, levels: list[str], currency: str) -> str:
@@ -322,3 +308,16 @@ def _outlook_line(group: dict, levels: list[str], currency: str) -> str:
             f"{_num(group['adopted_total']['cost']['quantiles']['50'])})"
         )
     return line
+
+
+def _with_closing_lines(lines: list[str], report: dict) -> str:
+    """``lines`` and what a budget or tracking report ends with: the calendar it assumed,
+    its cautions and the workbook written, as one text."""
+    calendar = report.get("assumptions", {}).get("calendar")
+    if calendar:
+        lines.append(f"  calendar: {calendar['source']}")
+        lines += [f"    {part}: {calendar[part]}" for part in ("public holidays", "periods")]
+    lines += [f"  note: {caution}" for caution in report["cautions"]]
+    if "workbook" in report:
+        lines.append(f"wrote {report['workbook']}")
+    return "\n".join(lines) + "\n"
