@@ -31,7 +31,7 @@ from desktop.budget_jobs import (
 )
 from desktop.choices import ChoiceBox
 from engine.budget.periods import MAX_MONTHS, first_open_month, fiscal_quarter_of, fiscal_year_of
-from engine.budgeting import DEFAULT_WEATHER, DEFAULT_WEATHER_REASON
+from engine.steps.budgeting import DEFAULT_WEATHER, DEFAULT_WEATHER_REASON
 from engine.tariffs import RATECARD_SUFFIX
 
 WEATHER_WORDS = (

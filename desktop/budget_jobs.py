@@ -2,7 +2,7 @@
 
 The choices mirror the command line's budget options: the period through
 :func:`engine.budget.budget_months`, the rest checked and read by
-:func:`engine.budgeting.budget_request`, so a bad file fails with the engine's own message
+:func:`engine.steps.budgeting.budget_request`, so a bad file fails with the engine's own message
 naming it. The run is kept in the project file as the command line keeps it.
 """
 
@@ -14,7 +14,12 @@ from datetime import date
 from engine.budget import budget_months
 from engine.budget.periods import DEFAULT_FISCAL_START
 from engine.budget.summary import PEAK_CAUTION
-from engine.budgeting import (
+from engine.errors import InputError
+from engine.export.finance_workbook import DESIGN_LOAD_CAUTION
+from engine.progress import Progress
+from engine.project import Project
+from engine.steps.adopting import adopt_budget
+from engine.steps.budgeting import (
     DEFAULT_PATHS,
     DEFAULT_WEATHER,
     BudgetRequest,
@@ -23,11 +28,6 @@ from engine.budgeting import (
     budget_request,
     keep_budget,
 )
-from engine.errors import InputError
-from engine.export.finance_workbook import DESIGN_LOAD_CAUTION
-from engine.progress import Progress
-from engine.project import Project
-from engine.tracking.adopt import adopt_budget
 
 #: Budget periods the screen offers: the value behind each one's words.
 PERIODS: dict[str, str] = {

@@ -43,11 +43,12 @@ from desktop.session import Session
 from desktop.task_screen import TaskScreen
 from desktop.undo import undo_for
 from desktop.work_area import chart_notes_over_table
-from engine.budgeting import ProjectBudget, last_reading_day, latest_budget
 from engine.errors import InputError, ProjectError
-from engine.meter_labels import Labels, meter_labels, shown_name
+from engine.meter_labels import Labels, shown_name
 from engine.project import Project
-from engine.tracking.adopt import adopted_as_issued
+from engine.steps.adopting import adopted_as_issued
+from engine.steps.budgeting import ProjectBudget, last_reading_day, latest_budget
+from engine.steps.labels import meter_labels
 
 
 class BudgetScreen(TaskScreen):

@@ -12,11 +12,12 @@ from dataclasses import dataclass
 
 import pandas as pd
 
-from engine.cleaning import CleanedSeries, CleaningStep, Finding, MeterReview, apply_steps
-from engine.cleaning import review_meter as engine_review
-from engine.cleaning.log_changes import LogChange, logged_change
+from engine.cleaning import CleanedSeries, CleaningStep, Finding, apply_steps
 from engine.progress import Progress, step
 from engine.project import Project
+from engine.steps.cleaning import MeterReview
+from engine.steps.cleaning import review_meter as engine_review
+from engine.steps.cleaning_changes import LogChange, logged_change
 
 #: A change to the project's cleaning log, such as ``partial(Project.remove_cleaning_step, …)``.
 Change = Callable[[Project], object]

@@ -31,17 +31,11 @@ from desktop.project_changes import CALENDAR, CLEANING, Reversible, cleaning_cha
 from desktop.quality_panel import QualityPanel
 from desktop.session import Session
 from desktop.workers import Failure, Task
-from engine.cleaning import (
-    Finding,
-    MeterReview,
-    accepted_step,
-    apply_recommended,
-    apply_recommended_everywhere,
-    recommended_steps,
-)
-from engine.cleaning.log_changes import LogChange
+from engine.cleaning import Finding, accepted_step, recommended_steps
 from engine.errors import InputError, ProjectError
 from engine.project import Project
+from engine.steps.cleaning import MeterReview, apply_recommended, apply_recommended_everywhere
+from engine.steps.cleaning_changes import LogChange
 
 #: Width of the column holding the quality summary and the log, enough for their words.
 SIDE_WIDTH = 380

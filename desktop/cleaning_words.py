@@ -10,7 +10,8 @@ from collections.abc import Mapping
 
 import pandas as pd
 
-from engine.cleaning import FINDING_KINDS, STEP_KINDS, Finding, MeterReview, recommended_steps
+from engine.cleaning import FINDING_KINDS, STEP_KINDS, Finding, recommended_steps
+from engine.steps.cleaning import MeterReview
 from engine.words import counted
 
 #: Short names for the kinds of finding (the engine's own descriptions go in tooltips).

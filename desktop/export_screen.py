@@ -23,10 +23,10 @@ from PySide6.QtWidgets import (
 from desktop.budget_jobs import period_words
 from desktop.file_dialogs import ask_workbook_path
 from desktop.task_screen import TaskScreen
-from engine.budgeting import ProjectBudget
 from engine.export.finance_workbook import SHEETS, write_finance_workbook
 from engine.meter_labels import Labels
 from engine.progress import Progress
+from engine.steps.budgeting import ProjectBudget
 from engine.words import counted
 
 WORKBOOK_NAME = "finance-budget.xlsx"

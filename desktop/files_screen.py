@@ -43,11 +43,11 @@ from desktop.session import Session
 from desktop.task_bar import TaskBar
 from desktop.understood_view import KIND_WORDS, UnderstoodView
 from desktop.workers import SHUTDOWN_SECONDS, Failure, Task
-from engine import calendar_edit
-from engine.calendar_edit import current as current_calendar
 from engine.calendar_proposal import CalendarProposal
 from engine.errors import InputError
 from engine.project import Project
+from engine.steps import calendar_edit
+from engine.steps.calendar_edit import current as current_calendar
 from engine.words import counted
 
 KINDS = (("decide from the contents", None), *((words, kind) for kind, words in KIND_WORDS.items()))

@@ -13,7 +13,6 @@ from dataclasses import dataclass, field, replace
 from pathlib import Path
 
 from engine.errors import InputError
-from engine.importing import ImportedFiles, assemble_project, store_files
 from engine.progress import Progress, step
 from engine.project import Project
 from engine.reading import (
@@ -26,6 +25,7 @@ from engine.reading import (
     guess_kind,
     read_file,
 )
+from engine.steps.importing import ImportedFiles, assemble_project, store_files
 from engine.words import counted
 from engine.zone_names import require_zone
 

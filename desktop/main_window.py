@@ -36,11 +36,11 @@ from desktop.recent_list import RecentList
 from desktop.session import Session
 from desktop.track_screen import TrackScreen
 from desktop.undo import undo_for
-from engine.budgeting import ProjectBudget
-from engine.checklist import checklist
 from engine.errors import ProjectError
-from engine.meter_labels import meter_labels
 from engine.project import Project
+from engine.steps.budgeting import ProjectBudget
+from engine.steps.checklist import checklist
+from engine.steps.labels import meter_labels
 
 STEPS = (
     ("Files", "Bring in meter exports, bills and weather; check what was understood."),

@@ -12,8 +12,8 @@ from desktop.session import Session
 from desktop.task_bar import TaskBar
 from desktop.undo import undo_for
 from desktop.workers import SHUTDOWN_SECONDS, Task
-from engine.meter_labels import meter_labels
 from engine.project import Project
+from engine.steps.labels import meter_labels
 
 
 class MeterBox(QComboBox):

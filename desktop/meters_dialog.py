@@ -36,12 +36,13 @@ from desktop.project_changes import (
 )
 from desktop.session import Session
 from desktop.undo import undo_for
-from engine import calendar_edit
-from engine.accounts.membership import account_names, meter_accounts
 from engine.errors import InputError
-from engine.meter_labels import READ_UNITS, TEMPERATURE_UNITS, meter_labels, temperature_unit
+from engine.meter_labels import READ_UNITS, TEMPERATURE_UNITS
 from engine.meters import UTILITIES
 from engine.project import Project
+from engine.steps import calendar_edit
+from engine.steps.account_membership import account_names, meter_accounts
+from engine.steps.labels import meter_labels, temperature_unit
 
 HEADERS = ("Column in the meter file", "Shown as", "Utility", "Read in", "Part of bill account")
 NAME, SHOWN, UTILITY, READ_IN, ACCOUNT = range(len(HEADERS))

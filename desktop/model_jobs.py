@@ -1,7 +1,7 @@
 """Gather what the Models screen shows about one meter's models from the engine — without Qt.
 
 Two ways in, one report out: :func:`fit_report` runs the fit wizard
-(:func:`engine.modelling.fit_meter`), :func:`stored_report` reads the meter's last chosen
+(:func:`engine.steps.fitting.fit_meter`), :func:`stored_report` reads the meter's last chosen
 model and backtest from the project file without refitting. Both turn the engine's
 recommendation (``ModelChoice.to_dict()``), its backtest and the chosen model into a
 :class:`ModelReport`.
@@ -17,12 +17,12 @@ import pandas as pd
 from engine.backtest import BacktestResult
 from engine.errors import ProjectError
 from engine.fit_brief import ReadingsBrief, ranking_sentence, readings_brief, recommended
-from engine.meter_labels import temperature_unit
-from engine.modelling import chosen_model, fit_meter, use_ranked_model
 from engine.models import MODEL_FAMILIES, EnergyModel
-from engine.prepared_site import prepare_site
 from engine.progress import Progress, step
 from engine.project import Project
+from engine.steps.fitting import chosen_model, fit_meter, use_ranked_model
+from engine.steps.labels import temperature_unit
+from engine.steps.prepared_site import prepare_site
 from engine.wizard import DEFAULT_FAMILIES, DEFAULT_ORIGINS, default_families
 
 #: The residual groupings of the engine's diagnostics, with the words the screen uses.

@@ -2,7 +2,7 @@
 
 The engine profiles the meter's CLEANED readings (the project's cleaning log replayed, ranges
 left out of fitting dropped) with the project's campus calendar and weather, in one call
-(:func:`engine.profile_run.profile_project_meter`). A profile the meter cannot give (daily gas
+(:func:`engine.steps.profiling.profile_project_meter`). A profile the meter cannot give (daily gas
 reads have no shape within the day) is None here, with a note saying why.
 """
 
@@ -12,12 +12,13 @@ from dataclasses import dataclass, field
 
 import pandas as pd
 
-from engine.meter_labels import in_temperature_unit, meter_labels, shown_name, temperature_unit
-from engine.profile_run import ProjectMeterProfile, profile_project_meter
-from engine.profiles import TemperatureResponse
+from engine.meter_labels import in_temperature_unit, shown_name
+from engine.profiles import ProfiledMeter, TemperatureResponse
 from engine.progress import Progress, step
 from engine.project import Project
-from engine.site_calendar import stored_calendar
+from engine.steps.labels import meter_labels, temperature_unit
+from engine.steps.profiling import profile_project_meter
+from engine.steps.site_calendar import stored_calendar
 from engine.words import counted
 
 #: Ways to group typical days offered on the screen (the engine's groupings). Grouping by
@@ -107,7 +108,7 @@ def compute_patterns(
     return patterns
 
 
-def weather_rows(found: ProjectMeterProfile, shown: str = "°C") -> tuple[pd.DataFrame, str]:
+def weather_rows(found: ProfiledMeter, shown: str = "°C") -> tuple[pd.DataFrame, str]:
     """The weather response as figure rows (temperatures in ``shown``, °C or °F), or no
     rows and the engine's reason; the same fit the plot draws."""
     response = found.key_figures()["weather response"]

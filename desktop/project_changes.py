@@ -1,7 +1,7 @@
 """The changes a person makes to a project, each with the engine calls that make it and take it
 back — without Qt. The window's undo stack (:mod:`desktop.undo`) runs them; the domain work
-is the engine's (:mod:`engine.meter_labels`, :mod:`engine.calendar_edit`,
-:mod:`engine.cleaning.log_changes`, :mod:`engine.modelling`).
+is the engine's (:mod:`engine.meter_labels`, :mod:`engine.steps.calendar_edit`,
+:mod:`engine.steps.cleaning_changes`, :mod:`engine.steps.fitting`).
 """
 
 from __future__ import annotations
@@ -11,20 +11,20 @@ from dataclasses import dataclass
 from functools import partial
 
 from desktop.model_jobs import ModelReport, use_model_report
-from engine import calendar_edit
-from engine.accounts.membership import meter_accounts, set_meter_accounts
 from engine.calendar import CampusCalendar
-from engine.cleaning.log_changes import LogChange, make_again, take_back
-from engine.meter_labels import (
+from engine.progress import Progress
+from engine.project import Project
+from engine.steps import calendar_edit
+from engine.steps.account_membership import meter_accounts, set_meter_accounts
+from engine.steps.cleaning_changes import LogChange, make_again, take_back
+from engine.steps.fitting import choice_since, keep_choice_again, newest_model_id, take_back_choice
+from engine.steps.labels import (
     meter_label,
     relabelled,
     set_temperature_unit,
     store_label,
     temperature_unit,
 )
-from engine.modelling import choice_since, keep_choice_again, newest_model_id, take_back_choice
-from engine.progress import Progress
-from engine.project import Project
 
 #: Kinds of change, for the screens to know whether to look again after an undo or a redo.
 CLEANING, LABELS, TEMPERATURE, CALENDAR, MODEL, ACCOUNTS = (

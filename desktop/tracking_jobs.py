@@ -14,13 +14,12 @@ from pathlib import Path
 
 import pandas as pd
 
-from engine.budgeting import last_reading_day
 from engine.errors import InputError
 from engine.export.tracking_workbook import month_frame, write_tracking_workbook
 from engine.progress import Progress
 from engine.project import Project
-from engine.tracking import track_budget
-from engine.tracking.track import NOT_BEGUN, UNDER_WAY
+from engine.steps.budgeting import last_reading_day
+from engine.steps.tracking import NOT_BEGUN, UNDER_WAY, track_budget
 
 #: Prefix of the headers of the month table's cost columns (the workbook's).
 COST_PREFIX = "cost:"

@@ -17,7 +17,7 @@ from desktop.budget_plot import MEDIAN_COLOUR, marked_line, month_ticks, range_b
 from desktop.palette import FIT_LINE, SERIES_CYCLE
 from desktop.plot_panel import PlotPanel
 from desktop.tracking_jobs import Tracked
-from engine.tracking.track import COMPLETE, UNDER_WAY
+from engine.steps.tracking import COMPLETE, UNDER_WAY
 
 ACTUAL_COLOUR = SERIES_CYCLE[1]
 OUTLOOK_COLOUR = SERIES_CYCLE[2]

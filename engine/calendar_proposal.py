@@ -43,7 +43,7 @@ import numpy as np
 import pandas as pd
 
 from engine.calendar import CampusCalendar, CampusPeriod
-from engine.prepared_site import PreparedSite
+from engine.ready_meters import PreparedSite
 
 #: Fewest weekdays in a row that make a period (a single low day is a holiday's business).
 MIN_RUN = 3

@@ -1,7 +1,7 @@
 """What the fit wizard tells a person before and after it fits: the readings it learns from and
 what was left out, the families it compares and why, and the ranking in one sentence.
 
-Plain facts computed from a prepared meter (:class:`engine.prepared_site.ReadyMeter`), the
+Plain facts computed from a prepared meter (:class:`engine.ready_meters.ReadyMeter`), the
 model registry and a stored recommendation (``ModelChoice.to_dict()``), so the window and
 its tests read the same numbers. No Qt here.
 """
@@ -17,7 +17,7 @@ import pandas as pd
 from engine.backtest import BacktestResult, backtest_origins
 from engine.errors import InputError
 from engine.models import MODEL_FAMILIES
-from engine.prepared_site import ReadyMeter
+from engine.ready_meters import ReadyMeter
 from engine.selection import EXPLAINABLE_MARGIN
 from engine.wizard import RACED_FAMILIES
 from engine.words import counted
@@ -125,7 +125,7 @@ class ReadingsBrief:
 
 
 def readings_brief(ready: ReadyMeter) -> ReadingsBrief:
-    """What :func:`engine.prepared_site.prepare_site` made of one meter, in countable facts."""
+    """What :func:`~engine.steps.prepared_site.prepare_site` made of a meter, in countable facts."""
     inputs = ready.inputs
     usable = inputs.energy.notna().to_numpy() if inputs.energy is not None else None
     if usable is None or not usable.any():

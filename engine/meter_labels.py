@@ -1,7 +1,8 @@
 """What a person calls each meter, and the units figures are shown in — never what is computed.
 
 The engine works in kWh and °C under each meter's raw column name, which stays the meter's key
-(in the project file and in every JSON output). A project keeps beside that, per meter:
+(in the project file and in every JSON output). A project keeps beside that, per meter (read and
+stored by the step :mod:`engine.steps.labels`):
 
 * a display name, shown wherever the meter is named in the window, workbooks and text output;
 * the utility the meter is filed under (kept with the meter itself, so utility roll-ups and
@@ -16,12 +17,11 @@ file came in °F). Conversions happen only when a figure is shown, with the fact
 from __future__ import annotations
 
 from collections.abc import Mapping
-from dataclasses import dataclass, replace
+from dataclasses import dataclass
 
 from engine import units
 from engine.errors import InputError
 from engine.meters import CANONICAL_UNIT, UTILITIES
-from engine.project import Project
 
 #: The project setting holding each meter's display name and unit read in, by raw name.
 LABELS_SETTING = "meter_labels"
@@ -81,65 +81,7 @@ def default_read_unit(unit_found: str) -> str:
     return unit.name if unit is not None and unit.kind in SHOWABLE_KINDS else CANONICAL_UNIT
 
 
-def meter_labels(project: Project) -> dict[str, MeterLabel]:
-    """Every meter's label by raw name, in the order the meters were added."""
-    stored = project.get_setting(LABELS_SETTING, {}) or {}
-    labels = {}
-    for name, utility, unit_found in project.meter_descriptions():
-        kept = stored.get(name) or {}
-        labels[name] = MeterLabel(
-            name,
-            utility,
-            kept.get("read_unit") or default_read_unit(unit_found),
-            kept.get("display_name", ""),
-        )
-    return labels
-
-
-def meter_label(project: Project, name: str) -> MeterLabel:
-    """The label of meter ``name``; an :class:`InputError` naming the meters when unknown."""
-    labels = meter_labels(project)
-    if name not in labels:
-        raise InputError(
-            f"the project has no meter '{name}'.",
-            hint=f"Use one of: {', '.join(labels) or 'none yet: import meters first'}.",
-            file=project.path,
-        )
-    return labels[name]
-
-
-def relabelled(
-    project: Project,
-    name: str,
-    *,
-    display_name: str | None = None,
-    utility: str | None = None,
-    read_unit: str | None = None,
-) -> MeterLabel:
-    """Meter ``name``'s label with the given parts changed (None keeps a part; an empty
-    display name goes back to the raw name), checked but not stored."""
-    label = meter_label(project, name)
-    if display_name is not None:
-        label = replace(label, display_name=_display_name(display_name, label.name))
-    if utility is not None:
-        label = replace(label, utility=_utility(utility))
-    if read_unit is not None:
-        label = replace(label, read_unit=_read_unit(read_unit))
-    _require_unique(label, meter_labels(project), project)
-    return label
-
-
-def store_label(project: Project, label: MeterLabel) -> None:
-    """Keep ``label`` in the project in one save (also to put an earlier label back)."""
-    _require_unique(label, meter_labels(project), project)
-    stored = dict(project.get_setting(LABELS_SETTING, {}) or {})
-    stored[label.name] = {"display_name": label.display_name, "read_unit": label.read_unit}
-    with project.transaction():
-        project.set_meter_utility(label.name, label.utility)
-        project.set_setting(LABELS_SETTING, stored)
-
-
-def _display_name(text: str, name: str) -> str:
+def checked_display_name(text: str, name: str) -> str:
     text = " ".join(text.split())
     if len(text) > LONGEST_NAME:
         raise InputError(
@@ -149,7 +91,7 @@ def _display_name(text: str, name: str) -> str:
     return "" if text == name else text
 
 
-def _utility(text: str) -> str:
+def checked_utility(text: str) -> str:
     key = "_".join(text.strip().lower().replace("-", " ").split())
     if key not in UTILITIES:
         raise InputError(
@@ -159,7 +101,7 @@ def _utility(text: str) -> str:
     return key
 
 
-def _read_unit(text: str) -> str:
+def checked_read_unit(text: str) -> str:
     unit = units.find_unit(text)
     if unit is None or unit.kind not in SHOWABLE_KINDS:
         raise InputError(
@@ -167,20 +109,6 @@ def _read_unit(text: str) -> str:
             hint=f"Use one of: {', '.join(READ_UNITS)}.",
         )
     return unit.name
-
-
-def _require_unique(label: MeterLabel, labels: Labels, project: Project) -> None:
-    """No two meters may be shown under one name, nor one under another meter's raw name."""
-    wanted = label.shown.casefold()
-    for other in labels.values():
-        if other.name == label.name:
-            continue
-        if wanted in (other.shown.casefold(), other.name.casefold()):
-            raise InputError(
-                f"meter '{other.name}' is already shown as '{other.shown}'.",
-                hint=f"Choose another display name for '{label.name}'.",
-                file=project.path,
-            )
 
 
 def shown_name(labels: Labels | None, name: str) -> str:
@@ -193,12 +121,6 @@ def shown_name(labels: Labels | None, name: str) -> str:
 # -- temperatures ------------------------------------------------------------------------------
 
 
-def temperature_unit(project: Project) -> str:
-    """The unit temperatures are shown in: "°F" or "°C" (the default)."""
-    stored = project.get_setting(TEMPERATURE_SETTING)
-    return stored if stored in TEMPERATURE_UNITS else "°C"
-
-
 def checked_temperature_unit(text: str) -> str:
     """ "°F" or "°C" from text such as "F", "fahrenheit" or "°C"; InputError for others."""
     unit = units.find_unit(text)
@@ -208,11 +130,6 @@ def checked_temperature_unit(text: str) -> str:
             hint="Use F (°F) or C (°C).",
         )
     return unit.name
-
-
-def set_temperature_unit(project: Project, text: str) -> None:
-    """Show the project's temperatures in °F or °C from now on (the engine keeps °C)."""
-    project.set_setting(TEMPERATURE_SETTING, checked_temperature_unit(text))
 
 
 def in_temperature_unit(value: float, unit: str, shown: str) -> tuple[float, str]:

@@ -15,16 +15,12 @@ from engine.cleaning.clock import find_clock_problems
 from engine.cleaning.find import find_all
 from engine.cleaning.findings import FINDING_KINDS, SEVERITIES, Finding
 from engine.cleaning.fixes import FIXES
-from engine.cleaning.project_log import (
-    MeterReview,
-    SiteDrivers,
+from engine.cleaning.quality import (
+    RECOMMENDED_KINDS,
     accepted_step,
-    apply_recommended,
-    apply_recommended_everywhere,
-    cleaned_meter,
-    review_meter,
+    quality_summary,
+    recommended_steps,
 )
-from engine.cleaning.quality import RECOMMENDED_KINDS, quality_summary, recommended_steps
 from engine.cleaning.replay import apply_steps
 from engine.cleaning.settings import CleaningSettings
 from engine.cleaning.steps import STEP_KINDS, CleaningStep
@@ -39,16 +35,10 @@ __all__ = [
     "CleaningSettings",
     "CleaningStep",
     "Finding",
-    "MeterReview",
-    "SiteDrivers",
     "accepted_step",
-    "apply_recommended",
-    "apply_recommended_everywhere",
     "apply_steps",
-    "cleaned_meter",
     "find_all",
     "find_clock_problems",
     "quality_summary",
     "recommended_steps",
-    "review_meter",
 ]

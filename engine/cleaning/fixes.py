@@ -143,7 +143,7 @@ def exclude(state: CleanedSeries, params: Mapping[str, Any]) -> CleanedSeries:
 
 def accept(state: CleanedSeries, params: Mapping[str, Any]) -> CleanedSeries:
     """Change nothing: the finding named in ``params`` is expected, and reviews leave it out
-    (:func:`engine.cleaning.project_log.review_meter`). The range must still lie on the grid."""
+    (:func:`engine.steps.cleaning.review_meter`). The range must still lie on the grid."""
     step_range(state.values.index, params)
     return state
 

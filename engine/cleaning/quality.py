@@ -60,3 +60,18 @@ def _applies_unasked(finding: Finding) -> bool:
     if finding.kind not in RECOMMENDED_KINDS or finding.fix is None:
         return False
     return finding.kind != "spike" or finding.severity == "serious"
+
+
+def accepted_step(finding: Finding, note: str = "") -> CleaningStep:
+    """The step that keeps ``finding``'s readings as they are and leaves it out of reviews."""
+    return CleaningStep(
+        "accept",
+        finding.meter,
+        {
+            "finding": finding.id,
+            "finding_kind": finding.kind,
+            "start": finding.start.isoformat(),
+            "end": finding.end.isoformat(),
+        },
+        note or "accepted as expected",
+    )

@@ -8,9 +8,9 @@ from collections.abc import Callable
 from pathlib import Path
 
 from engine.accounts.budget import account_utility
-from engine.accounts.membership import meter_accounts, parse_pairs, set_meter_accounts
-from engine.importing import ImportedFiles, assemble_project, store_files
 from engine.project import Project
+from engine.steps.account_membership import meter_accounts, parse_pairs, set_meter_accounts
+from engine.steps.importing import ImportedFiles, assemble_project, store_files
 
 
 def add_option(parser: argparse.ArgumentParser) -> None:

@@ -6,9 +6,9 @@ import argparse
 from datetime import date
 
 from engine.budget import budget_months
-from engine.budgeting import BudgetRequest, budget_request
 from engine.errors import InputError
 from engine.project import Project
+from engine.steps.budgeting import BudgetRequest, budget_request
 
 
 def request_from_args(args: argparse.Namespace, project: Project) -> BudgetRequest:

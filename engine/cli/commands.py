@@ -8,16 +8,8 @@ import sys
 import tempfile
 from pathlib import Path
 
-from engine import calendar_edit
-from engine.budgeting import budget_project, keep_budget
 from engine.calendar_proposal import with_proposal
-from engine.cleaning import (
-    SiteDrivers,
-    accepted_step,
-    apply_recommended,
-    apply_recommended_everywhere,
-    review_meter,
-)
+from engine.cleaning import accepted_step
 from engine.cli import accounts_command, text
 from engine.cli.budget_options import parse_as_of, request_from_args
 from engine.cli.progress_line import terminal_progress
@@ -25,23 +17,31 @@ from engine.errors import InputError
 from engine.export.finance_workbook import write_finance_workbook
 from engine.export.profile_workbook import write_profile_workbook
 from engine.export.tracking_workbook import write_tracking_workbook
-from engine.importing import read_project_files
-from engine.meter_labels import (
-    Labels,
+from engine.meter_labels import Labels, shown_name
+from engine.project import Project
+from engine.reading import ReadOptions, describe, read_file
+from engine.reading.report import describe_calendar
+from engine.steps import calendar_edit
+from engine.steps.adopting import adopt_budget, check_name
+from engine.steps.budgeting import budget_project, keep_budget
+from engine.steps.cleaning import (
+    SiteDrivers,
+    apply_recommended,
+    apply_recommended_everywhere,
+    review_meter,
+)
+from engine.steps.fitting import fit_meters, monthly_contributions
+from engine.steps.importing import read_project_files
+from engine.steps.labels import (
     meter_label,
     meter_labels,
     relabelled,
     set_temperature_unit,
-    shown_name,
     store_label,
     temperature_unit,
 )
-from engine.modelling import fit_meters, monthly_contributions
-from engine.profile_run import profile_project_meter
-from engine.project import Project
-from engine.reading import ReadOptions, describe, read_file
-from engine.reading.report import describe_calendar
-from engine.tracking import adopt_budget, check_name, track_budget
+from engine.steps.profiling import profile_project_meter
+from engine.steps.tracking import track_budget
 
 
 def reading_options(args: argparse.Namespace) -> ReadOptions:

@@ -15,10 +15,10 @@ import traceback
 from collections.abc import Sequence
 
 from engine import __version__
-from engine.budgeting import DEFAULT_PATHS, DEFAULT_WEATHER
 from engine.cli import accounts_command, commands
 from engine.crash_report import write_report
 from engine.errors import InputError, ProjectError
+from engine.steps.budgeting import DEFAULT_PATHS, DEFAULT_WEATHER
 from engine.wizard import DEFAULT_ORIGINS
 
 EXIT_OK, EXIT_INTERNAL, EXIT_BAD_INPUT = 0, 1, 2

@@ -20,7 +20,7 @@ from engine.export.printing import PageLabels, set_up_printing
 from engine.export.saving import save_workbook
 from engine.export.sheets import put, write_table
 from engine.meter_labels import Labels, in_temperature_unit, shown_name
-from engine.profile_run import ProjectMeterProfile
+from engine.profiles import ProfiledMeter
 
 SHEETS = (
     "Key figures",
@@ -43,7 +43,7 @@ FIGURE_FORMAT = "#,##0.00"  # key figures: energies, ratios and slopes alike
 
 def write_profile_workbook(
     path: str | Path,
-    profiles: list[ProjectMeterProfile],
+    profiles: list[ProfiledMeter],
     project: str | None = None,
     names: Labels | None = None,
     temperature_unit: str = "°C",
@@ -91,7 +91,7 @@ def _screen_note(sheet: Worksheet, labels: PageLabels, rows: int) -> None:
     set_up_printing(sheet, labels, title_rows=(1, 1), last_row=1, last_column=last_column)
 
 
-def _tables(profile: ProjectMeterProfile, shown: str) -> dict[str, pd.DataFrame | None]:
+def _tables(profile: ProfiledMeter, shown: str) -> dict[str, pd.DataFrame | None]:
     profiles = profile.profiles
     figures = pd.DataFrame(
         [

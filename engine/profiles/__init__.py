@@ -8,6 +8,7 @@ day types come from the local weekday and occupied hours are Monday–Friday 07:
 
 from engine.profiles._bundle import MeterProfiles, profile_meter
 from engine.profiles._figures import key_figures
+from engine.profiles._profiled import SHAPE_WORDS, ProfiledMeter, working_days
 from engine.profiles._readings import (
     complete_days,
     fallback_labels,
@@ -36,7 +37,9 @@ __all__ = [
     "ALL_DAYS",
     "GROUPINGS",
     "NO_PERIOD",
+    "SHAPE_WORDS",
     "MeterProfiles",
+    "ProfiledMeter",
     "TemperatureResponse",
     "change_point_line",
     "complete_days",
@@ -55,4 +58,5 @@ __all__ = [
     "require_interval_at_most",
     "season_of_month",
     "typical_day",
+    "working_days",
 ]

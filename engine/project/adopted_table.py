@@ -1,6 +1,6 @@
 """Adopted budgets: one JSON document per name, written once and never edited.
 
-A budget adopted under a name keeps everything it assumed (see :mod:`engine.tracking.adopt`);
+A budget adopted under a name keeps everything it assumed (see :mod:`engine.steps.adopting`);
 later imports, cleaning and refits never touch this table. A name is adopted again only when
 the caller asks to replace it, which swaps the whole row in one statement.
 """

@@ -1,6 +1,6 @@
 """Budget modelling kept between runs: one JSON document per meter and key.
 
-The key digests everything the document was computed from (see :mod:`engine.kept_models`), so
+The key digests everything the document was computed from (see :mod:`engine.steps.kept_models`), so
 a lookup by meter and key either finds a document that is still valid or nothing. Only the
 newest few documents of each meter are kept.
 """

@@ -425,7 +425,7 @@ class Project:
     # -- budget modelling kept between runs ---------------------------------------------
 
     def find_kept(self, meter: str, key: str) -> dict | None:
-        """The document kept for ``meter`` under ``key`` (:mod:`engine.kept_models`), or None."""
+        """The document kept for ``meter`` under ``key`` (see :mod:`engine.steps.kept_models`)."""
         with self._reading() as conn:
             return kept_table.find_kept(conn, meter, key)
 
@@ -441,7 +441,7 @@ class Project:
     # -- adopted budgets ------------------------------------------------------------------
 
     def adopt_budget(self, name: str, body: dict, *, replace: bool = False) -> None:
-        """Store a budget under ``name`` (:mod:`engine.tracking.adopt`); an adopted name is
+        """Store a budget under ``name`` (:mod:`engine.steps.adopting`); an adopted name is
         replaced only when ``replace``, otherwise refused with an :class:`InputError`."""
         with self._writing() as conn:
             if not replace and adopted_table.find_adopted(conn, name) is not None:

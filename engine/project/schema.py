@@ -124,7 +124,7 @@ SCHEMA_V2_ADDITIONS: tuple[str, ...] = (
 
 #: Format 3 keeps each meter's budget modelling (model choice, fit, refits and their errors)
 #: between runs, under a digest of everything it was computed from (see
-#: :mod:`engine.kept_models`); the key column makes a lookup read one document.
+#: :mod:`engine.steps.kept_models`); the key column makes a lookup read one document.
 SCHEMA_V3_ADDITIONS: tuple[str, ...] = (
     """CREATE TABLE kept_models (
         id INTEGER PRIMARY KEY,
@@ -137,7 +137,7 @@ SCHEMA_V3_ADDITIONS: tuple[str, ...] = (
 )
 
 #: Format 4 keeps adopted budgets: a budget stored under a name with everything it assumed
-#: (see :mod:`engine.tracking.adopt`), written once and never changed by later imports,
+#: (see :mod:`engine.steps.adopting`), written once and never changed by later imports,
 #: cleaning or refits; a name is adopted again only by replacing its row on request.
 SCHEMA_V4_ADDITIONS: tuple[str, ...] = (
     """CREATE TABLE adopted_budgets (

@@ -7,15 +7,14 @@ import math
 import pandas as pd
 
 from engine.meters import CANONICAL_UNIT, Finding
+from engine.reading.bill_file import BillFile
+from engine.reading.calendar_file import CalendarFile
 from engine.reading.checks import coverage_count
+from engine.reading.meter_file import MeterFile
 
 
 def describe(result) -> dict:
     """A JSON-ready description of a read file (meters, bills or weather)."""
-    from engine.reading.bill_file import BillFile
-    from engine.reading.calendar_file import CalendarFile
-    from engine.reading.meter_file import MeterFile
-
     if isinstance(result, MeterFile):
         return _meters(result)
     if isinstance(result, BillFile):

@@ -1,15 +1,7 @@
-"""An adopted budget through its fiscal year: adopt it under a name, then track it.
+"""What happened in an adopted budget's months: metered and billed actuals to set beside it.
 
-Typical use::
-
-    outcome = budget_project(project, request)
-    adopt_budget(project, "FY2026", outcome, request)        # kept, never changed by later work
-    report = track_budget(project, "FY2026", as_of=date(2026, 1, 15))
-
-See :mod:`engine.tracking.track` for the variance split and its identity.
+:mod:`engine.tracking.actuals` gives a meter's metered energy per day and its adopted model's
+prediction under the weather that happened; :mod:`engine.tracking.bill_actuals` gives a bill
+account's billed energy and cost per day. Adopting a budget and tracking it for a project are
+steps: :mod:`engine.steps.adopting` and :mod:`engine.steps.tracking`.
 """
-
-from engine.tracking.adopt import adopt_budget, check_name
-from engine.tracking.track import IDENTITY, track_budget
-
-__all__ = ["IDENTITY", "adopt_budget", "check_name", "track_budget"]

@@ -22,7 +22,7 @@ from engine.calendar import CampusCalendar
 from engine.errors import InputError
 from engine.meters import MeterSeries
 from engine.models import model_from_dict
-from engine.prepared_site import ReadyMeter
+from engine.ready_meters import ReadyMeter
 from engine.tariffs import Tariff, cost
 
 

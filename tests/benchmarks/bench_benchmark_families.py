@@ -41,7 +41,7 @@ ROOT = Path(__file__).resolve().parents[2]
 SAMPLE = ROOT / "sample" / "data"
 ZONE = "America/Chicago"  # sample/README.md: the site's clock
 METER = "Library"
-#: The wizard's defaults for these families (engine.modelling.DEFAULT_FAMILIES).
+#: The wizard's defaults for these families (engine.steps.fitting.DEFAULT_FAMILIES).
 FAMILIES = ("seasonal_naive", "daily_ets", "monthly_sarima", "mstl_ets")
 ORIGINS = 12
 MONTHS_AHEAD = 3
@@ -54,10 +54,10 @@ def build_project(folder: Path) -> Path:
     """A project of the sample's Library meter, its recommended cleaning applied, with the
     weather and the campus calendar."""
     sys.path.insert(0, str(ROOT))
-    from engine.cleaning import apply_recommended, review_meter
-    from engine.importing import ImportedFiles, store_files
     from engine.project import Project
     from engine.reading import ReadOptions, read_calendar, read_file
+    from engine.steps.cleaning import apply_recommended, review_meter
+    from engine.steps.importing import ImportedFiles, store_files
 
     options = ReadOptions(timezone=ZONE, holidays="US")
     found = read_file(SAMPLE / "electricity-15min.xlsx", options)
@@ -77,8 +77,8 @@ def measure(project_path: Path, forecasts_path: Path) -> dict[str, dict[str, flo
     from threadpoolctl import threadpool_limits
 
     from engine.backtest import backtest_origins
-    from engine.modelling import meter_inputs
     from engine.project import Project
+    from engine.steps.fitting import meter_inputs
 
     with Project.open(project_path) as project:
         inputs = meter_inputs(project, METER)

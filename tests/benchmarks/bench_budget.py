@@ -34,7 +34,8 @@ before it; see :func:`rolling_budgets`), on
 
 (c) "sample campus": the bundled Orrinvale College project (``out/sample-campus.loadledger``,
     made by ``bash installer/run-sample.sh``; a copy is budgeted, models are fitted on it
-    when it has none) budgeted as the command line does (:func:`engine.budgeting.budget_project`,
+    when it has none) budgeted as the command line does
+    (:func:`engine.steps.budgeting.budget_project`,
     default past-years weather, 24 past month-ahead budgets): per meter the raw coverage of the
     12 most recent and the correction scale they give, then, for the next twelve months, the
     corrected period total's P50 beside the sum of the corrected monthly P50s; and per meter
@@ -78,9 +79,9 @@ from engine.budget import (  # noqa: E402
     rolling_refits,
     simulate_budget,
 )
-from engine.budgeting import ERROR_DAYS  # noqa: E402
 from engine.models.base import ModelInputs  # noqa: E402
 from engine.scoring import pinball_loss, winkler_score  # noqa: E402
+from engine.steps.budgeting import ERROR_DAYS  # noqa: E402
 from engine.tariffs import read_tariff  # noqa: E402
 from engine.wizard import compare_models  # noqa: E402
 from tests.engine.test_budget_campus import (  # noqa: E402
@@ -239,7 +240,7 @@ def rolling_budgets(
     For each month the chosen family, refitted before it (:func:`engine.budget.rolling_refits`),
     budgets it with the out-of-sample errors of the 12 months before it, and the range is
     corrected by the same family's budgets of the 12 months before it once they exist — what
-    :func:`engine.budgeting.budget_project` issues at that as-of date.
+    :func:`engine.steps.budgeting.budget_project` issues at that as-of date.
 
     Returns one row per meter and scored month (``month``, ``name``, ``actual kWh``, raw
     ``P10``/``P50``/``P90`` and the issued ``corrected P10``/``corrected P90``), the models
@@ -404,8 +405,8 @@ def sample_campus() -> None:
     import shutil
     import tempfile
 
-    from engine.budgeting import BudgetRequest, budget_project, last_reading_day
     from engine.project import Project
+    from engine.steps.budgeting import BudgetRequest, budget_project, last_reading_day
 
     print("\nsample campus")
     if not SAMPLE_PROJECT.exists():

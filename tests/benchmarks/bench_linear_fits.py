@@ -33,8 +33,6 @@ import pandas as pd  # noqa: E402
 from threadpoolctl import threadpool_limits  # noqa: E402
 
 from engine.calendar import label_intervals  # noqa: E402
-from engine.importing import ImportedFiles, store_files  # noqa: E402
-from engine.modelling import meter_inputs  # noqa: E402
 from engine.models import (  # noqa: E402
     CalendarRegressionModel,
     DailyChangePointModel,
@@ -43,7 +41,9 @@ from engine.models import (  # noqa: E402
 from engine.models.base import ModelInputs  # noqa: E402
 from engine.project import Project  # noqa: E402
 from engine.reading import ReadOptions, read_calendar, read_file  # noqa: E402
-from engine.site_calendar import stored_calendar  # noqa: E402
+from engine.steps.fitting import meter_inputs  # noqa: E402
+from engine.steps.importing import ImportedFiles, store_files  # noqa: E402
+from engine.steps.site_calendar import stored_calendar  # noqa: E402
 
 SAMPLE = ROOT / "sample" / "data"
 ZONE = "America/Chicago"

@@ -32,11 +32,11 @@ import pandas as pd
 ROOT = Path(__file__).resolve().parents[2]
 sys.path.insert(0, str(ROOT))
 
-from engine.budgeting import budget_project, budget_request  # noqa: E402
-from engine.importing import create_project, read_project_files  # noqa: E402
-from engine.modelling import fit_meters  # noqa: E402
 from engine.project import Project  # noqa: E402
 from engine.reading import ReadOptions  # noqa: E402
+from engine.steps.budgeting import budget_project, budget_request  # noqa: E402
+from engine.steps.fitting import fit_meters  # noqa: E402
+from engine.steps.importing import create_project, read_project_files  # noqa: E402
 
 TIMEZONE = "Pacific/Auckland"
 

@@ -30,8 +30,8 @@ sys.path.insert(0, str(ROOT))
 
 from engine.backtest import backtest_origins  # noqa: E402
 from engine.models import MODEL_FAMILIES  # noqa: E402
-from engine.prepared_site import prepare_site  # noqa: E402
 from engine.project import Project  # noqa: E402
+from engine.steps.prepared_site import prepare_site  # noqa: E402
 
 PROJECT = ROOT / "out" / "cleaned.loadledger"
 FAMILIES = (

@@ -84,7 +84,7 @@ def run(engine: Path, *args: object) -> tuple[float, float, str]:
 #: A budget as the window runs it: in a process that has imported the engine already.
 WINDOW_BUDGET = """
 import sys, time
-from engine.budgeting import budget_project, budget_request
+from engine.steps.budgeting import budget_project, budget_request
 from engine.project import Project
 with Project.open(sys.argv[1]) as project:
     months = sys.argv[2].split(",")

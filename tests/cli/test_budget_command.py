@@ -14,9 +14,9 @@ import pandas as pd
 import pytest
 from python_calamine import CalamineWorkbook
 
-from engine.budgeting import latest_budget
 from engine.export.finance_workbook import write_finance_workbook
 from engine.project import Project
+from engine.steps.budgeting import latest_budget
 from tests.cli.cli_support import loadledger, write_hall_and_boiler
 
 ROOT = Path(__file__).resolve().parents[2]

@@ -12,9 +12,9 @@ from pathlib import Path
 
 import pytest
 
-from engine.calendar_edit import settle_one_shot
 from engine.project import Project
-from engine.site_calendar import stored_calendar
+from engine.steps.calendar_edit import settle_one_shot
+from engine.steps.site_calendar import stored_calendar
 from tests.cli.cli_support import loadledger
 from tests.engine.test_calendar_proposal import synthetic_site
 

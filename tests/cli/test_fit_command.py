@@ -13,8 +13,8 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from engine.modelling import chosen_model, meter_inputs
 from engine.project import Project
+from engine.steps.fitting import chosen_model, meter_inputs
 from tests.cli.cli_support import loadledger
 
 
@@ -96,8 +96,8 @@ def test_the_stored_model_predicts_identically_after_reopening(project):
 
 def test_the_orders_are_chosen_by_backtest(project):
     from engine.backtest import ACTUAL_WEATHER, run_backtest
-    from engine.modelling import hourly_weather
     from engine.models import CalendarRegressionModel
+    from engine.steps.fitting import hourly_weather
     from engine.wizard import TUNING_ORIGINS, tuned
 
     path, _ = project

@@ -9,9 +9,9 @@ import pytest
 from desktop_support import LAPTOP, SAMPLE, SITE_ZONE
 from PySide6.QtCore import QSettings
 
-from engine.importing import ImportedFiles, store_files
 from engine.project import Project
 from engine.reading import ReadOptions, read_file
+from engine.steps.importing import ImportedFiles, store_files
 
 
 @pytest.fixture(scope="session")

@@ -8,10 +8,10 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from engine.importing import ImportedFiles, store_files
-from engine.modelling import fit_meter
 from engine.project import Project
 from engine.reading import ReadOptions, read_calendar, read_file
+from engine.steps.fitting import fit_meter
+from engine.steps.importing import ImportedFiles, store_files
 
 ROOT = Path(__file__).resolve().parents[2]
 SAMPLE = ROOT / "sample" / "data"

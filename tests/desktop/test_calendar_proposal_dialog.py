@@ -20,7 +20,7 @@ from desktop.session import Session
 from engine.calendar import CampusCalendar
 from engine.cli.main import main as command_line
 from engine.project import Project
-from engine.site_calendar import stored_calendar
+from engine.steps.site_calendar import stored_calendar
 
 
 @pytest.fixture

@@ -23,9 +23,9 @@ from desktop.cleaning_screen import CleaningScreen
 from desktop.findings_table import HEADERS
 from desktop.main_window import MainWindow
 from desktop.session import Session
-from engine.importing import ImportedFiles, store_files
 from engine.project import Project
 from engine.reading import ReadOptions, read_file
+from engine.steps.importing import ImportedFiles, store_files
 
 ZONE = "America/Phoenix"
 METER = "Mesa Commons"

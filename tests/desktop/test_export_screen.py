@@ -21,8 +21,8 @@ from test_budget_screen import PATHS, fitted_campus
 from desktop.export_screen import NO_BUDGET, ExportScreen
 from desktop.main_window import MainWindow
 from engine.budget import budget_months
-from engine.budgeting import BudgetRequest, ProjectBudget, budget_project
 from engine.project import Project
+from engine.steps.budgeting import BudgetRequest, ProjectBudget, budget_project
 
 
 @pytest.fixture(scope="module")

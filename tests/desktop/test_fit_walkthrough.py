@@ -23,11 +23,11 @@ from desktop.models_screen import BACKTEST, CHOICE, FAMILIES, RANKING, READINGS
 from engine.backtest import BacktestResult
 from engine.cleaning.steps import range_step
 from engine.fit_brief import family_notes, ranking_sentence, readings_brief
-from engine.meter_labels import temperature_unit
-from engine.modelling import chosen_model, fit_meter
 from engine.models import MODEL_FAMILIES
-from engine.prepared_site import prepare_site
 from engine.project import Project
+from engine.steps.fitting import chosen_model, fit_meter
+from engine.steps.labels import temperature_unit
+from engine.steps.prepared_site import prepare_site
 
 FAMILIES_TRIED = ("calendar_regression", "seasonal_naive")
 ORIGINS = 3

@@ -21,10 +21,10 @@ from desktop_support import (
 from desktop.pattern_jobs import PatternRequest
 from desktop.patterns_screen import PatternsScreen
 from desktop.session import Session
-from engine.importing import ImportedFiles, store_files
-from engine.profile_run import profile_project_meter
 from engine.project import Project
 from engine.reading import ReadOptions, read_calendar, read_file
+from engine.steps.importing import ImportedFiles, store_files
+from engine.steps.profiling import profile_project_meter
 
 #: NIST SP 811 (2008), Appendix B.8: 1 therm (EC) = 1.055 06 E+08 J; 1 kWh = 3.6 E+06 J.
 KWH_PER_THERM = 1.05506e8 / 3.6e6

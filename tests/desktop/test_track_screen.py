@@ -25,7 +25,7 @@ from desktop.main_window import MainWindow
 from desktop.track_screen import NOTHING_ADOPTED
 from desktop.tracking_jobs import UNDER_WAY_WORDS, tracked, workbook_name
 from engine.project import Project
-from engine.tracking import track_budget
+from engine.steps.tracking import track_budget
 
 LAPTOP = (1280, 720)
 NAME = "FY test"

@@ -25,15 +25,15 @@ from PySide6.QtGui import QKeySequence
 from desktop.main_window import MainWindow
 from desktop.meters_dialog import ACCOUNT, READ_IN, SHOWN
 from desktop.model_tables import MODEL_ROLE
-from engine import calendar_edit
-from engine.accounts.membership import account_names, meter_accounts
 from engine.budget.result import BudgetRun
 from engine.export.finance_tables import READ_UNIT_HEADER
-from engine.importing import ImportedFiles, store_files
-from engine.meter_labels import meter_label, temperature_unit
-from engine.modelling import chosen_model, fit_meter
 from engine.project import Project
 from engine.reading import ReadOptions, read_file
+from engine.steps import calendar_edit
+from engine.steps.account_membership import account_names, meter_accounts
+from engine.steps.fitting import chosen_model, fit_meter
+from engine.steps.importing import ImportedFiles, store_files
+from engine.steps.labels import meter_label, temperature_unit
 
 LIBRARY, LABS = FITTED_METERS
 

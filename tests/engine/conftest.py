@@ -12,8 +12,8 @@ from pathlib import Path
 
 import pytest
 
-from engine.modelling import fit_meter
 from engine.project import Project
+from engine.steps.fitting import fit_meter
 from tests.cli.cli_support import hall_and_boiler_site
 
 METERS = ("Hall", "Boiler gas")

@@ -10,12 +10,12 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from engine.bill_prices import bill_prices
-from engine.budgeting import budget_project, budget_request
 from engine.errors import InputError
-from engine.importing import create_project, read_project_files
-from engine.modelling import fit_meter
 from engine.reading import ReadOptions
+from engine.steps.bill_prices import bill_prices
+from engine.steps.budgeting import budget_project, budget_request
+from engine.steps.fitting import fit_meter
+from engine.steps.importing import create_project, read_project_files
 
 ZONE = "America/Denver"
 # NIST SP 811 (2008), Appendix B.9: 1 therm (EC) = 1.055 06 E+08 J; 1 kWh = 3.6 E+06 J.

@@ -16,12 +16,12 @@ from pathlib import Path
 import pandas as pd
 import pytest
 
-from engine import calendar_edit
-from engine.budgeting import budget_project, budget_request
 from engine.cleaning.steps import range_step
-from engine.kept_models import KEEP_PER_METER
-from engine.modelling import fit_meter
 from engine.project import Project
+from engine.steps import calendar_edit
+from engine.steps.budgeting import budget_project, budget_request
+from engine.steps.fitting import fit_meter
+from engine.steps.kept_models import KEEP_PER_METER
 from tests.engine.conftest import METERS
 
 

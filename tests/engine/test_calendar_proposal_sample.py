@@ -14,11 +14,11 @@ from pathlib import Path
 import pytest
 
 from engine.calendar_proposal import CalendarProposal, propose_for_site
-from engine.cleaning import apply_recommended_everywhere
-from engine.importing import create_project, read_project_files
-from engine.prepared_site import prepare_site
 from engine.reading import ReadOptions
 from engine.reading.calendar_file import read_calendar_file
+from engine.steps.cleaning import apply_recommended_everywhere
+from engine.steps.importing import create_project, read_project_files
+from engine.steps.prepared_site import prepare_site
 
 DATA = Path(__file__).resolve().parents[2] / "sample" / "data"
 FIRST, LAST = date(2023, 7, 1), date(2026, 10, 31)  # sample/README.md: the local days covered

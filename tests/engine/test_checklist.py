@@ -4,9 +4,9 @@ from __future__ import annotations
 
 import shutil
 
-from engine.checklist import StepState, checklist
-from engine.modelling import fit_meter
 from engine.project import Project
+from engine.steps.checklist import StepState, checklist
+from engine.steps.fitting import fit_meter
 
 
 def _models_state(path) -> StepState:

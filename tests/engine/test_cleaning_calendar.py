@@ -19,15 +19,16 @@ import pytest
 from scipy.stats import theilslopes
 
 from engine.calendar import CampusCalendar, CampusPeriod, label_intervals
-from engine.cleaning import find_all, review_meter
+from engine.cleaning import find_all
 from engine.cleaning.day_lines import fit_day_lines
 from engine.cleaning.like_days import BREAK, CLOSURE, ORDINARY, SUMMER, CalendarDays
 from engine.errors import InputError
-from engine.importing import create_project, read_project_files
 from engine.meters import MeterSeries
 from engine.project import Project
 from engine.reading import ReadOptions
-from engine.site_calendar import CALENDAR_SETTING
+from engine.steps.cleaning import review_meter
+from engine.steps.importing import create_project, read_project_files
+from engine.steps.site_calendar import CALENDAR_SETTING
 
 SITE_ZONE = "America/Chicago"
 QUARTER_HOUR = pd.Timedelta(minutes=15)

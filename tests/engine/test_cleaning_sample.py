@@ -36,11 +36,12 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from engine.cleaning import find_all, review_meter
+from engine.cleaning import find_all
 from engine.cleaning.like_days import CalendarDays
-from engine.importing import create_project, read_project_files
 from engine.project import Project
 from engine.reading import ReadOptions, read_calendar, read_meter_file, read_weather_file
+from engine.steps.cleaning import review_meter
+from engine.steps.importing import create_project, read_project_files
 from engine.weather import fill_hourly
 
 DATA = Path(__file__).resolve().parents[2] / "sample" / "data"

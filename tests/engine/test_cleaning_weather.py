@@ -25,14 +25,15 @@ import pandas as pd
 import pytest
 
 from engine.changepoint import ChangePointModel
-from engine.cleaning import find_all, review_meter
+from engine.cleaning import find_all
 from engine.cleaning.prepared import PreparedMeter
 from engine.cleaning.settings import CleaningSettings
 from engine.cleaning.weather_response import interval_temperatures
-from engine.importing import create_project, read_project_files
 from engine.meters import MeterSeries
 from engine.project import Project
 from engine.reading import ReadOptions
+from engine.steps.cleaning import review_meter
+from engine.steps.importing import create_project, read_project_files
 
 ZONE = "America/Chicago"
 HOUR = pd.Timedelta(hours=1)

@@ -19,11 +19,11 @@ import pytest
 from engine.backtest import TYPICAL_WEATHER
 from engine.cleaning.steps import range_step
 from engine.fit_brief import family_notes, ranking_sentence, readings_brief, recommended
-from engine.modelling import chosen_model, fit_meter, use_ranked_model
 from engine.models import MODEL_FAMILIES
-from engine.prepared_site import prepare_site
 from engine.project import Project
 from engine.selection import EXPLAINABLE_MARGIN
+from engine.steps.fitting import chosen_model, fit_meter, use_ranked_model
+from engine.steps.prepared_site import prepare_site
 from engine.wizard import DEFAULT_FAMILIES
 
 CLOSURE = ("2025-02-03", "2025-02-10")  # a week left out of fitting

@@ -13,22 +13,24 @@ from openpyxl import load_workbook
 from engine import units
 from engine.errors import InputError
 from engine.export.profile_workbook import write_profile_workbook
-from engine.importing import ImportedFiles, store_files
 from engine.meter_labels import (
     MeterLabel,
     checked_temperature_unit,
     in_temperature_unit,
+    shown_name,
+)
+from engine.project import Project
+from engine.reading import ReadOptions, read_file
+from engine.steps.importing import ImportedFiles, store_files
+from engine.steps.labels import (
     meter_label,
     meter_labels,
     relabelled,
     set_temperature_unit,
-    shown_name,
     store_label,
     temperature_unit,
 )
-from engine.profile_run import profile_project_meter
-from engine.project import Project
-from engine.reading import ReadOptions, read_file
+from engine.steps.profiling import profile_project_meter
 
 SAMPLE = Path(__file__).resolve().parents[2] / "sample" / "data"
 

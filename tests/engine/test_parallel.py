@@ -13,11 +13,11 @@ from pathlib import Path
 
 import pytest
 
-from engine.budgeting import budget_project, budget_request
 from engine.errors import InputError
 from engine.parallel import run_per_meter
 from engine.progress import Cancelled, Progress
 from engine.project import Project
+from engine.steps.budgeting import budget_project, budget_request
 
 
 @dataclass(frozen=True)

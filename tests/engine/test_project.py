@@ -858,8 +858,8 @@ def test_new_over_an_old_project_that_fails_while_storing_leaves_the_old_one(tmp
     # it was and nothing else behind.
     from dataclasses import replace
 
-    from engine.importing import create_project, read_project_files
     from engine.reading import ReadOptions
+    from engine.steps.importing import create_project, read_project_files
 
     hours = pd.date_range("2026-01-05", periods=72, freq="h")
     meters = tmp_path / "meter.csv"

@@ -8,8 +8,8 @@ import pytest
 
 from engine.backtest import BacktestResult
 from engine.errors import InputError
-from engine.modelling import chosen_model, fit_meter, use_ranked_model
 from engine.project import Project
+from engine.steps.fitting import chosen_model, fit_meter, use_ranked_model
 
 
 def test_another_ranked_model_is_kept_with_its_backtested_settings(new_site, tmp_path):

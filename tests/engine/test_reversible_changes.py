@@ -8,11 +8,13 @@ from functools import partial
 import pandas as pd
 import pytest
 
-from engine import calendar_edit
 from engine.calendar import CampusCalendar
-from engine.cleaning import accepted_step, apply_recommended_everywhere, review_meter
-from engine.cleaning.log_changes import logged_change, make_again, take_back
-from engine.modelling import (
+from engine.cleaning import accepted_step
+from engine.project import Project
+from engine.steps import calendar_edit
+from engine.steps.cleaning import apply_recommended_everywhere, review_meter
+from engine.steps.cleaning_changes import logged_change, make_again, take_back
+from engine.steps.fitting import (
     choice_since,
     chosen_model,
     fit_meter,
@@ -21,7 +23,6 @@ from engine.modelling import (
     take_back_choice,
     use_ranked_model,
 )
-from engine.project import Project
 
 
 @pytest.fixture

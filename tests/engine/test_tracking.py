@@ -26,22 +26,23 @@ import pandas as pd
 import pytest
 
 from engine.budget.periods import BudgetWindow
-from engine.budgeting import budget_project, budget_request
 from engine.errors import InputError
 from engine.export.tracking_workbook import write_tracking_workbook
-from engine.importing import create_project, read_project_files
-from engine.modelling import fit_meter
 from engine.project import Project
 from engine.reading import ReadOptions
-from engine.tracking import adopt_budget, track_budget
-from engine.tracking.actuals import expected_readings
-from engine.tracking.track import (
+from engine.steps.adopting import adopt_budget
+from engine.steps.budgeting import budget_project, budget_request
+from engine.steps.fitting import fit_meter
+from engine.steps.importing import create_project, read_project_files
+from engine.steps.tracking import (
     COMPLETE,
     NOT_BEGUN,
     UNDER_WAY,
     _attach_outlook,
     _reading_cautions,
+    track_budget,
 )
+from engine.tracking.actuals import expected_readings
 from tests.cli.cli_support import write_hall_and_boiler
 
 RATE_CARD = Path(__file__).parents[2] / "sample/tariffs/orrinvale-main-electric.ratecard.toml"
@@ -220,8 +221,8 @@ def _stored_row(path: Path) -> tuple:
 
 
 def test_the_adopted_budget_is_unchanged_by_later_cleaning_and_refits(campus, tmp_path):
-    from engine.cleaning import apply_recommended, review_meter
     from engine.cleaning.steps import range_step
+    from engine.steps.cleaning import apply_recommended, review_meter
 
     path = tmp_path / "later.loadledger"
     shutil.copyfile(campus["path"], path)

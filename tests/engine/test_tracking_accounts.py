@@ -16,12 +16,13 @@ import pandas as pd
 import pytest
 from python_calamine import CalamineWorkbook
 
-from engine.budgeting import budget_project, budget_request
 from engine.export.tracking_workbook import write_tracking_workbook
-from engine.importing import create_project, read_project_files, store_files
 from engine.project import Project
 from engine.reading import ReadOptions
-from engine.tracking import adopt_budget, track_budget
+from engine.steps.adopting import adopt_budget
+from engine.steps.budgeting import budget_project, budget_request
+from engine.steps.importing import create_project, read_project_files, store_files
+from engine.steps.tracking import track_budget
 from tests.bill_support import billing_periods
 
 WARM_MONTH = "2025-11"

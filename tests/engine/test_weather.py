@@ -253,9 +253,9 @@ def test_a_weather_file_on_local_clock_time_across_both_clock_changes_is_stored(
     # Local stamps written hour by hour straight through the calendar, as many loggers do: the
     # hour clocks skip in spring lands on the next one, which is then read twice (IANA zone
     # Europe/Dublin: 2021-03-28 01:00 does not exist; 2021-10-31 01:00 happens twice).
-    from engine.importing import create_project, read_project_files
     from engine.project import Project
     from engine.reading import ReadOptions
+    from engine.steps.importing import create_project, read_project_files
 
     hours = pd.date_range("2021-03-27", "2021-11-01", freq="h")
     weather = tmp_path / "station.csv"

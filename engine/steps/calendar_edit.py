@@ -9,13 +9,13 @@ from datetime import date, timedelta
 from pathlib import Path
 
 from engine.budget.periods import as_of_cut
-from engine.budgeting import last_reading_day
 from engine.calendar import CampusCalendar, shift_to_year
 from engine.calendar_proposal import CalendarProposal, propose_for_site
-from engine.prepared_site import prepare_site
 from engine.project import Project
 from engine.reading import ReadOptions, read_calendar
-from engine.site_calendar import store_calendar, stored_calendar
+from engine.steps.budgeting import last_reading_day
+from engine.steps.prepared_site import prepare_site
+from engine.steps.site_calendar import store_calendar, stored_calendar
 
 YEAR_IN_NAME = re.compile(r"\b(19|20)\d{2}\b")
 

@@ -1,17 +1,16 @@
-"""A project's meters made ready once per request: cleaned, on the model grid, with drivers.
+"""A meter made ready for modelling and budgeting: raw, cleaned, and on the model grid with drivers.
 
 Every step that models or budgets meters needs the same things of each one: the raw readings,
 the cleaned series the cleaning log gives, and the model inputs (hourly or daily energy with
-temperature and calendar labels). Building them replays the cleaning log, labels every hour
-with the campus calendar and fills the weather, so they are built here once per request and
-handed down; nothing below this module reads the project file again for them.
+temperature and calendar labels). :class:`ReadyMeter` holds them for one meter and
+:class:`PreparedSite` for a site; the step :mod:`engine.steps.prepared_site` builds them once per
+request from a project, and domain code receives these objects, never the project.
 """
 
 from __future__ import annotations
 
 import hashlib
 import json
-from collections.abc import Sequence
 from dataclasses import dataclass, replace
 
 import numpy as np
@@ -19,13 +18,10 @@ import pandas as pd
 
 from engine.calendar import CampusCalendar, label_intervals
 from engine.cleaning.cleaned import CleanedSeries
-from engine.cleaning.project_log import cleaned_meter
 from engine.cleaning.quality import quality_summary
 from engine.errors import InputError
 from engine.meters import MeterSeries
 from engine.models.base import ModelInputs
-from engine.project import Project
-from engine.site_calendar import stored_calendar
 from engine.weather import fill_hourly
 
 HOUR = pd.Timedelta(hours=1)
@@ -84,30 +80,6 @@ class PreparedSite:
                 file=self.path,
             )
         return self.meters[name]
-
-
-def prepare_site(project: Project, names: Sequence[str] | None = None) -> PreparedSite:
-    """Make the named meters (None: all; an empty list: none) of ``project`` ready, each once."""
-    calendar = stored_calendar(project) or CampusCalendar()
-    temperatures = project.load_weather() if project.weather_stations() else None
-    hourly = None if temperatures is None else fill_hourly(temperatures).hourly
-    utilities = {m["name"]: m["utility"] for m in project.summary()["meters"]}
-    chosen = list(names) if names is not None else project.meter_names()
-    unknown = [name for name in chosen if name not in utilities]
-    if unknown:
-        raise InputError(
-            f"the project has no meter '{unknown[0]}'.",
-            hint=f"Choose one of: {', '.join(utilities)}.",
-            file=project.path,
-        )
-    meters = {}
-    for name in chosen:
-        raw, cleaned = cleaned_meter(project, name)
-        inputs = model_inputs(raw, cleaned, calendar, hourly)
-        meters[name] = ReadyMeter(
-            name, utilities[name], raw, cleaned, inputs, project.cleaning_steps(name)
-        )
-    return PreparedSite(str(project.path), project.timezone, calendar, temperatures, hourly, meters)
 
 
 def model_inputs(

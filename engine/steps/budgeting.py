@@ -13,10 +13,8 @@ import numpy as np
 import pandas as pd
 
 from engine.accounts.budget import Accounts, account_totals, calibrations, describe, plan_accounts
-from engine.accounts.membership import meter_accounts, metered_by
 from engine.accounts.paths import bill_only_totals
 from engine.accounts.plan import AccountPlan
-from engine.bill_prices import BillPrice, bill_prices
 from engine.budget import (
     BudgetRun,
     MeterPlan,
@@ -31,7 +29,16 @@ from engine.budget.refits import CALIBRATION_MONTHS, ERROR_MONTHS
 from engine.budget.summary import check_levels
 from engine.calendar import CampusCalendar
 from engine.errors import InputError, ProjectError
-from engine.kept_models import (
+from engine.models import MODEL_FAMILIES, ModelInputs
+from engine.parallel import MeterFailure, run_per_meter
+from engine.progress import Progress, step
+from engine.project import Project
+from engine.reading import ReadOptions, read_weather_file
+from engine.ready_meters import PreparedSite, ReadyMeter
+from engine.steps.account_membership import meter_accounts, metered_by
+from engine.steps.bill_prices import BillPrice, bill_prices
+from engine.steps.fitting import keep_fit
+from engine.steps.kept_models import (
     chosen_scores,
     job_key,
     keep,
@@ -39,13 +46,7 @@ from engine.kept_models import (
     kept,
     ranking_row,
 )
-from engine.modelling import keep_fit
-from engine.models import MODEL_FAMILIES, ModelInputs
-from engine.parallel import MeterFailure, run_per_meter
-from engine.prepared_site import PreparedSite, ReadyMeter, prepare_site
-from engine.progress import Progress, step
-from engine.project import Project
-from engine.reading import ReadOptions, read_weather_file
+from engine.steps.prepared_site import prepare_site
 from engine.tariffs import Tariff, is_currency_code, read_tariff
 from engine.weather import TypicalYears, typical_year
 from engine.wizard import (
@@ -105,7 +106,7 @@ class ProjectBudget:
     #: The past month-ahead budgets that checked the ranges (:class:`BudgetBacktest` pairs);
     #: None for a budget read back from the project.
     past_budgets: pd.DataFrame | None = None
-    # What the run was made from, for adopting it (engine.tracking.adopt).
+    # What the run was made from, for adopting it (engine.steps.adopting).
     plans: list[MeterPlan] = field(default_factory=list)
     weather: WeatherAssumption | None = None
     calendar: CampusCalendar | None = None
@@ -251,7 +252,7 @@ def budget_project(
     before each of its last months (:func:`engine.budget.rolling_refits`): those refits give
     the past month-ahead budgets that check the range and the out-of-sample errors every
     budget draws its model error from. That modelling is kept in the project
-    (:mod:`engine.kept_models`), so a budget of unchanged data with another period, weather
+    (:mod:`engine.steps.kept_models`), so a budget of unchanged data with another period, weather
     assumption or tariff reuses it; meters are modelled side by side (``workers`` local
     processes, by default one per core when the site is large enough to repay them, or the
     Dask scheduler at ``scheduler``).

@@ -18,8 +18,8 @@ from importlib.metadata import PackageNotFoundError, version
 from engine.budget.refits import RollingRefits
 from engine.errors import ProjectError
 from engine.models import RefitNeeded, model_from_dict
-from engine.prepared_site import fingerprint
 from engine.project import Project
+from engine.ready_meters import fingerprint
 from engine.wizard import MeterJob, MeterModels
 
 #: Layout of the kept document; a change of layout or of the engine makes old entries misses.

@@ -24,10 +24,10 @@ from engine.budget import BudgetWindow, MeterPlan, as_of_cut
 from engine.budget.meter_grid import MeterGrid, native_interval, predictions, simulation_step
 from engine.budget.result import BudgetRun
 from engine.budget.weather_paths import WeatherScenarios, weather_scenarios
-from engine.budgeting import BudgetRequest, ProjectBudget
 from engine.errors import InputError, ProjectError
 from engine.project import Project
 from engine.project.adopted_table import name_taken
+from engine.steps.budgeting import BudgetRequest, ProjectBudget
 
 #: Shape of the adopted document; bump when it changes (tracking reads older layouts or
 #: refuses them in words).

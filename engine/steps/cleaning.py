@@ -22,7 +22,7 @@ from engine.cleaning.steps import CleaningStep
 from engine.meters import MeterSeries
 from engine.progress import Progress, step
 from engine.project import Project
-from engine.site_calendar import stored_calendar
+from engine.steps.site_calendar import stored_calendar
 from engine.weather import fill_hourly
 
 
@@ -102,21 +102,6 @@ def review_meter(
     accepted = {s["params"].get("finding") for s in steps if s["kind"] == "accept"}
     findings = [finding for finding in findings if finding.id not in accepted]
     return MeterReview(meter, cleaned, findings, steps)
-
-
-def accepted_step(finding: Finding, note: str = "") -> CleaningStep:
-    """The step that keeps ``finding``'s readings as they are and leaves it out of reviews."""
-    return CleaningStep(
-        "accept",
-        finding.meter,
-        {
-            "finding": finding.id,
-            "finding_kind": finding.kind,
-            "start": finding.start.isoformat(),
-            "end": finding.end.isoformat(),
-        },
-        note or "accepted as expected",
-    )
 
 
 def apply_recommended(project: Project, review: MeterReview) -> list[int]:

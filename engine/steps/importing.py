@@ -25,7 +25,7 @@ from engine.reading import (
     read_meter_file,
     read_weather_file,
 )
-from engine.site_calendar import store_calendar
+from engine.steps.site_calendar import store_calendar
 from engine.zone_names import require_zone
 
 

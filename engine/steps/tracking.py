@@ -32,7 +32,7 @@ their budget figures are the adopted roll-ups' own (a range of a sum, not a sum 
 so their usage effect is again the rest of their variance.
 
 The year-end outlook is a fresh budget of the same months from the tracking as-of date (the
-same simulation and calibration as any budget, :func:`engine.budgeting.budget_project`):
+same simulation and calibration as any budget, :func:`engine.steps.budgeting.budget_project`):
 the actuals to date plus the forecast of the rest, beside the adopted total.
 """
 
@@ -46,21 +46,23 @@ import numpy as np
 import pandas as pd
 
 from engine.accounts.budget import daily_means
-from engine.bill_prices import BillPrice, bill_prices
 from engine.budget import BudgetRun, BudgetWindow, as_of_cut
 from engine.budget.summary import PEAK_CAUTION
 from engine.budget.weather_paths import WeatherScenarios
-from engine.budgeting import (
+from engine.calendar import CampusCalendar
+from engine.errors import InputError
+from engine.progress import Progress, step
+from engine.project import Project
+from engine.ready_meters import PreparedSite, ReadyMeter
+from engine.steps.adopting import LAYOUT
+from engine.steps.bill_prices import BillPrice, bill_prices
+from engine.steps.budgeting import (
     WEATHER_CHOICES,
     BudgetRequest,
     budget_project,
     last_reading_day,
 )
-from engine.calendar import CampusCalendar
-from engine.errors import InputError
-from engine.prepared_site import PreparedSite, ReadyMeter, prepare_site
-from engine.progress import Progress, step
-from engine.project import Project
+from engine.steps.prepared_site import prepare_site
 from engine.tariffs import Tariff, tariff_from_dict
 from engine.tracking.actuals import (
     daily_actuals,
@@ -69,7 +71,6 @@ from engine.tracking.actuals import (
     happened_weather,
     tariff_cost,
 )
-from engine.tracking.adopt import LAYOUT
 from engine.tracking.bill_actuals import BilledDays, billed_days
 
 COMPLETE, UNDER_WAY, NOT_BEGUN = "complete", "under way", "not begun"

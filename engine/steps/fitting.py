@@ -12,13 +12,13 @@ import pandas as pd
 from engine.backtest import BacktestResult
 from engine.budget.refits import REFIT_MONTHS
 from engine.errors import InputError
-from engine.kept_models import keep_for_next_budget
 from engine.models import MODEL_FAMILIES, EnergyModel, ModelInputs, RefitNeeded, model_from_dict
 from engine.parallel import run_per_meter
-from engine.prepared_site import prepare_site
 from engine.progress import Progress, step
 from engine.project import Project
 from engine.selection import ModelChoice
+from engine.steps.kept_models import keep_for_next_budget
+from engine.steps.prepared_site import prepare_site
 from engine.weather import TypicalYears
 from engine.wizard import (
     DEFAULT_ORIGINS,
@@ -64,7 +64,7 @@ def fit_meters(
     """Backtest the families on each meter, recommend one, fit it on all data and keep it.
 
     The chosen model's refits before each of the last months, which a budget needs, are
-    kept too (:func:`engine.kept_models.keep_for_next_budget`; half of them come free from
+    kept too (:func:`engine.steps.kept_models.keep_for_next_budget`; half of them come free from
     the backtest), so the first budget after a fit does not make them. Meters run side by
     side (``workers`` local processes, by default one per core when the site is large enough
     to repay them, or the Dask scheduler at ``scheduler``); every meter's result is kept in

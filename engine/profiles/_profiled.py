@@ -1,31 +1,23 @@
-"""Profile the meters of a project: cleaned readings, calendar labels and weather together.
-
-This ties :mod:`engine.profiles` to a project file: it replays the cleaning log, labels the
-intervals with the project's campus calendar, adds the weather, and fits the weather response
-(one change-point fit, on ordinary working days, for the table and the plot alike).
-"""
+"""A meter's profiles with its weather response, and the key figures the command line prints."""
 
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, replace
+from dataclasses import dataclass
 
 import pandas as pd
 
 from engine.calendar import CampusCalendar, label_intervals
-from engine.cleaning.project_log import cleaned_meter
 from engine.meters import MeterSeries
-from engine.profiles import MeterProfiles, TemperatureResponse, profile_meter
-from engine.progress import Progress
-from engine.project import Project
-from engine.site_calendar import stored_calendar
+from engine.profiles._bundle import MeterProfiles
+from engine.profiles._weather import TemperatureResponse
 
 #: The weather response's change-point shapes in words.
 SHAPE_WORDS = {"2P": "linear", "3PH": "heating", "3PC": "cooling", "4P": "both", "5P": "both"}
 
 
 @dataclass
-class ProjectMeterProfile:
+class ProfiledMeter:
     """One meter's profiles with the weather response and the figures the command prints."""
 
     meter: MeterSeries
@@ -71,26 +63,7 @@ def _response_figures(response: TemperatureResponse) -> dict:
     }
 
 
-def profile_project_meter(
-    project: Project, name: str, progress: Progress | None = None
-) -> ProjectMeterProfile:
-    """Every profile of meter ``name`` on its cleaned readings (excluded ranges left out)."""
-    raw, cleaned = cleaned_meter(project, name)
-    keep = cleaned.values.notna() & ~cleaned.excluded
-    meter = replace(raw, values=cleaned.values[keep])
-    calendar = stored_calendar(project)
-    labels = None
-    if calendar is not None:
-        labels = label_intervals(meter.values.index, meter.timezone, calendar)
-    temps = project.load_weather() if project.weather_stations() else None
-    profiles = profile_meter(
-        meter, labels, temps, progress=progress, weather_fit_days=_working_days(meter, calendar)
-    )
-    note = "" if temps is not None else "no weather in the project"
-    return ProjectMeterProfile(meter, profiles, note)
-
-
-def _working_days(meter: MeterSeries, calendar: CampusCalendar | None) -> pd.DatetimeIndex:
+def working_days(meter: MeterSeries, calendar: CampusCalendar | None) -> pd.DatetimeIndex:
     """The meter's local dates that are weekdays, not public holidays and not in a break,
     closure or summer: the weather shows best on them (the calendar's swings do not hide it)."""
     local = meter.values.index.tz_convert(meter.timezone)
