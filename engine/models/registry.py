@@ -17,7 +17,9 @@ from engine.models.mstl_ets import MSTLETSModel
 from engine.models.seasonal_naive import SeasonalNaiveModel
 from engine.models.time_of_week import TimeOfWeekTemperatureModel
 
-#: Family identifier → class; explainable families first, then benchmarks and the challenger.
+#: Family identifier → class for every family on the contract's inputs (:class:`ModelInputs`),
+#: the ones a meter's models are chosen from: explainable families first, then benchmarks and the
+#: challenger.
 MODEL_FAMILIES: dict[str, type[ModelFamily]] = {
     family.family: family
     for family in (
@@ -25,7 +27,6 @@ MODEL_FAMILIES: dict[str, type[ModelFamily]] = {
         TimeOfWeekTemperatureModel,
         DailyChangePointModel,
         LastYearAdjustedModel,
-        BillingPeriodChangePointModel,
         SeasonalNaiveModel,
         DailyETSModel,
         MonthlySARIMAModel,
@@ -33,6 +34,12 @@ MODEL_FAMILIES: dict[str, type[ModelFamily]] = {
         GradientBoostingChallenger,
     )
 }
+#: Families fitted on other inputs: billing periods (:class:`BillingInputs`), for bill accounts.
+BILL_FAMILIES: dict[str, type[ModelFamily]] = {
+    BillingPeriodChangePointModel.family: BillingPeriodChangePointModel
+}
+#: Every family a project may have stored.
+STORED_FAMILIES: dict[str, type[ModelFamily]] = {**MODEL_FAMILIES, **BILL_FAMILIES}
 
 
 def model_from_dict(data: dict[str, Any]) -> ModelFamily:
@@ -42,8 +49,8 @@ def model_from_dict(data: dict[str, Any]) -> ModelFamily:
     :class:`~engine.models.challenger.RefitNeeded` for a fitted challenger.
     """
     family = data.get("family")
-    if family not in MODEL_FAMILIES:
+    if family not in STORED_FAMILIES:
         raise ProjectError(
-            f"stored model has unknown family {family!r}; known: {', '.join(MODEL_FAMILIES)}."
+            f"stored model has unknown family {family!r}; known: {', '.join(STORED_FAMILIES)}."
         )
-    return MODEL_FAMILIES[family].from_dict(data)
+    return STORED_FAMILIES[family].from_dict(data)
