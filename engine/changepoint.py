@@ -152,8 +152,10 @@ def _zoom(grid: np.ndarray, best: int, low: float, high: float, size: int) -> np
     return np.linspace(max(start, low), min(stop, high), size)
 
 
-class ChangePointModel:
-    """Change-point regression of energy per day against mean temperature.
+class ChangePointFit:
+    """One change-point regression of energy per day against mean temperature (a fit, not a
+    model family: the families :mod:`engine.models.daily_change_point` and
+    :mod:`engine.models.billing_change_point` are built on it).
 
     Parameters
     ----------
@@ -192,7 +194,7 @@ class ChangePointModel:
 
     Examples
     --------
-    >>> model = ChangePointModel("3PH").fit(daily_mean_temps, kwh_per_day)  # doctest: +SKIP
+    >>> model = ChangePointFit("3PH").fit(daily_mean_temps, kwh_per_day)  # doctest: +SKIP
     >>> model.change_points_, model.heating_slope_  # doctest: +SKIP
     """
 
@@ -216,7 +218,7 @@ class ChangePointModel:
         temps: ArrayLike,
         energy: ArrayLike,
         weights: ArrayLike | None = None,
-    ) -> ChangePointModel:
+    ) -> ChangePointFit:
         """Fit the model; ``temps`` in °C, ``energy`` per day, ``weights`` e.g. days per period."""
         self._check_kind()
         x, y, w = _checked_inputs(temps, energy, weights)
@@ -229,7 +231,7 @@ class ChangePointModel:
                 f"unknown change-point model {self.kind!r}.", hint=f"Choose one of {KINDS}."
             )
 
-    def _fit_points(self, points: _SortedPoints) -> ChangePointModel:
+    def _fit_points(self, points: _SortedPoints) -> ChangePointFit:
         """Search the change points on the sorted sums, then solve and score directly."""
         x, y, w = points.x, points.y, points.w
         change_points = self._search(points)
@@ -389,7 +391,7 @@ class ChangePointModel:
         }
 
     @classmethod
-    def from_dict(cls, data: dict[str, Any]) -> ChangePointModel:
+    def from_dict(cls, data: dict[str, Any]) -> ChangePointFit:
         """Rebuild a model stored with :meth:`to_dict`."""
         if data.get("format") != _FORMAT or data.get("version") != _FORMAT_VERSION:
             raise ProjectError(
@@ -420,7 +422,7 @@ class ChangePointModel:
         return model
 
     def __repr__(self) -> str:
-        return f"ChangePointModel({self.kind!r})"
+        return f"ChangePointFit({self.kind!r})"
 
 
 def _design(x: np.ndarray, kind: str, points: tuple[float, ...]) -> np.ndarray:
@@ -484,12 +486,12 @@ def fit_kinds(
     weights: ArrayLike | None = None,
     kinds: tuple[str, ...] = KINDS,
     grid_size: int = 40,
-) -> list[ChangePointModel]:
+) -> list[ChangePointFit]:
     """Fit each shape in ``kinds``, skipping shapes the data cannot support.
 
     A shape is skipped when it has too many parameters for the number of periods or its change
     point cannot be placed; if every shape is skipped the first reason is raised. ``grid_size``
-    is each shape's :class:`ChangePointModel` setting.
+    is each shape's :class:`ChangePointFit` setting.
     """
     if not kinds:
         raise InputError("no change-point shapes were chosen.", hint=f"Choose from {KINDS}.")
@@ -497,7 +499,7 @@ def fit_kinds(
     points = None  # sorted and summed once, for every shape
     models, first_problem = [], None
     for kind in kinds:
-        model = ChangePointModel(kind, grid_size=grid_size)
+        model = ChangePointFit(kind, grid_size=grid_size)
         try:
             model._check_kind()
             _require_periods(len(x), PARAMETER_COUNT[kind])
@@ -510,7 +512,7 @@ def fit_kinds(
     return models
 
 
-def best_of(models: list[ChangePointModel]) -> ChangePointModel:
+def best_of(models: list[ChangePointFit]) -> ChangePointFit:
     """The plausible fitted model with the lowest BIC (2P is always plausible).
 
     BIC (Schwarz 1978) trades fit against parameter count, so a 5P only wins over a 3P when
@@ -526,6 +528,6 @@ def select_best(
     weights: ArrayLike | None = None,
     kinds: tuple[str, ...] = KINDS,
     grid_size: int = 40,
-) -> ChangePointModel:
+) -> ChangePointFit:
     """Fit every shape in ``kinds`` and return :func:`best_of` them."""
     return best_of(fit_kinds(temps, energy, weights, kinds, grid_size))

@@ -20,7 +20,7 @@ import numpy as np
 import pandas as pd
 
 from engine.accounts.split import period_starts, share_by_degree_days
-from engine.changepoint import ChangePointModel
+from engine.changepoint import ChangePointFit
 from engine.degree_days import mean_temperature_degree_days
 from engine.errors import InputError
 from engine.models.billing_change_point import BillingInputs, BillingPeriodChangePointModel
@@ -59,7 +59,7 @@ def bill_days(bills: pd.DataFrame) -> tuple[pd.DatetimeIndex, np.ndarray]:
 class AccountModel:
     """A fitted account model: ``change_point`` with weather, ``cycle`` (a, b, s) without."""
 
-    change_point: ChangePointModel | None = None
+    change_point: ChangePointFit | None = None
     cycle: np.ndarray | None = None
 
     @property
@@ -95,7 +95,7 @@ class AccountModel:
     @classmethod
     def from_dict(cls, data: dict) -> AccountModel:
         if "change_point" in data:
-            return cls(change_point=ChangePointModel.from_dict(data["change_point"]))
+            return cls(change_point=ChangePointFit.from_dict(data["change_point"]))
         return cls(cycle=np.asarray(data["cycle"], dtype=float))
 
     def daily(

@@ -36,7 +36,7 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from engine.changepoint import ChangePointModel, select_best
+from engine.changepoint import ChangePointFit, select_best
 from engine.cleaning.days import DAY_COVERAGE, WholeDays
 from engine.cleaning.like_days import LikeDays
 from engine.cleaning.pattern import HOURS_PER_DAY, Pattern, weekly_pattern
@@ -65,7 +65,7 @@ class WeatherResponse:
     interval per °C of each temperature term, per local hour of the day.
     """
 
-    model: ChangePointModel
+    model: ChangePointFit
     share: float
     temperature: np.ndarray
     effect: np.ndarray
@@ -171,7 +171,7 @@ def _spread(
 
 def _daily_fit(
     values: np.ndarray, temperature: np.ndarray, days: WholeDays
-) -> tuple[ChangePointModel, float] | None:
+) -> tuple[ChangePointFit, float] | None:
     """The best change-point fit of weekday-adjusted daily energy on daily mean temperature,
     with its R², when it explains at least :data:`MIN_SHARE`; else None."""
     energy = days.energy(values)

@@ -19,7 +19,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from engine.changepoint import PARAMETER_COUNT, ChangePointModel, select_best
+from engine.changepoint import PARAMETER_COUNT, ChangePointFit, select_best
 from engine.errors import InputError
 from engine.models._family import ModelFamily
 
@@ -159,7 +159,7 @@ class BillingPeriodChangePointModel(ModelFamily):
 
     Attributes
     ----------
-    change_point_model_ : ChangePointModel or None
+    change_point_model_ : ChangePointFit or None
         The weighted fit (weights = days per period); None when fitted without temperature.
     mean_daily_energy_ : float
         Billed kWh per day over all periods (total energy / total days).
@@ -192,7 +192,7 @@ class BillingPeriodChangePointModel(ModelFamily):
             if self.kind is None:
                 model = select_best(temps, per_day, periods.days)
             else:
-                model = ChangePointModel(self.kind).fit(temps, per_day, periods.days)
+                model = ChangePointFit(self.kind).fit(temps, per_day, periods.days)
             self.change_point_model_ = model
             self.n_parameters_ = PARAMETER_COUNT[model.kind]
         return self
@@ -223,6 +223,6 @@ class BillingPeriodChangePointModel(ModelFamily):
 
     def _restore(self, state: dict[str, Any]) -> None:
         stored = state["change_point_model"]
-        self.change_point_model_ = None if stored is None else ChangePointModel.from_dict(stored)
+        self.change_point_model_ = None if stored is None else ChangePointFit.from_dict(stored)
         self.mean_daily_energy_ = float(state["mean_daily_energy"])
         self.n_parameters_ = int(state["n_parameters"])

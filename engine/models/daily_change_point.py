@@ -25,7 +25,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from engine.changepoint import PARAMETER_COUNT, ChangePointModel, select_best
+from engine.changepoint import PARAMETER_COUNT, ChangePointFit, select_best
 from engine.errors import InputError
 from engine.models._day_totals import DayHistory, DayTotalsModel
 from engine.models._days import (
@@ -69,7 +69,7 @@ class DailyChangePointModel(DayTotalsModel):
 
     Attributes
     ----------
-    change_point_models_ : dict of str to ChangePointModel
+    change_point_models_ : dict of str to ChangePointFit
         The fit of each group (``"weekday"``, ``"weekend_or_holiday"`` or ``"all_days"``);
         empty when fitted without temperature.
     mean_daily_energy_ : dict of str to float
@@ -128,7 +128,7 @@ class DailyChangePointModel(DayTotalsModel):
                 + f"; daily change-point regression needs at least {self.min_group_days}.",
                 hint="Choose a longer fit window or fill gaps in the readings and weather.",
             )
-        models: dict[str, ChangePointModel] = {}
+        models: dict[str, ChangePointFit] = {}
         means: dict[str, float] = {}
         for name, chosen in self._group_masks(view, usable).items():
             means[name] = float(view.energy[chosen].mean())
@@ -200,10 +200,10 @@ class DailyChangePointModel(DayTotalsModel):
             return masks
         return {ALL_DAYS: usable}
 
-    def _fit_one(self, temps: np.ndarray, energy: np.ndarray) -> ChangePointModel:
+    def _fit_one(self, temps: np.ndarray, energy: np.ndarray) -> ChangePointFit:
         if self.kind is None:
             return select_best(temps, energy)
-        return ChangePointModel(self.kind).fit(temps, energy)
+        return ChangePointFit(self.kind).fit(temps, energy)
 
     def _day_energy(self, view: DailyView) -> np.ndarray:
         """kWh of each day of ``view``; NaN where its mean temperature is missing."""
@@ -257,7 +257,7 @@ class DailyChangePointModel(DayTotalsModel):
         self._restore_days(state)
         self.uses_temperature_ = bool(state["uses_temperature"])
         self.change_point_models_ = {
-            name: ChangePointModel.from_dict(stored)
+            name: ChangePointFit.from_dict(stored)
             for name, stored in state["change_point_models"].items()
         }
         self.mean_daily_energy_ = {k: float(v) for k, v in state["mean_daily_energy"].items()}

@@ -8,7 +8,7 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from engine.changepoint import KINDS, ChangePointModel, select_best
+from engine.changepoint import KINDS, ChangePointFit, select_best
 from engine.errors import InputError
 from engine.meters import MeterSeries
 from engine.profiles._readings import complete_days, local_readings
@@ -29,7 +29,7 @@ class TemperatureResponse:
 
     daily: pd.DataFrame
     line: pd.DataFrame
-    model: ChangePointModel
+    model: ChangePointFit
     basis: str = ""
 
 
@@ -61,7 +61,7 @@ def daily_mean_temperature(
     return means[grouped.size() >= min_coverage * per_day]
 
 
-def change_point_line(model: ChangePointModel, low: float, high: float) -> pd.DataFrame:
+def change_point_line(model: ChangePointFit, low: float, high: float) -> pd.DataFrame:
     """The fitted line's corners between ``low`` and ``high`` °C, for drawing."""
     inside = [point for point in model.change_points_ if low < point < high]
     temps = np.array([low, *inside, high])
@@ -117,7 +117,7 @@ def energy_vs_temperature(
     model = (
         select_best(fitted_x, fitted_y)
         if kind == "best"
-        else ChangePointModel(kind).fit(fitted_x, fitted_y)
+        else ChangePointFit(kind).fit(fitted_x, fitted_y)
     )
     daily = pd.DataFrame(
         {

@@ -18,7 +18,7 @@ from engine.accounts.paths import account_paths, bill_only_totals
 from engine.accounts.plan import backtest_bills, checked_bills
 from engine.accounts.split import cycle_periods
 from engine.budget import WeatherAssumption
-from engine.changepoint import ChangePointModel
+from engine.changepoint import ChangePointFit
 from engine.errors import InputError
 from engine.models import BillingInputs, BillingPeriodChangePointModel
 from tests.bill_support import billing_periods
@@ -70,7 +70,7 @@ def test_a_billing_period_splits_into_months_by_degree_days_as_worked_by_hand():
         January 1,700 × 156 / 282 = 940.43 kWh, February 1,700 × 126 / 282 = 759.57 kWh
       months: January 120 + 940.43 = 1,060.43 kWh; February 180 + 759.57 = 939.57 kWh
     """
-    model = ChangePointModel("3PH")
+    model = ChangePointFit("3PH")
     model.change_points_, model.intercept_ = (15.0,), 10.0
     model.heating_slope_, model.cooling_slope_ = 1700 / 282, 0.0
     days = pd.date_range("2025-01-20", "2025-02-18", freq="D")

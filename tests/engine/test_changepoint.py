@@ -19,7 +19,7 @@ from sklearn.exceptions import NotFittedError
 from engine.changepoint import (
     KINDS,
     PARAMETER_COUNT,
-    ChangePointModel,
+    ChangePointFit,
     _candidate_sse,
     _checked_inputs,
     _SortedPoints,
@@ -60,7 +60,7 @@ def test_recovers_known_parameters(kind):
     # sd 15 kWh/day on 900 days, about 2 % of the base load).
     base, heat_point, heat_slope, cool_point, cool_slope = TRUTH[kind]
     temps, energy = _daily_data(kind)
-    model = ChangePointModel(kind).fit(temps, energy)
+    model = ChangePointFit(kind).fit(temps, energy)
     expected_points = {
         "3PH": (heat_point,),
         "3PC": (cool_point,),
@@ -94,7 +94,7 @@ def test_search_finds_at_least_the_optimum_scipy_finds(kind):
         start = TRUTH[kind]
     found, _ = curve_fit(curve, temps, energy, p0=start)
     scipy_sse = np.sum((energy - curve(temps, *found)) ** 2)
-    model = ChangePointModel(kind).fit(temps, energy)
+    model = ChangePointFit(kind).fit(temps, energy)
     our_sse = np.sum((energy - model.predict(temps)) ** 2)
     assert our_sse <= scipy_sse * (1 + 1e-9)
 
@@ -121,14 +121,14 @@ def test_candidates_with_an_empty_hinge_do_not_stop_the_search(kind):
     }[kind]
     found, _ = curve_fit(curve, temps, energy, p0=start)
     scipy_sse = np.sum((energy - curve(temps, *found)) ** 2)
-    model = ChangePointModel(kind).fit(temps, energy)
+    model = ChangePointFit(kind).fit(temps, energy)
     assert np.sum((energy - model.predict(temps)) ** 2) <= scipy_sse * (1 + 1e-9)
 
 
 def test_two_parameter_line_matches_numpy_polyfit():
     temps, energy = _daily_data("3PC", n=200)
     slope, intercept = np.polyfit(temps, energy, 1)  # numpy's least-squares line
-    model = ChangePointModel("2P").fit(temps, energy)
+    model = ChangePointFit("2P").fit(temps, energy)
     assert model.intercept_ == pytest.approx(intercept, rel=1e-10)
     assert model.cooling_slope_ == pytest.approx(slope, rel=1e-10)
     assert model.heating_slope_ == 0.0
@@ -141,7 +141,7 @@ def test_weighted_two_parameter_line_matches_statsmodels_wls():
     days = rng.integers(27, 35, 36).astype(float)
     energy = 1500.0 - 22.0 * temps + rng.normal(0.0, 30.0, 36)
     reference = sm.WLS(energy, sm.add_constant(temps), weights=days).fit()
-    model = ChangePointModel("2P").fit(temps, energy, weights=days)
+    model = ChangePointFit("2P").fit(temps, energy, weights=days)
     assert model.intercept_ == pytest.approx(reference.params[0], rel=1e-10)
     assert model.heating_slope_ == pytest.approx(-reference.params[1], rel=1e-10)
     assert model.r2_ == pytest.approx(reference.rsquared, rel=1e-10)
@@ -151,7 +151,7 @@ def test_slopes_at_the_change_point_match_statsmodels_ols():
     # With the change point fixed at the fitted value, the slopes are plain least squares on
     # the hinge regressors; statsmodels OLS on that design must agree.
     temps, energy = _daily_data("5P", n=400, noise=30.0)
-    model = ChangePointModel("5P").fit(temps, energy)
+    model = ChangePointFit("5P").fit(temps, energy)
     heat_point, cool_point = model.change_points_
     design = np.column_stack(
         [
@@ -174,7 +174,7 @@ def test_cv_rmse_follows_guideline_14_on_a_hand_worked_line():
     # so CV(RMSE) = 100·sqrt(1.2)/3 = 36.515 % and R² = 1 − 3.6/10 = 0.64.
     temps = np.array([0.0, 1.0, 2.0, 3.0, 4.0])
     energy = np.array([1.0, 3.0, 2.0, 5.0, 4.0])
-    model = ChangePointModel("2P").fit(temps, energy)
+    model = ChangePointFit("2P").fit(temps, energy)
     assert model.intercept_ == pytest.approx(1.4)
     assert model.cooling_slope_ == pytest.approx(0.8)
     assert model.cv_rmse_ == pytest.approx(100.0 * np.sqrt(1.2) / 3.0)
@@ -184,7 +184,7 @@ def test_cv_rmse_follows_guideline_14_on_a_hand_worked_line():
 @pytest.mark.parametrize("kind", ["3PH", "4P", "5P"])
 def test_cv_rmse_counts_change_points_as_parameters(kind):
     temps, energy = _daily_data(kind, n=120, noise=25.0)
-    model = ChangePointModel(kind).fit(temps, energy)
+    model = ChangePointFit(kind).fit(temps, energy)
     n, p = len(temps), PARAMETER_COUNT[kind]
     hand = 100.0 * np.sqrt(np.sum((energy - model.predict(temps)) ** 2) / (n - p)) / energy.mean()
     assert model.cv_rmse_ == pytest.approx(hand, rel=1e-12)
@@ -193,8 +193,8 @@ def test_cv_rmse_counts_change_points_as_parameters(kind):
 def test_integer_weights_act_like_repeated_periods():
     temps, energy = _daily_data("3PH", n=60, noise=20.0, seed=8)
     days = np.arange(60) % 4 + 1
-    weighted = ChangePointModel("3PH").fit(temps, energy, weights=days)
-    repeated = ChangePointModel("3PH").fit(np.repeat(temps, days), np.repeat(energy, days))
+    weighted = ChangePointFit("3PH").fit(temps, energy, weights=days)
+    repeated = ChangePointFit("3PH").fit(np.repeat(temps, days), np.repeat(energy, days))
     # The search grids differ slightly (quantiles of repeated data move), so agreement is to
     # the grid's final resolution rather than to rounding error.
     assert weighted.change_points_[0] == pytest.approx(repeated.change_points_[0], abs=1e-4)
@@ -241,7 +241,7 @@ def test_fit_kinds_skips_shapes_the_data_cannot_carry():
 def test_noise_free_four_parameter_data_is_fitted_exactly(point, heat, cool):
     temps = np.linspace(-10.0, 30.0, 81)
     energy = _shape(temps, 500.0, point, heat, point, cool)
-    model = ChangePointModel("4P").fit(temps, energy)
+    model = ChangePointFit("4P").fit(temps, energy)
     assert model.change_points_[0] == pytest.approx(point, abs=0.01)
     np.testing.assert_allclose(model.predict(temps), energy, rtol=1e-4)
 
@@ -249,9 +249,9 @@ def test_noise_free_four_parameter_data_is_fitted_exactly(point, heat, cool):
 @pytest.mark.parametrize("kind", KINDS)
 def test_round_trips_through_plain_json(kind):
     temps, energy = _daily_data("5P", n=200)
-    model = ChangePointModel(kind, grid_size=30).fit(temps, energy)
+    model = ChangePointFit(kind, grid_size=30).fit(temps, energy)
     stored = json.loads(json.dumps(model.to_dict(), allow_nan=False))
-    again = ChangePointModel.from_dict(stored)
+    again = ChangePointFit.from_dict(stored)
     np.testing.assert_array_equal(again.predict(temps), model.predict(temps))
     assert again.cv_rmse_ == model.cv_rmse_
     assert again.grid_size == 30
@@ -259,7 +259,7 @@ def test_round_trips_through_plain_json(kind):
 
 
 def test_unfitted_model_round_trips_and_refuses_to_predict():
-    model = ChangePointModel.from_dict(ChangePointModel("4P").to_dict())
+    model = ChangePointFit.from_dict(ChangePointFit("4P").to_dict())
     assert model.kind == "4P" and not model.is_fitted
     with pytest.raises(NotFittedError):
         model.predict([10.0])
@@ -267,7 +267,7 @@ def test_unfitted_model_round_trips_and_refuses_to_predict():
 
 def test_foreign_stored_model_is_refused():
     with pytest.raises(ProjectError, match="change-point"):
-        ChangePointModel.from_dict({"format": "something-else", "version": 1})
+        ChangePointFit.from_dict({"format": "something-else", "version": 1})
 
 
 @pytest.mark.parametrize(
@@ -283,12 +283,12 @@ def test_foreign_stored_model_is_refused():
 def test_bad_input_is_named(temps, energy, weights, message):
     kind = "3PH" if message == "too alike" else "2P"
     with pytest.raises(InputError, match=message):
-        ChangePointModel(kind).fit(temps, energy, weights)
+        ChangePointFit(kind).fit(temps, energy, weights)
 
 
 def test_unknown_kind_is_named():
     with pytest.raises(InputError, match="unknown change-point model"):
-        ChangePointModel("6P").fit([1.0, 2.0, 3.0], [1.0, 2.0, 3.0])
+        ChangePointFit("6P").fit([1.0, 2.0, 3.0], [1.0, 2.0, 3.0])
 
 
 @pytest.mark.parametrize("kind", ["3PH", "3PC", "4P", "5P"])

@@ -24,7 +24,7 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from engine.changepoint import ChangePointModel
+from engine.changepoint import ChangePointFit
 from engine.cleaning import find_all
 from engine.cleaning.prepared import PreparedMeter
 from engine.cleaning.settings import CleaningSettings
@@ -260,7 +260,7 @@ def test_weather_terms_rebuild_the_change_point_prediction(kind):
     energy = 500 + 30 * np.maximum(10 - temps, 0) + 45 * np.maximum(temps - 18, 0)
     if kind == "2P":
         energy = 900 - 12 * temps  # falling: the term is −T
-    model = ChangePointModel(kind).fit(temps, energy + generator.normal(0, 5, temps.size))
+    model = ChangePointFit(kind).fit(temps, energy + generator.normal(0, 5, temps.size))
     slopes = {
         "2P": [max(model.heating_slope_, model.cooling_slope_)],
         "3PH": [model.heating_slope_],

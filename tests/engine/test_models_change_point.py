@@ -15,7 +15,7 @@ import pytest
 import statsmodels.api as sm
 from test_models_campus import one_thread  # noqa: F401  (autouse: one BLAS/OpenMP thread)
 
-from engine.changepoint import ChangePointModel, select_best
+from engine.changepoint import ChangePointFit, select_best
 from engine.errors import InputError
 from engine.models import (
     BillingInputs,
@@ -228,7 +228,7 @@ def test_the_billing_shapes_agree_with_a_direct_change_point_fit():
     model = BillingPeriodChangePointModel().fit(BillingInputs(bills, temps))
     direct = select_best(mean_temp, bills["quantity_kwh"] / lengths, lengths)
     assert model.change_point_model_.kind == direct.kind
-    assert isinstance(model.change_point_model_, ChangePointModel)
+    assert isinstance(model.change_point_model_, ChangePointFit)
     assert model.change_point_model_.intercept_ == pytest.approx(direct.intercept_, rel=1e-9)
 
 

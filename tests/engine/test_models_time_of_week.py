@@ -25,7 +25,7 @@ from test_models_campus import (
     synthetic_campus,
 )
 
-from engine.changepoint import ChangePointModel
+from engine.changepoint import ChangePointFit
 from engine.errors import InputError
 from engine.models import TimeOfWeekTemperatureModel
 from engine.models.time_of_week import temperature_segments
@@ -46,7 +46,7 @@ def model(building):
 
 def test_recovers_the_heating_slope_and_balance_point(building, model):
     temps = building.inputs.window(end=FIT_END).temperature.to_numpy()[::3]
-    read = ChangePointModel("5P").fit(temps, model.temperature_response(temps))
+    read = ChangePointFit("5P").fit(temps, model.temperature_response(temps))
     # Bar from the issue: slope within 10 %, balance point within 1 °C. Hourly readings, so
     # the slope per interval is per °C-hour.
     assert read.heating_slope_ == pytest.approx(HEATING_SLOPE, rel=0.10)
