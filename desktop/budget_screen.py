@@ -120,8 +120,8 @@ class BudgetScreen(TaskScreen):
         else:
             self._clear("Choose the period and press 'Budget'.")
             self._show_kept(project)
-        if self.task is not None:
-            self.task.cancel()  # the new project's as-of date is looked up once it stops
+        if self.runner.busy:
+            self.runner.cancel()  # the new project's as-of date is looked up once it stops
             return
         self._look_up_as_of()
 
@@ -252,7 +252,7 @@ class BudgetScreen(TaskScreen):
             return
         self.ran_with = None
         self._display(budget)
-        self.set_busy(self.task is not None)
+        self.set_busy(self.runner.busy)
         self.summary.setText(
             f"The budget adopted as '{name}', as it was issued (write it again on the Export "
             f"step): {self.summary.text()}"

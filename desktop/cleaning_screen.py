@@ -21,21 +21,21 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from desktop.cleaning_jobs import Change, FixPreview, preview_fix, review_after
+from desktop.cleaning_jobs import Change, FixPreview, preview_fix
 from desktop.cleaning_log_view import CleaningLogView
 from desktop.cleaning_words import finding_name, nothing_recommended, step_name
 from desktop.findings_table import FindingsTable
 from desktop.fix_preview_plot import FixPreviewPlot
 from desktop.meter_screen import MeterScreen
-from desktop.project_changes import CALENDAR, CLEANING, Reversible, cleaning_change
+from desktop.project_changes import CALENDAR, CLEANING, Reversible, cleaning_change_remembered
 from desktop.quality_panel import QualityPanel
 from desktop.session import Session
-from desktop.workers import Failure, Task
+from desktop.task_runner import Job
+from desktop.workers import Failure
 from engine.cleaning import Finding, accepted_step, recommended_steps
 from engine.errors import InputError, ProjectError
 from engine.project import Project
 from engine.steps.cleaning import MeterReview, apply_recommended, apply_recommended_everywhere
-from engine.steps.cleaning_changes import LogChange
 
 #: Width of the column holding the quality summary and the log, enough for their words.
 SIDE_WIDTH = 380
@@ -94,6 +94,8 @@ class CleaningScreen(MeterScreen):
         self.log = CleaningLogView()
         self.log.switched.connect(self._switch_step)
         self.log.removal_asked.connect(self._remove_step)
+        self.runner.started.connect(self._update_busy)
+        self.runner.ended.connect(self._update_busy)
         self._lay_out()
         self.follow_session()
 
@@ -147,11 +149,7 @@ class CleaningScreen(MeterScreen):
         if self.session.project is None or not name:
             self._show_empty("This project has no meters yet: add files on the Files step.")
             return
-        if self.task is not None:
-            self._wanted = name
-            self.task.cancel()
-            return
-        self._start(name)
+        self.runner.request(self._job(name))
 
     def _undone_or_redone(self, change: Reversible) -> None:
         super()._undone_or_redone(change)
@@ -236,50 +234,37 @@ class CleaningScreen(MeterScreen):
         project = self.session.project
         if project is None or not name:
             return
-        if self.task is not None:
-            self.notice.say(f"Wait until {self.task.doing} is done.", "info")
-            return
         touched = tuple(project.meter_names()) if every_meter else (name,)
         words = command.format(meter=self.meter.shown())
-        self._start(name, change, done, touched, words)
+        self.runner.start(self._job(name, change, done, touched, words))
 
     # -- work -------------------------------------------------------------------------------
 
-    def _start(
+    def _job(
         self,
         meter: str,
         change: Change | None = None,
         done: str = "",
         touched: tuple[str, ...] = (),
         command: str = "",
-    ) -> None:
-        self._wanted = None
-        self.notice.clear()
+    ) -> Job:
+        """Make ``change`` (if any), then review ``meter``; Edit ▸ Undo remembers the change
+        as ``command``."""
         shown = self.meter.shown_as(meter)
         doing = f"reviewing '{shown}'" if change is None else f"changing the cleaning of '{shown}'"
-        project = self.session.project
-        task = Task(partial(review_after, project, meter, change), doing)
-        task.succeeded.connect(partial(self._reviewed, project, done, command))
-        task.failed.connect(self._failed)
-        task.cancelled.connect(partial(self._cancelled, meter))
-        task.ended.connect(partial(self._ended, meter, touched))
-        self.task = task
-        self.task_bar.follow(task)
-        self._set_busy(True)
-        task.start()
+        project, remember = self.session.project, self.undo.made_on_worker
+        return Job(
+            partial(cleaning_change_remembered, remember, project, meter, change, command),
+            doing,
+            partial(self._reviewed, done),
+            stopped=partial(self._cancelled, meter),
+            failed=self._failed,
+            ended=partial(self._ended, meter, touched),
+        )
 
-    def _reviewed(
-        self,
-        project: Project,
-        done: str,
-        command: str,
-        result: tuple[MeterReview, LogChange | None],
-    ) -> None:
-        review, logged = result
-        if logged and self.session.project is project:
-            self.undo.made(cleaning_change(project, logged, command))
-        if self._wanted is not None or self.session.project is None:
-            return  # another meter was chosen meanwhile; its review follows
+    def _reviewed(self, done: str, review: MeterReview) -> None:
+        if self.session.project is None:
+            return  # the project closed meanwhile
         self.review = review
         meter = review.meter
         self.quality.show_quality(review.quality())
@@ -287,38 +272,32 @@ class CleaningScreen(MeterScreen):
         if done:
             self.notice.say(f"{done} Saved in {self.session.project.path.name}.", "done")
 
-    def _failed(self, failure: Failure) -> None:
-        if self._wanted is not None:
-            return  # another meter was chosen meanwhile; its review follows
+    def _failed(self, _failure: Failure) -> None:
         self._clear_review("No findings to show: see the message above.")
-        self.notice.show_failure(failure)
 
     def _cancelled(self, meter: str) -> None:
-        if self._wanted is None:
-            shown = self.meter.shown_as(meter)
-            self._clear_review(f"Stopped reviewing '{shown}'.")
-            self.notice.say(
-                f"Stopped reviewing '{shown}'. Press 'Review again' to see its findings.", "info"
-            )
+        shown = self.meter.shown_as(meter)
+        self._clear_review(f"Stopped reviewing '{shown}'.")
+        self.notice.say(
+            f"Stopped reviewing '{shown}'. Press 'Review again' to see its findings.", "info"
+        )
 
     def _ended(self, meter: str, touched: tuple[str, ...]) -> None:
-        self.task = None
-        self._set_busy(False)
+        """Whatever became of the work: the log as saved, and the meters it may have touched."""
         self._show_log(meter)
         for name in touched:
             self.log_changed.emit(name)
-        if self._wanted is not None:
-            self._start(self._wanted)
 
     # -- showing ----------------------------------------------------------------------------
 
-    def _set_busy(self, busy: bool) -> None:
+    def _update_busy(self) -> None:
+        busy = self.runner.busy
         self.review_button.setEnabled(not busy)
         self.log.set_busy(busy)
         self._update_buttons()
 
     def _update_buttons(self) -> None:
-        idle = self.task is None
+        idle = not self.runner.busy
         review = self.review
         recommended = review is not None and bool(recommended_steps(review.findings))
         self.apply_all_button.setEnabled(idle and recommended)

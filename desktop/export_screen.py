@@ -124,7 +124,7 @@ class ExportScreen(TaskScreen):
         self.project_name = project
         self.what.setText(NO_BUDGET if budget is None else budget_words(budget))
         self.go_button.setVisible(budget is None)
-        self.set_busy(self.task is not None)
+        self.set_busy(self.runner.busy)
 
     def set_busy(self, busy: bool) -> None:
         self.write_button.setEnabled(self.budget is not None and not busy)

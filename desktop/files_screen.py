@@ -6,6 +6,7 @@ Nothing is stored until "Create project…" or "Add to the open project".
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from functools import partial
 from pathlib import Path
 
@@ -41,8 +42,9 @@ from desktop.notice import Notice
 from desktop.reading_form import ReadingForm
 from desktop.session import Session
 from desktop.task_bar import TaskBar
+from desktop.task_runner import Job, TaskRunner
 from desktop.understood_view import KIND_WORDS, UnderstoodView
-from desktop.workers import SHUTDOWN_SECONDS, Failure, Task
+from desktop.workers import Work
 from engine.calendar_proposal import CalendarProposal
 from engine.errors import InputError
 from engine.project import Project
@@ -83,8 +85,6 @@ class FilesScreen(QWidget):
         super().__init__(parent)
         self.session = session
         self.plan = ImportPlan()
-        self.task: Task | None = None
-        self._read_after = False
         self.add_button = QPushButton("Add files…")
         self.add_button.clicked.connect(self.choose_files)
         self.remove_button = QPushButton("Remove file")
@@ -121,6 +121,9 @@ class FilesScreen(QWidget):
         self.view = UnderstoodView()
         self.notice = Notice()
         self.task_bar = TaskBar()
+        self.runner = TaskRunner(self, self.notice, self.task_bar)
+        self.runner.started.connect(self._plan_changed)
+        self.runner.ended.connect(self._plan_changed)
         self.store_hint = QLabel()
         self.store_hint.setWordWrap(True)
         self.add_to_project_button = QPushButton("Add to the open project")
@@ -235,61 +238,26 @@ class FilesScreen(QWidget):
     # -- reading ----------------------------------------------------------------------------
 
     def _request_read(self) -> None:
-        if self.task is not None:
-            self._read_after = True
-            return
+        """Read the files waiting to be read, once the work running now has ended."""
+        self.runner.after(self._read_pending)
+
+    def _read_pending(self) -> None:
         jobs = self.plan.pending()
-        if not jobs:
-            return
-        task = Task(partial(read_jobs, jobs), READING)
-        task.succeeded.connect(self.plan.record)
-        self._run(task)
+        if jobs:
+            self._run(partial(read_jobs, jobs), READING, self.plan.record)
 
-    def _run(self, task: Task) -> None:
-        self.notice.clear()
-        task.failed.connect(self._failed)
-        task.cancelled.connect(self._cancelled)
-        task.ended.connect(self._ended)
-        self.task = task
-        self.task_bar.follow(task)
-        task.start()
-        self._plan_changed()
-
-    def _failed(self, failure: Failure) -> None:
-        self.notice.show_failure(failure)
-
-    def _cancelled(self) -> None:
-        self._read_after = False
-        self.notice.say(f"Stopped {self.task.doing}; nothing was stored.", "info")
-
-    def _ended(self) -> None:
-        self.task = None
-        self._plan_changed()
-        if self._read_after:
-            self._read_after = False
-            self._request_read()
-
-    def shutdown(self) -> None:
-        """Stop the running task and wait for its thread (before the window closes)."""
-        if self.task is not None:
-            self._read_after = False
-            self.task.cancel()
-            self.task.wait(SHUTDOWN_SECONDS)
-
-    def closeEvent(self, event) -> None:
-        self.shutdown()
-        super().closeEvent(event)
+    def _run(self, work: Work, doing: str, done: Callable) -> None:
+        stopped = partial(self.notice.say, f"Stopped {doing}; nothing was stored.", "info")
+        self.runner.start(Job(work, doing, done, stopped=stopped))
 
     # -- a calendar from the readings -------------------------------------------------------
 
     def propose_calendar(self) -> None:
         """Find a campus calendar in the open project's readings on a worker, then offer it."""
         project = self.session.project
-        if project is None or self.task is not None:
+        if project is None or self.runner.busy:
             return
-        task = Task(lambda _progress: calendar_edit.proposal(project), PROPOSING)
-        task.succeeded.connect(self._offer)
-        self._run(task)
+        self._run(lambda _progress: calendar_edit.proposal(project), PROPOSING, self._offer)
 
     def _offer(self, proposal: CalendarProposal) -> None:
         project = self.session.project
@@ -333,10 +301,12 @@ class FilesScreen(QWidget):
         target = project_path(path)
         bundles = self.plan.bundles()
         zone = self.plan.site_timezone
-        task = Task(partial(build_project, target, zone, bundles), "creating the project")
         stored = [planned.path for planned in self.plan.files]
-        task.succeeded.connect(partial(self._stored, stored, stored_summary(bundles), "Created"))
-        self._run(task)
+        self._run(
+            partial(build_project, target, zone, bundles),
+            "creating the project",
+            partial(self._stored, stored, stored_summary(bundles), "Created"),
+        )
 
     def add_to_open_project(self) -> None:
         """Store every file in the open project, in one save."""
@@ -349,15 +319,15 @@ class FilesScreen(QWidget):
             self.notice.say(problem, "problem")
             return
         bundles = self.plan.bundles()
-        task = Task(partial(add_to_project, project, bundles), "adding the files to the project")
         stored = [planned.path for planned in self.plan.files]
-        task.succeeded.connect(partial(self._stored, stored, stored_summary(bundles), "Added to"))
-        self._run(task)
+        self._run(
+            partial(add_to_project, project, bundles),
+            "adding the files to the project",
+            partial(self._stored, stored, stored_summary(bundles), "Added to"),
+        )
 
     def _storing_problem(self, project_timezone: str | None) -> str | None:
-        if self.task is not None:
-            return f"Wait until {self.task.doing} is done."
-        return self.plan.storing_problem(project_timezone)
+        return self.runner.refusal() or self.plan.storing_problem(project_timezone)
 
     def _stored(self, paths: list[Path], what: str, verb: str, project: Project) -> None:
         self.session.open(project)
@@ -423,7 +393,8 @@ class FilesScreen(QWidget):
                 self._select(kept)
             elif files:
                 self.file_table.selectRow(0)
-        reading = self.task is not None and self.task.doing == READING
+        task = self.runner.task
+        reading = task is not None and task.doing == READING
         for row, planned in enumerate(files):
             state = self.file_table.item(row, 2)
             state.setText(_state_words(planned, reading))
@@ -458,7 +429,7 @@ class FilesScreen(QWidget):
             )
 
     def _update_store_buttons(self) -> None:
-        busy = self.task is not None
+        busy = self.runner.busy
         project = self.session.project
         for_new = self.plan.storing_problem(None)
         for_open = (

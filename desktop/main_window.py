@@ -262,7 +262,7 @@ class MainWindow(QMainWindow):
     def close_project(self) -> None:
         """Stop any running work and close the open project (the window stays)."""
         for screen in self.screens_with_work():
-            screen.shutdown()
+            screen.runner.shutdown()
         self.session.close()
 
     def open_project(self, path: str | Path) -> bool:
@@ -315,7 +315,7 @@ class MainWindow(QMainWindow):
     def _budget_changed(self, budget) -> None:
         """A budget may have fitted models for meters that had none: show them (unless the
         Models step is busy)."""
-        if budget is not None and self.models_screen.task is None:
+        if budget is not None and not self.models_screen.runner.busy:
             self.models_screen.refresh()
         self.show_guide()
 

@@ -1,5 +1,5 @@
 """What every screen about one meter of the open project shares: the meter picker, the notice
-and task bars, and following the session's project (one worker task at a time)."""
+and task bars, following the session's project, and a runner for its work on a worker."""
 
 from __future__ import annotations
 
@@ -10,8 +10,8 @@ from desktop.notice import Notice
 from desktop.project_changes import LABELS, Reversible
 from desktop.session import Session
 from desktop.task_bar import TaskBar
+from desktop.task_runner import TaskRunner
 from desktop.undo import undo_for
-from desktop.workers import SHUTDOWN_SECONDS, Task
 from engine.project import Project
 from engine.steps.labels import meter_labels
 
@@ -64,13 +64,12 @@ class MeterScreen(QWidget):
         super().__init__(parent)
         self.session = session
         self.undo = undo_for(session)
-        self.task: Task | None = None
-        self._wanted = None
         self.meter = MeterBox()
         self.meter.setMinimumContentsLength(18)
         self.meter.activated.connect(self.refresh)
         self.notice = Notice()
         self.task_bar = TaskBar()
+        self.runner = TaskRunner(self, self.notice, self.task_bar)
 
     def follow_session(self) -> None:
         """Start following the session's project (call at the end of the subclass's init)."""
@@ -91,9 +90,7 @@ class MeterScreen(QWidget):
     def _project_changed(self, project: Project | None) -> None:
         self.meter.clear()
         if project is None:
-            self._wanted = None
-            if self.task is not None:
-                self.task.cancel()
+            self.runner.cancel()
             self._show_empty(self.NO_PROJECT)
             return
         self.meter.show_meters(project)
@@ -103,17 +100,6 @@ class MeterScreen(QWidget):
         """Show meter ``name`` of the open project."""
         self.meter.setCurrentText(name)
         self.refresh()
-
-    def shutdown(self) -> None:
-        """Stop the running work and wait for its thread (before the window closes)."""
-        if self.task is not None:
-            self._wanted = None
-            self.task.cancel()
-            self.task.wait(SHUTDOWN_SECONDS)
-
-    def closeEvent(self, event) -> None:
-        self.shutdown()
-        super().closeEvent(event)
 
     def refresh(self) -> None:
         raise NotImplementedError

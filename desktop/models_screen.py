@@ -41,7 +41,8 @@ from desktop.model_jobs import (
 )
 from desktop.project_changes import MODEL, use_model_remembered
 from desktop.session import Session
-from desktop.workers import Failure, Task, Work
+from desktop.task_runner import Job
+from desktop.workers import Failure, Work
 
 READINGS, FAMILIES, BACKTEST, RANKING, CHOICE = range(len(PAGES))
 
@@ -59,7 +60,7 @@ class ModelsScreen(MeterScreen):
     def __init__(self, session: Session, parent: QWidget | None = None) -> None:
         super().__init__(session, parent)
         self.report: ModelReport | None = None
-        self._fitting = False  # a backtest runs (its page can be shown before any report)
+        self._backtest: Job | None = None  # the last fit asked for
         self.readings_page = ReadingsPage()
         self.families_page = FamiliesPage()
         self.backtest_page = BacktestPage()
@@ -97,6 +98,8 @@ class ModelsScreen(MeterScreen):
         self.back_button.clicked.connect(lambda: self.go_to(self.page() - 1))
         self.next_button = QPushButton("Next ›")
         self.next_button.clicked.connect(lambda: self.go_to(self.page() + 1))
+        self.runner.started.connect(self._work_started)
+        self.runner.ended.connect(self._work_ended)
         self._lay_out()
         self.follow_session()
         self.go_to(READINGS)
@@ -130,7 +133,7 @@ class ModelsScreen(MeterScreen):
         if self.session.project is None or not self.meter.currentText():
             return READINGS
         if self.report is None:
-            return BACKTEST if self._fitting else FAMILIES
+            return BACKTEST if self._fitting() else FAMILIES
         return CHOICE if self.report.chosen is not None else RANKING
 
     def go_to(self, page: int) -> None:
@@ -168,7 +171,8 @@ class ModelsScreen(MeterScreen):
             return
         meters = {m["name"]: m for m in project.summary()["meters"]}
         self.families.tick(ticked_families(meters.get(name, {}).get("interval_minutes")))
-        self._run(partial(meter_view, project, name), f"reading '{name}'", self._show_view)
+        work = partial(meter_view, project, name)
+        self.runner.request(self._job(work, f"reading '{name}'", self._show_view))
 
     def fit(self) -> None:
         """Backtest and compare the ticked families on the chosen meter; keep the best."""
@@ -183,14 +187,9 @@ class ModelsScreen(MeterScreen):
         request = FitRequest(name, families, self.origins.value())
         work = partial(fit_report, project, request)
         self.backtest_page.start(len(families), request.origins)
-        self._fitting = True
-        self._run(
-            work,
-            f"fitting and comparing models of '{name}'",
-            self._show,
-            announce="Recommended",
-            log=True,
-        )
+        doing = f"fitting and comparing models of '{name}'"
+        self._backtest = self._job(work, doing, self._show, announce="Recommended", log=True)
+        self.runner.request(self._backtest)
         self.go_to(BACKTEST)
 
     def use_selected(self) -> None:
@@ -202,7 +201,8 @@ class ModelsScreen(MeterScreen):
         words = f"use model '{self.ranking.row_of(model)['Model']}' for {self.meter.shown()}"
         remember = self.undo.made_on_worker  # Edit ▸ Undo takes the choice back
         work = partial(use_model_remembered, remember, project, name, model, words)
-        self._run(work, f"keeping another model for '{name}'", self._show, announce="Now used")
+        doing = f"keeping another model for '{name}'"
+        self.runner.request(self._job(work, doing, self._show, announce="Now used"))
 
     def accept(self) -> None:
         """Keep the model in use and go on (the main window shows the Budget step)."""
@@ -213,67 +213,52 @@ class ModelsScreen(MeterScreen):
         selected = self.ranking.selected()
         chosen = None if self.report is None else self.report.chosen
         self.use_button.setEnabled(
-            self.task is None and selected is not None and selected != chosen
+            not self.runner.busy and selected is not None and selected != chosen
         )
 
     # -- work ---------------------------------------------------------------------------------
 
-    def _run(
+    def _job(
         self,
         work: Work,
         doing: str,
         done: Callable,
         announce: str | None = None,
         log: bool = False,
-    ) -> None:
-        """Run ``work`` and hand its result to ``done``; ``announce`` (e.g. "Recommended")
-        words the notice of a kept model; with ``log`` its steps go to the backtest page."""
-        wanted = (work, doing, done, announce, log)
-        if self.task is not None:
-            self._wanted = wanted
-            self.task.cancel()
-            return
-        self._start(*wanted)
-
-    def _start(
-        self, work: Work, doing: str, done: Callable, announce: str | None, log: bool
-    ) -> None:
-        self._wanted = None
-        self._fitting = log
-        self.notice.clear()
-        task = Task(work, doing)
-        task.succeeded.connect(done)
+    ) -> Job:
+        """``work`` whose result goes to ``done``; ``announce`` (e.g. "Recommended") words the
+        notice of a kept model; with ``log`` its steps go to the backtest page. A newer request
+        replaces it (:meth:`TaskRunner.request`)."""
         if announce is not None:
-            task.succeeded.connect(partial(self._fitted, announce))
-        if log:
-            task.progressed.connect(self.backtest_page.progressed)
-        task.failed.connect(self._failed)
-        task.cancelled.connect(partial(self._cancelled, doing))
-        task.ended.connect(self._ended)
-        self.task = task
-        self.task_bar.follow(task)
+            done = partial(self._shown_and_announced, done, announce)
+        return Job(
+            work,
+            doing,
+            done,
+            stopped=partial(self._cancelled, doing),
+            failed=self._failed,
+            progressed=self.backtest_page.progressed if log else None,
+        )
+
+    def _fitting(self) -> bool:
+        """A backtest runs or waits to run (its page can be shown before any report)."""
+        return self._backtest is not None and self.runner.has(self._backtest)
+
+    def _work_started(self) -> None:
         self.fit_button.setEnabled(False)
         self.use_button.setEnabled(False)
-        task.start()
 
-    def _ended(self) -> None:
-        self.task = None
-        self._fitting = False
-        self.fit_button.setEnabled(True)
-        if self._wanted is not None:
-            self._start(*self._wanted)
+    def _work_ended(self) -> None:
+        self.fit_button.setEnabled(not self.runner.busy)
         self.go_to(self.page())
 
     def _failed(self, failure: Failure) -> None:
-        if self._wanted is None:
-            self.notice.show_failure(failure)
-            self.backtest_page.stopped(failure.message)
+        self.backtest_page.stopped(failure.message)
 
     def _cancelled(self, doing: str) -> None:
-        if self._wanted is None:
-            words = f"Stopped {doing}; nothing was kept."
-            self.notice.say(words, "info")
-            self.backtest_page.stopped(words)
+        words = f"Stopped {doing}; nothing was kept."
+        self.notice.say(words, "info")
+        self.backtest_page.stopped(words)
 
     # -- showing ------------------------------------------------------------------------------
 
@@ -292,14 +277,14 @@ class ModelsScreen(MeterScreen):
         self.residuals.show_note(words)
 
     def _show_view(self, view: MeterView) -> None:
-        if self._wanted is not None or self.session.project is None:
-            return  # the meter changed meanwhile; its view follows
+        if self.session.project is None:
+            return  # the project closed meanwhile
         self.readings_page.show_brief(view.readings)
         self.families_page.set_readings(view.readings)
         self._show(view.report)
 
     def _show(self, report: ModelReport | None) -> None:
-        if self._wanted is not None or self.session.project is None:
+        if self.session.project is None:
             return
         if report is None:
             self._show_no_model(
@@ -315,9 +300,13 @@ class ModelsScreen(MeterScreen):
         self.choice_page.show_report(report)
         self.go_to(self.page())
 
+    def _shown_and_announced(
+        self, show: Callable[[ModelReport], None], verb: str, report: ModelReport
+    ) -> None:
+        show(report)
+        self._fitted(verb, report)
+
     def _fitted(self, verb: str, report: ModelReport) -> None:
-        if self._wanted is not None:
-            return
         if report.chosen is None:
             self.notice.say("No model could be scored, so none was kept.", "problem")
             return

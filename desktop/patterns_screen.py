@@ -37,8 +37,8 @@ from desktop.pattern_plots import (
 )
 from desktop.project_changes import CALENDAR, TEMPERATURE
 from desktop.session import Session
+from desktop.task_runner import Job
 from desktop.understood_view import NUMBER_ROLE
-from desktop.workers import Failure, Task
 from engine.profiles import TemperatureResponse
 
 GROUPING_WORDS = {"day_type": "day type", "season": "season"}
@@ -200,33 +200,8 @@ class PatternsScreen(MeterScreen):
         if wanted is None:
             self._show_empty("This project has no meters yet: add files on the Files step.")
             return
-        self._wanted = wanted
-        if self.task is not None:
-            self.task.cancel()
-            return
-        self._start(wanted)
-
-    # -- work -------------------------------------------------------------------------------
-
-    def _start(self, wanted: PatternRequest) -> None:
-        self._wanted = None
-        self.notice.clear()
-        project = self.session.project
-        task = Task(partial(compute_patterns, project, wanted), f"profiling '{wanted.meter}'")
-        task.succeeded.connect(self._show)
-        task.failed.connect(self._failed)
-        task.ended.connect(self._ended)
-        self.task = task
-        self.task_bar.follow(task)
-        task.start()
-
-    def _ended(self) -> None:
-        self.task = None
-        if self._wanted is not None:
-            self._start(self._wanted)
-
-    def _failed(self, failure: Failure) -> None:
-        self.notice.show_failure(failure)
+        work = partial(compute_patterns, self.session.project, wanted)
+        self.runner.request(Job(work, f"profiling '{wanted.meter}'", self._show))
 
     # -- drawing ----------------------------------------------------------------------------
 
@@ -237,8 +212,8 @@ class PatternsScreen(MeterScreen):
             panel.show_note(words)
 
     def _show(self, patterns: MeterPatterns) -> None:
-        if self._wanted is not None or self.session.project is None:
-            return  # the controls changed while this was computed; a newer result follows
+        if self.session.project is None:
+            return  # the project closed while this was computed
         self.patterns = patterns
         notes = patterns.notes
         self.basis.setText(patterns.basis)

@@ -10,12 +10,14 @@ from collections.abc import Callable
 from dataclasses import dataclass
 from functools import partial
 
+from desktop.cleaning_jobs import Change, review_after
 from desktop.model_jobs import ModelReport, use_model_report
 from engine.calendar import CampusCalendar
 from engine.progress import Progress
 from engine.project import Project
 from engine.steps import calendar_edit
 from engine.steps.account_membership import meter_accounts, set_meter_accounts
+from engine.steps.cleaning import MeterReview
 from engine.steps.cleaning_changes import LogChange, make_again, take_back
 from engine.steps.fitting import choice_since, keep_choice_again, newest_model_id, take_back_choice
 from engine.steps.labels import (
@@ -60,6 +62,22 @@ def cleaning_change(project: Project, logged: LogChange, words: str) -> Reversib
         CLEANING,
         logged.meters,
     )
+
+
+def cleaning_change_remembered(
+    remember: Callable[[Reversible], None],
+    project: Project,
+    meter: str,
+    change: Change | None,
+    words: str,
+    progress: Progress | None = None,
+) -> MeterReview:
+    """:func:`review_after`, then hand ``remember`` the change it made, to undo (on the worker,
+    so a change saved is remembered even when the screen has moved on to another meter)."""
+    review, logged = review_after(project, meter, change, progress)
+    if logged:
+        remember(cleaning_change(project, logged, words))
+    return review
 
 
 def label_change(

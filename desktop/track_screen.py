@@ -137,8 +137,7 @@ class TrackScreen(TaskScreen):
     # -- project and adopted budgets --------------------------------------------------------
 
     def _project_changed(self, project: Project | None) -> None:
-        if self.task is not None:
-            self.task.cancel()  # its result is dropped: it belongs to the project before
+        self.runner.cancel()  # its result is dropped: it belongs to the project before
         self.written = None
         self._clear()
         self.list_adopted()
@@ -166,7 +165,7 @@ class TrackScreen(TaskScreen):
                 else "Choose the adopted budget and the date, then press 'Track'."
             )
         self.go_button.setVisible(project is not None and not names)
-        self.set_busy(self.task is not None)
+        self.set_busy(self.runner.busy)
 
     def set_busy(self, busy: bool) -> None:
         """Track needs an adopted budget; export a report shown; nothing while working."""
@@ -242,7 +241,7 @@ class TrackScreen(TaskScreen):
         self.summary.setText(_summary_words(report))
         day = date.fromisoformat(report["as_of"])
         self.as_of.setDate(QDate(day.year, day.month, day.day))
-        self.set_busy(self.task is not None)
+        self.set_busy(self.runner.busy)
         self._show_item()
 
     def shown(self) -> Tracked | None:

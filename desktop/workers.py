@@ -22,9 +22,6 @@ from engine.progress import Cancelled, Progress
 
 Work = Callable[[Progress], Any]
 
-#: How long closing the window waits for a running task to notice it was cancelled.
-SHUTDOWN_SECONDS = 30.0
-
 
 @dataclass(frozen=True)
 class Failure:

@@ -46,7 +46,7 @@ def show_widget(qtbot, widget, size: tuple[int, int] | None = None):
 
 def wait_until_idle(qtbot, screen) -> None:
     """Wait (processing events, never sleeping) until the screen's worker task has ended."""
-    qtbot.waitUntil(lambda: screen.task is None, timeout=TASK_TIMEOUT_MS)
+    qtbot.waitUntil(lambda: not screen.runner.busy, timeout=TASK_TIMEOUT_MS)
 
 
 def write_hourly_meter(path: Path, header: str, values: np.ndarray, start: str) -> pd.DatetimeIndex:

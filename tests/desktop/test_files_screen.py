@@ -63,7 +63,7 @@ def test_the_sample_workbook_is_read_on_a_worker_and_every_meter_shown(qtbot, sc
     path = SAMPLE / "electricity-15min.xlsx"
     screen.set_site_timezone(SITE_ZONE)
     screen.add_files([path])
-    assert screen.task is not None  # the read runs on a worker, not in this call
+    assert screen.runner.busy  # the read runs on a worker, not in this call
     wait_until_idle(qtbot, screen)
 
     expected = describe(read_file(path, ReadOptions(timezone=SITE_ZONE)))
