@@ -262,7 +262,7 @@ def _benchmark_row(scored: pd.DataFrame, chosen: str) -> pd.Series | None:
     """The best-ranked benchmark other than the chosen model (ranked models are named by
     their family)."""
     is_benchmark = scored["model"].map(
-        lambda m: m != chosen and getattr(MODEL_FAMILIES.get(m), "benchmark", False)
+        lambda m: m != chosen and m in MODEL_FAMILIES and MODEL_FAMILIES[m].benchmark
     )
     benchmarks = scored[is_benchmark.astype(bool)]
     return None if benchmarks.empty else benchmarks.iloc[0]
