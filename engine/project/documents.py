@@ -48,6 +48,16 @@ class DocumentKind:
         return len(self.steps) + 1
 
 
+def _backtest_2_keeps_no_format(body: dict) -> dict:
+    """Backtest 1 → 2: the envelope's version replaces the backtest's own ``format`` key."""
+    return {key: value for key, value in body.items() if key != "format"}
+
+
+def _adopted_2_keeps_no_layout(body: dict) -> dict:
+    """Adopted budget 1 → 2: the envelope's version replaces the document's ``layout`` key."""
+    return {key: value for key, value in body.items() if key != "layout"}
+
+
 #: Every kind of document a project keeps, by the name its envelope gives (see the inventory
 #: in DEVELOPERS.md for the table, column, writer and reader of each).
 DOCUMENTS: dict[str, DocumentKind] = {
@@ -60,10 +70,10 @@ DOCUMENTS: dict[str, DocumentKind] = {
     "meter settings": DocumentKind(dict),
     "cleaning step": DocumentKind(dict),
     "model result": DocumentKind(dict),
-    "backtest": DocumentKind(dict),
+    "backtest": DocumentKind(dict, (_backtest_2_keeps_no_format,)),
     "budget run": DocumentKind(dict),
     "kept modelling": DocumentKind(dict),
-    "adopted budget": DocumentKind(dict),
+    "adopted budget": DocumentKind(dict, (_adopted_2_keeps_no_layout,)),
     "model": DocumentKind(dict),  # inside other documents; its version is its "version" key
 }
 

@@ -69,7 +69,6 @@ from engine.tracking.actuals import (
     happened_weather,
     tariff_cost,
 )
-from engine.tracking.adopt import LAYOUT
 from engine.tracking.bill_actuals import BilledDays, billed_days
 
 COMPLETE, UNDER_WAY, NOT_BEGUN = "complete", "under way", "not begun"
@@ -401,13 +400,6 @@ def _adopted(project: Project, name: str) -> dict:
                 if names
                 else "Adopt one first: loadledger budget PROJECT ... --adopt NAME."
             ),
-            file=project.path,
-        )
-    layout = stored["body"].get("layout")
-    if layout != LAYOUT:
-        raise InputError(
-            f"the budget '{name}' was adopted by another version of Loadledger (layout {layout}).",
-            hint="Track it with that version, or adopt the budget again.",
             file=project.path,
         )
     return stored
