@@ -33,11 +33,15 @@ def decoded(key: str, text: str, expect: type | None = None) -> Any:
 
 
 def set_setting(conn: sqlite3.Connection, key: str, value: Any) -> None:
-    """Store ``value`` (any JSON value) under ``key``, replacing what was there."""
+    """Store ``value`` (any JSON value) under ``key``, replacing what was there; None under a
+    key that holds a document removes it (no document, as before it was ever set)."""
     if not isinstance(key, str) or not key:
         raise ValueError("a setting needs a non-empty text key")
     if key == SITE_TIMEZONE:
         require_zone(value, "the site's time zone")
+    if value is None and key in documents.SETTING_DOCUMENTS:
+        conn.execute("DELETE FROM settings WHERE key = ?", (key,))
+        return
     conn.execute(
         "INSERT INTO settings (key, value) VALUES (?, ?) "
         "ON CONFLICT (key) DO UPDATE SET value = excluded.value",

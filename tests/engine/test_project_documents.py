@@ -303,3 +303,12 @@ def test_a_cleaning_step_stored_today_reads_back_as_given(tmp_path) -> None:
         project.add_cleaning_step(step.to_dict())
         (stored,) = project.cleaning_steps()
     assert CleaningStep.from_dict(stored) == step
+
+
+def test_no_document_under_a_setting_is_no_setting(upgraded) -> None:
+    with Project.open(upgraded) as project:
+        project.set_setting(CALENDAR_SETTING, None)
+        assert project.get_setting(CALENDAR_SETTING, "never set") == "never set"
+        assert stored_calendar(project) is None
+    with Project.open(upgraded) as project:  # and the file still opens
+        assert project.get_setting(CALENDAR_SETTING) is None
