@@ -39,7 +39,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from engine.errors import InputError, ProjectError
+from engine.errors import InputError
 from engine.models.base import EnergyModel, ModelInputs
 from engine.progress import Cancelled, Progress, step
 from engine.project.columns import frame_from_columns, frame_to_columns
@@ -72,9 +72,6 @@ CONDITIONS: dict[str, str] = {
     TYPICAL_WEATHER: "a typical year learned from the temperatures before each origin",
     NO_WEATHER: "no temperatures (calendar only)",
 }
-#: Version of the layout :meth:`BacktestResult.to_dict` writes.
-FORMAT_VERSION = 1
-
 _HOUR = pd.Timedelta(hours=1)
 _WEEK = pd.Timedelta(weeks=1)
 
@@ -269,9 +266,9 @@ class BacktestResult:
         return int(self.model_failures(model, condition)["origin"].nunique())
 
     def to_dict(self, include_forecasts: bool = False) -> dict[str, Any]:
-        """JSON-safe form for the project file; per-interval forecasts only when asked."""
+        """JSON-safe form for the project file (a ``"backtest"`` document, versioned there:
+        :mod:`engine.project.documents`); per-interval forecasts only when asked."""
         return {
-            "format": FORMAT_VERSION,
             "timezone": self.timezone,
             "interval_seconds": self.interval.total_seconds(),
             "origins": [origin.isoformat() for origin in self.origins],
@@ -302,11 +299,7 @@ class BacktestResult:
 
     @classmethod
     def from_dict(cls, data: dict[str, Any]) -> BacktestResult:
-        if data.get("format") != FORMAT_VERSION:
-            raise ProjectError(
-                f"stored backtest results have layout {data.get('format')!r}; this version "
-                f"reads layout {FORMAT_VERSION}. Run the backtest again."
-            )
+        """The backtest from :meth:`to_dict` (the project brings older documents up to date)."""
         forecasts = data.get("forecasts")
         fits = frame_from_columns(data["fits"])
         fits["fitted"] = fits["fitted"].astype(bool)

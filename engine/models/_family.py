@@ -6,6 +6,9 @@ including ``n_parameters_``) and implements ``_fitted_state``/``_restore`` to sa
 learned values as plain numbers, strings and lists. Stored form::
 
     {"family": "...", "version": 1, "settings": {...}, "fitted": {...} or null}
+
+The version is that of the ``"model"`` document (:mod:`engine.project.documents`): a model of
+an older version is brought up to date there when it is loaded.
 """
 
 from __future__ import annotations
@@ -23,6 +26,8 @@ from sklearn.exceptions import NotFittedError
 from engine.errors import InputError, ProjectError
 from engine.models.base import ModelInputs, scenario_rows
 from engine.progress import Cancelled
+from engine.project import documents
+from engine.project.columns import DamagedValue
 from engine.units import from_celsius, per_degree_in
 
 #: Columns of a model's statements table (:meth:`ModelFamily.coefficients_table`).
@@ -90,8 +95,6 @@ class ModelFamily:
     explainable: ClassVar[bool]
     #: True for the plainest forecasts, kept as the yardstick every model should beat.
     benchmark: ClassVar[bool] = False
-    #: Version of the stored ``fitted`` layout; bump it when the layout changes.
-    storage_version: ClassVar[int] = 1
 
     n_parameters_: int
 
@@ -195,19 +198,22 @@ class ModelFamily:
         """Plain JSON-ready form: settings and, when fitted, the learned values."""
         return {
             "family": self.family,
-            "version": self.storage_version,
+            "version": documents.version("model"),
             "settings": self.settings(),
             "fitted": self._fitted_state() if self.is_fitted else None,
         }
 
     @classmethod
     def from_dict(cls, data: dict[str, Any]) -> Self:
-        """Rebuild a model stored with :meth:`to_dict`."""
-        if data.get("family") != cls.family or data.get("version") != cls.storage_version:
+        """Rebuild a model stored with :meth:`to_dict` by this or an older version."""
+        if data.get("family") != cls.family:
             raise ProjectError(
-                f"stored model is not a version-{cls.storage_version} {cls.family} model "
-                f"(family {data.get('family')!r}, version {data.get('version')!r})."
+                f"stored model is not a {cls.family} model (family {data.get('family')!r})."
             )
+        try:
+            data = documents.upgraded("model", data, data.get("version"), f"the {cls.label}")
+        except DamagedValue as error:
+            raise ProjectError(f"stored model: {error}.") from error
         model = cls(**data.get("settings", {}))
         if data.get("fitted") is not None:
             model._restore(data["fitted"])

@@ -39,7 +39,12 @@ _YEAR = pd.Timedelta(days=365.25)
 
 
 class RefitNeeded(Exception):
-    """A stored model keeps no fitted state and must be refitted on the project's data."""
+    """A stored model keeps no fitted state and must be refitted on the project's data;
+    ``unfitted`` is the stored model without its fit (settings brought up to date), to refit."""
+
+    def __init__(self, message: str, unfitted: ModelFamily) -> None:
+        super().__init__(message)
+        self.unfitted = unfitted
 
 
 def _codes(values: pd.Series, categories: tuple[str, ...]) -> np.ndarray:
@@ -155,9 +160,11 @@ class GradientBoostingChallenger(ModelFamily):
     @classmethod
     def from_dict(cls, data: dict[str, Any]) -> Self:
         """Rebuild an unfitted challenger; a stored fitted one raises :class:`RefitNeeded`."""
+        unfitted = super().from_dict({**data, "fitted": None})
         if data.get("fitted") is not None:
             raise RefitNeeded(
                 "the gradient-boosted challenger is stored without its trees (they are never "
-                "pickled); refit it on the project's stored readings."
+                "pickled); refit it on the project's stored readings.",
+                unfitted,
             )
-        return super().from_dict(data)
+        return unfitted

@@ -11,7 +11,8 @@ import sqlite3
 from pathlib import Path
 
 from engine.errors import InputError
-from engine.project.columns import from_json, iso_utc, now_seconds, to_json
+from engine.project import documents
+from engine.project.columns import iso_utc, now_seconds
 
 
 def name_taken(name: str, path: Path) -> InputError:
@@ -29,7 +30,7 @@ def put_adopted(conn: sqlite3.Connection, name: str, body: dict, *, replace: boo
     Raises ``sqlite3.IntegrityError`` for an existing name without ``replace`` (the caller
     checks first and says so in words).
     """
-    text = to_json(body, f"the adopted budget '{name}'")
+    text = documents.written("adopted budget", body, f"the adopted budget '{name}'")
     verb = "INSERT OR REPLACE" if replace else "INSERT"
     conn.execute(
         f"{verb} INTO adopted_budgets (name, adopted_at, body) VALUES (?, ?, ?)",
@@ -44,7 +45,7 @@ def find_adopted(conn: sqlite3.Connection, name: str) -> dict | None:
     ).fetchone()
     if row is None:
         return None
-    body = from_json(row[1], f"adopted budget '{name}'", dict)
+    body = documents.read("adopted budget", row[1], f"adopted budget '{name}'")
     return {"name": name, "adopted_at": iso_utc(row[0]), "body": body}
 
 

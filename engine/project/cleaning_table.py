@@ -9,7 +9,8 @@ from __future__ import annotations
 
 import sqlite3
 
-from engine.project.columns import from_json, iso_utc, now_seconds, to_json
+from engine.project import documents
+from engine.project.columns import iso_utc, now_seconds
 
 STEP_KEYS = frozenset({"kind", "meter", "params", "note"})
 
@@ -34,7 +35,14 @@ def add_step(conn: sqlite3.Connection, step: dict) -> int:
     cursor = conn.execute(
         "INSERT INTO cleaning_steps (meter, position, kind, params, note, created_at, active) "
         "VALUES (?, ?, ?, ?, ?, ?, 1)",
-        (meter, position, kind, to_json(params, f"step '{kind}'"), note, now_seconds()),
+        (
+            meter,
+            position,
+            kind,
+            documents.written("cleaning step", params, f"step '{kind}'"),
+            note,
+            now_seconds(),
+        ),
     )
     return int(cursor.lastrowid)
 
@@ -60,7 +68,7 @@ def list_steps(
             "id": id_,
             "kind": kind,
             "meter": meter_name,
-            "params": from_json(step_params, f"cleaning step {id_}", dict),
+            "params": documents.read("cleaning step", step_params, f"cleaning step {id_}"),
             "note": note,
             "active": bool(active),
             "created_at": iso_utc(created_at),

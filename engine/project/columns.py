@@ -162,9 +162,15 @@ def from_json(text: str, what: str, expect: type | None = None) -> Any:
     except (ValueError, TypeError) as error:
         reason = "a number too long to read" if "digits" in str(error) else str(error)[:80]
         raise DamagedValue(f"{what} is not valid JSON ({reason})") from None
-    if expect is not None and not isinstance(value, expect):
-        raise DamagedValue(f"{what} holds {_kind(type(value))} where {_kind(expect)} belongs")
+    if expect is not None:
+        require_type(value, what, expect)
     return value
+
+
+def require_type(value: Any, what: str, expect: type) -> None:
+    """Refuse (:class:`DamagedValue`) a decoded JSON value that is not of type ``expect``."""
+    if not isinstance(value, expect):
+        raise DamagedValue(f"{what} holds {_kind(type(value))} where {_kind(expect)} belongs")
 
 
 def _kind(kind: type) -> str:

@@ -4,8 +4,9 @@ A project file may come from elsewhere and may have been edited with any SQLite 
 values every command relies on first are checked when the file is opened, without writing to
 it: every setting, each meter's utility, time zone and import settings, the sources' settings
 and findings, and the cleaning steps' parameters. Each must decode as :func:`to_json` would
-have written it and have the shape this version expects; the site's and meters' time zones
-must be zones this computer knows. Large documents (results, kept modelling) are checked when
+have written it and have the shape this version expects, and no document may be newer than
+this version reads (:mod:`engine.project.documents`); the site's and meters' time zones must
+be zones this computer knows. Large documents (results, kept modelling) are checked when
 they are read. These tables have the same columns in every format version, so the check runs
 before an older file is upgraded.
 """
@@ -18,21 +19,21 @@ from zoneinfo import ZoneInfo
 
 from engine.errors import ProjectError
 from engine.meters import UTILITIES
-from engine.project import schema
+from engine.project import documents, schema
 from engine.project.columns import DamagedValue, from_json
-from engine.project.settings_table import CREATED_WITH, SITE_TIMEZONE, WRITTEN_WITH
+from engine.project.settings_table import CREATED_WITH, SITE_TIMEZONE, WRITTEN_WITH, decoded
 from engine.project.sqlite_file import damaged
 
 #: The tables checked here (every format version has them, with the same columns).
 CHECKED_TABLES = frozenset({"settings", "meters", "sources", "cleaning_steps"})
 
-#: The settings this version writes itself, with the type their value must have.
+#: The single-value settings this version writes itself, with the type their value must have
+#: (settings holding documents are checked as their kind of document).
 SETTING_TYPES: dict[str, type] = {
     SITE_TIMEZONE: str,
     CREATED_WITH: str,
     WRITTEN_WITH: str,
     "created_at": str,
-    "calendar": dict,
 }
 
 
@@ -49,10 +50,10 @@ def require_readable(conn: sqlite3.Connection, path: Path) -> None:
         for id_, settings, findings in conn.execute(
             "SELECT id, settings, findings FROM sources ORDER BY id"
         ):
-            from_json(settings, f"the settings of source file {id_}", dict)
-            from_json(findings, f"the findings of source file {id_}", list)
+            documents.read("source settings", settings, f"the settings of source file {id_}")
+            documents.read("findings", findings, f"the findings of source file {id_}")
         for id_, params in conn.execute("SELECT id, params FROM cleaning_steps ORDER BY id"):
-            from_json(params, f"cleaning step {id_}", dict)
+            documents.read("cleaning step", params, f"cleaning step {id_}")
     except DamagedValue as error:
         raise damaged(path, str(error)) from error
 
@@ -62,7 +63,7 @@ def _settings(conn: sqlite3.Connection, path: Path) -> None:
     if SITE_TIMEZONE not in stored:
         raise damaged(path, "it has no site time zone")
     for key, text in stored.items():  # a setting of another kind must still be JSON
-        from_json(text, f"setting '{key}'", SETTING_TYPES.get(key))
+        decoded(key, text, SETTING_TYPES.get(key))
     _zone(from_json(stored[SITE_TIMEZONE], "site time zone"), "its site time zone", path)
 
 
@@ -73,7 +74,7 @@ def _meters(conn: sqlite3.Connection, path: Path) -> None:
         if utility not in UTILITIES:
             raise damaged(path, f"meter '{name}' has the unknown utility '{utility}'")
         _zone(timezone, f"meter '{name}' has the time zone", path)
-        from_json(settings, f"the import settings of meter '{name}'", dict)
+        documents.read("meter settings", settings, f"the import settings of meter '{name}'")
 
 
 def _zone(name: object, what: str, path: Path) -> None:

@@ -9,7 +9,8 @@ from __future__ import annotations
 
 import sqlite3
 
-from engine.project.columns import from_json, now_seconds, to_json
+from engine.project import documents
+from engine.project.columns import now_seconds
 
 
 def find_kept(conn: sqlite3.Connection, meter: str, key: str) -> dict | None:
@@ -18,14 +19,16 @@ def find_kept(conn: sqlite3.Connection, meter: str, key: str) -> dict | None:
         "SELECT body FROM kept_models WHERE meter = ? AND key = ? ORDER BY id DESC LIMIT 1",
         (meter, key),
     ).fetchone()
-    return None if row is None else from_json(row[0], f"kept modelling of meter '{meter}'", dict)
+    if row is None:
+        return None
+    return documents.read("kept modelling", row[0], f"kept modelling of meter '{meter}'")
 
 
 def put_kept(conn: sqlite3.Connection, meter: str, key: str, body: dict, keep: int) -> None:
     """Keep ``body`` for ``meter`` under ``key``; drop all but the newest ``keep`` of the meter."""
     conn.execute(
         "INSERT INTO kept_models (meter, key, created_at, body) VALUES (?, ?, ?, ?)",
-        (meter, key, now_seconds(), to_json(body, f"the kept models of meter '{meter}'")),
+        (meter, key, now_seconds(), _written(meter, body)),
     )
     conn.execute(
         "DELETE FROM kept_models WHERE meter = ? AND id NOT IN "
@@ -40,3 +43,7 @@ def count_kept(conn: sqlite3.Connection, meter: str | None = None) -> int:
         return int(conn.execute("SELECT COUNT(*) FROM kept_models").fetchone()[0])
     query = "SELECT COUNT(*) FROM kept_models WHERE meter = ?"
     return int(conn.execute(query, (meter,)).fetchone()[0])
+
+
+def _written(meter: str, body: dict) -> str:
+    return documents.written("kept modelling", body, f"the kept models of meter '{meter}'")

@@ -15,13 +15,12 @@ import pandas as pd
 from engine.errors import InputError
 from engine.meters import UTILITIES, MeterSeries
 from engine.progress import Progress
+from engine.project import documents
 from engine.project.bulk import insert_columns
 from engine.project.columns import (
     epoch_seconds,
     fetch_columns,
     float_values,
-    from_json,
-    to_json,
     utc_times,
 )
 from engine.project.source_table import require_source
@@ -67,7 +66,7 @@ def add_meter(
             meter.timezone,
             meter.source,
             source_id,
-            to_json(settings, f"settings of {what}"),
+            documents.written("meter settings", settings, f"settings of {what}"),
         ),
     ).lastrowid
     share = len(times) / max(len(times) + len(raw_times), 1)
@@ -176,7 +175,8 @@ def load_raw(conn: sqlite3.Connection, name: str) -> pd.DataFrame:
 
 def meter_settings(conn: sqlite3.Connection, name: str) -> dict:
     """The import settings stored with the meter."""
-    return from_json(_meter_row(conn, name)[6], f"the import settings of meter '{name}'", dict)
+    text = _meter_row(conn, name)[6]
+    return documents.read("meter settings", text, f"the import settings of meter '{name}'")
 
 
 def remove_meter(conn: sqlite3.Connection, name: str) -> None:

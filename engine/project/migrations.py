@@ -9,6 +9,7 @@ newest format). Keep a file of every released format under ``tests/fixtures/proj
 
 from __future__ import annotations
 
+import json
 import logging
 import sqlite3
 from collections.abc import Callable, Mapping
@@ -38,11 +39,41 @@ def _add_adopted_budgets_table(conn: sqlite3.Connection) -> None:
         conn.execute(statement)
 
 
+#: The JSON documents format 5 keeps in envelopes: (table, JSON column, the rows, kind). As
+#: format 5 defined them; a later kind of document arrives in an envelope already.
+_FORMAT_5_DOCUMENTS: tuple[tuple[str, str, str, str], ...] = (
+    ("settings", "value", "key = 'calendar'", "calendar"),
+    ("settings", "value", "key = 'meter_labels'", "meter labels"),
+    ("settings", "value", "key = 'accounts.meter_account'", "meter accounts"),
+    ("settings", "value", "key = 'window.budget_form'", "budget form"),
+    ("sources", "settings", "1", "source settings"),
+    ("sources", "findings", "1", "findings"),
+    ("meters", "settings", "1", "meter settings"),
+    ("cleaning_steps", "params", "1", "cleaning step"),
+    ("results", "body", "kind = 'model'", "model result"),
+    ("results", "body", "kind = 'backtest'", "backtest"),
+    ("results", "body", "kind = 'budget'", "budget run"),
+    ("kept_models", "body", "1", "kept modelling"),
+    ("adopted_budgets", "body", "1", "adopted budget"),
+)
+
+
+def _wrap_documents(conn: sqlite3.Connection) -> None:
+    """Format 4 → 5: each JSON document into an envelope naming its kind, as version 1 (the
+    only version before envelopes); the document's own text is kept byte for byte."""
+    for table, column, rows, kind in _FORMAT_5_DOCUMENTS:
+        opening = f'{{"document": {json.dumps(kind)}, "version": 1, "body": '
+        conn.execute(
+            f"UPDATE {table} SET {column} = ? || {column} || '}}' WHERE {rows}", (opening,)
+        )
+
+
 #: ``{from_version: step}``; each step upgrades a file from ``from_version`` to the next.
 MIGRATIONS: dict[int, Migration] = {
     1: _add_results_table,
     2: _add_kept_models_table,
     3: _add_adopted_budgets_table,
+    4: _wrap_documents,
 }
 
 log = logging.getLogger(__name__)

@@ -8,7 +8,8 @@ from __future__ import annotations
 
 import sqlite3
 
-from engine.project.columns import from_json, iso_utc, now_seconds, to_json
+from engine.project import documents
+from engine.project.columns import iso_utc, now_seconds
 
 RESULT_KINDS = ("model", "backtest", "budget")
 
@@ -20,9 +21,13 @@ def add_result(
         raise ValueError(f"result kind must be one of {RESULT_KINDS}, not {kind!r}")
     cursor = conn.execute(
         "INSERT INTO results (kind, meter, label, created_at, body) VALUES (?, ?, ?, ?, ?)",
-        (kind, meter, label, now_seconds(), to_json(body, f"the {kind} result")),
+        (kind, meter, label, now_seconds(), _written(kind, body)),
     )
     return int(cursor.lastrowid)
+
+
+def _written(kind: str, body: dict) -> str:
+    return documents.written(documents.RESULT_DOCUMENTS[kind], body, f"the {kind} result")
 
 
 def list_results(
@@ -44,7 +49,7 @@ def list_results(
             "meter": m,
             "label": label,
             "created_at": iso_utc(created),
-            "body": from_json(body, f"{k} result {rid}", dict),
+            "body": documents.read(documents.RESULT_DOCUMENTS[k], body, f"{k} result {rid}"),
         }
         for rid, k, m, label, created, body in rows
     ]

@@ -23,8 +23,10 @@ import sqlite3
 #: ``PRAGMA application_id`` of every project file: the ASCII bytes "LdLg" read big-endian.
 APPLICATION_ID = int.from_bytes(b"LdLg", "big")
 
-#: ``PRAGMA user_version`` written by this code; older files are upgraded on open.
-FORMAT_VERSION = 4
+#: ``PRAGMA user_version`` written by this code; older files are upgraded on open. Format 5
+#: has the tables of format 4; its JSON documents carry their kind and version
+#: (:mod:`engine.project.documents`).
+FORMAT_VERSION = 5
 
 #: What a source file may hold (the CHECK on ``sources.kind`` lists the same words).
 SOURCE_KINDS: tuple[str, ...] = ("meters", "bills", "weather", "calendar", "tariff")

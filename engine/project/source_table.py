@@ -7,7 +7,8 @@ import sqlite3
 from pathlib import Path
 
 from engine.errors import InputError
-from engine.project.columns import from_json, iso_utc, now_seconds, to_json
+from engine.project import documents
+from engine.project.columns import iso_utc, now_seconds
 from engine.project.schema import SOURCE_KINDS
 
 
@@ -41,8 +42,8 @@ def add_source(
             str(path),
             size,
             digest,
-            to_json(settings, f"settings of source '{path.name}'"),
-            to_json(findings, f"findings of source '{path.name}'"),
+            documents.written("source settings", settings, f"settings of source '{path.name}'"),
+            documents.written("findings", findings, f"findings of source '{path.name}'"),
             now_seconds(),
         ),
     )
@@ -69,8 +70,10 @@ def list_sources(conn: sqlite3.Connection) -> list[dict]:
             "file_path": file_path,
             "size_bytes": size,
             "sha256": sha,
-            "settings": from_json(settings, f"the settings of source file {id_}", dict),
-            "findings": from_json(findings, f"the findings of source file {id_}", list),
+            "settings": documents.read(
+                "source settings", settings, f"the settings of source file {id_}"
+            ),
+            "findings": documents.read("findings", findings, f"the findings of source file {id_}"),
             "imported_at": iso_utc(imported_at),
         }
         for id_, kind, name, file_path, size, sha, settings, findings, imported_at in rows

@@ -29,9 +29,6 @@ from engine.project import Project
 from engine.project.adopted_table import name_taken
 from engine.steps.budgeting import BudgetRequest, ProjectBudget
 
-#: Shape of the adopted document; bump when it changes (tracking reads older layouts or
-#: refuses them in words).
-LAYOUT = 1
 #: Longest name an adopted budget may have (it names a workbook sheet's title and a file).
 MAX_NAME = 80
 
@@ -97,7 +94,6 @@ def adopted_document(outcome: ProjectBudget, request: BudgetRequest, timezone: s
     window = BudgetWindow.of(run.months, timezone)
     scenarios = _assumed_scenarios(outcome, request, window)
     return {
-        "layout": LAYOUT,
         "engine_version": engine.__version__,
         "timezone": timezone,
         "request": {

@@ -138,10 +138,8 @@ def chosen_model(project: Project, name: str) -> tuple[EnergyModel, dict]:
     body = _last_choice(project, name)
     try:
         model = model_from_dict(body["model"])
-    except RefitNeeded:
-        family = body["model"]["family"]
-        settings = body["model"].get("settings", {})
-        model = MODEL_FAMILIES[family](**settings).fit(meter_inputs(project, name))
+    except RefitNeeded as stored_unfitted:
+        model = stored_unfitted.unfitted.fit(meter_inputs(project, name))
     return model, body["choice"]
 
 

@@ -54,7 +54,6 @@ from engine.errors import InputError
 from engine.progress import Progress, step
 from engine.project import Project
 from engine.ready_meters import PreparedSite, ReadyMeter
-from engine.steps.adopting import LAYOUT
 from engine.steps.bill_prices import BillPrice, bill_prices
 from engine.steps.budgeting import (
     WEATHER_CHOICES,
@@ -402,13 +401,6 @@ def _adopted(project: Project, name: str) -> dict:
                 if names
                 else "Adopt one first: loadledger budget PROJECT ... --adopt NAME."
             ),
-            file=project.path,
-        )
-    layout = stored["body"].get("layout")
-    if layout != LAYOUT:
-        raise InputError(
-            f"the budget '{name}' was adopted by another version of Loadledger (layout {layout}).",
-            hint="Track it with that version, or adopt the budget again.",
             file=project.path,
         )
     return stored

@@ -15,6 +15,7 @@ from pathlib import Path
 import pytest
 from python_calamine import CalamineWorkbook
 
+from engine.project import documents
 from tests.cli.cli_support import hall_and_boiler_site, loadledger
 
 NAME = "H1 2025"
@@ -42,12 +43,20 @@ def _stored(path: Path) -> list[tuple]:
         return conn.execute("SELECT name, adopted_at, body FROM adopted_budgets").fetchall()
 
 
+def _body(row: tuple) -> dict:
+    """An adopted budget's document out of the envelope it is stored in."""
+    stored = json.loads(row[2])
+    kind = "adopted budget"
+    assert (stored["document"], stored["version"]) == (kind, documents.version(kind))
+    return stored["body"]
+
+
 def test_budget_adopt_stores_the_budget_and_says_so(adopted):
     project, report = adopted
     assert report["adopted"] == NAME
     assert any("not a design load" in caution for caution in report["cautions"])
     (row,) = _stored(project)
-    body = json.loads(row[2])
+    body = _body(row)
     assert row[0] == NAME
     assert body["run"]["meters"] == report["meters"]
     assert body["request"]["as_of"] == "2024-12-31"
@@ -117,4 +126,4 @@ def test_replace_adopts_the_new_budget_in_the_old_ones_place(adopted, tmp_path):
                "2024-12-31", "--paths", "100", "--workers", "1", "--adopt", NAME,
                "--replace")  # fmt: skip
     (row,) = _stored(project)
-    assert json.loads(row[2])["request"]["months"] == ["2025-01", "2025-02"]
+    assert _body(row)["request"]["months"] == ["2025-01", "2025-02"]

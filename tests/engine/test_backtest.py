@@ -25,7 +25,7 @@ from engine.backtest import (
     run_backtest,
     typical_on,
 )
-from engine.errors import InputError, ProjectError
+from engine.errors import InputError
 from engine.models._family import ModelFamily
 from engine.models.base import ModelInputs
 from engine.progress import Cancelled, Progress
@@ -428,5 +428,3 @@ def test_json_round_trip(three_model_run: BacktestResult) -> None:
         json.loads(json.dumps(three_model_run.to_dict(include_forecasts=True), allow_nan=False))
     )
     pd.testing.assert_frame_equal(full.forecasts, three_model_run.forecasts, check_dtype=False)
-    with pytest.raises(ProjectError, match="Run the backtest again"):
-        BacktestResult.from_dict({**compact, "format": 99})
