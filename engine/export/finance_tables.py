@@ -15,7 +15,7 @@ from typing import Any
 
 import pandas as pd
 
-from engine.budget.result import BudgetRun, MeterBudget, PeriodTotal
+from engine.budget.result import BudgetRun, MeterBudget, PeriodTotal, RollUp
 from engine.cleaning.steps import STEP_KINDS
 from engine.errors import InputError
 from engine.export.sheets import SHARE_FORMAT
@@ -42,6 +42,8 @@ QUALITY_LABELS: dict[str, str] = {
     "energy_removed_kwh": "energy removed (kWh)",
 }
 STEPS_COUNT = "cleaning steps applied"
+#: The scope of a roll-up's priced meters on their own (when some of its meters have no price).
+PRICED_SCOPE = "priced meters only"
 READ_UNIT_HEADER = "mean in the unit read"
 TOTAL_LABEL = "Total"
 STEP_HEADERS = ["meter", "step", "what was done", "note", "added (UTC)"]
@@ -67,7 +69,7 @@ ISO_STAMP = re.compile(r"^\d{4}-\d{2}-\d{2}T\d{2}:\d{2}")
 class Budgeted:
     """One thing with a budget: the campus, a utility roll-up or a single meter."""
 
-    scope: str  # "campus", "utility" or "meter"
+    scope: str  # "campus", "utility", "meter" or PRICED_SCOPE
     name: str
     meters: int
     months: list[PeriodTotal]
@@ -76,13 +78,23 @@ class Budgeted:
     #: The unit its meters were read in, when not kWh and shared by all of them (therm, ccf,
     #: ton-hour): the budget is shown in it too, beside kWh.
     read_unit: str | None = None
+    #: A roll-up's priced meters only: the unpriced meters it leaves out, as readers name them.
+    left_out: tuple[str, ...] = ()
 
     @property
     def shown_name(self) -> str:
-        """The name as readers see it: a meter's display name, a utility's key in words."""
+        """The name as readers see it: a meter's display name, a utility's key in words, a
+        roll-up's priced part with what it leaves out."""
         if self.shown:
             return self.shown
+        if self.scope == PRICED_SCOPE:
+            return f"{self.name.replace('_', ' ')}, {PRICED_SCOPE} ({self.left_out_words})"
         return self.name.replace("_", " ") if self.scope == "utility" else self.name
+
+    @property
+    def left_out_words(self) -> str:
+        """ "leaves out Boilers (no price)": the meters a priced part leaves out, in words."""
+        return f"leaves out {', '.join(self.left_out)} (no price)"
 
 
 @dataclass(frozen=True)
@@ -159,21 +171,32 @@ class FigureColumns:
 
 def budgeted(run: BudgetRun, labels: Labels | None = None) -> list[Budgeted]:
     """The campus roll-up, then each utility roll-up, then each meter, as in the run; meters
-    under their display names and with their units read in from ``labels``."""
+    under their display names and with their units read in from ``labels``. A roll-up with
+    some unpriced meters is followed by its priced meters only (:data:`PRICED_SCOPE`), the
+    one cost total it can have."""
     labels = labels or {}
 
     def read_unit(meters: Sequence[str]) -> str | None:
         found = {labels[m].other_unit if m in labels else None for m in meters}
         return found.pop() if len(found) == 1 else None
 
+    def priced(roll: RollUp) -> list[Budgeted]:
+        part = roll.priced_only
+        if part is None:
+            return []
+        left_out = tuple(shown_name(labels, name) for name in part.left_out)
+        return [Budgeted(PRICED_SCOPE, roll.group, len(part.meters), part.months, part.total,
+                         left_out=left_out)]  # fmt: skip
+
     out = []
     if run.campus is not None:
         c = run.campus
-        out.append(Budgeted("campus", c.group, len(c.meters), c.months, c.total))
-    out += [
-        Budgeted("utility", u.group, len(u.meters), u.months, u.total, "", read_unit(u.meters))
-        for u in run.utilities
-    ]
+        out += [Budgeted("campus", c.group, len(c.meters), c.months, c.total), *priced(c)]
+    for u in run.utilities:
+        out.append(
+            Budgeted("utility", u.group, len(u.meters), u.months, u.total, "", read_unit(u.meters))
+        )
+        out += priced(u)
     out += [
         Budgeted("meter", m.name, 1, m.months, m.total, shown_name(labels, m.name),
                  read_unit([m.name]))

@@ -318,3 +318,36 @@ def test_a_budget_is_adopted_listed_and_shown_again_as_issued(qtbot, fresh_scree
                 month.energy.quantiles["50"]
             )
     assert not screen.adopt_button.isEnabled()  # an adopted budget is not adopted again
+
+
+def test_the_campus_shows_the_cost_of_its_priced_meters_in_plain_words(qtbot):
+    """A small real budget with an unpriced gas meter: the campus rows have no cost, and a
+    block of its priced meters shows their energy and cost and names the meter left out."""
+    from dataclasses import replace
+
+    from desktop.budget_table import BudgetTable
+    from engine.budget import WeatherAssumption, simulate_budget
+    from engine.meter_labels import MeterLabel
+    from tests.engine.test_budget_cost import AS_OF, TARIFF, annex
+
+    boilers = replace(annex(10.0), name="GM-2", utility="natural_gas")
+    run = simulate_budget(
+        [annex(10.0, tariff=TARIFF), boilers],
+        ["2025-06"],
+        AS_OF,
+        WeatherAssumption.none(),
+        paths=50,
+        rng=7,
+    )
+    table = BudgetTable()
+    qtbot.addWidget(table)
+    table.show_run(run, {"GM-2": MeterLabel("GM-2", "natural_gas", display_name="Gas main")})
+    assert (
+        "Campus, priced meters only: energy and cost of 1 meter; leaves out Gas main (no price)"
+        in table.titles()
+    )
+    part = run.campus.priced_only.total
+    key = "campus, priced meters only"
+    assert table.value(key, "total", "cost P50 (USD)") == part.cost.quantiles["50"]
+    assert table.value(key, "total", "P50 (kWh)") == part.energy.quantiles["50"]
+    assert np.isnan(table.value("campus", "total", "cost P50 (USD)"))  # a blank cell
