@@ -29,7 +29,7 @@ def test_opening_a_project_fills_the_status_bar_and_the_patterns_step(
     assert window.statusBar().currentMessage() == "No project open"
     assert window.open_project(sample_project)
     assert window.statusBar().currentMessage() == (
-        f"{sample_project.name}: 1 meter(s), site zone America/Chicago"
+        f"{sample_project.name}: 1 meter, site zone America/Chicago"  # not "1 meter(s)"
     )
     window.show_step("Patterns")
     assert window.screens.currentWidget() is window.patterns_screen
