@@ -43,6 +43,8 @@ def item_title(item: Budgeted) -> str:
     The campus row adds every utility's energy in kWh (thermal kWh for gas and chilled
     water), and says so; a roll-up's priced meters only say which meters they leave out.
     """
+    if item.scope == "meter" and item.source == "bills":
+        return f"{item.shown_name} (bill account: budgeted from its bills)"
     if item.scope == "meter":
         read_in = f", read in {item.read_unit}" if item.read_unit else ""
         return f"{item.shown_name} (meter{read_in})"

@@ -80,6 +80,8 @@ class Budgeted:
     read_unit: str | None = None
     #: A roll-up's priced meters only: the unpriced meters it leaves out, as readers name them.
     left_out: tuple[str, ...] = ()
+    #: Where a single meter's figures come from: "readings", or "bills" for a bill account.
+    source: str = "readings"
 
     @property
     def shown_name(self) -> str:
@@ -93,8 +95,8 @@ class Budgeted:
 
     @property
     def left_out_words(self) -> str:
-        """ "leaves out Boilers (no price)": the meters a priced part leaves out, in words."""
-        return f"leaves out {', '.join(self.left_out)} (no price)"
+        """ "leaves out Boilers: no price": the meters a priced part leaves out, in words."""
+        return f"leaves out {', '.join(self.left_out)}: no price"
 
 
 @dataclass(frozen=True)
@@ -199,7 +201,7 @@ def budgeted(run: BudgetRun, labels: Labels | None = None) -> list[Budgeted]:
         out += priced(u)
     out += [
         Budgeted("meter", m.name, 1, m.months, m.total, shown_name(labels, m.name),
-                 read_unit([m.name]))
+                 read_unit([m.name]), source=m.source)
         for m in run.meters
     ]  # fmt: skip
     return out

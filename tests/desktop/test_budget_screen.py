@@ -343,7 +343,7 @@ def test_the_campus_shows_the_cost_of_its_priced_meters_in_plain_words(qtbot):
     qtbot.addWidget(table)
     table.show_run(run, {"GM-2": MeterLabel("GM-2", "natural_gas", display_name="Gas main")})
     assert (
-        "Campus, priced meters only: energy and cost of 1 meter; leaves out Gas main (no price)"
+        "Campus, priced meters only: energy and cost of 1 meter; leaves out Gas main: no price"
         in table.titles()
     )
     part = run.campus.priced_only.total
@@ -351,3 +351,20 @@ def test_the_campus_shows_the_cost_of_its_priced_meters_in_plain_words(qtbot):
     assert table.value(key, "total", "cost P50 (USD)") == part.cost.quantiles["50"]
     assert table.value(key, "total", "P50 (kWh)") == part.energy.quantiles["50"]
     assert np.isnan(table.value("campus", "total", "cost P50 (USD)"))  # a blank cell
+
+
+def test_a_bill_account_is_not_called_a_meter(qtbot):
+    """The sample's electric account is budgeted from its bills: its block says so (it read
+    "electric-bills (meter)")."""
+    from dataclasses import replace
+
+    from desktop.budget_table import BudgetTable
+    from engine.budget import WeatherAssumption, simulate_budget
+    from tests.engine.test_budget_cost import AS_OF, annex
+
+    run = simulate_budget([annex(10.0)], ["2025-06"], AS_OF, WeatherAssumption.none(), paths=20)
+    run.meters[0] = replace(run.meters[0], name="electric-bills", source="bills")
+    table = BudgetTable()
+    qtbot.addWidget(table)
+    table.show_run(run)
+    assert table.titles()[-1] == "electric-bills (bill account: budgeted from its bills)"

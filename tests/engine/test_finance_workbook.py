@@ -651,7 +651,7 @@ def test_a_campus_with_an_unpriced_meter_shows_its_priced_meters_cost(campus, tm
         data_range={},
         labels=labels,
     )
-    named = "campus, priced meters only (leaves out Kiln boilers (no price))"
+    named = "campus, priced meters only (leaves out Kiln boilers: no price)"
     grid = Grid(path, "Overview")
     row, _ = grid.find(named)
     header = grid.header(grid.find("scope")[0])
