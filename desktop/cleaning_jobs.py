@@ -15,6 +15,7 @@ import pandas as pd
 from engine.cleaning import CleanedSeries, CleaningStep, Finding, MeterReview, apply_steps
 from engine.cleaning import review_meter as engine_review
 from engine.cleaning.log_changes import LogChange, logged_change
+from engine.meter_labels import naming_progress
 from engine.progress import Progress, step
 from engine.project import Project
 
@@ -32,6 +33,7 @@ def review_after(
 ) -> tuple[MeterReview, LogChange | None]:
     """Make ``change`` (saved at once by the engine), then review ``meter`` afresh; the review
     and what the change did to the log (to undo it), None without a change."""
+    progress = naming_progress(progress, project)
     done = None
     if change is not None:
         step(progress, 0.0, "saving the change in the project")

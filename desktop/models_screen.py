@@ -168,7 +168,8 @@ class ModelsScreen(MeterScreen):
             return
         meters = {m["name"]: m for m in project.summary()["meters"]}
         self.families.tick(ticked_families(meters.get(name, {}).get("interval_minutes")))
-        self._run(partial(meter_view, project, name), f"reading '{name}'", self._show_view)
+        shown = self.meter.shown_as(name)
+        self._run(partial(meter_view, project, name), f"reading '{shown}'", self._show_view)
 
     def fit(self) -> None:
         """Backtest and compare the ticked families on the chosen meter; keep the best."""
@@ -186,7 +187,7 @@ class ModelsScreen(MeterScreen):
         self._fitting = True
         self._run(
             work,
-            f"fitting and comparing models of '{name}'",
+            f"fitting and comparing models of '{self.meter.shown_as(name)}'",
             self._show,
             announce="Recommended",
             log=True,
@@ -202,7 +203,8 @@ class ModelsScreen(MeterScreen):
         words = f"use model '{self.ranking.row_of(model)['Model']}' for {self.meter.shown()}"
         remember = self.undo.made_on_worker  # Edit ▸ Undo takes the choice back
         work = partial(use_model_remembered, remember, project, name, model, words)
-        self._run(work, f"keeping another model for '{name}'", self._show, announce="Now used")
+        doing = f"keeping another model for '{self.meter.shown_as(name)}'"
+        self._run(work, doing, self._show, announce="Now used")
 
     def accept(self) -> None:
         """Keep the model in use and go on (the main window shows the Budget step)."""
@@ -324,5 +326,7 @@ class ModelsScreen(MeterScreen):
         self.model_kept.emit(report.meter)
         onwards = " Press Next to read the ranking." if self.page() == BACKTEST else ""
         self.notice.say(
-            f"{verb} for '{report.meter}': {report.chosen_label}. {report.kept}.{onwards}", "done"
+            f"{verb} for '{self.meter.shown_as(report.meter)}': {report.chosen_label}. "
+            f"{report.kept}.{onwards}",
+            "done",
         )

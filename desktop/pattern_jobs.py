@@ -12,7 +12,13 @@ from dataclasses import dataclass, field
 
 import pandas as pd
 
-from engine.meter_labels import in_temperature_unit, meter_labels, shown_name, temperature_unit
+from engine.meter_labels import (
+    in_temperature_unit,
+    meter_labels,
+    naming_progress,
+    shown_name,
+    temperature_unit,
+)
 from engine.profile_run import ProjectMeterProfile, profile_project_meter
 from engine.profiles import TemperatureResponse
 from engine.progress import Progress, step
@@ -73,6 +79,7 @@ def compute_patterns(
     project: Project, request: PatternRequest, progress: Progress | None = None
 ) -> MeterPatterns:
     """Profile ``request.meter``'s cleaned readings with the project's calendar and weather."""
+    progress = naming_progress(progress, project)
     step(progress, 0.0, f"profiling the cleaned readings of '{request.meter}'")
     found = profile_project_meter(project, request.meter, progress)
     profiles = found.profiles

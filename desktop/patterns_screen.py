@@ -212,7 +212,8 @@ class PatternsScreen(MeterScreen):
         self._wanted = None
         self.notice.clear()
         project = self.session.project
-        task = Task(partial(compute_patterns, project, wanted), f"profiling '{wanted.meter}'")
+        doing = f"profiling '{self.meter.shown_as(wanted.meter)}'"
+        task = Task(partial(compute_patterns, project, wanted), doing)
         task.succeeded.connect(self._show)
         task.failed.connect(self._failed)
         task.ended.connect(self._ended)

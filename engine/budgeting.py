@@ -39,6 +39,7 @@ from engine.kept_models import (
     kept,
     ranking_row,
 )
+from engine.meter_labels import meter_labels, naming_progress, with_shown_names
 from engine.modelling import keep_fit
 from engine.models import MODEL_FAMILIES, ModelInputs
 from engine.parallel import MeterFailure, run_per_meter
@@ -259,6 +260,7 @@ def budget_project(
     The project's bill accounts (:mod:`engine.accounts`) are budgeted beside the meters
     unless ``with_accounts`` is False (by default they are when no ``meters`` are named).
     """
+    progress = naming_progress(progress, project)
     step(progress, 0.0, "preparing the meters")
     with_accounts = not meters if with_accounts is None else with_accounts
     site = prepare_site(project, meters or None)
@@ -344,6 +346,8 @@ def budget_project(
             utility: prices[utility].sentence(request.currency)
             for utility in sorted(priced_by_bills)
         }
+    labels = meter_labels(project)
+    run.cautions = [with_shown_names(caution, labels) for caution in run.cautions]
     step(progress, 1.0, "budget ready")
     return ProjectBudget(
         run=run,

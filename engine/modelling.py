@@ -13,6 +13,7 @@ from engine.backtest import BacktestResult
 from engine.budget.refits import REFIT_MONTHS
 from engine.errors import InputError
 from engine.kept_models import keep_for_next_budget
+from engine.meter_labels import naming_progress
 from engine.models import MODEL_FAMILIES, EnergyModel, ModelInputs, RefitNeeded, model_from_dict
 from engine.parallel import run_per_meter
 from engine.prepared_site import prepare_site
@@ -70,6 +71,7 @@ def fit_meters(
     to repay them, or the Dask scheduler at ``scheduler``); every meter's result is kept in
     one save. A meter that fails is reported after the others are kept.
     """
+    progress = naming_progress(progress, project)
     step(progress, 0.0, "preparing the meters")
     site = prepare_site(project, names)
     weather = None if site.hourly is None else TypicalYears(site.hourly, site.timezone)

@@ -501,7 +501,8 @@ def meter_facts(
             if check.scale == 1.0:
                 facts.append(("range correction", check.method))
         facts.append(("priced by", _pricing(run, meter, bill_prices)))
-        facts += [("caution", c) for c in run.cautions if meter.name in c]
+        named = {meter.name, shown_name(labels, meter.name)}
+        facts += [("caution", c) for c in run.cautions if any(n in c for n in named)]
         if labels and meter.name in labels and labels[meter.name].display_name:
             facts.insert(0, ("column in the meter file", meter.name))
         rows += [(shown_name(labels, meter.name), fact, words) for fact, words in facts]
