@@ -64,10 +64,13 @@ def write_workbook(
 def budget_words(budget: ProjectBudget) -> str:
     """Which budget will be written, in one line."""
     run = budget.run
-    meters = len(run.meters)
+    accounts = sum(meter.source == "bills" for meter in run.meters)
+    budgeted = counted(len(run.meters) - accounts, "meter")
+    if accounts:  # a bill account is no meter: "8 meters and 1 bill account"
+        budgeted += f" and {counted(accounts, 'bill account')}"
     return (
         f"Budget {period_words(budget)}, readings up to {run.as_of}, "
-        f"{counted(meters, 'meter')}, {run.paths:,} paths"
+        f"{budgeted}, {run.paths:,} paths"
         + (f", costs under {run.tariff}." if run.tariff else ", energy only (no tariff).")
     )
 

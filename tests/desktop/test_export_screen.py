@@ -176,3 +176,15 @@ def test_the_export_step_is_ticked_once_its_workbook_is_written(
         assert window.steps.currentItem().text() == "Export"
     finally:
         window.close()
+
+
+def test_the_budget_line_counts_bill_accounts_apart_from_meters(budget):
+    """The sample's electric account made the line say "9 meters" beside a status bar of 8."""
+    from dataclasses import replace
+
+    from desktop.export_screen import budget_words
+
+    assert ", 2 meters, " in budget_words(budget)
+    account = replace(budget.run.meters[0], name="electric-bills", source="bills")
+    with_account = replace(budget, run=replace(budget.run, meters=[*budget.run.meters, account]))
+    assert ", 2 meters and 1 bill account, " in budget_words(with_account)
