@@ -300,7 +300,7 @@ def daily_frame(run: BudgetRun, labels: Labels | None = None) -> pd.DataFrame:
             raise ValueError(f"daily detail of meter {meter.name!r} lacks {missing}")
         part = daily[figures].set_axis([f"{n} ({meter.unit})" for n in figures], axis=1)
         part.insert(0, "date", pd.to_datetime(daily.index).tz_localize(None).normalize())
-        part.insert(0, "utility", meter.utility)
+        part.insert(0, "utility", meter.utility.replace("_", " "))  # words, not the key
         part.insert(0, "meter", shown_name(labels, meter.name))
         parts.append(part.reset_index(drop=True))
     return pd.concat(parts, ignore_index=True) if parts else pd.DataFrame()

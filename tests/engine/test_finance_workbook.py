@@ -673,6 +673,20 @@ def _unpriced(item):
     )
 
 
+def test_the_daily_sheet_names_utilities_in_words(campus, tmp_path):
+    """A natural-gas meter's days read "natural gas", not the key "natural_gas"."""
+    run = _run(campus)
+    run.meters[2] = dataclasses.replace(run.meters[2], utility="natural_gas")
+    path = write_finance_workbook(
+        tmp_path / "daily.xlsx", run, quality={}, steps=[], scorecards={}, data_range={}
+    )
+    grid = Grid(path, "Daily")
+    column = grid.header(grid.find("utility")[0]).index("utility") + 1
+    first = grid.find("utility")[0] + 1
+    utilities = {grid[row, column] for row in range(first, first + len(grid.rows))}
+    assert "natural gas" in utilities and not any("_" in str(u) for u in utilities)
+
+
 PRINTED_LAST_ROWS = {"Daily": 1}  # the daily detail prints its note only
 
 
