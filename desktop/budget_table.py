@@ -49,14 +49,19 @@ def item_title(item: Budgeted) -> str:
         read_in = f", read in {item.read_unit}" if item.read_unit else ""
         return f"{item.shown_name} (meter{read_in})"
     if item.scope == "campus":
-        return f"Campus, all utilities added ({counted(item.meters, 'meter')})"
+        return f"Campus, all utilities added ({_members(item)})"
     if item.scope == PRICED_SCOPE:
         where = "Campus" if item.name == "campus" else item.name.replace("_", " ").capitalize()
-        return (
-            f"{where}, priced meters only: energy and cost of {counted(item.meters, 'meter')}; "
-            f"{item.left_out_words}"
+        return f"{where}, priced meters only: energy and cost of {_members(item)}; " + (
+            item.left_out_words
         )
-    return f"{item.shown_name} (roll-up of {counted(item.meters, 'meter')})"
+    return f"{item.shown_name} (roll-up of {_members(item)})"
+
+
+def _members(item: Budgeted) -> str:
+    """What a roll-up adds: "8 meters", or "5 meters and 1 bill account" with accounts."""
+    words = counted(item.meters - item.accounts, "meter")
+    return words + (f" and {counted(item.accounts, 'bill account')}" if item.accounts else "")
 
 
 def row_key(item: Budgeted) -> str:

@@ -82,6 +82,8 @@ class Budgeted:
     left_out: tuple[str, ...] = ()
     #: Where a single meter's figures come from: "readings", or "bills" for a bill account.
     source: str = "readings"
+    #: How many of a roll-up's ``meters`` are bill accounts (counted in its totals).
+    accounts: int = 0
 
     @property
     def shown_name(self) -> str:
@@ -182,23 +184,25 @@ def budgeted(run: BudgetRun, labels: Labels | None = None) -> list[Budgeted]:
         found = {labels[m].other_unit if m in labels else None for m in meters}
         return found.pop() if len(found) == 1 else None
 
-    def priced(roll: RollUp) -> list[Budgeted]:
-        part = roll.priced_only
-        if part is None:
-            return []
-        left_out = tuple(shown_name(labels, name) for name in part.left_out)
-        return [Budgeted(PRICED_SCOPE, roll.group, len(part.meters), part.months, part.total,
-                         left_out=left_out)]  # fmt: skip
+    bills = {m.name for m in run.meters if m.source == "bills"}
 
-    out = []
-    if run.campus is not None:
-        c = run.campus
-        out += [Budgeted("campus", c.group, len(c.meters), c.months, c.total), *priced(c)]
+    def rolled(scope: str, roll: RollUp, members: Sequence[str], **more: Any) -> Budgeted:
+        part = roll if scope != PRICED_SCOPE else roll.priced_only
+        accounts = len(bills.intersection(members))
+        return Budgeted(scope, roll.group, len(members), part.months, part.total, accounts=accounts,
+                        **more)  # fmt: skip
+
+    def with_priced(scope: str, roll: RollUp, **more: Any) -> list[Budgeted]:
+        out = [rolled(scope, roll, roll.meters, **more)]
+        part = roll.priced_only
+        if part is not None:
+            left_out = tuple(shown_name(labels, name) for name in part.left_out)
+            out.append(rolled(PRICED_SCOPE, roll, part.meters, left_out=left_out))
+        return out
+
+    out = with_priced("campus", run.campus) if run.campus is not None else []
     for u in run.utilities:
-        out.append(
-            Budgeted("utility", u.group, len(u.meters), u.months, u.total, "", read_unit(u.meters))
-        )
-        out += priced(u)
+        out += with_priced("utility", u, read_unit=read_unit(u.meters))
     out += [
         Budgeted("meter", m.name, 1, m.months, m.total, shown_name(labels, m.name),
                  read_unit([m.name]), source=m.source)

@@ -355,16 +355,23 @@ def test_the_campus_shows_the_cost_of_its_priced_meters_in_plain_words(qtbot):
 
 def test_a_bill_account_is_not_called_a_meter(qtbot):
     """The sample's electric account is budgeted from its bills: its block says so (it read
-    "electric-bills (meter)")."""
+    "electric-bills (meter)"), and the roll-ups count it apart from the meters (the campus
+    said "9 meters" beside a status bar of 8)."""
     from dataclasses import replace
 
     from desktop.budget_table import BudgetTable
     from engine.budget import WeatherAssumption, simulate_budget
     from tests.engine.test_budget_cost import AS_OF, annex
 
-    run = simulate_budget([annex(10.0)], ["2025-06"], AS_OF, WeatherAssumption.none(), paths=20)
-    run.meters[0] = replace(run.meters[0], name="electric-bills", source="bills")
+    store = replace(annex(10.0), name="electric-bills")
+    run = simulate_budget(
+        [annex(10.0), store], ["2025-06"], AS_OF, WeatherAssumption.none(), paths=20
+    )
+    run.meters[1] = replace(run.meters[1], source="bills")
     table = BudgetTable()
     qtbot.addWidget(table)
     table.show_run(run)
-    assert table.titles()[-1] == "electric-bills (bill account: budgeted from its bills)"
+    titles = table.titles()
+    assert titles[0] == "Campus, all utilities added (1 meter and 1 bill account)"
+    assert titles[1] == "electricity (roll-up of 1 meter and 1 bill account)"
+    assert titles[-1] == "electric-bills (bill account: budgeted from its bills)"
