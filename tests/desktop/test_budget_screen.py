@@ -375,3 +375,38 @@ def test_a_bill_account_is_not_called_a_meter(qtbot):
     assert titles[0] == "Campus, all utilities added (1 meter and 1 bill account)"
     assert titles[1] == "electricity (roll-up of 1 meter and 1 bill account)"
     assert titles[-1] == "electric-bills (bill account: budgeted from its bills)"
+
+
+def test_the_chart_picker_shows_the_whole_campus_title(qtbot):
+    """At the width the chart gets on a laptop screen (about 640 px), the picker spans the
+    panel and shows the campus's whole title; it kept the width of 28 characters and cut
+    "Campus, all utilities added (8 meters a"."""
+    from dataclasses import replace
+
+    from PySide6.QtWidgets import QStyle, QStyleOptionComboBox
+
+    from desktop.budget_plot import BudgetRangePanel
+    from engine.budget import WeatherAssumption, simulate_budget
+    from tests.engine.test_budget_cost import AS_OF, annex
+
+    plans = [replace(annex(10.0), name=f"Hall {n}") for n in range(8)]
+    store = replace(annex(10.0), name="electric-bills")
+    run = simulate_budget([*plans, store], ["2025-06"], AS_OF, WeatherAssumption.none(), paths=20)
+    run.meters[-1] = replace(run.meters[-1], source="bills")
+    panel = BudgetRangePanel()
+    qtbot.addWidget(panel)
+    panel.resize(640, 300)
+    panel.show()
+    panel.show_run(run)
+    qtbot.wait(20)
+    picker = panel.pick
+    title = picker.currentText()
+    assert title == "Campus, all utilities added (8 meters and 1 bill account)"
+    option = QStyleOptionComboBox()
+    picker.initStyleOption(option)
+    field = picker.style().subControlRect(
+        QStyle.ComplexControl.CC_ComboBox, option, QStyle.SubControl.SC_ComboBoxEditField, picker
+    )  # where the chosen words are drawn: the box less its frame and arrow
+    needed = picker.fontMetrics().horizontalAdvance(title)
+    assert field.width() >= needed, (field.width(), needed)
+    assert picker.width() >= 0.8 * panel.width()  # the row's width, for longer titles too
