@@ -74,8 +74,7 @@ class BudgetRangePanel(PlotPanel):
         self.pick.activated.connect(self._draw)
         row = QHBoxLayout()
         row.addWidget(QLabel("Show"))
-        row.addWidget(self.pick)
-        row.addStretch(1)
+        row.addWidget(self.pick, 1)  # the panel's width: "Campus, … (8 meters and 1 bill account)"
         self.layout().insertLayout(1, row)
         self.ranges = range_bars()
         self.median = marked_line(MEDIAN_COLOUR, "o", 8)

@@ -22,6 +22,7 @@ from desktop.number_cells import number_cell
 from desktop.understood_view import NUMBER_ROLE
 from engine.budget.result import BudgetRun
 from engine.export.finance_tables import (
+    PRICED_SCOPE,
     READ_UNIT_HEADER,
     TOTAL_LABEL,
     Budgeted,
@@ -40,14 +41,33 @@ def item_title(item: Budgeted) -> str:
     """How a budgeted thing is named on screen, e.g. "natural gas (roll-up of 2 meters)".
 
     The campus row adds every utility's energy in kWh (thermal kWh for gas and chilled
-    water), and says so.
+    water), and says so; a roll-up's priced meters only say which meters they leave out.
     """
+    if item.scope == "meter" and item.source == "bills":
+        return f"{item.shown_name} (bill account: budgeted from its bills)"
     if item.scope == "meter":
         read_in = f", read in {item.read_unit}" if item.read_unit else ""
         return f"{item.shown_name} (meter{read_in})"
     if item.scope == "campus":
-        return f"Campus, all utilities added ({counted(item.meters, 'meter')})"
-    return f"{item.shown_name} (roll-up of {counted(item.meters, 'meter')})"
+        return f"Campus, all utilities added ({_members(item)})"
+    if item.scope == PRICED_SCOPE:
+        where = "Campus" if item.name == "campus" else item.name.replace("_", " ").capitalize()
+        return f"{where}, priced meters only: energy and cost of {_members(item)}; " + (
+            item.left_out_words
+        )
+    return f"{item.shown_name} (roll-up of {_members(item)})"
+
+
+def _members(item: Budgeted) -> str:
+    """What a roll-up adds: "8 meters", or "5 meters and 1 bill account" with accounts."""
+    words = counted(item.meters - item.accounts, "meter")
+    return words + (f" and {counted(item.accounts, 'bill account')}" if item.accounts else "")
+
+
+def row_key(item: Budgeted) -> str:
+    """The name :meth:`BudgetTable.value` finds an item's rows by: its name, or for a
+    roll-up's priced meters only, e.g. "campus, priced meters only"."""
+    return f"{item.name}, {PRICED_SCOPE}" if item.scope == PRICED_SCOPE else item.name
 
 
 def _bold(cell: QTableWidgetItem) -> None:
@@ -98,7 +118,7 @@ class BudgetTable(QWidget):
             for period in [*item.months, item.total]:
                 label = TOTAL_LABEL if period.period == "total" else period.period
                 first = QTableWidgetItem(label)
-                first.setData(ROW_ROLE, (item.name, period.period))
+                first.setData(ROW_ROLE, (row_key(item), period.period))
                 cells = [first]
                 figures = columns.figures(period, item.read_unit)
                 for header in self.headers[1:]:

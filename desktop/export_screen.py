@@ -7,6 +7,7 @@ the path and opens its folder on request.
 from __future__ import annotations
 
 from collections.abc import Callable
+from dataclasses import replace
 from functools import partial
 from pathlib import Path
 
@@ -27,6 +28,7 @@ from engine.export.finance_workbook import SHEETS, write_finance_workbook
 from engine.meter_labels import Labels
 from engine.progress import Progress
 from engine.steps.budgeting import ProjectBudget
+from engine.steps.checklist import StepState
 from engine.words import counted
 
 WORKBOOK_NAME = "finance-budget.xlsx"
@@ -62,10 +64,13 @@ def write_workbook(
 def budget_words(budget: ProjectBudget) -> str:
     """Which budget will be written, in one line."""
     run = budget.run
-    meters = len(run.meters)
+    accounts = sum(meter.source == "bills" for meter in run.meters)
+    budgeted = counted(len(run.meters) - accounts, "meter")
+    if accounts:  # a bill account is no meter: "8 meters and 1 bill account"
+        budgeted += f" and {counted(accounts, 'bill account')}"
     return (
         f"Budget {period_words(budget)}, readings up to {run.as_of}, "
-        f"{counted(meters, 'meter')}, {run.paths:,} paths"
+        f"{budgeted}, {run.paths:,} paths"
         + (f", costs under {run.tariff}." if run.tariff else ", energy only (no tariff).")
     )
 
@@ -74,6 +79,8 @@ class ExportScreen(TaskScreen):
     """Write the last budget for finance; ``budget_asked`` when the user wants to run one."""
 
     budget_asked = Signal()
+    #: The workbook of the budget shown was written to this path.
+    workbook_written = Signal(Path)
 
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__(parent)
@@ -120,6 +127,9 @@ class ExportScreen(TaskScreen):
 
     def set_budget(self, budget: ProjectBudget | None, project: str | None = None) -> None:
         """The budget to write (None: none has been run), of the project named ``project``."""
+        if budget is not self.budget:
+            self.written = None  # a workbook written before was of another budget
+            self.where.clear()
         self.budget = budget
         self.project_name = project
         self.what.setText(NO_BUDGET if budget is None else budget_words(budget))
@@ -149,6 +159,19 @@ class ExportScreen(TaskScreen):
         self.where.setText(f"Written: {self.written}")
         self.open_button.setVisible(True)
         self.notice.say(f"Finance workbook written: {self.written.name}.", "done")
+        self.workbook_written.emit(self.written)
+
+    def step_state(self, state: StepState) -> StepState:
+        """The Export step's ``state`` (from the project's checklist, which keeps no record of
+        workbooks) once this budget's workbook is written: done, and what comes next."""
+        if self.written is None or self.budget is None:
+            return state
+        return replace(
+            state,
+            done=True,
+            found=f"Written: {self.written.name}.",
+            next="Adopt this budget on the Budget step ('Adopt…') to track the year against it.",
+        )
 
     def open_folder(self) -> None:
         """Show the folder of the workbook written last in the system's file browser."""

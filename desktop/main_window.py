@@ -41,6 +41,7 @@ from engine.project import Project
 from engine.steps.budgeting import ProjectBudget
 from engine.steps.checklist import checklist
 from engine.steps.labels import meter_labels
+from engine.words import counted
 
 STEPS = (
     ("Files", "Bring in meter exports, bills and weather; check what was understood."),
@@ -86,6 +87,7 @@ class MainWindow(QMainWindow):
         self.budget_screen.budget_changed.connect(self._budget_to_export)
         self.budget_screen.budget_changed.connect(self._budget_changed)
         self.export_screen.budget_asked.connect(lambda: self.show_step("Budget"))
+        self.export_screen.workbook_written.connect(lambda _path: self.show_guide())
         self.track_screen.budget_asked.connect(lambda: self.show_step("Budget"))
         self.budget_screen.adopted_budget.connect(lambda _name: self.track_screen.list_adopted())
         self.budget_screen.adopted_budget.connect(lambda _name: self.show_guide())
@@ -148,6 +150,9 @@ class MainWindow(QMainWindow):
     def show_guide(self) -> None:
         """Mark the steps done so far and say what the current step found and what to do."""
         states = checklist(self.session.project)
+        states[STEP_NAMES.index("Export")] = self.export_screen.step_state(
+            states[STEP_NAMES.index("Export")]
+        )
         for row, state in enumerate(states):
             self.steps.item(row).setText(f"{'✓ ' if state.done else ''}{state.step}")
         current = states[max(self.steps.currentRow(), 0)]
@@ -307,7 +312,7 @@ class MainWindow(QMainWindow):
         self.setWindowTitle(f"{project.path.stem} — {APP_NAME}")
         self.recent.remember(project.path)
         meters = len(project.meter_names())
-        words = f"{project.path.name}: {meters} meter(s), site zone {project.timezone}"
+        words = f"{project.path.name}: {counted(meters, 'meter')}, site zone {project.timezone}"
         if project.upgrade_note:
             words += f" — {project.upgrade_note}"
         self.statusBar().showMessage(words)

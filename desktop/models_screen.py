@@ -172,7 +172,8 @@ class ModelsScreen(MeterScreen):
         meters = {m["name"]: m for m in project.summary()["meters"]}
         self.families.tick(ticked_families(meters.get(name, {}).get("interval_minutes")))
         work = partial(meter_view, project, name)
-        self.runner.request(self._job(work, f"reading '{name}'", self._show_view))
+        shown = self.meter.shown_as(name)
+        self.runner.request(self._job(work, f"reading '{shown}'", self._show_view))
 
     def fit(self) -> None:
         """Backtest and compare the ticked families on the chosen meter; keep the best."""
@@ -187,7 +188,7 @@ class ModelsScreen(MeterScreen):
         request = FitRequest(name, families, self.origins.value())
         work = partial(fit_report, project, request)
         self.backtest_page.start(len(families), request.origins)
-        doing = f"fitting and comparing models of '{name}'"
+        doing = f"fitting and comparing models of '{self.meter.shown_as(name)}'"
         self._backtest = self._job(work, doing, self._show, announce="Recommended", log=True)
         self.runner.request(self._backtest)
         self.go_to(BACKTEST)
@@ -201,7 +202,7 @@ class ModelsScreen(MeterScreen):
         words = f"use model '{self.ranking.row_of(model)['Model']}' for {self.meter.shown()}"
         remember = self.undo.made_on_worker  # Edit ▸ Undo takes the choice back
         work = partial(use_model_remembered, remember, project, name, model, words)
-        doing = f"keeping another model for '{name}'"
+        doing = f"keeping another model for '{self.meter.shown_as(name)}'"
         self.runner.request(self._job(work, doing, self._show, announce="Now used"))
 
     def accept(self) -> None:
@@ -313,5 +314,7 @@ class ModelsScreen(MeterScreen):
         self.model_kept.emit(report.meter)
         onwards = " Press Next to read the ranking." if self.page() == BACKTEST else ""
         self.notice.say(
-            f"{verb} for '{report.meter}': {report.chosen_label}. {report.kept}.{onwards}", "done"
+            f"{verb} for '{self.meter.shown_as(report.meter)}': {report.chosen_label}. "
+            f"{report.kept}.{onwards}",
+            "done",
         )

@@ -138,7 +138,10 @@ class MonthlyPanel(PlotPanel):
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__("Monthly totals by year", "month", "energy (kWh)", parent=parent)
         ticks = [(float(month), calendar.month_abbr[month]) for month in range(1, 13)]
-        self.plot.getAxis("bottom").setTicks([ticks])
+        # every other month always, the rest where they fit: twelve names do not fit a third
+        # of a laptop screen (pyqtgraph writes a second tick level only where it has room)
+        self.month_labels = [ticks[::2], ticks[1::2]]
+        self.plot.getAxis("bottom").setTicks(self.month_labels)
         self.bars: dict[str, pg.BarGraphItem] = {}
 
     def _bars_for(self, year: str, position: int) -> pg.BarGraphItem:

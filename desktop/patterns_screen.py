@@ -201,7 +201,8 @@ class PatternsScreen(MeterScreen):
             self._show_empty("This project has no meters yet: add files on the Files step.")
             return
         work = partial(compute_patterns, self.session.project, wanted)
-        self.runner.request(Job(work, f"profiling '{wanted.meter}'", self._show))
+        doing = f"profiling '{self.meter.shown_as(wanted.meter)}'"
+        self.runner.request(Job(work, doing, self._show))
 
     # -- drawing ----------------------------------------------------------------------------
 

@@ -201,7 +201,7 @@ class UnderstoodView(QWidget):
         """A file that could not be read: what it was read as (``told``: the user said so,
         else its contents suggested it), the engine's message, and what to do."""
         if read_as is None:
-            taken = "could not be read: no table of dates and figures was found in it."
+            taken = "could not be read as any kind of file the tool knows:"
         elif told:
             taken = f"could not be read as {KIND_WORDS[read_as]}, as you said it is."
         else:

@@ -16,8 +16,10 @@ file came in °F). Conversions happen only when a figure is shown, with the fact
 
 from __future__ import annotations
 
+import re
 from collections.abc import Mapping
 from dataclasses import dataclass
+from functools import cache
 
 from engine import units
 from engine.errors import InputError
@@ -116,6 +118,26 @@ def shown_name(labels: Labels | None, name: str) -> str:
     names that are not meters, such as a utility)."""
     label = (labels or {}).get(name)
     return name if label is None else label.shown
+
+
+def with_shown_names(text: str, labels: Labels) -> str:
+    """``text`` with every meter named as readers know it: each raw name that has a display
+    name, standing as a whole name (not inside a longer one), becomes that display name.
+
+    Display names already in ``text`` are left as they are, so rewording twice changes
+    nothing (a display name may hold the raw name, "Library" shown as "Main Library").
+    """
+    shown = {label.name: label.display_name for label in labels.values() if label.display_name}
+    if not shown:
+        return text
+    found = _names_pattern(tuple(sorted({*shown, *shown.values()}, key=len, reverse=True)))
+    return found.sub(lambda match: shown.get(match.group(0), match.group(0)), text)
+
+
+@cache
+def _names_pattern(names: tuple[str, ...]) -> re.Pattern[str]:
+    """Any of ``names`` (longest first) standing alone: no letter, digit, "_" or "-" beside."""
+    return re.compile(r"(?<![\w-])(?:" + "|".join(map(re.escape, names)) + r")(?![\w-])")
 
 
 # -- temperatures ------------------------------------------------------------------------------

@@ -51,6 +51,16 @@ class Progress:
         return child
 
 
+def reworded(progress: Progress | None, words: Callable[[str], str]) -> Progress | None:
+    """``progress`` with each message put through ``words`` before it is reported (the same
+    fractions and cancel flag); None stays None."""
+    if progress is None:
+        return None
+    child = Progress(lambda f, m: progress.step(f, words(m)))
+    child._cancel = progress._cancel
+    return child
+
+
 def step(progress: Progress | None, fraction: float, message: str = "") -> None:
     """Report to ``progress`` when there is one; engine code calls this rather than branching."""
     if progress is not None:

@@ -118,15 +118,54 @@ class MeterBudget:
         )
 
 
+@dataclass(frozen=True)
+class PricedPart:
+    """A roll-up's priced meters on their own, when some of its meters have no price.
+
+    The roll-up itself has no cost then (a cost of some meters beside the energy of all would
+    mislead); this part sums, path by path, the energy and cost of the ``meters`` that are
+    priced, and names the ``left_out`` ones.
+    """
+
+    meters: list[str]
+    left_out: list[str]
+    months: list[PeriodTotal]
+    total: PeriodTotal
+
+    def to_json(self) -> dict[str, Any]:
+        return {
+            "meters": list(self.meters),
+            "left_out": list(self.left_out),
+            "months": [m.to_json() for m in self.months],
+            "total": self.total.to_json(),
+        }
+
+    @classmethod
+    def from_json(cls, data: Mapping[str, Any] | None) -> PricedPart | None:
+        if data is None:
+            return None
+        return cls(
+            meters=list(data["meters"]),
+            left_out=list(data["left_out"]),
+            months=[PeriodTotal.from_json(m) for m in data["months"]],
+            total=PeriodTotal.from_json(data["total"]),
+        )
+
+
 @dataclass
 class RollUp:
-    """Totals over several meters, summed path by path (``group`` a utility or "campus")."""
+    """Totals over several meters, summed path by path (``group`` a utility or "campus").
+
+    ``priced_only`` is set when some but not all of its meters are priced (see
+    :class:`PricedPart`); it is None when every meter or none is priced.
+    """
 
     group: str
     meters: list[str]
     months: list[PeriodTotal]
     total: PeriodTotal
     unit: str = "kWh"
+    priced_only: PricedPart | None = None
 
     def to_json(self) -> dict[str, Any]:
         return {
@@ -135,16 +174,20 @@ class RollUp:
             "meters": list(self.meters),
             "months": [m.to_json() for m in self.months],
             "total": self.total.to_json(),
+            "priced_meters_only": self.priced_only.to_json() if self.priced_only else None,
         }
 
     @classmethod
     def from_json(cls, data: Mapping[str, Any]) -> RollUp:
+        """The roll-up from :meth:`to_json` (runs kept before ``priced_meters_only`` existed
+        read without it)."""
         return cls(
             group=data["group"],
             meters=list(data["meters"]),
             months=[PeriodTotal.from_json(m) for m in data["months"]],
             total=PeriodTotal.from_json(data["total"]),
             unit=data["unit"],
+            priced_only=PricedPart.from_json(data.get("priced_meters_only")),
         )
 
 

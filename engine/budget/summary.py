@@ -29,6 +29,7 @@ from engine.budget.result import (
     Calibration,
     MeterBudget,
     PeriodTotal,
+    PricedPart,
     RollUp,
     Spread,
 )
@@ -165,13 +166,31 @@ def _daily_table(days: np.ndarray, index: pd.DatetimeIndex, levels: Sequence[int
 def _roll_up(
     group: str, members: list[_Adjusted], labels: Sequence[str], levels: Sequence[int]
 ) -> RollUp:
+    rows, total = _summed(members, labels, levels)
+    names = [member.meter.plan.name for member in members]
+    priced = [member for member in members if member.cost is not None]
+    part = None
+    if 0 < len(priced) < len(members):
+        priced_rows, priced_total = _summed(priced, labels, levels)
+        part = PricedPart(
+            meters=[member.meter.plan.name for member in priced],
+            left_out=[member.meter.plan.name for member in members if member.cost is None],
+            months=priced_rows,
+            total=priced_total,
+        )
+    return RollUp(group=group, meters=names, months=rows, total=total, priced_only=part)
+
+
+def _summed(
+    members: list[_Adjusted], labels: Sequence[str], levels: Sequence[int]
+) -> tuple[list[PeriodTotal], PeriodTotal]:
+    """Month and period totals of ``members`` summed path by path; cost only when every
+    member is priced."""
     months = np.sum([member.months for member in members], axis=0)
     actual = np.sum([member.meter.actual_to_date for member in members], axis=0)
     priced = all(member.cost is not None for member in members)
     cost = np.sum([member.cost for member in members], axis=0) if priced else None
-    rows, total = period_totals(labels, months, actual, cost, levels)
-    names = [member.meter.plan.name for member in members]
-    return RollUp(group=group, meters=names, months=rows, total=total)
+    return period_totals(labels, months, actual, cost, levels)
 
 
 def _currency(meters: list[MeterPaths]) -> str | None:

@@ -187,24 +187,36 @@ def budget_report(report: dict) -> str:
     groups = [*report["meters"], *report["utilities"]]
     if report.get("campus"):
         groups.append(report["campus"])
+    shown = {m["name"]: m.get("display_name", m["name"]) for m in report["meters"]}
     for group in groups:
-        total = group["total"]
         label = group.get("display_name") or group.get("name") or group.get("group")
         if group.get("source") == "bills":
             label += " (bills)" if not group["metered_by"] else " (bills, not in totals)"
-        spread = " / ".join(f"P{level} {_num(total['quantiles'][level])}" for level in levels)
-        line = f"  {label:<28} {spread} kWh"
+        line = _total_line(label, group["total"], levels, currency)
         if "in_read_unit" in group:
             read, middle = group["in_read_unit"], levels[len(levels) // 2]
             line += f" (P{middle} {_num(read['quantiles'][middle])} {read['unit']})"
-        if "cost" in total:
-            cost = total["cost"]["quantiles"]
-            line += f"; cost P50 {currency} {_num(cost['50'])}"
         lines.append(line)
-    shown = {m["name"]: m.get("display_name", m["name"]) for m in report["meters"]}
+        part = group.get("priced_meters_only")
+        if part:
+            left_out = ", ".join(shown.get(name, name) for name in part["left_out"])
+            priced = f"{label.replace('_', ' ')}, priced meters only"
+            lines.append(
+                _total_line(priced, part["total"], levels, currency)
+                + f" (leaves out {left_out}: no price)"
+            )
     for name, calibration in report["calibration"].items():
         lines.append(f"  {shown.get(name, name)}: {calibration['summary']}")
     return _with_closing_lines(lines, report)
+
+
+def _total_line(label: str, total: dict, levels: list[str], currency: str) -> str:
+    """``label``'s period total: its energy at each level, and its cost P50 when priced."""
+    spread = " / ".join(f"P{level} {_num(total['quantiles'][level])}" for level in levels)
+    line = f"  {label:<28} {spread} kWh"
+    if "cost" in total:
+        line += f"; cost P50 {currency} {_num(total['cost']['quantiles']['50'])}"
+    return line
 
 
 def meter_report(report: dict) -> str:

@@ -15,7 +15,7 @@ from typing import Any
 
 import pandas as pd
 
-from engine.budget.result import BudgetRun, MeterBudget, PeriodTotal
+from engine.budget.result import BudgetRun, MeterBudget, PeriodTotal, RollUp
 from engine.cleaning.steps import STEP_KINDS
 from engine.errors import InputError
 from engine.export.sheets import SHARE_FORMAT
@@ -42,6 +42,8 @@ QUALITY_LABELS: dict[str, str] = {
     "energy_removed_kwh": "energy removed (kWh)",
 }
 STEPS_COUNT = "cleaning steps applied"
+#: The scope of a roll-up's priced meters on their own (when some of its meters have no price).
+PRICED_SCOPE = "priced meters only"
 READ_UNIT_HEADER = "mean in the unit read"
 TOTAL_LABEL = "Total"
 STEP_HEADERS = ["meter", "step", "what was done", "note", "added (UTC)"]
@@ -67,7 +69,7 @@ ISO_STAMP = re.compile(r"^\d{4}-\d{2}-\d{2}T\d{2}:\d{2}")
 class Budgeted:
     """One thing with a budget: the campus, a utility roll-up or a single meter."""
 
-    scope: str  # "campus", "utility" or "meter"
+    scope: str  # "campus", "utility", "meter" or PRICED_SCOPE
     name: str
     meters: int
     months: list[PeriodTotal]
@@ -76,13 +78,27 @@ class Budgeted:
     #: The unit its meters were read in, when not kWh and shared by all of them (therm, ccf,
     #: ton-hour): the budget is shown in it too, beside kWh.
     read_unit: str | None = None
+    #: A roll-up's priced meters only: the unpriced meters it leaves out, as readers name them.
+    left_out: tuple[str, ...] = ()
+    #: Where a single meter's figures come from: "readings", or "bills" for a bill account.
+    source: str = "readings"
+    #: How many of a roll-up's ``meters`` are bill accounts (counted in its totals).
+    accounts: int = 0
 
     @property
     def shown_name(self) -> str:
-        """The name as readers see it: a meter's display name, a utility's key in words."""
+        """The name as readers see it: a meter's display name, a utility's key in words, a
+        roll-up's priced part with what it leaves out."""
         if self.shown:
             return self.shown
+        if self.scope == PRICED_SCOPE:
+            return f"{self.name.replace('_', ' ')}, {PRICED_SCOPE} ({self.left_out_words})"
         return self.name.replace("_", " ") if self.scope == "utility" else self.name
+
+    @property
+    def left_out_words(self) -> str:
+        """ "leaves out Boilers: no price": the meters a priced part leaves out, in words."""
+        return f"leaves out {', '.join(self.left_out)}: no price"
 
 
 @dataclass(frozen=True)
@@ -159,24 +175,37 @@ class FigureColumns:
 
 def budgeted(run: BudgetRun, labels: Labels | None = None) -> list[Budgeted]:
     """The campus roll-up, then each utility roll-up, then each meter, as in the run; meters
-    under their display names and with their units read in from ``labels``."""
+    under their display names and with their units read in from ``labels``. A roll-up with
+    some unpriced meters is followed by its priced meters only (:data:`PRICED_SCOPE`), the
+    one cost total it can have."""
     labels = labels or {}
 
     def read_unit(meters: Sequence[str]) -> str | None:
         found = {labels[m].other_unit if m in labels else None for m in meters}
         return found.pop() if len(found) == 1 else None
 
-    out = []
-    if run.campus is not None:
-        c = run.campus
-        out.append(Budgeted("campus", c.group, len(c.meters), c.months, c.total))
-    out += [
-        Budgeted("utility", u.group, len(u.meters), u.months, u.total, "", read_unit(u.meters))
-        for u in run.utilities
-    ]
+    bills = {m.name for m in run.meters if m.source == "bills"}
+
+    def rolled(scope: str, roll: RollUp, members: Sequence[str], **more: Any) -> Budgeted:
+        part = roll if scope != PRICED_SCOPE else roll.priced_only
+        accounts = len(bills.intersection(members))
+        return Budgeted(scope, roll.group, len(members), part.months, part.total, accounts=accounts,
+                        **more)  # fmt: skip
+
+    def with_priced(scope: str, roll: RollUp, **more: Any) -> list[Budgeted]:
+        out = [rolled(scope, roll, roll.meters, **more)]
+        part = roll.priced_only
+        if part is not None:
+            left_out = tuple(shown_name(labels, name) for name in part.left_out)
+            out.append(rolled(PRICED_SCOPE, roll, part.meters, left_out=left_out))
+        return out
+
+    out = with_priced("campus", run.campus) if run.campus is not None else []
+    for u in run.utilities:
+        out += with_priced("utility", u, read_unit=read_unit(u.meters))
     out += [
         Budgeted("meter", m.name, 1, m.months, m.total, shown_name(labels, m.name),
-                 read_unit([m.name]))
+                 read_unit([m.name]), source=m.source)
         for m in run.meters
     ]  # fmt: skip
     return out
@@ -275,7 +304,7 @@ def daily_frame(run: BudgetRun, labels: Labels | None = None) -> pd.DataFrame:
             raise ValueError(f"daily detail of meter {meter.name!r} lacks {missing}")
         part = daily[figures].set_axis([f"{n} ({meter.unit})" for n in figures], axis=1)
         part.insert(0, "date", pd.to_datetime(daily.index).tz_localize(None).normalize())
-        part.insert(0, "utility", meter.utility)
+        part.insert(0, "utility", meter.utility.replace("_", " "))  # words, not the key
         part.insert(0, "meter", shown_name(labels, meter.name))
         parts.append(part.reset_index(drop=True))
     return pd.concat(parts, ignore_index=True) if parts else pd.DataFrame()
@@ -476,7 +505,8 @@ def meter_facts(
             if check.scale == 1.0:
                 facts.append(("range correction", check.method))
         facts.append(("priced by", _pricing(run, meter, bill_prices)))
-        facts += [("caution", c) for c in run.cautions if meter.name in c]
+        named = {meter.name, shown_name(labels, meter.name)}
+        facts += [("caution", c) for c in run.cautions if any(n in c for n in named)]
         if labels and meter.name in labels and labels[meter.name].display_name:
             facts.insert(0, ("column in the meter file", meter.name))
         rows += [(shown_name(labels, meter.name), fact, words) for fact, words in facts]

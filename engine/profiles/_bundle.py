@@ -51,7 +51,8 @@ def profile_meter(
         return _coarse_profiles(meter, temperatures, labels, progress, weather_fit_days)
     typical_days = {}
     for done, grouping in enumerate(BUNDLED_GROUPINGS):
-        step(progress, 0.5 * done / len(BUNDLED_GROUPINGS), f"typical days by {grouping}")
+        words = grouping.replace("_", " ")  # "day type", not the key "day_type"
+        step(progress, 0.5 * done / len(BUNDLED_GROUPINGS), f"typical days by {words}")
         typical_days[grouping] = typical_day(meter, labels, by=grouping, hemisphere=hemisphere)
     step(progress, 0.5, "heat map")
     matrix = heat_map(meter)

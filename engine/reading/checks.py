@@ -10,6 +10,7 @@ import pandas as pd
 
 from engine.meters import Finding, MeterSeries
 from engine.timestamps import DetectedInterval
+from engine.words import counted
 
 ROWS_SHOWN = 10
 
@@ -28,7 +29,8 @@ def non_numeric(cells: pd.Series, numbers: np.ndarray, meter: str, column: str) 
                 count=int(bad.sum()),
                 rows=_rows(rows),
                 message=(
-                    f"{int(bad.sum())} cell(s) in column '{column}' are not numbers, or too "
+                    f"{counted(int(bad.sum()), 'cell')} in column '{column}' "
+                    f"{_agree(int(bad.sum()), 'is', 'are')} not numbers, or too "
                     f"large to be readings (e.g. {examples}), and were left out: rows "
                     f"{_row_text(rows)}."
                 ),
@@ -43,7 +45,7 @@ def non_numeric(cells: pd.Series, numbers: np.ndarray, meter: str, column: str) 
                 meter=meter,
                 count=int(empty.sum()),
                 rows=_rows(rows),
-                message=f"{int(empty.sum())} empty cell(s) in column '{column}': rows "
+                message=f"{counted(int(empty.sum()), 'empty cell')} in column '{column}': rows "
                 f"{_row_text(rows)}.",
             )
         )
@@ -64,7 +66,7 @@ def order_and_duplicates(raw: pd.DataFrame, meter: str) -> list[Finding]:
                 count=len(back),
                 rows=_rows(rows),
                 message=(
-                    f"timestamps go backwards {len(back)} time(s), first at row "
+                    f"timestamps go backwards {counted(len(back), 'time')}, first at row "
                     f"{int(rows.iloc[0])}; the readings were put in time order."
                 ),
             )
@@ -82,8 +84,8 @@ def order_and_duplicates(raw: pd.DataFrame, meter: str) -> list[Finding]:
                     meter=meter,
                     count=int(same),
                     rows=_rows(rows),
-                    message=f"{same} timestamp(s) appear twice with the same value; one copy "
-                    f"was kept: rows {_row_text(rows)}.",
+                    message=f"{counted(same, 'timestamp')} {_agree(same, 'appears', 'appear')} "
+                    f"twice with the same value; one copy was kept: rows {_row_text(rows)}.",
                 )
             )
         if len(conflicts):
@@ -95,8 +97,10 @@ def order_and_duplicates(raw: pd.DataFrame, meter: str) -> list[Finding]:
                     count=len(conflicts),
                     rows=_rows(rows),
                     message=(
-                        f"{len(conflicts)} timestamp(s) appear more than once with different "
-                        f"values (rows {_row_text(rows)}); the first was kept and the others are "
+                        f"{counted(len(conflicts), 'timestamp')} "
+                        f"{_agree(len(conflicts), 'appears', 'appear')} more than once with "
+                        f"different values (rows {_row_text(rows)}); the first was kept and the "
+                        "others are "
                         "kept in the raw readings for review."
                     ),
                 )
@@ -147,7 +151,8 @@ def negatives(meter: MeterSeries) -> list[Finding]:
             kind="negative",
             meter=meter.name,
             count=int(bad.sum()),
-            message=f"{int(bad.sum())} interval(s) have negative energy, first at "
+            message=f"{counted(int(bad.sum()), 'interval')} "
+            f"{_agree(int(bad.sum()), 'has', 'have')} negative energy, first at "
             f"{first:%Y-%m-%d %H:%M}.",
         )
     ]
@@ -169,7 +174,8 @@ def gaps(meter: MeterSeries) -> list[Finding]:
             meter=meter.name,
             count=int(missing),
             message=(
-                f"{missing} interval(s) missing between the first and last reading; the "
+                f"{counted(int(missing), 'interval')} missing between the first and last "
+                "reading; the "
                 f"longest gap is {_duration(longest)} after {at:%Y-%m-%d %H:%M}."
             ),
         )
@@ -197,3 +203,8 @@ def _row_text(rows) -> str:
     rows = list(rows)
     shown = ", ".join(str(int(r)) for r in rows[:ROWS_SHOWN])
     return shown + (f" and {len(rows) - ROWS_SHOWN} more" if len(rows) > ROWS_SHOWN else "")
+
+
+def _agree(count: int, one: str, many: str) -> str:
+    """The verb that agrees with ``count`` things: ``one`` for one, else ``many``."""
+    return one if count == 1 else many

@@ -22,6 +22,7 @@ from engine.cleaning.steps import CleaningStep
 from engine.meters import MeterSeries
 from engine.progress import Progress, step
 from engine.project import Project
+from engine.steps.labels import naming_progress
 from engine.steps.site_calendar import stored_calendar
 from engine.weather import fill_hourly
 
@@ -85,6 +86,7 @@ def review_meter(
     weather-driven meter is judged against the temperature (``drivers``: as read once for
     many meters; read here when not given).
     """
+    progress = naming_progress(progress, project)
     drivers = drivers if drivers is not None else SiteDrivers.of(project)
     meter, cleaned = cleaned_meter(project, name)
     current = replace(meter, values=cleaned.values.dropna())
@@ -118,6 +120,7 @@ def apply_recommended_everywhere(
     """Review each meter (all of them by default) and log its recommended fixes, every meter
     in one save; the new step ids by meter."""
     names = project.meter_names() if names is None else names
+    progress = naming_progress(progress, project)
     drivers = SiteDrivers.of(project)
     applied: dict[str, list[int]] = {}
     with project.transaction():

@@ -31,8 +31,8 @@ ROOT = Path(__file__).resolve().parents[2]
 sys.path.insert(0, str(ROOT))
 
 from engine.calendar_proposal import propose_calendar, propose_for_site  # noqa: E402
-from engine.cleaning import apply_recommended_everywhere  # noqa: E402
 from engine.reading import ReadOptions  # noqa: E402
+from engine.steps.cleaning import apply_recommended_everywhere  # noqa: E402
 from engine.steps.importing import create_project, read_project_files  # noqa: E402
 from engine.steps.prepared_site import prepare_site  # noqa: E402
 from tests.engine.test_calendar_proposal import synthetic_site, weekdays_in  # noqa: E402

@@ -3,15 +3,18 @@
 from __future__ import annotations
 
 import json
+from dataclasses import replace
 
 import pandas as pd
 import pytest
 from openpyxl import load_workbook
 
+from engine.budget import WeatherAssumption, simulate_budget
 from engine.cli.commands import with_display_units
 from engine.cli.text import budget_report
 from engine.meter_labels import MeterLabel
 from tests.cli.cli_support import loadledger
+from tests.engine.test_budget_cost import AS_OF, TARIFF, annex
 
 
 def _run(*args):
@@ -98,3 +101,25 @@ def test_budget_text_names_meters_as_shown_and_in_the_unit_read_in():
     words = budget_report(report)
     assert "Gas main" in words and "GM-2" not in words
     assert "(P50 100 therm)" in words
+
+
+def test_budget_text_gives_the_campus_cost_of_its_priced_meters():
+    """A real (small) budget with an unpriced gas meter: the campus line has no cost, the
+    next line gives the priced meters' energy and cost and names the meter left out as
+    shown."""
+    metered = annex(10.0, tariff=TARIFF)
+    boilers = replace(annex(10.0), name="GM-2", utility="natural_gas")
+    run = simulate_budget(
+        [metered, boilers], ["2025-06"], AS_OF, WeatherAssumption.none(), paths=50, rng=6
+    )
+    labels = {"GM-2": MeterLabel("GM-2", "natural_gas", "therm", "Gas main")}
+    report = run.to_json()
+    report["meters"] = [with_display_units(m, labels) for m in report["meters"]]
+    lines = budget_report(report).splitlines()
+    campus = next(line for line in lines if line.strip().startswith("campus "))
+    assert "cost" not in campus
+    priced = lines[lines.index(campus) + 1]
+    part = run.campus.priced_only.total
+    assert priced.strip().startswith("campus, priced meters only")
+    assert f"cost P50 USD {part.cost.quantiles['50']:,.0f}" in priced
+    assert priced.endswith("(leaves out Gas main: no price)")

@@ -318,3 +318,95 @@ def test_a_budget_is_adopted_listed_and_shown_again_as_issued(qtbot, fresh_scree
                 month.energy.quantiles["50"]
             )
     assert not screen.adopt_button.isEnabled()  # an adopted budget is not adopted again
+
+
+def test_the_campus_shows_the_cost_of_its_priced_meters_in_plain_words(qtbot):
+    """A small real budget with an unpriced gas meter: the campus rows have no cost, and a
+    block of its priced meters shows their energy and cost and names the meter left out."""
+    from dataclasses import replace
+
+    from desktop.budget_table import BudgetTable
+    from engine.budget import WeatherAssumption, simulate_budget
+    from engine.meter_labels import MeterLabel
+    from tests.engine.test_budget_cost import AS_OF, TARIFF, annex
+
+    boilers = replace(annex(10.0), name="GM-2", utility="natural_gas")
+    run = simulate_budget(
+        [annex(10.0, tariff=TARIFF), boilers],
+        ["2025-06"],
+        AS_OF,
+        WeatherAssumption.none(),
+        paths=50,
+        rng=7,
+    )
+    table = BudgetTable()
+    qtbot.addWidget(table)
+    table.show_run(run, {"GM-2": MeterLabel("GM-2", "natural_gas", display_name="Gas main")})
+    assert (
+        "Campus, priced meters only: energy and cost of 1 meter; leaves out Gas main: no price"
+        in table.titles()
+    )
+    part = run.campus.priced_only.total
+    key = "campus, priced meters only"
+    assert table.value(key, "total", "cost P50 (USD)") == part.cost.quantiles["50"]
+    assert table.value(key, "total", "P50 (kWh)") == part.energy.quantiles["50"]
+    assert np.isnan(table.value("campus", "total", "cost P50 (USD)"))  # a blank cell
+
+
+def test_a_bill_account_is_not_called_a_meter(qtbot):
+    """The sample's electric account is budgeted from its bills: its block says so (it read
+    "electric-bills (meter)"), and the roll-ups count it apart from the meters (the campus
+    said "9 meters" beside a status bar of 8)."""
+    from dataclasses import replace
+
+    from desktop.budget_table import BudgetTable
+    from engine.budget import WeatherAssumption, simulate_budget
+    from tests.engine.test_budget_cost import AS_OF, annex
+
+    store = replace(annex(10.0), name="electric-bills")
+    run = simulate_budget(
+        [annex(10.0), store], ["2025-06"], AS_OF, WeatherAssumption.none(), paths=20
+    )
+    run.meters[1] = replace(run.meters[1], source="bills")
+    table = BudgetTable()
+    qtbot.addWidget(table)
+    table.show_run(run)
+    titles = table.titles()
+    assert titles[0] == "Campus, all utilities added (1 meter and 1 bill account)"
+    assert titles[1] == "electricity (roll-up of 1 meter and 1 bill account)"
+    assert titles[-1] == "electric-bills (bill account: budgeted from its bills)"
+
+
+def test_the_chart_picker_shows_the_whole_campus_title(qtbot):
+    """At the width the chart gets on a laptop screen (about 640 px), the picker spans the
+    panel and shows the campus's whole title; it kept the width of 28 characters and cut
+    "Campus, all utilities added (8 meters a"."""
+    from dataclasses import replace
+
+    from PySide6.QtWidgets import QStyle, QStyleOptionComboBox
+
+    from desktop.budget_plot import BudgetRangePanel
+    from engine.budget import WeatherAssumption, simulate_budget
+    from tests.engine.test_budget_cost import AS_OF, annex
+
+    plans = [replace(annex(10.0), name=f"Hall {n}") for n in range(8)]
+    store = replace(annex(10.0), name="electric-bills")
+    run = simulate_budget([*plans, store], ["2025-06"], AS_OF, WeatherAssumption.none(), paths=20)
+    run.meters[-1] = replace(run.meters[-1], source="bills")
+    panel = BudgetRangePanel()
+    qtbot.addWidget(panel)
+    panel.resize(640, 300)
+    panel.show()
+    panel.show_run(run)
+    qtbot.wait(20)
+    picker = panel.pick
+    title = picker.currentText()
+    assert title == "Campus, all utilities added (8 meters and 1 bill account)"
+    option = QStyleOptionComboBox()
+    picker.initStyleOption(option)
+    field = picker.style().subControlRect(
+        QStyle.ComplexControl.CC_ComboBox, option, QStyle.SubControl.SC_ComboBoxEditField, picker
+    )  # where the chosen words are drawn: the box less its frame and arrow
+    needed = picker.fontMetrics().horizontalAdvance(title)
+    assert field.width() >= needed, (field.width(), needed)
+    assert picker.width() >= 0.8 * panel.width()  # the row's width, for longer titles too

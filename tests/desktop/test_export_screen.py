@@ -147,3 +147,44 @@ def test_a_name_typed_without_the_extension_gets_xlsx(qtbot, screen, tmp_path, m
     assert book["Monthly"].max_row > 1
     # Printed pages are headed with the project's name, as the command line's are.
     assert book["Monthly"].oddHeader.left.text == "orrinvale"
+
+
+def test_the_export_step_is_ticked_once_its_workbook_is_written(
+    qtbot, campus, budget, tmp_path, monkeypatch
+):
+    """The steps' guide kept saying "Write the finance workbook." after it was written; now
+    the step is ticked and the guide names the workbook and the next thing, until another
+    budget replaces the one written."""
+    window = MainWindow()
+    qtbot.addWidget(window)
+    window.show()
+    try:
+        assert window.open_project(campus)
+        window.budget_screen.budget_changed.emit(budget)  # as when a budget run ends
+        window.show_step("Export")
+        assert not window.steps.currentItem().text().startswith("✓")
+        target = tmp_path / "finance.xlsx"
+        monkeypatch.setattr(QFileDialog, "getSaveFileName", lambda *args: (str(target), ""))
+        window.export_screen.write_button.click()
+        wait_until_idle(qtbot, window.export_screen)
+        assert target.exists()
+        assert window.steps.currentItem().text() == "✓ Export"
+        guide = window.guide.text()
+        assert "Written: finance.xlsx" in guide and "Write the finance workbook" not in guide
+        assert "Adopt" in guide
+        window.budget_screen.budget_changed.emit(None)  # no budget shown: nothing written
+        assert window.steps.currentItem().text() == "Export"
+    finally:
+        window.close()
+
+
+def test_the_budget_line_counts_bill_accounts_apart_from_meters(budget):
+    """The sample's electric account made the line say "9 meters" beside a status bar of 8."""
+    from dataclasses import replace
+
+    from desktop.export_screen import budget_words
+
+    assert ", 2 meters, " in budget_words(budget)
+    account = replace(budget.run.meters[0], name="electric-bills", source="bills")
+    with_account = replace(budget, run=replace(budget.run, meters=[*budget.run.meters, account]))
+    assert ", 2 meters and 1 bill account, " in budget_words(with_account)

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from html import unescape
+
 import numpy as np
 import pandas as pd
 import pytest
@@ -285,7 +287,7 @@ def test_a_file_the_screen_cannot_classify_says_what_it_looks_like_and_asks(
     offered = [kind.itemData(i) for i in range(kind.count())]
     assert offered == [None, "meters", "bills", "weather", "calendar"]
     screen.file_table.selectRow(1)
-    assert "no table of dates and figures" in screen.view.summary.text()
+    assert "could not be read as any kind of file" in screen.view.summary.text()
 
     kind.set_value("meters")  # the user says what it is; it is read again as that
     kind.activated.emit(kind.currentIndex())
@@ -298,3 +300,37 @@ def test_a_file_the_screen_cannot_classify_says_what_it_looks_like_and_asks(
     assert [p.name for p in tmp_path.iterdir()] == ["terms.csv"]  # nothing half-created
     assert "Traceback" not in capfd.readouterr().err
     save_screen(screen, "files-unclassified")
+
+
+def test_a_sheet_without_dates_and_a_header_only_file_say_what_they_hold(
+    qtbot, screen, tmp_path, capfd
+):
+    """An Excel sheet of floor areas (no time stamps) and a CSV export with its header and no
+    rows: each is named with what it holds instead of readings, and nothing is created."""
+    from openpyxl import Workbook
+
+    book = Workbook()
+    book.active.title = "Areas"
+    book.active.append(["Building", "Floor area (m²)", "Annual kWh"])
+    book.active.append(["Library", 5400, 812000])
+    areas = tmp_path / "floor-areas.xlsx"
+    book.save(areas)
+    export = tmp_path / "empty-export.csv"
+    export.write_text("Timestamp,Library (kWh)\n", encoding="utf-8")
+    screen.set_site_timezone(SITE_ZONE)
+    screen.add_files([areas, export])
+    wait_until_idle(qtbot, screen)
+    screen.file_table.selectRow(0)
+    summary = unescape(screen.view.summary.text())
+    assert "floor-areas.xlsx" in summary
+    assert "no column of dates or times was found in sheet 'Areas'" in summary
+    assert "Building, Floor area (m²), Annual kWh" in summary
+    screen.file_table.selectRow(1)
+    summary = unescape(screen.view.summary.text())
+    assert "empty-export.csv" in summary
+    assert "holds a header row (Timestamp, Library (kWh)) but no readings below it" in summary
+    assert "any sheet" not in summary and "dates and figures" not in summary
+    screen.create_project_at(tmp_path / "never")
+    assert screen.notice.tone == "problem"
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["empty-export.csv", "floor-areas.xlsx"]
+    assert "Traceback" not in capfd.readouterr().err

@@ -29,7 +29,7 @@ def test_opening_a_project_fills_the_status_bar_and_the_patterns_step(
     assert window.statusBar().currentMessage() == "No project open"
     assert window.open_project(sample_project)
     assert window.statusBar().currentMessage() == (
-        f"{sample_project.name}: 1 meter(s), site zone America/Chicago"
+        f"{sample_project.name}: 1 meter, site zone America/Chicago"  # not "1 meter(s)"
     )
     window.show_step("Patterns")
     assert window.screens.currentWidget() is window.patterns_screen
@@ -89,3 +89,41 @@ def test_the_steps_say_what_is_done_and_the_one_thing_to_do_next(window, tmp_pat
     assert STEP_NAMES[window.steps.currentRow()] == "Budget"
     assert "press 'Budget'" in window.guide.text()
     save_screen(window, "guided-steps")
+
+
+def test_the_task_bar_names_meters_by_their_display_names(
+    qtbot, window, sample_project, tmp_path, monkeypatch
+):
+    """While the Cleaning and Patterns steps work on the Library meter shown as "Main
+    Library", every message the task bar is given names it so (the engine's detectors said
+    "Looking for spikes and dips in Library"), and no message shows a raw key."""
+    import shutil
+
+    from desktop.task_bar import TaskBar
+    from engine.project import Project
+    from engine.steps.labels import relabelled, store_label
+
+    path = tmp_path / sample_project.name
+    shutil.copyfile(sample_project, path)
+    with Project.open(path) as project:
+        store_label(project, relabelled(project, "Library", display_name="Main Library"))
+    given: list[str] = []
+    following = TaskBar.follow
+
+    def follow(bar, task):
+        given.append(task.doing)
+        task.progressed.connect(lambda _fraction, message: given.append(message))
+        following(bar, task)
+
+    monkeypatch.setattr(TaskBar, "follow", follow)
+    assert window.open_project(path)
+    for step in ("Cleaning", "Patterns"):
+        window.show_step(step)
+        screen = window.screens.currentWidget()
+        screen.show_meter("Library")
+        wait_until_idle(qtbot, screen)
+    said = " | ".join(given)
+    assert "Looking for spikes and dips in Main Library" in said
+    assert "typical days by day type" in said and "day_type" not in said  # no raw keys
+    assert "profiling 'Main Library'" in said
+    assert not [words for words in given if "Library" in words and "Main Library" not in words]

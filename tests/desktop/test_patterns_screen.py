@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import shutil
+from itertools import pairwise
 
 import holidays
 import numpy as np
@@ -260,3 +261,30 @@ def test_a_site_whose_weather_came_in_fahrenheit_sees_fahrenheit(library):
             assert shown[f"{side} slope"] == pytest.approx(per_c / 1.8)
     assert library.temperature.plot.getAxis("bottom").labelText.endswith("(°F)")
     assert "°C" not in library.temperature.caption.text()
+
+
+def test_month_names_under_the_monthly_bars_keep_apart_on_a_laptop(qtbot):
+    """At the width the Monthly panel gets on a 1,280-pixel screen (a third of the step), the
+    month names pyqtgraph draws leave a clear gap between them (they ran together as
+    "AprMayJun"), and every other month is named whatever the width."""
+    from PySide6.QtGui import QImage, QPainter
+
+    from desktop.pattern_plots import MonthlyPanel
+
+    panel = MonthlyPanel()
+    qtbot.addWidget(panel)
+    panel.resize(355, 300)
+    panel.show()
+    panel.plot.setXRange(0.5, 12.5, padding=0)
+    qtbot.wait(20)
+    axis = panel.plot.getAxis("bottom")
+    canvas = QImage(int(axis.width()), 60, QImage.Format.Format_ARGB32)
+    painter = QPainter(canvas)
+    drawn = sorted(
+        (rect.left(), rect.right(), text) for rect, _, text in axis.generateDrawSpecs(painter)[2]
+    )
+    painter.end()
+    names = [text for _, _, text in drawn]
+    assert {"Jan", "Mar", "May", "Jul", "Sep", "Nov"} <= set(names)
+    gaps = [after[0] - before[1] for before, after in pairwise(drawn)]
+    assert min(gaps) >= 8.0, list(zip(names, gaps, strict=False))  # 8 px: common practice

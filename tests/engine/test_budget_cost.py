@@ -19,6 +19,7 @@ from sklearn.exceptions import NotFittedError
 
 from engine.budget import MeterPlan, WeatherAssumption, simulate_budget, simulate_paths
 from engine.budget.periods import local_midnight
+from engine.budget.result import RollUp
 from engine.budget.summary import COST_CAUTION, PEAK_CAUTION
 from engine.errors import InputError
 from engine.models._family import ModelFamily
@@ -161,3 +162,33 @@ def test_cost_rolls_up_path_by_path_and_in_one_currency() -> None:
         )
     with pytest.raises(InputError, match="both a tariff and a price"):
         annex(0.0, tariff=TARIFF, rate=0.1, currency="USD")
+
+
+def test_a_campus_with_an_unpriced_meter_has_a_priced_meters_only_cost() -> None:
+    """The campus row has no cost when one meter is unpriced; its priced meters' cost is its
+    own part, summed path by path (numpy percentiles of the per-path sums) and naming what it
+    leaves out, and it survives the JSON round trip."""
+    metered = annex(10.0, tariff=TARIFF)
+    billed = replace(annex(10.0, rate=0.2, currency="USD"), name="Cobble Lane Store")
+    unpriced = replace(annex(10.0), name="Cobble Lane Boilers", utility="natural_gas")
+    plans = [metered, billed, unpriced]
+    args = (["2025-06", "2025-07"], AS_OF, WeatherAssumption.none())
+    totals = simulate_paths(plans, *args, paths=300, rng=5)
+    run = simulate_budget(plans, *args, paths=300, rng=5)
+    campus = run.campus
+    assert campus.total.cost is None and campus.months[0].cost is None
+    part = campus.priced_only
+    assert part.meters == ["Cobble Lane Annex", "Cobble Lane Store"]
+    assert part.left_out == ["Cobble Lane Boilers"]
+    paid = (totals.meters[0].cost + totals.meters[1].cost).sum(axis=1)
+    assert part.total.cost.quantiles["90"] == pytest.approx(np.percentile(paid, 90))
+    assert part.total.cost.mean == pytest.approx(paid.mean())
+    used = (totals.meters[0].months + totals.meters[1].months)[:, 1]
+    assert part.months[1].energy.quantiles["50"] == pytest.approx(np.percentile(used, 50))
+    utilities = {roll.group: roll for roll in run.utilities}
+    assert utilities["electricity"].priced_only is None  # both electricity meters are priced
+    assert utilities["natural_gas"].priced_only is None  # its only meter is not
+    data = run.to_json()["campus"]
+    assert data["priced_meters_only"]["left_out"] == ["Cobble Lane Boilers"]
+    assert RollUp.from_json(data) == campus
+    assert run.to_json()["utilities"][0]["priced_meters_only"] is None

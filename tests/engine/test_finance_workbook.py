@@ -27,6 +27,7 @@ from engine.budget.result import (
     Calibration,
     MeterBudget,
     PeriodTotal,
+    PricedPart,
     RollUp,
     Spread,
 )
@@ -622,6 +623,68 @@ def test_an_unpriced_meter_has_no_cost_total(campus, tmp_path):
     assert totals[unpriced.name] is None  # nothing to sum: no "USD 0" for a meter with no tariff
     priced = run.meters[1].name
     assert str(totals[priced]).startswith("=SUM(")
+
+
+def test_a_campus_with_an_unpriced_meter_shows_its_priced_meters_cost(campus, tmp_path):
+    """The campus has no cost with the gas meter unpriced; its priced meters (the two
+    electricity meters, energy and cost summed path by path here with numpy) are a row of the
+    overview and a block of the monthly sheet, named plainly with what they leave out."""
+    run = _run(campus, priced=True)
+    _, month_of, paths, actual = campus
+    gas = run.meters[2] = _unpriced(run.meters[2])
+    run.utilities[1] = _unpriced(run.utilities[1])
+    electric = [name for name, (utility, _, _) in METERS.items() if utility == "electricity"]
+    energy = sum(paths[n] for n in electric)
+    cost = energy * RATES["electricity"]
+    months, total = _periods(energy, cost, sum(actual[n] for n in electric), month_of)
+    run.campus = dataclasses.replace(
+        _unpriced(run.campus),
+        priced_only=PricedPart(electric, [gas.name], months, total),
+    )
+    labels = {gas.name: MeterLabel(gas.name, "natural_gas", display_name="Kiln boilers")}
+    path = write_finance_workbook(
+        tmp_path / "part.xlsx",
+        run,
+        quality={},
+        steps=[],
+        scorecards={},
+        data_range={},
+        labels=labels,
+    )
+    named = "campus, priced meters only (leaves out Kiln boilers: no price)"
+    grid = Grid(path, "Overview")
+    row, _ = grid.find(named)
+    header = grid.header(grid.find("scope")[0])
+    assert grid[row, 1] == "priced meters only" and grid[row, 3] == 2
+    shown = [grid[row, c] for c in range(4, len(header) + 1)]
+    assert shown == pytest.approx(_figures(total), rel=1e-12)
+    assert grid[grid.find("campus")[0], header.index("cost mean (USD)") + 1] == ""
+    monthly = Grid(path, "Monthly")
+    rows = [r for r in range(1, len(monthly.rows) + 1) if monthly[r, 2] == named]
+    assert [monthly[r, 3] for r in rows][-1] == "Total" and len(rows) == len(MONTHS) + 1
+
+
+def _unpriced(item):
+    """A meter's budget or a roll-up without its cost (no price, or a meter without one)."""
+    return dataclasses.replace(
+        item,
+        months=[dataclasses.replace(m, cost=None) for m in item.months],
+        total=dataclasses.replace(item.total, cost=None),
+    )
+
+
+def test_the_daily_sheet_names_utilities_in_words(campus, tmp_path):
+    """A natural-gas meter's days read "natural gas", not the key "natural_gas"."""
+    run = _run(campus)
+    run.meters[2] = dataclasses.replace(run.meters[2], utility="natural_gas")
+    path = write_finance_workbook(
+        tmp_path / "daily.xlsx", run, quality={}, steps=[], scorecards={}, data_range={}
+    )
+    grid = Grid(path, "Daily")
+    column = grid.header(grid.find("utility")[0]).index("utility") + 1
+    first = grid.find("utility")[0] + 1
+    utilities = {grid[row, column] for row in range(first, first + len(grid.rows))}
+    assert "natural gas" in utilities and not any("_" in str(u) for u in utilities)
 
 
 PRINTED_LAST_ROWS = {"Daily": 1}  # the daily detail prints its note only

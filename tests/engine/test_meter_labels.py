@@ -3,10 +3,13 @@
 from __future__ import annotations
 
 import dataclasses
+import re
 import shutil
+from datetime import date
 from pathlib import Path
 
 import numpy as np
+import pandas as pd
 import pytest
 from openpyxl import load_workbook
 
@@ -19,8 +22,12 @@ from engine.meter_labels import (
     in_temperature_unit,
     shown_name,
 )
+from engine.progress import Progress
 from engine.project import Project
 from engine.reading import ReadOptions, read_file
+from engine.steps.budgeting import budget_project, budget_request
+from engine.steps.cleaning import review_meter
+from engine.steps.fitting import fit_meters
 from engine.steps.importing import ImportedFiles, store_files
 from engine.steps.labels import (
     meter_label,
@@ -29,6 +36,7 @@ from engine.steps.labels import (
     set_temperature_unit,
     store_label,
     temperature_unit,
+    with_shown_names,
 )
 from engine.steps.profiling import profile_project_meter
 
@@ -170,3 +178,52 @@ def test_the_profile_workbook_gives_the_weather_response_in_fahrenheit(site, tmp
     )
     assert not any("°C" in str(name) for name in rows)
     assert in_temperature_unit(5.0, "kWh", "°F") == (5.0, "kWh")
+
+
+def test_shown_names_replace_whole_raw_names_once():
+    labels = {
+        "Hall": MeterLabel("Hall", "electricity", display_name="Main Hall"),
+        "PLANT-CHW-E": MeterLabel("PLANT-CHW-E", "chilled_water", display_name="East plant"),
+        "Boiler gas": MeterLabel("Boiler gas", "natural_gas"),  # no display name: kept
+    }
+    text = "Looking for spikes in PLANT-CHW-E; 'Hall' done; Hallway, PLANT-CHW-EAST, Boiler gas"
+    shown = with_shown_names(text, labels)
+    assert shown == (
+        "Looking for spikes in East plant; 'Main Hall' done; Hallway, PLANT-CHW-EAST, Boiler gas"
+    )
+    assert with_shown_names(shown, labels) == shown  # "Main Hall" does not become "Main Main Hall"
+
+
+def test_progress_and_cautions_name_meters_by_their_display_names(fitted_site, tmp_path):
+    """Cleaning, fitting (backtest included) and budget progress, and the budget's cautions,
+    name the meters as the person named them; the JSON keys stay the raw names."""
+    path = tmp_path / "site.loadledger"
+    shutil.copyfile(fitted_site, path)
+    with Project.open(path) as project:
+        store_label(project, relabelled(project, "Hall", display_name="Main Hall"))
+        store_label(project, relabelled(project, "Boiler gas", display_name="Gas main"))
+        heard: list[str] = []
+        listening = Progress(lambda _fraction, message: heard.append(message))
+        review_meter(project, "Boiler gas", progress=listening)
+        fit_meters(project, ["Hall"], families=["seasonal_naive"], origins=2, progress=listening)
+        # the electricity account's bills beside the Hall meter: a caution names the meter
+        bills = tmp_path / "hall-account.csv"
+        starts = pd.date_range("2024-01-01", "2025-11-01", freq="MS")
+        rows = "".join(
+            f"{s:%Y-%m-%d},{s + pd.offsets.MonthEnd(0):%Y-%m-%d},{20000 + 500 * s.month},2400\n"
+            for s in starts
+        )
+        bills.write_text("Service From,Service To,Billed kWh,Total Charges ($)\n" + rows)
+        options = ReadOptions(timezone="UTC")
+        store_files(project, ImportedFiles([], [read_file(bills, options)], [], options))
+        request = budget_request(
+            project, ["2026-01"], as_of=date(2025, 12, 31), weather="typical", paths=100
+        )
+        run = budget_project(project, request, workers=1, progress=listening).run
+    said = " | ".join(heard)
+    assert "Gas main" in said and "Main Hall" in said
+    assert "Main Main Hall" not in said
+    assert not any(re.search(r"(?<!Main )\bHall\b|Boiler gas", message) for message in heard)
+    beside = [caution for caution in run.cautions if "beside the meter" in caution]
+    assert beside and "beside the meter Main Hall of" in beside[0], run.cautions
+    assert {"Hall", "Boiler gas"} <= {meter.name for meter in run.meters}  # raw names as keys

@@ -79,6 +79,10 @@ def test_backwards_and_conflicting_duplicate_stamps_are_reported_not_lost(tmp_pa
     assert set(kinds["duplicate_conflict"].rows) == {5, 6}
     assert read.meter.values.tolist() == [1, 2, 3, 4, 5, 6]
     assert len(read.raw) == 7  # the raw readings keep the conflicting copy
+    # counted in words that agree: "1 time", "1 timestamp appears", not "1 timestamp(s) appear"
+    assert "go backwards 1 time," in kinds["backwards"].message
+    assert kinds["duplicate_conflict"].message.startswith("1 timestamp appears more than once")
+    assert not any("(s)" in finding.message for finding in read.findings)
 
 
 def test_non_numeric_cells_are_counted_with_their_rows(tmp_path):
