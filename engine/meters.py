@@ -29,6 +29,11 @@ UTILITIES: tuple[str, ...] = (
 CANONICAL_UNIT = "kWh"
 
 
+def utility_words(name: str) -> str:
+    """A utility's key in words for readers ("natural gas"); any other name as it is."""
+    return name.replace("_", " ") if name in UTILITIES else name
+
+
 @dataclass
 class MeterSeries:
     """One meter's interval energy in kWh with what is known about where it came from."""

@@ -4,6 +4,8 @@ from __future__ import annotations
 
 import pandas as pd
 
+from engine.meters import utility_words
+
 
 def file_report(report: dict) -> str:
     """What ``inspect`` prints for one file."""
@@ -44,7 +46,8 @@ def file_report(report: dict) -> str:
 
 def _meter(meter: dict) -> list[str]:
     lines = [
-        f"  meter '{meter['name']}' ({meter['utility']}) from column '{meter['column']}'",
+        f"  meter '{meter['name']}' ({utility_words(meter['utility'])}) "
+        f"from column '{meter['column']}'",
         f"    unit: {meter['unit_found']} -> {meter['unit']}   values: {meter['values']} "
         f"({meter['values_note']})",
         f"    interval: {_num(meter['interval_minutes'])} min   stamps: {meter['stamps']} "
@@ -76,7 +79,8 @@ def project_report(summary: dict) -> str:
     ]
     for meter in summary.get("meters", []):
         lines.append(
-            f"  {_shown(meter):<28} {meter['utility']:<14} {_num(meter['interval_minutes']):>5} min"
+            f"  {_shown(meter):<28} {utility_words(meter['utility']):<14} "
+            f"{_num(meter['interval_minutes']):>5} min"
             f"  {meter['first']} .. {meter['last']}  {meter['count']} readings  "
             f"{_num(meter['total_kwh'])} kWh"
         )
@@ -139,7 +143,7 @@ def profile_report(report: dict) -> str:
     """What ``profile`` prints: each meter's key figures and weather response."""
     lines = [f"project {report['project']}"]
     for meter in report["meters"]:
-        lines.append(f"  meter '{_shown(meter)}' ({meter['utility']})")
+        lines.append(f"  meter '{_shown(meter)}' ({utility_words(meter['utility'])})")
         for name, entry in meter["figures"].items():
             if name == "weather response":
                 parts = [f"{k} {_num(v)}" for k, v in entry.items() if v is not None]
@@ -189,7 +193,7 @@ def budget_report(report: dict) -> str:
         groups.append(report["campus"])
     shown = {m["name"]: m.get("display_name", m["name"]) for m in report["meters"]}
     for group in groups:
-        label = group.get("display_name") or group.get("name") or group.get("group")
+        label = utility_words(group.get("display_name") or group.get("name") or group.get("group"))
         if group.get("source") == "bills":
             label += " (bills)" if not group["metered_by"] else " (bills, not in totals)"
         line = _total_line(label, group["total"], levels, currency)
@@ -200,7 +204,7 @@ def budget_report(report: dict) -> str:
         part = group.get("priced_meters_only")
         if part:
             left_out = ", ".join(shown.get(name, name) for name in part["left_out"])
-            priced = f"{label.replace('_', ' ')}, priced meters only"
+            priced = f"{label}, priced meters only"
             lines.append(
                 _total_line(priced, part["total"], levels, currency)
                 + f" (leaves out {left_out}: no price)"
@@ -226,7 +230,7 @@ def meter_report(report: dict) -> str:
         shown = meter["display_name"]
         named = f"shown as '{shown}'" if shown != meter["name"] else "shown under its own name"
         lines.append(
-            f"  {meter['name']}: {named}; {meter['utility'].replace('_', ' ')}; "
+            f"  {meter['name']}: {named}; {utility_words(meter['utility'])}; "
             f"read in {meter['read_unit']}"
         )
     return "\n".join(lines) + "\n"
@@ -287,8 +291,8 @@ def track_report(report: dict) -> str:
     if report.get("campus"):
         groups.append(report["campus"])
     for group in groups:
-        label = group.get("display_name") or group.get("name") or group.get("group")
-        lines.append(f"  {label} ({group.get('utility', 'roll-up')}, kWh)")
+        label = utility_words(group.get("display_name") or group.get("name") or group.get("group"))
+        lines.append(f"  {label} ({utility_words(group.get('utility', 'roll-up'))}, kWh)")
         lines.append(
             f"    {'month':<8} {'status':<10} {'budget P50':>12} {'actual':>12} {'variance':>12}"
             f" {'weather':>12} {'usage':>12}  P{levels[0]}–P{levels[-1]}"

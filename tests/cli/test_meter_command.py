@@ -123,3 +123,15 @@ def test_budget_text_gives_the_campus_cost_of_its_priced_meters():
     assert priced.strip().startswith("campus, priced meters only")
     assert f"cost P50 USD {part.cost.quantiles['50']:,.0f}" in priced
     assert priced.endswith("(leaves out Gas main: no price)")
+
+
+def test_budget_text_names_utilities_in_words():
+    """A real (small) budget with a gas meter: its utility roll-up is 'natural gas', never the
+    key 'natural_gas' (the JSON keeps the key)."""
+    boilers = replace(annex(10.0), name="GM-2", utility="natural_gas")
+    run = simulate_budget([boilers], ["2025-06"], AS_OF, WeatherAssumption.none(), paths=20, rng=3)
+    report = run.to_json()
+    assert [group["group"] for group in report["utilities"]] == ["natural_gas"]
+    words = budget_report(report)
+    assert "natural_gas" not in words
+    assert any(line.strip().startswith("natural gas ") for line in words.splitlines())
