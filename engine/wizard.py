@@ -100,13 +100,16 @@ def compare_models(
     families: Sequence[str] | None = None,
     origins: int = DEFAULT_ORIGINS,
     keep_fitted: bool = False,
+    rank_on: str | None = None,
     progress: Progress | None = None,
 ) -> ModelComparison:
     """Tune the families' orders, backtest them on ``inputs`` and recommend one (the tuned
     families' fits at the tuning origins serve the backtest too).
 
     With ``keep_fitted`` the backtest keeps each model fitted at each origin
-    (:attr:`BacktestResult.fitted`), for refits that reuse them.
+    (:attr:`BacktestResult.fitted`), for refits that reuse them. ``rank_on`` names the
+    weather condition the models are ranked on (:data:`ACTUAL_WEATHER` for a budget on a
+    given weather); by default typical weather, else none (:mod:`engine.selection`).
     """
     step(progress, 0.0, "choosing the models' orders")
     if isinstance(weather, pd.Series):  # one set of typical years for both backtests
@@ -120,11 +123,12 @@ def compare_models(
         origins=origins,
         weather_history=weather,
         keep_fitted=keep_fitted,
-        race=Race(RACED_FAMILIES, EXPLAINABLE_MARGIN),
+        race=Race(RACED_FAMILIES, EXPLAINABLE_MARGIN, rank_on),
         fitted={family: fitted for family, (_, fitted) in tunings.items()},
         progress=part,
     )
-    return ModelComparison(backtest, recommend_model(backtest, labels=inputs.labels), models)
+    choice = recommend_model(backtest, labels=inputs.labels, condition=rank_on)
+    return ModelComparison(backtest, choice, models)
 
 
 def tuned(
@@ -184,6 +188,7 @@ class MeterJob:
     ``origins`` monthly origins, with ``weather`` (the site's hourly °C, with the typical
     years learned before each origin, :func:`learn_typical_years`) for its typical weather.
     ``refit_months`` > 0 also refits the model before each of that many last months.
+    ``rank_on`` is the weather condition the wizard ranks on (see :func:`compare_models`).
     """
 
     name: str
@@ -193,6 +198,7 @@ class MeterJob:
     families: tuple[str, ...] | None = None
     origins: int = DEFAULT_ORIGINS
     refit_months: int = 0
+    rank_on: str | None = None
 
     @property
     def size(self) -> int:
@@ -265,6 +271,7 @@ def _choose(
         families=job.families,
         origins=job.origins,
         keep_fitted=job.refit_months > 0,
+        rank_on=job.rank_on,
         progress=progress,
     )
     if compared.choice.chosen is None:
