@@ -14,16 +14,17 @@ the weather that happened: :mod:`engine.budget.refits`) gives the gap known befo
 ``g_k = L_k − b_k`` (``L_k``: the relative error of the :data:`RECENT_DAYS` days before the
 month, ``b_k``: that of the error window before it), and the month's own miss beyond the
 year's, ``m_k = r_k − b_k`` (``r_k``: the month's relative error). The share carried is the
-least-squares slope through the origin of ``m`` on ``g``, kept within 0 and 1 (an AR(1)
-coefficient of the monthly level error, from memory: the error-correction idea of
-Box & Jenkins' intervention and transfer-function models is similar).
+least-squares slope through the origin of ``m`` on ``g``, kept within 0 and 1: the lag-one
+autoregression coefficient of the monthly level error (an AR(1) in the model's errors, the
+plainest error-correction term; common practice, no single source).
 
 It is used only where the month-ahead backtest shows it helps: each past month is corrected
 with the share learned from the months before it, and the corrected month totals must miss
-by at least :data:`MIN_GAIN` less on average than the uncorrected ones, over at least
-:data:`MIN_CHECKED` months. A budget month ``h`` months after the as-of date carries
-``share**h`` of today's gap (a level error that decays as the past months showed; a
-persistent drift has a share near 1 and keeps it).
+by at least :data:`MIN_GAIN` less on average than the uncorrected ones, and in more months
+better than worse, over at least :data:`MIN_CHECKED` months. Gaps beyond :data:`MAX_GAP`
+are faults or odd months, not a drifting level: they are not learned from or carried. A
+budget month ``h`` months after the as-of date carries ``share**h`` of today's gap (a level
+error decays as the past months showed it to; a steady drift has a share near 1 and keeps it).
 """
 
 from __future__ import annotations
@@ -45,8 +46,9 @@ MIN_LEARNED = 4
 MIN_CHECKED = 6
 #: Relative improvement of the month-total error the correction must show to be used.
 MIN_GAIN = 0.05
-#: Largest relative gap taken as a level error (beyond it a month is an outlier, not a level).
-MAX_GAP = 0.5
+#: Largest relative gap taken as a level error: beyond it a month is an outlier or a fault,
+#: not a level that drifted, and is neither learned from nor carried.
+MAX_GAP = 0.15
 
 
 @dataclass(frozen=True)
@@ -144,9 +146,10 @@ def carried_share(gaps: np.ndarray, misses: np.ndarray) -> float:
     return float(np.clip(np.sum(gaps * misses) / spread, 0.0, 1.0)) if spread > 0 else 0.0
 
 
-def check(months: pd.DataFrame) -> tuple[int, float, float]:
+def check(months: pd.DataFrame) -> tuple[int, float, float, bool]:
     """Past months corrected with the share learned before each: (months checked, mean
-    absolute month-total error % without the correction, with it)."""
+    absolute month-total error % without the correction, with it, and whether it made more
+    of those months better than worse)."""
     gaps, misses = months["gap"].to_numpy(), months["miss"].to_numpy()
     actual = 1.0 + months["r"].to_numpy()  # actual / forecast
     without, with_ = [], []
@@ -155,8 +158,10 @@ def check(months: pd.DataFrame) -> tuple[int, float, float]:
         without.append(abs(misses[k]) / actual[k])
         with_.append(abs(misses[k] - share * gaps[k]) / actual[k])
     if not without:
-        return 0, np.nan, np.nan
-    return len(without), 100 * float(np.mean(without)), 100 * float(np.mean(with_))
+        return 0, np.nan, np.nan, False
+    change = np.sign(np.subtract(without, with_))
+    mostly = bool(np.sum(change > 0) > np.sum(change < 0))
+    return len(without), 100 * float(np.mean(without)), 100 * float(np.mean(with_)), mostly
 
 
 def level_correction(
@@ -172,16 +177,17 @@ def level_correction(
         return LevelCorrection.not_used("the model has no out-of-sample errors to measure from")
     days = day_sums(errors[errors.index < cut], actual, timezone)
     months = past_months(days, error_days)
-    checked, without, with_ = check(months)
+    checked, without, with_, mostly = check(months)
     if checked < MIN_CHECKED:
         return LevelCorrection.not_used(
             f"{checked} past months could be checked, fewer than the {MIN_CHECKED} needed",
             checked, without, with_,
         )  # fmt: skip
-    if not with_ <= (1 - MIN_GAIN) * without:
+    if not (with_ <= (1 - MIN_GAIN) * without and mostly):
         return LevelCorrection.not_used(
             f"on {checked} past months it did not cut the month-total error by "
-            f"{MIN_GAIN:.0%} ({without:.1f} % without it, {with_:.1f} % with it)",
+            f"{MIN_GAIN:.0%} ({without:.1f} % without it, {with_:.1f} % with it) while "
+            "bettering more months than it worsened",
             checked, without, with_,
         )  # fmt: skip
     local_cut = cut.tz_convert(timezone).tz_localize(None)
@@ -191,6 +197,11 @@ def level_correction(
             f"the errors do not reach the last {RECENT_DAYS} days before the as-of date",
             checked, without, with_,
         )  # fmt: skip
+    if abs(recent - year) > MAX_GAP:
+        return LevelCorrection.not_used(
+            f"the last {RECENT_DAYS} days' gap ({recent - year:+.1%}) is beyond the "
+            f"{MAX_GAP:.0%} a drifting level explains (a fault or an unusual month)",
+            checked, without, with_,
+        )  # fmt: skip
     share = carried_share(months["gap"].to_numpy(), months["miss"].to_numpy())
-    gap = float(np.clip(recent - year, -MAX_GAP, MAX_GAP))
-    return LevelCorrection(True, gap, share, checked, without, with_)
+    return LevelCorrection(True, recent - year, share, checked, without, with_)
