@@ -20,6 +20,7 @@ from threadpoolctl import threadpool_limits
 from engine.backtest import (
     ACTUAL_WEATHER,
     NO_WEATHER,
+    TYPICAL_WEATHER,
     BacktestResult,
     Fitted,
     Race,
@@ -36,18 +37,31 @@ from engine.weather import TypicalYears
 
 #: Families the wizard tries unless told otherwise. The billing-period model needs bills and
 #: the gradient-boosting challenger is less explainable and slower: both on request only.
+#: "Same day last year, weather-adjusted" is the trade's own baseline (what finance would
+#: budget without the tool), so it is always a candidate.
+TRADE_BASELINE = "last_year_adjusted"
 DEFAULT_FAMILIES: tuple[str, ...] = (
     "calendar_regression",
     "time_of_week_temperature",
     "daily_change_point",
+    TRADE_BASELINE,
     "seasonal_naive",
     "daily_ets",
     "monthly_sarima",
     "mstl_ets",
 )
-#: Families whose orders (Fourier orders, temperature knots) the wizard chooses by backtest.
-TUNED_FAMILIES: tuple[str, ...] = ("calendar_regression", "time_of_week_temperature")
-#: Origins of the short backtest that chooses those orders (one-month-ahead, actual weather).
+#: Families whose settings the wizard chooses by backtest: orders (Fourier orders,
+#: temperature knots) by hourly CV(RMSE) under the actual weather, and the share of last
+#: year carried by "same day last year" by month totals (see :func:`tuned`).
+TUNED_FAMILIES: tuple[str, ...] = (
+    "calendar_regression",
+    "time_of_week_temperature",
+    TRADE_BASELINE,
+)
+#: Tuned families whose candidates differ in level rather than shape: compared on month
+#: totals in the condition the wizard ranks on.
+_TUNED_ON_MONTH_TOTALS = frozenset({TRADE_BASELINE})
+#: Origins of the short backtest that chooses those settings (one-month-ahead).
 TUNING_ORIGINS = 3
 #: Slow, less explainable families that stop at the backtest origin from which they could no
 #: longer be recommended (:class:`engine.backtest.Race`).
@@ -114,7 +128,9 @@ def compare_models(
     step(progress, 0.0, "choosing the models' orders")
     if isinstance(weather, pd.Series):  # one set of typical years for both backtests
         weather = TypicalYears(weather, inputs.timezone)
-    tunings = {m.family: _tune(m, inputs, weather) for m in families_for(inputs, families)}
+    tunings: dict[str, tuple[EnergyModel, dict[str, Fitted]]] = {}
+    for model in families_for(inputs, families):
+        tunings[model.family] = _tune(_with_regression(model, tunings), inputs, weather, rank_on)
     models = {family: model for family, (model, _) in tunings.items()}
     part = progress.part(0.1, 1.0) if progress is not None else None
     backtest = run_backtest(
@@ -128,7 +144,37 @@ def compare_models(
         progress=part,
     )
     choice = recommend_model(backtest, labels=inputs.labels, condition=rank_on)
+    if choice.chosen == TRADE_BASELINE:
+        choice = replace(choice, reasons=(*choice.reasons, _carried_words(models)))
     return ModelComparison(backtest, choice, models)
+
+
+def _with_regression(
+    model: EnergyModel, tunings: dict[str, tuple[EnergyModel, dict[str, Fitted]]]
+) -> EnergyModel:
+    """ "Same day last year" adjusted by the calendar regression the wizard tuned, when it has
+    one, so its even combination is with that model; any other model as it is."""
+    if model.family != TRADE_BASELINE or "calendar_regression" not in tunings:
+        return model
+    regression = tunings["calendar_regression"][0].settings()
+    return type(model)(**{**model.settings(), "regression": regression})
+
+
+def _carried_words(models: dict[str, EnergyModel]) -> str:
+    """Why "same day last year" carries the share of last year it carries."""
+    model = models[TRADE_BASELINE]
+    weight = float(model.settings()["weight"])
+    what = (
+        "all of last year's departure from the regression (the trade's baseline: last year's "
+        "actual adjusted for weather and calendar)"
+        if weight == 1.0
+        else f"{weight:.0%} of last year's departure from the regression (a combination of the "
+        "trade's baseline with the regression alone)"
+    )
+    return (
+        f"{model.label.capitalize()} carries {what}: of the shares tried, its month totals "
+        f"were nearest the actual in the last {TUNING_ORIGINS} months' backtest."
+    )
 
 
 def tuned(
@@ -138,13 +184,20 @@ def tuned(
 
     Only :data:`TUNED_FAMILIES` are tuned: the orders of their terms are chosen by how well
     each candidate forecast the last :data:`TUNING_ORIGINS` months with their actual weather
-    (hourly CV(RMSE)), not by hand. Other families come back as they are.
+    (hourly CV(RMSE)), not by hand; the share of last year "same day last year" carries (all
+    of it, or the even combination with the regression) by how near the candidates' month
+    totals came to the actual under the weather the wizard ranks on (typical weather when it
+    can be learned), since that share moves the level, not the shape. Other families come
+    back as they are.
     """
     return _tune(model, inputs, weather)[0]
 
 
 def _tune(
-    model: EnergyModel, inputs: ModelInputs, weather: pd.Series | TypicalYears | None
+    model: EnergyModel,
+    inputs: ModelInputs,
+    weather: pd.Series | TypicalYears | None,
+    rank_on: str | None = None,
 ) -> tuple[EnergyModel, dict[str, Fitted]]:
     """:func:`tuned`, with the chosen candidate's fits at the tuning origins (origin →
     model and fit seconds) for the main backtest to reuse."""
@@ -153,7 +206,7 @@ def _tune(
     family = type(model)
     candidates: dict[str, EnergyModel] = {}
     for number, settings in enumerate([{}, *family.candidate_settings()]):
-        candidate = family(**settings)
+        candidate = family(**{**model.settings(), **settings})
         if all(candidate.settings() != kept.settings() for kept in candidates.values()):
             candidates[str(number)] = candidate  # the defaults are often a candidate too
     result = run_backtest(
@@ -165,8 +218,11 @@ def _tune(
         keep_fitted=True,
     )
     condition = ACTUAL_WEATHER if inputs.temperature is not None else NO_WEATHER
+    on_totals = model.family in _TUNED_ON_MONTH_TOTALS
+    if on_totals:
+        condition = _ranked_condition(result, rank_on)
     scored = [
-        (card.cv_rmse, key)
+        ((card.month_total_mape, card.cv_rmse) if on_totals else (card.cv_rmse,), key)
         for key in candidates
         if (card := result.scorecard(key, condition)) is not None
         and result.model_failures(key, condition).empty
@@ -177,6 +233,16 @@ def _tune(
     fits = result.fits[result.fits["model"] == best].set_index("origin")["fit seconds"]
     fitted = {origin: (done, float(fits[origin])) for origin, done in result.fitted[best].items()}
     return candidates[best], fitted
+
+
+def _ranked_condition(result: BacktestResult, rank_on: str | None) -> str:
+    """The condition of a tuning backtest the main ranking would use: ``rank_on``, else
+    typical weather where scored, else the actual weather (or none)."""
+    scored = {card.condition for card in result.scorecards}
+    for condition in (rank_on, TYPICAL_WEATHER, ACTUAL_WEATHER, NO_WEATHER):
+        if condition in scored:
+            return condition
+    return NO_WEATHER
 
 
 @dataclass(frozen=True)
