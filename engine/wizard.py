@@ -128,9 +128,15 @@ def compare_models(
     step(progress, 0.0, "choosing the models' orders")
     if isinstance(weather, pd.Series):  # one set of typical years for both backtests
         weather = TypicalYears(weather, inputs.timezone)
+    wanted = families_for(inputs, families)
     tunings: dict[str, tuple[EnergyModel, dict[str, Fitted]]] = {}
-    for model in families_for(inputs, families):
-        tunings[model.family] = _tune(_with_regression(model, tunings), inputs, weather, rank_on)
+    for model in wanted:
+        if model.family != TRADE_BASELINE:
+            tunings[model.family] = _tune(model, inputs, weather, rank_on)
+    for model in wanted:
+        if model.family == TRADE_BASELINE:
+            tunings |= _tune_baseline(model, tunings, inputs, weather, rank_on, origins)
+    tunings = {model.family: tunings[model.family] for model in wanted}
     models = {family: model for family, (model, _) in tunings.items()}
     part = progress.part(0.1, 1.0) if progress is not None else None
     backtest = run_backtest(
@@ -149,15 +155,67 @@ def compare_models(
     return ModelComparison(backtest, choice, models)
 
 
-def _with_regression(
-    model: EnergyModel, tunings: dict[str, tuple[EnergyModel, dict[str, Fitted]]]
-) -> EnergyModel:
-    """ "Same day last year" adjusted by the calendar regression the wizard tuned, when it has
-    one, so its even combination is with that model; any other model as it is."""
-    if model.family != TRADE_BASELINE or "calendar_regression" not in tunings:
-        return model
-    regression = tunings["calendar_regression"][0].settings()
-    return type(model)(**{**model.settings(), "regression": regression})
+def _tune_baseline(
+    model: EnergyModel,
+    tunings: dict[str, tuple[EnergyModel, dict[str, Fitted]]],
+    inputs: ModelInputs,
+    weather: TypicalYears | None,
+    rank_on: str | None,
+    origins: int,
+) -> dict[str, tuple[EnergyModel, dict[str, Fitted]]]:
+    """ "Same day last year" tuned (:func:`tuned`) around the calendar regression the wizard
+    tuned, so that its combination is with that model: the regression is fitted once per
+    origin, and those fits serve the regression's own backtest and every share of last year
+    (each fitted around them). Without a tuned regression, it is tuned on its own."""
+    if "calendar_regression" not in tunings:
+        return {model.family: _tune(model, inputs, weather, rank_on)}
+    regression, known = tunings["calendar_regression"]
+    starts = backtest_origins(inputs.index, inputs.timezone, origins, inputs.interval)
+    months = {f"{start.tz_convert(inputs.timezone):%Y-%m}": start for start in starts}
+    missing = {month: start for month, start in months.items() if month not in known}
+    started = time.perf_counter()
+    made = fresh(regression).fit_before_each(inputs, list(missing.values()))
+    seconds = (time.perf_counter() - started) / max(len(missing), 1)
+    fits = dict(known) | {
+        month: (fit, seconds)
+        for month, fit in zip(missing, made, strict=True)
+        if not isinstance(fit, Exception)
+    }
+    settings = {**model.settings(), "regression": regression.settings()}
+    family = type(model)
+    candidates = {
+        str(number): family(**{**settings, **extra})
+        for number, extra in enumerate(family.candidate_settings())
+    }
+    first = next(iter(candidates.values()))
+    shared = {
+        month: (first.around(fit, inputs.window(end=months[month])), spent)
+        for month, (fit, spent) in fits.items()
+        if month in months
+    }
+    around = {
+        key: {
+            month: (fit.reweighted(candidate.weight), spent)
+            for month, (fit, spent) in shared.items()
+        }
+        for key, candidate in candidates.items()
+    }
+    result = run_backtest(
+        candidates, inputs, origins=TUNING_ORIGINS, horizons=(1,), weather_history=weather,
+        fitted=around,
+    )  # fmt: skip
+    condition = _ranked_condition(result, rank_on)
+    scored = [
+        (card.month_total_mape, card.cv_rmse, key)
+        for key in candidates
+        if (card := result.scorecard(key, condition)) is not None
+        and result.model_failures(key, condition).empty
+    ]
+    best = min(scored)[2] if scored else "0"
+    return {
+        "calendar_regression": (regression, fits),
+        model.family: (candidates[best], around[best]),
+    }
 
 
 def _carried_words(models: dict[str, EnergyModel]) -> str:

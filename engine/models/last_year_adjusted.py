@@ -17,6 +17,7 @@ load baselines, since the week shapes use more than the date does.
 
 from __future__ import annotations
 
+import copy
 from collections.abc import Sequence
 from typing import Any
 
@@ -95,9 +96,22 @@ class LastYearAdjustedModel(ModelFamily):
             if isinstance(regression, Exception):
                 fitted.append(regression)
                 continue
-            model = LastYearAdjustedModel(**self.settings())
-            fitted.append(model._take(regression, inputs.window(end=cut)))
+            fitted.append(self.around(regression, inputs.window(end=cut)))
         return fitted
+
+    def around(
+        self, regression: CalendarRegressionModel, inputs: ModelInputs
+    ) -> LastYearAdjustedModel:
+        """A fitted copy of this model from a regression already fitted on ``inputs`` with its
+        ``regression`` settings (the fit wizard shares the calendar regression's fits so)."""
+        return LastYearAdjustedModel(**self.settings())._take(regression, inputs)
+
+    def reweighted(self, weight: float) -> LastYearAdjustedModel:
+        """This fitted model carrying another share of last year (the fit does not depend on
+        the share, so candidates of every weight share one fit)."""
+        model = copy.copy(self)
+        model.weight = weight
+        return model
 
     def _take(self, regression: CalendarRegressionModel, inputs: ModelInputs) -> Any:
         recent = inputs.window(start=inputs.index[-1] - LAG)
