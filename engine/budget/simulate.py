@@ -3,7 +3,8 @@
 Each path is a possible future of every meter at once:
 
     energy = model prediction under the path's weather scenario
-             + model errors of the path's resampled past days (same days for every meter)
+             + model errors of the path's resampled past days (same days for every meter,
+               less their mean share of the forecast: they give the spread, not the centre)
 
 times the meter's level correction (:mod:`engine.budget.level`, where its backtest supports
 one), floored at the lowest reading the meter ever had (zero for meters that never exported), with
@@ -32,7 +33,7 @@ import numpy as np
 import pandas as pd
 
 from engine.bootstrap import stationary_indices
-from engine.budget.level import LevelCorrection, level_correction
+from engine.budget.level import LevelCorrection, centred, level_correction
 from engine.budget.meter_grid import (
     MeterGrid,
     check_predictions,
@@ -302,8 +303,9 @@ def simulate_paths(
         Days before the cut whose model errors are resampled.
     rng : numpy.random.Generator or int, optional
     correct_level : bool, default True
-        Correct each meter's forecast for its recent level error where its backtest
-        supports it (:mod:`engine.budget.level`); False leaves every forecast as modelled.
+        Centre each meter's budget where its backtest supports it (its recent level error
+        or its error window's mean error, :mod:`engine.budget.level`); False centres every
+        budget on the model's forecast. The drawn errors are centred either way.
     progress : Progress, optional
         Stepped per meter while preparing and per meter × block of paths.
 
@@ -324,6 +326,7 @@ def simulate_paths(
     for number, plan in enumerate(meters):
         step(progress, 0.2 * number / len(meters), f"Budget: forecasting {plan.name}")
         errors, forecasts, source = model_errors(plan, cut, error_days)
+        errors = centred(errors, forecasts)  # the spread; the centre is the level's to set
         level = _level(plan, cut, error_days, correct_level)
         prepared.append(
             _prepare(plan, window, scenarios, day, cut, paths, errors, forecasts, source, level)

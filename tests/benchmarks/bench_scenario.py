@@ -38,7 +38,17 @@ import numpy as np
 import pandas as pd
 
 HERE = Path(__file__).resolve().parents[2]
-sys.path.insert(0, str(HERE))
+
+
+def checkout(argv: list[str]) -> Path:
+    """The checkout whose engine is measured: ``--root DIR``, else this one. Read here, before
+    any import, because worker processes import this module again with the same arguments."""
+    given = argv[argv.index("--root") + 1] if "--root" in argv[:-1] else None
+    return Path(given).resolve() if given else HERE
+
+
+ROOT = checkout(sys.argv)
+sys.path[:0] = [str(ROOT)] if ROOT == HERE else [str(ROOT), str(HERE)]
 
 from sample import scenario  # noqa: E402
 from sample.ar1 import lognormal_multiplier  # noqa: E402
@@ -125,7 +135,6 @@ def draw_error(drawn: pd.Series, energy: pd.Series, months: list[str]) -> float:
 
 def budget(root: Path) -> tuple[pd.DataFrame, dict[str, str], dict[str, str], float]:
     """The past month-ahead budgets of the sample, given the weather that happened."""
-    sys.path.insert(0, str(root))
     from engine.budget import budget_months
     from engine.budgeting import BudgetRequest, budget_project
     from engine.project import Project
@@ -148,14 +157,15 @@ def budget(root: Path) -> tuple[pd.DataFrame, dict[str, str], dict[str, str], fl
             seconds = time.perf_counter() - started
     run = made.run
     levels = run.assumptions.get("level_correction", {})
-    used = {name: str(levels.get(name, "")).split(":")[0] or "n/a" for name in levels}
+    used = {name: str(words).split(":")[0].split(",")[0] for name, words in levels.items()}
     return made.past_budgets, run.assumptions.get("models", {}), used, seconds
 
 
 def main() -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--root", type=Path, default=HERE, help="the checkout to measure")
-    root = parser.parse_args().root.resolve()
+    parser.parse_args()  # read before the imports: see checkout()
+    root = ROOT
     pairs, models, levels, seconds = budget(root)
     campus = simulate_campus()
     truth, drawn = noise_free(campus), realised(campus)
