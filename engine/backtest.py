@@ -595,7 +595,8 @@ def _plan(
 class Race:
     """Stop models that can no longer be recommended, instead of running every origin.
 
-    The wizard recommends a model by its month-total MAPE under ``condition`` and prefers an
+    The wizard recommends a model by its month-total MAPE under the ranking condition
+    (``condition`` when the run has it, else :func:`ranking_condition`) and prefers an
     explainable one unless another beats it by more than ``margin`` points. A model named in
     ``families`` therefore runs after the others, origin by origin, and stops as soon as the
     sum of its absolute month-total errors so far, divided by the number of origins, is at
@@ -606,6 +607,7 @@ class Race:
 
     families: frozenset[str]
     margin: float
+    condition: str | None = None
 
     def takes(self, model: EnergyModel) -> bool:
         return model.family in self.families
@@ -613,7 +615,7 @@ class Race:
     def bar(self, out: _Collector, plan: _Plan, others: list[str], origins: int) -> float:
         """The month-total MAPE a racer must stay below: the best complete explainable
         model's, less the margin (minus infinity, so nothing stops, when none completed)."""
-        condition = ranking_condition(plan)
+        condition = ranking_condition(plan, self.condition)
         best = math.inf
         for name in others:
             misses = out.lead_one_misses(name, condition)
@@ -623,8 +625,11 @@ class Race:
         return best - self.margin
 
 
-def ranking_condition(plan: _Plan) -> str:
-    """The condition month totals are ranked on: typical weather, else none."""
+def ranking_condition(plan: _Plan, preferred: str | None = None) -> str:
+    """The condition month totals are ranked on: ``preferred`` when the run has it, else
+    typical weather, else none."""
+    if preferred in plan.conditions:
+        return preferred
     return TYPICAL_WEATHER if TYPICAL_WEATHER in plan.conditions else NO_WEATHER
 
 
@@ -633,12 +638,11 @@ def _run_racer(
     name: str,
     prototype: EnergyModel,
     out: _Collector,
-    plan: _Plan,
     bar: float,
+    condition: str,
     progress: Progress | None,
 ) -> None:
     """Run one racing model origin by origin until it can no longer be recommended."""
-    condition = ranking_condition(plan)
     for number, window in enumerate(windows):
         step(progress, number / len(windows), f"Backtest from {window.name}: {prototype.label}")
         _run_one(window, name, prototype, out)
@@ -745,7 +749,8 @@ def run_backtest(
         for number, name in enumerate(racers):
             done = (len(named) - len(racers) + number) / len(named)
             part = progress.part(done, done + 1 / len(named)) if progress is not None else None
-            _run_racer(windows, name, named[name], out, plan, bar, part)
+            condition = ranking_condition(plan, race.condition)
+            _run_racer(windows, name, named[name], out, bar, condition, part)
     step(progress, 1.0, "Backtest finished")
     return _assemble(plan, named, starts, origins, out)
 

@@ -19,7 +19,7 @@ from engine.errors import InputError
 from engine.models import MODEL_FAMILIES
 from engine.ready_meters import ReadyMeter
 from engine.selection import EXPLAINABLE_MARGIN
-from engine.wizard import RACED_FAMILIES
+from engine.wizard import RACED_FAMILIES, TRADE_BASELINE
 from engine.words import counted
 
 #: Cleaning step kinds that keep readings out of the models' fits.
@@ -204,7 +204,15 @@ def family_notes(
     for name in names:
         family = MODEL_FAMILIES[name]
         how = family().how_it_forecasts()
-        if family.explainable:
+        if name == TRADE_BASELINE:
+            why = (
+                "Explainable, and the trade's own baseline: what a finance office budgets "
+                "without the tool (the same month last year), with the weather and calendar "
+                "taken out. It can be recommended when the backtest supports it; the share of "
+                "last year it carries (all, or half beside the regression) is chosen by month "
+                "totals."
+            )
+        elif family.explainable:
             why = (
                 "Explainable: it can be recommended, and its effects are stated in physical units."
             )

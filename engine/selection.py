@@ -5,7 +5,11 @@ Rules, stated so the wizard can show them:
 * **Ranking.** Models are ranked by their month-total MAPE in the typical-weather backtest
   (the one-month-ahead forecasts of every origin pooled: the error a budget made at each
   month start would have had), rounded to 0.1 percentage point, then by their per-interval
-  CV(RMSE) in the same backtest. Without temperatures the no-weather backtest is used. A
+  CV(RMSE) in the same backtest. Without temperatures the no-weather backtest is used. When
+  the question is "what would this weather do" (a budget on a given weather file), the
+  actual-weather backtest is the one that answers it, so the ranking uses that instead: a
+  weather-blind benchmark that beats the weather models only because typical weather was
+  wrong is then not chosen for a meter that responds to weather. A
   model that failed at any origin ranks after every model that completed all of them.
 * **Explainable first.** When the best model is a less explainable one (a benchmark or the
   flexible challenger) and the best explainable model's month-total MAPE is within
@@ -89,8 +93,13 @@ def _resolution_word(interval: pd.Timedelta) -> str:
     return "per-interval"
 
 
-def _ranking_condition(result: BacktestResult) -> tuple[str, list[str]]:
-    """The condition to rank on, with a warning when typical weather had to be skipped."""
+def _ranking_condition(
+    result: BacktestResult, preferred: str | None = None
+) -> tuple[str, list[str]]:
+    """The condition to rank on (``preferred`` when the backtest scored it), with a warning
+    when typical weather had to be skipped."""
+    if preferred is not None and any(card.condition == preferred for card in result.scorecards):
+        return preferred, []
     if TYPICAL_WEATHER not in result.conditions:
         return NO_WEATHER, []
     conditions = {card.condition for card in result.scorecards}
@@ -284,6 +293,7 @@ def recommend_model(
     labels: pd.DataFrame | None = None,
     margin_points: float = EXPLAINABLE_MARGIN,
     min_miss_percent: float = 3.0,
+    condition: str | None = None,
 ) -> ModelChoice:
     """Rank the backtested models, choose one, and explain the choice (see module notes).
 
@@ -297,10 +307,20 @@ def recommend_model(
         Month-total MAPE points within which an explainable model is preferred.
     min_miss_percent : float, default 3.0
         Smallest systematic miss the diagnostics report.
+    condition : str, optional
+        The weather condition to rank on when the backtest scored it (``"actual weather"``
+        for a budget on given weather); by default typical weather, else none.
     """
-    condition, warnings = _ranking_condition(result)
+    asked = condition
+    condition, warnings = _ranking_condition(result, asked)
     ranking = _ranking_table(result, condition)
     chosen, reasons = _pick(ranking, margin_points, condition)
+    if asked is not None and condition == asked == ACTUAL_WEATHER:
+        reasons.append(
+            "Models are ranked under the weather that actually happened, because the budget "
+            "is asked for a given weather: the question is how well each model turns known "
+            "temperatures into energy, not how well it guesses the weather."
+        )
     adequacy_reasons, adequacy_warnings = _adequacy_notes(result, chosen)
     reasons += adequacy_reasons
     warnings += adequacy_warnings + _history_warnings(result) + _typical_weather_warning(result)

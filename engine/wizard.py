@@ -20,6 +20,7 @@ from threadpoolctl import threadpool_limits
 from engine.backtest import (
     ACTUAL_WEATHER,
     NO_WEATHER,
+    TYPICAL_WEATHER,
     BacktestResult,
     Fitted,
     Race,
@@ -36,18 +37,31 @@ from engine.weather import TypicalYears
 
 #: Families the wizard tries unless told otherwise. The billing-period model needs bills and
 #: the gradient-boosting challenger is less explainable and slower: both on request only.
+#: "Same day last year, weather-adjusted" is the trade's own baseline (what finance would
+#: budget without the tool), so it is always a candidate.
+TRADE_BASELINE = "last_year_adjusted"
 DEFAULT_FAMILIES: tuple[str, ...] = (
     "calendar_regression",
     "time_of_week_temperature",
     "daily_change_point",
+    TRADE_BASELINE,
     "seasonal_naive",
     "daily_ets",
     "monthly_sarima",
     "mstl_ets",
 )
-#: Families whose orders (Fourier orders, temperature knots) the wizard chooses by backtest.
-TUNED_FAMILIES: tuple[str, ...] = ("calendar_regression", "time_of_week_temperature")
-#: Origins of the short backtest that chooses those orders (one-month-ahead, actual weather).
+#: Families whose settings the wizard chooses by backtest: orders (Fourier orders,
+#: temperature knots) by hourly CV(RMSE) under the actual weather, and the share of last
+#: year carried by "same day last year" by month totals (see :func:`tuned`).
+TUNED_FAMILIES: tuple[str, ...] = (
+    "calendar_regression",
+    "time_of_week_temperature",
+    TRADE_BASELINE,
+)
+#: Tuned families whose candidates differ in level rather than shape: compared on month
+#: totals in the condition the wizard ranks on.
+_TUNED_ON_MONTH_TOTALS = frozenset({TRADE_BASELINE})
+#: Origins of the short backtest that chooses those settings (one-month-ahead).
 TUNING_ORIGINS = 3
 #: Slow, less explainable families that stop at the backtest origin from which they could no
 #: longer be recommended (:class:`engine.backtest.Race`).
@@ -100,18 +114,29 @@ def compare_models(
     families: Sequence[str] | None = None,
     origins: int = DEFAULT_ORIGINS,
     keep_fitted: bool = False,
+    rank_on: str | None = None,
     progress: Progress | None = None,
 ) -> ModelComparison:
     """Tune the families' orders, backtest them on ``inputs`` and recommend one (the tuned
     families' fits at the tuning origins serve the backtest too).
 
     With ``keep_fitted`` the backtest keeps each model fitted at each origin
-    (:attr:`BacktestResult.fitted`), for refits that reuse them.
+    (:attr:`BacktestResult.fitted`), for refits that reuse them. ``rank_on`` names the
+    weather condition the models are ranked on (:data:`ACTUAL_WEATHER` for a budget on a
+    given weather); by default typical weather, else none (:mod:`engine.selection`).
     """
     step(progress, 0.0, "choosing the models' orders")
     if isinstance(weather, pd.Series):  # one set of typical years for both backtests
         weather = TypicalYears(weather, inputs.timezone)
-    tunings = {m.family: _tune(m, inputs, weather) for m in families_for(inputs, families)}
+    wanted = families_for(inputs, families)
+    tunings: dict[str, tuple[EnergyModel, dict[str, Fitted]]] = {}
+    for model in wanted:
+        if model.family != TRADE_BASELINE:
+            tunings[model.family] = _tune(model, inputs, weather, rank_on)
+    for model in wanted:
+        if model.family == TRADE_BASELINE:
+            tunings |= _tune_baseline(model, tunings, inputs, weather, rank_on, origins)
+    tunings = {model.family: tunings[model.family] for model in wanted}
     models = {family: model for family, (model, _) in tunings.items()}
     part = progress.part(0.1, 1.0) if progress is not None else None
     backtest = run_backtest(
@@ -120,11 +145,94 @@ def compare_models(
         origins=origins,
         weather_history=weather,
         keep_fitted=keep_fitted,
-        race=Race(RACED_FAMILIES, EXPLAINABLE_MARGIN),
+        race=Race(RACED_FAMILIES, EXPLAINABLE_MARGIN, rank_on),
         fitted={family: fitted for family, (_, fitted) in tunings.items()},
         progress=part,
     )
-    return ModelComparison(backtest, recommend_model(backtest, labels=inputs.labels), models)
+    choice = recommend_model(backtest, labels=inputs.labels, condition=rank_on)
+    if choice.chosen == TRADE_BASELINE:
+        choice = replace(choice, reasons=(*choice.reasons, _carried_words(models)))
+    return ModelComparison(backtest, choice, models)
+
+
+def _tune_baseline(
+    model: EnergyModel,
+    tunings: dict[str, tuple[EnergyModel, dict[str, Fitted]]],
+    inputs: ModelInputs,
+    weather: TypicalYears | None,
+    rank_on: str | None,
+    origins: int,
+) -> dict[str, tuple[EnergyModel, dict[str, Fitted]]]:
+    """ "Same day last year" tuned (:func:`tuned`) around the calendar regression the wizard
+    tuned, so that its combination is with that model: the regression is fitted once per
+    origin, and those fits serve the regression's own backtest and every share of last year
+    (each fitted around them). Without a tuned regression, it is tuned on its own."""
+    if "calendar_regression" not in tunings:
+        return {model.family: _tune(model, inputs, weather, rank_on)}
+    regression, known = tunings["calendar_regression"]
+    starts = backtest_origins(inputs.index, inputs.timezone, origins, inputs.interval)
+    months = {f"{start.tz_convert(inputs.timezone):%Y-%m}": start for start in starts}
+    missing = {month: start for month, start in months.items() if month not in known}
+    started = time.perf_counter()
+    made = fresh(regression).fit_before_each(inputs, list(missing.values()))
+    seconds = (time.perf_counter() - started) / max(len(missing), 1)
+    fits = dict(known) | {
+        month: (fit, seconds)
+        for month, fit in zip(missing, made, strict=True)
+        if not isinstance(fit, Exception)
+    }
+    settings = {**model.settings(), "regression": regression.settings()}
+    family = type(model)
+    candidates = {
+        str(number): family(**{**settings, **extra})
+        for number, extra in enumerate(family.candidate_settings())
+    }
+    first = next(iter(candidates.values()))
+    shared = {
+        month: (first.around(fit, inputs.window(end=months[month])), spent)
+        for month, (fit, spent) in fits.items()
+        if month in months
+    }
+    around = {
+        key: {
+            month: (fit.reweighted(candidate.weight), spent)
+            for month, (fit, spent) in shared.items()
+        }
+        for key, candidate in candidates.items()
+    }
+    result = run_backtest(
+        candidates, inputs, origins=TUNING_ORIGINS, horizons=(1,), weather_history=weather,
+        fitted=around,
+    )  # fmt: skip
+    condition = _ranked_condition(result, rank_on)
+    scored = [
+        (card.month_total_mape, card.cv_rmse, key)
+        for key in candidates
+        if (card := result.scorecard(key, condition)) is not None
+        and result.model_failures(key, condition).empty
+    ]
+    best = min(scored)[2] if scored else "0"
+    return {
+        "calendar_regression": (regression, fits),
+        model.family: (candidates[best], around[best]),
+    }
+
+
+def _carried_words(models: dict[str, EnergyModel]) -> str:
+    """Why "same day last year" carries the share of last year it carries."""
+    model = models[TRADE_BASELINE]
+    weight = float(model.settings()["weight"])
+    what = (
+        "all of last year's departure from the regression (the trade's baseline: last year's "
+        "actual adjusted for weather and calendar)"
+        if weight == 1.0
+        else f"{weight:.0%} of last year's departure from the regression (a combination of the "
+        "trade's baseline with the regression alone)"
+    )
+    return (
+        f"{model.label.capitalize()} carries {what}: of the shares tried, its month totals "
+        f"were nearest the actual in the last {TUNING_ORIGINS} months' backtest."
+    )
 
 
 def tuned(
@@ -134,13 +242,20 @@ def tuned(
 
     Only :data:`TUNED_FAMILIES` are tuned: the orders of their terms are chosen by how well
     each candidate forecast the last :data:`TUNING_ORIGINS` months with their actual weather
-    (hourly CV(RMSE)), not by hand. Other families come back as they are.
+    (hourly CV(RMSE)), not by hand; the share of last year "same day last year" carries (all
+    of it, or the even combination with the regression) by how near the candidates' month
+    totals came to the actual under the weather the wizard ranks on (typical weather when it
+    can be learned), since that share moves the level, not the shape. Other families come
+    back as they are.
     """
     return _tune(model, inputs, weather)[0]
 
 
 def _tune(
-    model: EnergyModel, inputs: ModelInputs, weather: pd.Series | TypicalYears | None
+    model: EnergyModel,
+    inputs: ModelInputs,
+    weather: pd.Series | TypicalYears | None,
+    rank_on: str | None = None,
 ) -> tuple[EnergyModel, dict[str, Fitted]]:
     """:func:`tuned`, with the chosen candidate's fits at the tuning origins (origin →
     model and fit seconds) for the main backtest to reuse."""
@@ -149,7 +264,7 @@ def _tune(
     family = type(model)
     candidates: dict[str, EnergyModel] = {}
     for number, settings in enumerate([{}, *family.candidate_settings()]):
-        candidate = family(**settings)
+        candidate = family(**{**model.settings(), **settings})
         if all(candidate.settings() != kept.settings() for kept in candidates.values()):
             candidates[str(number)] = candidate  # the defaults are often a candidate too
     result = run_backtest(
@@ -161,8 +276,11 @@ def _tune(
         keep_fitted=True,
     )
     condition = ACTUAL_WEATHER if inputs.temperature is not None else NO_WEATHER
+    on_totals = model.family in _TUNED_ON_MONTH_TOTALS
+    if on_totals:
+        condition = _ranked_condition(result, rank_on)
     scored = [
-        (card.cv_rmse, key)
+        ((card.month_total_mape, card.cv_rmse) if on_totals else (card.cv_rmse,), key)
         for key in candidates
         if (card := result.scorecard(key, condition)) is not None
         and result.model_failures(key, condition).empty
@@ -175,6 +293,16 @@ def _tune(
     return candidates[best], fitted
 
 
+def _ranked_condition(result: BacktestResult, rank_on: str | None) -> str:
+    """The condition of a tuning backtest the main ranking would use: ``rank_on``, else
+    typical weather where scored, else the actual weather (or none)."""
+    scored = {card.condition for card in result.scorecards}
+    for condition in (rank_on, TYPICAL_WEATHER, ACTUAL_WEATHER, NO_WEATHER):
+        if condition in scored:
+            return condition
+    return NO_WEATHER
+
+
 @dataclass(frozen=True)
 class MeterJob:
     """One meter's modelling asked of :func:`model_meter`.
@@ -184,6 +312,7 @@ class MeterJob:
     ``origins`` monthly origins, with ``weather`` (the site's hourly °C, with the typical
     years learned before each origin, :func:`learn_typical_years`) for its typical weather.
     ``refit_months`` > 0 also refits the model before each of that many last months.
+    ``rank_on`` is the weather condition the wizard ranks on (see :func:`compare_models`).
     """
 
     name: str
@@ -193,6 +322,7 @@ class MeterJob:
     families: tuple[str, ...] | None = None
     origins: int = DEFAULT_ORIGINS
     refit_months: int = 0
+    rank_on: str | None = None
 
     @property
     def size(self) -> int:
@@ -265,6 +395,7 @@ def _choose(
         families=job.families,
         origins=job.origins,
         keep_fitted=job.refit_months > 0,
+        rank_on=job.rank_on,
         progress=progress,
     )
     if compared.choice.chosen is None:

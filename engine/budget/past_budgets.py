@@ -140,6 +140,7 @@ def backtest_budget(
     block_days: float | None = None,
     error_days: int = 730,
     rng: np.random.Generator | int | None = None,
+    correct_level: bool = True,
     progress: Progress | None = None,
 ) -> BudgetBacktest:
     """Month-ahead budgets from rolling origins, beside the actual month totals.
@@ -153,7 +154,7 @@ def backtest_budget(
         Every meter's whole history, for the actual month totals.
     origins : int or sequence of str, default 36
         How many of the last whole months to budget, or the ``"YYYY-MM"`` months themselves.
-    weather, levels, paths, block_days, error_days, rng
+    weather, levels, paths, block_days, error_days, rng, correct_level
         As in :func:`engine.budget.simulate_budget` (without calibration: this is what
         measures it).
     progress : Progress, optional
@@ -185,6 +186,7 @@ def backtest_budget(
                 block_days=block_days,
                 error_days=error_days,
                 rng=generator,
+                correct_level=correct_level,
                 progress=None
                 if progress is None
                 else progress.part(number / len(months), (number + 1) / len(months)),

@@ -3,9 +3,11 @@
 Each path is a possible future of every meter at once:
 
     energy = model prediction under the path's weather scenario
-             + model errors of the path's resampled past days (same days for every meter)
+             + model errors of the path's resampled past days (same days for every meter,
+               less their mean share of the forecast: they give the spread, not the centre)
 
-floored at the lowest reading the meter ever had (zero for meters that never exported), with
+times the meter's level correction (:mod:`engine.budget.level`, where its backtest supports
+one), floored at the lowest reading the meter ever had (zero for meters that never exported), with
 the metered energy before the as-of cut put in its place. Paths are made a block at a time and
 meter by meter, and of each only its daily totals, monthly totals and monthly cost are kept,
 so memory stays at a block of one meter's hourly paths whatever the number of meters.
@@ -31,6 +33,7 @@ import numpy as np
 import pandas as pd
 
 from engine.bootstrap import stationary_indices
+from engine.budget.level import LevelCorrection, centred, level_correction
 from engine.budget.meter_grid import (
     MeterGrid,
     check_predictions,
@@ -67,7 +70,8 @@ class MeterPaths:
     ``actual_to_date`` the metered kWh before the cut in each month (part of every path);
     ``day_floor`` the least kWh each day can hold (the path floor times the day's intervals),
     which a calibration's widening respects; ``error_growth`` the power of the forecast level
-    the drawn errors were scaled with (:func:`engine.budget.residuals.level_elasticity`).
+    the drawn errors were scaled with (:func:`engine.budget.residuals.level_elasticity`);
+    ``level`` the correction of the forecast's level (:mod:`engine.budget.level`).
     """
 
     plan: MeterPlan
@@ -78,6 +82,7 @@ class MeterPaths:
     errors_source: str
     day_floor: np.ndarray | None = None
     error_growth: float = 0.0
+    level: LevelCorrection | None = None
 
 
 @dataclass
@@ -181,20 +186,31 @@ def _forecasts(
     return np.vstack([first, predictions(plan, grid, window, rest)])
 
 
+def _level(plan: MeterPlan, cut: pd.Timestamp, error_days: int, wanted: bool) -> LevelCorrection:
+    """The meter's level correction from its out-of-sample errors (none unless ``wanted``)."""
+    if not wanted:
+        return LevelCorrection.not_used("not asked for")
+    return level_correction(plan.residuals, plan.history.energy, plan.timezone, cut, error_days)
+
+
 def _prepare(
     plan: MeterPlan,
     window: BudgetWindow,
     weather: WeatherScenarios,
+    as_of: date,
     cut: pd.Timestamp,
     paths: int,
     errors: pd.Series,
     forecasts: pd.Series,
     source: str,
+    level: LevelCorrection,
 ) -> _Meter:
     grid = MeterGrid.on(window, simulation_step(plan))
     known = known_actuals(plan, grid, cut)
     predicted = _forecasts(plan, grid, window, weather)
     check_predictions(plan, grid, predicted, known)
+    if level.used:
+        predicted = predicted * level.day_factors(window, as_of)[grid.day]
     known_at = np.flatnonzero(np.isfinite(known))
     before = plan.history.energy[plan.history.energy.index < cut]
     lowest = float(np.nanmin(before.to_numpy(dtype=np.float64), initial=0.0))
@@ -216,6 +232,7 @@ def _prepare(
     day_forecasts = day_forecasts.sum(axis=1, min_count=1)
     elasticity = level_elasticity(table.sum(axis=1).to_numpy(), day_forecasts.to_numpy())
     out.error_growth = elasticity
+    out.level = level
     day_predicted = np.add.reduceat(predicted, grid.day_starts, axis=1)
     return _Meter(plan, grid, predicted, known_at, known[known_at], lowest, table,
                   day_forecasts, elasticity, day_predicted, out)  # fmt: skip
@@ -263,6 +280,7 @@ def simulate_paths(
     block_days: float | None = None,
     error_days: int = 730,
     rng: np.random.Generator | int | None = None,
+    correct_level: bool = True,
     progress: Progress | None = None,
 ) -> PathTotals:
     """Simulate the budget months of every meter together; keep per-path totals only.
@@ -284,6 +302,10 @@ def simulate_paths(
     error_days : int, default 730
         Days before the cut whose model errors are resampled.
     rng : numpy.random.Generator or int, optional
+    correct_level : bool, default True
+        Centre each meter's budget where its backtest supports it (its recent level error
+        or its error window's mean error, :mod:`engine.budget.level`); False centres every
+        budget on the model's forecast. The drawn errors are centred either way.
     progress : Progress, optional
         Stepped per meter while preparing and per meter × block of paths.
 
@@ -304,7 +326,11 @@ def simulate_paths(
     for number, plan in enumerate(meters):
         step(progress, 0.2 * number / len(meters), f"Budget: forecasting {plan.name}")
         errors, forecasts, source = model_errors(plan, cut, error_days)
-        prepared.append(_prepare(plan, window, scenarios, cut, paths, errors, forecasts, source))
+        errors = centred(errors, forecasts)  # the spread; the centre is the level's to set
+        level = _level(plan, cut, error_days, correct_level)
+        prepared.append(
+            _prepare(plan, window, scenarios, day, cut, paths, errors, forecasts, source, level)
+        )
     pool = shared_pool({meter.plan.name: meter.table for meter in prepared})
     for meter in prepared:
         meter.use_pool(pool)

@@ -205,6 +205,13 @@ def _currency(meters: list[MeterPaths]) -> str | None:
     return currencies[0] if currencies else None
 
 
+def _level_corrections(totals: PathTotals) -> dict[str, dict[str, str]]:
+    """Per meter whether its forecast's level was corrected and by how much (none for bill
+    accounts, which have no interval errors)."""
+    said = {m.plan.name: m.level.sentence() for m in totals.meters if m.level is not None}
+    return {"level_correction": said} if said else {}
+
+
 def _assumptions(totals: PathTotals, calibration: Mapping[str, Calibration]) -> dict[str, object]:
     return {
         "as_of": totals.as_of.isoformat(),
@@ -229,6 +236,7 @@ def _assumptions(totals: PathTotals, calibration: Mapping[str, Calibration]) -> 
             f"2004, unless set), from {totals.pool_days} days that every meter shares; "
             "the same days and the same weather for every meter of a path"
         ),
+        **_level_corrections(totals),
         "parameter_uncertainty": PARAMETER_NOTE,
         "calibration": {
             name: calibration[name].sentence() if name in calibration else "not checked"

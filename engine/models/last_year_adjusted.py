@@ -17,6 +17,7 @@ load baselines, since the week shapes use more than the date does.
 
 from __future__ import annotations
 
+import copy
 from collections.abc import Sequence
 from typing import Any
 
@@ -40,6 +41,10 @@ class LastYearAdjustedModel(ModelFamily):
     weight : float, default 1.0
         Share of last year's departure carried (1: last year adjusted for weather and
         calendar; 0.5: the even combination with the regression alone).
+    regression : dict, optional
+        Settings of the calendar regression it adjusts with (default: its defaults); the fit
+        wizard gives it the orders it chose for the calendar regression, so the combination
+        is with that model.
 
     Attributes
     ----------
@@ -60,11 +65,17 @@ class LastYearAdjustedModel(ModelFamily):
     def how_it_forecasts(self) -> str:
         return (
             "takes the same weekday 52 weeks earlier and adjusts it by the calendar regression "
-            "for the difference in weather and calendar between the two days"
+            "for the difference in weather and calendar between the two days (the trade's own "
+            "baseline, last year's actual, with the weather and calendar taken out); the fit "
+            "wizard also tries the even combination of that with the regression alone"
         )
 
-    def __init__(self, weight: float = 1.0) -> None:
+    def __init__(self, weight: float = 1.0, regression: dict[str, Any] | None = None) -> None:
         self.weight = weight
+        self.regression = regression
+
+    def _regression(self) -> CalendarRegressionModel:
+        return CalendarRegressionModel(**(self.regression or {}))
 
     @classmethod
     def candidate_settings(cls) -> list[dict[str, Any]]:
@@ -72,7 +83,7 @@ class LastYearAdjustedModel(ModelFamily):
 
     def fit(self, inputs: ModelInputs) -> LastYearAdjustedModel:
         """Fit the regression and keep last year's daily departures from it."""
-        return self._take(CalendarRegressionModel().fit(inputs), inputs)
+        return self._take(self._regression().fit(inputs), inputs)
 
     def fit_before_each(
         self, inputs: ModelInputs, cuts: Sequence[pd.Timestamp]
@@ -80,14 +91,27 @@ class LastYearAdjustedModel(ModelFamily):
         """The regression's shared refits (:meth:`CalendarRegressionModel.fit_before_each`),
         each with the departures of its own window."""
         fitted: list[LastYearAdjustedModel | Exception] = []
-        regressions = CalendarRegressionModel().fit_before_each(inputs, cuts)
+        regressions = self._regression().fit_before_each(inputs, cuts)
         for cut, regression in zip(cuts, regressions, strict=True):
             if isinstance(regression, Exception):
                 fitted.append(regression)
                 continue
-            model = LastYearAdjustedModel(**self.settings())
-            fitted.append(model._take(regression, inputs.window(end=cut)))
+            fitted.append(self.around(regression, inputs.window(end=cut)))
         return fitted
+
+    def around(
+        self, regression: CalendarRegressionModel, inputs: ModelInputs
+    ) -> LastYearAdjustedModel:
+        """A fitted copy of this model from a regression already fitted on ``inputs`` with its
+        ``regression`` settings (the fit wizard shares the calendar regression's fits so)."""
+        return LastYearAdjustedModel(**self.settings())._take(regression, inputs)
+
+    def reweighted(self, weight: float) -> LastYearAdjustedModel:
+        """This fitted model carrying another share of last year (the fit does not depend on
+        the share, so candidates of every weight share one fit)."""
+        model = copy.copy(self)
+        model.weight = weight
+        return model
 
     def _take(self, regression: CalendarRegressionModel, inputs: ModelInputs) -> Any:
         recent = inputs.window(start=inputs.index[-1] - LAG)

@@ -15,6 +15,7 @@ import pandas as pd
 from engine.accounts.budget import Accounts, account_totals, calibrations, describe, plan_accounts
 from engine.accounts.paths import bill_only_totals
 from engine.accounts.plan import AccountPlan
+from engine.backtest import ACTUAL_WEATHER
 from engine.budget import (
     BudgetRun,
     MeterPlan,
@@ -334,6 +335,11 @@ def budget_project(
                 "budgets, each from the model and errors known before its month",
             }
         )
+        if _rank_on(request) is not None:
+            run.assumptions["model ranking"] = (
+                "models the fit wizard chose here were ranked on their backtest under the "
+                "weather that actually happened, as the budget is asked for a given weather"
+            )
     own_price = set(own) & {plan.name for plan in plans if plan.rate is not None}
     describe(run, accounts, own_price)
     if no_weather:
@@ -410,22 +416,32 @@ def _meter_models(
 
     A meter uses its stored model choice unless the budget drops the weather it was made with;
     otherwise the fit wizard chooses on the readings before the cut, and its choice is stored
-    when no reading comes after the cut (same inputs as a fit of the whole history).
+    when no reading comes after the cut (same inputs as a fit of the whole history). A budget
+    on a given weather ranks on the backtest under the weather that happened: a stored choice
+    the wizard ranked otherwise is ranked again among the same families, and a choice made
+    there is not stored as the meter's model.
     """
     refit_months = request.calibration_origins + ERROR_MONTHS
     modelled: dict[str, MeterModels] = {}
     scorecards: dict[str, dict] = {}
     jobs, keys = [], {}
     weather = None if no_weather or hourly is None else TypicalYears(hourly, site.timezone)
+    rank_on = _rank_on(request)
     for name in histories:
         stored = project.last_result("model", name) if not no_weather else None
         choice = stored["body"] if stored else None
+        families = None
+        if choice and not _answers(choice, rank_on):  # rank the families it compared again
+            families = tuple(row["model"] for row in choice["choice"]["ranking"]) or None
+            choice = None
         job = MeterJob(
             name,
             histories[name],
             weather,
             _unfitted(choice) if choice else None,
+            families=families,
             refit_months=refit_months,
+            rank_on=rank_on,
         )
         keys[name] = job_key(job)
         found = kept(project, job, keys[name])
@@ -450,7 +466,7 @@ def _meter_models(
                 continue
             if made.comparison is None:
                 keep(project, made, keys[job.name], scorecards[job.name])
-            elif site.meter(job.name).inputs.index[-1] < cut:
+            elif site.meter(job.name).inputs.index[-1] < cut and rank_on is None:
                 keep_fit(project, made, job.history)
                 scorecards[job.name] = keep_for_next_budget(project, made, job)
             else:
@@ -460,6 +476,21 @@ def _meter_models(
     if failures and not modelled:
         raise failures[0].error()
     return modelled, scorecards, failures
+
+
+def _rank_on(request: BudgetRequest) -> str | None:
+    """The backtest condition the fit wizard ranks on for this budget: the weather that
+    happened when the budget is asked for a given weather (the question is then what that
+    weather does to the meters), else the wizard's own default."""
+    return ACTUAL_WEATHER if request.given_weather is not None else None
+
+
+def _answers(stored: dict, rank_on: str | None) -> bool:
+    """Whether a stored model choice answers this budget's question: always, unless the
+    budget ranks on another condition than the wizard did and no person chose by hand (the
+    wizard then ranks the families that choice compared again)."""
+    choice = stored.get("choice", {})
+    return rank_on is None or "recommendation" in choice or choice.get("condition") == rank_on
 
 
 def _unfitted(choice: dict) -> dict:

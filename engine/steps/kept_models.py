@@ -37,6 +37,7 @@ def job_key(job: MeterJob) -> str:
             "model": job.model,
             "families": list(job.families or ()) if wizard else None,
             "origins": job.origins if wizard else None,
+            "ranking": job.rank_on if wizard else None,
             "refit months": job.refit_months,
             "layout": LAYOUT,
             "engine": _engine_version(),

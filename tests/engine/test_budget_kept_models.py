@@ -153,3 +153,30 @@ def test_a_budget_after_fit_finds_the_refits_the_fit_kept(new_site, tmp_path):
         assert all(len(ids) == 1 for ids in kept.values())
         _budget(project)
     assert _kept_rows(path) == kept
+
+
+def _weather_file(project: Project, folder: Path) -> Path:
+    """The station's temperatures and a January 2026 (January 2025's again), as a file."""
+    (station,) = project.weather_stations()
+    temps = project.load_weather(station)
+    january = temps["2025-01-01":"2025-01-31 23:00"]
+    ahead = pd.Series(january.to_numpy(), index=january.index + pd.DateOffset(years=1))
+    both = pd.concat([temps, ahead])
+    path = folder / "weather-that-happened.csv"
+    path.write_text("Timestamp,Dry bulb (°C)\n" + "\n".join(
+        f"{t:%Y-%m-%d %H:%M},{v:.2f}" for t, v in both.tz_convert("UTC").items()))  # fmt: skip
+    return path
+
+
+def test_a_budget_on_given_weather_ranks_the_stored_choices_families_again(site, tmp_path):
+    # The stored choices were ranked on typical weather; a budget on a weather file asks
+    # what that weather does, so the wizard ranks the same families on the actual-weather
+    # backtest, keeps that work apart, and leaves the meters' stored choices as they were.
+    with Project.open(site) as project:
+        _budget(project)
+        before = _kept_rows(site)
+        stored = {name: len(project.results("model", name)) for name in METERS}
+        run = _budget(project, str(_weather_file(project, tmp_path)))
+        assert {name: len(project.results("model", name)) for name in METERS} == stored
+    assert _remodelled(before, _kept_rows(site)) == set(METERS)
+    assert "weather that actually happened" in run["assumptions"]["model ranking"]

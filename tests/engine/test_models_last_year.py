@@ -64,3 +64,40 @@ def test_refits_before_many_cuts_equal_fits_from_scratch(stepped):
         alone = LastYearAdjustedModel().fit(stepped.window(end=cut))
         ahead = stepped.window(start=cut, end=cut + pd.Timedelta(days=31)).without_energy()
         np.testing.assert_allclose(fitted.predict(ahead), alone.predict(ahead), rtol=1e-8)
+
+
+def test_it_adjusts_with_the_regression_settings_it_is_given(stepped):
+    settings = {"daily_order": 4, "weekly_order": 2, "annual_order": 2}
+    history = stepped.window(end=FIT_END)
+    given = LastYearAdjustedModel(weight=0.0, regression=settings).fit(history)
+    regression = CalendarRegressionModel(**settings).fit(history)
+    ahead = stepped.window(start=FIT_END).without_energy()
+    # Carrying none of last year is the given regression itself.
+    np.testing.assert_allclose(given.predict(ahead), regression.predict(ahead), rtol=1e-9)
+    again = LastYearAdjustedModel.from_dict(given.to_dict())
+    np.testing.assert_allclose(again.predict(ahead), given.predict(ahead), rtol=1e-12)
+
+
+def test_the_wizard_combines_it_with_its_tuned_regression_and_picks_the_share_by_month_totals(
+    stepped,
+):
+    from engine.backtest import TYPICAL_WEATHER, run_backtest
+    from engine.wizard import TUNING_ORIGINS, compare_models
+
+    history = stepped.window(end=pd.Timestamp("2024-03-01", tz=ZONE))
+    compared = compare_models(
+        history, history.temperature, families=["calendar_regression", "last_year_adjusted"],
+        origins=3,
+    )  # fmt: skip
+    chosen = compared.models["last_year_adjusted"]
+    regression = compared.models["calendar_regression"].settings()
+    assert chosen.settings()["regression"] == regression
+    # The same candidates scored here on their month totals under typical weather, the
+    # condition the wizard ranks on: the wizard kept the better share.
+    shares = {str(w): LastYearAdjustedModel(weight=w, regression=regression) for w in (1.0, 0.5)}
+    tuning = run_backtest(
+        shares, history, origins=TUNING_ORIGINS, horizons=(1,), weather_history=history.temperature
+    )
+    best = min(shares, key=lambda key: tuning.scorecard(key, TYPICAL_WEATHER).month_total_mape)
+    assert chosen.settings()["weight"] == float(best)
+    assert "last_year_adjusted" in compared.choice.ranking["model"].tolist()

@@ -1,0 +1,260 @@
+"""A level that keeps up: where a meter's budget is centred, and the level error carried on.
+
+A budget's paths add drawn days of the model's out-of-sample errors to its forecast
+(:mod:`engine.budget.residuals`); those errors are there for the spread, so they are drawn
+centred (their mean share of the forecast over the error window, ``b``, is taken out:
+:func:`centred`), and where the centre lies is decided here, on the month-ahead backtest.
+
+A model fitted on years of readings forecasts the level those years average; a meter whose
+load drifts (a building filling up, equipment added or retired) runs above or below it, and a
+"same month last year" budget carries the newer level where the model does not. Three
+centres are compared on every past month ``k`` of the model's out-of-sample errors (each from
+the refit made before its month, under the weather that happened: :mod:`engine.budget.refits`),
+with ``r_k`` the month's relative error (actual / forecast − 1):
+
+* the model's forecast as it is (``none``);
+* the forecast times ``1 + b_k``, the mean error of the error window before the month
+  (``year``: what drawing uncentred errors did);
+* the forecast times ``1 + w × L_k``, ``L_k`` the relative error of the :data:`RECENT_DAYS`
+  days before the month (``recent``), with ``w`` the share of such a gap past months carried
+  into the next: the least-squares slope through the origin of ``r`` on ``L`` over the months
+  before ``k``, kept within 0 and 1 (the lag-one autoregression coefficient of the monthly
+  level error, the plainest error-correction term; common practice, no single source).
+
+A correction is used only where the backtest shows it helps: corrected with what was known
+before each month, its month totals must miss by at least :data:`MIN_GAIN` less on average
+than the forecast as it is, and in more months better than worse, over at least
+:data:`MIN_CHECKED` months; of the two, the one that missed less is used. Levels beyond
+:data:`MAX_GAP` are faults or odd months, not a drifting level: they are neither learned from
+nor carried. A budget month ``h`` months after the as-of date carries ``w**h`` of today's
+recent gap (a level error decays as the past months showed it to; a steady drift has ``w``
+near 1 and keeps it), or all of the year's mean error.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from datetime import date
+
+import numpy as np
+import pandas as pd
+
+from engine.budget.periods import BudgetWindow, first_open_month
+
+#: Days before a month (or the as-of cut) whose errors give the recent level: four whole
+#: weeks, so every weekday counts alike.
+RECENT_DAYS = 28
+#: Fewest past months the share is learned from before it corrects a month in the check.
+MIN_LEARNED = 4
+#: Fewest corrected past months the check needs to decide.
+MIN_CHECKED = 6
+#: Relative improvement of the month-total error the correction must show to be used.
+MIN_GAIN = 0.05
+#: Largest relative gap taken as a level error: beyond it a month is an outlier or a fault,
+#: not a level that drifted, and is neither learned from nor carried.
+MAX_GAP = 0.15
+
+
+#: The centres compared, in words.
+CENTRES = {
+    "none": "the model's forecast as it is",
+    "year": "the forecast shifted by the mean error of the error window",
+    "recent": f"the forecast shifted by a share of the last {RECENT_DAYS} days' error",
+}
+
+
+@dataclass(frozen=True)
+class LevelCorrection:
+    """Where one meter's budget is centred, and the evidence for it.
+
+    ``centre`` is ``"none"``, ``"year"`` or ``"recent"`` (see :data:`CENTRES`); ``gap`` the
+    relative level error it carries (0.02: the readings ran 2 % above the model), ``share``
+    the part of it carried into the first month (``share**lead`` later; 1 for ``"year"``);
+    ``checked`` past months were corrected in the check, with mean absolute month-total errors
+    ``mape_without`` (the forecast as it is) and ``mape_with`` (the centre used). ``reason``
+    says why no correction was used, when none was.
+    """
+
+    centre: str
+    gap: float
+    share: float
+    checked: int
+    mape_without: float
+    mape_with: float
+    reason: str = ""
+
+    @classmethod
+    def not_used(
+        cls, reason: str, checked: int = 0, without: float = np.nan, with_: float = np.nan
+    ) -> LevelCorrection:
+        return cls("none", 0.0, 0.0, checked, without, with_, reason)
+
+    @property
+    def used(self) -> bool:
+        return self.centre != "none"
+
+    def change(self, lead: int) -> float:
+        """The relative change of the forecast ``lead`` months after the as-of date."""
+        if self.centre == "recent":
+            return self.share**lead * self.gap
+        return self.gap if self.centre == "year" else 0.0
+
+    def day_factors(self, window: BudgetWindow, as_of: date) -> np.ndarray:
+        """The factor on each budget day's forecast: ``1 + change(lead)``."""
+        first = pd.Period(first_open_month(as_of), freq="M")
+        leads = [max((pd.Period(month, freq="M") - first).n + 1, 1) for month in window.months]
+        factors = np.array([1.0 + self.change(lead) for lead in leads])
+        return factors[window.month_of_day()]
+
+    def sentence(self) -> str:
+        """The correction in words, with its evidence."""
+        if not self.used:
+            return f"not used, the budget is centred on the model's forecast: {self.reason}"
+        way = "raised" if self.gap > 0 else "lowered"
+        if self.centre == "year":
+            what = (
+                f"the model ran {abs(self.gap):.1%} {'below' if self.gap > 0 else 'above'} the "
+                f"readings over its error window, so every budget month is {way} by that"
+            )
+        else:
+            what = (
+                f"over the last {RECENT_DAYS} days the model ran {abs(self.gap):.1%} "
+                f"{'below' if self.gap > 0 else 'above'} the readings; past months carried "
+                f"{self.share:.0%} of such a gap into the next month, so the first budget month "
+                f"is {way} by {abs(self.change(1)):.1%} (each later month by {self.share:.0%} "
+                "of the month before's change)"
+            )
+        return (
+            f"used: {what}; on {self.checked} past months it cut the month-total error from "
+            f"{self.mape_without:.1f} % to {self.mape_with:.1f} %"
+        )
+
+
+def centred(errors: pd.Series, forecasts: pd.Series) -> pd.Series:
+    """The errors less their mean share of the forecast (``b × forecast``), so drawn errors
+    widen a budget without moving its centre."""
+    known = errors.notna() & forecasts.notna()
+    total = float(forecasts[known].sum())
+    bias = float(errors[known].sum()) / total if total > 0 else 0.0
+    return errors - bias * forecasts.fillna(0.0)
+
+
+def day_sums(errors: pd.Series, actual: pd.Series, timezone: str) -> pd.DataFrame:
+    """Per local day (naive midnight): the errors' and the forecasts' sums."""
+    known = errors.notna() & actual.reindex(errors.index).notna()
+    errors = errors[known]
+    forecasts = actual.reindex(errors.index) - errors
+    days = errors.index.tz_convert(timezone).tz_localize(None).normalize()
+    frame = pd.DataFrame({"error": errors.to_numpy(), "forecast": forecasts.to_numpy()})
+    return frame.groupby(days).sum()
+
+
+def _relative(days: pd.DataFrame) -> float:
+    forecast = float(days["forecast"].sum())
+    return float(days["error"].sum()) / forecast if forecast > 0 else np.nan
+
+
+def _levels(days: pd.DataFrame, start: pd.Timestamp, error_days: int) -> tuple[float, float]:
+    """(recent level L, error window's level b) of the days before ``start`` (naive local)."""
+    recent = days[(days.index >= start - pd.Timedelta(days=RECENT_DAYS)) & (days.index < start)]
+    year = days[(days.index >= start - pd.Timedelta(days=error_days)) & (days.index < start)]
+    if len(recent) < RECENT_DAYS // 2:
+        return np.nan, np.nan
+    return _relative(recent), _relative(year)
+
+
+def past_months(days: pd.DataFrame, error_days: int) -> pd.DataFrame:
+    """Per past month with errors and levels before it: ``r`` (its relative error), ``L``
+    (the recent level before it) and ``b`` (the error window's), oldest first."""
+    rows = []
+    for month, inside in days.groupby(days.index.to_period("M")):
+        recent, year = _levels(days, month.start_time, error_days)
+        relative = _relative(inside)
+        finite = np.isfinite([recent, year, relative]).all()
+        if finite and max(abs(recent), abs(year)) <= MAX_GAP:
+            rows.append((str(month), relative, recent, year))
+    return pd.DataFrame(rows, columns=["month", "r", "L", "b"])
+
+
+def carried_share(levels: np.ndarray, misses: np.ndarray) -> float:
+    """The least-squares slope through the origin of the misses on the levels, within [0, 1]."""
+    spread = float(np.sum(levels**2))
+    return float(np.clip(np.sum(levels * misses) / spread, 0.0, 1.0)) if spread > 0 else 0.0
+
+
+@dataclass(frozen=True)
+class Check:
+    """Past months corrected with what was known before each: how many, and per centre the
+    mean absolute month-total error (%) and whether it bettered more months than it worsened
+    against the forecast as it is."""
+
+    months: int
+    mape: dict[str, float]
+    mostly_better: dict[str, bool]
+
+
+def check(months: pd.DataFrame) -> Check:
+    """Every centre of :data:`CENTRES` on the past months after the first :data:`MIN_LEARNED`."""
+    r, recent, year = (months[name].to_numpy() for name in ("r", "L", "b"))
+    misses: dict[str, list[float]] = {centre: [] for centre in CENTRES}
+    for k in range(MIN_LEARNED, len(months)):
+        share = carried_share(recent[:k], r[:k])
+        shifts = {"none": 0.0, "year": year[k], "recent": share * recent[k]}
+        for centre, shift in shifts.items():
+            misses[centre].append(abs(r[k] - shift) / (1.0 + r[k]))
+    plain = np.array(misses["none"])
+    return Check(
+        months=len(plain),
+        mape={c: 100 * float(np.mean(m)) if m else np.nan for c, m in misses.items()},
+        mostly_better={
+            c: bool(np.sum(np.array(m) < plain) > np.sum(np.array(m) > plain))
+            for c, m in misses.items()
+        },
+    )
+
+
+def level_correction(
+    errors: pd.Series | None,
+    actual: pd.Series,
+    timezone: str,
+    cut: pd.Timestamp,
+    error_days: int,
+) -> LevelCorrection:
+    """The meter's budget centre as of ``cut`` from its out-of-sample ``errors`` (actual −
+    forecast per interval, the months before the cut) and its metered ``actual`` energy."""
+    if errors is None or errors.empty:
+        return LevelCorrection.not_used("the model has no out-of-sample errors to measure from")
+    days = day_sums(errors[errors.index < cut], actual, timezone)
+    months = past_months(days, error_days)
+    done = check(months)
+    without = done.mape["none"]
+    if done.months < MIN_CHECKED:
+        return LevelCorrection.not_used(
+            f"{done.months} past months could be checked, fewer than the {MIN_CHECKED} needed"
+        )
+    helping = [
+        centre
+        for centre in ("recent", "year")
+        if done.mape[centre] <= (1 - MIN_GAIN) * without and done.mostly_better[centre]
+    ]
+    if not helping:
+        return LevelCorrection.not_used(
+            f"on {done.months} past months neither correction cut the month-total error by "
+            f"{MIN_GAIN:.0%} while bettering more months than it worsened ({without:.1f} % as "
+            f"it is, {done.mape['recent']:.1f} % with the recent level, "
+            f"{done.mape['year']:.1f} % with the error window's)",
+            done.months, without,
+        )  # fmt: skip
+    centre = min(helping, key=lambda name: done.mape[name])
+    recent, year = _levels(days, cut.tz_convert(timezone).tz_localize(None), error_days)
+    gap = recent if centre == "recent" else year
+    if not np.isfinite(gap) or abs(gap) > MAX_GAP:
+        return LevelCorrection.not_used(
+            f"the level before the as-of date ({gap:+.1%}) is unknown or beyond the "
+            f"{MAX_GAP:.0%} a drifting level explains (a fault or an unusual month)",
+            done.months, without,
+        )  # fmt: skip
+    share = carried_share(months["L"].to_numpy(), months["r"].to_numpy())
+    return LevelCorrection(
+        centre, gap, share if centre == "recent" else 1.0, done.months, without, done.mape[centre]
+    )
