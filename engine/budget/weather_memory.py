@@ -190,17 +190,35 @@ def _month_number(months: pd.Series) -> np.ndarray:
     return periods.year.to_numpy() * 12 + periods.month.to_numpy()
 
 
+def _states(
+    days: pd.DatetimeIndex, values: np.ndarray, starts: pd.DatetimeIndex
+) -> tuple[np.ndarray, np.ndarray]:
+    """Per start day: the departure of the day before it and the mean of the RECENT_DAYS
+    before it (the mean 0 with fewer than WHOLE_DAYS whole days; the day the mean when it is
+    missing)."""
+    running = np.r_[0.0, np.cumsum(values)]
+    upto = np.searchsorted(days, starts)
+    since = np.searchsorted(days, starts - pd.Timedelta(days=RECENT_DAYS))
+    count = upto - since
+    with np.errstate(divide="ignore", invalid="ignore"):
+        recent = np.where(count >= WHOLE_DAYS, (running[upto] - running[since]) / count, 0.0)
+    previous = np.maximum(upto - 1, 0)
+    known = (upto > 0) & (days[previous] == starts - pd.Timedelta(days=1))
+    return np.where(known, values[previous], recent), recent
+
+
 def _state(
     days: pd.DatetimeIndex, values: np.ndarray, cut_day: pd.Timestamp
 ) -> tuple[float, float]:
-    """The departure of the day before ``cut_day`` and the mean of the RECENT_DAYS before it
-    (each 0 when missing or too few whole days)."""
-    before = days < cut_day
-    recent_mask = before & (days >= cut_day - pd.Timedelta(days=RECENT_DAYS))
-    recent = float(values[recent_mask].mean()) if recent_mask.sum() >= WHOLE_DAYS else 0.0
-    last = days == cut_day - pd.Timedelta(days=1)
-    last_day = float(values[last][0]) if last.any() else recent
-    return last_day, recent
+    """:func:`_states` for the one day that starts at the cut."""
+    last_day, recent = _states(days, values, pd.DatetimeIndex([cut_day]))
+    return float(last_day[0]), float(recent[0])
+
+
+def _mean_decay(rate: np.ndarray, count: np.ndarray) -> np.ndarray:
+    """The mean of ``rate^k`` over ``k = 1 … count`` (a geometric sum)."""
+    safe = np.where(rate < 1.0, rate, 0.0)
+    return safe * (1.0 - safe**count) / (count * (1.0 - safe))
 
 
 def _backtest(
@@ -215,30 +233,31 @@ def _backtest(
     """Past months' mean departures forecast from their first day, with and without memory.
 
     Persistences come from the days and months before each forecast month only (running
-    sums); a month is tested once enough pairs lie before it.
+    sums); a month is tested once enough pairs lie before it. The forecast is the mean of the
+    expected departures over the month's calendar days.
     """
     starts = months.index.to_timestamp()
-    day_sums = np.r_[0.0, np.cumsum(products)], np.r_[0.0, np.cumsum(squares)]
-    month_sums = np.r_[0.0, np.cumsum(month_products)], np.r_[0.0, np.cumsum(month_squares)]
-    month_pairs = np.r_[0, np.cumsum(month_squares != 0)]
-    errors_with, errors_without = [], []
-    for position, start in enumerate(starts):
-        # pairs wholly before the month: day pairs ending before it, month pairs before it
-        seen = int(np.searchsorted(days, start)) - 1
-        if position < 1 or month_pairs[position - 1] < MIN_MONTH_PAIRS or seen < MIN_DAY_PAIRS:
-            continue
-        daily = _ratio(day_sums[0][seen], day_sums[1][seen])
-        monthly = _ratio(month_sums[0][position - 1], month_sums[1][position - 1])
-        last_day, recent = _state(days, values, start)
-        memory = AnomalyMemory(
-            float(daily), float(monthly), float(slow_decay(monthly)), last_day, recent,
-            0, 0.0, 0.0, used=True,
-        )  # fmt: skip
-        inside = (days >= start) & (days < start + pd.offsets.MonthBegin(1))
-        ahead = ((days[inside] - start) / pd.Timedelta(days=1)).to_numpy() + 1
-        actual = months.iloc[position]
-        errors_with.append(abs(memory.shift(ahead).mean() - actual))
-        errors_without.append(abs(actual))
-    if not errors_with:
+    position = np.arange(len(months))
+    # pairs wholly before each month: day pairs ending before it, month pairs before it
+    seen = np.searchsorted(days, starts) - 1
+    month_seen = np.maximum(position - 1, 0)
+    month_pairs = np.r_[0, np.cumsum(month_squares != 0)][month_seen]
+    tested = (position >= 1) & (month_pairs >= MIN_MONTH_PAIRS) & (seen >= MIN_DAY_PAIRS)
+    if not tested.any():
         return 0, float("nan"), float("nan")
-    return len(errors_with), float(np.mean(errors_with)), float(np.mean(errors_without))
+    seen, month_seen, starts = seen[tested], month_seen[tested], starts[tested]
+    daily = _ratio(np.cumsum(np.r_[0.0, products])[seen], np.cumsum(np.r_[0.0, squares])[seen])
+    monthly = _ratio(
+        np.cumsum(np.r_[0.0, month_products])[month_seen],
+        np.cumsum(np.r_[0.0, month_squares])[month_seen],
+    )
+    last_day, recent = _states(days, values, starts)
+    length = starts.days_in_month.to_numpy()
+    forecast = _mean_decay(daily, length) * (last_day - recent)
+    forecast += _mean_decay(slow_decay(monthly), length) * recent
+    actual = months.to_numpy()[tested]
+    return (
+        int(tested.sum()),
+        float(np.mean(np.abs(forecast - actual))),
+        float(np.mean(np.abs(actual))),
+    )
