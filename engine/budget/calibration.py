@@ -35,11 +35,15 @@ A meter with a year of its own months thus leans two thirds on its site; a site 
 meters can correct its ranges after two past months instead of twelve, and a single meter
 still needs :data:`MIN_MONTHS` of its own. On the sample campus (28 past month-ahead budgets
 per meter, the last 24 issued as the tool would have issued them) the ranges held 63 % raw,
-77 % corrected per meter alone (one meter 67 %) and 84 % pooled (every meter 79–92 %); with the
-binomial leave-alone band of earlier versions, most meters stayed at about two in three.
+77 % corrected per meter alone over a year (one meter 67 %), 84 % pooled over a year (every
+meter 79–92 %) and 81 % pooled over the last six months (every meter 75–92 %); with the
+binomial leave-alone band of earlier versions, 70 %, most meters about two in three.
 
-Only the most recent :data:`CALIBRATION_WINDOW` months count: a model's errors shrink as its
-history grows, so older months, budgeted from less data, would keep ranges too wide.
+Only recent months count: a model's errors shrink as its history grows, so older months,
+budgeted from less data, would keep ranges too wide. The window is the shortest, from
+:data:`SHORTEST_WINDOW` to :data:`CALIBRATION_WINDOW` months, that gives every meter
+:data:`MIN_MONTHS` of evidence: six months on a site of three meters or more, a year for a
+single meter.
 
 The centre is the mean, not the P50, because the mean adds up: widening every path's days
 around their mean widens its months and its period around theirs by the same factor
@@ -71,8 +75,9 @@ MIN_MONTHS = 12
 POOLED_MONTHS = 24
 #: Largest factor a range is widened by; beyond it the model is not fit for budgeting.
 MAX_SCALE = 5.0
-#: How many of the most recent past months calibrate a range.
+#: How many of the most recent past months calibrate a range, at most and at least.
 CALIBRATION_WINDOW = 12
+SHORTEST_WINDOW = 6
 
 
 def miss_scores(
@@ -228,11 +233,19 @@ def site_calibrations(
     window: int = CALIBRATION_WINDOW,
     min_months: int = MIN_MONTHS,
 ) -> dict[str, Calibration]:
-    """Per meter name, its calibration from the ``window`` most recent months of ``pairs``
-    (columns ``month`` and ``name`` beside those :func:`calibrate` reads), pooled with the
-    site's other meters on the same months."""
-    months = sorted(pairs["month"].unique())[-window:]
-    recent = pairs[pairs["month"].isin(months)]
+    """Per meter name, its calibration from the most recent months of ``pairs`` (columns
+    ``month`` and ``name`` beside those :func:`calibrate` reads), pooled with the site's other
+    meters on the same months: the fewest months, from :data:`SHORTEST_WINDOW` to ``window``,
+    that give every meter ``min_months`` of evidence."""
+    months = sorted(pairs["month"].unique())
+    known = pairs.dropna(subset=_columns(level_low, level_high))
+    names = pairs["name"].unique()
+    for span in range(min(SHORTEST_WINDOW, window), window + 1):
+        counts = known[known["month"].isin(months[-span:])].groupby("name").size()
+        own = counts.reindex(names, fill_value=0).to_numpy()
+        if (own + np.minimum(POOLED_MONTHS, own.sum() - own) >= min_months).all():
+            break
+    recent = pairs[pairs["month"].isin(months[-span:])]
     scores = {
         name: pair_scores(rows, level_low, level_high)
         for name, rows in recent.groupby("name", sort=False)

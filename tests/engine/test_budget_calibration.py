@@ -32,7 +32,7 @@ from engine.budget import (
     summarise,
     widen,
 )
-from engine.budget.calibration import MAX_SCALE
+from engine.budget.calibration import MAX_SCALE, site_calibrations
 from engine.budget.skill import LAST_YEAR, skill
 from engine.errors import InputError
 from tests.engine.test_budget_campus import (
@@ -67,6 +67,29 @@ def test_the_scale_is_the_quantile_the_method_names() -> None:
     assert result.scale == pytest.approx(2.2)
     assert "widened by a factor 2.20" in result.sentence()
     assert "conformal scaling" in result.method
+
+
+def test_a_single_meter_calibrates_on_a_year_and_a_site_on_six_months() -> None:
+    # The shortest recent window (6 to 12 months) that gives every meter 12 months of
+    # evidence: a lone meter needs its own twelve; two meters need six each (6 + 6).
+    months = [f"2024-{month:02d}" for month in range(1, 13)] + ["2025-01", "2025-02"]
+    rng = np.random.default_rng(9)
+    frames = []
+    for name in ("A", "B"):
+        actual = 100 + 10 * rng.standard_normal(len(months))
+        frame = _pairs(actual, np.full(14, 95.0), np.full(14, 100.0), np.full(14, 105.0))
+        frames.append(frame.assign(month=months, name=name))
+    alone = site_calibrations(frames[0])
+    assert alone["A"].tried == 12 and "other meters" not in alone["A"].method
+    both = site_calibrations(pd.concat(frames, ignore_index=True))
+    assert both["A"].tried == both["B"].tried == 6
+    assert both["A"].scale == pytest.approx(
+        np.quantile(
+            np.abs(pd.concat(frames)["actual kWh"].to_numpy().reshape(2, 14)[:, -6:] - 100) / 5,
+            0.8,
+            method="weibull",
+        )
+    )
 
 
 def test_the_scale_holds_four_new_months_in_five_on_average() -> None:
@@ -202,9 +225,12 @@ def test_corrected_month_ahead_ranges_hold_about_four_months_in_five(
     assert replayed["held corrected"].mean() >= replayed["held"].mean()
     by_meter = replayed.groupby("name")["held corrected"].mean()
     assert by_meter.between(0.65, 0.95).all()
+    # Six recent months suffice on three meters: each meter's six beside the other two
+    # meters' twelve are 18 months of evidence, at least the 12 needed.
     for name, calibration in past.calibrations().items():
-        rows = meters[meters["name"] == name].sort_values("month").tail(12)  # the recent year
-        assert calibration.tried == 12
+        rows = meters[meters["name"] == name].sort_values("month").tail(6)
+        assert calibration.tried == 6
+        assert "other meters' 12 (counting as 12 months)" in calibration.method
         assert calibration.held == int(
             ((rows["actual kWh"] >= rows["P10"]) & (rows["actual kWh"] <= rows["P90"])).sum()
         )
@@ -375,6 +401,6 @@ def test_past_budgets_carry_last_years_total_and_the_last_week_repeated(
             naive = week.mean() * month.days_in_month
             np.testing.assert_allclose(row["last week kWh"], naive, rtol=1e-9)
     calibration = past.calibration(next(iter(campus.inputs)))
-    assert calibration.vs_last_year.months == calibration.tried
+    assert calibration.vs_last_year.months == 12  # the recent year, whatever the range used
     assert calibration.to_json()["skill_vs_last_year"]["baseline"] == LAST_YEAR
     assert Calibration.from_json(calibration.to_json()) == calibration  # kept with budgets
