@@ -59,21 +59,15 @@ WEATHER_DRIVEN = ("Residence Hall", "gas-boilerhouse-daily", "PLANT-CHW-E", "PLA
 SKILL_TARGET = 0.15
 COVERAGE_TARGET = (0.75, 0.85)
 METER_COVERAGE = (0.65, 0.95)
-ZONE = "Etc/GMT-1"  # the household file's clock: one fixed offset
+ZONE = "Etc/GMT-1"  # the household file's clock: one fixed offset (as bench_one_shot)
 
 
 def household_file(folder: Path) -> Path:
-    """The UCI household as an hourly meter export with local interval-start stamps."""
+    """The UCI household as an hourly meter export (as ``bench_one_shot.py`` writes it)."""
     sys.path.insert(0, str(ROOT))
-    from tests.benchmarks.bench_budget import household_inputs
+    from tests.benchmarks.bench_one_shot import write_meter_file
 
-    local = household_inputs().energy
-    local.index = local.index.tz_convert(ZONE).tz_localize(None)
-    csv = folder / "household.csv"
-    frame = pd.DataFrame({"Reading start": local.index.strftime("%Y-%m-%d %H:%M"),
-                          "Household (kWh)": local.round(4).to_numpy()})  # fmt: skip
-    frame.to_csv(csv, index=False)
-    return csv
+    return write_meter_file(folder)[0]
 
 
 def household_project(csv: Path, folder: Path) -> Path:
@@ -85,8 +79,9 @@ def household_project(csv: Path, folder: Path) -> Path:
     return project
 
 
-def past_budgets(project_path: Path, origins: int) -> tuple[pd.DataFrame, float]:
-    """The project's past month-ahead budgets (meters only) and the seconds taken."""
+def past_budgets(project_path: Path, origins: int) -> tuple[pd.DataFrame, float, str]:
+    """The project's past month-ahead budgets (meters only), the seconds taken and what the
+    budget says of the weather's memory."""
     from engine.budget import budget_months
     from engine.budgeting import BudgetRequest, budget_project, last_reading_day
     from engine.project import Project
@@ -101,7 +96,8 @@ def past_budgets(project_path: Path, origins: int) -> tuple[pd.DataFrame, float]
         budget = budget_project(project, request)
         seconds = time.perf_counter() - started
     pairs = budget.past_budgets
-    return pairs[pairs["kind"] == "meter"].reset_index(drop=True), seconds
+    memory = budget.run.assumptions.get("weather_memory", "none")
+    return pairs[pairs["kind"] == "meter"].reset_index(drop=True), seconds, memory
 
 
 def issued(meters: pd.DataFrame) -> pd.DataFrame:
@@ -121,6 +117,11 @@ def issued(meters: pd.DataFrame) -> pd.DataFrame:
     )
 
 
+def mape(rows: pd.DataFrame, column: str) -> float:
+    """Mean absolute error of ``column``'s month totals, in percent of the actual."""
+    return float(np.mean(np.abs(rows[column] / rows["actual kWh"] - 1)) * 100)
+
+
 def measure(household: Path, folder: Path) -> dict[str, dict]:
     """Per site: per meter (and all meters) the scores of the last SCORED past budgets."""
     from engine.budget.skill import LAST_YEAR_COLUMN, SEASONAL_NAIVE_COLUMN
@@ -133,7 +134,7 @@ def measure(household: Path, folder: Path) -> dict[str, dict]:
     sites["UCI household"] = household_project(household, folder)
     results = {}
     for site, path in sites.items():
-        meters, seconds = past_budgets(path, ORIGINS[site])
+        meters, seconds, memory = past_budgets(path, ORIGINS[site])
         replay = issued(meters)
         last = sorted(meters["month"].unique())[-SCORED:]
         scored = meters[meters["month"].isin(last)].merge(
@@ -142,34 +143,16 @@ def measure(household: Path, folder: Path) -> dict[str, dict]:
         rows = {}
         for name, group in [*scored.groupby("name", sort=False), ("all meters", scored)]:
             group = group.dropna(subset=["actual kWh", LAST_YEAR_COLUMN])
-            actual = group["actual kWh"].to_numpy()
-
-            def mape(
-                column: str, group: pd.DataFrame = group, actual: np.ndarray = actual
-            ) -> float:
-                return float(np.mean(np.abs(group[column].to_numpy() / actual - 1)) * 100)
-
             rows[name] = {
                 "months": len(group),
-                "p50": mape("P50"),
-                "last year": mape(LAST_YEAR_COLUMN),
-                "last week": mape(SEASONAL_NAIVE_COLUMN),
+                "p50": mape(group, "P50"),
+                "last year": mape(group, LAST_YEAR_COLUMN),
+                "last week": mape(group, SEASONAL_NAIVE_COLUMN),
                 "raw": float(group["actual kWh"].between(group["P10"], group["P90"]).mean()),
                 "issued": float(group["held corrected"].astype(float).mean()),
             }
-        results[site] = {"seconds": seconds, "meters": rows}
+        results[site] = {"seconds": seconds, "meters": rows, "memory": memory}
     return results
-
-
-def export_revision(revision: str, folder: Path) -> Path:
-    """The engine of ``revision``, unpacked into ``folder/REV``."""
-    target = folder / revision
-    target.mkdir()
-    archive = subprocess.run(
-        ["git", "-C", str(ROOT), "archive", revision, "engine"], capture_output=True, check=True
-    ).stdout
-    subprocess.run(["tar", "-x", "-C", str(target)], input=archive, check=True)
-    return target
 
 
 def measure_engine(engine: Path, household: Path, folder: Path) -> dict[str, dict]:
@@ -199,8 +182,8 @@ def report(now: dict, then: dict | None, revision: str | None) -> list[str]:
             f"({figures['seconds']:.0f} s{label})"
         )
         print(
-            f"  {'meter':<24}{'months':>7}{'P50 MAPE':>10}{'last year':>11}{'last week':>11}"
-            f"{'vs last year':>14}{'P10–P90 raw':>13}{'issued':>8}"
+            f"  {'meter':<24}{'months':>7}{'P50 MAPE':>14}{'last year':>11}{'last week':>11}"
+            f"{'vs last year':>14}{'P10–P90 raw':>13}{'issued':>11}"
         )
         for name, row in figures["meters"].items():
             old = before["meters"].get(name) if before else None
@@ -218,9 +201,10 @@ def report(now: dict, then: dict | None, revision: str | None) -> list[str]:
                     f"{old['issued']:.0%}→{row['issued']:.0%}",
                 ]
             print(
-                f"  {name:<24}{row['months']:>7}{shown[0]:>10}{row['last year']:>10.1f}%"
-                f"{row['last week']:>10.1f}%{shown[1]:>14}{shown[2]:>13}{shown[3]:>8}"
+                f"  {name:<24}{row['months']:>7}{shown[0]:>14}{row['last year']:>10.1f}%"
+                f"{row['last week']:>10.1f}%{shown[1]:>14}{shown[2]:>13}{shown[3]:>11}"
             )
+        print(f"  weather memory: {figures.get('memory', 'not reported')}")
         every = figures["meters"]["all meters"]
         low, high = COVERAGE_TARGET
         if not low <= every["issued"] <= high:
@@ -256,6 +240,8 @@ def main() -> int:
         now = measure_engine(ROOT, household, Path(folder))
         then = None
         if args.against:
+            from tests.benchmarks.bench_speed import export_revision
+
             engine = export_revision(args.against, Path(folder))
             then = measure_engine(engine, household, Path(folder))
     missed = report(now, then, args.against)

@@ -18,7 +18,7 @@ import pytest
 from scipy.signal import lfilter
 from statsmodels.tsa.ar_model import AutoReg
 
-from engine.budget import WeatherAssumption, simulate_paths
+from engine.budget import WeatherAssumption, simulate_paths, summarise
 from engine.budget.periods import BudgetWindow, as_of_cut
 from engine.budget.weather_memory import RECENT_DAYS, WHOLE_DAYS, anomaly_memory, slow_decay
 from engine.budget.weather_paths import weather_scenarios
@@ -178,3 +178,7 @@ def test_the_paths_start_from_the_anomaly_at_the_cut_and_the_budget_says_so() ->
     ]
     january = [run.meters[0].months[:, 0].mean() for run in runs]
     assert np.sign(january[0] - january[1]) == -np.sign(daily[:31].mean())
+    # the budget's JSON states the memory under its assumptions (a key only past years add)
+    stated = [summarise(run).to_json()["assumptions"] for run in runs]
+    assert stated[0]["weather_memory"] == with_memory.memory
+    assert "weather_memory" not in stated[1]
