@@ -18,7 +18,7 @@ import numpy as np
 import pandas as pd
 
 from engine.backtest import backtest_origins
-from engine.budget.calibration import CALIBRATION_WINDOW, calibrate
+from engine.budget.calibration import CALIBRATION_WINDOW, calibrate, site_calibrations
 from engine.budget.meter_grid import DAY, native_interval
 from engine.budget.periods import BudgetWindow
 from engine.budget.plan import MeterPlan
@@ -61,22 +61,37 @@ class BudgetBacktest:
     levels: tuple[int, ...]
 
     def calibration(self, name: str, kind: str = "meter") -> Calibration:
-        """The calibration of one meter's (or roll-up's) range, from its most recent months,
-        with the P50's skill against the naive budgets on the same months."""
+        """The calibration of one meter's (or roll-up's) range, from its most recent months
+        (a meter's pooled with the site's other meters, :func:`site_calibrations`), with the
+        P50's skill against the naive budgets on the same months."""
+        if kind == "meter":
+            return self.calibrations()[name]
         rows = self.pairs[(self.pairs["name"] == name) & (self.pairs["kind"] == kind)]
-        recent = rows.sort_values("month").tail(CALIBRATION_WINDOW)
-        made = calibrate(recent, level_low=self.levels[0], level_high=self.levels[-1])
+        made = calibrate(rows[rows["month"].isin(self._recent_months())],
+                         level_low=self.levels[0], level_high=self.levels[-1])  # fmt: skip
+        return self._with_skill(made, rows)
+
+    def calibrations(self) -> dict[str, Calibration]:
+        """Per meter name, for :func:`engine.budget.simulate_budget`."""
+        meters = self.pairs[self.pairs["kind"] == "meter"]
+        made = site_calibrations(meters, level_low=self.levels[0], level_high=self.levels[-1])
+        return {
+            name: self._with_skill(made[name], meters[meters["name"] == name])
+            for name in meters["name"].unique()
+        }
+
+    def _recent_months(self) -> list[str]:
+        return sorted(self.pairs["month"].unique())[-CALIBRATION_WINDOW:]
+
+    def _with_skill(self, made: Calibration, rows: pd.DataFrame) -> Calibration:
+        """``made`` with the P50's skill against the naive budgets on the recent months."""
+        recent = rows[rows["month"].isin(self._recent_months())]
         middle = "P50" if 50 in self.levels else "mean kWh"
         return replace(
             made,
             vs_last_year=skill(recent, LAST_YEAR_COLUMN, LAST_YEAR, middle),
             vs_seasonal_naive=skill(recent, SEASONAL_NAIVE_COLUMN, SEASONAL_NAIVE, middle),
         )
-
-    def calibrations(self) -> dict[str, Calibration]:
-        """Per meter name, for :func:`engine.budget.simulate_budget`."""
-        names = self.pairs.loc[self.pairs["kind"] == "meter", "name"].unique()
-        return {name: self.calibration(name) for name in names}
 
 
 def month_total(inputs: ModelInputs, start: pd.Timestamp, end: pd.Timestamp) -> float:

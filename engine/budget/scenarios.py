@@ -16,13 +16,15 @@ class WeatherScenarios:
     """Hourly °C per scenario on the window's hours (``hourly`` is None without weather).
 
     ``drawn_days`` (past years only) holds, per scenario and budget day, the past local day
-    whose departures the day took (``datetime64[D]``).
+    whose departures the day took (``datetime64[D]``); ``memory`` says in words whether the
+    paths start from the site's recent weather anomaly (:mod:`engine.budget.weather_memory`).
     """
 
     names: tuple[str, ...]
     hourly: np.ndarray | None
     description: str
     drawn_days: np.ndarray | None = None
+    memory: str | None = None
 
     @property
     def count(self) -> int:

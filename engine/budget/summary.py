@@ -218,6 +218,7 @@ def _assumptions(totals: PathTotals, calibration: Mapping[str, Calibration]) -> 
         "history_ignored_from": totals.cut.isoformat(),
         "weather": totals.weather.description,
         "weather_scenarios": list(totals.weather.names),
+        **({"weather_memory": totals.weather.memory} if totals.weather.memory else {}),
         "model_errors": {
             meter.plan.name: f"{meter.errors_source} of the {totals.settings['error_days']} "
             "days before the as-of date"

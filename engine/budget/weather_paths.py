@@ -37,6 +37,11 @@ year departs from it more than the past years did: by ``√(1 + 1/n)`` in standa
 as a new value departs from the mean of ``n`` earlier ones (the factor of a prediction
 interval; 1.15 for three years, 1.02 for twenty-four). The drawn departures are widened by
 that factor, ``n`` counted as the pool's whole days over 365.25.
+
+Weather that remembers: unless switched off, the past-years paths add the expected departure
+given the anomaly the site is in at the as-of date, decaying into the budget at the rate the
+site's history shows, where the history shows that this forecasts past months better than the
+typical year (:mod:`engine.budget.weather_memory`).
 """
 
 from __future__ import annotations
@@ -51,6 +56,7 @@ from engine.budget.meter_grid import HOUR, MeterGrid
 from engine.budget.periods import BudgetWindow
 from engine.budget.residuals import error_table
 from engine.budget.scenarios import WeatherScenarios
+from engine.budget.weather_memory import AnomalyMemory, anomaly_memory
 from engine.errors import InputError
 from engine.weather import fill_hourly, typical_year
 
@@ -81,6 +87,7 @@ class WeatherAssumption:
     draws: int = 50
     block_days: float | None = None
     season_days: int = 15
+    memory: bool = True
 
     def __post_init__(self) -> None:
         if self.kind not in WEATHER_KINDS:
@@ -106,6 +113,7 @@ class WeatherAssumption:
         draws: int = 50,
         block_days: float | None = None,
         season_days: int = 15,
+        memory: bool = True,
     ) -> WeatherAssumption:
         """Typical weather plus past days' departures from it (see the module notes).
 
@@ -124,8 +132,11 @@ class WeatherAssumption:
             :func:`engine.bootstrap.stationary_block_length`).
         season_days : int, default 15
             How many days either side of the same day of the year a block may start.
+        memory : bool, default True
+            Start the paths from the recent weather anomaly where the history shows skill
+            (:mod:`engine.budget.weather_memory`); False draws from the typical year alone.
         """
-        return cls("past_years", history_c, years, draws, block_days, season_days)
+        return cls("past_years", history_c, years, draws, block_days, season_days, memory)
 
     @classmethod
     def given(cls, temperatures_c: pd.Series) -> WeatherAssumption:
@@ -257,6 +268,11 @@ def _departure_scenarios(
     scenario = typical.hourly(window.first_day, window.last_day).to_numpy()
     widening = np.sqrt(1 + YEAR_DAYS / len(pool))
     departures = widening * table.to_numpy(dtype=np.float64)[drawn[:, hours.day], hours.slot]
+    memory = None
+    if assumption.memory:
+        remembered = _remembered(table, pool, window, cut)
+        departures += remembered.shift(_days_ahead(window, cut))[hours.day]
+        memory = remembered.sentence()
     years = f"{typical.years[0]}–{typical.years[-1]}"
     return WeatherScenarios(
         tuple(f"draw {number}" for number in range(1, count + 1)),
@@ -269,7 +285,27 @@ def _departure_scenarios(
         f"learned from {len(pool) / YEAR_DAYS:.1f} years; {count} draws, shared out equally "
         "over the paths, the same for every meter of a path",
         pool[drawn],
+        memory,
     )
+
+
+def _first_budget_day(window: BudgetWindow, cut: pd.Timestamp) -> pd.Timestamp:
+    """The local day (naive) that starts at the cut: the day after the as-of date."""
+    return cut.tz_convert(window.timezone).tz_localize(None).normalize()
+
+
+def _days_ahead(window: BudgetWindow, cut: pd.Timestamp) -> np.ndarray:
+    """Per budget day, how many days after the as-of date it is (≤ 0 before the cut)."""
+    first = _first_budget_day(window, cut)
+    return ((window.days - first) / pd.Timedelta(days=1)).to_numpy() + 1
+
+
+def _remembered(
+    table: pd.DataFrame, pool: np.ndarray, window: BudgetWindow, cut: pd.Timestamp
+) -> AnomalyMemory:
+    """The anomaly memory of the pool's daily mean departures, read at the cut."""
+    daily = pd.Series(table.mean(axis=1).to_numpy(), index=pd.DatetimeIndex(pool))
+    return anomaly_memory(daily, _first_budget_day(window, cut))
 
 
 def weather_scenarios(

@@ -43,7 +43,8 @@ before it; see :func:`rolling_budgets`), on
     the last week repeated, with the raw coverage.
 
 For (a) and (b): the share of months inside P10–P90, raw (as simulated) and as issued (the
-tool corrects a range by the budgets of the 12 months before it once they exist, raw before),
+tool corrects a range by the budgets of the 6 to 12 months before it, pooled over the meters,
+once they are evidence enough, raw before),
 the mean absolute month-total error of the P50 and of two benchmark budgets — seasonal naive
 (the same month a year before) and ETS(A,N,A) on monthly totals (statsmodels
 ``ExponentialSmoothing``, additive seasonality of 12 months, fitted on the months before; it
@@ -239,8 +240,9 @@ def rolling_budgets(
     before them (:func:`engine.wizard.compare_models`), as a user who refits yearly would.
     For each month the chosen family, refitted before it (:func:`engine.budget.rolling_refits`),
     budgets it with the out-of-sample errors of the 12 months before it, and the range is
-    corrected by the same family's budgets of the 12 months before it once they exist — what
-    :func:`engine.steps.budgeting.budget_project` issues at that as-of date.
+    corrected by the same family's budgets of the months before it, pooled over the meters
+    (:func:`engine.budget.rolling_calibration`) — what :func:`engine.steps.budgeting.budget_project`
+    issues at that as-of date.
 
     Returns one row per meter and scored month (``month``, ``name``, ``actual kWh``, raw
     ``P10``/``P50``/``P90`` and the issued ``corrected P10``/``corrected P90``), the models
@@ -279,12 +281,10 @@ def rolling_budgets(
             rng=2,
         )
         meters = past.pairs[past.pairs["kind"] == "meter"].dropna(subset=["actual kWh"])
-        for name, rows in meters.groupby("name", sort=False):
-            rows = rows.sort_values("month").reset_index(drop=True)
-            issued = rolling_calibration(rows, first=0)
-            keep = (rows["month"] >= str(first)).to_numpy()
-            block = pd.concat([rows[keep], issued[keep].drop(columns="month")], axis=1)
-            scored.append(block.assign(model=family_of[name]))
+        meters = meters.sort_values(["month", "name"]).reset_index(drop=True)
+        issued = meters.merge(rolling_calibration(meters, first=0), on=["month", "name"])
+        block = issued[issued["month"] >= str(first)]
+        scored.append(block.assign(model=block["name"].map(family_of)))
         first += 12
     return pd.concat(scored, ignore_index=True), chosen, time.perf_counter() - started
 
@@ -329,8 +329,9 @@ def table(
         f"issued {budgets['held corrected'].mean():.0%} (target 70–90 %)"
     )
     print(
-        "  raw = as simulated; issued = as the tool issues it (corrected by the 12 months before "
-        "once they exist); % = mean absolute month-total error of the P50, the seasonal-naive "
+        "  raw = as simulated; issued = as the tool issues it (corrected by the months before, "
+        "pooled over the meters, once they are evidence enough); % = mean absolute month-total "
+        "error of the P50, the seasonal-naive "
         "and the ETS budget; pinball and Winkler in MWh"
     )
 
