@@ -35,6 +35,7 @@ household is printed for information, with the same coverage check.
 from __future__ import annotations
 
 import argparse
+import importlib
 import json
 import os
 import shutil
@@ -82,9 +83,17 @@ def household_project(csv: Path, folder: Path) -> Path:
 def past_budgets(project_path: Path, origins: int) -> tuple[pd.DataFrame, float, str]:
     """The project's past month-ahead budgets (meters only), the seconds taken and what the
     budget says of the weather's memory."""
+    import engine
     from engine.budget import budget_months
     from engine.project import Project
-    from engine.steps.budgeting import BudgetRequest, budget_project, last_reading_day
+
+    # Revisions before the steps package (for --against) keep the budget step at the top.
+    steps = Path(engine.__file__).parent / "steps"
+    step = importlib.import_module(
+        "engine.steps.budgeting" if steps.is_dir() else "engine.budgeting"
+    )
+    BudgetRequest, budget_project = step.BudgetRequest, step.budget_project
+    last_reading_day = step.last_reading_day
 
     with Project.open(project_path) as project:
         as_of = last_reading_day(project)

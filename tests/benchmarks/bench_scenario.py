@@ -27,6 +27,7 @@ ground truth, DEVELOPERS.md).
 from __future__ import annotations
 
 import argparse
+import importlib
 import shutil
 import sys
 import tempfile
@@ -135,9 +136,14 @@ def draw_error(drawn: pd.Series, energy: pd.Series, months: list[str]) -> float:
 
 def budget(root: Path) -> tuple[pd.DataFrame, dict[str, str], dict[str, str], float]:
     """The past month-ahead budgets of the sample, given the weather that happened."""
+    import engine
     from engine.budget import budget_months
     from engine.project import Project
-    from engine.steps.budgeting import BudgetRequest, budget_project
+
+    # Checkouts before the steps package (for --root) keep the budget step at the top.
+    steps = (Path(engine.__file__).parent / "steps").is_dir()
+    step = importlib.import_module("engine.steps.budgeting" if steps else "engine.budgeting")
+    BudgetRequest, budget_project = step.BudgetRequest, step.budget_project
 
     project_file = root / "out" / "sample-campus.loadledger"
     if not project_file.exists():

@@ -83,9 +83,14 @@ def run(engine: Path, *args: object) -> tuple[float, float, str]:
 
 #: A budget as the window runs it: in a process that has imported the engine already.
 WINDOW_BUDGET = """
-import sys, time
-from engine.steps.budgeting import budget_project, budget_request
+import importlib, sys, time
+from pathlib import Path
+import engine
 from engine.project import Project
+# revisions before the steps package (for --against) keep the budget step at the top
+STEPS = (Path(engine.__file__).parent / "steps").is_dir()
+step = importlib.import_module("engine.steps.budgeting" if STEPS else "engine.budgeting")
+budget_project, budget_request = step.budget_project, step.budget_request
 with Project.open(sys.argv[1]) as project:
     months = sys.argv[2].split(",")
     weather = {"weather": sys.argv[3]} if len(sys.argv) > 3 else {}
