@@ -141,39 +141,70 @@ def centred(errors: pd.Series, forecasts: pd.Series) -> pd.Series:
 
 def day_sums(errors: pd.Series, actual: pd.Series, timezone: str) -> pd.DataFrame:
     """Per local day (naive midnight): the errors' and the forecasts' sums."""
-    known = errors.notna() & actual.reindex(errors.index).notna()
-    errors = errors[known]
-    forecasts = actual.reindex(errors.index) - errors
-    days = errors.index.tz_convert(timezone).tz_localize(None).normalize()
-    frame = pd.DataFrame({"error": errors.to_numpy(), "forecast": forecasts.to_numpy()})
-    return frame.groupby(days).sum()
+    error = errors.to_numpy(np.float64)
+    forecast = actual.reindex(errors.index).to_numpy(np.float64) - error
+    known = ~np.isnan(forecast)  # NaN where the error or the actual is unknown
+    local = errors.index[known].tz_convert(timezone).tz_localize(None).normalize()
+    where, days = pd.factorize(local, sort=True)
+    return pd.DataFrame(
+        {
+            "error": np.bincount(where, weights=error[known], minlength=len(days)),
+            "forecast": np.bincount(where, weights=forecast[known], minlength=len(days)),
+        },
+        index=days,
+    )
 
 
-def _relative(days: pd.DataFrame) -> float:
-    forecast = float(days["forecast"].sum())
-    return float(days["error"].sum()) / forecast if forecast > 0 else np.nan
+def _relative(errors: np.ndarray, forecasts: np.ndarray) -> np.ndarray:
+    """Errors as a share of the forecasts; NaN where nothing was forecast."""
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return np.where(forecasts > 0, errors / forecasts, np.nan)
 
 
-def _levels(days: pd.DataFrame, start: pd.Timestamp, error_days: int) -> tuple[float, float]:
-    """(recent level L, error window's level b) of the days before ``start`` (naive local)."""
-    recent = days[(days.index >= start - pd.Timedelta(days=RECENT_DAYS)) & (days.index < start)]
-    year = days[(days.index >= start - pd.Timedelta(days=error_days)) & (days.index < start)]
-    if len(recent) < RECENT_DAYS // 2:
-        return np.nan, np.nan
-    return _relative(recent), _relative(year)
+def _levels(days: pd.DataFrame, starts: pd.DatetimeIndex, error_days: int) -> np.ndarray:
+    """(recent level L, error window's level b) of the days before each of ``starts`` (naive
+    local midnights), as two columns; NaN where fewer than half the recent days are known.
+
+    Window sums come from running sums over the sorted days, so every start costs two
+    look-ups."""
+    index = days.index.to_numpy()
+    error = np.concatenate([[0.0], np.cumsum(days["error"].to_numpy(np.float64))])
+    forecast = np.concatenate([[0.0], np.cumsum(days["forecast"].to_numpy(np.float64))])
+    stop = np.searchsorted(index, starts.to_numpy(), side="left")
+    levels = []
+    for length in (RECENT_DAYS, error_days):
+        first = np.searchsorted(index, (starts - pd.Timedelta(days=length)).to_numpy(), "left")
+        levels.append(_relative(error[stop] - error[first], forecast[stop] - forecast[first]))
+    recent_count = stop - np.searchsorted(
+        index, (starts - pd.Timedelta(days=RECENT_DAYS)).to_numpy(), "left"
+    )
+    found = np.column_stack(levels)
+    found[recent_count < RECENT_DAYS // 2] = np.nan
+    return found
 
 
 def past_months(days: pd.DataFrame, error_days: int) -> pd.DataFrame:
     """Per past month with errors and levels before it: ``r`` (its relative error), ``L``
     (the recent level before it) and ``b`` (the error window's), oldest first."""
-    rows = []
-    for month, inside in days.groupby(days.index.to_period("M")):
-        recent, year = _levels(days, month.start_time, error_days)
-        relative = _relative(inside)
-        finite = np.isfinite([recent, year, relative]).all()
-        if finite and max(abs(recent), abs(year)) <= MAX_GAP:
-            rows.append((str(month), relative, recent, year))
-    return pd.DataFrame(rows, columns=["month", "r", "L", "b"])
+    number = days.index.year.to_numpy() * 12 + days.index.month.to_numpy() - 1
+    found, where = np.unique(number, return_inverse=True)
+    error = np.bincount(where, weights=days["error"].to_numpy(np.float64), minlength=len(found))
+    forecast = np.bincount(
+        where, weights=days["forecast"].to_numpy(np.float64), minlength=len(found)
+    )
+    starts = pd.DatetimeIndex([f"{n // 12:04d}-{n % 12 + 1:02d}-01" for n in found])
+    levels = _levels(days, starts, error_days)
+    months = pd.DataFrame(
+        {
+            "month": starts.strftime("%Y-%m"),
+            "r": _relative(error, forecast),
+            "L": levels[:, 0],
+            "b": levels[:, 1],
+        }
+    )
+    finite = np.isfinite(months[["r", "L", "b"]].to_numpy()).all(axis=1)
+    small = np.maximum(np.abs(months["L"]), np.abs(months["b"])) <= MAX_GAP
+    return months[finite & small].reset_index(drop=True)
 
 
 def carried_share(levels: np.ndarray, misses: np.ndarray) -> float:
@@ -246,7 +277,8 @@ def level_correction(
             done.months, without,
         )  # fmt: skip
     centre = min(helping, key=lambda name: done.mape[name])
-    recent, year = _levels(days, cut.tz_convert(timezone).tz_localize(None), error_days)
+    start = pd.DatetimeIndex([cut.tz_convert(timezone).tz_localize(None)])
+    recent, year = _levels(days, start, error_days)[0]
     gap = recent if centre == "recent" else year
     if not np.isfinite(gap) or abs(gap) > MAX_GAP:
         return LevelCorrection.not_used(
