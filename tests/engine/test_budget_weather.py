@@ -31,7 +31,12 @@ from scipy.signal import lfilter
 
 from engine.budget import MeterPlan, WeatherAssumption, simulate_paths
 from engine.budget.periods import BudgetWindow, as_of_cut
-from engine.budget.weather_paths import season_of, seasonal_block_days, weather_scenarios
+from engine.budget.weather_paths import (
+    season_of,
+    seasonal_block_days,
+    seasonal_mean_departure,
+    weather_scenarios,
+)
 from engine.errors import InputError
 from engine.models.base import ModelInputs
 from engine.weather import typical_year
@@ -228,3 +233,39 @@ def test_a_model_that_ignores_temperature_is_predicted_once() -> None:
         simulate_paths([plan], ["2023-07"], "2023-06-30", weather, paths=90, rng=1)
         # The first scenario and unknown temperatures, then (if they differ) the other 29.
         assert DegreeDayModel.predictions == expected
+
+
+def test_a_season_mean_departure_is_the_mean_over_the_days_around_it_in_every_year() -> None:
+    """Against a loop over every pair of days (circular distance in the year)."""
+    rng = np.random.default_rng(8)
+    days = pd.date_range("2021-01-01", "2023-12-31", freq="D")
+    days = days[rng.random(len(days)) > 0.2]  # gaps, as a pool has
+    pool = days.to_numpy().astype("datetime64[D]")
+    values = rng.normal(0, 2, len(pool))
+    found = seasonal_mean_departure(pool, values, 15.0)
+    seasons = season_of(days)
+    for i in rng.choice(len(pool), 60, replace=False):
+        apart = np.abs(seasons - seasons[i])
+        near = np.minimum(apart, 365.25 - apart) <= 15.0
+        assert found[i] == pytest.approx(values[near].mean(), rel=1e-12)
+
+
+def test_drawn_months_centre_on_the_typical_year_not_on_the_few_past_years(
+    station: pd.Series,
+) -> None:
+    """Three past years: the drawn Julys average the typical July (within 4 standard errors),
+    although those three Julys' own mean departure from it lies well outside that."""
+    window = BudgetWindow.of(["2024-07"], ZONE)
+    cut = as_of_cut(date(2023, 12, 31), ZONE)
+    three = station[station.index >= "2021-01-01"]
+    assumption = WeatherAssumption.past_years(three, draws=400, memory=False)
+    scenarios = weather_scenarios(assumption, window, cut, rng=np.random.default_rng(3))
+    typical = typical_year(three.dropna(), ZONE).hourly(window.first_day, window.last_day)
+    drawn = scenarios.hourly.mean(axis=1) - typical.to_numpy().mean()
+    bound = 4 * drawn.std(ddof=1) / np.sqrt(len(drawn))
+    assert abs(drawn.mean()) < bound
+    local = three.index.tz_convert(ZONE)
+    julys = three[local.month == 7]
+    expected = typical_year(three.dropna(), ZONE).hourly(date(2021, 1, 1), date(2023, 12, 31))
+    own = float((julys - expected.reindex(julys.index)).mean())
+    assert abs(own) > bound
