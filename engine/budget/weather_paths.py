@@ -175,6 +175,23 @@ def season_of(days: pd.DatetimeIndex) -> np.ndarray:
     return (days.day_of_year.to_numpy() - 0.5) / length * YEAR_DAYS
 
 
+def season_windows(
+    pool_seasons: np.ndarray, wanted: np.ndarray, season_days: float
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """The pool days within ``season_days`` of each wanted day of the year, in any year.
+
+    Returns ``members`` (pool positions ordered by season, the pool three times over a year
+    apart, so a window around any day is one slice) and each wanted day's slice
+    ``members[low:high]``.
+    """
+    by_season = np.argsort(pool_seasons, kind="stable")
+    seasons = pool_seasons[by_season]
+    around = np.concatenate([seasons - YEAR_DAYS, seasons, seasons + YEAR_DAYS])
+    low = np.searchsorted(around, wanted - season_days, side="left")
+    high = np.searchsorted(around, wanted + season_days, side="right")
+    return np.tile(by_season, 3), low, high
+
+
 def seasonal_mean_departure(
     pool_days: np.ndarray, daily: np.ndarray, season_days: float
 ) -> np.ndarray:
@@ -186,13 +203,8 @@ def seasonal_mean_departure(
     the smooth typical year (fitted to every day) already weighs against the rest of the year.
     """
     seasons = season_of(pd.DatetimeIndex(np.asarray(pool_days, dtype="datetime64[D]")))
-    order = np.argsort(seasons, kind="stable")
-    around = np.concatenate(
-        [seasons[order] - YEAR_DAYS, seasons[order], seasons[order] + YEAR_DAYS]
-    )
-    sums = np.concatenate([[0.0], np.cumsum(np.tile(daily[order], 3))])
-    low = np.searchsorted(around, seasons - season_days, side="left")
-    high = np.searchsorted(around, seasons + season_days, side="right")
+    members, low, high = season_windows(seasons, seasons, season_days)
+    sums = np.concatenate([[0.0], np.cumsum(daily[members])])
     return (sums[high] - sums[low]) / (high - low)
 
 
@@ -226,15 +238,9 @@ def seasonal_block_days(
     """
     pool_days = np.asarray(pool_days, dtype="datetime64[D]")
     pool_number = pool_days.astype(np.int64)
-    pool_seasons = season_of(pd.DatetimeIndex(pool_days))
-    by_season = np.argsort(pool_seasons, kind="stable")
-    seasons = pool_seasons[by_season]
-    # The pool three times over, a year apart, so a window around any day is one slice.
-    around = np.concatenate([seasons - YEAR_DAYS, seasons, seasons + YEAR_DAYS])
-    members = np.tile(by_season, 3)
-    wanted = season_of(target)
-    low = np.searchsorted(around, wanted - season_days, side="left")
-    high = np.searchsorted(around, wanted + season_days, side="right")
+    members, low, high = season_windows(
+        season_of(pd.DatetimeIndex(pool_days)), season_of(target), season_days
+    )
     if (high <= low).any():
         first = target[np.flatnonzero(high <= low)[0]]
         raise InputError(
