@@ -171,15 +171,17 @@ def _levels(days: pd.DataFrame, starts: pd.DatetimeIndex, error_days: int) -> np
     error = np.concatenate([[0.0], np.cumsum(days["error"].to_numpy(np.float64))])
     forecast = np.concatenate([[0.0], np.cumsum(days["forecast"].to_numpy(np.float64))])
     stop = np.searchsorted(index, starts.to_numpy(), side="left")
-    levels = []
-    for length in (RECENT_DAYS, error_days):
-        first = np.searchsorted(index, (starts - pd.Timedelta(days=length)).to_numpy(), "left")
-        levels.append(_relative(error[stop] - error[first], forecast[stop] - forecast[first]))
-    recent_count = stop - np.searchsorted(
-        index, (starts - pd.Timedelta(days=RECENT_DAYS)).to_numpy(), "left"
+    recent, year = (
+        np.searchsorted(index, (starts - pd.Timedelta(days=length)).to_numpy(), "left")
+        for length in (RECENT_DAYS, error_days)
     )
-    found = np.column_stack(levels)
-    found[recent_count < RECENT_DAYS // 2] = np.nan
+    found = np.column_stack(
+        [
+            _relative(error[stop] - error[first], forecast[stop] - forecast[first])
+            for first in (recent, year)
+        ]
+    )
+    found[stop - recent < RECENT_DAYS // 2] = np.nan
     return found
 
 
