@@ -38,7 +38,7 @@ from desktop.session import Session
 from desktop.undo import undo_for
 from engine.errors import InputError
 from engine.meter_labels import READ_UNITS, TEMPERATURE_UNITS
-from engine.meters import UTILITIES
+from engine.meters import UTILITIES, utility_words
 from engine.project import Project
 from engine.steps import calendar_edit
 from engine.steps.account_membership import account_names, meter_accounts
@@ -153,7 +153,7 @@ class MetersDialog(QDialog):
             name.setFlags(name.flags() & ~Qt.ItemFlag.ItemIsEditable)
             self.table.setItem(row, NAME, name)
             self.table.setItem(row, SHOWN, QTableWidgetItem(label.shown))
-            utility = ChoiceBox([(u.replace("_", " "), u) for u in UTILITIES])
+            utility = ChoiceBox([(utility_words(u), u) for u in UTILITIES])
             utility.setMinimumContentsLength(13)  # "chilled water" whole
             utility.set_value(label.utility)
             utility.activated.connect(partial(self._utility_chosen, label.name, utility))

@@ -13,6 +13,7 @@ from functools import partial
 from desktop.cleaning_jobs import Change, review_after
 from desktop.model_jobs import ModelReport, use_model_report
 from engine.calendar import CampusCalendar
+from engine.meters import utility_words
 from engine.progress import Progress
 from engine.project import Project
 from engine.steps import calendar_edit
@@ -99,7 +100,7 @@ def label_change(
     if after.shown != before.shown:
         words = f"show meter {before.shown} as '{after.shown}'"
     elif after.utility != before.utility:
-        words = f"file {before.shown} under {after.utility.replace('_', ' ')}"
+        words = f"file {before.shown} under {utility_words(after.utility)}"
     else:
         words = f"show {before.shown} in {after.read_unit}"
     return Reversible(

@@ -23,6 +23,7 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from engine.meters import utility_words
 from engine.words import counted
 
 #: Data role holding a cell's number as the engine gave it (the text is rounded for reading).
@@ -73,7 +74,7 @@ def _quantity(value: float | None, decimals: int = 1) -> str:
 
 METER_COLUMNS = (
     Column("Meter", lambda m: m["name"]),
-    Column("Utility", lambda m: m["utility"].replace("_", " ")),
+    Column("Utility", lambda m: utility_words(m["utility"])),
     Column("Unit found", lambda m: f"{m['unit_found']} → {m['unit']}"),
     Column("Interval", lambda m: _interval(m["interval_minutes"]), "interval_minutes"),
     Column("Total kWh", lambda m: _quantity(m["total_kwh"]), "total_kwh"),

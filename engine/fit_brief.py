@@ -16,6 +16,7 @@ import pandas as pd
 
 from engine.backtest import BacktestResult, backtest_origins
 from engine.errors import InputError
+from engine.meters import utility_words
 from engine.models import MODEL_FAMILIES
 from engine.ready_meters import ReadyMeter
 from engine.selection import EXPLAINABLE_MARGIN
@@ -87,7 +88,7 @@ class ReadingsBrief:
         """The facts as short sentences, in the order a person reads them."""
         unit = "day" if self.resolution == "daily" else "hour"
         lines = [
-            f"'{self.meter}' ({self.utility.replace('_', ' ')}): the models learn from "
+            f"'{self.meter}' ({utility_words(self.utility)}): the models learn from "
             f"{counted(self.intervals, f'{self.resolution} reading')} on "
             f"{counted(self.days, 'day')}, {self.first:%Y-%m-%d} to {self.last:%Y-%m-%d}.",
         ]

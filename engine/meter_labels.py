@@ -23,7 +23,7 @@ from functools import cache
 
 from engine import units
 from engine.errors import InputError
-from engine.meters import CANONICAL_UNIT, UTILITIES
+from engine.meters import CANONICAL_UNIT, UTILITIES, utility_words
 
 #: The project setting holding each meter's display name and unit read in, by raw name.
 LABELS_SETTING = "meter_labels"
@@ -98,7 +98,7 @@ def checked_utility(text: str) -> str:
     if key not in UTILITIES:
         raise InputError(
             f"'{text}' is not a utility this tool knows.",
-            hint=f"Use one of: {', '.join(u.replace('_', ' ') for u in UTILITIES)}.",
+            hint=f"Use one of: {', '.join(map(utility_words, UTILITIES))}.",
         )
     return key
 

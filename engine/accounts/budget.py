@@ -31,6 +31,7 @@ from engine.accounts.plan import (
 from engine.budget.result import BudgetRun, Calibration
 from engine.budget.simulate import MeterPaths, PathTotals
 from engine.errors import InputError
+from engine.meters import utility_words
 from engine.tariffs import effective_rate
 from engine.units import find_unit
 from engine.weather import daily_stats
@@ -301,7 +302,7 @@ def _maybe_counted_twice(run: BudgetRun, accounts: Accounts) -> list[str]:
         ]
         if beside:
             cautions.append(
-                f"Account '{plan.name}' ({plan.utility.replace('_', ' ')}) is counted in the "
+                f"Account '{plan.name}' ({utility_words(plan.utility)}) is counted in the "
                 f"totals beside {'the meter' if len(beside) == 1 else 'the meters'} "
                 f"{', '.join(beside)} of the same utility. If one of them measures part of the "
                 "account's supply, say so (loadledger accounts "

@@ -20,6 +20,7 @@ from engine.cleaning.steps import STEP_KINDS
 from engine.errors import InputError
 from engine.export.sheets import SHARE_FORMAT
 from engine.meter_labels import Labels, shown_name
+from engine.meters import utility_words
 from engine.units import from_kwh
 
 ENERGY_FORMAT = "#,##0"
@@ -304,7 +305,7 @@ def daily_frame(run: BudgetRun, labels: Labels | None = None) -> pd.DataFrame:
             raise ValueError(f"daily detail of meter {meter.name!r} lacks {missing}")
         part = daily[figures].set_axis([f"{n} ({meter.unit})" for n in figures], axis=1)
         part.insert(0, "date", pd.to_datetime(daily.index).tz_localize(None).normalize())
-        part.insert(0, "utility", meter.utility.replace("_", " "))  # words, not the key
+        part.insert(0, "utility", utility_words(meter.utility))
         part.insert(0, "meter", shown_name(labels, meter.name))
         parts.append(part.reset_index(drop=True))
     return pd.concat(parts, ignore_index=True) if parts else pd.DataFrame()
@@ -487,7 +488,7 @@ def meter_facts(
     bill_prices = run.assumptions.get("prices from bills") or {}
     rows = []
     for meter in run.meters:
-        facts = [("utility", meter.utility.replace("_", " ")), ("model", meter.model)]
+        facts = [("utility", utility_words(meter.utility)), ("model", meter.model)]
         facts += _account_facts(meter)
         facts += [
             (_label(key), in_words(value[meter.name]))

@@ -20,6 +20,7 @@ from engine.export.printing import PageLabels, set_up_printing
 from engine.export.saving import save_workbook
 from engine.export.sheets import put, write_table
 from engine.meter_labels import Labels, in_temperature_unit, shown_name
+from engine.meters import utility_words
 from engine.profiles import ProfiledMeter
 
 SHEETS = (
@@ -68,7 +69,7 @@ def write_profile_workbook(
             starts[name].append(row)
             counts[name] += len(frame)
             shown = shown_name(names, profile.meter.name)
-            put(sheet, row, 1, f"{shown} ({profile.meter.utility.replace('_', ' ')})")
+            put(sheet, row, 1, f"{shown} ({utility_words(profile.meter.utility)})")
             write_table(sheet, frame, first_row=row + 1, formats={"value": FIGURE_FORMAT})
     labels = PageLabels(project)
     for name, sheet in sheets.items():
