@@ -13,12 +13,13 @@ from dataclasses import dataclass
 import pandas as pd
 
 from engine.cleaning import CleanedSeries, CleaningStep, Finding, apply_steps
+from engine.meter_labels import naming_progress
 from engine.progress import Progress, step
 from engine.project import Project
 from engine.steps.cleaning import MeterReview
 from engine.steps.cleaning import review_meter as engine_review
 from engine.steps.cleaning_changes import LogChange, logged_change
-from engine.steps.labels import naming_progress
+from engine.steps.labels import meter_labels
 
 #: A change to the project's cleaning log, such as ``partial(Project.remove_cleaning_step, …)``.
 Change = Callable[[Project], object]
@@ -34,7 +35,7 @@ def review_after(
 ) -> tuple[MeterReview, LogChange | None]:
     """Make ``change`` (saved at once by the engine), then review ``meter`` afresh; the review
     and what the change did to the log (to undo it), None without a change."""
-    progress = naming_progress(progress, project)
+    progress = naming_progress(progress, meter_labels(project))
     done = None
     if change is not None:
         step(progress, 0.0, "saving the change in the project")

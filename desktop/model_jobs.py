@@ -17,11 +17,12 @@ import pandas as pd
 from engine.backtest import BacktestResult
 from engine.errors import ProjectError
 from engine.fit_brief import ReadingsBrief, ranking_sentence, readings_brief, recommended
+from engine.meter_labels import naming_progress
 from engine.models import MODEL_FAMILIES, EnergyModel
 from engine.progress import Progress, step
 from engine.project import Project
 from engine.steps.fitting import chosen_model, fit_meter, use_ranked_model
-from engine.steps.labels import naming_progress, temperature_unit
+from engine.steps.labels import meter_labels, temperature_unit
 from engine.steps.prepared_site import prepare_site
 from engine.wizard import DEFAULT_FAMILIES, DEFAULT_ORIGINS, default_families
 
@@ -133,7 +134,7 @@ def fit_report(
 
 def meter_view(project: Project, meter: str, progress: Progress | None = None) -> MeterView:
     """The meter's readings brief and its stored model (:func:`stored_report`)."""
-    progress = naming_progress(progress, project)
+    progress = naming_progress(progress, meter_labels(project))
     step(progress, 0.0, f"reading the cleaned readings of '{meter}'")
     readings = readings_brief(prepare_site(project, [meter]).meter(meter))
     part = progress.part(0.5, 1.0) if progress is not None else None
@@ -165,7 +166,7 @@ def use_model_report(
     project: Project, meter: str, model: str, progress: Progress | None = None
 ) -> ModelReport | None:
     """Keep ``model`` of the meter's ranking as its choice (:func:`use_ranked_model`)."""
-    progress = naming_progress(progress, project)
+    progress = naming_progress(progress, meter_labels(project))
     step(progress, 0.1, f"fitting the chosen model of '{meter}' on all its history")
     use_ranked_model(project, meter, model)
     return stored_report(project, meter, progress)

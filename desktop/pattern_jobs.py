@@ -12,11 +12,11 @@ from dataclasses import dataclass, field
 
 import pandas as pd
 
-from engine.meter_labels import in_temperature_unit, shown_name
+from engine.meter_labels import in_temperature_unit, naming_progress, shown_name
 from engine.profiles import ProfiledMeter, TemperatureResponse
 from engine.progress import Progress, step
 from engine.project import Project
-from engine.steps.labels import meter_labels, naming_progress, temperature_unit
+from engine.steps.labels import meter_labels, temperature_unit
 from engine.steps.profiling import profile_project_meter
 from engine.steps.site_calendar import stored_calendar
 from engine.words import counted
@@ -74,7 +74,7 @@ def compute_patterns(
     project: Project, request: PatternRequest, progress: Progress | None = None
 ) -> MeterPatterns:
     """Profile ``request.meter``'s cleaned readings with the project's calendar and weather."""
-    progress = naming_progress(progress, project)
+    progress = naming_progress(progress, meter_labels(project))
     step(progress, 0.0, f"profiling the cleaned readings of '{request.meter}'")
     found = profile_project_meter(project, request.meter, progress)
     profiles = found.profiles

@@ -24,6 +24,7 @@ from functools import cache
 from engine import units
 from engine.errors import InputError
 from engine.meters import CANONICAL_UNIT, UTILITIES, utility_words
+from engine.progress import Progress, reworded
 
 #: The project setting holding each meter's display name and unit read in, by raw name.
 LABELS_SETTING = "meter_labels"
@@ -132,6 +133,13 @@ def with_shown_names(text: str, labels: Labels) -> str:
         return text
     found = _names_pattern(tuple(sorted({*shown, *shown.values()}, key=len, reverse=True)))
     return found.sub(lambda match: shown.get(match.group(0), match.group(0)), text)
+
+
+def naming_progress(progress: Progress | None, labels: Labels) -> Progress | None:
+    """``progress`` whose messages name meters by their display names in ``labels``."""
+    if progress is None:
+        return None
+    return reworded(progress, lambda message: with_shown_names(message, labels))
 
 
 @cache

@@ -30,7 +30,7 @@ from engine.budget.refits import CALIBRATION_MONTHS, ERROR_MONTHS
 from engine.budget.summary import check_levels
 from engine.calendar import CampusCalendar
 from engine.errors import InputError, ProjectError
-from engine.meter_labels import with_shown_names
+from engine.meter_labels import naming_progress, with_shown_names
 from engine.models import MODEL_FAMILIES, ModelInputs
 from engine.parallel import MeterFailure, run_per_meter
 from engine.progress import Progress, step
@@ -48,7 +48,7 @@ from engine.steps.kept_models import (
     kept,
     ranking_row,
 )
-from engine.steps.labels import meter_labels, naming_progress
+from engine.steps.labels import meter_labels
 from engine.steps.prepared_site import prepare_site
 from engine.tariffs import Tariff, is_currency_code, read_tariff
 from engine.weather import TypicalYears, typical_year
@@ -263,7 +263,8 @@ def budget_project(
     The project's bill accounts (:mod:`engine.accounts`) are budgeted beside the meters
     unless ``with_accounts`` is False (by default they are when no ``meters`` are named).
     """
-    progress = naming_progress(progress, project)
+    labels = meter_labels(project)
+    progress = naming_progress(progress, labels)
     step(progress, 0.0, "preparing the meters")
     with_accounts = not meters if with_accounts is None else with_accounts
     site = prepare_site(project, meters or None)
@@ -354,7 +355,6 @@ def budget_project(
             utility: prices[utility].sentence(request.currency)
             for utility in sorted(priced_by_bills)
         }
-    labels = meter_labels(project)
     run.cautions = [with_shown_names(caution, labels) for caution in run.cautions]
     step(progress, 1.0, "budget ready")
     return ProjectBudget(

@@ -19,10 +19,11 @@ from engine.cleaning.quality import quality_summary, recommended_steps
 from engine.cleaning.replay import apply_steps
 from engine.cleaning.settings import CleaningSettings
 from engine.cleaning.steps import CleaningStep
+from engine.meter_labels import naming_progress
 from engine.meters import MeterSeries
 from engine.progress import Progress, step
 from engine.project import Project
-from engine.steps.labels import naming_progress
+from engine.steps.labels import meter_labels
 from engine.steps.site_calendar import stored_calendar
 from engine.weather import fill_hourly
 
@@ -86,7 +87,7 @@ def review_meter(
     weather-driven meter is judged against the temperature (``drivers``: as read once for
     many meters; read here when not given).
     """
-    progress = naming_progress(progress, project)
+    progress = naming_progress(progress, meter_labels(project))
     drivers = drivers if drivers is not None else SiteDrivers.of(project)
     meter, cleaned = cleaned_meter(project, name)
     current = replace(meter, values=cleaned.values.dropna())
@@ -120,7 +121,7 @@ def apply_recommended_everywhere(
     """Review each meter (all of them by default) and log its recommended fixes, every meter
     in one save; the new step ids by meter."""
     names = project.meter_names() if names is None else names
-    progress = naming_progress(progress, project)
+    progress = naming_progress(progress, meter_labels(project))
     drivers = SiteDrivers.of(project)
     applied: dict[str, list[int]] = {}
     with project.transaction():

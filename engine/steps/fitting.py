@@ -12,13 +12,14 @@ import pandas as pd
 from engine.backtest import BacktestResult
 from engine.budget.refits import REFIT_MONTHS
 from engine.errors import InputError
+from engine.meter_labels import naming_progress
 from engine.models import MODEL_FAMILIES, EnergyModel, ModelInputs, RefitNeeded, model_from_dict
 from engine.parallel import run_per_meter
 from engine.progress import Progress, step
 from engine.project import Project
 from engine.selection import ModelChoice
 from engine.steps.kept_models import keep_for_next_budget
-from engine.steps.labels import naming_progress
+from engine.steps.labels import meter_labels
 from engine.steps.prepared_site import prepare_site
 from engine.weather import TypicalYears
 from engine.wizard import (
@@ -71,7 +72,7 @@ def fit_meters(
     to repay them, or the Dask scheduler at ``scheduler``); every meter's result is kept in
     one save. A meter that fails is reported after the others are kept.
     """
-    progress = naming_progress(progress, project)
+    progress = naming_progress(progress, meter_labels(project))
     step(progress, 0.0, "preparing the meters")
     site = prepare_site(project, names)
     weather = None if site.hourly is None else TypicalYears(site.hourly, site.timezone)

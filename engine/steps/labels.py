@@ -19,9 +19,7 @@ from engine.meter_labels import (
     checked_temperature_unit,
     checked_utility,
     default_read_unit,
-    with_shown_names,
 )
-from engine.progress import Progress, reworded
 from engine.project import Project
 
 
@@ -106,11 +104,3 @@ def temperature_unit(project: Project) -> str:
 def set_temperature_unit(project: Project, text: str) -> None:
     """Show the project's temperatures in °F or °C from now on (the engine keeps °C)."""
     project.set_setting(TEMPERATURE_SETTING, checked_temperature_unit(text))
-
-
-def naming_progress(progress: Progress | None, project: Project) -> Progress | None:
-    """``progress`` whose messages name the project's meters by their display names."""
-    if progress is None:
-        return None
-    labels = meter_labels(project)
-    return reworded(progress, lambda message: with_shown_names(message, labels))

@@ -21,6 +21,7 @@ from engine.meter_labels import (
     checked_temperature_unit,
     in_temperature_unit,
     shown_name,
+    with_shown_names,
 )
 from engine.progress import Progress
 from engine.project import Project
@@ -36,7 +37,6 @@ from engine.steps.labels import (
     set_temperature_unit,
     store_label,
     temperature_unit,
-    with_shown_names,
 )
 from engine.steps.profiling import profile_project_meter
 
