@@ -11,6 +11,7 @@ from PySide6.QtWidgets import QApplication
 import engine
 from desktop.main_window import APP_NAME, MainWindow
 from desktop.preferences import ORGANISATION
+from engine.parallel import start_workers_early
 
 
 def prepared_application() -> QApplication:
@@ -32,4 +33,5 @@ def run_window(project: str | None = None) -> int:
     if project:
         window.open_project(project)
     window.show()
+    start_workers_early()  # the first budget's meters then start at once
     return app.exec()

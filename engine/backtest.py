@@ -562,6 +562,7 @@ def _plan(
     horizons: Sequence[int],
     weather_history: pd.Series | TypicalYears | None,
     season_length: int | None,
+    only_actual: bool = False,
 ) -> _Plan:
     if inputs.energy is None:
         raise InputError(
@@ -572,7 +573,9 @@ def _plan(
     steps = tuple(sorted({int(h) for h in horizons}))
     if not steps or steps[0] != 1:
         raise ValueError("the horizons must be whole months and include 1")
-    if isinstance(weather_history, TypicalYears):
+    if only_actual:
+        typical = None
+    elif isinstance(weather_history, TypicalYears):
         typical = weather_history
     else:
         weather = _hourly_history(inputs, weather_history)
@@ -581,7 +584,7 @@ def _plan(
     return _Plan(
         inputs=inputs,
         typical=typical,
-        conditions=(ACTUAL_WEATHER, TYPICAL_WEATHER) if typical is not None else (NO_WEATHER,),
+        conditions=_conditions(inputs, typical, only_actual),
         horizons=steps,
         season=season_length or max(round(_WEEK / inputs.interval), 1),
         month_names=local_months(inputs.index, inputs.timezone),
@@ -589,6 +592,14 @@ def _plan(
         + local.month.to_numpy(dtype=np.int64),
         last_month=_last_whole_month(inputs.index, inputs.interval, inputs.timezone),
     )
+
+
+def _conditions(
+    inputs: ModelInputs, typical: TypicalYears | None, only_actual: bool
+) -> tuple[str, ...]:
+    if only_actual and inputs.temperature is not None:
+        return (ACTUAL_WEATHER,)
+    return (ACTUAL_WEATHER, TYPICAL_WEATHER) if typical is not None else (NO_WEATHER,)
 
 
 @dataclass(frozen=True)
@@ -678,6 +689,7 @@ def run_backtest(
     keep_fitted: bool = False,
     race: Race | None = None,
     fitted: Mapping[str, Mapping[str, Fitted]] | None = None,
+    only_actual: bool = False,
     progress: Progress | None = None,
 ) -> BacktestResult:
     """Rolling-origin backtest of unfitted models on one meter's inputs.
@@ -708,6 +720,10 @@ def run_backtest(
         Model name → origin (``"YYYY-MM"``) → a model of the same settings already fitted on
         the data before that origin, with its fit seconds (e.g. by a shorter backtest): it is
         used instead of fitting again.
+    only_actual : bool, default False
+        Forecast under the weather that happened only (or none, without temperatures), not
+        under typical weather too: for a comparison that ranks on the actual weather alone,
+        such as the wizard's choice of orders, which then learns no typical years.
     progress : Progress, optional
         Stepped once per origin × model; cancelling stops the run with ``Cancelled``.
 
@@ -715,7 +731,7 @@ def run_backtest(
     -------
     BacktestResult
     """
-    plan = _plan(inputs, horizons, weather_history, season_length)
+    plan = _plan(inputs, horizons, weather_history, season_length, only_actual)
     named = _named(models)
     starts = backtest_origins(inputs.index, inputs.timezone, origins, inputs.interval)
     if len(starts) == 0:

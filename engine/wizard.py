@@ -267,6 +267,7 @@ def _tune(
         candidate = family(**{**model.settings(), **settings})
         if all(candidate.settings() != kept.settings() for kept in candidates.values()):
             candidates[str(number)] = candidate  # the defaults are often a candidate too
+    on_totals = model.family in _TUNED_ON_MONTH_TOTALS
     result = run_backtest(
         candidates,
         inputs,
@@ -274,9 +275,9 @@ def _tune(
         horizons=(1,),
         weather_history=weather,
         keep_fitted=True,
+        only_actual=not on_totals,
     )
     condition = ACTUAL_WEATHER if inputs.temperature is not None else NO_WEATHER
-    on_totals = model.family in _TUNED_ON_MONTH_TOTALS
     if on_totals:
         condition = _ranked_condition(result, rank_on)
     scored = [

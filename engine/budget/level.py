@@ -188,25 +188,24 @@ def _levels(days: pd.DataFrame, starts: pd.DatetimeIndex, error_days: int) -> np
 def past_months(days: pd.DataFrame, error_days: int) -> pd.DataFrame:
     """Per past month with errors and levels before it: ``r`` (its relative error), ``L``
     (the recent level before it) and ``b`` (the error window's), oldest first."""
-    number = days.index.year.to_numpy() * 12 + days.index.month.to_numpy() - 1
-    found, where = np.unique(number, return_inverse=True)
+    stamps = days.index.to_numpy()
+    found, where = np.unique(stamps.astype("datetime64[M]"), return_inverse=True)
     error = np.bincount(where, weights=days["error"].to_numpy(np.float64), minlength=len(found))
     forecast = np.bincount(
         where, weights=days["forecast"].to_numpy(np.float64), minlength=len(found)
     )
-    starts = pd.DatetimeIndex([f"{n // 12:04d}-{n % 12 + 1:02d}-01" for n in found])
-    levels = _levels(days, starts, error_days)
-    months = pd.DataFrame(
+    levels = _levels(days, pd.DatetimeIndex(found.astype(stamps.dtype)), error_days)
+    relative = _relative(error, forecast)
+    finite = np.isfinite(relative) & np.isfinite(levels).all(axis=1)
+    kept = finite & (np.abs(levels).max(axis=1, initial=0.0) <= MAX_GAP)
+    return pd.DataFrame(
         {
-            "month": starts.strftime("%Y-%m"),
-            "r": _relative(error, forecast),
-            "L": levels[:, 0],
-            "b": levels[:, 1],
+            "month": np.datetime_as_string(found[kept], unit="M"),
+            "r": relative[kept],
+            "L": levels[kept, 0],
+            "b": levels[kept, 1],
         }
     )
-    finite = np.isfinite(months[["r", "L", "b"]].to_numpy()).all(axis=1)
-    small = np.maximum(np.abs(months["L"]), np.abs(months["b"])) <= MAX_GAP
-    return months[finite & small].reset_index(drop=True)
 
 
 def carried_share(levels: np.ndarray, misses: np.ndarray) -> float:

@@ -96,13 +96,13 @@ class BudgetBacktest:
 
 def month_total(inputs: ModelInputs, start: pd.Timestamp, end: pd.Timestamp) -> float:
     """The metered kWh in ``[start, end)``, or NaN unless every interval has a reading."""
-    energy = inputs.energy
-    inside = energy[(energy.index >= start) & (energy.index < end)]
+    first, stop = inputs.index.searchsorted([start, end])  # the index is sorted
+    inside = inputs.energy.to_numpy(dtype=np.float64)[first:stop]
     interval = native_interval(inputs)
     expected = round((end - start) / DAY) if interval == DAY else int((end - start) // interval)
-    if inside.notna().sum() != expected:
+    if np.count_nonzero(~np.isnan(inside)) != expected:
         return float("nan")
-    return float(inside.sum())
+    return float(np.nansum(inside))
 
 
 def _origin_months(history: Mapping[str, ModelInputs], origins: int | Sequence[str]) -> list[str]:

@@ -16,6 +16,8 @@ order, stepping over days missing from the pool and wrapping from the last day t
 
 from __future__ import annotations
 
+import functools
+
 import numpy as np
 import pandas as pd
 
@@ -64,13 +66,34 @@ def _day_numbers(local: pd.DatetimeIndex) -> np.ndarray:
 
 def _hours_in_days(days: np.ndarray, timezone: str) -> np.ndarray:
     """How many hours each local day (day number) has: 23, 24 or 25."""
-    bounds = [
-        pd.DatetimeIndex(numbers.astype("datetime64[D]")).tz_localize(
-            timezone, ambiguous=True, nonexistent="shift_forward"
-        )
-        for numbers in (days, days + 1)
-    ]
-    return np.asarray((bounds[1] - bounds[0]) // HOUR, dtype=np.int64)
+    if len(days) == 0:
+        return np.zeros(0, dtype=np.int64)
+    first, last = int(days.min()), int(days.max())
+    return _day_lengths(timezone, first, last)[days - first]
+
+
+@functools.lru_cache(maxsize=32)
+def _day_lengths(timezone: str, first: int, last: int) -> np.ndarray:
+    """Hours of every local day from day number ``first`` to ``last``: the meters of a budget
+    and its past budgets ask for the same few ranges, so each is worked out once."""
+    numbers = np.arange(first, last + 2).astype("datetime64[D]")
+    midnights = pd.DatetimeIndex(numbers).tz_localize(
+        timezone, ambiguous=True, nonexistent="shift_forward"
+    )
+    lengths = np.asarray((midnights[1:] - midnights[:-1]) // HOUR, dtype=np.int64)
+    lengths.flags.writeable = False
+    return lengths
+
+
+def _fill_across(rows: np.ndarray) -> np.ndarray:
+    """Each unknown slot of each row from the next known slot, else the last known one."""
+    width = rows.shape[1]
+    slots = np.arange(width)
+    known = ~np.isnan(rows)
+    following = np.minimum.accumulate(np.where(known, slots, width)[:, ::-1], axis=1)[:, ::-1]
+    preceding = np.maximum.accumulate(np.where(known, slots, -1), axis=1)
+    source = np.where(following < width, following, preceding)
+    return np.take_along_axis(rows, np.clip(source, 0, width - 1), axis=1)
 
 
 def error_table(errors: pd.Series, timezone: str, step: pd.Timedelta) -> pd.DataFrame:
@@ -87,8 +110,11 @@ def error_table(errors: pd.Series, timezone: str, step: pd.Timedelta) -> pd.Data
     last_first = np.arange(len(values))[::-1]  # written last to first: the first of a repeat wins
     grid[row[last_first], local.hour.to_numpy()[last_first]] = values[last_first]
     whole = counts == _hours_in_days(numbers, timezone)
-    table = pd.DataFrame(grid[whole], index=numbers[whole], columns=range(24))
-    return table.bfill(axis=1).ffill(axis=1)
+    grid = grid[whole]
+    gaps = np.isnan(grid).any(axis=1)  # a day the clock skipped an hour: the next hour's error
+    if gaps.any():
+        grid[gaps] = _fill_across(grid[gaps])
+    return pd.DataFrame(grid, index=numbers[whole], columns=range(24))
 
 
 def shared_pool(tables: dict[str, pd.DataFrame]) -> np.ndarray:

@@ -18,6 +18,7 @@ from engine.export.finance_workbook import write_finance_workbook
 from engine.export.profile_workbook import write_profile_workbook
 from engine.export.tracking_workbook import write_tracking_workbook
 from engine.meter_labels import Labels, shown_name
+from engine.parallel import start_workers_early
 from engine.project import Project
 from engine.reading import ReadOptions, describe, read_file
 from engine.reading.report import describe_calendar
@@ -161,6 +162,7 @@ def fit(args: argparse.Namespace) -> int:
     families = [f.strip() for f in args.models.split(",") if f.strip()] if args.models else None
     if args.origins < 1:
         raise InputError("--origins must be at least 1.", hint="The default is 12.")
+    _start_workers(args)
     with Project.open(args.project) as project:
         meters = []
         outcomes = fit_meters(
@@ -217,6 +219,7 @@ def budget(args: argparse.Namespace) -> int:
     if args.project:
         with Project.open(args.project) as project:
             return _budget_report(args, project)
+    _start_workers(args)  # a one-shot budget models every meter: import while the files are read
     with tempfile.TemporaryDirectory(prefix="loadledger-") as folder:
         options = ReadOptions(timezone=args.timezone)
         weather = [args.weather_file] if args.weather_file else []
@@ -318,6 +321,13 @@ def _parallel(args: argparse.Namespace) -> dict:
         "scheduler": args.scheduler,
         "progress": terminal_progress(sys.stderr),
     }
+
+
+def _start_workers(args: argparse.Namespace) -> None:
+    """For a command that will model meters in local worker processes: let them import the
+    modelling code while this process reads the project or the files."""
+    if args.scheduler is None and args.workers != 1:
+        start_workers_early()
 
 
 def _contributions(outcome) -> list[dict]:

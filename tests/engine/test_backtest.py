@@ -251,6 +251,25 @@ def test_typical_weather_adds_the_weather_error(three_model_run: BacktestResult)
     )
 
 
+def test_only_the_actual_weather_scores_as_the_full_run_does(
+    three_years: ModelInputs, three_model_run: BacktestResult
+) -> None:
+    """The fit wizard ranks orders on the actual weather alone: asked for only that, the run
+    learns no typical weather and its scores are the full run's under the actual weather."""
+    models = {"truth": ScaledTruth(1.0), "low by 5 %": ScaledTruth(0.95)}
+    alone = run_backtest(models, three_years, only_actual=True)
+    assert alone.conditions == (ACTUAL_WEATHER,)
+    assert {card.condition for card in alone.scorecards} == {ACTUAL_WEATHER}
+    for name in models:
+        assert alone.scorecard(name, ACTUAL_WEATHER) == three_model_run.scorecard(
+            name, ACTUAL_WEATHER
+        )
+    no_weather = invented_inputs("2031-01-01", "2032-06-30", weather=False)
+    assert run_backtest([HourOfWeekMean()], no_weather, origins=3, only_actual=True).conditions == (
+        NO_WEATHER,
+    )
+
+
 def test_horizons_are_scored_only_on_whole_months(three_model_run: BacktestResult) -> None:
     scores = three_model_run.scores
     mine = scores[(scores["model"] == "low by 5 %") & (scores["weather"] == ACTUAL_WEATHER)]

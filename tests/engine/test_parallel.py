@@ -6,15 +6,17 @@ from __future__ import annotations
 
 import shutil
 import sqlite3
+import sys
 import threading
 import time
 from dataclasses import dataclass
 from pathlib import Path
 
 import pytest
+from worker_probe import ProbeJob, modelling_code_imported
 
 from engine.errors import InputError
-from engine.parallel import run_per_meter
+from engine.parallel import run_per_meter, start_workers_early
 from engine.progress import Cancelled, Progress
 from engine.project import Project
 from engine.steps.budgeting import budget_project, budget_request
@@ -107,3 +109,14 @@ def test_a_scheduler_that_cannot_be_reached_is_a_clear_error(new_site, tmp_path)
         request = budget_request(project, ["2026-01"], paths=100)
         with pytest.raises(InputError, match="cannot be reached"):
             budget_project(project, request, scheduler="tcp://127.0.0.1:9")
+
+
+@pytest.mark.skipif(sys.platform == "win32", reason="workers are spawned there, not forked")
+def test_workers_start_with_the_modelling_code_imported():
+    """The window and the command line start the workers' server early; workers forked from
+    it have the fit wizard imported before their first meter (the job imports none of it)."""
+    start_workers_early()
+    jobs = [ProbeJob("north"), ProbeJob("south")]
+    results, failures = run_per_meter(modelling_code_imported, jobs, workers=2)
+    assert failures == []
+    assert results == {"north": True, "south": True}

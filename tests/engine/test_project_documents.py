@@ -22,6 +22,7 @@ from engine.errors import ProjectError
 from engine.meter_labels import LABELS_SETTING
 from engine.models import model_from_dict
 from engine.project import FORMAT_VERSION, Project, documents
+from engine.project.columns import DamagedValue, from_json
 from engine.project.results_table import RESULT_KINDS
 from engine.steps import account_membership as membership
 from engine.steps.adopting import adopted_as_issued
@@ -320,3 +321,24 @@ def test_no_document_under_a_setting_is_no_setting(upgraded) -> None:
         assert stored_calendar(project) is None
     with Project.open(upgraded) as project:  # and the file still opens
         assert project.get_setting(CALENDAR_SETTING) is None
+
+
+@pytest.mark.parametrize(
+    "number",
+    [
+        "1e309",  # beyond float64's largest finite value, about 1.8e308 (IEEE 754)
+        "1.5E+400",
+        "9" * 250 + "e99",  # long digits that overflow with a two-digit exponent
+        "1" + "0" * 320 + ".5",  # no exponent at all
+    ],
+)
+def test_json_numbers_too_large_for_a_float_are_refused(number: str) -> None:
+    """A stored number that overflows a float is refused, not read as infinity, however it
+    is written."""
+    with pytest.raises(DamagedValue, match="a number too large to read"):
+        from_json(f'{{"kWh": [1.25, {number}]}}', "the test document")
+
+
+def test_json_numbers_that_only_look_large_are_read() -> None:
+    values = from_json("[1.5e-300, 2.5e+300, 0.000125, 12345678901234567890.5]", "numbers")
+    assert values == [1.5e-300, 2.5e300, 0.000125, 12345678901234567890.5]
