@@ -252,6 +252,14 @@ class OccupancyRule:
         )
 
 
+def with_holidays(calendar: CampusCalendar, code: str) -> CampusCalendar:
+    """Public holidays of ``code`` ("US", "US-IL", or "none" for no public holidays)."""
+    if code.lower() == "none":
+        return CampusCalendar(periods=calendar.periods)
+    country, _, region = code.partition("-")
+    return CampusCalendar(country, region or None, calendar.periods)
+
+
 def _epoch_day(day: date) -> int:
     return int(np.datetime64(day, "D").astype(np.int64))
 

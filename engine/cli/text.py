@@ -240,10 +240,10 @@ def _calendar_lines(report: dict) -> list[str]:
     where = report["country"] or "no country"
     if report["subdivision"]:
         where += f"-{report['subdivision']}"
-    lines = [
-        f"  {len(report['periods'])} campus periods; public holidays: {where} "
-        f"({len(report['public_holidays'])} in the covered years)"
-    ]
+    counted = (  # the periods' years; without periods the readings' years are used
+        f" ({len(report['public_holidays'])} in the covered years)" if report["periods"] else ""
+    )
+    lines = [f"  {len(report['periods'])} campus periods; public holidays: {where}{counted}"]
     return lines + [
         f"    {p['first_day']} .. {p['last_day']}  {p['kind']:<8} {p['name']}"
         for p in report["periods"]

@@ -9,7 +9,7 @@ from datetime import date, timedelta
 from pathlib import Path
 
 from engine.budget.periods import as_of_cut
-from engine.calendar import CampusCalendar, shift_to_year
+from engine.calendar import CampusCalendar, shift_to_year, with_holidays
 from engine.calendar_proposal import CalendarProposal, propose_for_site
 from engine.project import Project
 from engine.reading import ReadOptions, read_calendar
@@ -24,14 +24,6 @@ def with_file(calendar: CampusCalendar, path: str | Path, options: ReadOptions) 
     """The periods of ``path`` in place of the current ones, keeping the holidays' country."""
     periods = read_calendar(path, options).calendar.periods
     return replace(calendar, periods=periods)
-
-
-def with_holidays(calendar: CampusCalendar, code: str) -> CampusCalendar:
-    """Public holidays of ``code`` ("US", "US-IL", or "none" for no public holidays)."""
-    if code.lower() == "none":
-        return CampusCalendar(periods=calendar.periods)
-    country, _, region = code.partition("-")
-    return CampusCalendar(country, region or None, calendar.periods)
 
 
 def copied_forward(calendar: CampusCalendar) -> CampusCalendar:

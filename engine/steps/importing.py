@@ -9,6 +9,7 @@ from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from pathlib import Path
 
+from engine.calendar import CampusCalendar, with_holidays
 from engine.errors import InputError
 from engine.meter_labels import TEMPERATURE_SETTING
 from engine.progress import Progress, step
@@ -148,6 +149,8 @@ def store_files(project: Project, files: ImportedFiles, progress: Progress | Non
         if files.calendar is not None:
             _source(project, "calendar", files.calendar, files.options)
             store_calendar(project, files.calendar.calendar)
+        elif files.options.holidays:  # public holidays without a campus calendar file
+            store_calendar(project, with_holidays(CampusCalendar(), files.options.holidays))
         _keep_temperature_unit(project, files.weather)
 
 

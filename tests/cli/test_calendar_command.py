@@ -50,3 +50,18 @@ def test_holidays_follow_the_holidays_package(project):
     expected = holidays.country_holidays("US", subdiv="CA", years=sorted(years), observed=True)
     assert {h["date"] for h in report["public_holidays"]} == {d.isoformat() for d in expected}
     assert _run("calendar", project, "--holidays", "none", "--json")["public_holidays"] == []
+
+
+def test_new_keeps_public_holidays_given_without_a_calendar_file(tmp_path):
+    """`new --holidays` alone stores the country's holidays (it once stored none, silently)."""
+    stamps = pd.date_range("2025-06-01", periods=24 * 10, freq="h")
+    meters = tmp_path / "m.csv"
+    meters.write_text("Timestamp,Hall (kWh)\n" + "".join(f"{t:%Y-%m-%d %H:%M},1\n" for t in stamps))
+    target = tmp_path / "p.loadledger"
+    _run("new", target, "--meters", meters, "--timezone", "America/Chicago", "--holidays",
+         "US-IL", "--json")  # fmt: skip
+    report = _run("calendar", target, "--json")
+    assert (report["country"], report["subdivision"]) == ("US", "IL")
+    assert report["periods"] == []
+    text = loadledger("calendar", target).stdout
+    assert "public holidays: US-IL" in text and "covered years" not in text
