@@ -176,6 +176,28 @@ def fill_hourly(
     )
 
 
+def combined_stations(stations: Iterable[pd.Series]) -> pd.Series:
+    """One hourly series of the site's temperatures from several stations' readings.
+
+    Each station's readings are averaged per UTC hour; the station with the most hours is
+    taken as it is and every hour it lacks comes from the next station that has it (most
+    hours first). The usual way to keep a site's record whole with a backup or a second file
+    of the same station; two stations are never averaged, so a warmer rooftop sensor does not
+    shift the main station's readings.
+    """
+    hourly = [
+        reading.groupby(reading.index.floor("h")).mean()
+        for reading in (_utc_readings(station).dropna() for station in stations)
+    ]
+    hourly.sort(key=len, reverse=True)
+    if not hourly:
+        raise ValueError("no weather stations to combine")
+    combined = hourly[0]
+    for other in hourly[1:]:
+        combined = combined.combine_first(other)
+    return combined.rename("site")
+
+
 def daily_stats(temps: pd.Series, timezone: str) -> pd.DataFrame:
     """Temperature statistics per local calendar day, in the unit of ``temps``.
 

@@ -25,6 +25,7 @@ from engine.progress import Progress, step
 from engine.project import Project
 from engine.steps.labels import meter_labels
 from engine.steps.site_calendar import stored_calendar
+from engine.steps.site_weather import site_temperatures
 from engine.weather import fill_hourly
 
 
@@ -60,16 +61,11 @@ class SiteDrivers:
 
     @classmethod
     def of(cls, project: Project) -> SiteDrivers:
-        """The project's stored calendar and its weather station's temperatures.
-
-        A project with several stations has no one weather for its meters; they are then
-        judged without it.
-        """
-        stations = project.weather_stations()
-        temperatures = None
-        if len(stations) == 1:
-            temperatures = fill_hourly(project.load_weather(stations[0])).hourly
-        return cls(stored_calendar(project), temperatures)
+        """The project's stored calendar and its site's temperatures (several stations
+        combined, :func:`engine.steps.site_weather.site_temperatures`)."""
+        temperatures = site_temperatures(project)
+        hourly = None if temperatures is None else fill_hourly(temperatures).hourly
+        return cls(stored_calendar(project), hourly)
 
 
 def review_meter(

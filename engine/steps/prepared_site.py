@@ -15,13 +15,14 @@ from engine.project import Project
 from engine.ready_meters import PreparedSite, ReadyMeter, model_inputs
 from engine.steps.cleaning import cleaned_meter
 from engine.steps.site_calendar import stored_calendar
+from engine.steps.site_weather import site_temperatures
 from engine.weather import fill_hourly
 
 
 def prepare_site(project: Project, names: Sequence[str] | None = None) -> PreparedSite:
     """Make the named meters (None: all; an empty list: none) of ``project`` ready, each once."""
     calendar = stored_calendar(project) or CampusCalendar()
-    temperatures = project.load_weather() if project.weather_stations() else None
+    temperatures = site_temperatures(project)
     hourly = None if temperatures is None else fill_hourly(temperatures).hourly
     utilities = {m["name"]: m["utility"] for m in project.summary()["meters"]}
     chosen = list(names) if names is not None else project.meter_names()

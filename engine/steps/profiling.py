@@ -15,6 +15,7 @@ from engine.progress import Progress
 from engine.project import Project
 from engine.steps.cleaning import cleaned_meter
 from engine.steps.site_calendar import stored_calendar
+from engine.steps.site_weather import site_temperatures
 
 
 def profile_project_meter(
@@ -28,7 +29,7 @@ def profile_project_meter(
     labels = None
     if calendar is not None:
         labels = label_intervals(meter.values.index, meter.timezone, calendar)
-    temps = project.load_weather() if project.weather_stations() else None
+    temps = site_temperatures(project)
     profiles = profile_meter(
         meter, labels, temps, progress=progress, weather_fit_days=working_days(meter, calendar)
     )

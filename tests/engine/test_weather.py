@@ -15,6 +15,7 @@ from engine.errors import InputError
 from engine.weather import (
     TypicalWeather,
     celsius_to_fahrenheit,
+    combined_stations,
     daily_stats,
     fahrenheit_to_celsius,
     fill_hourly,
@@ -287,3 +288,19 @@ def test_typical_years_are_learned_once_and_equal_typical_year() -> None:
     for _ in range(2):
         with pytest.raises(InputError, match="typical"):
             shared.before(too_early)
+
+
+def test_combined_stations_keep_the_main_station_and_fill_only_its_missing_hours() -> None:
+    hours = pd.date_range("2026-01-01", periods=6, freq="h", tz="UTC")
+    main = pd.Series([1.0, 2.0, np.nan, 4.0, 5.0, 6.0], index=hours)  # 5 hours
+    # A backup reading every 30 minutes (averaged per hour), on another zone's clock, warmer.
+    halves = pd.date_range("2026-01-01", periods=12, freq="30min", tz="UTC")
+    backup = pd.Series(np.arange(12.0) + 100, index=halves.tz_convert("Europe/Berlin"))
+    short = pd.Series([-5.0], index=hours[:1])
+    site = combined_stations([short, backup.iloc[:6], main])
+    assert site.index.equals(hours) and site.name == "site"
+    # the main station's hours as they are, never averaged with the backup's
+    assert site.drop(hours[2]).tolist() == [1.0, 2.0, 4.0, 5.0, 6.0]
+    assert site[hours[2]] == pytest.approx((104 + 105) / 2)  # the hour it lacked, hour-averaged
+    with pytest.raises(ValueError):
+        combined_stations([])
