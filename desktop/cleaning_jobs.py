@@ -82,7 +82,11 @@ def preview_fix(review: MeterReview, finding: Finding) -> FixPreview:
     after = None
     if finding.fix is not None:
         replayed = apply_steps(
-            meter.values, [*logged, finding.fix], interval=meter.interval, timezone=meter.timezone
+            meter.values,
+            [*logged, finding.fix],
+            interval=meter.interval,
+            timezone=meter.timezone,
+            calendar=review.cleaned.calendar,
         )
         after = _between(replayed, first, stop)
     grid = _between(review.cleaned, first, stop).values.index

@@ -7,6 +7,8 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
+from engine.calendar import CampusCalendar
+
 
 @dataclass(frozen=True)
 class CleanedSeries:
@@ -14,15 +16,20 @@ class CleanedSeries:
 
     ``values`` are kWh per interval (NaN where still missing); ``estimated`` marks values a step
     filled or changed; ``excluded`` marks readings kept for totals but left out of model fitting.
+    ``calendar`` is the site's campus calendar the steps were replayed with (fills compare like
+    days with like), None without one.
     """
 
     values: pd.Series
     estimated: pd.Series
     excluded: pd.Series
     interval: pd.Timedelta
+    calendar: CampusCalendar | None = None
 
     @classmethod
-    def start(cls, grid: pd.Series, interval: pd.Timedelta) -> CleanedSeries:
+    def start(
+        cls, grid: pd.Series, interval: pd.Timedelta, calendar: CampusCalendar | None = None
+    ) -> CleanedSeries:
         """The state before any step: the readings as recorded, nothing marked."""
         return cls.from_arrays(
             grid.index,
@@ -30,6 +37,7 @@ class CleanedSeries:
             np.zeros(len(grid), dtype=bool),
             np.zeros(len(grid), dtype=bool),
             interval,
+            calendar,
         )
 
     @classmethod
@@ -40,12 +48,14 @@ class CleanedSeries:
         estimated: np.ndarray,
         excluded: np.ndarray,
         interval: pd.Timedelta,
+        calendar: CampusCalendar | None = None,
     ) -> CleanedSeries:
         return cls(
             values=pd.Series(values, index=index, name="kwh"),
             estimated=pd.Series(estimated, index=index, name="estimated"),
             excluded=pd.Series(excluded, index=index, name="excluded"),
             interval=interval,
+            calendar=calendar,
         )
 
     def arrays(self) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -61,5 +71,5 @@ class CleanedSeries:
     ) -> CleanedSeries:
         """The same grid with new arrays."""
         return CleanedSeries.from_arrays(
-            self.values.index, values, estimated, excluded, self.interval
+            self.values.index, values, estimated, excluded, self.interval, self.calendar
         )

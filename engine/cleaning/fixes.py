@@ -12,7 +12,9 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
+from engine.calendar import CampusCalendar
 from engine.cleaning.cleaned import CleanedSeries
+from engine.cleaning.like_days import CalendarDays, LikeDays
 from engine.cleaning.pattern import week_places, weekly_pattern
 from engine.cleaning.steps import step_range
 from engine.errors import InputError
@@ -52,7 +54,8 @@ def profile_fill(state: CleanedSeries, params: Mapping[str, Any]) -> CleanedSeri
 
     The typical value of each interval is the median of the meter's own readings at the same
     local hour of the week in the ``weeks`` (default :data:`NEARBY_WEEKS`) weeks either side,
-    leaving out the range itself and values that are estimates. It is then scaled by the ratio of
+    leaving out the range itself and values that are estimates; with a campus calendar, of days
+    of the same kind (:func:`typical_near`). It is then scaled by the ratio of
     actual to typical energy over :data:`LEVEL_CONTEXT` either side, limited to
     :data:`LEVEL_LIMITS`, so a fill in a cold snap or a quiet week follows its surroundings.
     """
@@ -169,21 +172,29 @@ def typical_near(
     stop: int,
     timezone: str,
     weeks: int = NEARBY_WEEKS,
+    calendar: CampusCalendar | None = None,
 ) -> tuple[int, np.ndarray]:
     """Typical values around grid positions ``[first, stop)`` from nearby weeks.
 
     Returns ``(offset, typical)`` where ``typical`` covers grid positions from ``offset`` to
     ``weeks`` weeks past the range. Only ``usable`` readings outside the range count; a position
-    whose hour of the week has no such reading is NaN.
+    whose hour of the week has no such reading is NaN. With the campus ``calendar`` a
+    position's typical value comes from nearby days of its own kind where they have readings
+    (:class:`engine.cleaning.like_days.LikeDays`): the first days of a term are filled like
+    term days, not like the break before them.
     """
     reach = pd.Timedelta(weeks=weeks)
     low = int(index.searchsorted(index[first] - reach, side="left"))
     high = int(index.searchsorted(index[stop - 1] + reach, side="right"))
     sample = np.where(usable[low:high], values[low:high], np.nan)
     sample[first - low : stop - low] = np.nan
-    places = week_places(index[low:high], timezone, interval)
-    pattern = weekly_pattern(sample, places, weeks=places.n_weeks, min_samples=1)
-    return low, pattern.typical
+    nearby = index[low:high]
+    places = week_places(nearby, timezone, interval)
+    if calendar is None:
+        return low, weekly_pattern(sample, places, weeks=places.n_weeks, min_samples=1).typical
+    days = CalendarDays.label(nearby, timezone, calendar)
+    like = LikeDays(nearby, timezone, interval, places.n_weeks, days)
+    return low, like.pattern(sample, min_samples=1).typical
 
 
 def _typical_for_step(
@@ -204,6 +215,7 @@ def _typical_for_step(
         stop,
         _timezone(params),
         _weeks(params),
+        state.calendar,
     )
 
 

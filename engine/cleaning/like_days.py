@@ -30,7 +30,14 @@ import numpy as np
 import pandas as pd
 
 from engine.calendar import CampusCalendar, label_intervals
-from engine.cleaning.pattern import Pattern, WeekPlaces, day_places, week_places, weekly_pattern
+from engine.cleaning.pattern import (
+    MIN_SAMPLES,
+    Pattern,
+    WeekPlaces,
+    day_places,
+    week_places,
+    weekly_pattern,
+)
 
 DAY_CLASSES: tuple[str, ...] = ("ordinary", "summer", "break", "closure")
 ORDINARY, SUMMER, BREAK, CLOSURE = range(len(DAY_CLASSES))
@@ -102,12 +109,13 @@ class LikeDays:
         """Each interval's place by local hour of the day (:func:`day_places`)."""
         return day_places(self.index, self.timezone, self.interval)
 
-    def pattern(self, values: np.ndarray) -> Pattern:
+    def pattern(self, values: np.ndarray, min_samples: int = MIN_SAMPLES) -> Pattern:
         """Typical value and robust spread of each interval from days of its own class.
 
-        ``values`` are on the grid, NaN where missing.
+        ``values`` are on the grid, NaN where missing. A typical value needs ``min_samples``
+        readings; where its class has fewer, all days' pattern stands in.
         """
-        every_day = weekly_pattern(values, self.by_week, self.weeks)
+        every_day = weekly_pattern(values, self.by_week, self.weeks, min_samples)
         days = self.days
         if days is None:
             return every_day
@@ -119,7 +127,7 @@ class LikeDays:
             if not members.any():
                 continue
             own = weekly_pattern(
-                np.where(members & ~days.holiday, values, np.nan), where, self.weeks
+                np.where(members & ~days.holiday, values, np.nan), where, self.weeks, min_samples
             )
             known = members & np.isfinite(own.typical)
             typical[known] = own.typical[known]

@@ -9,6 +9,7 @@ from collections.abc import Sequence
 
 import pandas as pd
 
+from engine.calendar import CampusCalendar
 from engine.cleaning.cleaned import CleanedSeries
 from engine.cleaning.fixes import FIXES
 from engine.cleaning.grid import infer_interval, to_grid
@@ -22,6 +23,7 @@ def apply_steps(
     *,
     interval: pd.Timedelta | None = None,
     timezone: str | None = None,
+    calendar: CampusCalendar | None = None,
 ) -> CleanedSeries:
     """Replay ``steps`` in order on a meter's raw readings.
 
@@ -36,6 +38,9 @@ def apply_steps(
         The meter's interval; inferred from the readings when not given.
     timezone : str, optional
         The site's zone; needed for daily meters, whose intervals are local calendar days.
+    calendar : CampusCalendar, optional
+        The site's campus calendar: fills from the meter's typical week then take each day's
+        typical value from days of its own kind (term, break, closure, summer session).
 
     Returns
     -------
@@ -51,7 +56,8 @@ def apply_steps(
     """
     meter = str(raw.name) if raw.name is not None else "meter"
     step_interval = interval if interval is not None else infer_interval(raw.index)
-    state = CleanedSeries.start(to_grid(raw, step_interval, meter, timezone), step_interval)
+    grid = to_grid(raw, step_interval, meter, timezone)
+    state = CleanedSeries.start(grid, step_interval, calendar)
     for number, step in enumerate(steps, start=1):
         try:
             state = FIXES[step.kind](state, step.params)

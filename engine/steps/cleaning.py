@@ -43,10 +43,17 @@ class MeterReview:
 
 
 def cleaned_meter(project: Project, name: str) -> tuple[MeterSeries, CleanedSeries]:
-    """The raw meter and its cleaned series replayed from the project's active steps."""
+    """The raw meter and its cleaned series replayed from the project's active steps (with
+    its campus calendar, which fills follow)."""
     meter = project.load_meter(name)
     steps = [CleaningStep.from_dict(s) for s in project.cleaning_steps(name)]
-    cleaned = apply_steps(meter.values, steps, interval=meter.interval, timezone=meter.timezone)
+    cleaned = apply_steps(
+        meter.values,
+        steps,
+        interval=meter.interval,
+        timezone=meter.timezone,
+        calendar=stored_calendar(project),
+    )
     return meter, cleaned
 
 

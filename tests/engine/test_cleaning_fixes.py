@@ -104,6 +104,35 @@ def test_profile_fill_follows_the_level_around_the_gap():
     np.testing.assert_allclose(filled.values.iloc[first:stop], busy.iloc[first:stop], rtol=1e-12)
 
 
+def test_profile_fill_with_the_calendar_fills_term_days_like_term_days():
+    """A gap in the first week of term, after a four-week break at half the load: from nearby
+    weeks alone the fill mixes break and term days; with the campus calendar it takes term
+    days only and recovers the meter (invented ground truth, exactly weekly in each period)."""
+    from datetime import date
+
+    from engine.calendar import CampusCalendar, CampusPeriod
+
+    truth = weekly_truth(weeks=10)  # 2024-01-01 (a Monday) to 2024-03-10
+    local_days = truth.index.tz_convert(ZONE).tz_localize(None).normalize()
+    in_break = (local_days >= "2024-01-22") & (local_days < "2024-02-19")
+    readings = truth.where(~in_break, truth * 0.5)
+    gap = np.flatnonzero((local_days >= "2024-02-19") & (local_days < "2024-02-22"))
+    calendar = CampusCalendar(
+        periods=(
+            CampusPeriod("Autumn term", date(2023, 10, 1), date(2024, 1, 21), "term"),
+            CampusPeriod("Winter break", date(2024, 1, 22), date(2024, 2, 18), "break"),
+            CampusPeriod("Spring term", date(2024, 2, 19), date(2024, 6, 30), "term"),
+        )
+    )
+    step = span(readings, gap[0], gap[-1] + 1, timezone=ZONE)
+    like = profile_fill(CleanedSeries.start(readings, HOUR, calendar), step)
+    blind = profile_fill(state_of(readings), step)
+    expected = truth.iloc[gap].sum()
+    assert like.values.iloc[gap].sum() == pytest.approx(expected, rel=0.02)  # level scaling
+    assert blind.values.iloc[gap].sum() < 0.95 * expected  # the break pulls the fill down
+    assert like.calendar is calendar and like.estimated.iloc[gap].all()
+
+
 def test_profile_fill_scaling_is_limited():
     truth = weekly_truth(weeks=12)
     first, stop = 6 * 168 + 24, 6 * 168 + 72
