@@ -180,8 +180,10 @@ class BudgetScreen(TaskScreen):
         )
         unfitted = meters_without_model(project) if started else []
         if unfitted:
+            labels = meter_labels(project)
+            names = ", ".join(shown_name(labels, name) for name in unfitted)
             self.notice.say(
-                f"{', '.join(unfitted)} {'has' if len(unfitted) == 1 else 'have'} no fitted "
+                f"{names} {'has' if len(unfitted) == 1 else 'have'} no fitted "
                 "model yet: the budget first compares the default models for "
                 f"{'it' if len(unfitted) == 1 else 'them'}, which takes a while. Fit on the "
                 "Models step to choose yourself.",

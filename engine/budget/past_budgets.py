@@ -36,7 +36,7 @@ from engine.budget.summary import check_levels, roll_up_groups, spreads
 from engine.budget.weather_paths import WeatherAssumption
 from engine.errors import InputError
 from engine.models.base import ModelInputs
-from engine.progress import Progress, step
+from engine.progress import Progress, reworded, step
 
 #: The metered month total and the naive budgets' totals of each past month.
 _MEASURED = ("actual kWh", LAST_YEAR_COLUMN, SEASONAL_NAIVE_COLUMN)
@@ -103,6 +103,18 @@ def month_total(inputs: ModelInputs, start: pd.Timestamp, end: pd.Timestamp) -> 
     if np.count_nonzero(~np.isnan(inside)) != expected:
         return float("nan")
     return float(np.nansum(inside))
+
+
+def _past_month_progress(
+    progress: Progress | None, number: int, months: Sequence[str]
+) -> Progress | None:
+    """Progress of one past budget, its messages naming the past month ("Past budget for
+    2025-11 (3 of 12): forecasting Library"), so they do not read as the budget itself."""
+    if progress is None:
+        return None
+    part = progress.part(number / len(months), (number + 1) / len(months))
+    where = f"Past budget for {months[number]} ({number + 1} of {len(months)})"
+    return reworded(part, lambda message: f"{where}: {message.removeprefix('Budget: ')}")
 
 
 def _origin_months(history: Mapping[str, ModelInputs], origins: int | Sequence[str]) -> list[str]:
@@ -202,9 +214,7 @@ def backtest_budget(
                 error_days=error_days,
                 rng=generator,
                 correct_level=correct_level,
-                progress=None
-                if progress is None
-                else progress.part(number / len(months), (number + 1) / len(months)),
+                progress=_past_month_progress(progress, number, months),
             )
         except InputError as error:
             skipped.append({"month": month, "message": error.message})

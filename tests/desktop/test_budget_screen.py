@@ -28,6 +28,7 @@ from desktop.budget_screen import BudgetScreen
 from desktop.budget_table import ROW_ROLE
 from desktop.session import Session
 from engine.project import Project
+from engine.steps.labels import relabelled, store_label
 
 METERS = FITTED_METERS
 PATHS = 200
@@ -410,3 +411,20 @@ def test_the_chart_picker_shows_the_whole_campus_title(qtbot):
     needed = picker.fontMetrics().horizontalAdvance(title)
     assert field.width() >= needed, (field.width(), needed)
     assert picker.width() >= 0.8 * panel.width()  # the row's width, for longer titles too
+
+
+def test_meters_still_to_model_are_named_as_shown(qtbot, unbudgeted, tmp_path):
+    """The notice that a budget first fits models names meters by their display names."""
+    path = Path(shutil.copy(unbudgeted, tmp_path))
+    with Project.open(path) as project:
+        store_label(project, relabelled(project, "Science Labs", display_name="North lab block"))
+        for result in project.results("model", "Science Labs"):
+            project.remove_result(result["id"])
+    for screen in _screen_on(qtbot, path):
+        screen.form.paths.setValue(PATHS)
+        screen.run()
+        text = screen.notice.text.text()
+        screen.task_bar.cancel_button.click()
+        wait_until_idle(qtbot, screen)
+    assert text.startswith("North lab block has no fitted model yet")
+    assert "Science Labs" not in text

@@ -75,7 +75,7 @@ class Walk:
         box.activated.emit(position)
 
     def idle(self, screen, timeout: int = TASK_TIMEOUT_MS) -> None:
-        self.qtbot.waitUntil(lambda: screen.task is None, timeout=timeout)
+        self.qtbot.waitUntil(lambda: not screen.runner.busy, timeout=timeout)
         self.qtbot.wait(50)
 
 
@@ -213,7 +213,7 @@ def test_first_use_from_sample_files_to_a_workbook(qtbot, monkeypatch, tmp_path)
     qtbot.wait(3000)
     walk.shot("budget-running")
     said: list[str] = []
-    while budget.task is not None:  # what the task bar tells the person, as it changes
+    while budget.runner.busy:  # what the task bar tells the person, as it changes
         words = budget.task_bar.message.text()
         if not said or said[-1] != words:
             said.append(words)

@@ -35,6 +35,7 @@ from engine.budget import (
 from engine.budget.calibration import MAX_SCALE, site_calibrations
 from engine.budget.skill import LAST_YEAR, skill
 from engine.errors import InputError
+from engine.progress import Progress
 from tests.engine.test_budget_campus import (
     METERS,
     Campus,
@@ -234,6 +235,33 @@ def test_corrected_month_ahead_ranges_hold_about_four_months_in_five(
         assert calibration.held == int(
             ((rows["actual kWh"] >= rows["P10"]) & (rows["actual kWh"] <= rows["P90"])).sum()
         )
+
+
+def test_past_budget_progress_names_the_past_month(campus: Campus) -> None:
+    """What the window's task bar shows while past budgets run says which past month it is,
+    not "forecasting Quarry Library" again and again as if it were the budget itself."""
+    refits = {name: rolling_refits(WeekSlotDegreeModel(), inputs, 3)
+              for name, inputs in campus.inputs.items()}  # fmt: skip
+    utility = {meter.name: meter.utility for meter in METERS}
+    latest = [
+        MeterPlan(name, utility[name], refits[name].models[max(refits[name].models)], inputs)
+        for name, inputs in campus.inputs.items()
+    ]
+    said: list[str] = []
+    backtest_budget(
+        plans_from_refits(latest, refits),
+        campus.inputs,
+        2,
+        weather=WeatherAssumption.past_years(campus.weather, years=3, draws=5),
+        paths=50,
+        error_days=366,
+        rng=1,
+        progress=Progress(lambda fraction, message: said.append(message)),
+    )
+    inner = [message for message in said if ": " in message]
+    assert inner and all(message.startswith("Past budget for 2024-") for message in inner)
+    assert any(message.endswith("(2 of 2): forecasting Quarry Library") for message in inner)
+    assert not any("Budget:" in message for message in said)
 
 
 def test_a_calibration_scales_a_meters_ranges_and_is_reported(campus: Campus) -> None:
