@@ -13,6 +13,7 @@ import pandas as pd
 from PySide6.QtCore import Qt, Signal
 from PySide6.QtWidgets import (
     QHBoxLayout,
+    QInputDialog,
     QLabel,
     QMessageBox,
     QPushButton,
@@ -32,10 +33,15 @@ from desktop.quality_panel import QualityPanel
 from desktop.session import Session
 from desktop.task_runner import Job
 from desktop.workers import Failure
-from engine.cleaning import Finding, accepted_step, recommended_steps
+from engine.cleaning import Finding, accepted_step, likely_factor, recommended_steps
 from engine.errors import InputError, ProjectError
 from engine.project import Project
-from engine.steps.cleaning import MeterReview, apply_recommended, apply_recommended_everywhere
+from engine.steps.cleaning import (
+    MeterReview,
+    apply_recommended,
+    apply_recommended_everywhere,
+    rescale_after_shift,
+)
 
 #: Width of the column holding the quality summary and the log, enough for their words.
 SIDE_WIDTH = 380
@@ -89,6 +95,13 @@ class CleaningScreen(MeterScreen):
             "the log says so, and the finding no longer shows while that step is active."
         )
         self.accept_button.clicked.connect(self.accept_selected)
+        self.rescale_button = QPushButton("Correct the scale…")
+        self.rescale_button.setToolTip(
+            "For a level change caused by the meter (its multiplier or unit changed and the "
+            "export kept the old one): multiply the readings from the change on by a factor "
+            "from the meter's records."
+        )
+        self.rescale_button.clicked.connect(lambda: self.rescale_selected())
         self.plot = FixPreviewPlot()
         self.quality = QualityPanel()
         self.log = CleaningLogView()
@@ -110,6 +123,7 @@ class CleaningScreen(MeterScreen):
         controls.addWidget(self.apply_everywhere_button)
         fix_row = QHBoxLayout()
         fix_row.addWidget(self.explanation, 1)
+        fix_row.addWidget(self.rescale_button, 0, Qt.AlignmentFlag.AlignTop)
         fix_row.addWidget(self.accept_button, 0, Qt.AlignmentFlag.AlignTop)
         fix_row.addWidget(self.apply_fix_button, 0, Qt.AlignmentFlag.AlignTop)
         preview = QWidget()
@@ -179,6 +193,31 @@ class CleaningScreen(MeterScreen):
             change,
             f"The {what} is accepted as expected.",
             f"accept the {what} on {{meter}} as expected",
+        )
+
+    def rescale_selected(self, factor: float | None = None) -> None:
+        """Multiply the selected level shift's readings, from the change to the last reading,
+        by ``factor`` (asked for, with the likely one offered, when not given)."""
+        finding, review = self.findings.selected(), self.review
+        if finding is None or finding.kind != "level_shift" or review is None:
+            return
+        if factor is None:
+            factor, ok = QInputDialog.getDouble(
+                self,
+                "Correct the scale",
+                _rescale_question(finding, review.meter.timezone),
+                likely_factor(finding),
+                0.0001,
+                10000.0,
+                4,
+            )
+            if not ok:
+                return
+        change = partial(rescale_after_shift, review=review, finding=finding, factor=factor)
+        self._change(
+            change,
+            f"Logged: the readings from the level change on multiplied by {factor:g}.",
+            f"rescale readings on {{meter}} by {factor:g}",
         )
 
     def apply_recommended_everywhere(self) -> None:
@@ -307,6 +346,10 @@ class CleaningScreen(MeterScreen):
         previewed = self.preview is not None and self.preview.after is not None
         self.apply_fix_button.setEnabled(idle and previewed)
         self.accept_button.setEnabled(idle and self.findings.selected() is not None)
+        chosen = self.findings.selected()
+        shift = chosen is not None and chosen.kind == "level_shift"
+        self.rescale_button.setVisible(shift)
+        self.rescale_button.setEnabled(idle and shift and self.review is not None)
 
     def _show_log(self, meter: str) -> None:
         """The meter's log as the project holds it, undone steps included.
@@ -359,3 +402,15 @@ class CleaningScreen(MeterScreen):
     def _show_empty(self, words: str) -> None:
         self._clear_review(words)
         self.log.clear(words)
+
+
+def _rescale_question(finding: Finding, timezone: str) -> str:
+    """What the scale dialog asks: the change found, and the factor that would undo it."""
+    day = finding.start.tz_convert(timezone).strftime("%a %Y-%m-%d")
+    ratio = float(finding.measures["ratio"])
+    return (
+        f"Daily energy changed ×{ratio:.3g} from {day} on and stayed there.\n"
+        "If the meter's multiplier or unit changed and the readings kept the old one, multiply "
+        "the readings from the change to the last reading by (take the factor from the "
+        "meter's records; the likely one is offered):"
+    )

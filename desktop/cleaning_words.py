@@ -43,6 +43,7 @@ STEP_NAMES: dict[str, str] = {
     "remove": "remove readings",
     "cap": "cap readings",
     "exclude": "leave out of fitting",
+    "rescale": "rescale readings",
     "accept": "accepted as expected",
 }
 

@@ -18,8 +18,10 @@ from engine.cleaning.fixes import FIXES
 from engine.cleaning.quality import (
     RECOMMENDED_KINDS,
     accepted_step,
+    likely_factor,
     quality_summary,
     recommended_steps,
+    rescaled_step,
 )
 from engine.cleaning.replay import apply_steps
 from engine.cleaning.settings import CleaningSettings
@@ -39,6 +41,8 @@ __all__ = [
     "apply_steps",
     "find_all",
     "find_clock_problems",
+    "likely_factor",
     "quality_summary",
     "recommended_steps",
+    "rescaled_step",
 ]

@@ -144,6 +144,25 @@ def exclude(state: CleanedSeries, params: Mapping[str, Any]) -> CleanedSeries:
     return state.replaced(values, estimated, excluded)
 
 
+def rescale(state: CleanedSeries, params: Mapping[str, Any]) -> CleanedSeries:
+    """Multiply the readings in the range by ``factor``: a meter multiplier (a current
+    transformer's ratio) or unit that changed and the export kept the old one. The readings
+    are corrected measurements, not estimates, so they stay unmarked; the log says what was
+    done."""
+    values, estimated, excluded = state.arrays()
+    first, stop = step_range(state.values.index, params)
+    factor = params.get("factor")
+    if isinstance(factor, bool) or not isinstance(factor, int | float):
+        raise InputError(f"the rescale factor must be a number, not {factor!r}.")
+    if not (np.isfinite(factor) and factor > 0):
+        raise InputError(
+            f"the rescale factor must be a positive number, not {factor}.",
+            hint="Take it from the meter's records, e.g. 2 for a multiplier that halved.",
+        )
+    values[first:stop] *= float(factor)
+    return state.replaced(values, estimated, excluded)
+
+
 def accept(state: CleanedSeries, params: Mapping[str, Any]) -> CleanedSeries:
     """Change nothing: the finding named in ``params`` is expected, and reviews leave it out
     (:func:`engine.steps.cleaning.review_meter`). The range must still lie on the grid."""
@@ -159,6 +178,7 @@ FIXES: dict[str, Fix] = {
     "remove": remove,
     "cap": cap,
     "exclude": exclude,
+    "rescale": rescale,
     "accept": accept,
 }
 

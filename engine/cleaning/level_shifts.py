@@ -175,7 +175,8 @@ def _shift(
         f"{ratio_text(settings.level_ratio)} or more, up or down, that last are reported; the "
         "same change a year earlier or later would mark a season or a calendar break instead. "
         "If equipment or the building's use changed, fit models on the readings after this "
-        f"date; if the meter, its multiplier or its unit changed, correct the import.{unit} "
+        "date; if the meter, its multiplier or its unit changed, rescale the readings from "
+        f"the change on by the factor in the meter's records.{unit} "
         "Nothing is changed automatically."
     )
     fix = (

@@ -75,3 +75,58 @@ def accepted_step(finding: Finding, note: str = "") -> CleaningStep:
         },
         note or "accepted as expected",
     )
+
+
+#: Factors a meter's readings are commonly off by when its multiplier or unit changed: current
+#: transformer ratios that doubled or halved, and decimal unit slips (Wh, kWh, MWh). Common
+#: practice; the person confirms the factor from the meter's records.
+_USUAL_FACTORS = (1000.0, 100.0, 10.0, 5.0, 4.0, 3.0, 2.0, 0.5, 1 / 3, 0.25, 0.2, 0.1, 0.01, 0.001)
+
+
+def likely_factor(finding: Finding) -> float:
+    """The factor that would undo a level shift: the usual one nearest the shift's inverse
+    ratio when within 10 % of it, else that inverse rounded to two significant digits."""
+    inverse = 1.0 / float(finding.measures["ratio"])
+    usual = min(_USUAL_FACTORS, key=lambda factor: abs(np.log(factor / inverse)))
+    if abs(usual / inverse - 1.0) <= 0.10:
+        return usual
+    return float(f"{inverse:.2g}")
+
+
+def rescaled_step(
+    finding: Finding, cleaned: CleanedSeries, factor: float, note: str = ""
+) -> CleaningStep:
+    """The step that multiplies ``finding``'s readings by ``factor`` from the interval its
+    level shift began (:func:`changed_at`) to the last reading of ``cleaned``."""
+    if finding.kind != "level_shift":
+        raise ValueError("only a level shift is corrected by rescaling its readings")
+    index = cleaned.values.index
+    start = changed_at(cleaned.values, finding.start, factor)
+    return CleaningStep(
+        "rescale",
+        finding.meter,
+        {
+            "start": start.isoformat(),
+            "end": (index[-1] + cleaned.interval).isoformat(),
+            "factor": float(factor),
+        },
+        note or f"readings from the level shift multiplied by {factor:g}",
+    )
+
+
+def changed_at(values: pd.Series, day_start: pd.Timestamp, factor: float) -> pd.Timestamp:
+    """The interval of the shift's first day from which the readings changed: of the splits
+    of that day, the one whose readings, multiplied by ``factor`` after it, come nearest the
+    same intervals a week before (a level shift is found day by day; a meter's multiplier
+    changes at one moment)."""
+    inside = (values.index >= day_start) & (values.index < day_start + pd.Timedelta(days=1))
+    day = values[inside]
+    before = values.reindex(day.index - pd.Timedelta(days=7)).to_numpy(dtype=np.float64)
+    now = day.to_numpy(dtype=np.float64)
+    if len(now) < 2 or not np.isfinite(before).any():
+        return day_start
+    cost = [
+        np.nansum(np.abs(np.r_[now[:split], now[split:] * factor] - before))
+        for split in range(len(now))
+    ]
+    return day.index[int(np.argmin(cost))]

@@ -24,6 +24,7 @@ STEP_KINDS: dict[str, str] = {
     "remove": "drop the readings (they become missing)",
     "cap": "limit readings to a low and/or high value",
     "exclude": "keep the readings but leave them out of model fitting",
+    "rescale": "multiply the readings by a factor: a meter multiplier or unit that changed",
     "accept": "keep the readings as they are: the finding is expected (e.g. a planned shutdown)",
 }
 

@@ -9,7 +9,7 @@ import tempfile
 from pathlib import Path
 
 from engine.calendar_proposal import with_proposal
-from engine.cleaning import accepted_step
+from engine.cleaning import Finding, accepted_step
 from engine.cli import accounts_command, text
 from engine.cli.budget_options import parse_as_of, request_from_args
 from engine.cli.progress_line import terminal_progress
@@ -26,9 +26,11 @@ from engine.steps import calendar_edit
 from engine.steps.adopting import adopt_budget, check_name
 from engine.steps.budgeting import budget_project, keep_budget
 from engine.steps.cleaning import (
+    MeterReview,
     SiteDrivers,
     apply_recommended,
     apply_recommended_everywhere,
+    rescale_after_shift,
     review_meter,
 )
 from engine.steps.fitting import fit_meters, monthly_contributions
@@ -93,6 +95,7 @@ def clean(args: argparse.Namespace) -> int:
         drivers = SiteDrivers.of(project)
         with project.transaction():  # every meter's fixes in one save
             _accept(project, names, args.accept, drivers)
+            _rescale(project, names, args.rescale, drivers)
             reviews = [_reviewed(project, name, args.apply_recommended, drivers) for name in names]
         for name, (review, applied) in zip(names, reviews, strict=True):
             meters.append(
@@ -116,8 +119,49 @@ def _accept(project: Project, names: list[str], ids: list[str], drivers: SiteDri
     ``names`` shows now is refused before anything is saved."""
     if not ids:
         return []
+    shown = _shown(project, names, ids, drivers)
+    return [project.add_cleaning_step(accepted_step(shown[f][1]).to_dict()) for f in ids]
+
+
+def _rescale(project: Project, names: list[str], asked: list[str], drivers: SiteDrivers) -> None:
+    """Log each ``FINDING=FACTOR`` of ``asked`` as a rescale of that level shift's readings."""
+    factors = dict(_finding_factor(text) for text in asked)
+    shown = _shown(project, names, list(factors), drivers)
+    for finding_id, factor in factors.items():
+        review, finding = shown[finding_id]
+        if finding.kind != "level_shift":
+            raise InputError(
+                f"finding {finding_id} is a {finding.kind.replace('_', ' ')}, not a level shift; "
+                "only a level shift's readings are rescaled.",
+                hint="Take the id of a level_shift finding from loadledger clean --json.",
+                file=project.path,
+            )
+        rescale_after_shift(project, review, finding, factor)
+
+
+def _finding_factor(text: str) -> tuple[str, float]:
+    finding, _, factor = text.partition("=")
+    try:
+        value = float(factor)
+    except ValueError:
+        value = float("nan")
+    if not finding or not (value > 0 and value != float("inf")):
+        raise InputError(
+            f"--rescale {text}: give a finding id and a positive factor as FINDING=FACTOR.",
+            hint="e.g. --rescale 5cdae6112dc8116f=2 for a meter whose multiplier halved.",
+        )
+    return finding, value
+
+
+def _shown(
+    project: Project, names: list[str], ids: list[str], drivers: SiteDrivers
+) -> dict[str, tuple[MeterReview, Finding]]:
+    """The meter review and finding of each id in ``ids``; an id no meter of ``names`` shows
+    now is refused before anything is saved."""
+    if not ids:
+        return {}
     reviews = [review_meter(project, name, drivers=drivers) for name in names]
-    shown = {f.id: f for review in reviews for f in review.findings}
+    shown = {f.id: (review, f) for review in reviews for f in review.findings}
     unknown = [finding for finding in ids if finding not in shown]
     if unknown:
         raise InputError(
@@ -127,7 +171,7 @@ def _accept(project: Project, names: list[str], ids: list[str], drivers: SiteDri
             "longer shows).",
             file=project.path,
         )
-    return [project.add_cleaning_step(accepted_step(shown[f]).to_dict()) for f in ids]
+    return shown
 
 
 def _reviewed(project: Project, name: str, apply: bool, drivers: SiteDrivers) -> tuple:

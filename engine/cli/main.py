@@ -79,6 +79,14 @@ def build_parser() -> argparse.ArgumentParser:
         help="log that a finding (by its id) is expected: its readings stay as they are and it "
         "no longer shows (repeatable)",
     )
+    clean.add_argument(
+        "--rescale",
+        action="append",
+        default=[],
+        metavar="FINDING=FACTOR",
+        help="multiply the readings from a level shift (by its finding id) to the last reading "
+        "by FACTOR, when the meter's multiplier or unit changed (repeatable)",
+    )
     _json_option(clean)
     clean.set_defaults(run=commands.clean)
 

@@ -15,7 +15,7 @@ from engine.cleaning.cleaned import CleanedSeries
 from engine.cleaning.clock import find_clock_problems
 from engine.cleaning.find import find_all
 from engine.cleaning.findings import Finding
-from engine.cleaning.quality import quality_summary, recommended_steps
+from engine.cleaning.quality import quality_summary, recommended_steps, rescaled_step
 from engine.cleaning.replay import apply_steps
 from engine.cleaning.settings import CleaningSettings
 from engine.cleaning.steps import CleaningStep
@@ -55,6 +55,14 @@ def cleaned_meter(project: Project, name: str) -> tuple[MeterSeries, CleanedSeri
         calendar=stored_calendar(project),
     )
     return meter, cleaned
+
+
+def rescale_after_shift(
+    project: Project, review: MeterReview, finding: Finding, factor: float
+) -> int:
+    """Log the step that multiplies the readings from ``finding``'s level shift to the meter's
+    last reading by ``factor`` (its multiplier or unit changed); the step's id."""
+    return project.add_cleaning_step(rescaled_step(finding, review.cleaned, factor).to_dict())
 
 
 @dataclass(frozen=True)

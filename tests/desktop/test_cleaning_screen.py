@@ -17,7 +17,7 @@ import pandas as pd
 import pytest
 from desktop_support import SAMPLE, save_screen, wait_until_idle
 from PySide6.QtCore import Qt
-from PySide6.QtWidgets import QMessageBox
+from PySide6.QtWidgets import QInputDialog, QMessageBox
 
 from desktop.cleaning_screen import CleaningScreen
 from desktop.findings_table import HEADERS
@@ -222,6 +222,37 @@ def test_all_recommended_leaves_the_level_change_to_the_user(qtbot, screen, comm
     assert screen.quality.value("excluded_share") == pytest.approx(
         before_change / commons.values.size
     )
+
+
+def test_a_halved_multiplier_is_corrected_by_the_factor_from_the_meters_records(
+    qtbot, screen, commons, monkeypatch
+):
+    """The level change here is the meter's: its multiplier halved. Corrected by a factor of
+    2 from the change on, the readings are those written before halving again, and the level
+    change is gone; the dialog offers 2, the factor that undoes ×0.5."""
+    shift = _finding(screen, "level_shift")
+    assert not screen.rescale_button.isVisible()  # offered for level changes only
+    assert screen.findings.select(shift.id)
+    assert screen.rescale_button.isVisible() and screen.rescale_button.isEnabled()
+    save_screen(screen, "cleaning-level-change")
+    asked = []
+
+    def answer(*args):
+        asked.append(args)
+        return args[3], True  # the offered factor, as a person pressing OK
+
+    monkeypatch.setattr(QInputDialog, "getDouble", answer)
+    _click(qtbot, screen.rescale_button)
+    wait_until_idle(qtbot, screen)
+    assert asked[0][3] == 2.0 and "×0.499" in asked[0][2]  # measured on noisy days
+    (step,) = _stored_steps(commons.project)
+    assert step["kind"] == "rescale" and step["params"]["factor"] == 2.0
+    assert "level_shift" not in {f.kind for f in screen.findings.findings}
+    first = HALVED_FROM_WEEK * 168
+    cleaned = screen.review.cleaned.values.to_numpy()
+    np.testing.assert_array_equal(cleaned[first:], commons.values[first:] * 2.0)
+    np.testing.assert_array_equal(cleaned[:first], commons.values[:first])  # NaN gap as is
+    assert "multiplied by 2" in screen.notice.text.text()
 
 
 def test_each_meter_has_its_own_findings_and_log(qtbot, screen, commons):

@@ -15,6 +15,7 @@ from engine.cleaning.fixes import (
     interpolate,
     profile_fill,
     remove,
+    rescale,
     spread,
 )
 from engine.cleaning.steps import STEP_KINDS
@@ -232,3 +233,19 @@ def test_bad_fix_settings_are_refused():
     holed.iloc[200:230] = np.nan
     with pytest.raises(InputError, match="no recorded energy"):
         spread(state_of(holed), span(holed, 205, 225, timezone=ZONE))
+
+
+def test_rescale_multiplies_the_range_and_marks_nothing_estimated():
+    readings = weekly_truth(weeks=2)
+    state = state_of(readings)
+    scaled = rescale(state, span(readings, 100, len(readings), factor=2.0))
+    np.testing.assert_array_equal(scaled.values.iloc[100:], readings.iloc[100:] * 2.0)
+    np.testing.assert_array_equal(scaled.values.iloc[:100], readings.iloc[:100])
+    assert not scaled.estimated.any() and not scaled.excluded.any()
+
+
+@pytest.mark.parametrize("factor", [0, -2.0, float("nan"), float("inf"), "2", True, None])
+def test_rescale_refuses_a_factor_that_is_not_a_positive_number(factor):
+    readings = weekly_truth(weeks=1)
+    with pytest.raises(InputError, match="rescale factor"):
+        rescale(state_of(readings), span(readings, 0, 10, factor=factor))

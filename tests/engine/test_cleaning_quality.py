@@ -8,7 +8,15 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from engine.cleaning import CleaningStep, Finding, apply_steps, quality_summary, recommended_steps
+from engine.cleaning import (
+    CleaningStep,
+    Finding,
+    apply_steps,
+    likely_factor,
+    quality_summary,
+    recommended_steps,
+    rescaled_step,
+)
 
 METER = "Alder Court boiler house gas"  # invented
 HOUR = pd.Timedelta(hours=1)
@@ -84,3 +92,38 @@ def test_a_finding_without_a_fix_is_skipped():
     start = pd.Timestamp("2024-01-01", tz="UTC")
     hole = Finding(METER, "gap", start, start + HOUR, "info", "text", None, 1, 0.0, 0.0)
     assert recommended_steps([hole]) == []
+
+
+def _shift(ratio: float, start: pd.Timestamp) -> Finding:
+    return Finding("Hall", "level_shift", start, start + pd.Timedelta(days=60), "warning",
+                   "a level shift", None, 1, 0.0, 0.0, {"ratio": ratio})  # fmt: skip
+
+
+@pytest.mark.parametrize(
+    ("ratio", "offered"),
+    [(0.518, 2.0), (1.93, 0.5), (0.00102, 1000.0), (9.7, 0.1), (0.7, 1.4), (1.6, 0.62)],
+)
+def test_the_factor_offered_undoes_the_shift_and_prefers_a_usual_one(ratio, offered):
+    """A multiplier that halved or a Wh/kWh slip gives back the usual factor; anything else
+    the shift's own inverse, rounded (the person confirms it from the meter's records)."""
+    assert likely_factor(_shift(ratio, pd.Timestamp("2025-01-06", tz="UTC"))) == offered
+
+
+def test_a_rescale_starts_at_the_interval_the_multiplier_changed():
+    """Found day by day, the shift starts at midnight; the multiplier halved at 10:00 that
+    day, and the step starts there, running to the last reading."""
+    hours = pd.date_range("2025-01-06", periods=24 * 21, freq="h", tz="UTC")
+    rng = np.random.default_rng(3)
+    load = 50 + 40 * ((hours.hour >= 8) & (hours.hour < 18)) + rng.normal(0, 1, len(hours))
+    changed = pd.Timestamp("2025-01-20 10:00", tz="UTC")
+    recorded = pd.Series(np.where(hours >= changed, load * 0.5, load), index=hours)
+    cleaned = apply_steps(recorded.rename("Hall"), [])
+    step = rescaled_step(_shift(0.5, pd.Timestamp("2025-01-20", tz="UTC")), cleaned, 2.0)
+    assert pd.Timestamp(step.params["start"]) == changed
+    assert pd.Timestamp(step.params["end"]) == hours[-1] + pd.Timedelta(hours=1)
+    fixed = apply_steps(recorded.rename("Hall"), [step]).values
+    np.testing.assert_allclose(fixed.to_numpy(), load)
+    spike = Finding("Hall", "spike", changed, changed + pd.Timedelta(hours=1), "warning",
+                    "a spike", None, 1, 0.0, 0.0)  # fmt: skip
+    with pytest.raises(ValueError):
+        rescaled_step(spike, cleaned, 2.0)
