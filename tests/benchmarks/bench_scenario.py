@@ -19,6 +19,12 @@ degree-days), 400 draws per month, and the mean absolute error of the month tota
 draws give. No model can do better than that on average; the target is at most 1.5 times it
 per meter. The error of this sample's own draw of the noise is printed beside it.
 
+The copy is first cleaned further as a person who checked the meters' records would: the
+level shift cleaning flags on Administration is its multiplier halving (the sample's own fault
+list, ``sample/scenario.py``), so its readings from the change on are rescaled by 2
+(``clean --rescale``); without that its readings after the change are half the load the noise
+floor is measured on.
+
 Ground truth here is the generator's parameters, not a fit: the check is against the outside
 world in the sense that the sample's noise is known by construction (invented data for known
 ground truth, DEVELOPERS.md).
@@ -134,7 +140,29 @@ def draw_error(drawn: pd.Series, energy: pd.Series, months: list[str]) -> float:
     return float(np.mean(np.abs(ratio.reindex(months).to_numpy() - 1)) * 100)
 
 
-def budget(root: Path) -> tuple[pd.DataFrame, dict[str, str], dict[str, str], float]:
+def correct_multipliers(project) -> list[str]:
+    """What a person who checked the meters' records does with the level shifts cleaning
+    flags that are a meter's multiplier: rescale the readings by the factor in those records
+    (here the sample's own fault list). Checkouts without the rescale step leave them."""
+    try:
+        from engine.steps.cleaning import rescale_after_shift, review_meter
+    except ImportError:
+        return []
+    done = []
+    for fault in scenario.ELECTRICITY_FAULTS:
+        if fault.kind != "multiplier_change":
+            continue
+        (column,) = fault.meters
+        name = next(model.name for model in scenario.BUILDINGS if model.column == column)
+        review = review_meter(project, name)
+        for finding in review.findings:
+            if finding.kind == "level_shift":
+                rescale_after_shift(project, review, finding, 1.0 / fault.factor)
+                done.append(f"{name} ×{1.0 / fault.factor:g}")
+    return done
+
+
+def budget(root: Path) -> tuple[pd.DataFrame, dict[str, str], dict[str, str], float, list]:
     """The past month-ahead budgets of the sample, given the weather that happened."""
     import engine
     from engine.budget import budget_months
@@ -152,6 +180,7 @@ def budget(root: Path) -> tuple[pd.DataFrame, dict[str, str], dict[str, str], fl
         copy = Path(folder) / project_file.name
         shutil.copy(project_file, copy)
         with Project.open(copy) as project:
+            corrected = correct_multipliers(project)
             weather = project.load_weather()
             first = (pd.Period(AS_OF, freq="M") + 1).strftime("%Y-%m")
             request = BudgetRequest(
@@ -164,7 +193,7 @@ def budget(root: Path) -> tuple[pd.DataFrame, dict[str, str], dict[str, str], fl
     run = made.run
     levels = run.assumptions.get("level_correction", {})
     used = {name: str(words).split(":")[0].split(",")[0] for name, words in levels.items()}
-    return made.past_budgets, run.assumptions.get("models", {}), used, seconds
+    return made.past_budgets, run.assumptions.get("models", {}), used, seconds, corrected
 
 
 def main() -> int:
@@ -172,13 +201,14 @@ def main() -> int:
     parser.add_argument("--root", type=Path, default=HERE, help="the checkout to measure")
     parser.parse_args()  # read before the imports: see checkout()
     root = ROOT
-    pairs, models, levels, seconds = budget(root)
+    pairs, models, levels, seconds, corrected = budget(root)
     campus = simulate_campus()
     truth, drawn = noise_free(campus), realised(campus)
     meters = pairs[(pairs["kind"] == "meter") & pairs["actual kWh"].notna()]
     rng = np.random.default_rng(20261205)
     print(f"sample campus given the weather that happened ({root}); {seconds:.0f} s")
     print(f"  as of {AS_OF}: {PAST_MONTHS} past month-ahead budgets per meter")
+    print(f"  rescaled as the meters' records say: {', '.join(corrected) or 'nothing'}")
     print(
         f"  {'meter':<24}{'model':<40}{'months':>7}{'P50 MAPE':>10}{'noise':>8}{'ratio':>7}"
         f"{'this draw':>11}{'level':>10}"
