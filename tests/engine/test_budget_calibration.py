@@ -179,6 +179,19 @@ def campus() -> Campus:
     return make_campus(seed=11)
 
 
+def _refitted_plans(campus: Campus, months: int):
+    """Plans as of any date from the campus meters refitted before each of their last
+    ``months`` months (:func:`plans_from_refits`)."""
+    refits = {name: rolling_refits(WeekSlotDegreeModel(), inputs, months)
+              for name, inputs in campus.inputs.items()}  # fmt: skip
+    utility = {meter.name: meter.utility for meter in METERS}
+    latest = [
+        MeterPlan(name, utility[name], refits[name].models[max(refits[name].models)], inputs)
+        for name, inputs in campus.inputs.items()
+    ]
+    return plans_from_refits(latest, refits)
+
+
 @pytest.fixture(scope="module")
 def past(campus: Campus) -> BudgetBacktest:
     """Month-ahead budgets for the 48 months 2021–2024, weather from the 5 years before each.
@@ -187,15 +200,8 @@ def past(campus: Campus) -> BudgetBacktest:
     out-of-sample errors of the year before it. Ten weather draws per budget (not the default
     fifty) keep the 48 budgets quick.
     """
-    refits = {name: rolling_refits(WeekSlotDegreeModel(), inputs, 60)
-              for name, inputs in campus.inputs.items()}  # fmt: skip
-    utility = {meter.name: meter.utility for meter in METERS}
-    latest = [
-        MeterPlan(name, utility[name], refits[name].models[max(refits[name].models)], inputs)
-        for name, inputs in campus.inputs.items()
-    ]
     return backtest_budget(
-        plans_from_refits(latest, refits),
+        _refitted_plans(campus, 60),
         campus.inputs,
         48,
         weather=WeatherAssumption.past_years(campus.weather, years=5, draws=10),
@@ -240,16 +246,9 @@ def test_corrected_month_ahead_ranges_hold_about_four_months_in_five(
 def test_past_budget_progress_names_the_past_month(campus: Campus) -> None:
     """What the window's task bar shows while past budgets run says which past month it is,
     not "forecasting Quarry Library" again and again as if it were the budget itself."""
-    refits = {name: rolling_refits(WeekSlotDegreeModel(), inputs, 3)
-              for name, inputs in campus.inputs.items()}  # fmt: skip
-    utility = {meter.name: meter.utility for meter in METERS}
-    latest = [
-        MeterPlan(name, utility[name], refits[name].models[max(refits[name].models)], inputs)
-        for name, inputs in campus.inputs.items()
-    ]
     said: list[str] = []
     backtest_budget(
-        plans_from_refits(latest, refits),
+        _refitted_plans(campus, 3),
         campus.inputs,
         2,
         weather=WeatherAssumption.past_years(campus.weather, years=3, draws=5),
