@@ -166,6 +166,9 @@ class DesignLayout:
     #: daily shape: a weekend in a break or the closure is not a term weekend. False only for
     #: models stored before this term existed.
     period_days_off: bool = False
+    #: Within each period kind, holidays get their own level and shape apart from weekends
+    #: (Christmas in a closure is not a closure weekend). False for models stored before.
+    period_holidays: bool = False
 
     def to_dict(self) -> dict[str, Any]:
         stored = asdict(self)
@@ -346,20 +349,24 @@ def _add_calendar_columns(
             daily * member[:, None],
         )
     period_daily = daily[:, : 2 * layout.period_order]
-    day_off = np.isin(features.day_type, ("weekend", "holiday"))
+    holiday = features.day_type == "holiday"
+    day_off = (features.day_type == "weekend") | (holiday & ~layout.period_holidays)
     for kind in layout.period_kinds:
         in_period = features.period_kind == kind
-        groups = [(f"{kind or 'no period'} days", in_period)]
+        name = kind or "no period"
+        groups = [(f"{name} days", f"{name} daily", in_period)]
         if layout.period_days_off:
-            groups.append((f"{kind or 'no period'} days off", in_period & day_off))
-        for label, chosen in groups:
+            groups.append((f"{name} days off", f"{name} daily off", in_period & day_off))
+        for label, shape, chosen in groups:
             member = chosen.astype(float)
             columns.add("calendar", [label], member)
             columns.add(
                 "calendar",
-                fourier_names(label.replace("days", "daily"), layout.period_order),
+                fourier_names(shape, layout.period_order),
                 period_daily * member[:, None],
             )
+        if layout.period_holidays:  # a level only: a period holds a few holidays a year
+            columns.add("calendar", [f"{name} holidays"], (in_period & holiday).astype(float))
     columns.add(
         "weekly",
         fourier_names("weekly", layout.weekly_order),

@@ -217,6 +217,7 @@ def calendar_layout(model: CalendarRegressionModel, features: CalendarFeatures) 
         period_kinds=period_kinds,
         reference_kind=reference,
         period_days_off=True,
+        period_holidays=True,
         trend_origin=float(features.years.min()) if with_trend else None,
         trend_knots=tuple(float(span_years * j / (changes + 1)) for j in range(1, changes + 1))
         if with_trend

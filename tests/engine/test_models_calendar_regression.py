@@ -304,3 +304,59 @@ def test_fits_before_many_cuts_equal_fits_from_scratch(campus, settings):
         np.testing.assert_allclose(fitted.predict(ahead).to_numpy(), expected, rtol=1e-8)
         layouts.add((fitted.layout_.annual_order, fitted.layout_.trend_knots))
     assert len(layouts) >= 3  # windows with and without the annual cycle, trend and hinges
+
+
+def test_holidays_inside_a_campus_closure_are_closure_days():
+    """Invented campus (Sorrel Bay): in term, a weekend runs at 120 kWh/h and a public holiday
+    at 100 against 180 on open weekday hours; over the winter closure every day, holidays and
+    weekends alike, runs at 60. A holiday in the closure therefore differs from a term holiday
+    by another amount than a weekend in the closure from a term weekend: with its own level
+    for holidays within a period kind, the model forecasts next winter's closure days alike."""
+    from datetime import date
+
+    from engine.calendar import CampusCalendar, CampusPeriod, label_intervals
+    from engine.models.base import ModelInputs
+
+    zone = "America/New_York"
+    periods = tuple(
+        CampusPeriod(f"Closure {year}", date(year, 12, 22), date(year + 1, 1, 2), "closure")
+        for year in range(2020, 2025)
+    )
+    calendar = CampusCalendar("US", None, periods)
+    index = pd.date_range(
+        pd.Timestamp("2021-01-01", tz=zone), pd.Timestamp("2025-01-03", tz=zone), freq="h",
+        inclusive="left",
+    ).tz_convert("UTC")  # fmt: skip
+    labels = label_intervals(index, zone, calendar)
+    hour = labels["local"].dt.hour.to_numpy()
+    day_type = labels["day_type"].astype(str).to_numpy()
+    closed = labels["period_kind"].astype(str).to_numpy() == "closure"
+    busy = (day_type == "weekday") & (hour >= 8) & (hour < 18)
+    load = np.where(busy, 180.0, np.where(day_type == "holiday", 100.0, 120.0))
+    load = np.where(day_type == "weekday", np.where(busy, 180.0, 120.0), load)
+    load = np.where(closed, 60.0, load)
+    noise = np.random.default_rng(5).normal(0.0, 2.0, len(index))
+    inputs = ModelInputs(index=index, timezone=zone, energy=pd.Series(load + noise, index=index),
+                         labels=labels)  # fmt: skip
+    cut = pd.Timestamp("2024-12-01", tz=zone)
+    model = CalendarRegressionModel().fit(inputs.window(end=cut))
+    ahead = inputs.window(start=cut)
+    predicted = model.predict(ahead.without_energy()).to_numpy()
+    in_closure = closed[index >= cut]
+    holiday_now = day_type[index >= cut] == "holiday"
+    for days in (in_closure & holiday_now, in_closure & ~holiday_now):
+        assert days.any()
+        assert abs(predicted[days].mean() - 60.0) < 3.0  # within 5 % of the closure's level
+
+
+def test_a_model_stored_before_the_period_holidays_term_still_predicts_as_stored(campus, model):
+    stored = model.to_dict()
+    kept = [i for i, name in enumerate(model.column_names_) if not name.endswith(" holidays")]
+    assert len(kept) == len(model.column_names_) - len(model.layout_.period_kinds)
+    layout = replace(model.layout_, period_holidays=False).to_dict()
+    stored["fitted"]["layout"] = {k: v for k, v in layout.items() if k != "period_holidays"}
+    stored["fitted"]["coefficients"] = [stored["fitted"]["coefficients"][i] for i in kept]
+    stored["fitted"]["column_names"] = [stored["fitted"]["column_names"][i] for i in kept]
+    again = CalendarRegressionModel.from_dict(stored)
+    assert not again.layout_.period_holidays
+    assert np.isfinite(again.predict(campus.inputs.without_energy()).to_numpy()).all()
