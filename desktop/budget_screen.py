@@ -178,6 +178,11 @@ class BudgetScreen(TaskScreen):
             "budgeting the meters",
             partial(self._show, project, choices),
         )
+        if started and self.budget is None:
+            self.plot.show_note(
+                "Budgeting: the monthly range appears here when the run ends (the bar above "
+                "shows how far it is)."
+            )
         unfitted = meters_without_model(project) if started else []
         if unfitted:
             labels = meter_labels(project)

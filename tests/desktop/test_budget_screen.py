@@ -179,6 +179,7 @@ def test_cancel_stops_a_running_budget(qtbot, fresh_screen):
     project = screen.session.project.path
     kept_before = len(_stored_budgets(project))
     screen.run()
+    assert "appears here when the run ends" in screen.plot.note.text()
     screen.runner.task.progressed.connect(lambda *_: screen.task_bar.cancel_button.click())
     wait_until_idle(qtbot, screen)
     assert screen.notice.tone == "info" and "Stopped budgeting" in screen.notice.text.text()
