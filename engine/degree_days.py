@@ -22,6 +22,7 @@ import numpy as np
 import pandas as pd
 
 from engine.errors import InputError
+from engine.timestamps import day_lengths
 
 KINDS: tuple[str, ...] = ("heating", "cooling")
 #: Daily methods for :func:`daily_degree_days`.
@@ -128,13 +129,7 @@ def integrated_degree_days(
     deficit = pd.Series(mean_temperature_degree_days(readings.to_numpy(), base, kind), index=day)
     by_day = deficit.groupby(level=0)
     mean_deficit, present = by_day.mean(), by_day.count()
-    midnights = mean_deficit.index.tz_localize(
-        timezone, nonexistent="shift_forward", ambiguous=True
-    )
-    next_midnights = (mean_deficit.index + pd.Timedelta(days=1)).tz_localize(
-        timezone, nonexistent="shift_forward", ambiguous=True
-    )
-    day_length = pd.Series(next_midnights - midnights, index=mean_deficit.index)
+    day_length = pd.Series(day_lengths(mean_deficit.index, timezone), index=mean_deficit.index)
     expected = day_length / step
     result = (mean_deficit * (day_length / pd.Timedelta(days=1))).where(
         present >= min_coverage * expected

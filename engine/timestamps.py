@@ -8,6 +8,9 @@ them from cells) or UTC instants, and need an unambiguous UTC index of interval 
 2. :func:`detect_interval` finds the reading interval from the UTC index.
 3. :func:`guess_stamp_convention` tells whether the stamps mark interval starts or ends, and
    :func:`to_interval_starts` moves interval-end stamps to starts.
+
+Local calendar days on a zone's clock: :func:`local_midnights_utc` places their midnights in
+UTC and :func:`day_lengths` gives their clock length (23, 24 or 25 hours around daylight saving).
 """
 
 from __future__ import annotations
@@ -103,6 +106,19 @@ class DetectedInterval:
     step: pd.Timedelta
     irregular: bool
     on_step_share: float
+
+
+def local_midnights_utc(days: pd.DatetimeIndex, timezone: str) -> pd.DatetimeIndex:
+    """UTC instants of the local midnights starting ``days`` (naive dates); a midnight the
+    clock skips is the first instant after it."""
+    return days.tz_localize(timezone, nonexistent="shift_forward", ambiguous=True).tz_convert("UTC")
+
+
+def day_lengths(days: pd.DatetimeIndex, timezone: str) -> pd.TimedeltaIndex:
+    """Clock length of each local day: 24 hours, or 23/25 on daylight-saving changes."""
+    starts = local_midnights_utc(days, timezone)
+    ends = local_midnights_utc(days + pd.Timedelta(days=1), timezone)
+    return pd.TimedeltaIndex(ends - starts)
 
 
 def localize(stamps: pd.DatetimeIndex, timezone: str) -> Localized:

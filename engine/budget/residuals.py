@@ -25,6 +25,7 @@ from engine.bootstrap import stationary_block_length
 from engine.budget.meter_grid import DAY, HOUR, hourly_sums, native_interval
 from engine.budget.plan import MeterPlan
 from engine.errors import InputError
+from engine.timestamps import day_lengths
 
 #: Fewest days in the shared pool of model errors (four weeks).
 MIN_POOL_DAYS = 28
@@ -76,11 +77,8 @@ def _hours_in_days(days: np.ndarray, timezone: str) -> np.ndarray:
 def _day_lengths(timezone: str, first: int, last: int) -> np.ndarray:
     """Hours of every local day from day number ``first`` to ``last``: the meters of a budget
     and its past budgets ask for the same few ranges, so each is worked out once."""
-    numbers = np.arange(first, last + 2).astype("datetime64[D]")
-    midnights = pd.DatetimeIndex(numbers).tz_localize(
-        timezone, ambiguous=True, nonexistent="shift_forward"
-    )
-    lengths = np.asarray((midnights[1:] - midnights[:-1]) // HOUR, dtype=np.int64)
+    days = pd.DatetimeIndex(np.arange(first, last + 1).astype("datetime64[D]"))
+    lengths = np.asarray(day_lengths(days, timezone) // HOUR, dtype=np.int64)
     lengths.flags.writeable = False
     return lengths
 

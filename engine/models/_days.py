@@ -14,6 +14,7 @@ import numpy as np
 import pandas as pd
 
 from engine.models._inputs import DAY
+from engine.timestamps import day_lengths
 
 #: Day groups: ordinary working days, and weekends, public holidays and campus closures.
 DAY_GROUPS: tuple[str, ...] = ("weekday", "weekend_or_holiday")
@@ -26,18 +27,6 @@ def day_group_codes(labels: pd.DataFrame) -> np.ndarray:
     weekday = labels["day_type"].to_numpy() == "weekday"
     closed = labels["period_kind"].to_numpy() == "closure"
     return np.where(weekday & ~closed, 0, 1)
-
-
-def local_midnights_utc(days: pd.DatetimeIndex, timezone: str) -> pd.DatetimeIndex:
-    """UTC instants of the local midnights starting ``days`` (naive dates)."""
-    return days.tz_localize(timezone, nonexistent="shift_forward", ambiguous=True).tz_convert("UTC")
-
-
-def day_lengths(days: pd.DatetimeIndex, timezone: str) -> pd.TimedeltaIndex:
-    """Clock length of each local day: 24 hours, or 23/25 on daylight-saving changes."""
-    starts = local_midnights_utc(days, timezone)
-    ends = local_midnights_utc(days + DAY, timezone)
-    return pd.TimedeltaIndex(ends - starts)
 
 
 @dataclass(frozen=True)

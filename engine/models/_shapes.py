@@ -15,9 +15,10 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from engine.models._days import DAY_GROUPS, DailyView, local_midnights_utc
+from engine.models._days import DAY_GROUPS, DailyView
 from engine.models._family import timedelta_from, timedelta_seconds
 from engine.models._inputs import DAY
+from engine.timestamps import local_midnights_utc
 
 
 def slot_of_day(local: pd.DatetimeIndex, step: pd.Timedelta) -> np.ndarray:
