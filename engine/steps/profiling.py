@@ -14,7 +14,6 @@ from engine.profiles import ProfiledMeter, profile_meter, working_days
 from engine.progress import Progress
 from engine.project import Project
 from engine.steps.cleaning import cleaned_meter
-from engine.steps.site_calendar import stored_calendar
 from engine.steps.site_weather import site_temperatures
 
 
@@ -25,7 +24,7 @@ def profile_project_meter(
     raw, cleaned = cleaned_meter(project, name)
     keep = cleaned.values.notna() & ~cleaned.excluded
     meter = replace(raw, values=cleaned.values[keep])
-    calendar = stored_calendar(project)
+    calendar = cleaned.calendar  # the project's, as the log was replayed with it
     labels = None
     if calendar is not None:
         labels = label_intervals(meter.values.index, meter.timezone, calendar)
