@@ -81,6 +81,7 @@ class CleaningScreen(MeterScreen):
         self.apply_everywhere_button.clicked.connect(self.apply_recommended_everywhere)
         self.apply_all_reason = QLabel()
         self.apply_all_reason.setStyleSheet("color: #5a5f66;")
+        self.apply_all_reason.setWordWrap(True)  # a long reason must not widen the window
         self.findings = FindingsTable()
         self.findings.chosen.connect(self._finding_chosen)
         self.explanation = QLabel()

@@ -174,7 +174,9 @@ def nothing_recommended(review: MeterReview | None) -> str:
     if not review.findings:
         return "No findings: nothing to apply."
     kinds = sorted({finding_name(f.kind) for f in review.findings})
+    one = len(review.findings) == 1
     return (
         f"Nothing recommended: the {counted(len(review.findings), 'finding')} "
-        f"({', '.join(kinds)}) are for you to decide one by one."
+        f"({', '.join(kinds)}) {'is' if one else 'are'} for you to decide"
+        f"{'' if one else ' one by one'}."
     )

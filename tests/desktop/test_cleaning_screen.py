@@ -15,7 +15,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 import pytest
-from desktop_support import SAMPLE, save_screen, wait_until_idle
+from desktop_support import LAPTOP, SAMPLE, save_screen, wait_until_idle
 from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QInputDialog, QMessageBox
 
@@ -211,6 +211,9 @@ def test_all_recommended_leaves_the_level_change_to_the_user(qtbot, screen, comm
     assert not screen.apply_all_button.isEnabled()  # nothing recommended is left
     reason = screen.apply_all_reason.text()  # ... and the screen says why it is greyed
     assert reason.startswith("Nothing recommended") and "level change" in reason.lower()
+    assert reason.endswith("(lasting level change) is for you to decide.")  # one finding
+    # ... without widening the window beyond a laptop screen (the step list takes 170 px)
+    assert screen.minimumSizeHint().width() <= LAPTOP[0] - 170
 
     # The user may still decide to leave the readings before the change out of fitting.
     assert screen.findings.select(shift.id)
