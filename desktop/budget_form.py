@@ -24,14 +24,13 @@ from PySide6.QtWidgets import (
 
 from desktop.budget_jobs import (
     DEFAULT_FISCAL_START,
-    DEFAULT_PATHS,
     PERIODS,
     WEATHER_FILE,
     BudgetChoices,
 )
 from desktop.choices import ChoiceBox
 from engine.budget.periods import MAX_MONTHS, first_open_month, fiscal_quarter_of, fiscal_year_of
-from engine.steps.budgeting import DEFAULT_WEATHER, DEFAULT_WEATHER_REASON
+from engine.defaults import DEFAULT_PATHS, DEFAULT_WEATHER, DEFAULT_WEATHER_REASON
 from engine.tariffs import RATECARD_SUFFIX
 
 WEATHER_WORDS = (

@@ -14,14 +14,13 @@ from datetime import date
 from engine.budget import budget_months
 from engine.budget.periods import DEFAULT_FISCAL_START
 from engine.budget.summary import PEAK_CAUTION
+from engine.defaults import DEFAULT_PATHS, DEFAULT_WEATHER
 from engine.errors import InputError
 from engine.export.finance_workbook import DESIGN_LOAD_CAUTION
 from engine.progress import Progress
 from engine.project import Project
 from engine.steps.adopting import adopt_budget
 from engine.steps.budgeting import (
-    DEFAULT_PATHS,
-    DEFAULT_WEATHER,
     BudgetRequest,
     ProjectBudget,
     budget_project,

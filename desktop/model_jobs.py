@@ -15,6 +15,7 @@ import numpy as np
 import pandas as pd
 
 from engine.backtest import BacktestResult
+from engine.defaults import DEFAULT_ORIGINS
 from engine.errors import ProjectError
 from engine.fit_brief import ReadingsBrief, ranking_sentence, readings_brief, recommended
 from engine.meter_labels import naming_progress
@@ -24,7 +25,7 @@ from engine.project import Project
 from engine.steps.fitting import chosen_model, fit_meter, use_ranked_model
 from engine.steps.labels import meter_labels, temperature_unit
 from engine.steps.prepared_site import prepare_site
-from engine.wizard import DEFAULT_FAMILIES, DEFAULT_ORIGINS, default_families
+from engine.wizard import DEFAULT_FAMILIES, default_families
 
 #: The residual groupings of the engine's diagnostics, with the words the screen uses.
 RESIDUAL_GROUPINGS: dict[str, str] = {

@@ -28,7 +28,6 @@ from typing import Any
 
 import numpy as np
 from numpy.typing import ArrayLike
-from sklearn.exceptions import NotFittedError
 
 from engine.errors import InputError, ProjectError
 
@@ -313,10 +312,18 @@ class ChangePointFit:
     def is_fitted(self) -> bool:
         return hasattr(self, "change_points_")
 
+    def _require_fit(self) -> None:
+        """Raise scikit-learn's ``NotFittedError`` before ``fit``, as every model here does."""
+        if not self.is_fitted:
+            # Imported only here: scikit-learn takes most of a second to load, and cleaning and
+            # the command line's quick commands use this module without it.
+            from sklearn.exceptions import NotFittedError
+
+            raise NotFittedError("this change-point model is not fitted yet; call fit first.")
+
     def predict(self, temps: ArrayLike) -> np.ndarray:
         """Energy per day at the given mean temperatures (°C)."""
-        if not self.is_fitted:
-            raise NotFittedError("this change-point model is not fitted yet; call fit first.")
+        self._require_fit()
         x = np.asarray(temps, dtype=float)
         if self.kind == "2P":
             slope = self.cooling_slope_ - self.heating_slope_
@@ -337,8 +344,7 @@ class ChangePointFit:
         every column means more energy. Other data can be regressed on them with the shape
         this model found.
         """
-        if not self.is_fitted:
-            raise NotFittedError("this change-point model is not fitted yet; call fit first.")
+        self._require_fit()
         x = np.asarray(temps, dtype=float).ravel()
         columns = _design(x, self.kind, self.change_points_)[:, 1:]
         return -columns if self.kind == "2P" and self.heating_slope_ > 0 else columns
@@ -350,8 +356,7 @@ class ChangePointFit:
         3PH needs a positive heating slope, 3PC a positive cooling slope, 5P both; a 4P may
         have any slopes except both negative (energy highest at the change point); 2P always.
         """
-        if not self.is_fitted:
-            raise NotFittedError("this change-point model is not fitted yet; call fit first.")
+        self._require_fit()
         heating, cooling = self.heating_slope_ > 0, self.cooling_slope_ > 0
         return {
             "2P": True,

@@ -260,6 +260,13 @@ def find_unit(text: str) -> Unit | None:
     return _GROUP_UNITS[match.lastgroup]
 
 
+def utility_hint(text: str) -> str | None:
+    """The utility a unit written as ``text`` usually measures (kWh: electricity, therm:
+    natural gas), or None when the unit says nothing about it."""
+    unit = find_unit(text)
+    return unit.utility_hint if unit is not None else None
+
+
 def _resolve(unit: Unit | str) -> Unit:
     if isinstance(unit, Unit):
         return unit

@@ -28,6 +28,7 @@ from engine.backtest import (
     run_backtest,
 )
 from engine.budget.refits import RollingRefits, rolling_refits
+from engine.defaults import DEFAULT_ORIGINS
 from engine.errors import InputError
 from engine.models import MODEL_FAMILIES, EnergyModel, ModelInputs, model_from_dict
 from engine.models.base import fresh
@@ -68,8 +69,6 @@ TUNING_ORIGINS = 3
 RACED_FAMILIES: frozenset[str] = frozenset(
     {"daily_ets", "monthly_sarima", "mstl_ets", "gradient_boosting"}
 )
-#: Monthly origins of the wizard's backtest unless told otherwise.
-DEFAULT_ORIGINS = 12
 
 #: Families that make sense on daily readings (a daily register meter, say).
 DAILY_FAMILIES: tuple[str, ...] = (

@@ -33,7 +33,7 @@ from engine.budget.simulate import MeterPaths, PathTotals
 from engine.errors import InputError
 from engine.meters import utility_words
 from engine.tariffs import effective_rate
-from engine.units import find_unit
+from engine.units import utility_hint
 from engine.weather import daily_stats
 
 #: Hours of readings a day needs for its mean temperature to count.
@@ -87,8 +87,7 @@ def daily_means(hourly: pd.Series | None, timezone: str) -> pd.Series | None:
 
 def account_utility(bills: pd.DataFrame) -> str | None:
     """The utility the bills' unit usually measures (kWh: electricity, therm: natural gas)."""
-    unit = find_unit(str(bills["unit_found"].iloc[0]))
-    return unit.utility_hint if unit is not None else None
+    return utility_hint(str(bills["unit_found"].iloc[0]))
 
 
 def plan_accounts(

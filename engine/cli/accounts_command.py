@@ -1,28 +1,16 @@
-"""The ``accounts`` command, and the ``--meter-account`` option of ``new`` and one-shot ``budget``:
-which bill account each meter belongs to (then only the meter counts in roll-ups)."""
+"""The ``accounts`` command, and what ``--meter-account`` does for ``new`` and a one-shot
+``budget``: which bill account each meter belongs to (then only the meter counts in roll-ups)."""
 
 from __future__ import annotations
 
 import argparse
-from collections.abc import Callable
 from pathlib import Path
 
-from engine.accounts.budget import account_utility
+from engine.cli.output import emit
 from engine.project import Project
 from engine.steps.account_membership import meter_accounts, parse_pairs, set_meter_accounts
 from engine.steps.importing import ImportedFiles, assemble_project, store_files
-
-
-def add_option(parser: argparse.ArgumentParser) -> None:
-    """``--meter-account METER=ACCOUNT`` (repeatable)."""
-    parser.add_argument(
-        "--meter-account",
-        action="append",
-        default=[],
-        metavar="METER=ACCOUNT",
-        help="the meter measures (part of) the bill account's supply: the meter counts in "
-        "utility and campus totals, the account does not (repeatable)",
-    )
+from engine.units import utility_hint
 
 
 def create_with_accounts(
@@ -39,7 +27,7 @@ def create_with_accounts(
     return assemble_project(path, fill, timezone=args.timezone, overwrite=overwrite)
 
 
-def accounts(args: argparse.Namespace, emit: Callable) -> int:
+def accounts(args: argparse.Namespace) -> int:
     """List the bill accounts and the meters that belong to them; change that with options."""
     with Project.open(args.project) as project:
         pairs = parse_pairs(args.meter_account)
@@ -59,7 +47,7 @@ def accounts_report(project: Project) -> dict:
         rows.append(
             {
                 "name": str(name),
-                "utility": account_utility(group),
+                "utility": utility_hint(str(group["unit_found"].iloc[0])),
                 "unit_found": str(group["unit_found"].iloc[0]),
                 "bills": len(group),
                 "first_period_start": f"{group['period_start'].min():%Y-%m-%d}",

@@ -9,17 +9,16 @@ LOADLEDGER_DEBUG is set).
 from __future__ import annotations
 
 import argparse
+import importlib
 import os
 import sys
 import traceback
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 
 from engine import __version__
-from engine.cli import accounts_command, commands
 from engine.crash_report import write_report
+from engine.defaults import DEFAULT_ORIGINS, DEFAULT_PATHS, DEFAULT_WEATHER
 from engine.errors import InputError, ProjectError
-from engine.steps.budgeting import DEFAULT_PATHS, DEFAULT_WEATHER
-from engine.wizard import DEFAULT_ORIGINS
 
 EXIT_OK, EXIT_INTERNAL, EXIT_BAD_INPUT = 0, 1, 2
 
@@ -42,7 +41,7 @@ def build_parser() -> argparse.ArgumentParser:
     )
     _reading_options(inspect)
     _json_option(inspect)
-    inspect.set_defaults(run=commands.inspect)
+    inspect.set_defaults(run=_later("project_commands", "inspect"))
 
     new = sub.add_parser("new", help="create a project file from meter, bill and weather files")
     new.add_argument("project", help="the project file to create (.loadledger)")
@@ -55,10 +54,10 @@ def build_parser() -> argparse.ArgumentParser:
     new.add_argument("--calendar", metavar="FILE",
                      help="the campus calendar: named periods with first and last day")  # fmt: skip
     new.add_argument("--overwrite", action="store_true", help="replace an existing project file")
-    accounts_command.add_option(new)
+    _meter_account_option(new)
     _reading_options(new)
     _json_option(new)
-    new.set_defaults(run=commands.new)
+    new.set_defaults(run=_later("project_commands", "new"))
 
     clean = sub.add_parser("clean", help="find data problems and apply or undo fixes")
     clean.add_argument("project")
@@ -88,14 +87,14 @@ def build_parser() -> argparse.ArgumentParser:
         "by FACTOR, when the meter's multiplier or unit changed (repeatable)",
     )
     _json_option(clean)
-    clean.set_defaults(run=commands.clean)
+    clean.set_defaults(run=_later("clean_command", "clean"))
 
     profile = sub.add_parser("profile", help="key figures and profile tables of the meters")
     profile.add_argument("project")
     profile.add_argument("--meter", metavar="NAME", help="only this meter (default: every meter)")
     profile.add_argument("--xlsx", metavar="OUT", help="write the profile tables to a workbook")
     _json_option(profile)
-    profile.set_defaults(run=commands.profile)
+    profile.set_defaults(run=_later("modelling_commands", "profile"))
 
     fit = sub.add_parser("fit", help="backtest the model families and keep the recommended one")
     fit.add_argument("project")
@@ -114,7 +113,7 @@ def build_parser() -> argparse.ArgumentParser:
     )
     _parallel_options(fit)
     _json_option(fit)
-    fit.set_defaults(run=commands.fit)
+    fit.set_defaults(run=_later("modelling_commands", "fit"))
 
     budget = sub.add_parser(
         "budget",
@@ -163,7 +162,7 @@ def build_parser() -> argparse.ArgumentParser:
     budget.add_argument("--timezone", metavar="TZ", help="one-shot: the site's time zone")
     budget.add_argument("--bills", action="append", default=[], metavar="FILE",
                         help="one-shot: a bill account's bills (repeatable)")  # fmt: skip
-    accounts_command.add_option(budget)
+    _meter_account_option(budget)
     budget.add_argument("--calendar", metavar="FILE",
                         help="one-shot: the campus calendar (default: proposed from the "
                         "readings, as the assumptions say)")  # fmt: skip
@@ -181,7 +180,7 @@ def build_parser() -> argparse.ArgumentParser:
     )
     _parallel_options(budget)
     _json_option(budget)
-    budget.set_defaults(run=commands.budget)
+    budget.set_defaults(run=_later("modelling_commands", "budget"))
 
     track = sub.add_parser(
         "track",
@@ -196,7 +195,7 @@ def build_parser() -> argparse.ArgumentParser:
     track.add_argument("--xlsx", metavar="OUT", help="write the tracking workbook")
     _parallel_options(track)
     _json_option(track)
-    track.set_defaults(run=commands.track)
+    track.set_defaults(run=_later("modelling_commands", "track"))
 
     calendar = sub.add_parser("calendar", help="show or change the project's campus calendar")
     calendar.add_argument("project")
@@ -222,7 +221,7 @@ def build_parser() -> argparse.ArgumentParser:
     )
     _date_order_options(calendar)
     _json_option(calendar)
-    calendar.set_defaults(run=commands.calendar)
+    calendar.set_defaults(run=_later("calendar_command", "calendar"))
 
     meter = sub.add_parser(
         "meter",
@@ -251,13 +250,13 @@ def build_parser() -> argparse.ArgumentParser:
         help="show the site's temperatures in °F or °C (every meter; stored in °C)",
     )
     _json_option(meter)
-    meter.set_defaults(run=commands.meter)
+    meter.set_defaults(run=_later("project_commands", "meter"))
 
     accounts = sub.add_parser(
         "accounts", help="list the bill accounts and say which account each meter belongs to"
     )
     accounts.add_argument("project")
-    accounts_command.add_option(accounts)
+    _meter_account_option(accounts)
     accounts.add_argument(
         "--forget",
         action="append",
@@ -266,13 +265,35 @@ def build_parser() -> argparse.ArgumentParser:
         help="the meter no longer belongs to an account (repeatable)",
     )
     _json_option(accounts)
-    accounts.set_defaults(run=commands.accounts)
+    accounts.set_defaults(run=_later("accounts_command", "accounts"))
 
     info = sub.add_parser("info", help="summarise a project file")
     info.add_argument("project")
     _json_option(info)
-    info.set_defaults(run=commands.info)
+    info.set_defaults(run=_later("project_commands", "info"))
     return parser
+
+
+def _later(module: str, command: str) -> Callable[[argparse.Namespace], int]:
+    """The function ``command`` of ``engine.cli.<module>``, imported only when it runs: the
+    modelling libraries take seconds to load, and ``info`` or ``meter`` need none of them."""
+
+    def run(args: argparse.Namespace) -> int:
+        return getattr(importlib.import_module(f"engine.cli.{module}"), command)(args)
+
+    return run
+
+
+def _meter_account_option(parser: argparse.ArgumentParser) -> None:
+    """``--meter-account METER=ACCOUNT`` (repeatable)."""
+    parser.add_argument(
+        "--meter-account",
+        action="append",
+        default=[],
+        metavar="METER=ACCOUNT",
+        help="the meter measures (part of) the bill account's supply: the meter counts in "
+        "utility and campus totals, the account does not (repeatable)",
+    )
 
 
 def _reading_options(parser: argparse.ArgumentParser) -> None:

@@ -29,6 +29,7 @@ from engine.budget import (
 from engine.budget.refits import CALIBRATION_MONTHS, ERROR_MONTHS
 from engine.budget.summary import check_levels
 from engine.calendar import CampusCalendar
+from engine.defaults import DEFAULT_ORIGINS, DEFAULT_PATHS, DEFAULT_WEATHER, WEATHER_CHOICES
 from engine.errors import InputError, ProjectError
 from engine.meter_labels import naming_progress, with_shown_names
 from engine.models import MODEL_FAMILIES, ModelInputs
@@ -53,26 +54,12 @@ from engine.steps.prepared_site import prepare_site
 from engine.tariffs import Tariff, is_currency_code, read_tariff
 from engine.weather import TypicalYears, typical_year
 from engine.wizard import (
-    DEFAULT_ORIGINS,
     MeterJob,
     MeterModels,
     learn_typical_years,
     model_meter,
 )
 
-WEATHER_CHOICES = ("past-years", "typical")
-#: The weather assumption of a budget unless told otherwise, in the window and the command
-#: line alike: typical weather plus past days' departures from it. A single typical year's
-#: ranges leave the weather's own spread out and held too few past months on weather-driven
-#: meters (gas and chilled water held 2 and 4 of 12 on the sample campus).
-DEFAULT_WEATHER = WEATHER_CHOICES[0]
-#: The default in one sentence, for the window.
-DEFAULT_WEATHER_REASON = (
-    "The spread of past years is the default: its ranges carry the weather's own variation, "
-    "and in the backtests they held the actual month totals about as often as they promise."
-)
-#: Simulated paths of a budget unless told otherwise.
-DEFAULT_PATHS = 1000
 #: The bills' currency unless told otherwise (bills store plain amounts).
 DEFAULT_CURRENCY = "USD"
 #: Fewest simulated paths that make a range.

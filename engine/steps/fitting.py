@@ -11,6 +11,7 @@ import pandas as pd
 
 from engine.backtest import BacktestResult
 from engine.budget.refits import REFIT_MONTHS
+from engine.defaults import DEFAULT_ORIGINS
 from engine.errors import InputError
 from engine.meter_labels import naming_progress
 from engine.models import MODEL_FAMILIES, EnergyModel, ModelInputs, RefitNeeded, model_from_dict
@@ -23,7 +24,6 @@ from engine.steps.labels import meter_labels
 from engine.steps.prepared_site import prepare_site
 from engine.weather import TypicalYears
 from engine.wizard import (
-    DEFAULT_ORIGINS,
     MeterJob,
     MeterModels,
     learn_typical_years,

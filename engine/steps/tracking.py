@@ -50,13 +50,13 @@ from engine.budget import BudgetRun, BudgetWindow, as_of_cut
 from engine.budget.summary import PEAK_CAUTION
 from engine.budget.weather_paths import WeatherScenarios
 from engine.calendar import CampusCalendar
+from engine.defaults import WEATHER_CHOICES
 from engine.errors import InputError
 from engine.progress import Progress, step
 from engine.project import Project
 from engine.ready_meters import PreparedSite, ReadyMeter
 from engine.steps.bill_prices import BillPrice, bill_prices
 from engine.steps.budgeting import (
-    WEATHER_CHOICES,
     BudgetRequest,
     budget_project,
     last_reading_day,

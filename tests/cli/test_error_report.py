@@ -6,7 +6,7 @@ from __future__ import annotations
 import platform
 
 from engine import __version__
-from engine.cli import commands, main
+from engine.cli import main, project_commands
 from engine.crash_report import log_folder
 
 READING = "4187.25"
@@ -20,7 +20,7 @@ def _failing_info(args):
 
 def test_an_internal_error_writes_a_report_and_says_where(tmp_path, monkeypatch, capsys):
     monkeypatch.setenv("XDG_STATE_HOME", str(tmp_path / "state"))  # Linux's log folder root
-    monkeypatch.setattr(commands, "info", _failing_info)
+    monkeypatch.setattr(project_commands, "info", _failing_info)
     status = main(["info", "campus.loadledger"])
     err = capsys.readouterr().err
     assert status == 1
@@ -38,7 +38,7 @@ def test_an_internal_error_writes_a_report_and_says_where(tmp_path, monkeypatch,
 
 def test_two_errors_in_the_same_second_keep_both_reports(tmp_path, monkeypatch, capsys):
     monkeypatch.setenv("XDG_STATE_HOME", str(tmp_path))
-    monkeypatch.setattr(commands, "info", _failing_info)
+    monkeypatch.setattr(project_commands, "info", _failing_info)
     assert main(["info", "a.loadledger"]) == 1 and main(["info", "b.loadledger"]) == 1
     texts = sorted(path.read_text() for path in log_folder().glob("error-*.txt"))
     assert len(texts) == 2 and "a.loadledger" in texts[0] and "b.loadledger" in texts[1]
@@ -48,6 +48,6 @@ def test_a_log_folder_that_cannot_be_written_is_said_plainly(tmp_path, monkeypat
     blocker = tmp_path / "not-a-folder"
     blocker.write_text("")
     monkeypatch.setenv("XDG_STATE_HOME", str(blocker))
-    monkeypatch.setattr(commands, "info", _failing_info)
+    monkeypatch.setattr(project_commands, "info", _failing_info)
     assert main(["info", "campus.loadledger"]) == 1
     assert "no report could be written" in capsys.readouterr().err

@@ -10,7 +10,7 @@ import pytest
 from openpyxl import load_workbook
 
 from engine.budget import WeatherAssumption, simulate_budget
-from engine.cli.commands import with_display_units
+from engine.cli.output import with_display_units
 from engine.cli.text import budget_report
 from engine.meter_labels import MeterLabel
 from tests.cli.cli_support import loadledger

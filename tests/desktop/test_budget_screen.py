@@ -268,7 +268,7 @@ def test_the_weather_default_is_the_command_lines_and_says_why(fresh_screen):
     assert choices.weather == command_line.weather == "past-years"
     # The other defaults are the engine's too, written once there.
     from engine.budget.periods import DEFAULT_FISCAL_START
-    from engine.steps.budgeting import DEFAULT_PATHS
+    from engine.defaults import DEFAULT_PATHS
 
     assert choices.paths == command_line.paths == DEFAULT_PATHS
     assert choices.fiscal_start_month == DEFAULT_FISCAL_START
