@@ -71,6 +71,7 @@ def run_self_check(started: float, say: Callable[[str], None] = print) -> int:
         QTimer.singleShot(0, walk)
         QTimer.singleShot(LIMIT_SECONDS * 1000, app.quit)
         app.exec()
+        window.settings.sync()  # now, not when the process ends, after the folder is removed
     sys.excepthook = keep
     if not walked and not failures:
         failures.append(f"the window did not answer within {LIMIT_SECONDS} s")

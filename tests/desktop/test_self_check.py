@@ -23,7 +23,9 @@ sys.exit(main(["--self-check"]))
 
 
 def _run(args: list[str], config) -> subprocess.CompletedProcess:
-    env = {**os.environ, "QT_QPA_PLATFORM": "offscreen", "XDG_CONFIG_HOME": str(config)}
+    (config / "tmp").mkdir()
+    env = {**os.environ, "QT_QPA_PLATFORM": "offscreen", "XDG_CONFIG_HOME": str(config),
+           "TMPDIR": str(config / "tmp")}  # fmt: skip
     return subprocess.run([sys.executable, *args], capture_output=True, text=True,
                           timeout=180, env=env)  # fmt: skip
 
@@ -34,6 +36,7 @@ def test_the_self_check_shows_every_step_and_passes(tmp_path):
     for name in STEP_NAMES:
         assert f"self-check: step {name}: shown" in done.stdout
     assert "self-check: window shown after" in done.stdout and "Traceback" not in done.stderr
+    assert not list((tmp_path / "tmp").iterdir()), "the check left its settings folder behind"
     assert not list(tmp_path.rglob("*.ini")), "the check changed the person's window settings"
 
 
