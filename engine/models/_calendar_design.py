@@ -169,6 +169,11 @@ class DesignLayout:
     #: Within each period kind, holidays get their own level and shape apart from weekends
     #: (Christmas in a closure is not a closure weekend). False for models stored before.
     period_holidays: bool = False
+    #: The trend is a share of the rest of the load per year (its columns are multiplied by
+    #: that load: :func:`with_proportional_trend`) rather than the same kWh added to every
+    #: interval: growth in floor area or equipment grows a summer afternoon's cooling more
+    #: than a winter night's base. False for models stored before.
+    proportional_trend: bool = False
 
     def to_dict(self) -> dict[str, Any]:
         stored = asdict(self)
@@ -303,6 +308,15 @@ def degree_hour_products(
         count, first, second = offsets[:, 0].sum(), offsets[:, 1].sum(), offsets[:, 1] @ deviation
         norms += features.interval_hours**2 * (count * shift**2 + 2 * shift * first + second)
     return products, norms
+
+
+def with_proportional_trend(design: Design, level: np.ndarray) -> Design:
+    """``design`` with its trend columns multiplied by ``level``, the load per row without
+    the trend, so that the trend's coefficients are shares of that load per year."""
+    trend = design.component_mask("trend")
+    matrix = design.matrix.copy()
+    matrix[:, trend] *= level[:, None]
+    return replace(design, matrix=matrix)
 
 
 def build_design(features: CalendarFeatures, layout: DesignLayout) -> Design:

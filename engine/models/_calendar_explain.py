@@ -119,7 +119,9 @@ def _trend(terms: FittedTerms) -> list[Statement]:
     layout = terms.layout
     if layout.trend_origin is None:
         return []
-    slopes = 100 * terms.block("trend") / terms.mean_energy
+    # A proportional trend's coefficients are shares of the load already; an older additive
+    # one's are kWh per interval per year.
+    slopes = 100 * terms.block("trend") / (1.0 if layout.proportional_trend else terms.mean_energy)
     rows: list[Statement] = [
         (
             "trend",

@@ -67,6 +67,9 @@ class Solution:
     names: tuple[str, ...]
     coefficients: np.ndarray
     mean_energy: float
+    #: With a proportional trend: the coefficients of the fit without the trend, whose
+    #: prediction the trend's columns are multiplied by (0 on the trend's columns).
+    level_coefficients: np.ndarray | None = None
 
 
 class FitHistory:
@@ -156,13 +159,23 @@ class FitHistory:
         )
         penalty = hinge_penalty(model, design, equations.residual_variance(), mean_energy)
         layout = refined_bases(model, self.features, layout, design, equations, penalty)
-        penalty = hinge_penalty(model, design, equations.residual_variance(), mean_energy)
+        level = None
+        if layout.trend_origin is not None and layout.proportional_trend:
+            level = proportional_trend_columns(design, equations, penalty)
+        penalty = hinge_penalty(
+            model,
+            design,
+            equations.residual_variance(),
+            mean_energy,
+            proportional=level is not None,
+        )
         return Solution(
             interval=self.step,
             layout=layout,
             names=design.names,
             coefficients=equations.solve(penalty),
             mean_energy=mean_energy,
+            level_coefficients=level,
         )
 
     def _days_before(self, cut: pd.Timestamp | None) -> pd.DataFrame:
@@ -218,6 +231,7 @@ def calendar_layout(model: CalendarRegressionModel, features: CalendarFeatures) 
         reference_kind=reference,
         period_days_off=True,
         period_holidays=True,
+        proportional_trend=True,
         trend_origin=float(features.years.min()) if with_trend else None,
         trend_knots=tuple(float(span_years * j / (changes + 1)) for j in range(1, changes + 1))
         if with_trend
@@ -251,11 +265,41 @@ def starting_bases(
 
 
 def hinge_penalty(
-    model: CalendarRegressionModel, design: Design, sigma2: float, mean_energy: float
+    model: CalendarRegressionModel,
+    design: Design,
+    sigma2: float,
+    mean_energy: float,
+    *,
+    proportional: bool = False,
 ) -> np.ndarray:
-    """The ridge weight of each column: ``σ² / (s·ȳ)²`` on the trend's hinges, else 0."""
+    """The ridge weight of each column: ``σ² / (s·ȳ)²`` on the trend's hinges, else 0.
+
+    ``s·ȳ`` is a typical slope change in kWh per interval per year; once the trend is
+    ``proportional`` (:func:`proportional_trend_columns`) the hinges' coefficients are shares
+    of the load per year and the typical change is ``s`` itself.
+    """
     hinge = np.array([name.startswith("trend change") for name in design.names])
-    return np.where(hinge, sigma2 / (model.trend_change_scale * mean_energy) ** 2, 0.0)
+    scale = model.trend_change_scale * (1.0 if proportional else mean_energy)
+    return np.where(hinge, sigma2 / scale**2, 0.0)
+
+
+def proportional_trend_columns(
+    design: Design, equations: NormalEquations, penalty: np.ndarray
+) -> np.ndarray:
+    """Make the trend a share of the load per year; the coefficients of that load.
+
+    The load without the trend is the fit with the trend's columns left out; each trend
+    column (time since the origin, or past a knot) is multiplied by it in ``equations``
+    (and so in ``design``, a view of them), and the solve that follows estimates the growth
+    rate together with every other term: one Gauss–Newton step of ``load × (1 + rate × t)``
+    from no growth.
+    """
+    trend = design.component_mask("trend")
+    level = equations.solve_without(trend, penalty)
+    load = equations.data[:, :-1] @ level
+    for column in np.flatnonzero(trend):
+        equations.replace(column, equations.data[:, column] * load)
+    return level
 
 
 def refined_bases(

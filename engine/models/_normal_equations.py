@@ -70,6 +70,14 @@ class NormalEquations:
         """Coefficients minimising ``‖y − Xβ‖² + Σ penaltyᵢ βᵢ²``."""
         return _solve(self.gram + np.diag(penalty), self.moment)
 
+    def solve_without(self, dropped: np.ndarray, penalty: np.ndarray) -> np.ndarray:
+        """:meth:`solve` with the ``dropped`` columns (a mask) left out: their coefficients 0."""
+        kept = ~dropped
+        coefficients = np.zeros(len(self.moment))
+        gram = self.gram[np.ix_(kept, kept)] + np.diag(penalty[kept])
+        coefficients[kept] = _solve(gram, self.moment[kept])
+        return coefficients
+
     def residual_variance(self) -> float:
         """``SSE / (n − p)`` of the unpenalised fit."""
         beta = self.solve(np.zeros(len(self.moment)))

@@ -10,9 +10,12 @@ Energy per interval is a sum of parts, each with a plain meaning (see
   does each campus period kind (term, break, closure, summer …) other than the most common one;
 * heating and cooling degree-hours ``(B − T)⁺`` and ``(T − B)⁺`` of the (optionally
   exponentially smoothed) outdoor temperature, so their coefficients are kWh per °C-hour;
-* a trend: a straight line plus a few hinges ``(t − kᵢ)⁺`` at equally spaced times, whose
-  slope changes are shrunk towards zero (ridge penalty), so the trend bends only where the
-  data insist.
+* a trend: a share of the rest of the load per year, so growth grows a summer afternoon's
+  cooling more than a winter night's base (a trend of the same kWh in every interval,
+  estimated mostly from the large summer loads, overstated winter growth several times
+  over on a chilled-water meter). It is a straight line unless ``trend_changes`` adds hinges
+  ``(t − kᵢ)⁺`` at equally spaced times, whose slope changes are shrunk towards zero (ridge
+  penalty), so the trend bends only where the data insist.
 
 Balance points, unless set, start from :func:`engine.degree_days.balance_point` on daily data
 and are then refined on the interval fit itself (a grid of ±4 °C in 0.25 °C steps, searched
@@ -43,6 +46,7 @@ from engine.models._calendar_design import (
     cooling_column,
     heating_column,
     smoothed_temperature,
+    with_proportional_trend,
 )
 from engine.models._calendar_explain import FittedTerms, statements
 from engine.models._calendar_fitting import FitHistory, Solution
@@ -85,8 +89,11 @@ class CalendarRegressionModel(ModelFamily):
         Time constant of exponential smoothing of the temperature (building thermal lag).
     trend : bool, default True
         Fit a trend (only with a year of data).
-    trend_changes : int, default 3
-        Hinges of the trend, equally spaced over the fit window (only with two years).
+    trend_changes : int, default 0
+        Hinges of the trend, equally spaced over the fit window (only with two years). None
+        by default: on month-ahead forecasts of the sample campus's meters, whose loads grow
+        at a steady rate, three hinges added error on six of seven meters; the wizard tries
+        them as a candidate setting.
     trend_change_scale : float, default 0.05
         Typical size of a trend slope change, as a share of mean use per year.
 
@@ -95,7 +102,11 @@ class CalendarRegressionModel(ModelFamily):
     layout_ : DesignLayout
         The columns' make-up (orders used, groups with own terms, balance points, trend).
     coefficients_ : numpy.ndarray
-        One per column of :attr:`column_names_`, in kWh per interval per unit of the column.
+        One per column of :attr:`column_names_`, in kWh per interval per unit of the column
+        (the trend's: shares of the load per year, with :attr:`level_coefficients_`).
+    level_coefficients_ : numpy.ndarray or None
+        The fit without the trend (0 on the trend's columns), whose prediction the trend's
+        columns are multiplied by; None for models stored before the trend was proportional.
     column_names_ : tuple of str
     mean_energy_ : float
         Mean kWh per interval in the fit window.
@@ -125,7 +136,7 @@ class CalendarRegressionModel(ModelFamily):
         cooling_base: float | None = None,
         temperature_smoothing_hours: float | None = None,
         trend: bool = True,
-        trend_changes: int = 3,
+        trend_changes: int = 0,
         trend_change_scale: float = 0.05,
     ) -> None:
         self.daily_order = daily_order
@@ -147,7 +158,7 @@ class CalendarRegressionModel(ModelFamily):
             {"daily_order": 6, "weekly_order": 3, "annual_order": 3},
             {"daily_order": 8, "weekly_order": 4, "annual_order": 3},
             {"temperature_smoothing_hours": 24.0},
-            {"trend_changes": 0},
+            {"trend_changes": 3},
         ]
 
     # -- fitting -----------------------------------------------------------------------------
@@ -181,6 +192,7 @@ class CalendarRegressionModel(ModelFamily):
         self.layout_ = layout
         self.column_names_ = solution.names
         self.coefficients_ = solution.coefficients
+        self.level_coefficients_ = solution.level_coefficients
         # "auto" may find no weather effect: then forecasts need no temperature either.
         self.uses_temperature_ = layout.heating_base is not None or layout.cooling_base is not None
         self.n_parameters_ = len(solution.names)
@@ -199,7 +211,10 @@ class CalendarRegressionModel(ModelFamily):
         step = self._step_for(inputs)
         temperature = require_temperature(inputs, self.label) if self.uses_temperature_ else None
         features = calendar_features(inputs, step, temperature, self.temperature_smoothing_hours)
-        return build_design(features, self.layout_)
+        design = build_design(features, self.layout_)
+        if self.level_coefficients_ is None:
+            return design
+        return with_proportional_trend(design, design.matrix @ self.level_coefficients_)
 
     def predict(self, inputs: ModelInputs) -> pd.Series:
         """Energy per interval (kWh); NaN where a needed temperature is missing."""
@@ -209,7 +224,8 @@ class CalendarRegressionModel(ModelFamily):
         """:meth:`predict` under each row of ``temperatures`` (scenarios × intervals).
 
         The calendar columns are built and weighted once; each scenario adds only its
-        degree-hours. ``inputs.temperature`` is ignored.
+        degree-hours (and, with a proportional trend, their share of the growth).
+        ``inputs.temperature`` is ignored.
         """
         rows = scenario_rows(inputs, temperatures)
         step = self._step_for(inputs)
@@ -217,12 +233,18 @@ class CalendarRegressionModel(ModelFamily):
         layout = replace(self.layout_, heating_base=None, cooling_base=None)
         calendar = build_design(features, layout)
         at = [self.column_names_.index(name) for name in calendar.names]
+        level = self.level_coefficients_
+        growth = np.zeros(len(features))  # the trend's share of the load per interval
+        if level is not None:
+            trend = calendar.component_mask("trend")
+            growth = calendar.matrix[:, trend] @ self.coefficients_[at][trend]
+            calendar = with_proportional_trend(calendar, calendar.matrix @ level[at])
         predicted = np.empty(rows.shape)
         predicted[:] = calendar.matrix @ self.coefficients_[at]
         if not self.uses_temperature_:
             return predicted
         terms = [
-            (base, make, self.coefficients_[self.column_names_.index(f"{term} degree-hours")])
+            (base, make, self.column_names_.index(f"{term} degree-hours"))
             for term, base, make in (
                 ("heating", self.layout_.heating_base, heating_column),
                 ("cooling", self.layout_.cooling_base, cooling_column),
@@ -233,8 +255,11 @@ class CalendarRegressionModel(ModelFamily):
             if self.temperature_smoothing_hours:
                 row = smoothed_temperature(row, step, self.temperature_smoothing_hours)
             weather = replace(features, temperature=row)
-            for base, make, coefficient in terms:
-                scenario += make(weather, base) * coefficient
+            for base, make, column in terms:
+                hours = make(weather, base)
+                scenario += hours * self.coefficients_[column]
+                if level is not None:
+                    scenario += growth * hours * level[column]
         return predicted
 
     def components(self, inputs: ModelInputs) -> pd.DataFrame:
@@ -300,7 +325,11 @@ class CalendarRegressionModel(ModelFamily):
             "coefficients": float_list(self.coefficients_),
             "mean_energy": self.mean_energy_,
             "n_parameters": self.n_parameters_,
-        }
+        } | (
+            {}
+            if self.level_coefficients_ is None
+            else {"level_coefficients": float_list(self.level_coefficients_)}
+        )
 
     def _restore(self, state: dict[str, Any]) -> None:
         self.interval_ = timedelta_from(state["interval_seconds"])
@@ -310,3 +339,5 @@ class CalendarRegressionModel(ModelFamily):
         self.coefficients_ = float_array(state["coefficients"])
         self.mean_energy_ = float(state["mean_energy"])
         self.n_parameters_ = int(state["n_parameters"])
+        level = state.get("level_coefficients")  # absent for models without a proportional trend
+        self.level_coefficients_ = None if level is None else float_array(level)

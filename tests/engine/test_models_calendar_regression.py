@@ -32,6 +32,7 @@ from engine.errors import InputError
 from engine.models import CalendarRegressionModel
 from engine.models._calendar_design import (
     COMPONENTS,
+    EPOCH,
     HOURS_PER_YEAR,
     calendar_features,
     cooling_column,
@@ -122,7 +123,7 @@ def test_a_bend_in_the_trend_is_followed(campus):
     inputs = campus.inputs.window(end=FIT_END)
     years = np.asarray((inputs.index - inputs.index[0]) / pd.Timedelta(days=365.25))
     bent = replace(inputs, energy=inputs.energy + 8.0 * np.maximum(years - 1.5, 0.0))
-    model = CalendarRegressionModel().fit(bent)
+    model = CalendarRegressionModel(trend_changes=3).fit(bent)
     final = _table(model).loc["trend", "value"] * model.mean_energy_ / 100
     assert final == pytest.approx(TREND + 8.0, rel=0.15)
 
@@ -167,8 +168,8 @@ def test_without_labels_holidays_are_treated_as_weekends(campus):
     assert model.layout_.day_types == ("weekend",) and model.layout_.period_kinds == ()
 
 
-def test_trend_knots_and_origin_are_in_the_fit_window(model):
-    layout = model.layout_
+def test_trend_knots_and_origin_are_in_the_fit_window(campus):
+    layout = CalendarRegressionModel(trend_changes=3).fit(campus.inputs.window(end=FIT_END)).layout_
     span = 3 * 365.25 * 24 / HOURS_PER_YEAR
     assert len(layout.trend_knots) == 3
     assert all(0 < knot < span for knot in layout.trend_knots)
@@ -206,16 +207,65 @@ def test_days_off_in_a_campus_period_get_their_own_shape(campus, model):
     assert len(off) == len(layout.period_kinds) * (1 + 2 * layout.period_order)
 
 
-def test_a_model_stored_before_the_days_off_term_still_predicts_as_stored(campus, model):
+def _before_the_proportional_trend(model) -> dict:
+    """``model`` as stored, without what models stored before the proportional trend lack."""
     stored = model.to_dict()
-    older = replace(model.layout_, period_days_off=False)
+    del stored["fitted"]["level_coefficients"]
+    del stored["fitted"]["layout"]["proportional_trend"]
+    return stored
+
+
+def test_a_model_stored_before_the_proportional_trend_predicts_with_an_additive_one(campus, model):
+    again = CalendarRegressionModel.from_dict(_before_the_proportional_trend(model))
+    assert not again.layout_.proportional_trend and again.level_coefficients_ is None
+    # The stored trend coefficient is then kWh per interval per year, added to every interval.
+    future = campus.inputs.window(start=FIT_END).without_energy()
+    trend = again.components(future)["trend"].to_numpy()
+    since = (future.index - EPOCH.tz_localize("UTC")) / pd.Timedelta(
+        hours=HOURS_PER_YEAR
+    ) - again.layout_.trend_origin
+    slope = again.coefficients_[again.column_names_.index("trend per year")]
+    np.testing.assert_allclose(trend, slope * np.asarray(since), rtol=1e-9)
+
+
+def test_growth_grows_a_cooling_load_in_proportion():
+    """Invented plant (Teasel Row chilled water): 20 kWh/h always on plus 10 per °C above
+    12 °C, all of it growing 4 % a year, so summer use grows ten times as many kWh as winter
+    use. A trend of the same kWh in every hour, learned mostly from the summers, put the next
+    January 9 % high and July 3 % low (and stated +3.3 % a year); the proportional trend
+    forecasts both within 1 %."""
+    from engine.models.base import ModelInputs
+
+    index = pd.date_range("2021-01-01", "2023-09-01", freq="h", tz="UTC", inclusive="left")
+    rng = np.random.default_rng(11)
+    day = np.asarray((index - index[0]) / pd.Timedelta(days=1))
+    temperature = 15 - 12 * np.cos(2 * np.pi * (day - 15) / 365.25) + rng.normal(0, 3, len(day))
+    years = day / 365.25
+    clean = (20.0 + 10.0 * np.maximum(temperature - 12.0, 0.0)) * (1 + 0.04 * years)
+    energy = clean * rng.lognormal(-0.5 * 0.02**2, 0.02, len(day))
+    inputs = ModelInputs(index=index, timezone="UTC", energy=pd.Series(energy, index=index),
+                         temperature=pd.Series(temperature, index=index))  # fmt: skip
+    model = CalendarRegressionModel(annual_order=0).fit(inputs.window(end=index[24 * 731]))
+    assert _table(model).loc["trend", "value"] == pytest.approx(4.0, abs=0.5)
+    for month in ("2023-01", "2023-07"):
+        inside = np.asarray(index.strftime("%Y-%m") == month)
+        ahead = inputs.window(start=index[inside][0], end=index[inside][-1] + pd.Timedelta(hours=1))
+        predicted = model.predict(ahead.without_energy()).sum()
+        assert predicted / clean[inside].sum() == pytest.approx(1.0, abs=0.01), month
+
+
+def test_a_model_stored_before_the_days_off_term_still_predicts_as_stored(campus, model):
+    stored = _before_the_proportional_trend(model)
+    older = replace(model.layout_, period_days_off=False, proportional_trend=False)
     kept = [
         i
         for i, name in enumerate(model.column_names_)
         if "days off" not in name and "daily off" not in name
     ]
     stored["fitted"]["layout"] = {
-        k: v for k, v in older.to_dict().items() if k != "period_days_off"
+        k: v
+        for k, v in older.to_dict().items()
+        if k not in ("period_days_off", "proportional_trend")
     }
     stored["fitted"]["coefficients"] = [stored["fitted"]["coefficients"][i] for i in kept]
     stored["fitted"]["column_names"] = [stored["fitted"]["column_names"][i] for i in kept]
@@ -275,7 +325,11 @@ def test_degree_hour_products_equal_the_products_of_the_columns(campus, kind):
     np.testing.assert_allclose(norms, np.einsum("ij,ij->j", weighted, columns), rtol=1e-12)
 
 
-WINDOW_SETTINGS = [{}, {"temperature_smoothing_hours": 24.0}, {"weather_terms": "none"}]
+WINDOW_SETTINGS = [
+    {"trend_changes": 3},
+    {"temperature_smoothing_hours": 24.0, "trend_changes": 3},
+    {"weather_terms": "none", "trend_changes": 3},
+]
 
 
 @pytest.mark.parametrize("settings", WINDOW_SETTINGS, ids=["default", "smoothed", "no weather"])
@@ -350,11 +404,12 @@ def test_holidays_inside_a_campus_closure_are_closure_days():
 
 
 def test_a_model_stored_before_the_period_holidays_term_still_predicts_as_stored(campus, model):
-    stored = model.to_dict()
+    stored = _before_the_proportional_trend(model)
     kept = [i for i, name in enumerate(model.column_names_) if not name.endswith(" holidays")]
     assert len(kept) == len(model.column_names_) - len(model.layout_.period_kinds)
-    layout = replace(model.layout_, period_holidays=False).to_dict()
-    stored["fitted"]["layout"] = {k: v for k, v in layout.items() if k != "period_holidays"}
+    layout = replace(model.layout_, period_holidays=False, proportional_trend=False).to_dict()
+    dropped = ("period_holidays", "proportional_trend")
+    stored["fitted"]["layout"] = {k: v for k, v in layout.items() if k not in dropped}
     stored["fitted"]["coefficients"] = [stored["fitted"]["coefficients"][i] for i in kept]
     stored["fitted"]["column_names"] = [stored["fitted"]["column_names"][i] for i in kept]
     again = CalendarRegressionModel.from_dict(stored)
