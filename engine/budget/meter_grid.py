@@ -10,6 +10,7 @@ are laid onto it.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import lru_cache
 
 import numpy as np
 import pandas as pd
@@ -17,7 +18,7 @@ import pandas as pd
 from engine.budget.periods import BudgetWindow
 from engine.budget.plan import MeterPlan
 from engine.budget.scenarios import WeatherScenarios
-from engine.calendar import label_intervals
+from engine.calendar import CampusCalendar, OccupancyRule, label_intervals
 from engine.errors import InputError
 from engine.models.base import ModelInputs, predict_scenarios
 
@@ -124,15 +125,17 @@ def predictions(
     A calendar-only model gives one row, shared by every scenario.
     """
     native = native_interval(plan.history)
+    labels = None
     if native == DAY:
         index = grid.index
+        if plan.calendar is not None:
+            labels = label_intervals(index, plan.timezone, plan.calendar, plan.occupancy)
     else:
         index = pd.date_range(window.start, window.end, freq=native, inclusive="left")
-    labels = (
-        label_intervals(index, plan.timezone, plan.calendar, plan.occupancy)
-        if plan.calendar is not None
-        else None
-    )
+        if plan.calendar is not None:
+            labels = _interval_labels(
+                window.start, window.end, native, plan.timezone, plan.calendar, plan.occupancy
+            )
     if not plan.uses_temperature:
         temperatures = None
     elif weather.hourly is None:
@@ -169,3 +172,19 @@ def check_predictions(
             f"budget interval(s), the first at {first:%Y-%m-%d %H:%M %Z}.",
             hint="Check the weather for those hours, or refit the model on more history.",
         )
+
+
+@lru_cache(maxsize=32)
+def _interval_labels(
+    start: pd.Timestamp,
+    end: pd.Timestamp,
+    step: pd.Timedelta,
+    timezone: str,
+    calendar: CampusCalendar,
+    occupancy: OccupancyRule | None,
+) -> pd.DataFrame:
+    """The calendar labels of the intervals from ``start`` to ``end``, made once for every
+    meter read at ``step`` (a budget and its past budgets label each month for each meter);
+    callers only read them."""
+    index = pd.date_range(start, end, freq=step, inclusive="left")
+    return label_intervals(index, timezone, calendar, occupancy)
