@@ -17,6 +17,7 @@ from PySide6.QtWidgets import (
     QLabel,
     QMessageBox,
     QPushButton,
+    QScrollArea,
     QSplitter,
     QVBoxLayout,
     QWidget,
@@ -87,6 +88,15 @@ class CleaningScreen(MeterScreen):
         self.explanation = QLabel()
         self.explanation.setWordWrap(True)
         self.explanation.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
+        self.explanation.setAlignment(Qt.AlignmentFlag.AlignTop | Qt.AlignmentFlag.AlignLeft)
+        # A long explanation (a level change's runs to six lines) scrolls instead of being cut
+        # off at the bottom on a 720-pixel-high screen.
+        self.explanation_area = QScrollArea()
+        self.explanation_area.setWidget(self.explanation)
+        self.explanation_area.setWidgetResizable(True)
+        self.explanation_area.setFrameShape(QScrollArea.Shape.NoFrame)
+        self.explanation_area.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+        self.explanation_area.setMaximumHeight(5 * self.fontMetrics().lineSpacing())
         self.apply_fix_button = QPushButton("Apply this fix")
         self.apply_fix_button.setToolTip("Log this finding's fix as the next step; undo it later.")
         self.apply_fix_button.clicked.connect(self.apply_selected_fix)
@@ -122,11 +132,15 @@ class CleaningScreen(MeterScreen):
         controls.addWidget(self.apply_all_reason)
         controls.addWidget(self.apply_all_button)
         controls.addWidget(self.apply_everywhere_button)
+        actions = QVBoxLayout()  # stacked beside the explanation, which keeps the width
+        actions.setSpacing(2)
+        actions.addWidget(self.apply_fix_button)
+        actions.addWidget(self.accept_button)
+        actions.addWidget(self.rescale_button)
+        actions.addStretch(1)
         fix_row = QHBoxLayout()
-        fix_row.addWidget(self.explanation, 1)
-        fix_row.addWidget(self.rescale_button, 0, Qt.AlignmentFlag.AlignTop)
-        fix_row.addWidget(self.accept_button, 0, Qt.AlignmentFlag.AlignTop)
-        fix_row.addWidget(self.apply_fix_button, 0, Qt.AlignmentFlag.AlignTop)
+        fix_row.addWidget(self.explanation_area, 1)
+        fix_row.addLayout(actions)
         preview = QWidget()
         preview_layout = QVBoxLayout(preview)
         preview_layout.setContentsMargins(0, 0, 0, 0)

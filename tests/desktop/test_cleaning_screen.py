@@ -425,3 +425,19 @@ def test_a_finding_accepted_as_expected_stays_accepted_until_undone(qtbot, scree
         assert any(f.id == shift.id for f in undone.findings.findings)
     finally:
         undone.session.close()
+
+
+def test_a_long_explanation_scrolls_instead_of_being_cut_off(qtbot, screen):
+    """In the room a 1,280 × 720 window leaves the step, the level change's explanation (the
+    longest, ending with what to do) is laid out whole in a scrolling area of five lines,
+    leaving the preview chart its height."""
+    screen.resize(1050, 560)
+    assert screen.findings.select(_finding(screen, "level_shift").id)
+    qtbot.wait(50)
+    label, area = screen.explanation, screen.explanation_area
+    assert label.text().endswith(".") and len(label.text()) > 400
+    assert label.height() >= label.heightForWidth(label.width())  # no line cut off
+    lines = screen.fontMetrics().lineSpacing()
+    assert area.height() <= 5 * lines and area.verticalScrollBar().maximum() > 0
+    assert screen.plot.height() > 8 * lines
+    save_screen(screen, "cleaning-long-explanation")
