@@ -51,6 +51,7 @@ from engine.steps.kept_models import (
 )
 from engine.steps.labels import meter_labels
 from engine.steps.prepared_site import prepare_site
+from engine.steps.site_weather import stations_sentence
 from engine.tariffs import Tariff, is_currency_code, read_tariff
 from engine.weather import TypicalYears, typical_year
 from engine.wizard import (
@@ -328,6 +329,9 @@ def budget_project(
                 "models the fit wizard chose here were ranked on their backtest under the "
                 "weather that actually happened, as the budget is asked for a given weather"
             )
+    stations = stations_sentence(project)
+    if stations:
+        run.assumptions["weather stations"] = stations
     own_price = set(own) & {plan.name for plan in plans if plan.rate is not None}
     describe(run, accounts, own_price)
     if no_weather:

@@ -16,3 +16,19 @@ def site_temperatures(project: Project) -> pd.Series | None:
     if len(stations) <= 1:
         return project.load_weather(stations[0]) if stations else None
     return combined_stations(project.load_weather(station) for station in stations)
+
+
+def stations_sentence(project: Project) -> str | None:
+    """How the site's temperatures were made from several stations, for a budget's
+    assumptions (which station is taken as it is, which only fill its missing hours); None
+    with one station or none."""
+    names = project.weather_stations()
+    if len(names) <= 1:
+        return None
+    hours = {name: project.load_weather(name).index.floor("h").nunique() for name in names}
+    first, *others = sorted(names, key=lambda name: -hours[name])  # as combined_stations takes them
+    fillers = ", then ".join(f"'{name}' ({hours[name]:,} hours)" for name in others)
+    return (
+        f"the site's hourly temperatures are station '{first}' ({hours[first]:,} hours) as "
+        f"read, with the hours it lacks taken from {fillers}; stations are never averaged"
+    )

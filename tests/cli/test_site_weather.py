@@ -3,6 +3,7 @@ station) has one site weather: every step uses it instead of stopping with an in
 
 from __future__ import annotations
 
+import json
 from pathlib import Path
 
 import pandas as pd
@@ -57,4 +58,7 @@ def test_budget_and_profile_run_on_two_stations(split, capsys) -> None:
     out = capsys.readouterr()
     assert code == 0, out.err
     assert "internal error" not in out.err
+    # The assumptions say which file's hours were taken as read and which only fill in.
+    stations = json.loads(out.out)["assumptions"]["weather stations"]
+    assert "'station-to-2024' (" in stations and "'station-from-2025' (" in stations
     assert main(["profile", str(two), "--meter", "gas-boilerhouse-daily", "--json"]) == 0
