@@ -71,6 +71,17 @@ class Solution:
     #: prediction the trend's columns are multiplied by (0 on the trend's columns).
     level_coefficients: np.ndarray | None = None
 
+    def falling_weather_terms(self) -> list[str]:
+        """The weather terms whose energy falls as they grow (a negative slope): heating that
+        saves energy the colder it gets, or cooling the warmer, which no building does;
+        such a term stands in for something else the calendar or the season did."""
+        return [
+            term
+            for term in ("heating", "cooling")
+            if f"{term} degree-hours" in self.names
+            and self.coefficients[self.names.index(f"{term} degree-hours")] < 0
+        ]
+
 
 class FitHistory:
     """One history's rows, drivers and calendar columns, shared by fits of its windows.
@@ -140,12 +151,23 @@ class FitHistory:
                 + "; the calendar regression needs at least a week of them.",
                 hint="Choose a longer fit window or fill gaps in the readings and weather.",
             )
-        weights = None if rows == len(self.times) else (self.order < rows).astype(float)
-        mean_energy = float(self.y_by_time[:rows].mean())
         layout = calendar_layout(model, window)
         if window.temperature is not None:
             start = starting_bases(model, self._days_before(cut))
             layout = replace(layout, heating_base=start[0], cooling_base=start[1])
+        solution = self._solve_layout(layout, rows)
+        falling = solution.falling_weather_terms()
+        if falling:  # physically implausible: fit again without them
+            layout = replace(solution.layout, **{f"{term}_base": None for term in falling})
+            solution = self._solve_layout(layout, rows)
+        return solution
+
+    def _solve_layout(self, layout: DesignLayout, rows: int) -> Solution:
+        """The fit of the first ``rows`` rows in time with the columns of ``layout``, its
+        balance points refined."""
+        model = self.model
+        weights = None if rows == len(self.times) else (self.order < rows).astype(float)
+        mean_energy = float(self.y_by_time[:rows].mean())
         calendar, grams = self._calendar_columns(layout)
         others = weather_and_trend_design(self.features, layout)
         leading = None if weights is None else grams[rows]

@@ -9,7 +9,10 @@ Energy per interval is a sum of parts, each with a plain meaning (see
 * calendar terms: weekends and public holidays each get their own level and daily shape, as
   does each campus period kind (term, break, closure, summer …) other than the most common one;
 * heating and cooling degree-hours ``(B − T)⁺`` and ``(T − B)⁺`` of the (optionally
-  exponentially smoothed) outdoor temperature, so their coefficients are kWh per °C-hour;
+  exponentially smoothed) outdoor temperature, so their coefficients are kWh per °C-hour; a
+  term whose fitted slope is negative (heating that saves energy the colder it gets) is left
+  out and the rest fitted again: it stood in for something the calendar or the season did,
+  and on the sample campus's cooling-only Athletics Center it put winter months 1–2 % high;
 * a trend: a share of the rest of the load per year, so growth grows a summer afternoon's
   cooling more than a winter night's base (a trend of the same kWh in every interval,
   estimated mostly from the large summer loads, overstated winter growth several times

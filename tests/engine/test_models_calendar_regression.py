@@ -233,7 +233,7 @@ def test_growth_grows_a_cooling_load_in_proportion():
     12 °C, all of it growing 4 % a year, so summer use grows ten times as many kWh as winter
     use. A trend of the same kWh in every hour, learned mostly from the summers, put the next
     January 9 % high and July 3 % low (and stated +3.3 % a year); the proportional trend
-    forecasts both within 1 %."""
+    forecasts both within 1.5 %."""
     from engine.models.base import ModelInputs
 
     index = pd.date_range("2021-01-01", "2023-09-01", freq="h", tz="UTC", inclusive="left")
@@ -251,7 +251,7 @@ def test_growth_grows_a_cooling_load_in_proportion():
         inside = np.asarray(index.strftime("%Y-%m") == month)
         ahead = inputs.window(start=index[inside][0], end=index[inside][-1] + pd.Timedelta(hours=1))
         predicted = model.predict(ahead.without_energy()).sum()
-        assert predicted / clean[inside].sum() == pytest.approx(1.0, abs=0.01), month
+        assert predicted / clean[inside].sum() == pytest.approx(1.0, abs=0.015), month
 
 
 def test_a_model_stored_before_the_days_off_term_still_predicts_as_stored(campus, model):
@@ -415,3 +415,26 @@ def test_a_model_stored_before_the_period_holidays_term_still_predicts_as_stored
     again = CalendarRegressionModel.from_dict(stored)
     assert not again.layout_.period_holidays
     assert np.isfinite(again.predict(campus.inputs.without_energy()).to_numpy()).all()
+
+
+def test_a_weather_term_whose_energy_falls_is_left_out():
+    """Invented pool hall (Wren Quay): 60 kWh/h plus 4 per °C above 18 °C, except that below
+    6 °C its outdoor lights and heaters are switched off, 1.5 kWh/h less per °C. Given a
+    heating balance point of 6 °C, the fit finds heating that saves energy the colder it gets,
+    which no building does: that term is left out, and the fit keeps only its cooling."""
+    from engine.models.base import ModelInputs
+
+    index = pd.date_range("2022-01-01", "2023-07-01", freq="h", tz="UTC", inclusive="left")
+    rng = np.random.default_rng(3)
+    day = np.asarray((index - index[0]) / pd.Timedelta(days=1))
+    temperature = 12 - 12 * np.cos(2 * np.pi * (day - 15) / 365.25) + rng.normal(0, 3, len(day))
+    energy = (60 + 4 * np.maximum(temperature - 18, 0) - 1.5 * np.maximum(6 - temperature, 0)
+              + rng.normal(0, 1.0, len(day)))  # fmt: skip
+    inputs = ModelInputs(index=index, timezone="UTC", energy=pd.Series(energy, index=index),
+                         temperature=pd.Series(temperature, index=index))  # fmt: skip
+    model = CalendarRegressionModel(heating_base=6.0, cooling_base=18.0, annual_order=0)
+    model.fit(inputs)
+    assert model.layout_.heating_base is None and model.heating_slope_ is None
+    assert "heating degree-hours" not in model.column_names_
+    assert model.cooling_slope_ == pytest.approx(4.0, rel=0.15)  # the cold drop is not modelled
+    assert model.layout_.cooling_base == 18.0
