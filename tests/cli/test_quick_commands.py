@@ -60,3 +60,30 @@ def test_a_command_that_models_loads_them(site):
     _, project = site
     report = _loaded("profile", project)
     assert report["status"] == 0 and "engine.models" in report["loaded"]
+
+
+@pytest.mark.parametrize(
+    "args",
+    [
+        ["inspect", "MISSING.csv"],
+        ["new", "MISSING.loadledger"],
+        ["clean", "MISSING.loadledger"],
+        ["profile", "MISSING.loadledger"],
+        ["fit", "MISSING.loadledger"],
+        ["budget", "MISSING.loadledger", "--start", "2026-01"],
+        ["track", "MISSING.loadledger", "--budget", "FY"],
+        ["calendar", "MISSING.loadledger"],
+        ["meter", "MISSING.loadledger"],
+        ["accounts", "MISSING.loadledger"],
+        ["info", "MISSING.loadledger"],
+    ],
+    ids=lambda args: args[0],
+)
+def test_every_command_is_found_when_it_runs(tmp_path, capsys, args):
+    """Each command's module is imported by name when it runs: a wrong name would be an
+    internal error (exit 1); a missing file is the user's to fix (exit 2, one line)."""
+    from engine.cli import main
+
+    assert main([str(tmp_path / a) if a.startswith("MISSING") else a for a in args]) == 2
+    err = capsys.readouterr().err
+    assert err.startswith("loadledger: ") and len(err.strip().splitlines()) == 1
