@@ -8,7 +8,7 @@ are the site's local calendar days.
 from __future__ import annotations
 
 import contextlib
-from collections.abc import Iterable
+from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
 from datetime import date
 from typing import Any
@@ -176,6 +176,16 @@ def fill_hourly(
     )
 
 
+def hourly_stations(stations: Mapping[str, pd.Series]) -> dict[str, pd.Series]:
+    """Each station's readings averaged per UTC hour, the station with the most hours first:
+    the order in which :func:`combined_stations` takes them."""
+    hourly = {
+        name: reading.groupby(reading.index.floor("h")).mean()
+        for name, reading in ((n, _utc_readings(s).dropna()) for n, s in stations.items())
+    }
+    return dict(sorted(hourly.items(), key=lambda item: len(item[1]), reverse=True))
+
+
 def combined_stations(stations: Iterable[pd.Series]) -> pd.Series:
     """One hourly series of the site's temperatures from several stations' readings.
 
@@ -185,11 +195,7 @@ def combined_stations(stations: Iterable[pd.Series]) -> pd.Series:
     of the same station; two stations are never averaged, so a warmer rooftop sensor does not
     shift the main station's readings.
     """
-    hourly = [
-        reading.groupby(reading.index.floor("h")).mean()
-        for reading in (_utc_readings(station).dropna() for station in stations)
-    ]
-    hourly.sort(key=len, reverse=True)
+    hourly = list(hourly_stations(dict(enumerate(stations))).values())
     if not hourly:
         raise ValueError("no weather stations to combine")
     combined = hourly[0]

@@ -5,7 +5,7 @@ from __future__ import annotations
 import pandas as pd
 
 from engine.project import Project
-from engine.weather import combined_stations
+from engine.weather import combined_stations, hourly_stations
 
 
 def site_temperatures(project: Project) -> pd.Series | None:
@@ -25,8 +25,11 @@ def stations_sentence(project: Project) -> str | None:
     names = project.weather_stations()
     if len(names) <= 1:
         return None
-    hours = {name: project.load_weather(name).index.floor("h").nunique() for name in names}
-    first, *others = sorted(names, key=lambda name: -hours[name])  # as combined_stations takes them
+    # The stations are read again here (a budget's site was prepared from their combination):
+    # only for projects with several, and the order is the one combined_stations fills in.
+    stations = hourly_stations({name: project.load_weather(name) for name in names})
+    hours = {name: len(hourly) for name, hourly in stations.items()}
+    first, *others = hours
     fillers = ", then ".join(f"'{name}' ({hours[name]:,} hours)" for name in others)
     return (
         f"the site's hourly temperatures are station '{first}' ({hours[first]:,} hours) as "
