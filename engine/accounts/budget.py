@@ -28,12 +28,12 @@ from engine.accounts.plan import (
     checked_bills,
     weather_covers,
 )
+from engine.accounts.utility import account_utility
 from engine.budget.result import BudgetRun, Calibration
 from engine.budget.simulate import MeterPaths, PathTotals
 from engine.errors import InputError
 from engine.meters import utility_words
 from engine.tariffs import effective_rate
-from engine.units import utility_hint
 from engine.weather import daily_stats
 
 #: Hours of readings a day needs for its mean temperature to count.
@@ -83,11 +83,6 @@ def daily_means(hourly: pd.Series | None, timezone: str) -> pd.Series | None:
         return None
     daily = daily_stats(hourly.dropna(), timezone)
     return daily["tmean"].where(daily["hours"] >= MIN_HOURS).dropna()
-
-
-def account_utility(bills: pd.DataFrame) -> str | None:
-    """The utility the bills' unit usually measures (kWh: electricity, therm: natural gas)."""
-    return utility_hint(str(bills["unit_found"].iloc[0]))
 
 
 def plan_accounts(

@@ -6,11 +6,11 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
+from engine.accounts.utility import account_utility
 from engine.cli.output import emit
 from engine.project import Project
 from engine.steps.account_membership import meter_accounts, parse_pairs, set_meter_accounts
 from engine.steps.importing import ImportedFiles, assemble_project, store_files
-from engine.units import utility_hint
 
 
 def create_with_accounts(
@@ -47,7 +47,7 @@ def accounts_report(project: Project) -> dict:
         rows.append(
             {
                 "name": str(name),
-                "utility": utility_hint(str(group["unit_found"].iloc[0])),
+                "utility": account_utility(group),
                 "unit_found": str(group["unit_found"].iloc[0]),
                 "bills": len(group),
                 "first_period_start": f"{group['period_start'].min():%Y-%m-%d}",
