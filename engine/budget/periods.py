@@ -112,6 +112,19 @@ def budget_months(
     return [str(month) for month in pd.period_range(first, periods=count, freq="M")]
 
 
+def check_ahead(months: list[str], as_of: date) -> None:
+    """Refuse a budget whose every month ends by ``as_of``: nothing of it is left to forecast
+    (its months are metered, or lie before the readings and would be guessed backwards)."""
+    if months and str(months[-1]) < first_open_month(as_of):
+        span = months[0] if len(months) == 1 else f"{months[0]} .. {months[-1]}"
+        raise InputError(
+            f"the budget's months ({span}) all end by the as-of date {as_of:%Y-%m-%d}, so "
+            "there is nothing to forecast.",
+            hint=f"Budget months from {first_open_month(as_of)} on; to set passed months "
+            "beside a budget, adopt one and track it.",
+        )
+
+
 def first_open_month(as_of: date) -> str:
     """The month holding the day after ``as_of``: the first one not fully metered."""
     following = as_of + timedelta(days=1)

@@ -215,11 +215,15 @@ class Skill:
     def sentence(self) -> str:
         if not self.months:
             return f"no past month could be compared with {self.baseline}"
-        verdict = "better" if self.relative > 0 else "worse"
+        months = f"{self.months} past month{'s' if self.months != 1 else ''}"
+        if math.isfinite(self.relative):
+            verdict = "better" if self.relative > 0 else "worse"
+            compared = f"{abs(self.relative):.0%} {verdict}"
+        else:  # the baseline hit every month exactly: no share of its error to compare
+            compared = "which missed by nothing, so no relative skill can be given"
         return (
-            f"P50 month totals missed by {self.p50_mape:.1f} % on average over {self.months} "
-            f"past months, against {self.baseline_mape:.1f} % for {self.baseline} "
-            f"({abs(self.relative):.0%} {verdict})"
+            f"P50 month totals missed by {self.p50_mape:.1f} % on average over {months}, "
+            f"against {self.baseline_mape:.1f} % for {self.baseline} ({compared})"
         )
 
     def to_json(self) -> dict[str, Any]:

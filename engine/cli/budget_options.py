@@ -27,7 +27,7 @@ def request_from_args(args: argparse.Namespace, project: Project) -> BudgetReque
 
 def _months(args: argparse.Namespace) -> list[str]:
     if args.fiscal_year is None:
-        return budget_months(start=args.start, months=args.months or 1)
+        return budget_months(start=args.start, months=args.months)
     start_month = int(args.start[5:7]) if len(args.start) == 7 else 0
     months = budget_months(fiscal_year=args.fiscal_year, fiscal_start_month=start_month)
     if months[0] != args.start:

@@ -26,6 +26,7 @@ from engine.budget import (
     simulate_paths,
     summarise,
 )
+from engine.budget.periods import check_ahead
 from engine.budget.refits import CALIBRATION_MONTHS, ERROR_MONTHS
 from engine.budget.summary import check_levels
 from engine.calendar import CampusCalendar
@@ -142,9 +143,11 @@ def budget_request(
         raise InputError(
             f"the currency '{currency}' is not a three-letter code.", hint="e.g. USD, EUR, CAD."
         )
+    as_of = as_of if as_of is not None else last_reading_day(project)
+    check_ahead(list(months), as_of)
     return BudgetRequest(
         months=list(months),
-        as_of=as_of if as_of is not None else last_reading_day(project),
+        as_of=as_of,
         weather=weather,
         levels=check_levels(levels),
         paths=paths,

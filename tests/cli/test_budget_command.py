@@ -91,9 +91,21 @@ def test_a_month_under_way_adds_the_actual_to_date(site):
 def test_bad_budget_options_exit_2_with_one_line(site):
     project, _, _ = site
     for args in (["--start", "2026-13"], ["--start", "2026-01", "--levels", "10,90"],
-                 ["--start", "2026-01", "--weather", "sunny"]):  # fmt: skip
+                 ["--start", "2026-01", "--weather", "sunny"],
+                 ["--start", "2026-01", "--months", "0"],  # was taken as one month
+                 ["--start", "1999-01"]):  # fmt: skip
         done = _run("budget", project, *args, expect=2)
         assert done.stderr.count("\n") == 1 and "Traceback" not in done.stderr
+
+
+def test_a_budget_of_months_already_metered_is_refused(site):
+    # The readings end on 2025-12-31: months up to December are all metered (or before the
+    # readings), so a budget of them forecasts nothing; it was made, guessing 1999 backwards.
+    project, _, _ = site
+    done = _run("budget", project, "--start", "2025-10", "--months", "3", expect=2)
+    assert "2025-10 .. 2025-12" in done.stderr and "from 2026-01 on" in done.stderr
+    # A period that reaches past the as-of date is a budget, its passed months metered.
+    _run("budget", project, "--start", "2025-12", "--months", "2", "--paths", "200", "--json")
 
 
 def test_one_shot_budget_from_files(site, tmp_path):

@@ -407,6 +407,17 @@ def test_skill_is_one_minus_the_ratio_of_mean_absolute_percentage_errors() -> No
     assert skill(pairs.iloc[3:], "last year kWh", LAST_YEAR).to_json()["relative"] is None
 
 
+def test_a_baseline_that_missed_by_nothing_gives_no_relative_skill() -> None:
+    # A meter whose load repeats exactly: last year's total is the actual, so no share of the
+    # baseline's error can be given (it was printed as "nan% worse").
+    pairs = pd.DataFrame({"actual kWh": [100.0], "P50": [101.0], "last year kWh": [100.0]})
+    found = skill(pairs, "last year kWh", LAST_YEAR)
+    words = found.sentence()
+    assert "nan" not in words and "over 1 past month," in words
+    assert "missed by nothing" in words
+    assert found.to_json()["relative"] is None
+
+
 def test_past_budgets_carry_last_years_total_and_the_last_week_repeated(
     campus: Campus, past: BudgetBacktest
 ) -> None:
