@@ -23,7 +23,7 @@ def clean(args: argparse.Namespace) -> int:
     with Project.open(args.project) as project:
         names = selected_meters(project, args.meter)
         if args.undo is not None:
-            project.set_step_active(args.undo, False)
+            _undo(project, args.undo)
         meters = []
         drivers = SiteDrivers.of(project)
         with project.transaction():  # every meter's fixes in one save
@@ -45,6 +45,17 @@ def clean(args: argparse.Namespace) -> int:
         report = {"project": str(project.path), "meters": named(project, meters)}
     emit(args, report, text.clean_report)
     return 0
+
+
+def _undo(project: Project, step_id: int) -> None:
+    """Undo a step of the cleaning log; an id not in the log is refused."""
+    known = {step["id"] for step in project.cleaning_steps(active_only=False)}
+    if step_id not in known:
+        raise InputError(
+            f"{project.path.name}: the cleaning log has no step {step_id}.",
+            hint="Take step ids from loadledger clean --json (each meter's steps).",
+        )
+    project.set_step_active(step_id, False)
 
 
 def _accept(project: Project, names: list[str], ids: list[str], drivers: SiteDrivers) -> list[int]:

@@ -105,6 +105,11 @@ class ProjectBudget:
     accounts: list[AccountPlan] = field(default_factory=list)  # the bill accounts budgeted
 
 
+#: Days an as-of date may lie after the last reading: the year of model errors a budget
+#: draws from (:data:`engine.budget.refits.ERROR_MONTHS`) must hold some.
+MAX_DAYS_PAST_READINGS = 365
+
+
 def budget_request(
     project: Project,
     months: list[str],
@@ -143,8 +148,17 @@ def budget_request(
         raise InputError(
             f"the currency '{currency}' is not a three-letter code.", hint="e.g. USD, EUR, CAD."
         )
-    as_of = as_of if as_of is not None else last_reading_day(project)
+    last = last_reading_day(project)
+    as_of = as_of if as_of is not None else last
     check_ahead(list(months), as_of)
+    if (as_of - last).days > MAX_DAYS_PAST_READINGS:
+        raise InputError(
+            f"the as-of date {as_of:%Y-%m-%d} is {(as_of - last).days} days after the last "
+            f"reading ({last:%Y-%m-%d}): a budget draws its model error from the year before "
+            "the as-of date, and that year has no readings.",
+            hint="Choose an as-of date within a year of the last reading, or import the "
+            "newer readings.",
+        )
     return BudgetRequest(
         months=list(months),
         as_of=as_of,

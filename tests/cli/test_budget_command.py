@@ -93,7 +93,9 @@ def test_bad_budget_options_exit_2_with_one_line(site):
     for args in (["--start", "2026-13"], ["--start", "2026-01", "--levels", "10,90"],
                  ["--start", "2026-01", "--weather", "sunny"],
                  ["--start", "2026-01", "--months", "0"],  # was taken as one month
-                 ["--start", "1999-01"]):  # fmt: skip
+                 ["--start", "1999-01"],
+                 # years after the readings: there are no model errors to draw from
+                 ["--start", "2030-02", "--as-of", "2030-01-31"]):  # fmt: skip
         done = _run("budget", project, *args, expect=2)
         assert done.stderr.count("\n") == 1 and "Traceback" not in done.stderr
 

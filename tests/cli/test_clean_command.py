@@ -58,6 +58,12 @@ def test_undo_returns_the_series_before_the_step(project):
     assert undone["quality"]["coverage_after"] < 1.0
 
 
+def test_undoing_a_step_not_in_the_log_is_refused_in_one_line(project):
+    path, _ = project
+    done = loadledger("clean", path, "--undo", "77", expect=2)  # was an internal error
+    assert done.stderr.count("\n") == 1 and "has no step 77" in done.stderr
+
+
 def test_an_accepted_finding_stays_as_read_and_no_longer_shows(project):
     path, _ = project
     before = json.loads(_run("clean", path, "--json"))["meters"][0]
