@@ -270,6 +270,10 @@ class BudgetScreen(TaskScreen):
         if self.budget is None:
             self._clear("Stopped before the budget was ready.")
 
+    def task_failed(self) -> None:
+        if self.budget is None:  # the chart no longer waits for a run that has ended
+            self._clear("No budget was made (the notice above says why).")
+
     # -- showing ----------------------------------------------------------------------------
 
     def _keep(self, budget: ProjectBudget | None) -> None:

@@ -28,11 +28,15 @@ class TaskScreen(QWidget):
     def start_task(self, work: Work, doing: str, done: Callable[[object], None]) -> bool:
         """Run ``work`` on a worker and hand its result to ``done``; False while busy."""
         stopped = partial(self.task_cancelled, doing)
-        return self.runner.start(Job(work, doing, done, stopped=stopped))
+        job = Job(work, doing, done, stopped=stopped, failed=lambda _: self.task_failed())
+        return self.runner.start(job)
 
     def task_cancelled(self, doing: str) -> None:
         """Say that the work stopped (subclasses may say more)."""
         self.notice.say(f"Stopped {doing}; nothing was kept.", "info")
+
+    def task_failed(self) -> None:
+        """Called after a task failed, once the notice says why (subclasses tidy up)."""
 
     def set_busy(self, busy: bool) -> None:
         """Enable or disable the controls that start work (subclasses)."""

@@ -22,6 +22,7 @@ from desktop_support import (
     save_screen,
     wait_until_idle,
 )
+from PySide6.QtCore import QDate
 
 from desktop.budget_jobs import period_months
 from desktop.budget_screen import BudgetScreen
@@ -185,6 +186,20 @@ def test_cancel_stops_a_running_budget(qtbot, fresh_screen):
     assert screen.notice.tone == "info" and "Stopped budgeting" in screen.notice.text.text()
     assert screen.budget is None and "Stopped before" in screen.plot.note.text()
     assert len(_stored_budgets(project)) == kept_before
+    assert screen.budget_button.isEnabled()
+
+
+def test_months_already_metered_are_refused_and_the_chart_stops_waiting(qtbot, fresh_screen):
+    screen = fresh_screen
+    as_of = screen.form.as_of.date().toPython()
+    screen.form.period.set_value("months")
+    screen.form.start.setDate(QDate(as_of.year - 1, 1, 1))
+    screen.form.months.setValue(2)
+    _run(qtbot, screen)
+    words = screen.notice.text.text()
+    assert screen.notice.tone == "problem" and "nothing to forecast" in words
+    # The chart said it waited for the run; once refused it says no budget was made.
+    assert screen.budget is None and "No budget was made" in screen.plot.note.text()
     assert screen.budget_button.isEnabled()
 
 
