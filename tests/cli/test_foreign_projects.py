@@ -24,7 +24,7 @@ DATA = ROOT / "sample" / "data"
 DEEP = "[" * 100_000 + "]" * 100_000
 LONG = "1" + "0" * 5_000  # Python reads at most 4,300 digits into an int
 STEP = '{"start": "2024-02-13T15:00:00+00:00", "end": "2024-02-13T21:15:00+00:00", "high": %s}'
-BUDGET = ("--start", "2026-01", "--paths", "100", "--workers", "1")
+BUDGET = ("--start", "2026-11", "--paths", "100", "--workers", "1")
 
 #: name: (SQL changing one value, the value, the command that meets it, words of the message)
 TAMPERED = {

@@ -105,7 +105,7 @@ def test_track_text_shows_the_split_the_outlook_and_the_caution(adopted):
     [
         (("track", "--budget", "FY1999"), "no budget is adopted as 'FY1999'"),
         (("track", "--budget", NAME, "--as-of", "2024-12-01"), "comes before the budget"),
-        (("budget", "--start", "2025-01", "--paths", "100", "--adopt", NAME),
+        (("budget", "--start", "2025-04", "--paths", "100", "--adopt", NAME),
          f"already adopted as '{NAME}'"),
         (("budget", "--start", "2025-01", "--paths", "100", "--replace"), "--replace goes with"),
     ],
