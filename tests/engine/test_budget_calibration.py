@@ -32,7 +32,13 @@ from engine.budget import (
     summarise,
     widen,
 )
-from engine.budget.calibration import MAX_SCALE, site_calibrations
+from engine.budget.calibration import (
+    MAX_SCALE,
+    agreed_pooling,
+    log_scale_variance,
+    pair_scores,
+    site_calibrations,
+)
 from engine.budget.skill import LAST_YEAR, skill
 from engine.errors import InputError
 from engine.progress import Progress
@@ -91,6 +97,63 @@ def test_a_single_meter_calibrates_on_a_year_and_a_site_on_six_months() -> None:
             method="weibull",
         )
     )
+
+
+def _site(spreads: dict[str, float], months: int = 12, seed: int = 11) -> pd.DataFrame:
+    """Past budgets of a site: each meter's actual totals scatter around 100 with its own
+    spread (normal), against ranges P10–P90 of 90–110 (honest for a spread of 7.8)."""
+    rng = np.random.default_rng(seed)
+    labels = [f"2025-{month:02d}" for month in range(1, months + 1)]
+    flat = np.ones(months)
+    frames = [
+        _pairs(
+            100 + spread * rng.standard_normal(months), 90 * flat, 100 * flat, 110 * flat
+        ).assign(month=labels, name=name)
+        for name, spread in spreads.items()
+    ]
+    return pd.concat(frames, ignore_index=True)
+
+
+def test_a_meter_unlike_its_site_leans_on_it_less() -> None:
+    # Five meters whose ranges are three times too narrow (spread 23) and one whose ranges are
+    # honest (7.8, the normal 10 / 1.2816: its true scale is 1). Pooled fully, the honest
+    # meter's ranges were widened as far as the others' (2.2 to 3.6 here); now its site
+    # counts for about a month and a half, its window grows to eleven months of its own, and
+    # its scale stays near 1 while the others' (true scale 23 / 7.8 = 2.9) stay far above.
+    site = _site({**{f"W{k}": 23.0 for k in range(5)}, "Steady": 7.8})
+    scores = {name: pair_scores(rows) for name, rows in site.groupby("name")}
+    limits = agreed_pooling(scores, 0.8)
+    assert limits["Steady"] < 3 and all(limits[f"W{k}"] < 24 for k in range(5))
+    made = site_calibrations(site)
+    assert made["Steady"].tried > 6
+    assert 0.6 < made["Steady"].scale < 1.3
+    assert min(made[f"W{k}"].scale for k in range(5)) > 1.8
+
+
+def test_meters_that_agree_pool_as_before() -> None:
+    # Six meters drawn alike: their scales differ by sampling noise, so each meter's pool
+    # counts for (nearly) the full two years of months and six months calibrate the site.
+    site = _site({f"M{k}": 10.0 for k in range(6)}, seed=4)
+    scores = {name: pair_scores(rows) for name, rows in site.groupby("name")}
+    assert min(agreed_pooling(scores, 0.8).values()) > 20
+    made = site_calibrations(site)
+    assert all(calibration.tried == 6 for calibration in made.values())
+    # Fewer than three meters: nothing to judge a spread on, the other meter counts fully.
+    two = {name: scores[name] for name in ("M0", "M3")}
+    assert agreed_pooling(two, 0.8) == {"M0": 24.0, "M3": 24.0}
+
+
+def test_the_bootstrap_variance_of_a_log_scale_shrinks_with_more_months() -> None:
+    # The sampling variance of a quantile falls as 1 / n (Hyndman & Fan's estimators are
+    # consistent; common practice): four times the months, about a quarter of the variance.
+    rng = np.random.default_rng(6)
+    few = np.abs(rng.standard_normal(12)) + 0.01
+    many = np.abs(rng.standard_normal(48)) + 0.01
+    log_few, var_few = log_scale_variance(few, 0.8)
+    _, var_many = log_scale_variance(many, 0.8)
+    assert log_few == pytest.approx(np.log(np.quantile(few, 0.8, method="weibull")))
+    assert 0.1 < var_many / var_few < 0.6
+    assert log_scale_variance(few, 0.8) == (log_few, var_few)  # the same scores, the same
 
 
 def test_the_scale_holds_four_new_months_in_five_on_average() -> None:
