@@ -288,7 +288,9 @@ def calibrate(
         f"(rank {coverage:g}·(n + 1)) of the misses of the {tried} most recent past {periods}"
     )
     if others:
-        method += f" and of the site's other meters' {others} (counting as {counted:.0f} {periods})"
+        weight = f"{round(counted, 1):g}"  # "24", "6", "1.4": a pool that agrees less counts less
+        noun = periods[:-1] if weight == "1" else periods
+        method += f" and of the site's other meters' {others} (counting as {weight} {noun})"
     if scale > MAX_SCALE:
         method += f", capped at {MAX_SCALE:g} (the past {periods} asked for {scale:.1f})"
         scale = MAX_SCALE

@@ -125,6 +125,7 @@ def test_a_meter_unlike_its_site_leans_on_it_less() -> None:
     limits = agreed_pooling(scores, 0.8)
     assert limits["Steady"] < 3 and all(limits[f"W{k}"] < 24 for k in range(5))
     made = site_calibrations(site)
+    assert f"(counting as {round(limits['Steady'], 1):g} months)" in made["Steady"].method
     assert made["Steady"].tried > 6
     assert 0.6 < made["Steady"].scale < 1.3
     assert min(made[f"W{k}"].scale for k in range(5)) > 1.8
