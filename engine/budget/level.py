@@ -298,7 +298,7 @@ def level_correction(
     if not helping:
         return LevelCorrection.not_used(
             f"on {done.months} past months neither correction cut the month-total error by "
-            f"{MIN_GAIN:.0%} by more than luck would ({without:.1f} % as it is, "
+            f"{MIN_GAIN:.0%} with a gain beyond luck ({without:.1f} % as it is, "
             f"{done.mape['recent']:.1f} % with the recent level, "
             f"{done.mape['year']:.1f} % with the error window's)",
             done.months, without,
