@@ -163,15 +163,8 @@ def log_scale_variance(scores: np.ndarray, coverage: float) -> tuple[float, floa
     """The log of the scale ``scores`` alone give (:func:`rank_quantile`) and its sampling
     variance over :data:`BOOTSTRAP_DRAWS` resamples (a fixed seed: the same scores always give
     the same answer). Scores must be finite and positive enough to take logs of."""
-    count = len(scores)
-    draws = np.random.default_rng(0).integers(0, count, (BOOTSTRAP_DRAWS, count))
-    resampled = np.sort(scores[draws], axis=1)
-    rank = min(coverage * (count + 1), count)  # as rank_quantile, with unit weights
-    position = np.clip(rank - 1.0, 0.0, count - 1.0)
-    below = int(np.floor(position))
-    above = min(below + 1, count - 1)
-    fraction = position - below
-    scales = resampled[:, below] * (1 - fraction) + resampled[:, above] * fraction
+    draws = np.random.default_rng(0).integers(0, len(scores), (BOOTSTRAP_DRAWS, len(scores)))
+    scales = np.array([rank_quantile(scores[drawn], coverage) for drawn in draws])
     floor = np.finfo(np.float64).tiny
     return (
         math.log(max(rank_quantile(scores, coverage), floor)),
