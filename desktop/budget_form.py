@@ -98,6 +98,10 @@ class BudgetForm(QWidget):
         self.as_of = QDateEdit()
         self.as_of.setDisplayFormat("yyyy-MM-dd")
         self.as_of.setCalendarPopup(True)
+        self.as_of.setToolTip(
+            "The as-of date: readings after this day are left out and the budget forecasts from "
+            "it (by default the last day with a reading)."
+        )
         self.as_of.dateChanged.connect(self._period_defaults)
         self.weather = ChoiceBox(WEATHER_WORDS)
         self.weather.set_value(DEFAULT_WEATHER)

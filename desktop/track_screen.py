@@ -85,7 +85,8 @@ class TrackScreen(TaskScreen):
         self.as_of.setDisplayFormat("yyyy-MM-dd")
         self.as_of.setCalendarPopup(True)
         self.as_of.setToolTip(
-            "Readings after this day are left out; the month it falls in is under way."
+            "The as-of date: readings after this day are left out; the month it falls in is "
+            "under way."
         )
         self.track_button = QPushButton("Track")
         self.track_button.setToolTip(
