@@ -15,6 +15,7 @@ are.
 
 from __future__ import annotations
 
+import hashlib
 from collections.abc import Sequence
 from dataclasses import dataclass, field
 from typing import ClassVar
@@ -26,6 +27,7 @@ from engine.accounts.model import MIN_BILLS, YEAR, AccountModel, bill_days, peri
 from engine.budget.calibration import calibrate
 from engine.budget.result import Calibration
 from engine.errors import InputError
+from engine.ready_meters import fingerprint
 
 #: Newest bills whose out-of-sample errors a budget draws from (as the meters' 24 months).
 ERROR_BILLS = 24
@@ -135,6 +137,13 @@ def a_complete_year(bills: pd.DataFrame) -> bool:
     return len(bills) >= MIN_BILLS and days.sum() >= YEAR
 
 
+#: Backtests made in this process, by a digest of their bills, temperatures and levels: the
+#: window budgets one project again and again, and an account's backtest (its model refitted
+#: before each of its newest bills) depends on nothing else. A few accounts' worth are kept.
+_MADE: dict[str, tuple[np.ndarray, pd.DataFrame]] = {}
+_KEPT_BACKTESTS = 16
+
+
 def backtest_bills(
     bills: pd.DataFrame, temps: pd.Series | None, levels: Sequence[int]
 ) -> tuple[np.ndarray, pd.DataFrame]:
@@ -142,7 +151,21 @@ def backtest_bills(
 
     Returns the errors (``actual ÷ predicted − 1``, oldest first) and the past budgets as
     :func:`engine.budget.calibrate` reads them (``actual kWh``, ``mean kWh``, ``P{level}``).
+    Equal inputs are backtested once per process (copies of the first result come back).
     """
+    rows = pd.util.hash_pandas_object(bills, index=True).to_numpy()
+    key = fingerprint(temps, list(levels), hashlib.sha256(rows.tobytes()).hexdigest())
+    if key not in _MADE:
+        if len(_MADE) >= _KEPT_BACKTESTS:
+            del _MADE[next(iter(_MADE))]  # the oldest
+        _MADE[key] = _backtest(bills, temps, levels)
+    errors, pairs = _MADE[key]
+    return errors.copy(), pairs.copy()
+
+
+def _backtest(
+    bills: pd.DataFrame, temps: pd.Series | None, levels: Sequence[int]
+) -> tuple[np.ndarray, pd.DataFrame]:
     days = period_days(bills)
     covered = np.cumsum(days.to_numpy())
     origins = [i for i in range(MIN_BILLS, len(bills)) if covered[i - 1] >= YEAR]

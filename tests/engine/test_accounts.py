@@ -212,6 +212,25 @@ def test_past_bill_errors_are_out_of_sample():
     assert len(pairs) == 12 and (pairs["P10"] < pairs["P90"]).all()
 
 
+def test_equal_bills_are_backtested_once_and_the_copies_stay_apart(monkeypatch):
+    # The window budgets a project again and again: the second backtest of the same bills
+    # and weather refits nothing, and changing what came back leaves the next answer alone.
+    temps = _weather("2021-01-01", "2024-12-31", seed=5)
+    bills = _bills(_heating_account(temps), "2021-01-01", seed=6)
+    first, pairs = backtest_bills(bills, temps, (10, 50, 90))
+    fits = []
+    real_fit = AccountModel.fit
+    monkeypatch.setattr(AccountModel, "fit", lambda *a, **k: fits.append(1) or real_fit(*a, **k))
+    first[:] = 0.0
+    pairs.loc[:, "P50"] = 0.0
+    again, again_pairs = backtest_bills(bills.copy(), temps.copy(), (10, 50, 90))
+    assert fits == [] and np.abs(again).sum() > 0 and (again_pairs["P50"] > 0).all()
+    # Other levels or another temperature are another backtest.
+    backtest_bills(bills, temps, (5, 50, 95))
+    backtest_bills(bills, temps + 0.5, (10, 50, 90))
+    assert len(fits) > 2
+
+
 def test_budget_days_of_known_bills_add_up_to_the_bills_and_the_rest_is_forecast():
     temps = _weather("2021-01-01", "2025-03-31", seed=11)
     use = _heating_account(temps, seed=12)
