@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import hashlib
 import json
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 import pandas as pd
@@ -64,6 +64,8 @@ class PreparedSite:
     temperatures: pd.Series | None  # the weather readings as stored, °C
     hourly: pd.Series | None  # the same on the hour, short gaps filled
     meters: dict[str, ReadyMeter]
+    #: With several weather stations: each one's hours, in the order they are combined.
+    station_hours: dict[str, int] = field(default_factory=dict)
 
     def hourly_before(self, cut: pd.Timestamp | None) -> pd.Series | None:
         """Hourly °C filled from the readings before ``cut`` only (a gap at the cut is not

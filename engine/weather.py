@@ -195,11 +195,17 @@ def combined_stations(stations: Iterable[pd.Series]) -> pd.Series:
     of the same station; two stations are never averaged, so a warmer rooftop sensor does not
     shift the main station's readings.
     """
-    hourly = list(hourly_stations(dict(enumerate(stations))).values())
-    if not hourly:
+    return combined_hours(hourly_stations(dict(enumerate(stations))).values())
+
+
+def combined_hours(hourly: Iterable[pd.Series]) -> pd.Series:
+    """:func:`combined_stations` of stations already made hourly and ordered by
+    :func:`hourly_stations`: the first as it is, each hour it lacks from the next that has it."""
+    stations = list(hourly)
+    if not stations:
         raise ValueError("no weather stations to combine")
-    combined = hourly[0]
-    for other in hourly[1:]:
+    combined = stations[0]
+    for other in stations[1:]:
         combined = combined.combine_first(other)
     return combined.rename("site")
 

@@ -346,7 +346,7 @@ def budget_project(
                 "models the fit wizard chose here were ranked on their backtest under the "
                 "weather that actually happened, as the budget is asked for a given weather"
             )
-    stations = stations_sentence(project)
+    stations = stations_sentence(site.station_hours)
     if stations:
         run.assumptions["weather stations"] = stations
     own_price = set(own) & {plan.name for plan in plans if plan.rate is not None}

@@ -15,14 +15,14 @@ from engine.project import Project
 from engine.ready_meters import PreparedSite, ReadyMeter, model_inputs
 from engine.steps.cleaning import cleaned_meter
 from engine.steps.site_calendar import stored_calendar
-from engine.steps.site_weather import site_temperatures
+from engine.steps.site_weather import site_weather
 from engine.weather import fill_hourly
 
 
 def prepare_site(project: Project, names: Sequence[str] | None = None) -> PreparedSite:
     """Make the named meters (None: all; an empty list: none) of ``project`` ready, each once."""
     calendar = stored_calendar(project) or CampusCalendar()
-    temperatures = site_temperatures(project)
+    temperatures, station_hours = site_weather(project)
     hourly = None if temperatures is None else fill_hourly(temperatures).hourly
     utilities = {m["name"]: m["utility"] for m in project.summary()["meters"]}
     chosen = list(names) if names is not None else project.meter_names()
@@ -40,4 +40,6 @@ def prepare_site(project: Project, names: Sequence[str] | None = None) -> Prepar
         meters[name] = ReadyMeter(
             name, utilities[name], raw, cleaned, inputs, project.cleaning_steps(name)
         )
-    return PreparedSite(str(project.path), project.timezone, calendar, temperatures, hourly, meters)
+    return PreparedSite(
+        str(project.path), project.timezone, calendar, temperatures, hourly, meters, station_hours
+    )
