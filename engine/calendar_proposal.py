@@ -834,6 +834,22 @@ def zone_country(timezone: str) -> tuple[str | None, bool]:
     return None, False
 
 
+def _testable(
+    ratio: pd.Series, named: Iterable[date], periods: Sequence[ProposedPeriod]
+) -> pd.Series:
+    """The ratio on the ``named`` days the readings hold as weekdays, outside the periods."""
+    days = pd.DatetimeIndex(sorted(named)).intersection(ratio.index)
+    inside = np.zeros(len(days), dtype=bool)
+    for proposed in periods:
+        first, last = proposed.period.first_day, proposed.period.last_day
+        inside |= (days >= pd.Timestamp(first)) & (days <= pd.Timestamp(last))
+    return ratio.loc[days[~inside]]
+
+
+def _years(ratio: pd.Series) -> list[int]:
+    return list(range(ratio.index[0].year, ratio.index[-1].year + 1))
+
+
 def holiday_check(
     ratio: pd.Series, width: float, country: str, periods: Sequence[ProposedPeriod] = ()
 ) -> ProposedHolidays | None:
@@ -841,21 +857,43 @@ def holiday_check(
     outside the proposed periods: how many ran low. None when fewer than three are testable."""
     if country not in holidays.list_supported_countries():
         return None
-    years = range(ratio.index[0].year, ratio.index[-1].year + 1)
-    named = holidays.country_holidays(country, years=list(years), observed=True)
-    days = pd.DatetimeIndex(sorted(named)).intersection(ratio.index)
-    inside = np.zeros(len(days), dtype=bool)
-    for proposed in periods:
-        first, last = proposed.period.first_day, proposed.period.last_day
-        inside |= (days >= pd.Timestamp(first)) & (days <= pd.Timestamp(last))
-    days = days[~inside]
-    if len(days) < 3:
+    named = holidays.country_holidays(country, years=_years(ratio), observed=True)
+    values = _testable(ratio, named, periods)
+    if len(values) < 3:
         return None
-    values = ratio.loc[days]
     low = values < 1 - width
     return ProposedHolidays(
-        country, None, int(low.sum()), len(days), _holiday_words(country, values, low, named)
+        country, None, int(low.sum()), len(values), _holiday_words(country, values, low, named)
     )
+
+
+def own_holidays_note(
+    ratio: pd.Series,
+    width: float,
+    country: str,
+    subdivision: str,
+    periods: Sequence[ProposedPeriod] = (),
+) -> str | None:
+    """Words when the subdivision's own public holidays (those the country lacks) mostly ran
+    like ordinary weekdays: the site seems to keep only the country's, and a model told they
+    are days off forecasts them low. None when they ran low or none are testable."""
+    years = _years(ratio)
+    regional = holidays.country_holidays(country, subdiv=subdivision, years=years, observed=True)
+    national = holidays.country_holidays(country, years=years, observed=True)
+    own = {day: name for day, name in regional.items() if day not in national}
+    values = _testable(ratio, own, periods)
+    low = values < 1 - width
+    if values.empty or low.mean() >= HOLIDAY_SHARE:
+        return None
+    ordinary = [f"{own[day.date()]} {day.date().isoformat()} ({value:.0%})"
+                for day, value in values[~low].items()]  # fmt: skip
+    listed = ", ".join(ordinary[:4]) + (" …" if len(ordinary) > 4 else "")
+    words = (
+        f"{country}-{subdivision}'s own public holidays ran like ordinary weekdays: "
+        f"{len(ordinary)} of {len(values)} ({listed}). The site seems to keep only the public "
+        f"holidays of {country}: choose those unless the campus closes on these days too."
+    )
+    return words.replace("%", " %")
 
 
 def _holiday_words(country: str, values: pd.Series, low: pd.Series, named) -> str:
@@ -882,12 +920,14 @@ def propose_calendar(
     hourly: pd.Series | None = None,
     *,
     horizon_days: int = HORIZON_DAYS,
+    given: CampusCalendar | None = None,
 ) -> CalendarProposal:
     """Recurring periods and public holidays of a site from its meters' daily totals.
 
     ``daily`` holds complete local-day totals (naive midnights) per meter; ``hourly`` the
     site's hourly °C (tz-aware, or None); periods are copied forward ``horizon_days`` past the
-    last day.
+    last day. ``given`` is the calendar the site has: when its public holidays name a
+    subdivision, the notes say if the subdivision's own holidays ran like ordinary weekdays.
     """
     degrees = None if hourly is None or hourly.dropna().empty else degree_days(hourly, timezone)
     ratio = site_ratio(meter_ratios(daily, degrees))
@@ -917,13 +957,16 @@ def propose_calendar(
             notes.append(f"Not proposed: {checked.evidence}.")
         else:
             found = checked
+    if given is not None and given.subdivision is not None:
+        note = own_holidays_note(ratio, width, given.country, given.subdivision, periods)
+        notes += [note] if note else []
     return CalendarProposal(periods, found, tuple(notes))
 
 
 def propose_for_site(site: PreparedSite, cut: pd.Timestamp | None = None) -> CalendarProposal:
     """The proposal from a prepared site's readings before ``cut`` (UTC; None: all)."""
     daily, hourly = site_days(site, cut)
-    return propose_calendar(daily, site.timezone, hourly)
+    return propose_calendar(daily, site.timezone, hourly, given=site.calendar)
 
 
 def with_proposal(calendar: CampusCalendar, proposal: CalendarProposal) -> CampusCalendar:

@@ -47,7 +47,9 @@ def true_periods() -> list[tuple[date, date, float]]:
     return periods
 
 
-def synthetic_site(country: str, seed: int) -> tuple[pd.DataFrame, pd.Series, pd.Series]:
+def synthetic_site(
+    country: str, seed: int, subdivision: str | None = None
+) -> tuple[pd.DataFrame, pd.Series, pd.Series]:
     """Daily kWh of three meters, hourly °C (UTC, America/Chicago days) and each day's
     truth: 'break' (inside a true period), 'holiday' or 'ordinary'."""
     rng = np.random.default_rng(seed)
@@ -58,7 +60,9 @@ def synthetic_site(country: str, seed: int) -> tuple[pd.DataFrame, pd.Series, pd
         inside = (days >= pd.Timestamp(first)) & (days <= pd.Timestamp(last))
         occupied[inside & (days.day_of_week < 5)] = share
         truth[inside] = "break"
-    named = holidays.country_holidays(country, years=range(2022, 2026), observed=True)
+    named = holidays.country_holidays(
+        country, subdiv=subdivision, years=range(2022, 2026), observed=True
+    )
     holiday = days.isin(pd.DatetimeIndex(sorted(named))) & (truth == "ordinary")
     occupied[holiday] = 0.2
     truth[holiday] = "holiday"
@@ -166,6 +170,28 @@ def test_another_country_s_holidays_are_not_proposed():
     proposal = propose_calendar(daily, "America/Chicago", hourly)
     assert proposal.holidays is None
     assert any(note.startswith("Not proposed: US public holidays") for note in proposal.notes)
+
+
+def test_a_subdivision_s_own_holidays_that_ran_as_ordinary_weekdays_are_named(us_site):
+    """A site closed on the US holidays only, entered with Illinois's: the notes name
+    Illinois's own days (Lincoln's Birthday, Casimir Pulaski Day, Election Day), which ran as
+    ordinary weekdays; a site closed on Illinois's too gets no such note."""
+    daily, hourly, truth, _ = us_site
+    given = CampusCalendar("US", "IL")
+    proposal = propose_calendar(daily, "America/Chicago", hourly, given=given)
+    (note,) = [note for note in proposal.notes if note.startswith("US-IL's own public holidays")]
+    own = {day for day, name in holidays.US(subdiv="IL", years=range(2022, 2026)).items()}
+    own -= set(holidays.US(years=range(2022, 2026)))
+    tested = [
+        d for d in own if pd.Timestamp(d) in truth.index and truth[pd.Timestamp(d)] == "ordinary"
+    ]
+    tested = [d for d in tested if d.weekday() < 5]
+    assert f"ran like ordinary weekdays: {len(tested)} of {len(tested)}" in note
+    assert "Lincoln's Birthday" in note and "public holidays of US" in note
+
+    daily, hourly, _ = synthetic_site("US", seed=3, subdivision="IL")
+    proposal = propose_calendar(daily, "America/Chicago", hourly, given=given)
+    assert not [note for note in proposal.notes if "own public holidays" in note]
 
 
 def test_without_weather_the_short_breaks_are_still_found():
