@@ -56,7 +56,7 @@ from engine.scoring import (
     seasonal_naive_mae,
     total_by,
 )
-from engine.weather import TypicalWeather, TypicalYears, at_interval_midpoints
+from engine.weather import TypicalWeather, TypicalYears
 from engine.words import counted
 
 ACTUAL_WEATHER = "actual weather"
@@ -121,14 +121,14 @@ def typical_on(
 ) -> pd.Series:
     """Typical temperatures on an index of interval starts (interval means for long intervals).
 
-    Intervals up to an hour take the typical value at their midpoint (between the hours
-    around it); longer ones (days) the mean of the typical hours they contain.
+    Intervals up to an hour take the typical value of the hour they start in; longer ones
+    (days) the mean of the typical hours they contain.
     """
     local = index.tz_convert(typical.timezone)
     last = (index[-1] + interval - pd.Timedelta(1, "ns")).tz_convert(typical.timezone)
     hourly = typical.hourly(local[0].date(), last.date())
     if interval <= _HOUR:
-        values = at_interval_midpoints(hourly, index, interval)
+        values = hourly.reindex(index, method="ffill").to_numpy()
     else:
         position = index.searchsorted(hourly.index, side="right") - 1
         inside = (position >= 0) & (hourly.index < index[-1] + interval)

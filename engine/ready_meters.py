@@ -22,7 +22,7 @@ from engine.cleaning.quality import quality_summary
 from engine.errors import InputError
 from engine.meters import MeterSeries
 from engine.models.base import ModelInputs
-from engine.weather import at_interval_midpoints, fill_hourly
+from engine.weather import fill_hourly
 
 HOUR = pd.Timedelta(hours=1)
 _DAILY = pd.Timedelta(hours=23)
@@ -104,14 +104,13 @@ def model_inputs(
 
 
 def temperature_on(hourly: pd.Series, index: pd.DatetimeIndex, timezone: str) -> pd.Series:
-    """°C on an hourly ``index`` (each hour's midpoint, between its readings), or each local
-    day's mean on a daily one."""
+    """Hourly °C on an hourly ``index``, or each local day's mean on a daily one."""
     if len(index) > 1 and (index[1] - index[0]) >= _DAILY:
         local_days = hourly.tz_convert(timezone).index.normalize()
         daily = hourly.groupby(local_days).mean()
         daily.index = daily.index.tz_convert("UTC")
         return daily.reindex(index)
-    return pd.Series(at_interval_midpoints(hourly, index, HOUR), index=index)
+    return hourly.reindex(index)
 
 
 def fingerprint(*parts: ModelInputs | pd.Series | dict | list | str | int | None) -> str:

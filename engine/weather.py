@@ -20,7 +20,6 @@ from engine.errors import InputError
 
 #: How each hour of a :class:`FilledWeather` got its value.
 FILL_SOURCES: tuple[str, ...] = ("measured", "interpolated", "neighbour_days", "missing")
-_HOUR = pd.Timedelta(hours=1)
 
 
 def fahrenheit_to_celsius(temps: Any) -> Any:
@@ -209,38 +208,6 @@ def combined_hours(hourly: Iterable[pd.Series]) -> pd.Series:
     for other in stations[1:]:
         combined = combined.combine_first(other)
     return combined.rename("site")
-
-
-def _between(first: np.ndarray, second: np.ndarray, share: np.ndarray) -> np.ndarray:
-    """``share`` of the way from ``first`` to ``second``; ``first`` where ``second`` is missing."""
-    second = np.where(np.isnan(second), first, second)
-    return first + share * (second - first)
-
-
-def at_interval_midpoints(
-    hourly: pd.Series, starts: pd.DatetimeIndex, interval: pd.Timedelta
-) -> np.ndarray:
-    """Hourly readings interpolated linearly to the midpoints of intervals up to an hour long.
-
-    The energy of an interval responds to the temperature during it, not to the reading at its
-    start: on an afternoon warming 2 °C an hour, an hour's mean is 1 °C above its first reading.
-    ``hourly`` is on the hour; an interval whose later reading is missing takes the earlier one.
-    """
-    midpoints = starts + interval / 2
-    before = midpoints.floor("h")
-    share = np.asarray((midpoints - before) / _HOUR, dtype=float)
-    first = hourly.reindex(before).to_numpy(dtype=float)
-    second = hourly.reindex(before + _HOUR).to_numpy(dtype=float)
-    return _between(first, second, share)
-
-
-def hours_at_interval_midpoints(hourly: np.ndarray, per_hour: int = 1) -> np.ndarray:
-    """:func:`at_interval_midpoints` for rows of consecutive hours (the last axis), split into
-    ``per_hour`` intervals each; the last hour has no later reading and keeps its own."""
-    following = np.concatenate([hourly[..., 1:], hourly[..., -1:]], axis=-1)
-    share = (np.arange(per_hour) + 0.5) / per_hour
-    values = _between(hourly[..., None], following[..., None], share)
-    return values.reshape(*hourly.shape[:-1], -1)
 
 
 def daily_stats(temps: pd.Series, timezone: str) -> pd.DataFrame:

@@ -21,7 +21,6 @@ from engine.budget.scenarios import WeatherScenarios
 from engine.calendar import CampusCalendar, OccupancyRule, label_intervals
 from engine.errors import InputError
 from engine.models.base import ModelInputs, predict_scenarios
-from engine.weather import hours_at_interval_midpoints
 
 HOUR = pd.Timedelta(hours=1)
 DAY = pd.Timedelta(days=1)
@@ -148,7 +147,7 @@ def predictions(
     elif native == DAY:
         temperatures = _daily_means(weather.hourly, window)
     else:
-        temperatures = hours_at_interval_midpoints(weather.hourly, int(HOUR // native))
+        temperatures = np.repeat(weather.hourly, int(HOUR // native), axis=1)
     inputs = ModelInputs(index=index, timezone=plan.timezone, labels=labels)
     if temperatures is None:
         predicted = np.asarray(plan.model.predict(inputs), dtype=np.float64)[np.newaxis, :]

@@ -14,13 +14,11 @@ from vega_datasets import data as vega_data
 from engine.errors import InputError
 from engine.weather import (
     TypicalWeather,
-    at_interval_midpoints,
     celsius_to_fahrenheit,
     combined_stations,
     daily_stats,
     fahrenheit_to_celsius,
     fill_hourly,
-    hours_at_interval_midpoints,
     local_hours,
     past_year_samples,
     typical_year,
@@ -306,38 +304,3 @@ def test_combined_stations_keep_the_main_station_and_fill_only_its_missing_hours
     assert site[hours[2]] == pytest.approx((104 + 105) / 2)  # the hour it lacked, hour-averaged
     with pytest.raises(ValueError):
         combined_stations([])
-
-
-def test_interval_midpoints_give_the_mean_temperature_during_each_interval() -> None:
-    # A smooth diurnal cycle read on the hour: the trapezoid of an hour's two readings is its
-    # mean to within the trapezoid rule's error bound h²/12·max|T''| (= 0.034 °C here; any
-    # numerical analysis text), while the reading at the hour's start is off by up to half an
-    # hour's warming.
-    minutes = pd.date_range("2025-07-01", periods=48 * 60, freq="min", tz="UTC")
-    phase = 2 * np.pi * (minutes.hour * 60 + minutes.minute) / (24 * 60)
-    per_minute = pd.Series(20 + 6 * np.sin(phase), index=minutes)
-    hourly = per_minute[minutes.minute == 0]
-    starts = hourly.index[:-1]
-    hour_means = per_minute.groupby(minutes.floor("h")).mean().reindex(starts).to_numpy()
-
-    midpoints = at_interval_midpoints(hourly, starts, pd.Timedelta(hours=1))
-
-    assert np.abs(midpoints - hour_means).max() < 0.04
-    assert np.abs(hourly.reindex(starts).to_numpy() - hour_means).max() > 0.7
-    rows = hours_at_interval_midpoints(hourly.to_numpy()[np.newaxis, :])
-    np.testing.assert_allclose(rows[0, :-1], midpoints)
-
-
-def test_interval_midpoints_split_hours_and_keep_the_last_reading_without_a_later_one() -> None:
-    hours = pd.date_range("2025-01-01", periods=3, freq="h", tz="UTC")
-    hourly = pd.Series([0.0, 4.0, np.nan], index=hours)
-    quarters = pd.date_range(hours[0], periods=12, freq="15min")
-
-    values = at_interval_midpoints(hourly, quarters, pd.Timedelta(minutes=15))
-
-    np.testing.assert_allclose(values[:4], [0.5, 1.5, 2.5, 3.5])
-    np.testing.assert_allclose(values[4:8], 4.0)  # the next reading is missing
-    assert np.isnan(values[8:]).all()
-    np.testing.assert_allclose(
-        hours_at_interval_midpoints(np.array([[0.0, 4.0]]), per_hour=2), [[1.0, 3.0, 4.0, 4.0]]
-    )
