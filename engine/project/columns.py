@@ -181,7 +181,7 @@ def _kind(kind: type) -> str:
 
 def _finite(text: str) -> float:
     value = float(text)
-    if not np.isfinite(value):
+    if not math.isfinite(value):  # math, not numpy: called once per stored number
         raise ValueError("a number too large to read")
     return value
 

@@ -330,6 +330,7 @@ def test_no_document_under_a_setting_is_no_setting(upgraded) -> None:
         "1.5E+400",
         "9" * 250 + "e99",  # long digits that overflow with a two-digit exponent
         "1" + "0" * 320 + ".5",  # no exponent at all
+        "9" * 19 + "e290",  # 19 digits and a three-digit exponent: 1e309
     ],
 )
 def test_json_numbers_too_large_for_a_float_are_refused(number: str) -> None:
