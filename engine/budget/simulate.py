@@ -4,7 +4,9 @@ Each path is a possible future of every meter at once:
 
     energy = model prediction under the path's weather scenario
              + model errors of the path's resampled past days (same days for every meter,
-               less their mean share of the forecast: they give the spread, not the centre)
+               less their mean share of the forecast: they give the spread, not the centre;
+               without the days a refit met a calendar condition for the first time,
+               :func:`engine.budget.residuals.first_encounters_left_out`)
 
 times the meter's level correction (:mod:`engine.budget.level`, where its backtest supports
 one), floored at the lowest reading the meter ever had (zero for meters that never exported), with
@@ -46,6 +48,7 @@ from engine.budget.plan import MeterPlan
 from engine.budget.residuals import (
     error_block_days,
     error_table,
+    first_encounters_left_out,
     level_elasticity,
     level_factors,
     model_errors,
@@ -325,6 +328,8 @@ def simulate_paths(
     prepared: list[_Meter] = []
     for number, plan in enumerate(meters):
         step(progress, 0.2 * number / len(meters), f"Budget: forecasting {plan.name}")
+        if plan.residuals is not None:
+            plan = replace(plan, residuals=first_encounters_left_out(plan.residuals, plan.history))
         errors, forecasts, source = model_errors(plan, cut, error_days)
         errors = centred(errors, forecasts)  # the spread; the centre is the level's to set
         level = _level(plan, cut, error_days, correct_level)
