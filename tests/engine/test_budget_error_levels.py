@@ -8,7 +8,6 @@ proportion to the load).
 from __future__ import annotations
 
 from datetime import date
-from typing import ClassVar
 
 import numpy as np
 import pandas as pd
@@ -16,8 +15,8 @@ import pytest
 
 from engine.budget import MeterPlan, WeatherAssumption, simulate_budget
 from engine.budget.residuals import level_elasticity, level_factors
-from engine.models._family import ModelFamily
 from engine.models.base import ModelInputs
+from tests.engine.known_load import KnownLoad
 
 ZONE = "Europe/Lisbon"
 FIRST_DAY = pd.Timestamp("2022-01-01")
@@ -55,24 +54,13 @@ def test_factors_follow_the_ratio_of_loads_within_bounds() -> None:
     np.testing.assert_allclose(factors, [[np.sqrt(3), 1.0, np.sqrt(3), 1.0]])  # 9× capped at 3×
 
 
-class SeasonalCurve(ModelFamily):
-    """Test model: predicts the known seasonal load of :func:`seasonal_days` (no fitting)."""
+class SeasonalCurve(KnownLoad):
+    """The known seasonal load of :func:`seasonal_days`."""
 
-    family: ClassVar[str] = "seasonal_curve_test"
-    label: ClassVar[str] = "the known seasonal curve (test model)"
-    explainable: ClassVar[bool] = True
-    n_parameters_ = 0
-
-    def fit(self, inputs: ModelInputs) -> SeasonalCurve:
-        return self
-
-    def predict(self, inputs: ModelInputs) -> pd.Series:
+    def load(self, inputs: ModelInputs) -> np.ndarray:
         local = inputs.index.tz_convert(ZONE).tz_localize(None).normalize()
         day = (local - FIRST_DAY).days.to_numpy()
-        return pd.Series(200 + 100 * np.cos(2 * np.pi * day / 365.25), index=inputs.index)
-
-    def settings(self) -> dict:
-        return {}
+        return 200 + 100 * np.cos(2 * np.pi * day / 365.25)
 
 
 def test_a_heavy_month_gets_a_wider_range_when_errors_grow_with_the_load() -> None:

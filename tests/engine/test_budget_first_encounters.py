@@ -9,7 +9,6 @@ forecast as term days (70 kWh too high each day).
 from __future__ import annotations
 
 from datetime import date
-from typing import ClassVar
 
 import numpy as np
 import pandas as pd
@@ -17,8 +16,8 @@ import pandas as pd
 from engine.budget import MeterPlan, WeatherAssumption, simulate_budget
 from engine.budget.residuals import first_encounters_left_out
 from engine.calendar import CampusCalendar, CampusPeriod, label_intervals
-from engine.models._family import ModelFamily
 from engine.models.base import ModelInputs
+from tests.engine.known_load import KnownLoad
 
 ZONE = "America/Chicago"
 CLOSURES = [
@@ -65,24 +64,12 @@ def test_without_calendar_labels_only_weekdays_and_weekends_are_conditions():
     assert first_encounters_left_out(errors, unlabelled).equals(errors)
 
 
-class CampusCurve(ModelFamily):
-    """Test model: the known load, 100 kWh a day on term days and 30 in the closure."""
+class CampusCurve(KnownLoad):
+    """The known load: 100 kWh a day on term days and 30 in the closure."""
 
-    family: ClassVar[str] = "campus_curve_test"
-    label: ClassVar[str] = "the known campus load (test model)"
-    explainable: ClassVar[bool] = True
-    n_parameters_ = 0
-
-    def fit(self, inputs: ModelInputs) -> CampusCurve:
-        return self
-
-    def predict(self, inputs: ModelInputs) -> pd.Series:
+    def load(self, inputs: ModelInputs) -> np.ndarray:
         labels = label_intervals(inputs.index, ZONE, CALENDAR)
-        closed = (labels["period_kind"] == "closure").to_numpy()
-        return pd.Series(np.where(closed, 30.0, 100.0) / 24, index=inputs.index)
-
-    def settings(self) -> dict:
-        return {}
+        return np.where(labels["period_kind"] == "closure", 30.0, 100.0) / 24
 
 
 def test_a_budget_s_range_does_not_carry_the_first_closure_s_miss():
