@@ -215,7 +215,9 @@ def first_encounters_left_out(errors: pd.Series, history: ModelInputs) -> pd.Ser
     learned of it and misses those days by half or more. Every model budgeting later has
     learned them (they lie in its history), so those misses are not samples of its errors;
     drawn into its paths they skewed the month totals: on the sample campus a 15-month-old
-    meter's P50 sat 0.8 % above the mean of its paths.
+    meter's P50 sat 0.8 % above the mean of its paths. Where leaving them out would leave
+    fewer than :data:`MIN_POOL_DAYS` days to draw from, they stay: a short history's misses
+    are the best evidence it has.
     """
     if errors.empty:
         return errors
@@ -225,4 +227,6 @@ def first_encounters_left_out(errors: pd.Series, history: ModelInputs) -> pd.Ser
     month_starts = local.astype("datetime64[M]").astype("datetime64[D]").astype(np.int64)
     at = np.clip(np.searchsorted(days, error_days), 0, len(days) - 1)
     first = (days[at] == error_days) & (first_of[at] >= month_starts)
+    if len(np.unique(error_days[~first])) < MIN_POOL_DAYS:
+        return errors
     return errors[~first]

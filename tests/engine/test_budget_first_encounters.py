@@ -88,3 +88,18 @@ def test_a_budget_s_range_does_not_carry_the_first_closure_s_miss():
     forecast = 100.0 * 31
     assert abs(quantiles["50"] / forecast - 1) < 0.002
     assert quantiles["10"] / forecast > 0.99
+
+
+def test_a_short_history_keeps_its_first_encounters_rather_than_too_few_days():
+    """Errors of December 2022 only: its closure days are first encounters, but leaving them
+    out would leave 23 days, fewer than the four weeks a budget draws from."""
+    history, errors = campus_history()
+    december = errors[_local_days(errors.index).month == 12]
+    december = december[december.index < pd.Timestamp("2023-01-01", tz=ZONE)]
+    assert first_encounters_left_out(december, history).equals(december)
+    november_and_december = errors[errors.index < pd.Timestamp("2023-01-01", tz=ZONE)]
+    november_and_december = november_and_december[
+        november_and_december.index >= pd.Timestamp("2022-11-01", tz=ZONE)
+    ]
+    kept = first_encounters_left_out(november_and_december, history)
+    assert len(set(_local_days(kept.index))) == 61 - 8
