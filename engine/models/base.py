@@ -38,8 +38,9 @@ class ModelInputs:
     energy : pandas.Series or None
         kWh per interval on ``index`` (NaN where unknown or excluded); None when predicting.
     temperature : pandas.Series or None
-        Outdoor dry-bulb °C on ``index`` (the interval mean); None when the project has no
-        weather, in which case weather-driven models fall back to calendar-only forms.
+        Outdoor dry-bulb °C on ``index`` (the hour's reading as the weather file stamps it,
+        or the local day's mean on a daily index); None when the project has no weather, in
+        which case weather-driven models fall back to calendar-only forms.
     labels : pandas.DataFrame or None
         ``engine.calendar.label_intervals`` on ``index``: local, hour_of_week, day_type,
         period, period_kind, occupied. None means "derive from the local clock only".
