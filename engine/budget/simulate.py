@@ -86,6 +86,9 @@ class MeterPaths:
     day_floor: np.ndarray | None = None
     error_growth: float = 0.0
     level: LevelCorrection | None = None
+    #: Days of the error window whose errors were left out as a refit's first encounter with
+    #: a calendar condition (:func:`engine.budget.residuals.first_encounters_left_out`).
+    first_encounter_days: int = 0
 
 
 @dataclass
@@ -187,6 +190,14 @@ def _forecasts(
         return first[np.newaxis, :]
     rest = replace(weather, names=weather.names[1:], hourly=weather.hourly[1:])
     return np.vstack([first, predictions(plan, grid, window, rest)])
+
+
+def _days_left_out(plan: MeterPlan, kept: pd.Series, cut: pd.Timestamp, error_days: int) -> int:
+    """How many local days of the error window lost errors to
+    :func:`~engine.budget.residuals.first_encounters_left_out`."""
+    gone = plan.residuals.index.difference(kept.index)
+    gone = gone[gone >= cut - pd.Timedelta(days=error_days)]
+    return len(gone.tz_convert(plan.timezone).normalize().unique())
 
 
 def _level(plan: MeterPlan, cut: pd.Timestamp, error_days: int, wanted: bool) -> LevelCorrection:
@@ -328,14 +339,18 @@ def simulate_paths(
     prepared: list[_Meter] = []
     for number, plan in enumerate(meters):
         step(progress, 0.2 * number / len(meters), f"Budget: forecasting {plan.name}")
+        left_out = 0
         if plan.residuals is not None:
-            plan = replace(plan, residuals=first_encounters_left_out(plan.residuals, plan.history))
+            kept = first_encounters_left_out(plan.residuals, plan.history)
+            left_out = _days_left_out(plan, kept, cut, error_days)
+            plan = replace(plan, residuals=kept)
         errors, forecasts, source = model_errors(plan, cut, error_days)
         errors = centred(errors, forecasts)  # the spread; the centre is the level's to set
         level = _level(plan, cut, error_days, correct_level)
         prepared.append(
             _prepare(plan, window, scenarios, day, cut, paths, errors, forecasts, source, level)
         )
+        prepared[-1].out.first_encounter_days = left_out
     pool = shared_pool({meter.plan.name: meter.table for meter in prepared})
     for meter in prepared:
         meter.use_pool(pool)

@@ -35,6 +35,7 @@ from engine.budget.result import (
 )
 from engine.budget.simulate import MeterPaths, PathTotals, month_starts
 from engine.errors import InputError
+from engine.words import counted
 
 #: Wording every budget carries (see the product brief's cautions).
 ESTIMATE_CAUTION = (
@@ -222,6 +223,13 @@ def _assumptions(totals: PathTotals, calibration: Mapping[str, Calibration]) -> 
         "model_errors": {
             meter.plan.name: f"{meter.errors_source} of the {totals.settings['error_days']} "
             "days before the as-of date"
+            + (
+                f", less those of {counted(meter.first_encounter_days, 'day')} of calendar "
+                "conditions the refit before them had never seen (a first closure or break, a "
+                "first holiday in one), which later models have learned"
+                if meter.first_encounter_days
+                else ""
+            )
             + (
                 f"; each drawn day's errors scaled by the ratio of the budget day's forecast to "
                 f"its own to the power {meter.error_growth:.2f}, as error size grew with the "

@@ -88,6 +88,8 @@ def test_a_budget_s_range_does_not_carry_the_first_closure_s_miss():
     forecast = 100.0 * 31
     assert abs(quantiles["50"] / forecast - 1) < 0.002
     assert quantiles["10"] / forecast > 0.99
+    # the assumptions say so: the eight closure days of 2022 lie in the 730-day error window
+    assert "less those of 8 days of calendar conditions" in run.assumptions["model_errors"]["Hall"]
 
 
 def test_a_short_history_keeps_its_first_encounters_rather_than_too_few_days():
