@@ -59,7 +59,7 @@ issued ranges of the last 24 past month-ahead budgets held 83 % overall and 75�
 four sets of its past budgets, a meter fell outside 65–95 % on 2 sites (12 pooled fully).
 These figures move with the past budgets, a month in 24 at a time per meter: once
 the budgets' error pools left out the days a refit met a calendar condition for the first
-time (:func:`engine.budget.residuals.first_encounters_left_out`), the same sample held 85 %
+time (:func:`engine.budget.residuals.first_encounters`), the same sample held 85 %
 overall and 75–96 % per meter (Science Labs 23 of 24: its narrower raw ranges gave it an
 own scale of 1.35 instead of 1.01 for September 2025, and the site 12 months instead of 4).
 

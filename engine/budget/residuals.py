@@ -207,20 +207,21 @@ def first_days(history: ModelInputs) -> tuple[np.ndarray, np.ndarray]:
     return days[starts], days[starts][first][inverse]
 
 
-def first_encounters_left_out(errors: pd.Series, history: ModelInputs) -> pd.Series:
-    """``errors`` without those of days whose calendar condition the model that made them had
-    never seen: no day of it in the history before the day's month.
+def first_encounters(errors: pd.Series, history: ModelInputs) -> np.ndarray:
+    """Per error, whether it fell on a day whose calendar condition the model that made it
+    had never seen (no day of it in the history before the day's month): such errors are left
+    out of a budget's error pool.
 
     A month-ahead refit meets its first closure or its first holiday in a break with nothing
     learned of it and misses those days by half or more. Every model budgeting later has
     learned them (they lie in its history), so those misses are not samples of its errors;
     drawn into its paths they skewed the month totals: on the sample campus a 15-month-old
     meter's P50 sat 0.8 % above the mean of its paths. Where leaving them out would leave
-    fewer than :data:`MIN_POOL_DAYS` days to draw from, they stay: a short history's misses
-    are the best evidence it has.
+    fewer than :data:`MIN_POOL_DAYS` days to draw from, none is marked: a short history's
+    misses are the best evidence it has.
     """
     if errors.empty:
-        return errors
+        return np.zeros(0, dtype=bool)
     days, first_of = first_days(history)
     local = errors.index.tz_convert(history.timezone).tz_localize(None).to_numpy()
     error_days = local.astype("datetime64[D]").astype(np.int64)
@@ -228,5 +229,5 @@ def first_encounters_left_out(errors: pd.Series, history: ModelInputs) -> pd.Ser
     at = np.clip(np.searchsorted(days, error_days), 0, len(days) - 1)
     first = (days[at] == error_days) & (first_of[at] >= month_starts)
     if len(np.unique(error_days[~first])) < MIN_POOL_DAYS:
-        return errors
-    return errors[~first]
+        return np.zeros(len(errors), dtype=bool)
+    return first

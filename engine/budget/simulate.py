@@ -6,7 +6,7 @@ Each path is a possible future of every meter at once:
              + model errors of the path's resampled past days (same days for every meter,
                less their mean share of the forecast: they give the spread, not the centre;
                without the days a refit met a calendar condition for the first time,
-               :func:`engine.budget.residuals.first_encounters_left_out`)
+               :func:`engine.budget.residuals.first_encounters`)
 
 times the meter's level correction (:mod:`engine.budget.level`, where its backtest supports
 one), floored at the lowest reading the meter ever had (zero for meters that never exported), with
@@ -48,7 +48,7 @@ from engine.budget.plan import MeterPlan
 from engine.budget.residuals import (
     error_block_days,
     error_table,
-    first_encounters_left_out,
+    first_encounters,
     level_elasticity,
     level_factors,
     model_errors,
@@ -87,7 +87,7 @@ class MeterPaths:
     error_growth: float = 0.0
     level: LevelCorrection | None = None
     #: Days of the error window whose errors were left out as a refit's first encounter with
-    #: a calendar condition (:func:`engine.budget.residuals.first_encounters_left_out`).
+    #: a calendar condition (:func:`engine.budget.residuals.first_encounters`).
     first_encounter_days: int = 0
 
 
@@ -192,10 +192,9 @@ def _forecasts(
     return np.vstack([first, predictions(plan, grid, window, rest)])
 
 
-def _days_left_out(plan: MeterPlan, kept: pd.Series, cut: pd.Timestamp, error_days: int) -> int:
-    """How many local days of the error window lost errors to
-    :func:`~engine.budget.residuals.first_encounters_left_out`."""
-    gone = plan.residuals.index.difference(kept.index)
+def _days_left_out(plan: MeterPlan, first: np.ndarray, cut: pd.Timestamp, error_days: int) -> int:
+    """How many local days of the error window lost errors as ``first`` encounters."""
+    gone = plan.residuals.index[first]
     gone = gone[gone >= cut - pd.Timedelta(days=error_days)]
     return len(gone.tz_convert(plan.timezone).normalize().unique())
 
@@ -341,9 +340,9 @@ def simulate_paths(
         step(progress, 0.2 * number / len(meters), f"Budget: forecasting {plan.name}")
         left_out = 0
         if plan.residuals is not None:
-            kept = first_encounters_left_out(plan.residuals, plan.history)
-            left_out = _days_left_out(plan, kept, cut, error_days)
-            plan = replace(plan, residuals=kept)
+            first = first_encounters(plan.residuals, plan.history)
+            left_out = _days_left_out(plan, first, cut, error_days)
+            plan = replace(plan, residuals=plan.residuals[~first])
         errors, forecasts, source = model_errors(plan, cut, error_days)
         errors = centred(errors, forecasts)  # the spread; the centre is the level's to set
         level = _level(plan, cut, error_days, correct_level)

@@ -14,7 +14,7 @@ import numpy as np
 import pandas as pd
 
 from engine.budget import MeterPlan, WeatherAssumption, simulate_budget
-from engine.budget.residuals import first_encounters_left_out
+from engine.budget.residuals import first_encounters
 from engine.calendar import CampusCalendar, CampusPeriod, label_intervals
 from engine.models.base import ModelInputs
 from tests.engine.known_load import KnownLoad
@@ -25,6 +25,11 @@ CLOSURES = [
     for year in (2022, 2023)
 ]
 CALENDAR = CampusCalendar(periods=tuple(CLOSURES))
+
+
+def kept_errors(errors: pd.Series, history: ModelInputs) -> pd.Series:
+    """The errors a budget keeps."""
+    return errors[~first_encounters(errors, history)]
 
 
 def _local_days(index: pd.DatetimeIndex) -> pd.DatetimeIndex:
@@ -50,7 +55,7 @@ def campus_history(seed: int = 1) -> tuple[ModelInputs, pd.Series]:
 
 def test_only_the_days_of_a_condition_never_seen_before_their_month_are_left_out():
     history, errors = campus_history()
-    kept = first_encounters_left_out(errors, history)
+    kept = kept_errors(errors, history)
     left_out = sorted(set(_local_days(errors.index)) - set(_local_days(kept.index)))
     # Dec 24–31 2022: no closure day before December; Jan 1 2023's refit had seen eight
     assert left_out == list(pd.date_range("2022-12-24", "2022-12-31"))
@@ -61,7 +66,7 @@ def test_only_the_days_of_a_condition_never_seen_before_their_month_are_left_out
 def test_without_calendar_labels_only_weekdays_and_weekends_are_conditions():
     history, errors = campus_history()
     unlabelled = ModelInputs(history.index, ZONE, history.energy)
-    assert first_encounters_left_out(errors, unlabelled).equals(errors)
+    assert kept_errors(errors, unlabelled).equals(errors)
 
 
 class CampusCurve(KnownLoad):
@@ -98,10 +103,10 @@ def test_a_short_history_keeps_its_first_encounters_rather_than_too_few_days():
     history, errors = campus_history()
     december = errors[_local_days(errors.index).month == 12]
     december = december[december.index < pd.Timestamp("2023-01-01", tz=ZONE)]
-    assert first_encounters_left_out(december, history).equals(december)
+    assert kept_errors(december, history).equals(december)
     november_and_december = errors[errors.index < pd.Timestamp("2023-01-01", tz=ZONE)]
     november_and_december = november_and_december[
         november_and_december.index >= pd.Timestamp("2022-11-01", tz=ZONE)
     ]
-    kept = first_encounters_left_out(november_and_december, history)
+    kept = kept_errors(november_and_december, history)
     assert len(set(_local_days(kept.index))) == 61 - 8
