@@ -178,7 +178,7 @@ def fill_hourly(
 
 def hourly_stations(stations: Mapping[str, pd.Series]) -> dict[str, pd.Series]:
     """Each station's readings averaged per UTC hour, the station with the most hours first:
-    the order in which :func:`combined_stations` takes them."""
+    the order in which :func:`combined_hours` takes them."""
     hourly = {
         name: reading.groupby(reading.index.floor("h")).mean()
         for name, reading in ((n, _utc_readings(s).dropna()) for n, s in stations.items())
@@ -186,21 +186,15 @@ def hourly_stations(stations: Mapping[str, pd.Series]) -> dict[str, pd.Series]:
     return dict(sorted(hourly.items(), key=lambda item: len(item[1]), reverse=True))
 
 
-def combined_stations(stations: Iterable[pd.Series]) -> pd.Series:
-    """One hourly series of the site's temperatures from several stations' readings.
-
-    Each station's readings are averaged per UTC hour; the station with the most hours is
-    taken as it is and every hour it lacks comes from the next station that has it (most
-    hours first). The usual way to keep a site's record whole with a backup or a second file
-    of the same station; two stations are never averaged, so a warmer rooftop sensor does not
-    shift the main station's readings.
-    """
-    return combined_hours(hourly_stations(dict(enumerate(stations))).values())
-
-
 def combined_hours(hourly: Iterable[pd.Series]) -> pd.Series:
-    """:func:`combined_stations` of stations already made hourly and ordered by
-    :func:`hourly_stations`: the first as it is, each hour it lacks from the next that has it."""
+    """One hourly series of the site's temperatures from several stations made hourly and
+    ordered by :func:`hourly_stations`.
+
+    The station with the most hours is taken as it is and every hour it lacks comes from the
+    next station that has it. The usual way to keep a site's record whole with a backup or a
+    second file of the same station; two stations are never averaged, so a warmer rooftop
+    sensor does not shift the main station's readings.
+    """
     stations = list(hourly)
     if not stations:
         raise ValueError("no weather stations to combine")

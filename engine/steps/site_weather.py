@@ -11,7 +11,7 @@ from engine.weather import combined_hours, hourly_stations
 def site_temperatures(project: Project) -> pd.Series | None:
     """The project's temperatures in °C on a UTC index: its station's readings, or with several
     stations (a backup station, or one station's years in separate files) their hours combined
-    (:func:`engine.weather.combined_stations`); None when the project has no weather."""
+    (:func:`engine.weather.combined_hours`); None when the project has no weather."""
     return site_weather(project)[0]
 
 

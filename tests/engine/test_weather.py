@@ -15,10 +15,11 @@ from engine.errors import InputError
 from engine.weather import (
     TypicalWeather,
     celsius_to_fahrenheit,
-    combined_stations,
+    combined_hours,
     daily_stats,
     fahrenheit_to_celsius,
     fill_hourly,
+    hourly_stations,
     local_hours,
     past_year_samples,
     typical_year,
@@ -288,6 +289,11 @@ def test_typical_years_are_learned_once_and_equal_typical_year() -> None:
     for _ in range(2):
         with pytest.raises(InputError, match="typical"):
             shared.before(too_early)
+
+
+def combined_stations(stations: list[pd.Series]) -> pd.Series:
+    """The site series from raw station readings, as the site's weather step makes it."""
+    return combined_hours(hourly_stations(dict(enumerate(stations))).values())
 
 
 def test_combined_stations_keep_the_main_station_and_fill_only_its_missing_hours() -> None:
