@@ -14,6 +14,7 @@ import pandas as pd
 
 from engine.calendar import CampusCalendar
 from engine.cleaning.cleaned import CleanedSeries
+from engine.cleaning.holiday_fill import holiday_typical
 from engine.cleaning.like_days import CalendarDays, LikeDays
 from engine.cleaning.pattern import week_places, weekly_pattern
 from engine.cleaning.steps import step_range
@@ -201,7 +202,8 @@ def typical_near(
     whose hour of the week has no such reading is NaN. With the campus ``calendar`` a
     position's typical value comes from nearby days of its own kind where they have readings
     (:class:`engine.cleaning.like_days.LikeDays`): the first days of a term are filled like
-    term days, not like the break before them.
+    term days, not like the break before them; and public holidays in the range as the meter's
+    own holidays ran (:func:`engine.cleaning.holiday_fill.holiday_typical`).
     """
     reach = pd.Timedelta(weeks=weeks)
     low = int(index.searchsorted(index[first] - reach, side="left"))
@@ -214,7 +216,12 @@ def typical_near(
         return low, weekly_pattern(sample, places, weeks=places.n_weeks, min_samples=1).typical
     days = CalendarDays.label(nearby, timezone, calendar)
     like = LikeDays(nearby, timezone, interval, places.n_weeks, days)
-    return low, like.pattern(sample, min_samples=1).typical
+    typical = like.pattern(sample, min_samples=1).typical
+    if days.holiday[first - low : stop - low].any():
+        own = holiday_typical(index, interval, values, usable, first, stop, timezone, calendar)
+        inside = typical[first - low : stop - low]
+        inside[np.isfinite(own)] = own[np.isfinite(own)]
+    return low, typical
 
 
 def _typical_for_step(
