@@ -59,6 +59,7 @@ def profile_fill(state: CleanedSeries, params: Mapping[str, Any]) -> CleanedSeri
     of the same kind (:func:`typical_near`). It is then scaled by the ratio of
     actual to typical energy over :data:`LEVEL_CONTEXT` either side, limited to
     :data:`LEVEL_LIMITS`, so a fill in a cold snap or a quiet week follows its surroundings.
+    Public holidays there are left out: their quiet readings are not a quiet week.
     """
     values, estimated, excluded = state.arrays()
     index = state.values.index
@@ -75,6 +76,7 @@ def profile_fill(state: CleanedSeries, params: Mapping[str, Any]) -> CleanedSeri
     context = max(1, int(LEVEL_CONTEXT / state.interval))
     around = np.r_[max(low, first - context) : first, stop : min(len(values), stop + context)]
     around = around[usable[around] & np.isfinite(typical[around - low])]
+    around = around[~_on_holidays(state, index[around], params)]
     factor = 1.0
     expected = typical[around - low].sum()
     if around.size >= context // 2 and expected > 0:
@@ -244,6 +246,15 @@ def _typical_for_step(
         _weeks(params),
         state.calendar,
     )
+
+
+def _on_holidays(
+    state: CleanedSeries, starts: pd.DatetimeIndex, params: Mapping[str, Any]
+) -> np.ndarray:
+    """Which interval ``starts`` fall on a public holiday of the state's calendar."""
+    if state.calendar is None:
+        return np.zeros(len(starts), dtype=bool)
+    return CalendarDays.label(starts, _timezone(params), state.calendar).holiday
 
 
 def _limit(params: Mapping[str, Any], name: str, absent: float) -> float:

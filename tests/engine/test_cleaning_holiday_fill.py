@@ -89,3 +89,12 @@ def test_a_lone_holiday_keeps_the_typical_value_of_its_class():
     truth = office("2023-04-17", "2023-05-26", calendar)
     fill, expected = filled_day(truth, "2023-05-18", calendar)
     assert fill == pytest.approx(expected / HOLIDAY_SHARE, rel=0.01)
+
+
+def test_a_holiday_beside_the_range_does_not_scale_the_fill():
+    """The Tuesday after Easter Monday: the holiday's quarter load, compared with a Monday's
+    typical value, would scale the fill down; it is left out of the level around the range."""
+    calendar = CampusCalendar(country="DE")
+    truth = office("2023-03-06", "2023-04-30", calendar)
+    fill, expected = filled_day(truth, "2023-04-11", calendar)
+    assert fill == pytest.approx(expected, rel=1e-9)
