@@ -23,8 +23,9 @@ from engine.calendar import CampusCalendar
 from engine.cleaning.like_days import ORDINARY, CalendarDays
 from engine.cleaning.pattern import day_places, week_places, weekly_pattern
 
-#: How far either side of a range the meter's own holidays are looked for.
-HOLIDAY_REACH = pd.Timedelta(days=366)
+#: How far either side of a range the meter's own holidays are looked for: half a year, so a
+#: year of holidays, each of the calendar's once, around the range (and half the work of more).
+HOLIDAY_REACH = pd.Timedelta(days=183)
 #: Weeks either side of a day whose term weekdays are its yardstick (as for the typical week).
 NEARBY_WEEKS = 4
 #: Fewest holidays with readings behind the ratios.

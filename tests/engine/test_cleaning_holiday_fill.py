@@ -74,8 +74,8 @@ def test_a_holiday_in_a_break_is_filled_as_the_meters_holidays_ran():
 
 
 def test_a_holiday_in_term_is_filled_from_the_term_weekdays_around_it():
-    """German Unity Day (a Tuesday in 2023) in ordinary weeks, with the holidays a year either
-    side as the yardstick: a quarter of the term weekdays around it."""
+    """German Unity Day (a Tuesday in 2023) in ordinary weeks, with the holidays of the year
+    around it as the yardstick: a quarter of the term weekdays around it."""
     calendar = CampusCalendar(country="DE", periods=(WHITSUN_BREAK,))
     truth = office("2023-01-02", "2024-06-30", calendar)
     fill, expected = filled_day(truth, "2023-10-03", calendar)
