@@ -40,6 +40,8 @@ def _gap(meter: PreparedMeter, first: int, stop: int) -> Finding:
         if fix.kind == "interpolate"
         else "the meter's typical week from nearby weeks, scaled to the level around the gap"
     )
+    if fix.kind == "profile_fill" and meter.holds_holiday(first, stop):
+        how += "; its public holidays as the meter's own holidays ran against term weekdays"
     expected = meter.expected_energy(first, stop)
     typical = f"; about {energy_text(expected)} would be typical" if np.isfinite(expected) else ""
     explanation = (

@@ -14,6 +14,7 @@ from engine.cleaning.days import WholeDays
 from engine.cleaning.findings import Finding
 from engine.cleaning.fixes import typical_near
 from engine.cleaning.grid import to_grid
+from engine.cleaning.holiday_fill import holiday_typical
 from engine.cleaning.like_days import CalendarDays, LikeDays
 from engine.cleaning.pattern import Pattern
 from engine.cleaning.settings import CleaningSettings
@@ -46,7 +47,7 @@ class PreparedMeter:
     since 1970-01-01 on the site's clock) and ``days`` the whole local days that count for
     daily comparisons (:mod:`engine.cleaning.days`); ``day_lines`` fits each local day as a
     whole to its typical values (:mod:`engine.cleaning.day_lines`); ``calendar_days`` holds the
-    campus calendar's labels of the grid, or ``None`` without a calendar.
+    campus calendar's labels of the grid, or ``None`` without a calendar (``calendar``).
     """
 
     name: str
@@ -64,6 +65,7 @@ class PreparedMeter:
     day_lines: DayLines
     calendar_days: CalendarDays | None = None
     weather: WeatherResponse | None = None
+    calendar: CampusCalendar | None = None
 
     @classmethod
     def build(
@@ -121,6 +123,7 @@ class PreparedMeter:
             day_lines=fit_day_lines(local_day, values, typical, spread),
             calendar_days=labels,
             weather=weather,
+            calendar=calendar,
         )
 
     def __len__(self) -> int:
@@ -170,11 +173,27 @@ class PreparedMeter:
         )
 
     def expected_energy(self, first: int, stop: int) -> float:
-        """What the typical week expects over ``[first, stop)``; NaN when it is unknown there."""
+        """What the typical week expects over ``[first, stop)``; NaN when it is unknown there.
+
+        Public holidays in the range expect what a fill gives them: the meter's own holiday
+        habit (:func:`engine.cleaning.holiday_fill.holiday_typical`) where it has one.
+        """
         typical = self.typical[first:stop]
+        if self.holds_holiday(first, stop):
+            usable = np.isfinite(self.values)
+            own = holiday_typical(
+                self.index, self.interval, self.values, usable, first, stop, self.timezone,
+                self.calendar,
+            )  # fmt: skip
+            typical = np.where(np.isfinite(own), own, typical)
         if not np.isfinite(typical).any():
             return float("nan")
         return float(np.nanmean(typical) * (stop - first))
+
+    def holds_holiday(self, first: int, stop: int) -> bool:
+        """Whether grid positions ``[first, stop)`` include a public holiday of the calendar."""
+        days = self.calendar_days
+        return days is not None and bool(days.holiday[first:stop].any())
 
     def step(self, kind: str, first: int, stop: int, note: str, **extra: Any) -> CleaningStep:
         """A step of ``kind`` over grid positions ``[first, stop)``."""

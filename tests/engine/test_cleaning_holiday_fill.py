@@ -15,13 +15,16 @@ import pytest
 
 from engine.calendar import CampusCalendar, CampusPeriod
 from engine.cleaning.cleaned import CleanedSeries
+from engine.cleaning.find import find_all
 from engine.cleaning.fixes import profile_fill
+from engine.meters import MeterSeries
 
 HOUR = pd.Timedelta(hours=1)
 ZONE = "Europe/Berlin"
 HOLIDAY_SHARE = 0.25
 BREAK_SHARE = 0.6
 WHITSUN_BREAK = CampusPeriod("Whitsun break", date(2023, 5, 22), date(2023, 6, 4), "break")
+WHITSUN_CALENDAR = CampusCalendar(periods=(WHITSUN_BREAK,))
 
 
 def office(first: str, last: str, calendar: CampusCalendar) -> pd.Series:
@@ -68,8 +71,7 @@ def test_a_holiday_in_a_break_is_filled_as_the_meters_holidays_ran():
     truth = office("2023-01-02", "2023-12-31", calendar)
     fill, expected = filled_day(truth, "2023-05-29", calendar)
     assert fill == pytest.approx(expected, rel=0.01)
-    without_holidays = CampusCalendar(periods=(WHITSUN_BREAK,))
-    like_its_class, _ = filled_day(truth, "2023-05-29", without_holidays)
+    like_its_class, _ = filled_day(truth, "2023-05-29", WHITSUN_CALENDAR)
     assert like_its_class == pytest.approx(expected * BREAK_SHARE / HOLIDAY_SHARE, rel=0.01)
 
 
@@ -98,3 +100,17 @@ def test_a_holiday_beside_the_range_does_not_scale_the_fill():
     truth = office("2023-03-06", "2023-04-30", calendar)
     fill, expected = filled_day(truth, "2023-04-11", calendar)
     assert fill == pytest.approx(expected, rel=1e-9)
+
+
+def test_the_gap_finding_says_how_its_holiday_is_filled_and_expects_what_it_gives():
+    calendar = CampusCalendar(country="DE", periods=(WHITSUN_BREAK,))
+    truth = office("2023-01-02", "2023-12-31", calendar)
+    readings, _ = gap_on(truth, "2023-05-29")
+    meter = MeterSeries("Hall", "electricity", readings.dropna(), HOUR, ZONE)
+    (gap,) = [f for f in find_all(meter, calendar=calendar) if f.kind == "gap"]
+    assert gap.fix.kind == "profile_fill"
+    assert "public holidays as the meter's own holidays ran" in gap.explanation
+    # What it calls typical is what the fill gives, not a break day's 60 %.
+    assert gap.expected_kwh == pytest.approx(truth[readings.isna()].sum(), rel=0.01)
+    (blind,) = [f for f in find_all(meter, calendar=WHITSUN_CALENDAR) if f.kind == "gap"]
+    assert "holiday" not in blind.explanation
