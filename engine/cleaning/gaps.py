@@ -41,7 +41,10 @@ def _gap(meter: PreparedMeter, first: int, stop: int) -> Finding:
         else "the meter's typical week from nearby weeks, scaled to the level around the gap"
     )
     if fix.kind == "profile_fill" and meter.holds_holiday(first, stop):
-        how += "; its public holidays as the meter's own holidays ran against term weekdays"
+        how += (
+            "; its public holiday hours at the share of a term weekday the meter's own "
+            "holidays ran at"
+        )
     expected = meter.expected_energy(first, stop)
     typical = f"; about {energy_text(expected)} would be typical" if np.isfinite(expected) else ""
     explanation = (

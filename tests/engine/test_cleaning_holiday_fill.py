@@ -109,7 +109,7 @@ def test_the_gap_finding_says_how_its_holiday_is_filled_and_expects_what_it_give
     meter = MeterSeries("Hall", "electricity", readings.dropna(), HOUR, ZONE)
     (gap,) = [f for f in find_all(meter, calendar=calendar) if f.kind == "gap"]
     assert gap.fix.kind == "profile_fill"
-    assert "public holidays as the meter's own holidays ran" in gap.explanation
+    assert "holiday hours at the share of a term weekday the meter's own" in gap.explanation
     # What it calls typical is what the fill gives, not a break day's 60 %.
     assert gap.expected_kwh == pytest.approx(truth[readings.isna()].sum(), rel=0.01)
     (blind,) = [f for f in find_all(meter, calendar=WHITSUN_CALENDAR) if f.kind == "gap"]
