@@ -220,7 +220,8 @@ def typical_near(
     like = LikeDays(nearby, timezone, interval, places.n_weeks, days)
     typical = like.pattern(sample, min_samples=1).typical
     if days.holiday[first - low : stop - low].any():
-        own = holiday_typical(index, interval, values, usable, first, stop, timezone, calendar)
+        readings = pd.Series(np.where(usable, values, np.nan), index=index)
+        own = holiday_typical(readings, interval, first, stop, timezone, calendar, weeks)
         inside = typical[first - low : stop - low]
         inside[np.isfinite(own)] = own[np.isfinite(own)]
     return low, typical

@@ -4,11 +4,11 @@ A holiday is too rare for nearby weeks to hold another, so the typical week fill
 days of its class around it: a holiday at the end of a break like a break day, one in term like
 a term weekday. How a building runs on a holiday is its own habit (an office closes, a residence
 hall carries on), and the readings show it. Each past or later holiday within
-:data:`HOLIDAY_REACH` of the range with readings is set against the term weekdays within
-:data:`NEARBY_WEEKS` of it, hour by hour of the local day; the median ratio at each hour, times
-the term weekdays around the range, is the holiday's typical value. Ratios, not the readings
-themselves, are pooled, so a holiday in July does not lend its cooling to one in January and a
-meter whose level changed between holidays is not misled.
+:data:`HOLIDAY_REACH` of the range with readings is set against the term weekdays of the weeks
+around it (as many as the typical week takes), hour by hour of the local day; the median ratio
+at each hour, times the term weekdays around the range, is the holiday's typical value. Ratios,
+not the readings themselves, are pooled, so a holiday in July does not lend its cooling to one
+in January and a meter whose level changed between holidays is not misled.
 
 Where the meter has fewer than :data:`MIN_HOLIDAYS` holidays with readings, or no term weekdays
 near the range, the holiday keeps the typical value of its class.
@@ -26,38 +26,39 @@ from engine.cleaning.pattern import day_places, week_places, weekly_pattern
 #: How far either side of a range the meter's own holidays are looked for: half a year, so a
 #: year of holidays, each of the calendar's once, around the range (and half the work of more).
 HOLIDAY_REACH = pd.Timedelta(days=183)
-#: Weeks either side of a day whose term weekdays are its yardstick (as for the typical week).
-NEARBY_WEEKS = 4
 #: Fewest holidays with readings behind the ratios.
 MIN_HOLIDAYS = 2
 
 
 def holiday_typical(
-    index: pd.DatetimeIndex,
+    grid: pd.Series,
     interval: pd.Timedelta,
-    values: np.ndarray,
-    usable: np.ndarray,
     first: int,
     stop: int,
     timezone: str,
     calendar: CampusCalendar,
+    weeks: int,
 ) -> np.ndarray:
-    """Typical values for grid positions ``[first, stop)``: NaN except at holidays it can fill.
+    """Typical values for positions ``[first, stop)`` of ``grid``: NaN except at holidays it
+    can fill.
 
-    Only ``usable`` readings outside the range count, as for the typical week.
+    ``grid`` holds the meter's usable readings on its UTC interval starts (NaN elsewhere);
+    those outside the range count, and term weekdays within ``weeks`` weeks either side of a
+    day are its yardstick, as for the typical week.
     """
     filled = np.full(stop - first, np.nan)
+    index = grid.index
     low = int(index.searchsorted(index[first] - HOLIDAY_REACH, side="left"))
     high = int(index.searchsorted(index[stop - 1] + HOLIDAY_REACH, side="right"))
     nearby = index[low:high]
     days = CalendarDays.label(nearby, timezone, calendar)
-    readings = np.where(usable[low:high], values[low:high], np.nan)
+    readings = grid.to_numpy(dtype=np.float64)[low:high].copy()
     readings[first - low : stop - low] = np.nan
     weekday = week_places(nearby, timezone, interval).slot < 5 * 24
     term_weekday = weekday & ~days.holiday & (days.day_class == ORDINARY)
     hours = day_places(nearby, timezone, interval)
     yardstick = weekly_pattern(
-        np.where(term_weekday, readings, np.nan), hours, 2 * NEARBY_WEEKS + 1, min_samples=1
+        np.where(term_weekday, readings, np.nan), hours, 2 * weeks + 1, min_samples=1
     ).typical
     seen = days.holiday & np.isfinite(readings) & (yardstick > 0)
     if _days_among(nearby[seen], timezone) < MIN_HOLIDAYS:

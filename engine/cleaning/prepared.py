@@ -180,10 +180,9 @@ class PreparedMeter:
         """
         typical = self.typical[first:stop]
         if self.holds_holiday(first, stop):
-            usable = np.isfinite(self.values)
             own = holiday_typical(
-                self.index, self.interval, self.values, usable, first, stop, self.timezone,
-                self.calendar,
+                pd.Series(self.values, index=self.index), self.interval, first, stop,
+                self.timezone, self.calendar, self.settings.pattern_weeks // 2,
             )  # fmt: skip
             typical = np.where(np.isfinite(own), own, typical)
         if not np.isfinite(typical).any():
