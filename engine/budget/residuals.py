@@ -185,28 +185,6 @@ def level_factors(
     return np.where(usable, np.clip(ratio, 1 / 3, 3.0) ** elasticity, 1.0)
 
 
-def first_days(history: ModelInputs) -> tuple[np.ndarray, np.ndarray]:
-    """Per local day of ``history`` that it holds: its day number and the day number of the
-    first day with its calendar condition (campus period kind and kind of day: weekday,
-    weekend or holiday; from the weekday alone without calendar labels)."""
-    labels = history.labels
-    if labels is None:
-        local = history.index.tz_convert(history.timezone).tz_localize(None).to_numpy()
-    else:  # the labels hold the local clock already
-        local = labels["local"].to_numpy()
-    days = local.astype("datetime64[D]").astype(np.int64)
-    starts = np.flatnonzero(np.diff(days, prepend=days[0] - 1) != 0)
-    weekend = (days[starts] + 3) % 7 >= 5  # day 0, 1970-01-01, was a Thursday
-    if labels is None:
-        condition = weekend.astype(np.int64)
-    else:
-        holiday = labels["day_type"].iloc[starts].to_numpy() == "holiday"
-        period = pd.factorize(labels["period_kind"].iloc[starts].to_numpy())[0]
-        condition = 3 * period + np.where(holiday, 2, weekend)
-    _, first, inverse = np.unique(condition, return_index=True, return_inverse=True)
-    return days[starts], days[starts][first][inverse]
-
-
 def first_encounters(errors: pd.Series, history: ModelInputs) -> np.ndarray:
     """Per error, whether it fell on a day whose calendar condition the model that made it
     had never seen (no day of it in the history before the day's month): such errors are left
@@ -222,7 +200,7 @@ def first_encounters(errors: pd.Series, history: ModelInputs) -> np.ndarray:
     """
     if errors.empty:
         return np.zeros(0, dtype=bool)
-    days, first_of = first_days(history)
+    days, first_of = history.condition_days
     local = errors.index.tz_convert(history.timezone).tz_localize(None).to_numpy()
     error_days = local.astype("datetime64[D]").astype(np.int64)
     month_starts = local.astype("datetime64[M]").astype("datetime64[D]").astype(np.int64)

@@ -18,6 +18,7 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass, replace
+from functools import cached_property
 from typing import Any, ClassVar, Protocol, Self, runtime_checkable
 
 import numpy as np
@@ -51,6 +52,31 @@ class ModelInputs:
     energy: pd.Series | None = None
     temperature: pd.Series | None = None
     labels: pd.DataFrame | None = None
+
+    @cached_property
+    def condition_days(self) -> tuple[np.ndarray, np.ndarray]:
+        """Per local day the inputs hold: its day number (days since 1970-01-01 on the site's
+        clock) and that of the first day with its calendar condition (campus period kind and
+        kind of day: weekday, weekend or holiday; the weekday alone without labels).
+
+        Kept once worked out: a budget asks it of a meter's history for each past budget.
+        """
+        labels = self.labels
+        if labels is None:
+            local = self.index.tz_convert(self.timezone).tz_localize(None).to_numpy()
+        else:  # the labels hold the local clock already
+            local = labels["local"].to_numpy()
+        days = local.astype("datetime64[D]").astype(np.int64)
+        starts = np.flatnonzero(np.diff(days, prepend=days[0] - 1) != 0)
+        weekend = (days[starts] + 3) % 7 >= 5  # day 0, 1970-01-01, was a Thursday
+        if labels is None:
+            condition = weekend.astype(np.int64)
+        else:
+            holiday = labels["day_type"].iloc[starts].to_numpy() == "holiday"
+            period = pd.factorize(labels["period_kind"].iloc[starts].to_numpy())[0]
+            condition = 3 * period + np.where(holiday, 2, weekend)
+        _, first, inverse = np.unique(condition, return_index=True, return_inverse=True)
+        return days[starts], days[starts][first][inverse]
 
     @property
     def interval(self) -> pd.Timedelta:
