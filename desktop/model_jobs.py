@@ -104,11 +104,11 @@ class MeterView:
     report: ModelReport | None
 
 
-def ticked_families(interval_minutes: float | None) -> tuple[str, ...]:
+def ticked_families(interval: pd.Timedelta | None) -> tuple[str, ...]:
     """The families ticked by default: the wizard's own choice for the meter's resolution."""
-    if interval_minutes is None:
+    if interval is None:
         return DEFAULT_FAMILIES
-    return default_families(pd.Timedelta(minutes=interval_minutes))
+    return default_families(interval)
 
 
 def family_choices() -> list[tuple[str, str, bool]]:

@@ -169,8 +169,7 @@ class ModelsScreen(MeterScreen):
         if project is None or not name:
             self._show_empty("This project has no meters yet: add files on the Files step.")
             return
-        meters = {m["name"]: m for m in project.summary()["meters"]}
-        self.families.tick(ticked_families(meters.get(name, {}).get("interval_minutes")))
+        self.families.tick(ticked_families(project.meter_interval(name)))
         work = partial(meter_view, project, name)
         shown = self.meter.shown_as(name)
         self.runner.request(self._job(work, f"reading '{shown}'", self._show_view))

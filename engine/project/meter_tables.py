@@ -123,6 +123,21 @@ def meter_descriptions(conn: sqlite3.Connection) -> list[tuple[str, str, str]]:
     return conn.execute("SELECT name, utility, unit_found FROM meters ORDER BY id").fetchall()
 
 
+def last_reading_starts(conn: sqlite3.Connection) -> list[int]:
+    """The last interval start (UTC seconds) of every meter with readings, in the order added:
+    one index seek a meter, where the project's summary counts and sums them all."""
+    rows = conn.execute(
+        "SELECT (SELECT max(t) FROM readings WHERE meter_id = m.id) FROM meters AS m ORDER BY m.id"
+    ).fetchall()
+    return [last for (last,) in rows if last is not None]
+
+
+def meter_interval(conn: sqlite3.Connection, name: str) -> pd.Timedelta | None:
+    """The meter's interval, None when the project has no such meter; no readings read."""
+    row = conn.execute("SELECT interval_s FROM meters WHERE name = ?", (name,)).fetchone()
+    return None if row is None else pd.Timedelta(seconds=row[0])
+
+
 def set_utility(conn: sqlite3.Connection, name: str, utility: str) -> None:
     """File the meter under ``utility`` (roll-ups and prices follow); readings stay as stored."""
     if utility not in UTILITIES:

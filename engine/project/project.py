@@ -286,6 +286,18 @@ class Project:
         with self._reading() as conn:
             return meter_tables.meter_descriptions(conn)
 
+    def meter_interval(self, name: str) -> pd.Timedelta | None:
+        """Meter ``name``'s interval (None without such a meter); no readings read."""
+        with self._reading() as conn:
+            return meter_tables.meter_interval(conn, name)
+
+    def last_reading_starts(self) -> list[pd.Timestamp]:
+        """The last interval start (UTC) of every meter with readings, in the order added; no
+        readings read."""
+        with self._reading() as conn:
+            starts = meter_tables.last_reading_starts(conn)
+        return [pd.Timestamp(start, unit="s", tz="UTC") for start in starts]
+
     def set_meter_utility(self, name: str, utility: str) -> None:
         """File meter ``name`` under ``utility`` (one of ``engine.meters.UTILITIES``)."""
         with self._writing() as conn:

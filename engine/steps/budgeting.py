@@ -233,7 +233,7 @@ def _daily_frame(table: dict) -> pd.DataFrame:
 def last_reading_day(project: Project) -> date:
     """The latest local day holding a reading of any meter: the default as-of date (for a
     project of bill accounts only, the last day of the newest bill)."""
-    lasts = [pd.Timestamp(meter["last"]) for meter in project.summary()["meters"]]
+    lasts = project.last_reading_starts()
     if lasts:
         return max(lasts).tz_convert(project.timezone).date()
     bills = project.load_bills()

@@ -24,7 +24,7 @@ def prepare_site(project: Project, names: Sequence[str] | None = None) -> Prepar
     calendar = stored_calendar(project) or CampusCalendar()
     temperatures, station_hours = site_weather(project)
     hourly = None if temperatures is None else fill_hourly(temperatures).hourly
-    utilities = {m["name"]: m["utility"] for m in project.summary()["meters"]}
+    utilities = {name: utility for name, utility, _ in project.meter_descriptions()}
     chosen = list(names) if names is not None else project.meter_names()
     unknown = [name for name in chosen if name not in utilities]
     if unknown:

@@ -781,6 +781,22 @@ def test_summary_is_json_ready(project: Project, source_file: Path) -> None:
     assert os.path.basename(overview["path"]) == "campus.loadledger"
 
 
+def test_last_readings_and_intervals_agree_with_the_summary(
+    project: Project, source_file: Path
+) -> None:
+    source = new_source(project, source_file)
+    for name, hours in (("Quarry Lab chiller", 8), ("Fenwick Hall", 30)):
+        index = pd.date_range("2031-01-01", periods=hours, freq="h", tz="UTC")
+        meter = meter_of(name, np.arange(hours, dtype=float), index)
+        project.add_meter(meter, raw_of(meter), source_id=source, settings={})
+    lasts = [pd.Timestamp(meter["last"]) for meter in project.summary()["meters"]]
+    assert project.last_reading_starts() == lasts
+    assert lasts[1] == pd.Timestamp("2031-01-02 05:00", tz="UTC")
+    minutes = {meter["name"]: meter["interval_minutes"] for meter in project.summary()["meters"]}
+    assert project.meter_interval("Fenwick Hall") == pd.Timedelta(minutes=minutes["Fenwick Hall"])
+    assert project.meter_interval("Nowhere") is None
+
+
 def test_results_are_kept_as_json_documents(project: Project) -> None:
     first = project.add_result("model", "Hall", "calendar regression", {"family": "x", "p": 1})
     project.add_result("budget", None, "FY2032", {"months": ["2031-07"]})
