@@ -10,6 +10,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
+#: The name of the one scenario of typical weather.
+TYPICAL = "typical"
+
 
 @dataclass(frozen=True, eq=False)
 class WeatherScenarios:
@@ -29,3 +32,8 @@ class WeatherScenarios:
     @property
     def count(self) -> int:
         return len(self.names)
+
+    @property
+    def is_typical_year(self) -> bool:
+        """Whether every path has the typical year's weather (no weather spread)."""
+        return self.names == (TYPICAL,)

@@ -274,13 +274,33 @@ def _cautions(totals: PathTotals, calibration: Mapping[str, Calibration]) -> lis
         if plan.name in calibration and calibration[plan.name].scale >= MAX_SCALE
     ]
     if unfit:
-        cautions.append(
-            f"The ranges of {', '.join(unfit)} missed past months so far that widening them "
-            f"was stopped at {MAX_SCALE:g} times: the model is not fit for budgeting "
-            f"{'this meter' if len(unfit) == 1 else 'these meters'}. Review its data and "
-            "model before relying on these figures."
-        )
+        cautions.append(_unfit_caution(unfit, totals.weather.is_typical_year))
     return cautions
+
+
+def _unfit_caution(names: list[str], typical_year: bool) -> str:
+    """Why the ranges of ``names`` were widened no further, and what to do about it.
+
+    Under typical weather every path has the same weather, so a range holds the model's error
+    alone and a meter whose months follow the weather misses them by their weather; that is
+    the assumption's doing before it is the model's.
+    """
+    meters = "this meter" if len(names) == 1 else "these meters"
+    stopped = (
+        f"The ranges of {', '.join(names)} missed past months so far that widening them was "
+        f"stopped at {MAX_SCALE:g} times"
+    )
+    if typical_year:
+        return (
+            f"{stopped}. Under typical weather a range holds the model's error alone, and the "
+            "weather moves these months more: budget with past years' weather (the default) "
+            "for ranges that include its variation; if those miss as far, the model is not "
+            f"fit for budgeting {meters}."
+        )
+    return (
+        f"{stopped}: the model is not fit for budgeting {meters}. Review its data and model "
+        "before relying on these figures."
+    )
 
 
 def summarise(

@@ -64,7 +64,7 @@ from engine.bootstrap import stationary_block_length
 from engine.budget.meter_grid import HOUR, MeterGrid
 from engine.budget.periods import BudgetWindow
 from engine.budget.residuals import error_table
-from engine.budget.scenarios import WeatherScenarios
+from engine.budget.scenarios import TYPICAL, WeatherScenarios
 from engine.budget.weather_memory import AnomalyMemory, anomaly_memory
 from engine.errors import InputError
 from engine.weather import fill_hourly, typical_year
@@ -368,7 +368,7 @@ def weather_scenarios(
         hourly = typical.hourly(window.first_day, window.last_day).to_numpy()
         years = f"{typical.years[0]}–{typical.years[-1]}"
         return WeatherScenarios(
-            ("typical",), hourly[np.newaxis, :], f"typical weather learned from {years}"
+            (TYPICAL,), hourly[np.newaxis, :], f"typical weather learned from {years}"
         )
     if assumption.kind == "past_years":
         generator = rng if isinstance(rng, np.random.Generator) else np.random.default_rng(rng)

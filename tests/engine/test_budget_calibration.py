@@ -425,8 +425,24 @@ def test_a_scale_beyond_five_is_capped_and_cautioned(campus: Campus) -> None:
         rng=2,
         calibration={"Boiler House": capped, "Quarry Library": replace(capped, scale=4.9)},
     )
-    unfit = [caution for caution in run.cautions if "not fit for budgeting" in caution]
+    unfit = [caution for caution in run.cautions if "stopped at 5 times" in caution]
     assert len(unfit) == 1 and "Boiler House" in unfit[0] and "Quarry" not in unfit[0]
+    # Under typical weather the range holds the model's error alone: the weather is named
+    # first, and past years' weather offered, before the model is judged unfit.
+    assert "Under typical weather a range holds the model's error alone" in unfit[0]
+    assert "budget with past years' weather" in unfit[0]
+    drawn = simulate_budget(
+        plans,
+        ["2024-07"],
+        "2024-06-30",
+        WeatherAssumption.past_years(campus.weather, years=3, draws=5),
+        paths=50,
+        rng=2,
+        calibration={"Boiler House": capped},
+    )
+    (verdict,) = [caution for caution in drawn.cautions if "stopped at 5 times" in caution]
+    assert "the model is not fit for budgeting this meter" in verdict
+    assert "typical weather" not in verdict
     # Summer gas days widened five times would go below zero, which a meter that never
     # read below zero cannot (the floor every simulated interval respects): they stop there.
     boiler = run.meters[2]
