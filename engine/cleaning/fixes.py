@@ -14,7 +14,7 @@ import pandas as pd
 
 from engine.calendar import CampusCalendar
 from engine.cleaning.cleaned import CleanedSeries
-from engine.cleaning.holiday_fill import holiday_typical
+from engine.cleaning.holiday_fill import holiday_reach, holiday_typical
 from engine.cleaning.like_days import CalendarDays, LikeDays
 from engine.cleaning.pattern import week_places, weekly_pattern
 from engine.cleaning.steps import step_range
@@ -220,8 +220,12 @@ def typical_near(
     like = LikeDays(nearby, timezone, interval, places.n_weeks, days)
     typical = like.pattern(sample, min_samples=1).typical
     if days.holiday[first - low : stop - low].any():
-        readings = pd.Series(np.where(usable, values, np.nan), index=index)
-        own = holiday_typical(readings, interval, first, stop, timezone, calendar, weeks)
+        reach = holiday_reach(index, first, stop)
+        readings = pd.Series(np.where(usable, values, np.nan)[reach], index=index[reach])
+        labels = CalendarDays.label(index[reach], timezone, calendar)
+        own = holiday_typical(
+            readings, labels, interval, first - reach.start, stop - reach.start, timezone, weeks
+        )
         inside = typical[first - low : stop - low]
         inside[np.isfinite(own)] = own[np.isfinite(own)]
     return low, typical

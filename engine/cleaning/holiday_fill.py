@@ -19,7 +19,6 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from engine.calendar import CampusCalendar
 from engine.cleaning.like_days import ORDINARY, CalendarDays
 from engine.cleaning.pattern import day_places, week_places, weekly_pattern
 
@@ -30,30 +29,34 @@ HOLIDAY_REACH = pd.Timedelta(days=183)
 MIN_HOLIDAYS = 2
 
 
+def holiday_reach(index: pd.DatetimeIndex, first: int, stop: int) -> slice:
+    """The grid positions within :data:`HOLIDAY_REACH` of positions ``[first, stop)``."""
+    low = int(index.searchsorted(index[first] - HOLIDAY_REACH, side="left"))
+    high = int(index.searchsorted(index[stop - 1] + HOLIDAY_REACH, side="right"))
+    return slice(low, high)
+
+
 def holiday_typical(
     grid: pd.Series,
+    days: CalendarDays,
     interval: pd.Timedelta,
     first: int,
     stop: int,
     timezone: str,
-    calendar: CampusCalendar,
     weeks: int,
 ) -> np.ndarray:
     """Typical values for positions ``[first, stop)`` of ``grid``: NaN except at holidays it
     can fill.
 
-    ``grid`` holds the meter's usable readings on its UTC interval starts (NaN elsewhere);
-    those outside the range count, and term weekdays within ``weeks`` weeks either side of a
-    day are its yardstick, as for the typical week.
+    ``grid`` holds the meter's usable readings on UTC interval starts (NaN elsewhere) over the
+    :func:`holiday_reach` of the range, ``days`` their calendar labels; readings outside the
+    range count, and term weekdays within ``weeks`` weeks either side of a day are its
+    yardstick, as for the typical week.
     """
     filled = np.full(stop - first, np.nan)
-    index = grid.index
-    low = int(index.searchsorted(index[first] - HOLIDAY_REACH, side="left"))
-    high = int(index.searchsorted(index[stop - 1] + HOLIDAY_REACH, side="right"))
-    nearby = index[low:high]
-    days = CalendarDays.label(nearby, timezone, calendar)
-    readings = grid.to_numpy(dtype=np.float64)[low:high].copy()
-    readings[first - low : stop - low] = np.nan
+    nearby = grid.index
+    readings = grid.to_numpy(dtype=np.float64, copy=True)
+    readings[first:stop] = np.nan
     weekday = week_places(nearby, timezone, interval).slot < 5 * 24
     term_weekday = weekday & ~days.holiday & (days.day_class == ORDINARY)
     hours = day_places(nearby, timezone, interval)
@@ -64,7 +67,7 @@ def holiday_typical(
     if _days_among(nearby[seen], timezone) < MIN_HOLIDAYS:
         return filled
     ratio = pd.Series(readings[seen] / yardstick[seen]).groupby(hours.slot[seen]).median()
-    inside = slice(first - low, stop - low)
+    inside = slice(first, stop)
     scaled = yardstick[inside] * ratio.reindex(hours.slot[inside]).to_numpy()
     wanted = days.holiday[inside]
     filled[wanted] = scaled[wanted]

@@ -64,6 +64,10 @@ class CalendarDays:
         holiday = (labels["day_type"] == "holiday").to_numpy(dtype=bool)
         return cls(day_class=day_class, holiday=holiday)
 
+    def within(self, span: slice) -> CalendarDays:
+        """The labels of the intervals in ``span``."""
+        return CalendarDays(day_class=self.day_class[span], holiday=self.holiday[span])
+
     @property
     def quiet(self) -> np.ndarray:
         """Intervals on days the campus is expected to be quiet: holidays, breaks, closures."""

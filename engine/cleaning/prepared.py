@@ -14,7 +14,7 @@ from engine.cleaning.days import WholeDays
 from engine.cleaning.findings import Finding
 from engine.cleaning.fixes import typical_near
 from engine.cleaning.grid import to_grid
-from engine.cleaning.holiday_fill import holiday_typical
+from engine.cleaning.holiday_fill import holiday_reach, holiday_typical
 from engine.cleaning.like_days import CalendarDays, LikeDays
 from engine.cleaning.pattern import Pattern
 from engine.cleaning.settings import CleaningSettings
@@ -47,7 +47,7 @@ class PreparedMeter:
     since 1970-01-01 on the site's clock) and ``days`` the whole local days that count for
     daily comparisons (:mod:`engine.cleaning.days`); ``day_lines`` fits each local day as a
     whole to its typical values (:mod:`engine.cleaning.day_lines`); ``calendar_days`` holds the
-    campus calendar's labels of the grid, or ``None`` without a calendar (``calendar``).
+    campus calendar's labels of the grid, or ``None`` without a calendar.
     """
 
     name: str
@@ -65,7 +65,6 @@ class PreparedMeter:
     day_lines: DayLines
     calendar_days: CalendarDays | None = None
     weather: WeatherResponse | None = None
-    calendar: CampusCalendar | None = None
 
     @classmethod
     def build(
@@ -123,7 +122,6 @@ class PreparedMeter:
             day_lines=fit_day_lines(local_day, values, typical, spread),
             calendar_days=labels,
             weather=weather,
-            calendar=calendar,
         )
 
     def __len__(self) -> int:
@@ -180,9 +178,11 @@ class PreparedMeter:
         """
         typical = self.typical[first:stop]
         if self.holds_holiday(first, stop):
+            reach = holiday_reach(self.index, first, stop)
             own = holiday_typical(
-                pd.Series(self.values, index=self.index), self.interval, first, stop,
-                self.timezone, self.calendar, self.settings.pattern_weeks // 2,
+                pd.Series(self.values[reach], index=self.index[reach]),
+                self.calendar_days.within(reach), self.interval, first - reach.start,
+                stop - reach.start, self.timezone, self.settings.pattern_weeks // 2,
             )  # fmt: skip
             typical = np.where(np.isfinite(own), own, typical)
         if not np.isfinite(typical).any():
