@@ -11,11 +11,15 @@ from engine.cleaning.cleaned import CleanedSeries
 from engine.cleaning.findings import Finding
 from engine.cleaning.steps import CleaningStep
 
-#: Finding kinds whose fixes "apply recommended" applies without asking: gaps, catch-up spreads
-#: and spikes, the latter only when serious (beyond what the meter plausibly uses; a spike that
-#: is merely unusual for its hour may be real use). Everything else (flat lines, zero runs, dips,
-#: negatives, resets, level shifts and clock problems) needs a person who knows the building.
-RECOMMENDED_KINDS: frozenset[str] = frozenset({"gap", "catch_up", "spike"})
+#: Finding kinds whose fixes "apply recommended" applies without asking: gaps, catch-up spreads,
+#: and spikes and flat lines when serious: a spike beyond what the meter plausibly uses (one
+#: merely unusual for its hour may be real use), one non-zero reading repeated for a day or more
+#: (a stuck meter or logger; a shorter repeat may be a quiet building on a coarse register).
+#: Everything else (zero runs, dips, negatives, resets, level shifts and clock problems) needs a
+#: person who knows the building.
+RECOMMENDED_KINDS: frozenset[str] = frozenset({"gap", "catch_up", "spike", "flat_line"})
+#: Of those, the kinds applied only when serious.
+SERIOUS_ONLY: frozenset[str] = frozenset({"spike", "flat_line"})
 
 
 def quality_summary(raw: pd.Series, cleaned: CleanedSeries) -> dict[str, float | int]:
@@ -59,7 +63,7 @@ def recommended_steps(findings: Iterable[Finding]) -> list[CleaningStep]:
 def _applies_unasked(finding: Finding) -> bool:
     if finding.kind not in RECOMMENDED_KINDS or finding.fix is None:
         return False
-    return finding.kind != "spike" or finding.severity == "serious"
+    return finding.kind not in SERIOUS_ONLY or finding.severity == "serious"
 
 
 def accepted_step(finding: Finding, note: str = "") -> CleaningStep:

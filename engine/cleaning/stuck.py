@@ -52,14 +52,23 @@ def _flat_line(meter: PreparedMeter, first: int, stop: int, usual: float, limit:
         f"({settings.flat_multiple:g} times the length {settings.flat_quantile * 100:g}% of its "
         f"repeats stay within, {counted(math.ceil(usual), 'interval')}, but at least "
         f"{duration_text(settings.flat_floor)}): a stuck meter or a logger repeating its last "
-        "value. Recommended, after checking: replace the readings by an estimate."
+        "value. "
     )
+    severity = _duration_severity(meter, stop - first)
+    if severity == "serious":
+        serious = duration_text(settings.serious_run)
+        explanation += (
+            "Recommended: replace the readings by an estimate (applied with the other "
+            f"recommended fixes: no building uses exactly the same for {serious} or more)."
+        )
+    else:
+        explanation += "Recommended, after checking: replace the readings by an estimate."
     fix = meter.fill_step(first, stop, "replace a stuck reading")
     return meter.finding(
         "flat_line",
         first,
         stop,
-        _duration_severity(meter, stop - first),
+        severity,
         explanation,
         fix,
         limit_intervals=limit,

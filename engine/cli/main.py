@@ -65,7 +65,7 @@ def build_parser() -> argparse.ArgumentParser:
     clean.add_argument(
         "--apply-recommended",
         action="store_true",
-        help="log the recommended fixes (gaps, catch-up spikes, serious spikes)",
+        help="log the recommended fixes (gaps, catch-up spikes, serious spikes, stuck days)",
     )
     clean.add_argument(
         "--undo", type=int, metavar="STEP", help="undo one logged step by its id (kept in the log)"

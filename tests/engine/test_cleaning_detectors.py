@@ -159,6 +159,30 @@ def test_flat_line_uses_a_limit_learned_from_the_meter(clean):
     assert finding.severity == "warning"
     assert "longer than 3 h is implausible" in finding.explanation
     assert finding.measures["limit_intervals"] == 12
+    # Half a day of one reading may be a quiet building: a person checks before it goes.
+    assert "after checking" in finding.explanation
+    assert recommended_steps([finding]) == []
+
+
+def test_a_day_of_one_reading_is_replaced_with_the_recommended_fixes(clean):
+    # A logger repeating its last value for a day and a half: no building uses exactly the
+    # same for a day, so "apply recommended" fills it from the meter's own typical week.
+    first = at(clean, "2023-05-16 09:00")
+    stop = first + 36 * 4
+    raw = clean.copy()
+    raw.iloc[first:stop] = raw.iloc[first]
+    finding = only(find_all(meter_of(raw)), "flat_line")
+    assert finding.severity == "serious"
+    assert "applied with the other recommended fixes" in finding.explanation
+    steps = recommended_steps([finding])
+    assert [step.note for step in steps] == ["replace a stuck reading"]
+    cleaned = apply_steps(raw, steps, interval=QUARTER_HOUR)
+    filled = cleaned.values.iloc[first:stop]
+    assert cleaned.estimated.iloc[first:stop].all() and filled.nunique() > 1
+    # the fill's energy is the clean meter's within 5 % (the stuck readings were 26 % off)
+    truth = clean.iloc[first:stop].sum()
+    assert abs(raw.iloc[first:stop].sum() / truth - 1) > 0.25
+    assert filled.sum() == pytest.approx(truth, rel=0.05)
 
 
 def test_a_meter_that_often_repeats_gets_a_longer_flat_limit(clean):

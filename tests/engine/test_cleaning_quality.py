@@ -72,20 +72,21 @@ def finding(kind: str, day: int, severity: str = "warning") -> Finding:
     return Finding(METER, kind, start, end, severity, "text", fix, 1, 0.0, 0.0)
 
 
-def test_recommended_steps_are_gaps_catch_ups_and_serious_spikes_in_time_order():
+def test_recommended_steps_are_gaps_catch_ups_and_serious_spikes_and_flat_lines_in_time_order():
     findings = [
         finding("spike", 5, "serious"),
         finding("level_shift", 1),
         finding("gap", 4, "info"),
         finding("spike", 2, "warning"),
         finding("flat_line", 3),
+        finding("flat_line", 9, "serious"),
         finding("catch_up", 0),
         finding("zero_run", 6),
         finding("dip", 7),
         finding("negative", 8, "serious"),
     ]
     notes = [step.note for step in recommended_steps(findings)]
-    assert notes == ["catch_up", "gap", "spike"]
+    assert notes == ["catch_up", "gap", "spike", "flat_line"]
 
 
 def test_a_finding_without_a_fix_is_skipped():
