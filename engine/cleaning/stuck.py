@@ -13,6 +13,12 @@ from engine.cleaning.prepared import PreparedMeter
 from engine.cleaning.wording import duration_text, energy_text
 from engine.words import counted
 
+#: Fewest repeats of one reading that make a day-long flat line serious: a day of hourly
+#: readings. A daily meter on a whole-unit register repeats a quiet season's day for a week
+#: (the sample's gas meter: 19 ccf seven days running in June), so a flat line is serious only
+#: when it holds this many readings as well as a day.
+MIN_SERIOUS_REPEATS = 24
+
 
 def find_flat_lines(meter: PreparedMeter, claimed: np.ndarray) -> list[Finding]:
     """Runs of one non-zero reading repeated for longer than this meter plausibly repeats.
@@ -55,11 +61,14 @@ def _flat_line(meter: PreparedMeter, first: int, stop: int, usual: float, limit:
         "value. "
     )
     severity = _duration_severity(meter, stop - first)
+    if stop - first < MIN_SERIOUS_REPEATS:
+        severity = "warning"
     if severity == "serious":
         serious = duration_text(settings.serious_run)
         explanation += (
             "Recommended: replace the readings by an estimate (applied with the other "
-            f"recommended fixes: no building uses exactly the same for {serious} or more)."
+            f"recommended fixes: no building uses exactly the same for {serious} or more, "
+            f"{MIN_SERIOUS_REPEATS} readings in a row)."
         )
     else:
         explanation += "Recommended, after checking: replace the readings by an estimate."

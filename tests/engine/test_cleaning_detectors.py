@@ -185,6 +185,23 @@ def test_a_day_of_one_reading_is_replaced_with_the_recommended_fixes(clean):
     assert filled.sum() == pytest.approx(truth, rel=0.05)
 
 
+def test_a_week_of_one_daily_reading_waits_for_a_person():
+    # A daily gas meter read off a whole-ccf register: a quiet summer week can read the same
+    # 19 ccf day after day. Ten days of one reading are a flat line to check, not to replace:
+    # a day-long repeat is serious only with a day of hourly readings (24) behind it.
+    days = pd.date_range("2023-01-01", "2024-12-31", freq="D", tz=SITE_ZONE).tz_convert("UTC")
+    rng = np.random.default_rng(3)
+    season = 20 + 60 * np.clip(np.cos(2 * np.pi * (days.day_of_year.to_numpy() - 15) / 365), 0, 1)
+    readings = pd.Series(season * rng.lognormal(0, 0.05, len(days)), index=days)
+    first = int(days.get_loc(pd.Timestamp("2024-06-10", tz=SITE_ZONE).tz_convert("UTC")))
+    readings.iloc[first : first + 10] = 19.0
+    daily = MeterSeries("Boilerhouse gas", "natural_gas", readings, pd.Timedelta(days=1), SITE_ZONE)
+    finding = only(find_all(daily), "flat_line")
+    assert (finding.start, finding.intervals) == (days[first], 10)
+    assert finding.severity == "warning" and "after checking" in finding.explanation
+    assert recommended_steps([finding]) == []
+
+
 def test_a_meter_that_often_repeats_gets_a_longer_flat_limit(clean):
     # A coarse register (40 kWh steps) repeats its reading for hours on end, nights and
     # weekends; the limit follows that history instead of the 3 h floor.
