@@ -196,10 +196,8 @@ def main() -> int:
     for name in names:
         for happened in [False, True] if options.happened else [False]:
             missed += score(name, SITES[name], options.origins, happened)
-    if missed:
-        print("missed: " + "; ".join(missed))
-        return 1
-    return 0
+    print("missed: " + "; ".join(missed) if missed else "\nevery target held")
+    return 1 if missed else 0
 
 
 if __name__ == "__main__":
