@@ -13,8 +13,9 @@ from engine.cleaning.steps import CleaningStep
 
 #: Finding kinds whose fixes "apply recommended" applies without asking: gaps, catch-up spreads,
 #: and spikes and flat lines when serious: a spike beyond what the meter plausibly uses (one
-#: merely unusual for its hour may be real use), one non-zero reading repeated for a day or more
-#: (a stuck meter or logger; a shorter repeat may be a quiet building on a coarse register).
+#: merely unusual for its hour may be real use), one non-zero reading repeated for a day and at
+#: least 24 readings (a stuck meter or logger; a shorter repeat may be a quiet building on a
+#: coarse register, see :data:`engine.cleaning.stuck.MIN_SERIOUS_REPEATS`).
 #: Everything else (zero runs, dips, negatives, resets, level shifts and clock problems) needs a
 #: person who knows the building.
 RECOMMENDED_KINDS: frozenset[str] = frozenset({"gap", "catch_up", "spike", "flat_line"})

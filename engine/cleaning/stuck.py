@@ -60,9 +60,8 @@ def _flat_line(meter: PreparedMeter, first: int, stop: int, usual: float, limit:
         f"{duration_text(settings.flat_floor)}): a stuck meter or a logger repeating its last "
         "value. "
     )
-    severity = _duration_severity(meter, stop - first)
-    if stop - first < MIN_SERIOUS_REPEATS:
-        severity = "warning"
+    long_enough = stop - first >= MIN_SERIOUS_REPEATS
+    severity = _duration_severity(meter, stop - first) if long_enough else "warning"
     if severity == "serious":
         serious = duration_text(settings.serious_run)
         explanation += (
