@@ -70,7 +70,13 @@ def _flat_line(meter: PreparedMeter, first: int, stop: int, usual: float, limit:
             f"{MIN_SERIOUS_REPEATS} readings in a row)."
         )
     else:
-        explanation += "Recommended, after checking: replace the readings by an estimate."
+        coarse = (
+            " (this meter's readings often repeat, as a register read in whole units does on a "
+            "steady load: compare with the register's own reads)"
+            if usual > 1
+            else ""
+        )
+        explanation += f"Recommended, after checking{coarse}: replace the readings by an estimate."
     fix = meter.fill_step(first, stop, "replace a stuck reading")
     return meter.finding(
         "flat_line",

@@ -192,7 +192,7 @@ def test_a_week_of_one_daily_reading_waits_for_a_person():
     days = pd.date_range("2023-01-01", "2024-12-31", freq="D", tz=SITE_ZONE).tz_convert("UTC")
     rng = np.random.default_rng(3)
     season = 20 + 60 * np.clip(np.cos(2 * np.pi * (days.day_of_year.to_numpy() - 15) / 365), 0, 1)
-    readings = pd.Series(season * rng.lognormal(0, 0.05, len(days)), index=days)
+    readings = pd.Series((season * rng.lognormal(0, 0.05, len(days))).round(), index=days)
     first = int(days.get_loc(pd.Timestamp("2024-06-10", tz=SITE_ZONE).tz_convert("UTC")))
     readings.iloc[first : first + 10] = 19.0
     daily = MeterSeries("Boilerhouse gas", "natural_gas", readings, pd.Timedelta(days=1), SITE_ZONE)
@@ -200,6 +200,9 @@ def test_a_week_of_one_daily_reading_waits_for_a_person():
     assert (finding.start, finding.intervals) == (days[first], 10)
     assert finding.severity == "warning" and "after checking" in finding.explanation
     assert recommended_steps([finding]) == []
+    # its whole-unit readings repeat for days in summer, and the finding says what that means
+    assert finding.measures["usual_repeat_intervals"] > 1
+    assert "as a register read in whole units does on a steady load" in finding.explanation
 
 
 def test_a_meter_that_often_repeats_gets_a_longer_flat_limit(clean):
