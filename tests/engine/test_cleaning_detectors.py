@@ -161,6 +161,7 @@ def test_flat_line_uses_a_limit_learned_from_the_meter(clean):
     assert finding.measures["limit_intervals"] == 12
     # Half a day of one reading may be a quiet building: a person checks before it goes.
     assert "after checking" in finding.explanation
+    assert "whole units" not in finding.explanation  # this meter's readings seldom repeat
     assert recommended_steps([finding]) == []
 
 
