@@ -221,7 +221,7 @@ def typical_near(
     typical = like.pattern(sample, min_samples=1).typical
     if days.holiday[first - low : stop - low].any():
         reach = holiday_reach(index, first, stop)
-        readings = pd.Series(np.where(usable, values, np.nan)[reach], index=index[reach])
+        readings = pd.Series(np.where(usable[reach], values[reach], np.nan), index=index[reach])
         labels = CalendarDays.label(index[reach], timezone, calendar)
         own = holiday_typical(
             readings, labels, interval, first - reach.start, stop - reach.start, timezone, weeks
