@@ -6,6 +6,12 @@ ranges are set beside the metered total. The table feeds :func:`engine.budget.ca
 which shows how often the ranges held and corrects them when they did not. Origins are the
 last whole local calendar months of the history (:func:`engine.backtest.backtest_origins`),
 as in the models' rolling-origin backtest.
+
+Each past budget is marked *settled* when every model error it drew came from a model fitted
+on at least :data:`SETTLED_HISTORY` of readings. The first past budgets of a short history
+draw errors from refits on a few months, which miss by far more than later ones; their ranges
+are wider than a budget made today, so they may not narrow today's range
+(:func:`engine.budget.site_calibrations`).
 """
 
 from __future__ import annotations
@@ -20,7 +26,7 @@ import pandas as pd
 from engine.backtest import backtest_origins
 from engine.budget.calibration import CALIBRATION_WINDOW, calibrate, site_calibrations
 from engine.budget.meter_grid import DAY, native_interval
-from engine.budget.periods import BudgetWindow
+from engine.budget.periods import BudgetWindow, as_of_cut
 from engine.budget.plan import MeterPlan
 from engine.budget.result import Calibration
 from engine.budget.simulate import simulate_paths
@@ -42,6 +48,9 @@ from engine.progress import Progress, reworded, step
 _MEASURED = ("actual kWh", LAST_YEAR_COLUMN, SEASONAL_NAIVE_COLUMN)
 #: Makes the meter plans a budget as of the given date would have had.
 PlanFactory = Callable[[date], Sequence[MeterPlan]]
+#: Readings a model must have been fitted on for its errors to be like today's model's: a
+#: year, so that it has seen every season once.
+SETTLED_HISTORY = pd.Timedelta(days=365)
 
 
 @dataclass(frozen=True)
@@ -51,8 +60,9 @@ class BudgetBacktest:
     ``pairs`` has one row per origin month and meter or roll-up: ``month``, ``kind``
     (``"meter"``, ``"utility"`` or ``"campus"``), ``name``, ``actual kWh`` (NaN when the
     month's readings are incomplete), the naive budgets ``last year kWh`` and ``last week
-    kWh`` (:mod:`engine.budget.skill`; NaN without whole readings), ``mean kWh`` and
-    ``P{level}`` per level. ``skipped``
+    kWh`` (:mod:`engine.budget.skill`; NaN without whole readings), ``mean kWh``,
+    ``P{level}`` per level and ``settled`` (see the module notes; a roll-up when all its
+    meters are). ``skipped``
     lists origins the plan factory or the simulation could not serve, with the message.
     """
 
@@ -128,12 +138,28 @@ def _origin_months(history: Mapping[str, ModelInputs], origins: int | Sequence[s
     return sorted(common or ())
 
 
+def settled(plan: MeterPlan, as_of: date, error_days: int) -> bool:
+    """Whether every model error a budget of ``plan`` as of ``as_of`` draws (those of the
+    ``error_days`` before the cut) lies :data:`SETTLED_HISTORY` or more after the meter's
+    first reading, so the model that made it had seen a year of readings."""
+    cut = as_of_cut(as_of, plan.timezone)
+    errors = plan.residuals
+    window_start = cut - pd.Timedelta(days=error_days)
+    if errors is not None:
+        drawn = errors.index[(errors.index >= window_start) & (errors.index < cut)]
+        window_start = drawn[0] if len(drawn) else cut
+    energy = plan.history.energy
+    read = energy.index[energy.notna().to_numpy()]
+    return bool(len(read)) and window_start - read[0] >= SETTLED_HISTORY
+
+
 def _rows(
     month: str,
     plans: Sequence[MeterPlan],
     totals: dict[str, np.ndarray],
     actuals: dict[str, dict[str, float]],
     levels: tuple[int, ...],
+    settled_plans: set[str],
 ) -> list[dict[str, object]]:
     groups = [("meter", plan.name, [plan.name]) for plan in plans] + roll_up_groups(plans)
     rows = []
@@ -151,6 +177,7 @@ def _rows(
                 },
                 "mean kWh": spread.mean,
                 **{f"P{level}": value for level, value in spread.quantiles.items()},
+                "settled": all(member in settled_plans for member in members),
             }
         )
     return rows
@@ -238,9 +265,18 @@ def backtest_budget(
             for plan in plans
         }
         by_meter = {meter.plan.name: meter.months[:, 0] for meter in totals.meters}
-        rows += _rows(month, plans, by_meter, actuals, levels)
+        ready = {plan.name for plan in plans if settled(plan, as_of, error_days)}
+        rows += _rows(month, plans, by_meter, actuals, levels, ready)
     step(progress, 1.0, "Past budgets made")
-    columns = ["month", "kind", "name", *_MEASURED, "mean kWh", *(f"P{x}" for x in levels)]
+    columns = [
+        "month",
+        "kind",
+        "name",
+        *_MEASURED,
+        "mean kWh",
+        *(f"P{x}" for x in levels),
+        "settled",
+    ]
     return BudgetBacktest(
         pairs=pd.DataFrame(rows, columns=columns),
         skipped=pd.DataFrame(skipped, columns=["month", "message"]),

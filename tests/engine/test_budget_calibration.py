@@ -41,6 +41,7 @@ from engine.budget.calibration import (
     pair_scores,
     site_calibrations,
 )
+from engine.budget.past_budgets import settled
 from engine.budget.skill import LAST_YEAR, skill
 from engine.errors import InputError
 from engine.progress import Progress
@@ -154,6 +155,64 @@ def test_meters_that_agree_mostly_pool_fully() -> None:
     # Fewer than three meters: nothing to judge a spread on, the other meter counts fully.
     two = {name: scores[name] for name in ("M0", "M3")}
     assert agreed_pooling(two, 0.8) == {"M0": 24.0, "M3": 24.0}
+
+
+def _early_and_settled(early_spread: float, settled_months: int) -> pd.DataFrame:
+    """Twelve past months of three meters: the first ones budgeted from short-history refits
+    (``settled`` False) missing with ``early_spread``, the last ``settled_months`` honest."""
+    site = _site({"A": 7.8, "B": 7.8, "C": 7.8}, seed=5)
+    month_number = site["month"].str[5:].astype(int)
+    early = month_number <= 12 - settled_months
+    site.loc[early, "actual kWh"] = 100 + early_spread / 7.8 * (site.loc[early, "actual kWh"] - 100)
+    return site.assign(settled=~early)
+
+
+def test_early_past_budgets_from_short_history_refits_do_not_narrow_a_range() -> None:
+    # Eight early months that held by far (a spread of 2 against ranges honest for 7.8, as
+    # the first past budgets of a short history do: their errors came from refits on a few
+    # months) and four settled ones: the six recent months would narrow the ranges, but
+    # only four of them are settled, too few to narrow by, so the ranges stay as simulated.
+    site = _early_and_settled(early_spread=2.0, settled_months=4)
+    unmarked = site_calibrations(site.drop(columns="settled"))
+    assert all(made.scale < 0.95 for made in unmarked.values())
+    kept = site_calibrations(site)
+    assert all(made.scale == 1.0 for made in kept.values())
+    assert all("less than a year of readings" in made.method for made in kept.values())
+    assert all("those before 2025-09" in made.method for made in kept.values())
+    # With seven settled months the settled ones alone calibrate (the early ones are left out).
+    site = _early_and_settled(early_spread=2.0, settled_months=7)
+    alone = site_calibrations(site[site["settled"]].drop(columns="settled"))
+    made = site_calibrations(site)
+    assert made == alone
+
+
+def test_early_past_budgets_that_missed_still_widen_a_range() -> None:
+    # Early months that missed by far (spread 25 against ranges honest for 7.8) widen the
+    # range as they did: only narrowing needs settled evidence.
+    site = _early_and_settled(early_spread=25.0, settled_months=4)
+    made = site_calibrations(site)
+    assert made == site_calibrations(site.drop(columns="settled"))
+    assert all(calibration.scale > 1.2 for calibration in made.values())
+
+
+def test_a_past_budget_is_settled_once_every_error_it_draws_follows_a_year_of_readings(
+    campus: Campus,
+) -> None:
+    # The errors a budget as of a day draws are those of the 366 days before its cut; they
+    # are like a later model's once the model that made the first of them had a year of
+    # readings (the campus's readings start on 2019-01-01).
+    name = METERS[0].name
+    inputs = campus.inputs[name]
+    model = WeekSlotDegreeModel()  # not used: only the errors' dates count
+    refitted = inputs.index[inputs.index >= pd.Timestamp("2019-02-01", tz="UTC")]
+    errors = pd.Series(0.0, index=refitted)
+    plan = MeterPlan(name, METERS[0].utility, model, inputs, residuals=errors)
+    assert not settled(plan, date(2020, 6, 30), 366)  # errors from 2019-07, six months in
+    assert not settled(plan, date(2020, 12, 30), 366)  # from 2019-12-31, a day short
+    assert settled(plan, date(2020, 12, 31), 366)  # from 2020-01-01 (2020 has 366 days)
+    # Without errors of its own the budget draws the fit's residuals over the same window.
+    assert settled(replace(plan, residuals=None), date(2020, 12, 31), 366)
+    assert not settled(replace(plan, residuals=None), date(2020, 6, 30), 366)
 
 
 def test_the_bootstrap_variance_of_a_log_scale_shrinks_with_more_months() -> None:
@@ -299,6 +358,7 @@ def test_corrected_month_ahead_ranges_hold_about_four_months_in_five(
     """
     pairs = past.pairs
     assert past.skipped.empty
+    assert pairs["settled"].all()  # refitted from 2020 on, a year after the first reading
     assert pairs["month"].nunique() == 48
     assert (pairs["month"].iloc[0], pairs["month"].iloc[-1]) == ("2021-01", "2024-12")
     meters = pairs[pairs["kind"] == "meter"]
