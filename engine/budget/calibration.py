@@ -31,9 +31,12 @@ of a site (same refits, same weather, same way of drawing), so the evidence is p
 meter's scale is the quantile of its own scores, each counting once, together with the site's
 other meters' scores, counting together as :data:`POOLED_MONTHS` months (a weighted quantile,
 as in weighted conformal prediction: Tibshirani, Barber, Candès & Ramdas 2019, from memory).
-A meter with a year of its own months thus leans two thirds on its site; a site of eight
-meters can correct its ranges after two past months instead of twelve, and a single meter
-still needs :data:`MIN_MONTHS` of its own. On the sample campus (28 past month-ahead budgets
+A meter with a year of its own months thus leans two thirds on its site; a site corrects its
+ranges after :data:`SHORTEST_WINDOW` past months instead of twelve (not sooner, however many
+meters it has: they share their months' weather, so a site's few months are a few draws of
+it; counted as months, eight meters corrected the sample's first issued ranges on two to four
+past months, by factors near 3 that held every one of those months), and a single meter still
+needs :data:`MIN_MONTHS` of its own. On the sample campus (28 past month-ahead budgets
 per meter, the last 24 issued as the tool would have issued them) the ranges held 63 % raw,
 77 % corrected per meter alone over a year (one meter 67 %), 84 % pooled over a year (every
 meter 79–92 %) and 81 % pooled over the last six months (every meter 75–92 %); with the
@@ -379,9 +382,12 @@ def pooled_calibrations(
         },
         (level_high - level_low) / 100.0,
     )
+    # However many meters pool, they share their months' weather: a site's few months are a
+    # few draws of it, so the pool counts from SHORTEST_WINDOW months on.
+    few = known["month"].nunique() < SHORTEST_WINDOW
     made = {}
     for name in pairs["name"].unique():
-        most = limits.get(name, float(POOLED_MONTHS))
+        most = 0.0 if few else limits.get(name, float(POOLED_MONTHS))
         for span in range(min(SHORTEST_WINDOW, window), window + 1):
             recent = known[known["month"].isin(months[-span:])]
             own = recent[recent["name"] == name]

@@ -157,6 +157,18 @@ def test_meters_that_agree_mostly_pool_fully() -> None:
     assert agreed_pooling(two, 0.8) == {"M0": 24.0, "M3": 24.0}
 
 
+def test_a_site_corrects_nothing_on_fewer_than_six_months_however_many_meters() -> None:
+    # Eight meters whose ranges are three times too narrow: four past months of them are 32
+    # meter-months, but four draws of the site's weather, too few to correct by. From six on
+    # the pool counts (as far as the meters agree, so a meter may need more of its own).
+    site = _site({f"M{k}": 23.0 for k in range(8)}, months=4, seed=3)
+    made = site_calibrations(site)
+    assert all(calibration.scale == 1.0 for calibration in made.values())
+    assert all("fewer than the 12 needed" in calibration.method for calibration in made.values())
+    made = site_calibrations(_site({f"M{k}": 23.0 for k in range(8)}, months=6, seed=3))
+    assert sum(calibration.scale > 1.8 for calibration in made.values()) >= 4
+
+
 def _early_and_settled(early_spread: float, settled_months: int) -> pd.DataFrame:
     """Twelve past months of three meters: the first ones budgeted from short-history refits
     (``settled`` False) missing with ``early_spread``, the last ``settled_months`` honest."""
