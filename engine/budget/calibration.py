@@ -329,8 +329,8 @@ def site_calibrations(
     :data:`SHORTEST_WINDOW` months of them. On an invented mild campus budgeted one-shot from
     24 months with two to four years of history (``tests/benchmarks/bench_mild_campus.py``),
     the ranges of the first year were narrowed by 0.84–0.88 on the past budgets of the year
-    before, made from refits on one to twelve months, and held 61 % of months; left as
-    simulated they held 67 %, and the two years 76 % instead of 71 %.
+    before, made from refits on one to twelve months, and held 61 % of months; with this
+    rule 72 %, and the two years 76 % instead of 71 %.
     """
     levels = {"level_low": level_low, "level_high": level_high, "min_months": min_months}
     made = pooled_calibrations(pairs, window=window, **levels)
