@@ -320,7 +320,7 @@ def site_calibrations(
 ) -> dict[str, Calibration]:
     """Per meter name, its calibration from the most recent months of ``pairs`` (columns
     ``month`` and ``name`` beside those :func:`calibrate` reads), pooled with the site's other
-    meters on the same months (:func:`pooled_calibrations`).
+    meters on the same months (see :func:`agreed_pooling` for how far the pool counts).
 
     A range is narrowed only on the evidence of *settled* past budgets (a ``settled`` column,
     :mod:`engine.budget.past_budgets`; without one, every past budget counts as settled): the
@@ -334,14 +334,14 @@ def site_calibrations(
     before, made from refits on one to twelve months, and held 61 % of months; with this
     rule 72 %, and the two years 76 % instead of 71 %.
     """
-    levels = {"level_low": level_low, "level_high": level_high, "min_months": min_months}
-    made = pooled_calibrations(pairs, window=window, **levels)
+    levels = (level_low, level_high)
+    made = _pooled_calibrations(pairs, levels, window, min_months)
     narrowed = [name for name, calibration in made.items() if calibration.scale < 1]
     if not narrowed or "settled" not in pairs.columns or pairs["settled"].all():
         return made
     settled = pairs[pairs["settled"].astype(bool)]
     enough = settled["month"].nunique() >= SHORTEST_WINDOW
-    again = pooled_calibrations(settled, window=window, **levels) if enough else {}
+    again = _pooled_calibrations(settled, levels, window, min_months) if enough else {}
     first = settled["month"].min() if len(settled) else None
     for name in narrowed:
         made[name] = again.get(name) or _not_narrowed(made[name], first)
@@ -361,19 +361,15 @@ def _not_narrowed(calibration: Calibration, first_settled: str | None) -> Calibr
     return replace(calibration, scale=1.0, method=reason)
 
 
-def pooled_calibrations(
-    pairs: pd.DataFrame,
-    *,
-    level_low: int = 10,
-    level_high: int = 90,
-    window: int = CALIBRATION_WINDOW,
-    min_months: int = MIN_MONTHS,
+def _pooled_calibrations(
+    pairs: pd.DataFrame, levels: tuple[int, int], window: int, min_months: int
 ) -> dict[str, Calibration]:
     """Per meter name, its calibration from the most recent months of ``pairs``, pooled with
     the site's other meters on the same months. The pool counts as far as the meters' scales
     over the last :data:`SHORTEST_WINDOW` months agree (:func:`agreed_pooling`), the months a
     site's scales are taken from when its meters agree; each meter's months are the fewest,
     from :data:`SHORTEST_WINDOW` to ``window``, that give it ``min_months`` of evidence."""
+    level_low, level_high = levels
     months = sorted(pairs["month"].unique())
     known = pairs.dropna(subset=_columns(level_low, level_high))
     judged = months[-min(SHORTEST_WINDOW, window) :]
