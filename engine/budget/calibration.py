@@ -342,9 +342,9 @@ def site_calibrations(
     settled = pairs[pairs["settled"].astype(bool)]
     enough = settled["month"].nunique() >= SHORTEST_WINDOW
     again = _pooled_calibrations(settled, levels, window, min_months) if enough else {}
-    first = settled["month"].min() if len(settled) else None
     for name in narrowed:
-        made[name] = again.get(name) or _not_narrowed(made[name], first)
+        own = settled.loc[settled["name"] == name, "month"]
+        made[name] = again.get(name) or _not_narrowed(made[name], own.min() if len(own) else None)
     return made
 
 

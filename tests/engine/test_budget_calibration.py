@@ -191,6 +191,9 @@ def test_early_past_budgets_from_short_history_refits_do_not_narrow_a_range() ->
     assert all(made.scale == 1.0 for made in kept.values())
     assert all("less than a year of readings" in made.method for made in kept.values())
     assert all("those before 2025-09" in made.method for made in kept.values())
+    # A meter whose readings began later has no settled month yet: the words say so.
+    later = site.assign(settled=site["settled"] & (site["name"] != "C"))
+    assert "but all the past months drew" in site_calibrations(later)["C"].method
     # With seven settled months the settled ones alone calibrate (the early ones are left out).
     site = _early_and_settled(early_spread=2.0, settled_months=7)
     alone = site_calibrations(site[site["settled"]].drop(columns="settled"))
