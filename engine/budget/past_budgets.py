@@ -147,10 +147,9 @@ def settled(plan: MeterPlan, as_of: date, error_days: int) -> bool:
     window_start = cut - pd.Timedelta(days=error_days)
     if errors is not None:
         drawn = errors.index[(errors.index >= window_start) & (errors.index < cut)]
-        window_start = drawn[0] if len(drawn) else cut
-    energy = plan.history.energy
-    read = energy.index[energy.notna().to_numpy()]
-    return bool(len(read)) and window_start - read[0] >= SETTLED_HISTORY
+        window_start = drawn.min() if len(drawn) else cut
+    first_reading = plan.history.energy.first_valid_index()
+    return first_reading is not None and window_start - first_reading >= SETTLED_HISTORY
 
 
 def _rows(
