@@ -161,19 +161,38 @@ class BalancePointFit:
         return asdict(self)
 
 
+def _centred(values: np.ndarray, groups: np.ndarray | None) -> np.ndarray:
+    """``values`` (days, or days × columns) less their mean over the days of the same group
+    (over all days when there are no groups)."""
+    if groups is None:
+        return values - values.mean(axis=0)
+    counts = np.bincount(groups)
+    sums = np.zeros((len(counts), *values.shape[1:]))
+    np.add.at(sums, groups, values)
+    means = sums / counts.reshape(-1, *([1] * (values.ndim - 1)))
+    return values - means[groups]
+
+
 @dataclass(frozen=True)
 class _Candidates:
-    """Degree-days of one kind at each candidate base: their means and centred days × bases."""
+    """Degree-days of one kind at each candidate base: their means and, days × bases, their
+    departures from their day group's mean."""
 
     bases: np.ndarray
     means: np.ndarray
     centred: np.ndarray
 
     @classmethod
-    def of(cls, daily: pd.DataFrame, bases: np.ndarray, kind: str, method: str) -> _Candidates:
+    def of(
+        cls,
+        daily: pd.DataFrame,
+        bases: np.ndarray,
+        kind: str,
+        method: str,
+        groups: np.ndarray | None = None,
+    ) -> _Candidates:
         table = _degree_day_table(daily, bases, kind, method)
-        means = table.mean(axis=0)
-        return cls(bases, means, table - means)
+        return cls(bases, table.mean(axis=0), _centred(table, groups))
 
 
 def _single_fits(yc: np.ndarray, x: _Candidates) -> tuple[np.ndarray, np.ndarray]:
@@ -214,22 +233,25 @@ def _search(
     method: str,
     heating: np.ndarray,
     cooling: np.ndarray,
+    groups: np.ndarray | None = None,
 ) -> tuple[np.ndarray, float, float | None, float | None]:
     """Best (coefficients, sse, heating base, cooling base) over the candidate grid.
 
-    Each candidate is a least-squares fit of ``y`` on an intercept and degree-days, solved in
-    centred form; for ``"both"`` every pair with heating base ≤ cooling base is a candidate.
+    Each candidate is a least-squares fit of ``y`` on an intercept (one per day group) and
+    degree-days, solved in centred form; for ``"both"`` every pair with heating base ≤
+    cooling base is a candidate. The intercept returned is that of an average day.
     """
-    yc = y - y.mean()
+    yc = _centred(y, groups)
     if kind == "both":
         found = [
-            _Candidates.of(daily, bases, side, method)
+            _Candidates.of(daily, bases, side, method, groups)
             for bases, side in ((heating, "heating"), (cooling, "cooling"))
         ]
         slopes, sse = _pair_fits(yc, *found)
         sse[heating[:, None] > cooling[None, :]] = np.inf
     else:
-        found = [_Candidates.of(daily, heating if kind == "heating" else cooling, kind, method)]
+        bases = heating if kind == "heating" else cooling
+        found = [_Candidates.of(daily, bases, kind, method, groups)]
         slopes, sse = _single_fits(yc, found[0])
     sse[(slopes <= 0).any(axis=-1)] = np.inf
     if not np.isfinite(sse).any():
@@ -265,6 +287,7 @@ def balance_point(
     *,
     method: str = "mean_of_hours",
     min_days: int = 14,
+    groups: pd.Series | None = None,
 ) -> BalancePointFit:
     """Search the base temperature(s) whose degree-days best explain daily energy.
 
@@ -272,6 +295,11 @@ def balance_point(
     on heating and cooling degree-days with heating base ≤ cooling base); the fit with the
     least squared error (highest R²) and positive slopes wins, and the search is then
     repeated on a fine grid around it.
+
+    With ``groups`` each group of days (a day type in a campus period, say) has its own
+    intercept, so the slopes come from the weather's changes within a group: a summer
+    session that runs at half the term's occupancy in the hottest weeks would otherwise hide
+    the cooling, as a winter break hides heating.
 
     Parameters
     ----------
@@ -295,7 +323,10 @@ def balance_point(
     needed = ["tmean"] if method == "mean_of_hours" else ["tmax", "tmin"]
     if not set(needed) <= set(daily_temps.columns):
         raise ValueError(f"method {method!r} needs daily columns {needed}")
-    joined = daily_temps.join(daily_energy.rename("energy"), how="inner").dropna()
+    joined = daily_temps.join(daily_energy.rename("energy"), how="inner")
+    if groups is not None:
+        joined = joined.join(groups.rename("group"), how="inner")
+    joined = joined.dropna()
     if len(joined) < min_days:
         raise InputError(
             f"only {len(joined)} days have both energy and temperature; "
@@ -303,13 +334,14 @@ def balance_point(
             hint="Check that the meter and weather data cover the same days.",
         )
     y = joined["energy"].to_numpy(dtype=float)
+    codes = None if groups is None else pd.factorize(joined["group"])[0]
     if candidates is None:
         daily_mean = joined[needed].mean(axis=1)
         low, high = np.percentile(daily_mean, [5, 95])
         candidates = np.linspace(low, high, 41)
     grid = np.sort(np.asarray(candidates, dtype=float))
 
-    coarse = _search(y, joined, kind, method, grid, grid)
+    coarse = _search(y, joined, kind, method, grid, grid, codes)
     coefficients, sse, heating_base, cooling_base = _search(
         y,
         joined,
@@ -317,9 +349,10 @@ def balance_point(
         method,
         _refined(grid, coarse[2], 41),
         _refined(grid, coarse[3], 41),
+        codes,
     )
     slopes = list(coefficients[1:])
-    parameters = len(coefficients)
+    parameters = len(coefficients) + (0 if codes is None else int(codes.max()))
     return BalancePointFit(
         kind=kind,
         heating_base=heating_base,

@@ -1,9 +1,10 @@
 """Budgets given the weather that happened, against the error the sample's known noise gives.
 
-Run with ``.venv/bin/python tests/benchmarks/bench_scenario.py [--root DIR]`` (not collected by
-pytest). It needs ``out/sample-campus.loadledger`` (``bash installer/run-sample.sh``); a copy is
-budgeted, so the project is left as it was. ``--root DIR`` measures the engine of another
-checkout (its own ``out/`` project) for the "before" figures.
+Run with ``.venv/bin/python tests/benchmarks/bench_scenario.py [--root DIR] [--draws N]`` (not
+collected by pytest). It needs ``out/sample-campus.loadledger`` (``bash installer/run-sample.sh``);
+a copy is budgeted, so the project is left as it was. ``--root DIR`` measures the engine of another
+checkout (its own ``out/`` project) for the "before" figures. ``--draws N`` also measures N other
+draws of the sample (about 80 s each on two cores), see below.
 
 What it does: the bundled Orrinvale campus is budgeted as the command line budgets it on a
 weather file (:func:`engine.steps.budgeting.budget_project` with the site's own hourly temperatures
@@ -25,6 +26,15 @@ list, ``sample/scenario.py``), so its readings from the change on are rescaled b
 (``clean --rescale``); without that its readings after the change are half the load the noise
 floor is measured on.
 
+One draw of the noise is a small sample of it: over 24 months a meter's ratio moves by ±0.3
+from draw to draw with the same models (on the sample's own draw Science Labs' model missed the
+noise-free load by 0.19 % a month on average and still scored 1.65, its misses falling against
+the noise's). ``--draws N`` therefore draws the campus again N times (new weather and noise on
+the same buildings, calendar and faults; :func:`other_draw`), makes each a project as
+``installer/run-sample.sh`` does, scores it the same way, and prints per meter the mean P50
+error over all the draws against the mean noise error: the expected error the target is about.
+The exit status is then that of the means; without ``--draws``, that of the sample's own draw.
+
 Ground truth here is the generator's parameters, not a fit: the check is against the outside
 world in the sense that the sample's noise is known by construction (invented data for known
 ground truth, DEVELOPERS.md).
@@ -33,7 +43,9 @@ ground truth, DEVELOPERS.md).
 from __future__ import annotations
 
 import argparse
+import contextlib
 import importlib
+import io
 import shutil
 import sys
 import tempfile
@@ -66,6 +78,14 @@ from sample.campus import (  # noqa: E402
     local_midnight,
     simulate_campus,
 )
+from sample.export import (  # noqa: E402
+    CALENDAR_FILE,
+    CHILLED_WATER_FILE,
+    ELECTRICITY_FILE,
+    GAS_FILE,
+    WEATHER_FILE,
+    write_sample,
+)
 from sample.gas import heating_degree_days_f  # noqa: E402
 from sample.loads import LoadModel, interval_drivers, mean_power  # noqa: E402
 
@@ -73,6 +93,7 @@ AS_OF = date(2026, 9, 30)  # the sample's weather runs to 2026-10-31: the budget
 PAST_MONTHS = 24
 DRAWS = 400
 TARGET = 1.5
+SAMPLE_STREAM = scenario.STREAM_NUMBER
 GAS_METER = "gas-boilerhouse-daily"
 
 
@@ -162,8 +183,41 @@ def correct_multipliers(project) -> list[str]:
     return done
 
 
-def budget(root: Path) -> tuple[pd.DataFrame, dict[str, str], dict[str, str], float, list]:
-    """The past month-ahead budgets of the sample, given the weather that happened."""
+def other_draw(number: int, folder: Path) -> Path:
+    """The sample campus drawn again, made into a project as ``installer/run-sample.sh`` makes
+    it (imported with its calendar and US holidays, cleaned as recommended, fitted).
+
+    Draw ``number`` takes its random streams from ``STREAM_NUMBER + number``: new weather and
+    new noise on the same buildings, calendar and faults. Leaves ``scenario`` set to that
+    draw, so the noise floor is measured on the same weather.
+    """
+    from engine.cli.main import main as command
+
+    scenario.STREAM_NUMBER = SAMPLE_STREAM + number
+    data = folder / "data"
+    write_sample(data)
+    project = folder / f"draw-{number}.loadledger"
+    steps = [
+        ["new", str(project), "--timezone", scenario.SITE_TIMEZONE,
+         "--meters", str(data / ELECTRICITY_FILE), "--meters", str(data / GAS_FILE),
+         "--meters", str(data / CHILLED_WATER_FILE), "--weather", str(data / WEATHER_FILE),
+         "--calendar", str(data / CALENDAR_FILE), "--holidays", "US"],
+        ["clean", str(project), "--apply-recommended"],
+        ["fit", str(project)],
+    ]  # fmt: skip
+    for argv in steps:
+        with contextlib.redirect_stdout(io.StringIO()):
+            status = command(argv)
+        if status:
+            raise SystemExit(f"draw {number}: `loadledger {argv[0]}` exited with {status}")
+    return project
+
+
+def budget(
+    project_file: Path,
+) -> tuple[pd.DataFrame, dict[str, str], dict[str, str], float, list]:
+    """The past month-ahead budgets of a project of the sample, given the weather that
+    happened (a copy is budgeted)."""
     import engine
     from engine.budget import budget_months
     from engine.project import Project
@@ -173,9 +227,6 @@ def budget(root: Path) -> tuple[pd.DataFrame, dict[str, str], dict[str, str], fl
     step = importlib.import_module("engine.steps.budgeting" if steps else "engine.budgeting")
     BudgetRequest, budget_project = step.BudgetRequest, step.budget_project
 
-    project_file = root / "out" / "sample-campus.loadledger"
-    if not project_file.exists():
-        raise SystemExit(f"no {project_file}; run installer/run-sample.sh")
     with tempfile.TemporaryDirectory() as folder:
         copy = Path(folder) / project_file.name
         shutil.copy(project_file, copy)
@@ -196,47 +247,79 @@ def budget(root: Path) -> tuple[pd.DataFrame, dict[str, str], dict[str, str], fl
     return made.past_budgets, run.assumptions.get("models", {}), used, seconds, corrected
 
 
-def main() -> int:
-    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    parser.add_argument("--root", type=Path, default=HERE, help="the checkout to measure")
-    parser.parse_args()  # read before the imports: see checkout()
-    root = ROOT
-    pairs, models, levels, seconds, corrected = budget(root)
+def scored(project_file: Path, label: str) -> pd.DataFrame:
+    """Per meter of one draw: the P50's month-total error beside the noise floor, printed."""
+    pairs, models, levels, seconds, corrected = budget(project_file)
     campus = simulate_campus()
     truth, drawn = noise_free(campus), realised(campus)
     meters = pairs[(pairs["kind"] == "meter") & pairs["actual kWh"].notna()]
     rng = np.random.default_rng(20261205)
-    print(f"sample campus given the weather that happened ({root}); {seconds:.0f} s")
-    print(f"  as of {AS_OF}: {PAST_MONTHS} past month-ahead budgets per meter")
+    print(f"{label}; {seconds:.0f} s")
     print(f"  rescaled as the meters' records say: {', '.join(corrected) or 'nothing'}")
     print(
         f"  {'meter':<24}{'model':<40}{'months':>7}{'P50 MAPE':>10}{'noise':>8}{'ratio':>7}"
         f"{'this draw':>11}{'level':>10}"
     )
-    missed = []
-    for name, rows in meters.groupby("name", sort=False):
-        months = sorted(rows["month"])
-        error = float((rows["P50"] / rows["actual kWh"] - 1).abs().mean() * 100)
+    rows = []
+    for name, past in meters.groupby("name", sort=False):
+        months = sorted(past["month"])
+        error = float((past["P50"] / past["actual kWh"] - 1).abs().mean() * 100)
         energy, cv, phi = truth[name]
         floor = noise_error(energy, cv, phi, months, rng)
         own = draw_error(drawn[name], energy, months)
         ratio = error / floor
-        ok = ratio <= TARGET
-        missed += [] if ok else [name]
         print(
             f"  {name:<24}{models.get(name, '')[:39]:<40}{len(months):>7}{error:>9.2f}%"
             f"{floor:>7.2f}%{ratio:>7.2f}{own:>10.2f}%{levels.get(name, 'n/a'):>10}"
-            + ("" if ok else "  missed")
+            + ("" if ratio <= TARGET else "  missed")
         )
+        rows.append({"meter": name, "error": error, "noise": floor, "ratio": ratio})
+    return pd.DataFrame(rows)
+
+
+def main() -> int:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--root", type=Path, default=HERE, help="the checkout to measure")
+    parser.add_argument(
+        "--draws", type=int, default=0, help="other draws of the sample's weather and noise"
+    )
+    args = parser.parse_args()  # --root is read before the imports: see checkout()
+    project_file = ROOT / "out" / "sample-campus.loadledger"
+    if not project_file.exists():
+        raise SystemExit(f"no {project_file}; run installer/run-sample.sh")
+    print(f"as of {AS_OF}: {PAST_MONTHS} past month-ahead budgets per meter ({ROOT})")
+    sample = scored(project_file, "sample campus given the weather that happened")
+    tables = [sample.assign(draw=0)]
+    for number in range(1, args.draws + 1):
+        with tempfile.TemporaryDirectory() as folder:
+            made = other_draw(number, Path(folder))
+            tables.append(scored(made, f"draw {number} of the sample").assign(draw=number))
+    scenario.STREAM_NUMBER = SAMPLE_STREAM
     print(
         f"  noise = mean absolute month-total error the generator's noise alone gives ({DRAWS} "
         f"draws); ratio = P50 MAPE / noise, target ≤ {TARGET}; this draw = the sample's own "
         "noise; level = whether the level correction was used for the budget as of the date"
     )
-    if missed:
-        print("missed: " + ", ".join(missed))
-        return 1
-    return 0
+    if args.draws:
+        every = pd.concat(tables)
+        mean = every.groupby("meter", sort=False)[["error", "noise", "ratio"]].mean()
+        spread = every.groupby("meter", sort=False)["ratio"].agg(["min", "max"])
+        print(f"over the sample and {args.draws} other draws (mean P50 MAPE / mean noise):")
+        for name, row in mean.iterrows():
+            ratio = row["error"] / row["noise"]
+            low, high = spread.loc[name]
+            print(
+                f"  {name:<24}{row['error']:>7.2f}%{row['noise']:>7.2f}%{ratio:>7.2f}"
+                f"   draws {low:.2f}–{high:.2f}" + ("" if ratio <= TARGET else "  missed")
+            )
+    own = list(sample.loc[sample["ratio"] > TARGET, "meter"])
+    if own:
+        print("missed on the sample's own draw: " + ", ".join(own))
+    if not args.draws:
+        return 1 if own else 0
+    missed = [name for name, row in mean.iterrows() if row["error"] / row["noise"] > TARGET]
+    print("missed over the draws: " + (", ".join(missed) or "none"))
+    return 1 if missed else 0
 
 
 if __name__ == "__main__":

@@ -333,6 +333,43 @@ def test_balance_point_search_picks_the_pair_brute_force_picks() -> None:
     assert 1 - fit.r_squared == pytest.approx(sse / np.sum((energy - energy.mean()) ** 2), rel=1e-9)
 
 
+def test_day_groups_keep_a_low_summer_session_from_hiding_the_cooling() -> None:
+    # Invented campus building: heating below 10 °C, cooling above 16 °C, and a summer session
+    # (the hottest ten weeks) and weekends that run far below a term weekday. Ground truth is
+    # known by construction.
+    daily = _invented_climate_days(seed=4)
+    rng = np.random.default_rng(12)
+    t = daily["tmean"].to_numpy()
+    summer = np.isin(daily.index.month, (6, 7, 8)) & (daily.index.day_of_year < 235)
+    weekend = daily.index.day_of_week >= 5
+    level = np.where(summer, 1500.0, 3000.0) * np.where(weekend, 0.6, 1.0)
+    energy = level + 30 * np.maximum(10.0 - t, 0) + 45 * np.maximum(t - 16.0, 0)
+    energy = pd.Series(energy + rng.normal(0, 20, len(t)), index=daily.index)
+    groups = pd.Series(np.where(summer, "summer", "term"), index=daily.index)
+    groups = groups + np.where(weekend, "/weekend", "/weekday")
+
+    fit = balance_point(energy, daily, "both", groups=groups)
+    assert abs(fit.heating_base - 10.0) < 0.5 and abs(fit.cooling_base - 16.0) < 0.5
+    assert fit.heating_slope == pytest.approx(30, rel=0.05)
+    assert fit.cooling_slope == pytest.approx(45, rel=0.05)
+    # Reference: statsmodels OLS with a level per group at the chosen bases: same slopes,
+    # and CV(RMSE) with p = slopes + one level per group (ASHRAE Guideline 14-2014, from memory).
+    dummies = pd.get_dummies(groups).to_numpy(dtype=float)
+    design = np.column_stack(
+        [dummies, np.maximum(fit.heating_base - t, 0), np.maximum(t - fit.cooling_base, 0)]
+    )
+    reference = sm.OLS(energy.to_numpy(), design).fit()
+    assert [fit.heating_slope, fit.cooling_slope] == pytest.approx(reference.params[-2:])
+    assert fit.r_squared == pytest.approx(reference.rsquared, rel=1e-9)
+    p = design.shape[1]
+    assert fit.cv_rmse == pytest.approx(math.sqrt(reference.ssr / (len(t) - p)) / energy.mean())
+
+    # Without the groups the low summer weeks read as energy falling with heat: the search
+    # puts the heating base far above 10 °C (near 25 °C on this draw).
+    blind = balance_point(energy, daily, "both")
+    assert blind.heating_base > 20.0
+
+
 def test_balance_point_in_fahrenheit_and_met_office_method() -> None:
     daily_c = _invented_climate_days(seed=21)
     rng = np.random.default_rng(2)

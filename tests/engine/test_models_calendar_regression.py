@@ -67,6 +67,17 @@ def test_recovers_the_heating_and_cooling_slopes_and_balance_points(model):
     assert model.layout_.cooling_base == pytest.approx(COOLING_BASE, abs=1.0)
 
 
+def test_a_low_summer_session_does_not_hide_the_balance_points():
+    # The summer session runs 120 kWh/h below term in the year's hottest weeks; starting the
+    # balance points from daily totals without each period's own level put heating at 16.2 °C.
+    shifts = {**PERIOD_SHIFT, "summer": -120.0}
+    campus = synthetic_campus("2021-01-01", "2024-01-01", period_shift=shifts)
+    model = CalendarRegressionModel().fit(campus.inputs)
+    assert model.layout_.heating_base == pytest.approx(HEATING_BASE, abs=1.0)
+    assert model.layout_.cooling_base == pytest.approx(COOLING_BASE, abs=1.0)
+    assert model.cooling_slope_ == pytest.approx(COOLING_SLOPE, rel=0.10)
+
+
 def test_held_out_error_is_close_to_the_noise(campus, model):
     held_out = slice(np.searchsorted(campus.inputs.index, FIT_END), None)
     future = campus.inputs.window(start=FIT_END)
