@@ -265,7 +265,9 @@ def calendar_layout(model: CalendarRegressionModel, features: CalendarFeatures) 
 def day_groups(features: CalendarFeatures) -> np.ndarray:
     """A code per interval for its day's kind of day (weekday, weekend, holiday) and campus
     period kind: the groups whose own levels the starting balance points hold fixed."""
-    return pd.factorize(pd.Series(features.day_type) + "/" + pd.Series(features.period_kind))[0]
+    day_type = pd.factorize(features.day_type)[0]
+    kind, kinds = pd.factorize(features.period_kind)
+    return day_type * len(kinds) + kind
 
 
 def starting_bases(
