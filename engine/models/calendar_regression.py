@@ -20,8 +20,9 @@ Energy per interval is a sum of parts, each with a plain meaning (see
   ``(t − kᵢ)⁺`` at equally spaced times, whose slope changes are shrunk towards zero (ridge
   penalty), so the trend bends only where the data insist.
 
-Balance points, unless set, start from :func:`engine.degree_days.balance_point` on daily data
-and are then refined on the interval fit itself (a grid of ±4 °C in 0.25 °C steps, searched
+Balance points, unless set, start from :func:`engine.degree_days.balance_point` on daily data,
+each kind of day in each campus period kind with its own level (a low summer session must not
+read as energy falling with heat), and are then refined on the interval fit itself (a grid of ±4 °C in 0.25 °C steps, searched
 for heating and cooling in turn, twice): daily-mean degree-days place the change point a
 little off where hourly temperatures act.
 
