@@ -28,7 +28,7 @@ floor is measured on.
 
 One draw of the noise is a small sample of it: over 24 months a meter's ratio moves by ±0.3
 from draw to draw with the same models (on the sample's own draw Science Labs' model missed the
-noise-free load by 0.19 % a month on average and still scored 1.65, its misses falling against
+noise-free load by 0.20 % a month on average and still scored 1.63, its misses falling against
 the noise's). ``--draws N`` therefore draws the campus again N times (new weather and noise on
 the same buildings, calendar and faults; :func:`other_draw`), makes each a project as
 ``installer/run-sample.sh`` does, scores it the same way, and prints per meter the mean P50
