@@ -22,9 +22,9 @@ Energy per interval is a sum of parts, each with a plain meaning (see
 
 Balance points, unless set, start from :func:`engine.degree_days.balance_point` on daily data,
 each kind of day in each campus period kind with its own level (a low summer session must not
-read as energy falling with heat), and are then refined on the interval fit itself (a grid of ±4 °C in 0.25 °C steps, searched
-for heating and cooling in turn, twice): daily-mean degree-days place the change point a
-little off where hourly temperatures act.
+read as energy falling with heat), and are then refined on the interval fit itself (a grid of
+±4 °C in 0.25 °C steps, searched for heating and cooling in turn, twice): daily-mean
+degree-days place the change point a little off where hourly temperatures act.
 
 The fit is penalised least squares through the normal equations: the ridge weight on each
 hinge is ``σ² / (s·ȳ)²``, the Gaussian-prior reading of ridge regression, with ``σ²`` the
