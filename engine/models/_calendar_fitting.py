@@ -126,12 +126,15 @@ class FitHistory:
                 local_clock(inputs),
                 self.step,
                 inputs.timezone,
-                day_groups(features),
+                np.zeros(len(energy), dtype=np.int64),
                 energy,
                 temperature,
             )
+            # Each local day's calendar condition (kind of day and campus period kind), the
+            # groups whose own levels the starting balance points hold fixed.
+            _, condition = inputs.condition_days
             self.days = pd.DataFrame(
-                {"energy": view.energy, "temperature": view.temperature, "group": view.group},
+                {"energy": view.energy, "temperature": view.temperature, "group": condition},
                 index=view.days,
             )
         self.timezone = inputs.timezone
@@ -262,19 +265,12 @@ def calendar_layout(model: CalendarRegressionModel, features: CalendarFeatures) 
     )
 
 
-def day_groups(features: CalendarFeatures) -> np.ndarray:
-    """A code per interval for its day's kind of day (weekday, weekend, holiday) and campus
-    period kind: the groups whose own levels the starting balance points hold fixed."""
-    day_type = pd.factorize(features.day_type)[0]
-    kind, kinds = pd.factorize(features.period_kind)
-    return day_type * len(kinds) + kind
-
-
 def starting_bases(
     model: CalendarRegressionModel, days: pd.DataFrame
 ) -> tuple[float | None, float | None]:
     """Balance points as set, else from daily energy against daily mean temperature, each
-    group of days (:func:`day_groups`) with its own level.
+    calendar condition of the days (:attr:`ModelInputs.condition_days`: kind of day and campus
+    period kind) with its own level.
 
     "auto" tries heating and cooling together, then each alone, and goes without weather
     terms when daily energy rises with neither. Without the groups' levels, a summer session
